@@ -1,0 +1,3 @@
+from formdb.cli.main import main
+
+main()

@@ -1,0 +1,1 @@
+"""Click commands: parse, call a service, render. No SQL, no science."""

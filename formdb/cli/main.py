@@ -1,0 +1,107 @@
+"""The ``formdb`` command: global options, lazy sub-commands, and the one error handler.
+
+Sub-commands are imported only when invoked, so ``formdb check`` does not pay for pandas.
+"""
+
+from __future__ import annotations
+
+import getpass
+import importlib
+import os
+import sys
+import traceback
+from dataclasses import dataclass
+
+import click
+
+from formdb.errors import FormdbError
+
+# command name -> "module:attribute"; each module holds one click command or group
+COMMANDS: dict[str, str] = {
+    "init": "formdb.cli.admin:init_cmd",
+    "ingredient": "formdb.cli.library:ingredient_group",
+    "formula": "formdb.cli.formulas:formula_group",
+    "check": "formdb.cli.checking:check_cmd",
+    "blend": "formdb.cli.checking:blend_cmd",
+    "rules": "formdb.cli.checking:rules_cmd",
+    "demo": "formdb.cli.demo:demo_cmd",
+}
+
+
+@dataclass
+class AppContext:
+    """What every command gets: where the library is, who is acting, whether to show tracebacks."""
+
+    db: str
+    user: str
+    debug: bool
+
+
+def default_user() -> str:
+    try:
+        return getpass.getuser()
+    except Exception:  # no login name in some containers
+        return "unknown"
+
+
+class LazyGroup(click.Group):
+    def list_commands(self, ctx: click.Context) -> list[str]:
+        return sorted(COMMANDS)
+
+    def get_command(self, ctx: click.Context, cmd_name: str) -> click.Command | None:
+        target = COMMANDS.get(cmd_name)
+        if target is None:
+            return None
+        module_name, attr = target.split(":")
+        return getattr(importlib.import_module(module_name), attr)
+
+
+@click.group(cls=LazyGroup, context_settings={"help_option_names": ["-h", "--help"]})
+@click.option("--db", envvar="FORMDB_DB", default="formdb.sqlite", show_default=True,
+              help="Library location: a SQLite file path or a postgresql+psycopg:// URL "
+                   "(env FORMDB_DB).")
+@click.option("--user", envvar="FORMDB_USER", default=None,
+              help="Name recorded on every change (env FORMDB_USER; default: login name).")
+@click.option("--debug", is_flag=True, help="Show a traceback when something goes wrong.")
+@click.version_option(package_name="formdb")
+@click.pass_context
+def cli(ctx: click.Context, db: str, user: str | None, debug: bool) -> None:
+    """formdb: the team's ingredient library and a pre-batch checker for emulsion formulas."""
+    ctx.obj = AppContext(db=db, user=user or default_user(), debug=debug)
+
+
+def _wants_debug(argv: list[str]) -> bool:
+    return "--debug" in argv or os.environ.get("FORMDB_DEBUG") == "1"
+
+
+def main(argv: list[str] | None = None) -> None:
+    """Entry point: run the command; turn a FormdbError into one ``Error:`` line and exit 2."""
+    args = sys.argv[1:] if argv is None else argv
+    try:
+        code = cli.main(args=args, prog_name="formdb", standalone_mode=False)
+    except FormdbError as exc:
+        if _wants_debug(args):
+            traceback.print_exc()
+        line = f"Error: {exc.message}"
+        if exc.hint:
+            line += f" Next: {exc.hint}"
+        click.echo(line, err=True)
+        sys.exit(exc.exit_code)
+    except click.exceptions.Abort:
+        click.echo("Error: aborted.", err=True)
+        sys.exit(2)
+    except click.ClickException as exc:
+        exc.show()
+        sys.exit(2 if exc.exit_code == 2 else exc.exit_code)
+    except click.exceptions.Exit as exc:
+        sys.exit(exc.exit_code)
+    except KeyboardInterrupt:
+        click.echo("Error: interrupted.", err=True)
+        sys.exit(2)
+    except Exception as exc:  # a bug: still one line unless --debug
+        if _wants_debug(args):
+            traceback.print_exc()
+        click.echo(f"Error: internal problem ({type(exc).__name__}: {exc}). "
+                   "Next: rerun with --debug and report the traceback.", err=True)
+        sys.exit(2)
+    sys.exit(code if isinstance(code, int) else 0)

@@ -1,0 +1,45 @@
+"""Problems, as opposed to findings.
+
+A finding is a result of checking a formula. A ``FormdbError`` means the work could not be done:
+the CLI turns each one into a single ``Error: ...`` line plus a next step, and exit code 2.
+"""
+
+from __future__ import annotations
+
+
+class FormdbError(Exception):
+    """Base of every problem formdb reports to a user; ``hint`` is the next step to suggest."""
+
+    exit_code = 2
+
+    def __init__(self, message: str, hint: str | None = None) -> None:
+        super().__init__(message)
+        self.message = message
+        self.hint = hint
+
+    def __str__(self) -> str:
+        return self.message
+
+
+class InvalidData(FormdbError):
+    """Input that breaks a data rule: a bad value, a missing field, a malformed file."""
+
+
+class NotFound(FormdbError):
+    """A named thing (ingredient, formula, run, profile) is not in the library."""
+
+
+class Conflict(FormdbError):
+    """Someone else changed the record since the caller read it, or a name is already taken."""
+
+
+class ConfigError(FormdbError):
+    """The database, a profile or an option cannot be used as given."""
+
+
+class SchemaOutdated(ConfigError):
+    """The database exists but is not at the newest migration."""
+
+
+class Forbidden(FormdbError):
+    """The user's role does not allow the action."""

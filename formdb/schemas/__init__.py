@@ -1,0 +1,1 @@
+"""Pydantic models for everything that crosses a boundary: files, CLI input, JSON output."""

@@ -1,0 +1,231 @@
+"""The ingredient as it crosses a boundary: validated input, and the frozen record rules read.
+
+``IngredientProperties`` is the one catalogue of properties: each field's bounds, unit and meaning.
+Adding a property to the library means adding one field here (and seeding it); storage keeps every
+property as a row of ``property_values``, so no migration is needed for a new one.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Mapping
+from typing import Any
+
+from pydantic import BaseModel, ConfigDict, Field, field_validator, model_validator
+
+from formdb.schemas.vocab import (
+    Evidence,
+    IonicCharacter,
+    Role,
+    Solubility,
+    parse_choice,
+    parse_class,
+)
+
+_CAS_RE = re.compile(r"^(\d{2,7})-(\d{2})-(\d)$")
+
+
+def cas_is_valid(cas: str) -> bool:
+    """True when ``cas`` has the CAS Registry shape and its check digit is right.
+
+    The check digit is the sum of the other digits, each weighted by its position counted from the
+    right (1, 2, 3, ...), modulo 10 (CAS Registry, "Check digit verification of CAS Registry
+    Numbers"). Example: water 7732-18-5: 8*1+1*2+2*3+3*4+7*5+7*6 = 105, 105 mod 10 = 5.
+    """
+    match = _CAS_RE.match(cas.strip())
+    if not match:
+        return False
+    digits = (match.group(1) + match.group(2))[::-1]
+    total = sum((i + 1) * int(d) for i, d in enumerate(digits))
+    return total % 10 == int(match.group(3))
+
+
+def normalise_inci(name: str) -> str:
+    """The display form of an INCI name: trimmed, inner whitespace collapsed."""
+    return " ".join(str(name).split())
+
+
+def name_key(name: str) -> str:
+    """The comparison key of a name or synonym: case and spacing ignored."""
+    return normalise_inci(name).casefold()
+
+
+def _unit(unit: str) -> dict[str, Any]:
+    return {"unit": unit}
+
+
+class IngredientProperties(BaseModel):
+    """Every property the library knows, with bounds. ``None`` means the library has no value."""
+
+    model_config = ConfigDict(extra="forbid", frozen=True)
+
+    hlb: float | None = Field(
+        None, ge=0, le=50, json_schema_extra=_unit(""),
+        description="hydrophilic-lipophilic balance (Griffin 0-20; ionic values by Davies up to ~40)")
+    required_hlb_ow: float | None = Field(
+        None, ge=0, le=20, json_schema_extra=_unit(""),
+        description="HLB an emulsifier system needs to emulsify this oil as oil-in-water")
+    required_hlb_wo: float | None = Field(
+        None, ge=0, le=20, json_schema_extra=_unit(""),
+        description="HLB an emulsifier system needs to emulsify this oil as water-in-oil")
+    solubility: Solubility | None = Field(
+        None, description="where it dissolves: water, oil, dispersible (in water), insoluble")
+    ionic_character: IonicCharacter | None = Field(
+        None, description="anionic, cationic, nonionic, amphoteric, or none")
+    density: float | None = Field(
+        None, ge=0.5, le=3.0, json_schema_extra=_unit("g/mL"), description="density at about 25 °C")
+    ph_min: float | None = Field(
+        None, ge=0, le=14, json_schema_extra=_unit("pH"),
+        description="lowest formula pH at which it works as intended")
+    ph_max: float | None = Field(
+        None, ge=0, le=14, json_schema_extra=_unit("pH"),
+        description="highest formula pH at which it works as intended")
+    electrolyte_sensitive: bool | None = Field(
+        None, description="loses its function (viscosity, stability) when salts are present")
+    use_min_percent: float | None = Field(
+        None, ge=0, le=100, json_schema_extra=_unit("% w/w"), description="low end of typical use")
+    use_max_percent: float | None = Field(
+        None, ge=0, le=100, json_schema_extra=_unit("% w/w"), description="high end of typical use")
+    molar_mass: float | None = Field(
+        None, gt=0, le=100000, json_schema_extra=_unit("g/mol"),
+        description="molar mass (soap stoichiometry, 'as acid' conversions)")
+    base_equivalents: float | None = Field(
+        None, gt=0, le=4, json_schema_extra=_unit("mol OH-/mol"),
+        description="moles of acid one mole of this base neutralises (NaOH 1, MgO 2)")
+    cation_valence: int | None = Field(
+        None, ge=1, le=3, json_schema_extra=_unit(""),
+        description="valence of the cation this base gives a soap (Na+ 1, Mg2+ 2)")
+    neutralisation_water: float | None = Field(
+        None, ge=0, le=1, json_schema_extra=_unit("mol H2O/equivalent"),
+        description="water released per equivalent neutralised (NaOH 1, MgO 0.5, amines 0)")
+    viscosity_mpas: float | None = Field(
+        None, gt=0, le=1e7, json_schema_extra=_unit("mPa·s"), description="viscosity at about 25 °C")
+
+    @model_validator(mode="after")
+    def _ranges_are_ordered(self) -> IngredientProperties:
+        for low, high in (("ph_min", "ph_max"), ("use_min_percent", "use_max_percent")):
+            lo, hi = getattr(self, low), getattr(self, high)
+            if lo is not None and hi is not None and lo > hi:
+                raise ValueError(f"{low} ({lo}) is greater than {high} ({hi})")
+        return self
+
+    @classmethod
+    def names(cls) -> tuple[str, ...]:
+        return tuple(cls.model_fields)
+
+    @classmethod
+    def unit_of(cls, name: str) -> str:
+        extra = cls.model_fields[name].json_schema_extra
+        return str(extra.get("unit", "")) if isinstance(extra, dict) else ""
+
+
+PROPERTY_NAMES: tuple[str, ...] = IngredientProperties.names()
+
+
+class Provenance(BaseModel):
+    """Where one value came from."""
+
+    model_config = ConfigDict(frozen=True)
+
+    source: str
+    evidence: Evidence
+    citation: str | None = None
+    note: str | None = None
+
+
+class IngredientIn(BaseModel):
+    """An ingredient as a user or a file gives it; every rejection names the field and value."""
+
+    model_config = ConfigDict(extra="forbid")
+
+    inci_name: str
+    synonyms: tuple[str, ...] = ()
+    cas_numbers: tuple[str, ...] = ()
+    roles: tuple[Role, ...] = ()
+    classes: tuple[str, ...] = ()
+    properties: IngredientProperties = IngredientProperties()
+    # property name -> source key (must exist in the sources table)
+    sources: dict[str, str] = {}
+    notes: dict[str, str] = {}
+
+    @field_validator("inci_name")
+    @classmethod
+    def _clean_name(cls, value: str) -> str:
+        cleaned = normalise_inci(value)
+        if not cleaned:
+            raise ValueError("inci_name is empty")
+        if len(cleaned) > 200:
+            raise ValueError(f"inci_name {cleaned[:40]!r}... is longer than 200 characters")
+        return cleaned
+
+    @field_validator("synonyms")
+    @classmethod
+    def _clean_synonyms(cls, value: tuple[str, ...]) -> tuple[str, ...]:
+        cleaned = tuple(dict.fromkeys(normalise_inci(s) for s in value if normalise_inci(s)))
+        return cleaned
+
+    @field_validator("cas_numbers")
+    @classmethod
+    def _check_cas(cls, value: tuple[str, ...]) -> tuple[str, ...]:
+        out = []
+        for cas in value:
+            cas = cas.strip()
+            if not cas:
+                continue
+            if not cas_is_valid(cas):
+                raise ValueError(f"cas: {cas!r} is not a valid CAS number (wrong shape or check digit)")
+            out.append(cas)
+        return tuple(dict.fromkeys(out))
+
+    @field_validator("roles", mode="before")
+    @classmethod
+    def _parse_roles(cls, value: Any) -> tuple[Role, ...]:
+        items = value.split(";") if isinstance(value, str) else list(value or ())
+        roles = [r if isinstance(r, Role) else parse_choice(Role, str(r), "roles")
+                 for r in items if str(r).strip()]
+        return tuple(dict.fromkeys(roles))  # type: ignore[arg-type]
+
+    @field_validator("classes", mode="before")
+    @classmethod
+    def _parse_classes(cls, value: Any) -> tuple[str, ...]:
+        items = value.split(";") if isinstance(value, str) else list(value or ())
+        return tuple(dict.fromkeys(parse_class(str(c)) for c in items if str(c).strip()))
+
+    @model_validator(mode="after")
+    def _names_distinct_and_sources_known(self) -> IngredientIn:
+        own = name_key(self.inci_name)
+        for syn in self.synonyms:
+            if name_key(syn) == own:
+                raise ValueError(f"synonyms: {syn!r} repeats the INCI name")
+        for prop in self.sources:
+            if prop not in PROPERTY_NAMES:
+                raise ValueError(f"sources: {prop!r} is not a property")
+        for prop in PROPERTY_NAMES:
+            if getattr(self.properties, prop) is not None and prop not in self.sources:
+                raise ValueError(f"{prop}: a value needs a source (give {prop}_source or source)")
+        return self
+
+
+class IngredientRecord(BaseModel):
+    """An ingredient as the library holds it, frozen: what rules and reports read."""
+
+    model_config = ConfigDict(frozen=True)
+
+    id: int
+    inci_name: str
+    version: int = 1
+    retired: bool = False
+    synonyms: tuple[str, ...] = ()
+    cas_numbers: tuple[str, ...] = ()
+    roles: frozenset[Role] = frozenset()
+    classes: frozenset[str] = frozenset()
+    properties: IngredientProperties = IngredientProperties()
+    provenance: Mapping[str, Provenance] = {}
+
+    @property
+    def p(self) -> IngredientProperties:
+        """Short alias used by rules: ``ing.p.hlb``."""
+        return self.properties
+
+    def has_role(self, *roles: Role) -> bool:
+        return any(r in self.roles for r in roles)

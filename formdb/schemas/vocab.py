@@ -1,0 +1,130 @@
+"""The controlled vocabularies of the library: roles, solubility, ionic character, evidence, classes.
+
+Values are lower case; ``parse_choice`` accepts any case and ``_``/``-`` for spaces, so a supplier
+table that writes ``Fatty_Alcohol`` still lands as ``fatty alcohol``.
+"""
+
+from __future__ import annotations
+
+from enum import StrEnum
+
+
+class Role(StrEnum):
+    EMULSIFIER = "emulsifier"
+    CO_EMULSIFIER = "co-emulsifier"
+    OIL = "oil"
+    WAX = "wax"
+    BUTTER = "butter"
+    FATTY_ALCOHOL = "fatty alcohol"
+    FATTY_ACID = "fatty acid"
+    EMOLLIENT = "emollient"
+    SILICONE = "silicone"
+    HUMECTANT = "humectant"
+    THICKENER = "thickener"
+    ELECTROLYTE = "electrolyte"
+    PRESERVATIVE = "preservative"
+    PH_ADJUSTER = "ph adjuster"
+    NEUTRALISER = "neutraliser"
+    ACTIVE = "active"
+    ANTIOXIDANT = "antioxidant"
+    FRAGRANCE = "fragrance"
+    ALLERGEN = "allergen"
+    UV_FILTER = "uv filter"
+    SOLVENT = "solvent"
+    WATER = "water"
+    CHELATOR = "chelator"
+    COLOURANT = "colourant"
+    PIGMENT = "pigment"
+
+
+class Solubility(StrEnum):
+    WATER = "water"
+    OIL = "oil"
+    DISPERSIBLE = "dispersible"
+    INSOLUBLE = "insoluble"
+
+
+class IonicCharacter(StrEnum):
+    ANIONIC = "anionic"
+    CATIONIC = "cationic"
+    NONIONIC = "nonionic"
+    AMPHOTERIC = "amphoteric"
+    NONE = "none"
+
+
+class Evidence(StrEnum):
+    """How much a value can be trusted; every stored value carries one."""
+
+    PUBLISHED = "published"
+    SUPPLIER = "supplier"
+    MEASURED = "measured"
+    ESTIMATED = "estimated"
+    RULE_OF_THUMB = "rule of thumb"
+    FROM_MEMORY = "from memory"
+
+
+class Category(StrEnum):
+    LEAVE_ON = "leave-on"
+    RINSE_OFF = "rinse-off"
+
+
+class EmulsionType(StrEnum):
+    OW = "O/W"
+    WO = "W/O"
+
+
+class Severity(StrEnum):
+    ERROR = "error"
+    WARNING = "warning"
+    INFO = "info"
+
+    @property
+    def rank(self) -> int:
+        return {"error": 3, "warning": 2, "info": 1}[self.value]
+
+
+# Compatibility classes: what the incompatibility table (seed_data/incompatibilities.csv) pairs up.
+# An ingredient belongs to any number of them; soap formed in the batch joins "carboxylate soap".
+COMPAT_CLASSES: dict[str, str] = {
+    "sulfate anionic": "anionic surfactant with a sulfate or sulfonate head group",
+    "carboxylate soap": "fatty-acid soap (carboxylate anionic), bought or formed in the batch",
+    "quaternary cationic": "quaternary ammonium surfactant or preservative",
+    "amphoteric surfactant": "betaine or other zwitterionic surfactant",
+    "anionic polymer": "polyanionic thickener such as carbomer",
+    "electrolyte-sensitive thickener": "thickener whose viscosity collapses with dissolved salts",
+    "monovalent salt": "salt of a monovalent cation that raises ionic strength",
+    "divalent salt": "salt of a divalent or polyvalent metal cation",
+    "paraben": "ester of 4-hydroxybenzoic acid",
+    "high-HLB ethoxylate": "ethoxylated nonionic that can bind phenolic preservatives in micelles",
+    "alkanolamine": "ethanolamine that can form nitrosamines",
+    "nitrosating agent": "substance that can nitrosate amines",
+    "benzoate": "benzoic acid or a benzoate salt",
+    "ascorbic acid": "ascorbic acid or an ascorbate",
+    "protein colloid": "protein that a strong ionic surfactant denatures or precipitates",
+    "metal oxide": "metal oxide pigment or filter that dissolves in acid",
+    "strong acid": "acid strong enough to break a neutralised polymer gel",
+}
+
+
+def norm_token(text: str) -> str:
+    """Lower case, ``_``/spaces collapsed: the comparable form of a vocabulary word."""
+    return " ".join(text.replace("_", " ").split()).casefold()
+
+
+def parse_choice(enum_cls: type[StrEnum], text: str, field: str) -> StrEnum:
+    """Turn user text into an enum member or raise ValueError naming the field and the choices."""
+    token = norm_token(text)
+    for member in enum_cls:
+        if norm_token(member.value) == token or norm_token(member.name) == token:
+            return member
+    choices = ", ".join(m.value for m in enum_cls)
+    raise ValueError(f"{field}: {text!r} is not one of: {choices}")
+
+
+def parse_class(text: str) -> str:
+    token = norm_token(text)
+    for name in COMPAT_CLASSES:
+        if norm_token(name) == token:
+            return name
+    raise ValueError(f"classes: {text!r} is not a known compatibility class "
+                     f"({', '.join(COMPAT_CLASSES)})")

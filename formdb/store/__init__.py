@@ -1,0 +1,1 @@
+"""Storage: SQLAlchemy models, engine and session factory, queries. Knows nothing of rules."""

@@ -1,0 +1,213 @@
+"""The library's tables as typed SQLAlchemy 2 models.
+
+Alembic owns the schema (``migrations/``); ``tests/store/test_migrations.py`` fails when these
+models and the migrations drift apart. Every name an ingredient answers to (its INCI name and its
+synonyms) is one row of ``ingredient_names``, so one unique index keeps names unique across both.
+"""
+
+from __future__ import annotations
+
+from datetime import date, datetime
+
+from sqlalchemy import (
+    Boolean,
+    Date,
+    DateTime,
+    Float,
+    ForeignKey,
+    Integer,
+    MetaData,
+    String,
+    Text,
+    UniqueConstraint,
+)
+from sqlalchemy.orm import DeclarativeBase, Mapped, mapped_column, relationship
+
+NAMING_CONVENTION = {
+    "ix": "ix_%(column_0_label)s",
+    "uq": "uq_%(table_name)s_%(column_0_name)s",
+    "ck": "ck_%(table_name)s_%(constraint_name)s",
+    "fk": "fk_%(table_name)s_%(column_0_name)s_%(referred_table_name)s",
+    "pk": "pk_%(table_name)s",
+}
+
+
+class Base(DeclarativeBase):
+    metadata = MetaData(naming_convention=NAMING_CONVENTION)
+
+
+class Source(Base):
+    """A citation that values point to; ``evidence`` is the default kind for values citing it."""
+
+    __tablename__ = "sources"
+
+    key: Mapped[str] = mapped_column(String(80), primary_key=True)
+    citation: Mapped[str] = mapped_column(Text)
+    evidence: Mapped[str] = mapped_column(String(20))
+    url: Mapped[str | None] = mapped_column(Text)
+    seen: Mapped[str | None] = mapped_column(String(20))  # found / found-secondary / memory / calc
+    note: Mapped[str | None] = mapped_column(Text)
+
+
+class Ingredient(Base):
+    __tablename__ = "ingredients"
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    inci_name: Mapped[str] = mapped_column(String(200))
+    retired: Mapped[bool] = mapped_column(Boolean, default=False)
+    version: Mapped[int] = mapped_column(Integer, default=1)
+    created_at: Mapped[datetime] = mapped_column(DateTime(timezone=True))
+    updated_at: Mapped[datetime] = mapped_column(DateTime(timezone=True))
+    updated_by: Mapped[str] = mapped_column(String(100))
+
+    names: Mapped[list[IngredientName]] = relationship(
+        back_populates="ingredient", cascade="all, delete-orphan", order_by="IngredientName.id")
+    cas_numbers: Mapped[list[IngredientCas]] = relationship(
+        cascade="all, delete-orphan", order_by="IngredientCas.cas")
+    roles: Mapped[list[IngredientRole]] = relationship(
+        cascade="all, delete-orphan", order_by="IngredientRole.role")
+    classes: Mapped[list[IngredientClass]] = relationship(
+        cascade="all, delete-orphan", order_by="IngredientClass.class_name")
+    values: Mapped[list[PropertyValue]] = relationship(
+        cascade="all, delete-orphan", order_by="PropertyValue.property")
+
+    __mapper_args__ = {"version_id_col": version}
+
+
+class IngredientName(Base):
+    """The INCI name (``is_primary``) and every synonym; ``name_key`` is unique across all."""
+
+    __tablename__ = "ingredient_names"
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    ingredient_id: Mapped[int] = mapped_column(ForeignKey("ingredients.id", ondelete="CASCADE"),
+                                               index=True)
+    name: Mapped[str] = mapped_column(String(200))
+    name_key: Mapped[str] = mapped_column(String(200), unique=True)
+    is_primary: Mapped[bool] = mapped_column(Boolean, default=False)
+
+    ingredient: Mapped[Ingredient] = relationship(back_populates="names")
+
+
+class IngredientCas(Base):
+    __tablename__ = "ingredient_cas"
+
+    ingredient_id: Mapped[int] = mapped_column(
+        ForeignKey("ingredients.id", ondelete="CASCADE"), primary_key=True)
+    cas: Mapped[str] = mapped_column(String(20), primary_key=True)
+
+
+class IngredientRole(Base):
+    __tablename__ = "ingredient_roles"
+
+    ingredient_id: Mapped[int] = mapped_column(
+        ForeignKey("ingredients.id", ondelete="CASCADE"), primary_key=True)
+    role: Mapped[str] = mapped_column(String(40), primary_key=True)
+
+
+class IngredientClass(Base):
+    """Membership of a compatibility class (formdb.schemas.vocab.COMPAT_CLASSES)."""
+
+    __tablename__ = "ingredient_classes"
+
+    ingredient_id: Mapped[int] = mapped_column(
+        ForeignKey("ingredients.id", ondelete="CASCADE"), primary_key=True)
+    class_name: Mapped[str] = mapped_column(String(60), primary_key=True)
+
+
+class PropertyValue(Base):
+    """One property of one ingredient with its provenance. Numbers in ``value_num``, words in
+    ``value_text`` (the property catalogue in formdb.schemas.ingredient says which)."""
+
+    __tablename__ = "property_values"
+
+    ingredient_id: Mapped[int] = mapped_column(
+        ForeignKey("ingredients.id", ondelete="CASCADE"), primary_key=True)
+    property: Mapped[str] = mapped_column(String(40), primary_key=True)
+    value_num: Mapped[float | None] = mapped_column(Float)
+    value_text: Mapped[str | None] = mapped_column(String(200))
+    source_key: Mapped[str] = mapped_column(ForeignKey("sources.key"))
+    evidence: Mapped[str] = mapped_column(String(20))
+    note: Mapped[str | None] = mapped_column(Text)
+
+
+class ChangeLogEntry(Base):
+    """Every add, edit, retire and import: who, when (UTC), field, old and new value, why."""
+
+    __tablename__ = "change_log"
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    at: Mapped[datetime] = mapped_column(DateTime(timezone=True), index=True)
+    user: Mapped[str] = mapped_column(String(100))
+    entity: Mapped[str] = mapped_column(String(20))  # ingredient | formula | limit | ...
+    entity_key: Mapped[str] = mapped_column(String(200), index=True)
+    entity_version: Mapped[int | None] = mapped_column(Integer)
+    action: Mapped[str] = mapped_column(String(20))  # add | edit | retire | restore | import | seed
+    field: Mapped[str | None] = mapped_column(String(60))
+    old_value: Mapped[str | None] = mapped_column(Text)
+    new_value: Mapped[str | None] = mapped_column(Text)
+    reason: Mapped[str | None] = mapped_column(Text)
+
+
+class LimitEntry(Base):
+    """A concentration limit from a regulatory list (see formdb.schemas.reference.LimitRecord)."""
+
+    __tablename__ = "limits"
+
+    key: Mapped[str] = mapped_column(String(80), primary_key=True)
+    jurisdiction: Mapped[str] = mapped_column(String(20))
+    list_name: Mapped[str] = mapped_column(String(200))
+    entry: Mapped[str] = mapped_column(String(40))
+    ingredients: Mapped[str] = mapped_column(Text)  # INCI names joined by "; "
+    category: Mapped[str] = mapped_column(String(20))
+    product: Mapped[str | None] = mapped_column(String(100))
+    max_percent: Mapped[float] = mapped_column(Float)
+    aggregate: Mapped[str] = mapped_column(String(10))
+    basis: Mapped[str] = mapped_column(String(10))
+    acid_inci: Mapped[str | None] = mapped_column(String(200))
+    excludes: Mapped[str | None] = mapped_column(Text)
+    conditions: Mapped[str | None] = mapped_column(Text)
+    source_key: Mapped[str] = mapped_column(ForeignKey("sources.key"))
+    list_date: Mapped[date] = mapped_column(Date)
+
+
+class IncompatibilityEntry(Base):
+    __tablename__ = "incompatibilities"
+
+    key: Mapped[str] = mapped_column(String(80), primary_key=True)
+    class_a: Mapped[str] = mapped_column(String(60))
+    class_b: Mapped[str] = mapped_column(String(60))
+    severity: Mapped[str] = mapped_column(String(10))
+    reason: Mapped[str] = mapped_column(Text)
+    advice: Mapped[str] = mapped_column(Text)
+    source_key: Mapped[str] = mapped_column(ForeignKey("sources.key"))
+
+
+class SoapPairEntry(Base):
+    """Fatty acid + base -> the soap they form in the batch (a library ingredient)."""
+
+    __tablename__ = "soap_pairs"
+
+    acid_inci: Mapped[str] = mapped_column(String(200), primary_key=True)
+    base_inci: Mapped[str] = mapped_column(String(200), primary_key=True)
+    soap_inci: Mapped[str] = mapped_column(String(200))
+    source_key: Mapped[str] = mapped_column(ForeignKey("sources.key"))
+
+
+class StoredFormula(Base):
+    """A formula kept in the library: its TOML text as given, and a hash of it."""
+
+    __tablename__ = "formulas"
+    __table_args__ = (UniqueConstraint("name_key"),)
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    name: Mapped[str] = mapped_column(String(300))
+    name_key: Mapped[str] = mapped_column(String(300))
+    content: Mapped[str] = mapped_column(Text)
+    content_hash: Mapped[str] = mapped_column(String(64))
+    version: Mapped[int] = mapped_column(Integer, default=1)
+    created_at: Mapped[datetime] = mapped_column(DateTime(timezone=True))
+    updated_at: Mapped[datetime] = mapped_column(DateTime(timezone=True))
+    updated_by: Mapped[str] = mapped_column(String(100))
+
+    __mapper_args__ = {"version_id_col": version}
