@@ -19,11 +19,11 @@ from formdb.errors import FormdbError
 # command name -> "module:attribute"; each module holds one click command or group
 COMMANDS: dict[str, str] = {
     "init": "formdb.cli.admin:init_cmd",
-    "ingredient": "formdb.cli.library:ingredient_group",
+    "ingredient": "formdb.cli.ingredients:ingredient_group",
     "formula": "formdb.cli.formulas:formula_group",
     "check": "formdb.cli.checking:check_cmd",
     "blend": "formdb.cli.checking:blend_cmd",
-    "rules": "formdb.cli.checking:rules_cmd",
+    "rules": "formdb.cli.rules:rules_cmd",
     "demo": "formdb.cli.demo:demo_cmd",
 }
 
