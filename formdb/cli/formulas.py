@@ -1,0 +1,78 @@
+"""``formdb formula import/list/show/export``: formulas kept in the library as TOML."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import click
+
+from formdb.cli.main import AppContext
+from formdb.errors import InvalidData
+
+
+@click.group("formula")
+def formula_group() -> None:
+    """Stored formulas: TOML files in, TOML out."""
+
+
+@formula_group.command("import")
+@click.argument("files", nargs=-1, required=True, type=click.Path(path_type=Path))
+@click.option("--reason", help="Why these formulas are stored or changed (kept in the change log).")
+@click.pass_obj
+def import_cmd(app: AppContext, files: tuple[Path, ...], reason: str | None) -> None:
+    """Store formula FILES (all or none); every ingredient must be in the library."""
+    from formdb.services.formulas import import_formulas
+
+    report = import_formulas(app.db, list(files), user=app.user, reason=reason)
+    for label, names in (("added", report.added), ("changed", report.changed),
+                         ("unchanged", report.unchanged)):
+        for name in names:
+            click.echo(f"{label}: {name}")
+    click.echo(f"{len(report.added)} added, {len(report.changed)} changed, "
+               f"{len(report.unchanged)} unchanged")
+
+
+@formula_group.command("list")
+@click.pass_obj
+def list_cmd(app: AppContext) -> None:
+    """List stored formulas with version, lines and last change."""
+    from rich.console import Console
+    from rich.table import Table
+
+    from formdb.services.formulas import list_formulas
+
+    rows = list_formulas(app.db)
+    table = Table("name", "version", "lines", "updated (UTC)", "by", "sha-256")
+    for info in rows:
+        table.add_row(info.name, str(info.version), str(info.lines),
+                      info.updated_at.strftime("%Y-%m-%d %H:%M"), info.updated_by,
+                      info.content_hash[:12])
+    Console().print(table)
+    if not rows:
+        click.echo("No stored formulas yet: `formdb formula import FILE`.")
+
+
+@formula_group.command("show")
+@click.argument("name")
+@click.pass_obj
+def show_cmd(app: AppContext, name: str) -> None:
+    """Print a stored formula's TOML exactly as imported."""
+    from formdb.services.formulas import formula_text
+
+    click.echo(formula_text(app.db, name), nl=False)
+
+
+@formula_group.command("export")
+@click.argument("name")
+@click.argument("file", type=click.Path(path_type=Path))
+@click.pass_obj
+def export_cmd(app: AppContext, name: str, file: Path) -> None:
+    """Write a stored formula to FILE (TOML, byte for byte as imported)."""
+    from formdb.services.formulas import formula_text
+
+    text = formula_text(app.db, name)
+    try:
+        file.write_text(text, encoding="utf-8")
+    except OSError as exc:
+        raise InvalidData(f"{file}: cannot be written ({exc.strerror or exc})") from None
+    click.echo(f"wrote {file}")

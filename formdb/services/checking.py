@@ -1,0 +1,143 @@
+"""Check formulas against the library: read, resolve every name, run the profile's rules.
+
+The flow (DESIGN.md section 2): file -> FormulaFile -> names resolved in the store -> a frozen
+ResolvedFormula -> rules -> CheckResult. The database is read once per batch of formulas; rules
+never touch it.
+"""
+
+from __future__ import annotations
+
+import csv
+from collections.abc import Iterable, Iterator
+from dataclasses import dataclass
+from functools import lru_cache
+from pathlib import Path
+
+from sqlalchemy.orm import Session
+
+from formdb.errors import InvalidData
+from formdb.resources import seed_data_dir
+from formdb.rules.engine import check_resolved
+from formdb.rules.profiles import Profile, load_profile
+from formdb.schemas.formula import FormulaFile, ResolvedFormula, ResolvedLine
+from formdb.schemas.ingredient import IngredientRecord, name_key
+from formdb.schemas.reference import ReferenceData
+from formdb.schemas.result import CheckResult
+from formdb.services.formula_files import content_hash, parse_formula_text, read_formula_file
+from formdb.store import queries
+from formdb.store.db import open_library, unit_of_work
+from formdb.store.formulas import iter_stored_formulas
+
+
+@dataclass(frozen=True)
+class FormulaInput:
+    """A formula to check: its validated content, the exact text, and where it came from."""
+
+    formula: FormulaFile
+    text: str
+    label: str
+
+
+@lru_cache(maxsize=1)
+def known_product_types() -> tuple[str, ...]:
+    """Product types of the bundled exposure table (SCCS Notes of Guidance, Table 3A/3B)."""
+    with open(seed_data_dir() / "exposure.csv", newline="", encoding="utf-8") as handle:
+        return tuple(row["product"] for row in csv.DictReader(handle))
+
+
+def _check_product(formula: FormulaFile, label: str) -> None:
+    if formula.product is None:
+        return
+    known = known_product_types()
+    if formula.product.strip().casefold() not in {p.casefold() for p in known}:
+        raise InvalidData(
+            f"{label}, key product: {formula.product!r} is not a known product type "
+            f"(known: {', '.join(known)})",
+            hint="use one of the product types listed, or leave product out")
+
+
+def read_inputs(paths: Iterable[Path]) -> list[FormulaInput]:
+    """Read and validate every file before anything is checked (all-or-nothing input)."""
+    inputs = []
+    for path in paths:
+        formula, text = read_formula_file(path)
+        _check_product(formula, str(path))
+        inputs.append(FormulaInput(formula, text, str(path)))
+    return inputs
+
+
+def input_from_text(text: str, label: str) -> FormulaInput:
+    formula = parse_formula_text(text, label)
+    _check_product(formula, label)
+    return FormulaInput(formula, text, label)
+
+
+def resolve(item: FormulaInput, found: dict[str, IngredientRecord],
+            session: Session) -> ResolvedFormula:
+    """Attach library ingredients to every line; unknown names are one input error each."""
+    problems = []
+    lines = []
+    for number, line in enumerate(item.formula.ingredients, start=1):
+        record = found.get(name_key(line.inci))
+        if record is None:
+            suggestions = queries.suggest_names(session, line.inci)
+            hint = f"; did you mean {', '.join(suggestions)}?" if suggestions else ""
+            problems.append(f"{item.label}, ingredients row {number}, key inci: "
+                            f"unknown ingredient {line.inci!r}{hint}")
+            continue
+        lines.append(ResolvedLine(line_no=number, given_name=line.inci, percent=line.percent,
+                                  phase=line.phase, ingredient=record))
+    if problems:
+        error = InvalidData(problems[0], hint="add the ingredient to the library "
+                            "(`formdb ingredient add`) or correct the name")
+        error.problems = problems  # type: ignore[attr-defined]
+        raise error
+    return ResolvedFormula(source=item.label, formula=item.formula, lines=tuple(lines),
+                           content_hash=content_hash(item.text))
+
+
+def resolve_all(session: Session, items: list[FormulaInput]) -> list[ResolvedFormula]:
+    names = {line.inci for item in items for line in item.formula.ingredients}
+    found = queries.find_ingredients(session, names)
+    return [resolve(item, found, session) for item in items]
+
+
+def check_inputs(db_url: str, items: list[FormulaInput],
+                 profile: Profile | str | None = None) -> list[CheckResult]:
+    """Check already-read formulas against the library at ``db_url``."""
+    chosen = profile if isinstance(profile, Profile) else load_profile(profile or "default")
+    engine = open_library(db_url)
+    try:
+        with unit_of_work(engine) as session:
+            reference = queries.load_reference_data(session)
+            resolved = resolve_all(session, items)
+    finally:
+        engine.dispose()
+    return [check_resolved(formula, reference, chosen) for formula in resolved]
+
+
+def check_files(db_url: str, paths: Iterable[Path],
+                profile: Profile | str | None = None) -> list[CheckResult]:
+    """The Python face of ``formdb check FILE...``: the same records ``--format json`` prints."""
+    return check_inputs(db_url, read_inputs(paths), profile)
+
+
+def iter_check_stored(db_url: str, profile: Profile | str | None = None,
+                      batch_size: int = 200) -> Iterator[CheckResult]:
+    """Check every stored formula, a batch at a time (names resolved in bulk per batch)."""
+    chosen = profile if isinstance(profile, Profile) else load_profile(profile or "default")
+    engine = open_library(db_url)
+    try:
+        with unit_of_work(engine) as session:
+            reference: ReferenceData = queries.load_reference_data(session)
+            batch: list[FormulaInput] = []
+            for stored in iter_stored_formulas(session):
+                batch.append(input_from_text(stored.content, f"stored:{stored.name}"))
+                if len(batch) >= batch_size:
+                    for formula in resolve_all(session, batch):
+                        yield check_resolved(formula, reference, chosen)
+                    batch = []
+            for formula in resolve_all(session, batch):
+                yield check_resolved(formula, reference, chosen)
+    finally:
+        engine.dispose()

@@ -1,0 +1,93 @@
+"""Reading a formula file (TOML) into a validated ``FormulaFile``, with one clear line per problem.
+
+Every rejection names the file and the key (``ingredients[3].percent``) or the TOML line, so a
+formulator can go straight to the mistake.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import tomllib
+from pathlib import Path
+
+from pydantic import ValidationError
+
+from formdb.errors import InvalidData
+from formdb.schemas.formula import FormulaFile
+
+MAX_FORMULA_BYTES = 5_000_000
+
+
+def content_hash(text: str) -> str:
+    """SHA-256 of the formula text as stored: what a sign-off is pinned to."""
+    return hashlib.sha256(text.encode("utf-8")).hexdigest()
+
+
+def _where(loc: tuple[int | str, ...]) -> str:
+    """Turn a pydantic location such as ('ingredients', 2, 'percent') into 'ingredients row 3, key percent'."""
+    parts: list[str] = []
+    i = 0
+    while i < len(loc):
+        item = loc[i]
+        if item == "ingredients" and i + 1 < len(loc) and isinstance(loc[i + 1], int):
+            parts.append(f"ingredients row {int(loc[i + 1]) + 1}")
+            i += 2
+            continue
+        parts.append(f"key {item}")
+        i += 1
+    return ", ".join(parts) if parts else "top level"
+
+
+def validation_problems(label: str, exc: ValidationError) -> list[str]:
+    problems = []
+    for err in exc.errors():
+        loc = tuple(err.get("loc", ()))
+        msg = err.get("msg", "invalid value")
+        if err.get("type") == "extra_forbidden":
+            msg = "unknown key (not part of the formula format)"
+        elif err.get("type") == "missing":
+            msg = "required key is missing"
+        msg = msg.removeprefix("Value error, ")
+        problems.append(f"{label}, {_where(loc)}: {msg}")
+    return problems
+
+
+def parse_formula_text(text: str, label: str) -> FormulaFile:
+    """Validate TOML text into a FormulaFile; ``label`` (a path) starts every error line."""
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise InvalidData(f"{label}: not a valid TOML formula file ({exc})",
+                          hint="fix the TOML syntax at the line named") from None
+    try:
+        return FormulaFile.model_validate(data)
+    except ValidationError as exc:
+        problems = validation_problems(label, exc)
+        error = InvalidData(problems[0], hint="correct the formula file and check again")
+        error.problems = problems  # type: ignore[attr-defined]
+        raise error from None
+
+
+def read_formula_file(path: Path) -> tuple[FormulaFile, str]:
+    """Read and validate a formula file; returns the model and the exact text read."""
+    label = str(path)
+    try:
+        if path.is_dir():
+            raise InvalidData(f"{label}: is a folder, not a formula file")
+        raw = path.read_bytes()
+    except FileNotFoundError:
+        raise InvalidData(f"{label}: no such file", hint="check the path") from None
+    except PermissionError:
+        raise InvalidData(f"{label}: cannot be read (permission denied)") from None
+    except OSError as exc:
+        raise InvalidData(f"{label}: cannot be read ({exc.strerror or exc})") from None
+    if len(raw) > MAX_FORMULA_BYTES:
+        raise InvalidData(f"{label}: {len(raw)} bytes is too large for a formula file")
+    if not raw.strip():
+        raise InvalidData(f"{label}: the file is empty", hint="write a formula as in the README")
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise InvalidData(f"{label}: not UTF-8 text (byte {exc.start})",
+                          hint="save the formula as UTF-8 TOML") from None
+    return parse_formula_text(text, label), text
