@@ -1,0 +1,263 @@
+"""Opening the library: engines, the migration chain, and one unit of work per command.
+
+A plain path (or ``sqlite:///...``) is a SQLite file; ``postgresql+psycopg://...`` a team server.
+SQLite gets foreign keys, WAL and a busy timeout on every connection, and its own BEGIN so that
+DDL and savepoints are transactional (the SQLAlchemy recipe for pysqlite): a failed migration or
+import leaves the file as it was. Alembic is configured here in code, so the installed wheel needs
+no ``alembic.ini``.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Iterator
+from contextlib import contextmanager
+from pathlib import Path
+from typing import Any
+
+from alembic import command
+from alembic.config import Config
+from alembic.runtime.migration import MigrationContext
+from alembic.script import ScriptDirectory
+from sqlalchemy import Engine, create_engine, event, text
+from sqlalchemy.engine import URL, Connection, make_url
+from sqlalchemy.exc import ArgumentError, DBAPIError, NoSuchModuleError, OperationalError
+from sqlalchemy.orm import Session
+from sqlalchemy.orm.exc import StaleDataError
+from sqlalchemy.pool import StaticPool
+
+from formdb.errors import ConfigError, Conflict, FormdbError, SchemaOutdated
+from formdb.resources import migrations_dir
+
+BUSY_TIMEOUT_MS = 10_000
+_URL_HINT = ("give a SQLite file path such as formdb.sqlite or a "
+             "postgresql+psycopg://user@host/db URL")
+_PASSWORD_RE = re.compile(r"(://[^:/@]*:)[^@]*@")
+
+
+def _parse(url_or_path: str) -> URL:
+    """The SQLAlchemy URL for what the user typed; ConfigError when it is neither backend."""
+    given = url_or_path.strip()
+    if not given:
+        raise ConfigError("no database given", hint=_URL_HINT)
+    if "://" not in given:
+        return URL.create("sqlite", database=given)
+    scheme, rest = given.split("://", 1)
+    if scheme in ("postgres", "postgresql"):
+        given = f"postgresql+psycopg://{rest}"
+    try:
+        url = make_url(given)
+    except ArgumentError as exc:
+        masked = _PASSWORD_RE.sub(r"\1***@", given)
+        raise ConfigError(f"cannot read the database URL {masked!r}", hint=_URL_HINT) from exc
+    if url.get_backend_name() not in ("sqlite", "postgresql"):
+        raise ConfigError(
+            f"cannot open database {display_url(url)}: formdb keeps its library in SQLite or "
+            "PostgreSQL only", hint=_URL_HINT)
+    return url
+
+
+def display_url(url: str | URL) -> str:
+    """The URL as it may be shown to a user: password hidden; a SQLite file as its path."""
+    if isinstance(url, str):
+        try:
+            url = _parse(url)
+        except ConfigError:
+            return "<unreadable URL>"
+    if url.get_backend_name() == "sqlite" and url.database:
+        return url.database
+    return url.render_as_string(hide_password=True)
+
+
+def sqlite_path(url_or_path: str) -> Path | None:
+    """The file behind a SQLite URL, or None for PostgreSQL and in-memory SQLite."""
+    url = _parse(url_or_path)
+    if url.get_backend_name() != "sqlite" or url.database in (None, "", ":memory:"):
+        return None
+    return Path(url.database)
+
+
+def _sqlite_connect_settings(dbapi_connection: Any, _record: Any) -> None:
+    # isolation_level None stops pysqlite issuing its own BEGIN/COMMIT; "begin" below emits ours
+    dbapi_connection.isolation_level = None
+    cursor = dbapi_connection.cursor()
+    try:
+        cursor.execute("PRAGMA foreign_keys=ON")
+        cursor.execute(f"PRAGMA busy_timeout={BUSY_TIMEOUT_MS}")
+        cursor.execute("PRAGMA journal_mode=WAL")
+    finally:
+        cursor.close()
+
+
+def _sqlite_begin(conn: Connection) -> None:
+    conn.exec_driver_sql("BEGIN")
+
+
+def make_engine(url_or_path: str, *, must_exist: bool = False) -> Engine:
+    """An engine for the library at ``url_or_path``, tried once so a bad URL fails here.
+
+    ``must_exist``: for a SQLite file, refuse to create it (commands other than ``init`` must not
+    leave an empty file behind); a missing file is reported as "not a formdb library yet".
+    """
+    url = _parse(url_or_path)
+    shown = display_url(url)
+    kwargs: dict[str, Any] = {}
+    if url.get_backend_name() == "sqlite":
+        path = sqlite_path(url_or_path)
+        if path is None:
+            kwargs["poolclass"] = StaticPool  # one in-memory database shared by the session
+        elif path.is_dir():
+            raise ConfigError(f"cannot open database {shown}: it is a folder, not a file",
+                              hint="give a file name such as formdb.sqlite")
+        elif not path.parent.is_dir():
+            raise ConfigError(f"cannot open database {shown}: the folder {path.parent} does not "
+                              "exist", hint="create the folder or give another path")
+        elif must_exist and not path.exists():
+            raise SchemaOutdated(f"{shown} is not a formdb library yet (no such file)",
+                                 hint="run `formdb init` (add --seed for the bundled library)")
+        kwargs["connect_args"] = {"timeout": BUSY_TIMEOUT_MS / 1000}
+    else:
+        kwargs["pool_pre_ping"] = True
+        kwargs["connect_args"] = {"connect_timeout": 10}
+    try:
+        engine = create_engine(url, **kwargs)
+    except (NoSuchModuleError, ArgumentError, ImportError) as exc:
+        raise ConfigError(f"cannot open database {shown}: {exc}", hint=_URL_HINT) from exc
+    if url.get_backend_name() == "sqlite":
+        event.listen(engine, "connect", _sqlite_connect_settings)
+        event.listen(engine, "begin", _sqlite_begin)
+    try:
+        with engine.connect() as conn:
+            conn.execute(text("SELECT 1" if url.get_backend_name() != "sqlite"
+                              else "SELECT count(*) FROM sqlite_master"))
+    except DBAPIError as exc:
+        engine.dispose()
+        reason = str(exc.orig).strip().splitlines()[0] if exc.orig else str(exc)
+        raise ConfigError(f"cannot open database {shown}: {reason}",
+                          hint="check the path or URL, that the server is running and that you "
+                               "may log in") from exc
+    return engine
+
+
+# --- migrations -------------------------------------------------------------------------------
+
+def alembic_config(connection: Connection | None = None,
+                   script_location: Path | None = None) -> Config:
+    """Alembic's Config built in code: the bundled migrations, and our connection if given."""
+    cfg = Config()
+    location = str(script_location or migrations_dir())
+    cfg.set_main_option("script_location", location.replace("%", "%%"))
+    cfg.attributes["connection"] = connection
+    return cfg
+
+
+def head_revision(script_location: Path | None = None) -> str:
+    head = ScriptDirectory.from_config(alembic_config(script_location=script_location)) \
+        .get_current_head()
+    if head is None:  # pragma: no cover - the package always ships a revision
+        raise ConfigError("formdb's migrations folder holds no revision",
+                          hint="reinstall formdb")
+    return head
+
+
+def current_revision(engine: Engine) -> str | None:
+    """The revision the database is at; None for an empty or never-migrated database."""
+    with engine.connect() as conn:
+        return MigrationContext.configure(conn).get_current_revision()
+
+
+def _migrate(engine: Engine, direction: str, revision: str,
+             script_location: Path | None = None) -> None:
+    """Run alembic up or down in one transaction on one connection.
+
+    On SQLite, foreign keys are switched off while it runs: batch mode rebuilds a table by
+    dropping it, and with foreign keys on, the drop would cascade-delete every child row. The
+    keys are checked afterwards (``PRAGMA foreign_key_check``) and switched back on.
+    """
+    run = command.upgrade if direction == "upgrade" else command.downgrade
+    sqlite = engine.dialect.name == "sqlite"
+    with engine.connect() as conn:
+        raw = conn.connection.driver_connection if sqlite else None
+        if raw is not None:
+            raw.execute("PRAGMA foreign_keys=OFF")  # outside any transaction, or it is ignored
+        try:
+            with conn.begin():
+                run(alembic_config(conn, script_location), revision)
+                if sqlite:
+                    broken = conn.exec_driver_sql("PRAGMA foreign_key_check").fetchall()
+                    if broken:
+                        raise ConfigError(
+                            f"migrating {display_url(engine.url)} to {revision} would break "
+                            f"{len(broken)} references (first: table {broken[0][0]})",
+                            hint="nothing was changed; report this with --debug")
+        finally:
+            if raw is not None:
+                raw.execute("PRAGMA foreign_keys=ON")
+
+
+def upgrade_to_head(engine: Engine, script_location: Path | None = None) -> str:
+    """Create or upgrade the schema to the newest revision; returns that revision."""
+    _migrate(engine, "upgrade", "head", script_location)
+    return head_revision(script_location)
+
+
+def downgrade(engine: Engine, revision: str, script_location: Path | None = None) -> None:
+    """Step the schema down to ``revision`` ("base" removes every table)."""
+    _migrate(engine, "downgrade", revision, script_location)
+
+
+def upgrade(engine: Engine, revision: str, script_location: Path | None = None) -> None:
+    _migrate(engine, "upgrade", revision, script_location)
+
+
+def open_library(url: str) -> Engine:
+    """An engine for a library that is at the newest migration, or SchemaOutdated saying why."""
+    engine = make_engine(url, must_exist=True)
+    shown = display_url(engine.url)
+    try:
+        current = current_revision(engine)
+        head = head_revision()
+        if current == head:
+            return engine
+        if current is None:
+            raise SchemaOutdated(f"{shown} is not a formdb library yet",
+                                 hint="run `formdb init` (add --seed for the bundled library)")
+        known = {rev.revision for rev in
+                 ScriptDirectory.from_config(alembic_config()).walk_revisions()}
+        if current not in known:
+            raise SchemaOutdated(
+                f"{shown} is at revision {current}, which this formdb does not know (a newer "
+                f"formdb made it; this one stops at {head})",
+                hint="upgrade formdb to the version your team uses")
+        raise SchemaOutdated(f"{shown} is at revision {current}; this formdb needs {head}",
+                             hint="run `formdb init` to upgrade")
+    except BaseException:
+        engine.dispose()
+        raise
+
+
+# --- unit of work -------------------------------------------------------------------------------
+
+@contextmanager
+def unit_of_work(engine: Engine) -> Iterator[Session]:
+    """One transaction: commit when the block ends, roll back on any exception.
+
+    Database failures that are not bugs (a busy file, a concurrent edit) become FormdbErrors so
+    the CLI prints one line for them.
+    """
+    session = Session(engine, expire_on_commit=False)
+    try:
+        yield session
+        session.commit()
+    except BaseException as exc:
+        session.rollback()
+        if isinstance(exc, StaleDataError):
+            raise Conflict("someone else changed this record while you were working on it",
+                           hint="read it again and repeat your change") from exc
+        if isinstance(exc, OperationalError) and not isinstance(exc, FormdbError):
+            reason = str(exc.orig).strip().splitlines()[0] if exc.orig else str(exc)
+            raise ConfigError(f"the library {display_url(engine.url)} could not be written: "
+                              f"{reason}", hint="try again; nothing was changed") from exc
+        raise
+    finally:
+        session.close()
