@@ -1,0 +1,52 @@
+"""How full the dispersed phase packs: its volume fraction against packing limits of spheres.
+
+Equal rigid spheres cannot fill more than pi/sqrt(18) of space (FCC/HCP; Kepler's conjecture,
+proved by Hales, Ann. Math. 162 (2005) 1065). Random close packing is about 0.64 (Scott &
+Kilgour, J. Phys. D 2 (1969) 863; Torquato, Phys. Rev. E 51 (1995) 3170). Above these, drops must
+be polydisperse or deformed (high internal phase), and phase inversion becomes likely.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+
+CLOSE_PACKING = math.pi / math.sqrt(18)          # 0.74048, FCC/HCP (Hales 2005)
+RANDOM_CLOSE_PACKING = 0.64                      # +-0.02 (Scott & Kilgour 1969; Torquato 1995)
+BODY_CENTRED_CUBIC_PACKING = math.pi * math.sqrt(3) / 8  # 0.6802, geometry (computed)
+SIMPLE_CUBIC_PACKING = math.pi / 6               # 0.5236, geometry (computed)
+
+PACKING_LIMITS: tuple[tuple[str, float, str], ...] = (
+    ("close packing of equal spheres (FCC/HCP)", CLOSE_PACKING,
+     "Kepler conjecture; Hales, Ann. Math. 162 (2005) 1065"),
+    ("random close packing of equal spheres", RANDOM_CLOSE_PACKING,
+     "Scott & Kilgour, J. Phys. D 2 (1969) 863; Torquato, Phys. Rev. E 51 (1995) 3170"),
+    ("body-centred cubic lattice", BODY_CENTRED_CUBIC_PACKING, "geometry: pi*sqrt(3)/8"),
+    ("simple cubic lattice", SIMPLE_CUBIC_PACKING, "geometry: pi/6"),
+)
+
+
+def _volume(parts: Sequence[tuple[float, float]], side: str) -> float:
+    total = 0.0
+    for index, (mass, density) in enumerate(parts):
+        if not math.isfinite(mass) or mass < 0:
+            raise ValueError(f"{side} part {index}: mass must be a finite number >= 0, got {mass}")
+        if not math.isfinite(density) or density <= 0:
+            raise ValueError(f"{side} part {index}: density must be > 0, got {density}")
+        total += mass / density
+    return total
+
+
+def volume_fraction(
+    dispersed: Sequence[tuple[float, float]], continuous: Sequence[tuple[float, float]]
+) -> float:
+    """Volume fraction of the dispersed phase from (mass, density) parts of each phase.
+
+    Masses in any one unit (g or % w/w), densities in g/mL; volumes are taken as additive
+    (no mixing contraction), which is the usual approximation for emulsion phases.
+    """
+    v_dispersed = _volume(dispersed, "dispersed")
+    total = v_dispersed + _volume(continuous, "continuous")
+    if total <= 0:
+        raise ValueError("the phases have no volume")
+    return v_dispersed / total
