@@ -16,12 +16,13 @@ RANDOM_CLOSE_PACKING = 0.64                      # +-0.02 (Scott & Kilgour 1969;
 BODY_CENTRED_CUBIC_PACKING = math.pi * math.sqrt(3) / 8  # 0.6802, geometry (computed)
 SIMPLE_CUBIC_PACKING = math.pi / 6               # 0.5236, geometry (computed)
 
+# (what, fraction, source), densest first, for reports
 PACKING_LIMITS: tuple[tuple[str, float, str], ...] = (
     ("close packing of equal spheres (FCC/HCP)", CLOSE_PACKING,
      "Kepler conjecture; Hales, Ann. Math. 162 (2005) 1065"),
+    ("body-centred cubic lattice", BODY_CENTRED_CUBIC_PACKING, "geometry: pi*sqrt(3)/8"),
     ("random close packing of equal spheres", RANDOM_CLOSE_PACKING,
      "Scott & Kilgour, J. Phys. D 2 (1969) 863; Torquato, Phys. Rev. E 51 (1995) 3170"),
-    ("body-centred cubic lattice", BODY_CENTRED_CUBIC_PACKING, "geometry: pi*sqrt(3)/8"),
     ("simple cubic lattice", SIMPLE_CUBIC_PACKING, "geometry: pi/6"),
 )
 
