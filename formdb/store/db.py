@@ -166,15 +166,14 @@ def current_revision(engine: Engine) -> str | None:
         return MigrationContext.configure(conn).get_current_revision()
 
 
-def _migrate(engine: Engine, direction: str, revision: str,
-             script_location: Path | None = None) -> None:
-    """Run alembic up or down in one transaction on one connection.
+@contextmanager
+def _migration_connection(engine: Engine) -> Iterator[Connection]:
+    """One connection in one transaction for schema changes (and data written with them).
 
     On SQLite, foreign keys are switched off while it runs: batch mode rebuilds a table by
     dropping it, and with foreign keys on, the drop would cascade-delete every child row. The
-    keys are checked afterwards (``PRAGMA foreign_key_check``) and switched back on.
+    keys are checked before the commit (``PRAGMA foreign_key_check``) and switched back on.
     """
-    run = command.upgrade if direction == "upgrade" else command.downgrade
     sqlite = engine.dialect.name == "sqlite"
     with engine.connect() as conn:
         raw = conn.connection.driver_connection if sqlite else None
@@ -182,17 +181,24 @@ def _migrate(engine: Engine, direction: str, revision: str,
             raw.execute("PRAGMA foreign_keys=OFF")  # outside any transaction, or it is ignored
         try:
             with conn.begin():
-                run(alembic_config(conn, script_location), revision)
+                yield conn
                 if sqlite:
                     broken = conn.exec_driver_sql("PRAGMA foreign_key_check").fetchall()
                     if broken:
                         raise ConfigError(
-                            f"migrating {display_url(engine.url)} to {revision} would break "
-                            f"{len(broken)} references (first: table {broken[0][0]})",
+                            f"changing {display_url(engine.url)} would break {len(broken)} "
+                            f"references (first: table {broken[0][0]})",
                             hint="nothing was changed; report this with --debug")
         finally:
             if raw is not None:
                 raw.execute("PRAGMA foreign_keys=ON")
+
+
+def _migrate(engine: Engine, direction: str, revision: str,
+             script_location: Path | None = None) -> None:
+    run = command.upgrade if direction == "upgrade" else command.downgrade
+    with _migration_connection(engine) as conn:
+        run(alembic_config(conn, script_location), revision)
 
 
 def upgrade_to_head(engine: Engine, script_location: Path | None = None) -> str:
@@ -238,6 +244,18 @@ def open_library(url: str) -> Engine:
 
 # --- unit of work -------------------------------------------------------------------------------
 
+def _translate(exc: BaseException, engine: Engine) -> FormdbError | None:
+    """The FormdbError a database failure that is not a bug stands for, or None."""
+    if isinstance(exc, StaleDataError):
+        return Conflict("someone else changed this record while you were working on it",
+                        hint="read it again and repeat your change")
+    if isinstance(exc, OperationalError):
+        reason = str(exc.orig).strip().splitlines()[0] if exc.orig else str(exc)
+        return ConfigError(f"the library {display_url(engine.url)} could not be written: "
+                           f"{reason}", hint="try again; nothing was changed")
+    return None
+
+
 @contextmanager
 def unit_of_work(engine: Engine) -> Iterator[Session]:
     """One transaction: commit when the block ends, roll back on any exception.
@@ -251,13 +269,31 @@ def unit_of_work(engine: Engine) -> Iterator[Session]:
         session.commit()
     except BaseException as exc:
         session.rollback()
-        if isinstance(exc, StaleDataError):
-            raise Conflict("someone else changed this record while you were working on it",
-                           hint="read it again and repeat your change") from exc
-        if isinstance(exc, OperationalError) and not isinstance(exc, FormdbError):
-            reason = str(exc.orig).strip().splitlines()[0] if exc.orig else str(exc)
-            raise ConfigError(f"the library {display_url(engine.url)} could not be written: "
-                              f"{reason}", hint="try again; nothing was changed") from exc
+        problem = _translate(exc, engine)
+        if problem is not None:
+            raise problem from exc
         raise
     finally:
         session.close()
+
+
+@contextmanager
+def upgraded_unit_of_work(engine: Engine) -> Iterator[Session]:
+    """Upgrade to head and yield a session in the same transaction, so the schema change and
+    the data written after it (``init --seed``) are committed together or not at all."""
+    try:
+        with _migration_connection(engine) as conn:
+            command.upgrade(alembic_config(conn), "head")
+            session = Session(bind=conn, expire_on_commit=False)
+            try:
+                yield session
+                session.flush()
+            finally:
+                session.close()
+    except FormdbError:
+        raise
+    except BaseException as exc:
+        problem = _translate(exc, engine)
+        if problem is not None:
+            raise problem from exc
+        raise

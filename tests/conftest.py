@@ -1,0 +1,138 @@
+"""Library fixtures for every layer's tests.
+
+- ``empty_sqlite_url`` / ``empty_pg_url``: a database that exists but holds nothing yet.
+- ``sqlite_url`` / ``pg_url``: the same, migrated to head.
+- ``library_url``: parametrised over both backends (the PostgreSQL case skips without a server).
+- ``seeded_sqlite_url`` / ``seeded_pg_url`` / ``seeded_library_url``: the bundled seed library,
+  built once per session and copied per test.
+
+PostgreSQL tests use the server named by FORMDB_TEST_PG_URL (each test gets its own database,
+dropped afterwards) and skip with a reason when it is unset.
+"""
+
+from __future__ import annotations
+
+import shutil
+from collections.abc import Iterator
+from pathlib import Path
+
+import pytest
+from sqlalchemy import text
+
+from formdb.store.db import make_engine, sqlite_path, upgrade_to_head
+from tests.helpers import PG_ENV, fresh_pg_database, pg_base_url
+
+TEST_USER = "larkspur-test"
+
+
+def _migrate(url: str) -> str:
+    engine = make_engine(url)
+    try:
+        upgrade_to_head(engine)
+    finally:
+        engine.dispose()
+    return url
+
+
+def _sqlite_url(path: Path) -> str:
+    return f"sqlite:///{path}"
+
+
+@pytest.fixture
+def empty_sqlite_url(tmp_path: Path) -> str:
+    """A SQLite file path in a fresh folder; the file does not exist yet."""
+    return _sqlite_url(tmp_path / "library.sqlite")
+
+
+@pytest.fixture
+def sqlite_url(empty_sqlite_url: str) -> str:
+    return _migrate(empty_sqlite_url)
+
+
+@pytest.fixture(scope="session")
+def pg_server() -> str:
+    base = pg_base_url()
+    if base is None:
+        pytest.skip(f"PostgreSQL tests need {PG_ENV} (e.g. "
+                    "postgresql+psycopg://postgres@127.0.0.1:5432/test)")
+    try:
+        make_engine(base).dispose()
+    except Exception as exc:  # set but unreachable: a broken CI, not a reason to skip
+        pytest.fail(f"{PG_ENV} is set but the server cannot be used: {exc}")
+    return base
+
+
+@pytest.fixture
+def empty_pg_url(pg_server: str) -> Iterator[str]:
+    with fresh_pg_database(pg_server) as url:
+        yield url
+
+
+@pytest.fixture
+def pg_url(empty_pg_url: str) -> str:
+    return _migrate(empty_pg_url)
+
+
+@pytest.fixture(params=["sqlite", pytest.param("postgresql", marks=pytest.mark.postgres)])
+def library_url(request: pytest.FixtureRequest) -> str:
+    """A library migrated to head, once on SQLite and once on PostgreSQL."""
+    return request.getfixturevalue("sqlite_url" if request.param == "sqlite" else "pg_url")
+
+
+@pytest.fixture(params=["sqlite", pytest.param("postgresql", marks=pytest.mark.postgres)])
+def empty_library_url(request: pytest.FixtureRequest) -> str:
+    """An empty database on each backend (for ``init`` and migration tests)."""
+    name = "empty_sqlite_url" if request.param == "sqlite" else "empty_pg_url"
+    return request.getfixturevalue(name)
+
+
+# --- seeded libraries ----------------------------------------------------------------------
+
+def _seed(url: str) -> None:
+    from formdb.services.setup import init_library
+
+    init_library(url, seed=True, user=TEST_USER)
+
+
+@pytest.fixture(scope="session")
+def _seeded_sqlite_template(tmp_path_factory: pytest.TempPathFactory) -> Path:
+    url = _sqlite_url(tmp_path_factory.mktemp("seeded") / "template.sqlite")
+    _seed(url)
+    engine = make_engine(url)
+    try:
+        with engine.connect() as conn:  # fold the WAL into the file so one file is the copy
+            conn.execute(text("PRAGMA wal_checkpoint(TRUNCATE)"))
+    finally:
+        engine.dispose()
+    path = sqlite_path(url)
+    assert path is not None
+    return path
+
+
+@pytest.fixture
+def seeded_sqlite_url(_seeded_sqlite_template: Path, tmp_path: Path) -> str:
+    """A copy of the bundled seed library in SQLite, private to the test."""
+    target = tmp_path / "seeded.sqlite"
+    shutil.copyfile(_seeded_sqlite_template, target)
+    return _sqlite_url(target)
+
+
+@pytest.fixture(scope="session")
+def _seeded_pg_template(pg_server: str) -> Iterator[str]:
+    with fresh_pg_database(pg_server) as url:
+        _seed(url)
+        from sqlalchemy.engine import make_url
+
+        yield str(make_url(url).database)
+
+
+@pytest.fixture
+def seeded_pg_url(pg_server: str, _seeded_pg_template: str) -> Iterator[str]:
+    with fresh_pg_database(pg_server, template=_seeded_pg_template) as url:
+        yield url
+
+
+@pytest.fixture(params=["sqlite", pytest.param("postgresql", marks=pytest.mark.postgres)])
+def seeded_library_url(request: pytest.FixtureRequest) -> str:
+    name = "seeded_sqlite_url" if request.param == "sqlite" else "seeded_pg_url"
+    return request.getfixturevalue(name)

@@ -1,0 +1,99 @@
+"""Shared test helpers: a deterministic dump of a library, fresh PostgreSQL databases, and running
+the ``formdb`` command in-process exactly as a user would (one ``Error:`` line, exit code)."""
+
+from __future__ import annotations
+
+import os
+from collections.abc import Collection, Iterator, Mapping, Sequence
+from contextlib import contextmanager
+from dataclasses import dataclass
+from uuid import uuid4
+
+from click.testing import CliRunner
+from sqlalchemy import MetaData, create_engine, func, select, text
+from sqlalchemy.engine import make_url
+
+from formdb.store.db import make_engine
+
+PG_ENV = "FORMDB_TEST_PG_URL"
+
+
+def pg_base_url() -> str | None:
+    """The test server from the environment, or None (PostgreSQL tests then skip)."""
+    return os.environ.get(PG_ENV) or None
+
+
+def dump_database(url: str, exclude_columns: Collection[str] = ()) -> str:
+    """Every table's columns and rows as text, tables by name, rows fully ordered.
+
+    Two dumps are equal exactly when the library holds the same rows (the alembic revision
+    included). ``exclude_columns`` leaves out columns such as timestamps where a test re-creates
+    data on purpose.
+    """
+    engine = make_engine(url, must_exist=True)
+    try:
+        meta = MetaData()
+        with engine.connect() as conn:
+            meta.reflect(conn)
+            lines: list[str] = []
+            for name in sorted(meta.tables):
+                table = meta.tables[name]
+                cols = [c for c in table.columns if c.name not in exclude_columns]
+                lines.append(f"== {name} ({', '.join(c.name for c in cols)})")
+                if not cols:
+                    count = conn.execute(select(func.count()).select_from(table)).scalar_one()
+                    lines.append(f"{count} rows")
+                    continue
+                rows = conn.execute(select(*cols).order_by(*cols)).all()
+                lines.extend(" | ".join(_cell(v) for v in row) for row in rows)
+        return "\n".join(lines) + "\n"
+    finally:
+        engine.dispose()
+
+
+def _cell(value: object) -> str:
+    if isinstance(value, float):
+        return repr(value)
+    return "NULL" if value is None else repr(value)
+
+
+@contextmanager
+def fresh_pg_database(base_url: str, template: str | None = None) -> Iterator[str]:
+    """A new, uniquely named database on the test server (a copy of ``template`` if given),
+    dropped afterwards even when connections are still open."""
+    base = make_url(base_url)
+    name = f"formdb_t_{uuid4().hex[:12]}"
+    admin = create_engine(base, isolation_level="AUTOCOMMIT")
+    try:
+        with admin.connect() as conn:
+            copy = f' TEMPLATE "{template}"' if template else ""
+            conn.execute(text(f'CREATE DATABASE "{name}"{copy}'))
+        try:
+            yield base.set(database=name).render_as_string(hide_password=False)
+        finally:
+            with admin.connect() as conn:
+                conn.execute(text(f'DROP DATABASE IF EXISTS "{name}" WITH (FORCE)'))
+    finally:
+        admin.dispose()
+
+
+@dataclass
+class CliResult:
+    exit_code: int
+    stdout: str
+    stderr: str
+
+
+def run_formdb(args: Sequence[str], env: Mapping[str, str | None] | None = None) -> CliResult:
+    """Run ``formdb ARGS`` through its real entry point (the one error handler included)."""
+    from formdb.cli.main import main
+
+    runner = CliRunner()
+    code = 0
+    with runner.isolation(env=dict(env or {})) as (out, err, _):
+        try:
+            main(list(args))
+        except SystemExit as exc:
+            code = exc.code if isinstance(exc.code, int) else (0 if exc.code is None else 1)
+        stdout, stderr = out.getvalue(), err.getvalue()
+    return CliResult(code, stdout.decode(), stderr.decode())
