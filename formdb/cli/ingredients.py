@@ -1,0 +1,304 @@
+"""``formdb ingredient ...``: the shared ingredient library from the command line.
+
+Thin: each command parses its options, calls one function of ``formdb.services.ingredients``
+inside one unit of work, and renders the result. A file or edit with several problems prints every
+one of them (one ``Error:`` line each) and exits 2.
+"""
+
+from __future__ import annotations
+
+import csv
+import functools
+import json
+import sys
+from collections.abc import Callable, Iterator, Sequence
+from contextlib import contextmanager
+from datetime import UTC, datetime
+from pathlib import Path
+from typing import Any
+
+import click
+from sqlalchemy.orm import Session
+
+from formdb.cli.main import AppContext
+
+CAUTION = ("A screening aid, not a safety assessment: check values against current sources, "
+           "and defer to the regulation and a qualified safety assessor.")
+
+
+@contextmanager
+def _library(app: AppContext) -> Iterator[Session]:
+    from formdb.store.db import open_library, unit_of_work
+
+    engine = open_library(app.db)
+    try:
+        with unit_of_work(engine) as session:
+            yield session
+    finally:
+        engine.dispose()
+
+
+def _every_problem(command: Callable[..., Any]) -> Callable[..., Any]:
+    """Print each problem of a TableProblems on its own ``Error:`` line, then exit 2."""
+
+    @functools.wraps(command)
+    def wrapper(*args: Any, **kwargs: Any) -> Any:
+        from formdb.services.tables import TableProblems
+
+        try:
+            return command(*args, **kwargs)
+        except TableProblems as exc:
+            for problem in exc.problems:
+                click.echo(f"Error: {problem}", err=True)
+            if exc.hint:
+                click.echo(f"Next: {exc.hint}", err=True)
+            click.get_current_context().exit(2)
+
+    return wrapper
+
+
+def _console() -> Any:
+    from rich.console import Console
+
+    return Console(width=None if sys.stdout.isatty() else 160, highlight=False)
+
+
+def _assignments(values: Sequence[str]) -> list[tuple[str, str]]:
+    out = []
+    for item in values:
+        field, sep, value = item.partition("=")
+        if not sep or not field.strip():
+            raise click.BadParameter(f"{item!r} is not field=value (for example hlb=15)",
+                                     param_hint="--set")
+        out.append((field.strip(), value))
+    return out
+
+
+def _when(at: datetime) -> str:
+    if at.tzinfo is None:
+        at = at.replace(tzinfo=UTC)
+    return at.astimezone(UTC).strftime("%Y-%m-%d %H:%M:%S")
+
+
+def _echo_changes(name: str, changes: Sequence[Any], version: int, verb: str) -> None:
+    if not changes:
+        click.echo(f"{name}: nothing changed (version {version}).")
+        return
+    click.echo(f"{verb} {name} (now version {version}):")
+    for change in changes:
+        click.echo(f"  {change.describe()}")
+
+
+@click.group("ingredient")
+def ingredient_group() -> None:
+    """The shared ingredient library: list, show, add, edit, retire, history, import, export."""
+
+
+_SET = click.option("--set", "sets", multiple=True, metavar="FIELD=VALUE",
+                    help="A field and its value, e.g. hlb=15 or density='0.92 g/cm3' "
+                         "(repeatable; an empty value clears it).")
+_SOURCE = click.option("--source", help="Source key of the values given with --set "
+                       "(a key of the sources table, or rule-of-thumb / from-memory).")
+
+
+@ingredient_group.command("list")
+@click.option("--role", help="Only ingredients with this role (e.g. emulsifier).")
+@click.option("--format", "fmt", type=click.Choice(["table", "csv", "json"]), default="table",
+              show_default=True)
+@click.option("--include-retired", is_flag=True, help="Also list retired ingredients.")
+@click.pass_obj
+def list_cmd(app: AppContext, role: str | None, fmt: str, include_retired: bool) -> None:
+    """List the library's ingredients with their main emulsion properties."""
+    from formdb.services.ingredients import list_ingredients
+
+    with _library(app) as session:
+        records = list_ingredients(session, role=role, include_retired=include_retired)
+    if fmt == "json":
+        click.echo(json.dumps([r.model_dump(mode="json") for r in records], indent=2,
+                              ensure_ascii=False))
+        return
+    header = ["inci_name", "roles", "hlb", "required_hlb_ow", "required_hlb_wo", "solubility",
+              "ionic_character", "version", "retired"]
+    rows = [[r.inci_name, "; ".join(sorted(x.value for x in r.roles)),
+             *(_text(getattr(r.p, p)) for p in header[2:7]), str(r.version),
+             "yes" if r.retired else "no"] for r in records]
+    if fmt == "csv":
+        writer = csv.writer(sys.stdout, lineterminator="\n")
+        writer.writerow(header)
+        writer.writerows(rows)
+        return
+    from rich.table import Table
+
+    table = Table("INCI name", "roles", "HLB", "req. HLB O/W", "req. HLB W/O", "solubility",
+                  "ionic", "version", *(["retired"] if include_retired else []))
+    for row in rows:
+        table.add_row(*(row if include_retired else row[:-1]))
+    _console().print(table)
+    click.echo(f"{len(rows)} ingredient(s).")
+
+
+def _text(value: Any) -> str:
+    from formdb.services.ingredient_fields import render_property
+
+    return render_property("", value)
+
+
+@ingredient_group.command("show")
+@click.argument("name")
+@click.pass_obj
+def show_cmd(app: AppContext, name: str) -> None:
+    """Every property of NAME with its value, unit, source, evidence and citation."""
+    from rich.table import Table
+
+    from formdb.schemas.ingredient import PROPERTY_NAMES, IngredientProperties
+    from formdb.services.ingredient_fields import render_property
+    from formdb.services.ingredients import show_ingredient
+
+    with _library(app) as session:
+        detail = show_ingredient(session, name)
+    rec = detail.record
+    click.echo(f"{rec.inci_name}  (version {rec.version}{', RETIRED' if rec.retired else ''}; "
+               f"last changed {_when(detail.updated_at)} UTC by {detail.updated_by})")
+    for label, items in (("synonyms", rec.synonyms), ("CAS", rec.cas_numbers),
+                         ("roles", sorted(r.value for r in rec.roles)),
+                         ("classes", sorted(rec.classes))):
+        click.echo(f"  {label}: {'; '.join(items) or '-'}")
+    table = Table("property", "value", "unit", "source", "evidence", "citation", "note")
+    for prop in PROPERTY_NAMES:
+        value = getattr(rec.p, prop)
+        prov = rec.provenance.get(prop)
+        table.add_row(prop, render_property(prop, value) if value is not None else "-",
+                      IngredientProperties.unit_of(prop) if value is not None else "",
+                      prov.source if prov else "", prov.evidence.value if prov else "",
+                      (prov.citation or "") if prov else "", (prov.note or "") if prov else "")
+    _console().print(table)
+    click.echo(CAUTION)
+
+
+@ingredient_group.command("add")
+@click.argument("name")
+@_SET
+@_SOURCE
+@click.option("--synonym", "synonyms", multiple=True, help="Another name (repeatable).")
+@click.option("--cas", "cas", multiple=True, help="A CAS number (repeatable).")
+@click.option("--role", "roles", multiple=True, help="A role such as emulsifier (repeatable).")
+@click.option("--reason", help="Why it is added (kept in the change log).")
+@click.pass_obj
+@_every_problem
+def add_cmd(app: AppContext, name: str, sets: tuple[str, ...], source: str | None,
+            synonyms: tuple[str, ...], cas: tuple[str, ...], roles: tuple[str, ...],
+            reason: str | None) -> None:
+    """Add ingredient NAME (its INCI name) to the library."""
+    from formdb.services.ingredients import add_ingredient
+
+    with _library(app) as session:
+        report = add_ingredient(session, name, _assignments(sets), user=app.user, source=source,
+                                synonyms=synonyms, cas=cas, roles=roles, reason=reason)
+    _echo_changes(report.inci_name, report.changes, report.version, "added")
+
+
+@ingredient_group.command("edit")
+@click.argument("name")
+@_SET
+@_SOURCE
+@click.option("--reason", help="Why it changes (required for published values).")
+@click.option("--expect-version", type=int,
+              help="The version you read; refused if someone changed it since.")
+@click.pass_obj
+@_every_problem
+def edit_cmd(app: AppContext, name: str, sets: tuple[str, ...], source: str | None,
+             reason: str | None, expect_version: int | None) -> None:
+    """Change fields of ingredient NAME: --set hlb=15 --source KEY --reason '...'."""
+    from formdb.services.ingredients import edit_ingredient
+
+    with _library(app) as session:
+        report = edit_ingredient(session, name, _assignments(sets), user=app.user, reason=reason,
+                                 source=source, expect_version=expect_version)
+    _echo_changes(report.inci_name, report.changes, report.version, "changed")
+
+
+@ingredient_group.command("retire")
+@click.argument("name")
+@click.option("--reason", required=True, help="Why it is taken out of use.")
+@click.pass_obj
+def retire_cmd(app: AppContext, name: str, reason: str) -> None:
+    """Take NAME out of use (kept, with its history, for old formulas)."""
+    from formdb.services.ingredients import retire_ingredient
+
+    with _library(app) as session:
+        report = retire_ingredient(session, name, user=app.user, reason=reason)
+    _echo_changes(report.inci_name, report.changes, report.version, "retired")
+
+
+@ingredient_group.command("restore")
+@click.argument("name")
+@click.option("--reason", required=True, help="Why it comes back into use.")
+@click.pass_obj
+def restore_cmd(app: AppContext, name: str, reason: str) -> None:
+    """Bring a retired ingredient back into use."""
+    from formdb.services.ingredients import restore_ingredient
+
+    with _library(app) as session:
+        report = restore_ingredient(session, name, user=app.user, reason=reason)
+    _echo_changes(report.inci_name, report.changes, report.version, "restored")
+
+
+@ingredient_group.command("history")
+@click.argument("name")
+@click.pass_obj
+def history_cmd(app: AppContext, name: str) -> None:
+    """Who changed NAME, when, what (old -> new) and why."""
+    from rich.table import Table
+
+    from formdb.services.ingredients import ingredient_history
+
+    with _library(app) as session:
+        entries = ingredient_history(session, name)
+    table = Table("when (UTC)", "who", "action", "version", "field", "old", "new", "reason")
+    for e in entries:
+        table.add_row(_when(e.at), e.user, e.action, "" if e.version is None else str(e.version),
+                      e.field or "", e.old or "", e.new or "", e.reason or "")
+    _console().print(table)
+    click.echo(f"{len(entries)} change(s).")
+
+
+@ingredient_group.command("import")
+@click.argument("file", type=click.Path(path_type=Path))
+@click.option("--dry-run", is_flag=True, help="Report what would change; write nothing.")
+@click.option("--reason", help="Why the table is imported (kept in the change log).")
+@click.pass_obj
+@_every_problem
+def import_cmd(app: AppContext, file: Path, dry_run: bool, reason: str | None) -> None:
+    """Import a CSV or XLSX ingredient table, all rows or none."""
+    from formdb.services.ingredients import import_table
+
+    with _library(app) as session:
+        report = import_table(session, file, user=app.user, reason=reason, dry_run=dry_run)
+    would = "would be " if dry_run else ""
+    for note in report.notes:
+        click.echo(f"note: {note}")
+    for name in report.added:
+        click.echo(f"{would}added: {name}")
+    for name, changes in report.changed.items():
+        click.echo(f"{would}changed: {name}")
+        for change in changes:
+            click.echo(f"  {change.describe()}")
+    for name in report.unchanged:
+        click.echo(f"{'would be ' if dry_run else ''}left alone: {name}")
+    click.echo(f"{len(report.added)} {would}added, {len(report.changed)} {would}changed, "
+               f"{len(report.unchanged)} left alone"
+               + (" (dry run: nothing was written)." if dry_run else "."))
+
+
+@ingredient_group.command("export")
+@click.argument("file", type=click.Path(path_type=Path))
+@click.option("--role", help="Only ingredients with this role.")
+@click.option("--include-retired", is_flag=True, help="Also export retired ingredients.")
+@click.pass_obj
+def export_cmd(app: AppContext, file: Path, role: str | None, include_retired: bool) -> None:
+    """Write the library to FILE (.csv or .xlsx) in the columns `import` reads."""
+    from formdb.services.ingredients import export_table
+
+    with _library(app) as session:
+        count = export_table(session, file, role=role, include_retired=include_retired)
+    click.echo(f"wrote {count} ingredient(s) to {file}")

@@ -1,0 +1,222 @@
+"""One ingredient as a row of cells (the import/export format), validated into ``IngredientIn``.
+
+A row is a ``Cells`` dict keyed by the export columns. Import, edit and export all pass through
+it: the library's state is rendered to cells, a file row or an ``--set`` is laid over them, and the
+result is validated and rendered again, so "changed" means the canonical text differs.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+
+from openpyxl.utils import get_column_letter
+from pydantic import ValidationError
+
+from formdb.schemas.ingredient import (
+    PROPERTY_NAMES,
+    IngredientIn,
+    IngredientProperties,
+    name_key,
+    normalise_inci,
+)
+from formdb.services.ingredient_fields import (
+    KNOWN_COLUMNS,
+    LIST_FIELDS,
+    NAME_COLUMN,
+    SHARED_SOURCE,
+    FieldProblem,
+    did_you_mean,
+    export_columns,
+    join_list,
+    normalise_column,
+    parse_list_item,
+    parse_property,
+    render_property,
+    split_list,
+)
+from formdb.services.tables import Problem, RawTable
+
+Cells = dict[str, str]
+# (column, problem) pairs for one row; the caller adds the file and row
+CellProblems = list[tuple[str | None, str]]
+
+
+def empty_cells() -> Cells:
+    return dict.fromkeys(export_columns(), "")
+
+
+def render_ingredient(item: IngredientIn) -> Cells:
+    """The canonical cells of a validated ingredient (lists sorted, numbers shortest)."""
+    cells = empty_cells()
+    cells[NAME_COLUMN] = item.inci_name
+    cells["synonyms"] = join_list(sorted(item.synonyms, key=str.casefold))
+    cells["cas"] = join_list(sorted(item.cas_numbers))
+    cells["roles"] = join_list(sorted(r.value for r in item.roles))
+    cells["classes"] = join_list(sorted(item.classes))
+    for prop in PROPERTY_NAMES:
+        value = getattr(item.properties, prop)
+        if value is None:
+            continue
+        cells[prop] = render_property(prop, value)
+        cells[f"{prop}_source"] = item.sources.get(prop, "")
+        cells[f"{prop}_note"] = item.notes.get(prop, "")
+    return cells
+
+
+def _source_problem(prop: str, key: str, sources: Mapping[str, str]) -> str | None:
+    if not key:
+        return (f"{prop} has a value but no source; fill {prop}_source (or a shared source "
+                "column) with a key of the sources table, or rule-of-thumb / from-memory")
+    if key not in sources:
+        return (f"unknown source key {key!r} for {prop}{did_you_mean(key, sources)}; use a key "
+                "of the sources table, or rule-of-thumb / from-memory")
+    return None
+
+
+def validate_cells(cells: Mapping[str, str], sources: Mapping[str, str],
+                   source_columns: Mapping[str, str] | None = None,
+                   ) -> tuple[IngredientIn | None, CellProblems]:
+    """Every problem of one row, or the validated ingredient when there are none.
+
+    ``sources`` maps source keys to their evidence kind; ``source_columns`` names the column a
+    property's source came from (a shared ``source`` column), for the problem text.
+    """
+    problems: CellProblems = []
+    name = normalise_inci(cells.get(NAME_COLUMN, ""))
+    if not name:
+        problems.append((NAME_COLUMN, "the INCI name is missing; every row needs one"))
+    lists: dict[str, list[str]] = {}
+    for column in LIST_FIELDS:
+        items: list[str] = []
+        for raw in split_list(cells.get(column, "")):
+            try:
+                items.append(parse_list_item(column, raw))
+            except FieldProblem as exc:
+                problems.append((column, str(exc)))
+        lists[column] = list(dict.fromkeys(items))
+    for synonym in lists["synonyms"]:
+        if name and name_key(synonym) == name_key(name):
+            problems.append(("synonyms", f"synonym {synonym!r} repeats the INCI name"))
+    values: dict[str, object] = {}
+    chosen: dict[str, str] = {}
+    notes: dict[str, str] = {}
+    for prop in PROPERTY_NAMES:
+        text = cells.get(prop, "")
+        if not text:
+            continue
+        try:
+            values[prop] = parse_property(prop, text)
+        except FieldProblem as exc:
+            problems.append((prop, str(exc)))
+        key = cells.get(f"{prop}_source", "")
+        trouble = _source_problem(prop, key, sources)
+        if trouble:
+            problems.append(((source_columns or {}).get(prop, f"{prop}_source"), trouble))
+        chosen[prop] = key
+        if cells.get(f"{prop}_note", ""):
+            notes[prop] = cells[f"{prop}_note"]
+    if problems:
+        return None, problems
+    try:
+        item = IngredientIn(
+            inci_name=name, synonyms=tuple(lists["synonyms"]), cas_numbers=tuple(lists["cas"]),
+            roles=tuple(lists["roles"]), classes=tuple(lists["classes"]),
+            properties=IngredientProperties(**values),  # type: ignore[arg-type]
+            sources=chosen, notes=notes)
+    except ValidationError as exc:
+        for error in exc.errors():
+            loc = [str(part) for part in error["loc"]]
+            column = next((part for part in loc if part in KNOWN_COLUMNS), None)
+            message = error["msg"].removeprefix("Value error, ")
+            problems.append((column, message))
+        return None, problems
+    return item, []
+
+
+@dataclass
+class FileRow:
+    """One data row of an import file, as cells, with where each cell came from."""
+
+    row: int
+    given: Cells  # only the columns the file has, non-empty or not
+    source_columns: dict[str, str] = field(default_factory=dict)
+
+
+def _letters(index: int) -> str:
+    return get_column_letter(index + 1)
+
+
+def read_ingredient_rows(table: RawTable) -> tuple[list[FileRow], list[Problem]]:
+    """Map the header onto the known columns and every data row onto cells.
+
+    A shared ``source`` column fills ``P_source`` for each property value on its row that has no
+    source of its own.
+    """
+    problems: list[Problem] = []
+    columns: dict[int, str] = {}
+    shown: dict[str, str] = {}
+    for index, header in enumerate(table.header):
+        if not header:
+            continue
+        column = normalise_column(header)
+        if column not in KNOWN_COLUMNS:
+            problems.append(Problem(table.file, f"unknown column {header!r}"
+                                    f"{did_you_mean(column, sorted(KNOWN_COLUMNS))}",
+                                    table.header_row, header))
+        elif column in shown:
+            problems.append(Problem(table.file, f"column {header!r} appears twice (also as "
+                                    f"{shown[column]!r})", table.header_row, header))
+        else:
+            columns[index] = column
+            shown[column] = header
+    if NAME_COLUMN not in shown:
+        problems.append(Problem(table.file, "there is no inci_name column; the header row needs "
+                                "one (and one column per property)", table.header_row))
+    rows: list[FileRow] = []
+    for number, cells in table.rows:
+        given: Cells = {}
+        for index, text in enumerate(cells):
+            if index in columns:
+                given[columns[index]] = text
+            elif text and (index >= len(table.header) or not table.header[index]):
+                problems.append(Problem(table.file, f"the cell {text[:40]!r} is in a column "
+                                        "without a header", number, _letters(index)))
+        row = FileRow(number, given)
+        shared = given.pop(SHARED_SOURCE, "")
+        for prop in PROPERTY_NAMES:
+            if given.get(prop) and not given.get(f"{prop}_source"):
+                given[f"{prop}_source"] = shared
+                if f"{prop}_source" not in shown:
+                    row.source_columns[prop] = shown.get(SHARED_SOURCE, f"{prop}_source")
+        rows.append(row)
+    return rows, problems
+
+
+def header_labels(table: RawTable) -> dict[str, str]:
+    return {normalise_column(h): h for h in table.header if h}
+
+
+def overlay(base: Mapping[str, str], row: FileRow) -> Cells:
+    """The library's cells with the file's non-empty cells laid over them.
+
+    A blank cell leaves the library's value alone. A note follows its value: when the file gives a
+    new value or source but has no note column, the old note is dropped.
+    """
+    cells = dict(base)
+    given = row.given
+    for column in (NAME_COLUMN, *LIST_FIELDS):
+        if given.get(column):
+            cells[column] = given[column]
+    for prop in PROPERTY_NAMES:
+        if not given.get(prop):
+            continue
+        source = given.get(f"{prop}_source", "")
+        note_column = f"{prop}_note"
+        moved = given[prop] != base.get(prop, "") or source != base.get(f"{prop}_source", "")
+        cells[prop], cells[f"{prop}_source"] = given[prop], source
+        if note_column in given:
+            cells[note_column] = given[note_column]
+        elif moved:
+            cells[note_column] = ""
+    return cells

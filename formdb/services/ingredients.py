@@ -1,0 +1,588 @@
+"""The ingredient library's use cases: import, export, list, show, add, edit, retire, history.
+
+Every function takes the caller's session (one unit of work per command, see
+``formdb.store.db.unit_of_work``) and writes nothing until every input is known to be good, so a
+rejected import or edit leaves the library exactly as it was. Each change writes one change-log
+row per field, and bumps the ingredient's version (its optimistic lock).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Mapping, Sequence
+from dataclasses import dataclass, field
+from datetime import UTC, datetime
+from pathlib import Path
+
+from sqlalchemy import select
+from sqlalchemy.orm import Session, selectinload
+from sqlalchemy.orm.exc import StaleDataError
+
+from formdb.errors import Conflict, InvalidData, NotFound
+from formdb.schemas.ingredient import (
+    PROPERTY_NAMES,
+    IngredientIn,
+    IngredientRecord,
+    name_key,
+    normalise_inci,
+)
+from formdb.schemas.vocab import Evidence, Role
+from formdb.services.ingredient_fields import (
+    EDITABLE_FIELDS,
+    NAME_COLUMN,
+    FieldProblem,
+    did_you_mean,
+    export_columns,
+    join_list,
+    normalise_column,
+    parse_list_item,
+    split_list,
+)
+from formdb.services.ingredient_rows import (
+    Cells,
+    empty_cells,
+    header_labels,
+    overlay,
+    read_ingredient_rows,
+    render_ingredient,
+    validate_cells,
+)
+from formdb.services.tables import Problem, TableProblems, raise_problems, read_table, write_table
+from formdb.store import queries
+from formdb.store.models import (
+    ChangeLogEntry,
+    Ingredient,
+    IngredientCas,
+    IngredientClass,
+    IngredientName,
+    IngredientRole,
+    PropertyValue,
+    Source,
+)
+
+ENTITY = "ingredient"
+# Source keys every library understands, created on first use when its sources table lacks them.
+SPECIAL_SOURCES: dict[str, tuple[str, str]] = {
+    "rule-of-thumb": (Evidence.RULE_OF_THUMB.value,
+                      "Rule of thumb: a trade heuristic with no published source."),
+    "from-memory": (Evidence.FROM_MEMORY.value,
+                    "Recalled from memory; check a published source before relying on it."),
+}
+_CHUNK = 500
+
+
+@dataclass(frozen=True)
+class FieldChange:
+    field: str
+    old: str
+    new: str
+
+    def describe(self) -> str:
+        return f"{self.field}: {self.old or '(none)'} -> {self.new or '(none)'}"
+
+
+@dataclass
+class ImportReport:
+    """What an import did (or, with ``dry_run``, would do)."""
+
+    file: str
+    dry_run: bool
+    added: list[str] = field(default_factory=list)
+    changed: dict[str, list[FieldChange]] = field(default_factory=dict)
+    unchanged: list[str] = field(default_factory=list)
+    notes: list[str] = field(default_factory=list)  # per-row remarks that are not problems
+
+
+@dataclass(frozen=True)
+class EditReport:
+    inci_name: str
+    version: int
+    changes: list[FieldChange]
+
+
+@dataclass(frozen=True)
+class HistoryEntry:
+    at: datetime
+    user: str
+    action: str
+    version: int | None
+    field: str | None
+    old: str | None
+    new: str | None
+    reason: str | None
+
+
+@dataclass(frozen=True)
+class IngredientDetail:
+    """What ``ingredient show`` prints: the record, its citations and its last change."""
+
+    record: IngredientRecord
+    updated_at: datetime
+    updated_by: str
+
+
+# --- reading the library -----------------------------------------------------------------------
+
+def _with_children(stmt):  # type: ignore[no-untyped-def]
+    return stmt.options(
+        selectinload(Ingredient.names), selectinload(Ingredient.cas_numbers),
+        selectinload(Ingredient.roles), selectinload(Ingredient.classes),
+        selectinload(Ingredient.values))
+
+
+def _owners(session: Session, keys: Iterable[str]) -> dict[str, Ingredient]:
+    """Name key -> the ingredient that answers to it (INCI name or synonym), children loaded."""
+    wanted = sorted(set(keys))
+    key_to_id: dict[str, int] = {}
+    for start in range(0, len(wanted), _CHUNK):
+        key_to_id.update(session.execute(
+            select(IngredientName.name_key, IngredientName.ingredient_id)
+            .where(IngredientName.name_key.in_(wanted[start:start + _CHUNK]))).tuples().all())
+    ids = sorted(set(key_to_id.values()))
+    found: dict[int, Ingredient] = {}
+    for start in range(0, len(ids), _CHUNK):
+        chunk = ids[start:start + _CHUNK]
+        stmt = _with_children(select(Ingredient).where(Ingredient.id.in_(chunk)))
+        found.update((ing.id, ing) for ing in session.scalars(stmt))
+    return {key: found[ingredient_id] for key, ingredient_id in key_to_id.items()}
+
+
+def _get(session: Session, name: str) -> Ingredient:
+    """The ingredient called ``name`` (INCI name or synonym), or NotFound with suggestions."""
+    found = _owners(session, [name_key(name)]).get(name_key(name))
+    if found is None:
+        close = queries.suggest_names(session, name)
+        guess = f"; did you mean {' or '.join(repr(c) for c in close)}?" if close else ""
+        raise NotFound(f"no ingredient {normalise_inci(name)!r} in the library{guess or '.'}",
+                       hint="`formdb ingredient list` shows the library's names")
+    return found
+
+
+def _sources(session: Session) -> dict[str, str]:
+    """Source key -> evidence kind, the special keys included."""
+    known = dict(session.execute(select(Source.key, Source.evidence)).tuples().all())
+    for key, (evidence, _citation) in SPECIAL_SOURCES.items():
+        known.setdefault(key, evidence)
+    return known
+
+
+def _citations(session: Session, ingredients: Iterable[Ingredient]) -> dict[str, str]:
+    return queries.citations_for(session, (v.source_key for i in ingredients for v in i.values))
+
+
+def _record(session: Session, ing: Ingredient) -> IngredientRecord:
+    return queries.record_from_row(ing, _citations(session, [ing]))
+
+
+def _as_input(record: IngredientRecord) -> IngredientIn:
+    return IngredientIn(
+        inci_name=record.inci_name, synonyms=record.synonyms, cas_numbers=record.cas_numbers,
+        roles=tuple(record.roles), classes=tuple(record.classes), properties=record.properties,
+        sources={p: prov.source for p, prov in record.provenance.items()},
+        notes={p: prov.note for p, prov in record.provenance.items() if prov.note})
+
+
+def _cells(session: Session, ing: Ingredient | None) -> Cells:
+    if ing is None:
+        return empty_cells()
+    return render_ingredient(_as_input(queries.record_from_row(ing, {})))
+
+
+def _active(session: Session, role: str | None, include_retired: bool) -> list[Ingredient]:
+    stmt = _with_children(select(Ingredient).order_by(Ingredient.inci_name))
+    if not include_retired:
+        stmt = stmt.where(Ingredient.retired.is_(False))
+    if role:
+        try:
+            wanted = Role(parse_list_item("roles", role))
+        except FieldProblem as exc:
+            raise InvalidData(f"--role: {exc}.", hint="give one of the roles listed") from None
+        stmt = stmt.where(Ingredient.roles.any(IngredientRole.role == wanted.value))
+    return sorted(session.scalars(stmt), key=lambda i: i.inci_name.casefold())
+
+
+def list_ingredients(session: Session, *, role: str | None = None,
+                     include_retired: bool = False) -> list[IngredientRecord]:
+    """The library's ingredients by INCI name, optionally one role only."""
+    rows = _active(session, role, include_retired)
+    citations = _citations(session, rows)
+    return [queries.record_from_row(ing, citations) for ing in rows]
+
+
+def show_ingredient(session: Session, name: str) -> IngredientDetail:
+    ing = _get(session, name)
+    return IngredientDetail(_record(session, ing), ing.updated_at, ing.updated_by)
+
+
+def ingredient_history(session: Session, name: str) -> list[HistoryEntry]:
+    """Every logged change of one ingredient, oldest first."""
+    ing = _get(session, name)
+    rows = session.scalars(
+        select(ChangeLogEntry)
+        .where(ChangeLogEntry.entity == ENTITY, ChangeLogEntry.entity_key == ing.inci_name)
+        .order_by(ChangeLogEntry.at, ChangeLogEntry.id))
+    return [HistoryEntry(r.at, r.user, r.action, r.entity_version, r.field, r.old_value,
+                         r.new_value, r.reason) for r in rows]
+
+
+# --- writing ---------------------------------------------------------------------------------
+
+def diff_cells(old: Mapping[str, str], new: Mapping[str, str]) -> list[FieldChange]:
+    """The fields whose canonical text differs, in column order."""
+    return [FieldChange(c, old.get(c, ""), new.get(c, "")) for c in export_columns()
+            if old.get(c, "") != new.get(c, "")]
+
+
+def _ensure_special_sources(session: Session, used: Iterable[str]) -> None:
+    wanted = [k for k in set(used) if k in SPECIAL_SOURCES]
+    present = set(session.scalars(select(Source.key).where(Source.key.in_(wanted))))
+    for key in sorted(set(wanted) - present):
+        evidence, citation = SPECIAL_SOURCES[key]
+        session.add(Source(key=key, citation=citation, evidence=evidence, seen="calc"))
+
+
+def _apply(ing: Ingredient, item: IngredientIn, evidence: Mapping[str, str]) -> None:
+    """Make the ORM rows of ``ing`` hold ``item``, reusing rows so unique keys never collide."""
+    want = {name_key(s): s for s in item.synonyms}
+    for row in [n for n in ing.names if not n.is_primary]:
+        if row.name_key not in want:
+            ing.names.remove(row)
+        elif row.name != want[row.name_key]:
+            row.name = want[row.name_key]
+    have = {n.name_key for n in ing.names}
+    ing.names.extend(IngredientName(name=s, name_key=k, is_primary=False)
+                     for k, s in want.items() if k not in have)
+    _sync(ing.cas_numbers, "cas", set(item.cas_numbers), lambda v: IngredientCas(cas=v))
+    _sync(ing.roles, "role", {r.value for r in item.roles}, lambda v: IngredientRole(role=v))
+    _sync(ing.classes, "class_name", set(item.classes), lambda v: IngredientClass(class_name=v))
+    stored = {v.property: v for v in ing.values}
+    for prop in PROPERTY_NAMES:
+        value = getattr(item.properties, prop)
+        row = stored.get(prop)
+        if value is None:
+            if row is not None:
+                ing.values.remove(row)
+            continue
+        num, text = queries.property_columns(prop, value)
+        source = item.sources[prop]
+        if row is None:
+            row = PropertyValue(property=prop)
+            ing.values.append(row)
+        row.value_num, row.value_text, row.source_key = num, text, source
+        row.evidence, row.note = evidence[source], item.notes.get(prop)
+
+
+def _sync(rows: list, attr: str, want: set[str], make) -> None:  # type: ignore[no-untyped-def]
+    for row in list(rows):
+        if getattr(row, attr) not in want:
+            rows.remove(row)
+    have = {getattr(row, attr) for row in rows}
+    rows.extend(make(v) for v in sorted(want - have))
+
+
+def _log(session: Session, ing: Ingredient, changes: Sequence[FieldChange], *, action: str,
+         user: str, reason: str | None, at: datetime) -> None:
+    for change in changes:
+        session.add(ChangeLogEntry(
+            at=at, user=user, entity=ENTITY, entity_key=ing.inci_name,
+            entity_version=ing.version, action=action, field=change.field,
+            old_value=change.old or None, new_value=change.new or None, reason=reason))
+
+
+def _flush(session: Session, names: Sequence[str]) -> None:
+    """Flush; a concurrent edit (the version moved under us) becomes a Conflict naming who."""
+    try:
+        session.flush()
+    except StaleDataError:
+        session.rollback()
+        latest = session.scalars(
+            select(ChangeLogEntry).where(ChangeLogEntry.entity == ENTITY,
+                                         ChangeLogEntry.entity_key.in_(names))
+            .order_by(ChangeLogEntry.at.desc(), ChangeLogEntry.id.desc()).limit(1)).first()
+        who = (f" by {latest.user} at {_when(latest.at)} (now version {latest.entity_version})"
+               if latest else "")
+        raise Conflict(f"{', '.join(names)} was changed{who} while this change was being made; "
+                       "nothing was written.",
+                       hint="show it again and repeat your change") from None
+
+
+def _when(at: datetime) -> str:
+    if at.tzinfo is None:  # SQLite hands back naive datetimes; they were written as UTC
+        at = at.replace(tzinfo=UTC)
+    return at.astimezone(UTC).strftime("%Y-%m-%d %H:%M:%S UTC")
+
+
+def _write(session: Session, ing: Ingredient | None, item: IngredientIn,
+           changes: Sequence[FieldChange], evidence: Mapping[str, str], *, action: str,
+           user: str, reason: str | None, now: datetime) -> Ingredient:
+    if ing is None:
+        ing = Ingredient(inci_name=item.inci_name, retired=False, created_at=now, updated_at=now,
+                         updated_by=user)
+        ing.names.append(IngredientName(name=item.inci_name, name_key=name_key(item.inci_name),
+                                        is_primary=True))
+        session.add(ing)
+    _apply(ing, item, evidence)
+    ing.updated_at, ing.updated_by = now, user  # an UPDATE of the row: the version moves on
+    _flush(session, [ing.inci_name])
+    _log(session, ing, changes, action=action, user=user, reason=reason, at=now)
+    return ing
+
+
+# --- import / export ---------------------------------------------------------------------------
+
+def _names_of(given: Mapping[str, str]) -> list[tuple[str, str]]:
+    names = [(NAME_COLUMN, normalise_inci(given.get(NAME_COLUMN, "")))]
+    names += [("synonyms", normalise_inci(s)) for s in split_list(given.get("synonyms", ""))]
+    return [(column, n) for column, n in names if n]
+
+
+def import_table(session: Session, path: Path, *, user: str, reason: str | None,
+                 action: str = "import", dry_run: bool = False) -> ImportReport:
+    """Upsert every row of a CSV/XLSX ingredient table, all or nothing.
+
+    Rows match library ingredients by INCI name or synonym (case and spacing ignored); a blank
+    cell leaves the library's value alone; a non-blank list cell replaces the list. Every problem
+    of every row is collected first and raised together as TableProblems, before anything is
+    written. ``dry_run`` computes the same report and writes nothing.
+    """
+    table = read_table(path)
+    rows, problems = read_ingredient_rows(table)
+    labels = header_labels(table)
+    sources = _sources(session)
+    owners = _owners(session, (name_key(n) for r in rows for _c, n in _names_of(r.given)))
+    report = ImportReport(str(path), dry_run)
+    first_use: dict[str, tuple[int, str]] = {}
+    described: dict[int, int] = {}
+    plans: list[tuple[Ingredient | None, IngredientIn, list[FieldChange]]] = []
+
+    def problem(row: int, column: str | None, text: str) -> None:
+        problems.append(Problem(table.file, text, row, labels.get(column, column)
+                                if column else None))
+
+    for row in rows:
+        names = _names_of(row.given)
+        for column, n in names:
+            earlier = first_use.setdefault(name_key(n), (row.row, column))
+            if earlier[0] != row.row:
+                problem(row.row, column, f"{n!r} is already used on row {earlier[0]} "
+                        f"(column {labels.get(earlier[1], earlier[1])}); each name may appear once")
+        target = owners.get(name_key(names[0][1])) if names and names[0][0] == NAME_COLUMN \
+            else None
+        if target is not None:
+            if target.id in described:
+                problem(row.row, NAME_COLUMN, f"{names[0][1]!r} is the library's "
+                        f"{target.inci_name!r}, which row {described[target.id]} already describes")
+            described.setdefault(target.id, row.row)
+        for column, n in names:
+            owner = owners.get(name_key(n))
+            if owner is not None and owner is not target:
+                kind = "its INCI name" if name_key(owner.inci_name) == name_key(n) \
+                    else "a synonym"
+                problem(row.row, column, f"{n!r} already belongs to another library "
+                        f"ingredient, {owner.inci_name!r} (as {kind}); a name may belong to one "
+                        "ingredient only")
+        base = _cells(session, target)
+        cells = overlay(base, row)
+        if target is not None:
+            cells[NAME_COLUMN] = target.inci_name
+            given = normalise_inci(row.given.get(NAME_COLUMN, ""))
+            if name_key(given) != name_key(target.inci_name):
+                report.notes.append(f"row {row.row}: {given!r} is a synonym of the library's "
+                                    f"{target.inci_name!r}; the row updates that ingredient")
+                if name_key(given) not in {name_key(s) for s in split_list(cells["synonyms"])}:
+                    cells["synonyms"] = join_list([*split_list(cells["synonyms"]), given])
+            if target.retired:
+                report.notes.append(f"row {row.row}: {target.inci_name!r} is retired; its values "
+                                    "are updated but it stays retired")
+        item, cell_problems = validate_cells(cells, sources, row.source_columns)
+        for column, text in cell_problems:
+            problem(row.row, column, text)
+        if item is not None:
+            plans.append((target, item, diff_cells(base, render_ingredient(item))))
+    if not rows:
+        report.notes.append("the file has a header but no data rows; nothing to import")
+    raise_problems(problems, hint="fix the file and import it again; nothing was written")
+
+    for target, item, changes in plans:
+        if target is None:
+            report.added.append(item.inci_name)
+        elif changes:
+            report.changed[target.inci_name] = changes
+        else:
+            report.unchanged.append(target.inci_name)
+    if dry_run:
+        return report
+    now = datetime.now(UTC)
+    _ensure_special_sources(session, (s for _t, item, _c in plans for s in item.sources.values()))
+    why = reason or f"imported from {path.name}"
+    for target, item, changes in plans:
+        if changes:
+            _write(session, target, item, changes, sources, action=action, user=user,
+                   reason=why, now=now)
+    session.flush()
+    return report
+
+
+def export_table(session: Session, path: Path, *, role: str | None = None,
+                 include_retired: bool = False) -> int:
+    """Write the library (or one role) as CSV or XLSX in the import columns; returns the rows."""
+    columns = export_columns()
+    rows = [[cells[c] for c in columns] for cells in
+            (_cells(session, ing) for ing in _active(session, role, include_retired))]
+    write_table(path, columns, rows, sheet="ingredients")
+    return len(rows)
+
+
+# --- add / edit / retire ------------------------------------------------------------------------
+
+def _field(name: str) -> str:
+    column = normalise_column(name)
+    allowed = [*EDITABLE_FIELDS, *(f"{p}_source" for p in PROPERTY_NAMES),
+               *(f"{p}_note" for p in PROPERTY_NAMES)]
+    if column not in allowed:
+        raise InvalidData(f"--set: {name!r} is not a field of an ingredient"
+                          f"{did_you_mean(column, allowed) or '.'}",
+                          hint=f"fields are {', '.join(EDITABLE_FIELDS)} (and P_source, P_note)")
+    return column
+
+
+def _lay(cells: Cells, assignments: Sequence[tuple[str, str]], source: str | None) -> Cells:
+    """``--set field=value`` laid over cells; a new value takes ``--source`` and drops its note."""
+    out = dict(cells)
+    fields = [(_field(f), v.strip()) for f, v in assignments]
+    explicit = {f for f, _v in fields}
+    for column, value in fields:
+        out[column] = value
+        if column not in PROPERTY_NAMES:
+            continue
+        if not value:
+            out[f"{column}_source"] = out[f"{column}_note"] = ""
+            continue
+        if source:
+            out[f"{column}_source"] = source
+        elif f"{column}_source" not in explicit:
+            raise InvalidData(f"--set {column}={value}: a new value needs its source.",
+                              hint="add --source KEY (a key of the sources table, or "
+                                   "rule-of-thumb / from-memory)")
+        if f"{column}_note" not in explicit:
+            out[f"{column}_note"] = ""
+    return out
+
+
+def _validated(cells: Cells, sources: Mapping[str, str], label: str) -> IngredientIn:
+    item, problems = validate_cells(cells, sources)
+    if item is None:
+        raise TableProblems([f"{label}, field {c}: {t}" if c else f"{label}: {t}"
+                             for c, t in problems], hint="correct the value and try again")
+    return item
+
+
+def _check_names_free(session: Session, item: IngredientIn, own: Ingredient | None) -> None:
+    owners = _owners(session, [name_key(n) for n in (item.inci_name, *item.synonyms)])
+    for n in (item.inci_name, *item.synonyms):
+        owner = owners.get(name_key(n))
+        if owner is not None and owner is not own:
+            raise Conflict(f"{n!r} already belongs to the library's {owner.inci_name!r}.",
+                           hint="a name may belong to one ingredient only; "
+                                f"use `formdb ingredient edit {owner.inci_name!r}` to change it")
+
+
+def add_ingredient(session: Session, name: str, assignments: Sequence[tuple[str, str]] = (), *,
+                   user: str, source: str | None = None, synonyms: Sequence[str] = (),
+                   cas: Sequence[str] = (), roles: Sequence[str] = (),
+                   reason: str | None = None) -> EditReport:
+    """Add a new ingredient; its name and synonyms must be new to the library."""
+    cells = empty_cells()
+    cells[NAME_COLUMN] = name
+    for column, values in (("synonyms", synonyms), ("cas", cas), ("roles", roles)):
+        if values:
+            cells[column] = join_list([*split_list(cells[column]), *values])
+    cells = _lay(cells, assignments, source)
+    sources = _sources(session)
+    item = _validated(cells, sources, f"add {normalise_inci(name)!r}")
+    _check_names_free(session, item, None)
+    changes = diff_cells(empty_cells(), render_ingredient(item))
+    _ensure_special_sources(session, item.sources.values())
+    ing = _write(session, None, item, changes, sources, action="add", user=user, reason=reason,
+                 now=datetime.now(UTC))
+    return EditReport(ing.inci_name, ing.version, changes)
+
+
+def _check_version(session: Session, ing: Ingredient, expect_version: int | None) -> None:
+    if expect_version is None or expect_version == ing.version:
+        return
+    since = session.scalars(
+        select(ChangeLogEntry).where(ChangeLogEntry.entity == ENTITY,
+                                     ChangeLogEntry.entity_key == ing.inci_name,
+                                     ChangeLogEntry.entity_version > expect_version)
+        .order_by(ChangeLogEntry.at.desc(), ChangeLogEntry.id.desc())).all()
+    if expect_version > ing.version:
+        raise Conflict(f"{ing.inci_name!r} is at version {ing.version}; version {expect_version} "
+                       "does not exist yet.", hint="show it again and repeat your change")
+    who = sorted({e.user for e in since}) or [ing.updated_by]
+    last = since[0].at if since else ing.updated_at
+    raise Conflict(f"{ing.inci_name!r} was changed since version {expect_version} by "
+                   f"{', '.join(who)} (last at {_when(last)}); it is now version {ing.version}.",
+                   hint=f"run `formdb ingredient show {ing.inci_name!r}` and repeat your edit "
+                        f"with --expect-version {ing.version}")
+
+
+def edit_ingredient(session: Session, name: str, assignments: Sequence[tuple[str, str]], *,
+                    user: str, reason: str | None = None, source: str | None = None,
+                    expect_version: int | None = None) -> EditReport:
+    """Change fields of one ingredient; a published value changes only with a reason."""
+    if not assignments:
+        raise InvalidData("nothing to change.", hint="give at least one --set field=value")
+    ing = _get(session, name)
+    _check_version(session, ing, expect_version)
+    base = _cells(session, ing)
+    sources = _sources(session)
+    item = _validated(_lay(base, assignments, source), sources, f"edit {ing.inci_name!r}")
+    _check_names_free(session, item, ing)
+    changes = diff_cells(base, render_ingredient(item))
+    if not changes:
+        return EditReport(ing.inci_name, ing.version, [])
+    if not (reason and reason.strip()):
+        for change in changes:
+            prop = change.field.removesuffix("_source").removesuffix("_note")
+            old_source = base.get(f"{prop}_source", "")
+            if old_source and sources.get(old_source) == Evidence.PUBLISHED.value:
+                raise InvalidData(
+                    f"{prop} of {ing.inci_name!r} is a published value (source {old_source}); "
+                    "changing it needs a reason.", hint='add --reason "why the value changes"')
+    _ensure_special_sources(session, item.sources.values())
+    _write(session, ing, item, changes, sources, action="edit", user=user, reason=reason,
+           now=datetime.now(UTC))
+    return EditReport(ing.inci_name, ing.version, changes)
+
+
+def _set_retired(session: Session, name: str, retired: bool, *, user: str,
+                 reason: str) -> EditReport:
+    if not reason.strip():
+        raise InvalidData("a reason is required.", hint='add --reason "why"')
+    ing = _get(session, name)
+    if ing.retired == retired:
+        return EditReport(ing.inci_name, ing.version, [])
+    change = FieldChange("retired", "yes" if ing.retired else "no", "yes" if retired else "no")
+    now = datetime.now(UTC)
+    ing.retired, ing.updated_at, ing.updated_by = retired, now, user
+    _flush(session, [ing.inci_name])
+    _log(session, ing, [change], action="retire" if retired else "restore", user=user,
+         reason=reason, at=now)
+    return EditReport(ing.inci_name, ing.version, [change])
+
+
+def retire_ingredient(session: Session, name: str, *, user: str, reason: str) -> EditReport:
+    """Take an ingredient out of use; it stays in the library (and its history) for old formulas."""
+    return _set_retired(session, name, True, user=user, reason=reason)
+
+
+def restore_ingredient(session: Session, name: str, *, user: str, reason: str) -> EditReport:
+    return _set_retired(session, name, False, user=user, reason=reason)
+
+
+__all__ = [
+    "EditReport", "FieldChange", "HistoryEntry", "ImportReport", "IngredientDetail",
+    "add_ingredient", "diff_cells", "edit_ingredient", "export_table", "import_table",
+    "ingredient_history", "list_ingredients", "restore_ingredient", "retire_ingredient",
+    "show_ingredient",
+]
