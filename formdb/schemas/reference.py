@@ -73,4 +73,7 @@ class ReferenceData(BaseModel):
     soap_pairs: tuple[SoapPair, ...] = ()
     # the soap ingredients named by soap_pairs, resolved, keyed by their INCI name
     soaps: dict[str, IngredientRecord] = {}
+    # the parent acids named by "as-acid" limits (acid_inci), resolved, keyed by their INCI name;
+    # their molar mass converts a salt's % to % as acid
+    acids: dict[str, IngredientRecord] = {}
     sources: dict[str, str] = {}  # key -> citation

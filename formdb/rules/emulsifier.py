@@ -1,0 +1,55 @@
+"""EMU01: oil and water together with nothing to emulsify them."""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Mapping
+from typing import Any
+
+from formdb.rules.base import Rule
+from formdb.rules.registry import register
+from formdb.schemas.findings import Finding
+from formdb.schemas.formula import ResolvedFormula
+from formdb.schemas.reference import ReferenceData
+from formdb.schemas.result import FormulaFacts
+from formdb.schemas.vocab import Severity
+
+
+@register
+class NoEmulsifier(Rule):
+    """Oil and water phases are both present but there is no emulsifier at all.
+
+    Flags: a formula with an oil phase and a water phase and no emulsifier: no line with the
+    emulsifier role and no soap formed in the batch from a fatty acid and a base.
+    Why: without an emulsifier the interface created by mixing is not held; the drops coalesce
+    and the phases separate within hours. Co-emulsifiers (fatty alcohols, glyceryl stearate)
+    thicken and stabilise a film but do not emulsify on their own. A soap made in place
+    (stearic acid with triethanolamine) does count.
+    Fails: Water 75, Paraffinum Liquidum 20, Cetyl Alcohol 5.
+    Passes: Water 78, Stearic Acid 18, Triethanolamine 1.2, Glycerin 2.8 (triethanolamine
+    stearate forms in the batch).
+    Options: none.
+    """
+
+    code = "EMU01"
+    name = "no-emulsifier"
+    groups = ("emulsion",)
+    default_severity = Severity.ERROR
+
+    def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,
+              options: Mapping[str, Any]) -> Iterable[Finding]:
+        phases = facts.phases
+        if facts.emulsifiers or phases.oil_percent <= 0 or phases.water_percent <= 0:
+            return
+        oils = [lf.inci for lf in facts.lines if lf.phase == "oil"]
+        co = list(facts.co_emulsifiers)
+        verb = "is a co-emulsifier" if len(co) == 1 else "are co-emulsifiers"
+        extra = f"; {', '.join(co)} {verb} and cannot emulsify alone" if co else ""
+        yield self.finding(
+            self.default_severity,
+            f"{phases.oil_percent:.4g} % oil phase and {phases.water_percent:.4g} % water phase "
+            f"with no emulsifier{extra}",
+            ingredients=oils,
+            values={"oil_percent": phases.oil_percent, "water_percent": phases.water_percent,
+                    "emulsifier_percent": 0.0},
+            advice="add an emulsifier system matched to the oil phase's required HLB "
+                   "(`formdb blend`), or a fatty acid with a base to form a soap in the batch")

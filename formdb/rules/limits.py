@@ -1,0 +1,293 @@
+"""LIM01 and LIM02: concentration limits of regulatory lists, and entries that exclude each other.
+
+Limit records are data (seed_data/limits.csv); these rules only apply them: the jurisdiction
+chosen by the profile, the formula's category (leave-on / rinse-off, or rows for "any"), rows for
+a product type when the formula names that product (they replace the general rows of the same
+entry), "as acid" conversion of salts by molar mass, sums over groups, and max 0 = not allowed.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass
+from typing import Any
+
+from formdb.rules.base import Option, Rule
+from formdb.rules.registry import register
+from formdb.schemas.findings import Finding
+from formdb.schemas.formula import ResolvedFormula, ResolvedLine
+from formdb.schemas.ingredient import IngredientRecord, name_key
+from formdb.schemas.reference import LimitRecord, ReferenceData
+from formdb.schemas.result import FormulaFacts
+from formdb.schemas.vocab import Severity
+
+_EPS = 1e-9
+JURISDICTION = Option(str, "EU", "jurisdiction whose limit lists apply (as in limits.csv)")
+
+
+def _keys(ing: IngredientRecord) -> set[str]:
+    return {name_key(ing.inci_name)} | {name_key(s) for s in ing.synonyms}
+
+
+def lines_in(row: LimitRecord, formula: ResolvedFormula) -> list[ResolvedLine]:
+    """The formula lines that are one of the row's ingredients."""
+    wanted = {name_key(n) for n in row.ingredients}
+    return [ln for ln in formula.lines if _keys(ln.ingredient) & wanted]
+
+
+def applicable_rows(reference: ReferenceData, formula: ResolvedFormula,
+                    jurisdiction: str) -> list[LimitRecord]:
+    """Rows of the jurisdiction for the formula's category; product rows replace general ones."""
+    body = formula.formula
+    product = (body.product or "").strip().casefold()
+    groups: dict[tuple[str, str], list[LimitRecord]] = {}
+    for row in reference.limits:
+        if row.jurisdiction.casefold() != jurisdiction.casefold():
+            continue
+        if row.category.casefold() not in (body.category.value, "any"):
+            continue
+        if row.product is not None and row.product.strip().casefold() != product:
+            continue
+        groups.setdefault((row.list_name, row.entry), []).append(row)
+    out = []
+    for rows in groups.values():
+        specific = [r for r in rows if r.product is not None]
+        out.extend(specific or rows)
+    return out
+
+
+def _record(reference: ReferenceData, formula: ResolvedFormula,
+            inci: str) -> IngredientRecord | None:
+    wanted = name_key(inci)
+    for ln in formula.lines:
+        if wanted in _keys(ln.ingredient):
+            return ln.ingredient
+    for key, record in reference.acids.items():
+        if name_key(key) == wanted or wanted in _keys(record):
+            return record
+    return None
+
+
+@dataclass(frozen=True)
+class _Amount:
+    """One line's amount on the row's basis; ``factor`` None when it cannot be converted."""
+
+    line: ResolvedLine
+    factor: float | None
+    missing: tuple[str, ...] = ()
+
+    @property
+    def value(self) -> float | None:
+        return None if self.factor is None else self.line.percent * self.factor
+
+
+def _amount(row: LimitRecord, line: ResolvedLine, reference: ReferenceData,
+            formula: ResolvedFormula) -> _Amount:
+    if row.basis != "as-acid" or not row.acid_inci:
+        return _Amount(line, 1.0)
+    if name_key(row.acid_inci) in _keys(line.ingredient):
+        return _Amount(line, 1.0)
+    acid = _record(reference, formula, row.acid_inci)
+    salt_mass = line.ingredient.p.molar_mass
+    acid_mass = acid.p.molar_mass if acid is not None else None
+    if salt_mass is None or acid_mass is None:
+        missing = [n for n, m in ((line.inci, salt_mass), (row.acid_inci, acid_mass)) if m is None]
+        return _Amount(line, None, tuple(missing))
+    return _Amount(line, acid_mass / salt_mass)
+
+
+def _where(row: LimitRecord) -> str:
+    return f"{row.jurisdiction} {row.list_name}, entry {row.entry}"
+
+
+def _base_values(row: LimitRecord) -> dict[str, float | str | None]:
+    return {"entry": row.entry, "list_name": row.list_name, "jurisdiction": row.jurisdiction,
+            "category": row.category, "product": row.product, "max_percent": row.max_percent,
+            "basis": row.basis, "aggregate": row.aggregate, "conditions": row.conditions,
+            "list_date": row.list_date.isoformat(), "source": row.source}
+
+
+@register
+class ConcentrationLimit(Rule):
+    """An ingredient, or a group summed, is over the limit of a regulatory list.
+
+    Flags: a line over the maximum % of a limit record for the profile's jurisdiction and the
+    formula's category (leave-on / rinse-off; rows for a product type replace the general rows
+    when the formula names that product). Salts limited "as acid" are converted by molar mass
+    (% x M(acid) / M(salt)); "sum" records add up every listed ingredient present (paraben
+    groups); a maximum of 0 means not allowed in that category. A salt without the molar masses
+    to convert is reported (info, or a warning when it is over the limit as-is).
+    Why: limits in Annexes III, V and VI of Regulation (EC) No 1223/2009 apply to the
+    ready-for-use product, many "as acid" or summed over a group; going over them makes the
+    product unlawful. The bundled limits are a dated snapshot: check the current consolidated
+    text.
+    Fails: leave-on with Sodium Benzoate 0.6 %: 0.6 x 122.12 / 144.10 = 0.508 % as benzoic acid,
+    over 0.5 % (Annex V entry 1).
+    Passes: leave-on with Sodium Benzoate 0.55 %: 0.466 % as benzoic acid.
+    Options: jurisdiction (default "EU"): which limit lists apply.
+    """
+
+    code = "LIM01"
+    name = "concentration-limit"
+    groups = ("regulatory",)
+    default_severity = Severity.ERROR
+    options = {"jurisdiction": JURISDICTION}
+
+    def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,
+              options: Mapping[str, Any]) -> Iterable[Finding]:
+        jurisdiction = options["jurisdiction"]
+        if not any(r.jurisdiction.casefold() == jurisdiction.casefold()
+                   for r in reference.limits):
+            yield self.finding(
+                Severity.INFO,
+                f"no limit records for jurisdiction {jurisdiction!r}: concentration limits "
+                "were not checked", values={"jurisdiction": jurisdiction},
+                advice="load the limit lists for this jurisdiction, or choose another one in "
+                       "the profile ([rules.LIM01] jurisdiction)")
+            return
+        for row in applicable_rows(reference, formula, jurisdiction):
+            present = lines_in(row, formula)
+            if not present:
+                continue
+            amounts = [_amount(row, ln, reference, formula) for ln in present]
+            if row.max_percent <= 0:
+                yield self._forbidden(row, present, formula)
+            elif row.aggregate == "sum":
+                yield from self._sum(row, amounts)
+            else:
+                for amount in amounts:
+                    yield from self._each(row, amount)
+
+    def _forbidden(self, row: LimitRecord, present: list[ResolvedLine],
+                   formula: ResolvedFormula) -> Finding:
+        names = [ln.inci for ln in present]
+        values = _base_values(row)
+        values["percent"] = sum(ln.percent for ln in present)
+        where = row.product or f"{formula.formula.category.value} products"
+        return self.finding(
+            self.default_severity,
+            f"{' + '.join(names)} is not allowed in {where} ({_where(row)})",
+            ingredients=names, values=values,
+            advice=f"remove {' and '.join(names)}; choose an ingredient allowed in {where}")
+
+    def _each(self, row: LimitRecord, amount: _Amount) -> Iterable[Finding]:
+        line = amount.line
+        values = _base_values(row)
+        values["percent"] = line.percent
+        if amount.value is None:
+            yield self._unconvertible(row, [amount], values)
+            return
+        values["percent_as_acid" if row.basis == "as-acid" else "percent_on_basis"] = \
+            amount.value
+        values["conversion_factor"] = amount.factor
+        if amount.value <= row.max_percent + _EPS:
+            return
+        as_acid = ""
+        if row.basis == "as-acid" and amount.factor != 1.0:
+            as_acid = f" = {amount.value:.3g} % as {row.acid_inci}"
+        highest = row.max_percent / amount.factor if amount.factor else row.max_percent
+        yield self.finding(
+            self.default_severity,
+            f"{line.inci} {line.percent:g} %{as_acid} is over the {row.max_percent:g} % limit "
+            f"for {row.product or row.category} ({_where(row)})",
+            ingredients=[line.inci], values=values,
+            advice=f"reduce {line.inci} to at most {highest:.3g} %"
+                   + (f" ({row.conditions})" if row.conditions else ""))
+
+    def _sum(self, row: LimitRecord, amounts: list[_Amount]) -> Iterable[Finding]:
+        values = _base_values(row)
+        names = [a.line.inci for a in amounts]
+        values["percent"] = sum(a.line.percent for a in amounts)
+        if any(a.value is None for a in amounts):
+            yield self._unconvertible(row, amounts, values)
+            return
+        total = sum(a.value for a in amounts if a.value is not None)
+        values["total_percent"] = total
+        if total <= row.max_percent + _EPS:
+            return
+        basis = " as acid" if row.basis == "as-acid" else ""
+        parts = " + ".join(f"{a.line.inci} {a.value:.3g}" for a in amounts if a.value is not None)
+        yield self.finding(
+            self.default_severity,
+            f"{parts} = {total:.3g} %{basis} together, over the {row.max_percent:g} % limit of "
+            f"the sum for {row.product or row.category} ({_where(row)})",
+            ingredients=names, values=values,
+            advice=f"bring the total of {', '.join(names)} to at most {row.max_percent:g} %"
+                   f"{basis}")
+
+    def _unconvertible(self, row: LimitRecord, amounts: list[_Amount],
+                       values: dict[str, float | str | None]) -> Finding:
+        missing = sorted({m for a in amounts for m in a.missing})
+        names = [a.line.inci for a in amounts]
+        as_is = sum(a.line.percent for a in amounts)
+        values["missing_molar_mass"] = ", ".join(missing)
+        over = as_is > row.max_percent + _EPS
+        return self.finding(
+            Severity.WARNING if over else Severity.INFO,
+            f"{' + '.join(names)} cannot be expressed as {row.acid_inci} for {_where(row)}: "
+            f"no molar mass for {', '.join(missing)}"
+            + (f"; as-is {as_is:g} % is over the {row.max_percent:g} % limit" if over else ""),
+            ingredients=names, values=values,
+            advice=f"add the molar mass of {', '.join(missing)} to the library so the limit "
+                   "can be checked as acid")
+
+
+@register
+class ExclusiveEntries(Rule):
+    """Two regulatory entries that may not be used in the same product are both present.
+
+    Flags: an ingredient of one limit entry present together with an ingredient of an entry the
+    first one excludes (the ``excludes`` column of the limit records), in the profile's
+    jurisdiction, whatever the category.
+    Why: some preservative entries are mutually exclusive by law, e.g. methylisothiazolinone
+    alone (Annex V entry 57) and the 3:1 methylchloroisothiazolinone/methylisothiazolinone
+    mixture (Annex V entry 39), Regulation (EU) No 1003/2014.
+    Fails: a rinse-off with Methylisothiazolinone and Methylchloroisothiazolinone (and
+    Methylisothiazolinone).
+    Passes: a rinse-off with Methylisothiazolinone alone.
+    Options: jurisdiction (default "EU"): which limit lists apply.
+    """
+
+    code = "LIM02"
+    name = "exclusive-entries"
+    groups = ("regulatory",)
+    default_severity = Severity.ERROR
+    options = {"jurisdiction": JURISDICTION}
+
+    def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,
+              options: Mapping[str, Any]) -> Iterable[Finding]:
+        jurisdiction = options["jurisdiction"].casefold()
+        rows = [r for r in reference.limits if r.jurisdiction.casefold() == jurisdiction]
+        present: dict[str, list[str]] = {}
+        labels: dict[str, LimitRecord] = {}
+        for row in rows:
+            names = [ln.inci for ln in lines_in(row, formula)]
+            if names:
+                key = row.entry.casefold()
+                present.setdefault(key, [])
+                present[key].extend(n for n in names if n not in present[key])
+                labels.setdefault(key, row)
+        seen: set[tuple[str, str]] = set()
+        for row in rows:
+            key = row.entry.casefold()
+            if key not in present:
+                continue
+            for other in row.excludes:
+                other_key = other.casefold()
+                pair = tuple(sorted((key, other_key)))
+                if other_key not in present or pair in seen or other_key == key:
+                    continue
+                seen.add(pair)  # type: ignore[arg-type]
+                first, second = present[key], present[other_key]
+                if set(first) == set(second):
+                    continue  # one ingredient listed under both entries is not two entries
+                other_row = labels[other_key]
+                yield self.finding(
+                    self.default_severity,
+                    f"{', '.join(first)} ({_where(row)}) and {', '.join(second)} "
+                    f"({_where(other_row)}) may not be used in the same product",
+                    ingredients=[*first, *second],
+                    values={"entry": row.entry, "excluded_entry": other_row.entry,
+                            "list_name": row.list_name, "jurisdiction": row.jurisdiction,
+                            "source": row.source, "list_date": row.list_date.isoformat()},
+                    advice="keep one of the two entries and remove the other")

@@ -1,0 +1,328 @@
+"""The result of checking one formula: the hand-worked numbers (``FormulaFacts``) and the findings.
+
+``FormulaFacts`` holds what a chemist would work out on paper before a batch, computed once per
+formula by ``formdb.rules.facts`` and shown by every report. Masses are grams per 100 g of the
+formula as written (so equal to % w/w); volumes are mL for those grams. A number that cannot be
+worked out is ``None`` and the reason is in ``gaps`` (missing library values) or ``notes``.
+Numbers are kept at full precision; ``round_value`` rounds them only at output.
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any, Literal
+
+from pydantic import BaseModel, ConfigDict, Field
+
+from formdb.schemas.findings import Finding
+from formdb.schemas.vocab import Category, EmulsionType, IonicCharacter, Solubility
+
+PhaseName = Literal["oil", "water", "none"]
+
+# Default surface load used when the formula states none: the middle of the 1-4 mg/m2 typical of
+# small-molecule surfactants and proteins (from memory; formdb.science.interface keeps the same
+# figure as TYPICAL_SURFACE_EXCESS_MG_M2, and a test holds the two equal).
+DEFAULT_SURFACE_EXCESS_MG_M2 = 2.0
+DEFAULT_SURFACE_EXCESS_SOURCE = ("from memory: the middle of the 1-4 mg/m2 typical of small-"
+                                 "molecule surfactants and proteins at an oil-water interface")
+# Default droplet diameter: cosmetic creams and lotions mostly have drops of 1-10 um
+# (rule of thumb).
+DEFAULT_DROPLET_DIAMETER_UM = 5.0
+
+
+class _Frozen(BaseModel):
+    model_config = ConfigDict(frozen=True, extra="forbid")
+
+
+class FactsSettings(_Frozen):
+    """The assumptions behind the facts; a profile's ``[facts]`` table may change them.
+
+    ``hlb_tolerance`` is not set here by a profile: the engine copies HLB01's ``tolerance``
+    option into it, so the band a report shows is the band the rule judges.
+    """
+
+    hlb_tolerance: float = Field(1.0, ge=0, le=10)
+    hlb_wo_max: float = Field(7.0, ge=0, le=20)  # Griffin 1949: W/O emulsifiers about 3-6
+    hlb_ow_min: float = Field(8.0, ge=0, le=20)  # Griffin 1949: O/W emulsifiers about 8-16/18
+    bancroft_margin: float = Field(0.1, ge=0, lt=1)
+    droplet_diameter_um: float = Field(DEFAULT_DROPLET_DIAMETER_UM, gt=0, le=10000)
+    droplet_diameter_source: str = "rule of thumb: creams and lotions mostly have 1-10 um drops"
+    surface_excess_mg_m2: float = Field(DEFAULT_SURFACE_EXCESS_MG_M2, gt=0, le=100)
+    surface_excess_source: str = DEFAULT_SURFACE_EXCESS_SOURCE
+
+
+class LineFacts(_Frozen):
+    """Where one formula line goes and how much of it stays there."""
+
+    line_no: int
+    inci: str
+    percent: float
+    phase: PhaseName
+    phase_reason: str  # e.g. "solubility: oil", "role: humectant"
+    density: float | None  # g/mL, from the library
+    volume_ml: float | None  # volume of what stays in the phase (None without a density)
+    remaining_percent: float  # what is left in its phase after soap formation
+    emulsifier: bool  # counted in the emulsifier system
+    required_hlb_member: bool  # counted in the oil phase's required HLB
+
+
+class EmulsifierFacts(_Frozen):
+    """One member of the emulsifier system (a formula line, or soap formed in the batch)."""
+
+    inci: str
+    percent: float
+    hlb: float | None
+    solubility: Solubility | None
+    ionic_character: IonicCharacter | None
+    share: float  # fraction of the emulsifier system's mass
+    formed_in_place: bool = False
+    line_no: int | None = None  # None for soap formed in the batch
+    side: Literal["water", "oil"] | None = None  # Bancroft's side (None: not counted)
+
+
+class SoapFacts(_Frozen):
+    """A fatty acid neutralised by a base in the batch, worked out from the moles."""
+
+    acid: str
+    base: str
+    soap: str  # the library soap's INCI name, or a description when no soap pair matches
+    soap_in_library: bool
+    soap_percent: float
+    acid_used_percent: float
+    base_used_percent: float
+    acid_left_percent: float
+    base_left_percent: float
+    water_formed_percent: float
+    limiting: str  # "acid", "base" or "neither" (exact equivalence)
+    cation_valence: int | None
+    favours: EmulsionType | None  # monovalent soaps O/W, divalent and trivalent W/O
+    hlb: float | None
+    source: str | None  # the soap pair's source key, when one matched
+    acid_line_no: int
+    base_line_no: int
+    classes: tuple[str, ...] = ("carboxylate soap",)  # compatibility classes (ION01)
+
+
+class RequiredHlbFacts(_Frozen):
+    """Required HLB of the oil phase for one emulsion type (weight average over known values)."""
+
+    emulsion_type: EmulsionType
+    value: float | None
+    covered_percent: float  # mass of oil-phase ingredients that had a value
+    members_percent: float  # mass of all ingredients counted in the oil phase's need
+    missing: tuple[str, ...] = ()  # counted ingredients without a value for this type
+
+
+class BlendSolution(_Frozen):
+    """The proportions of the formula's own emulsifiers that would give the required HLB."""
+
+    target_hlb: float
+    emulsifiers: tuple[str, ...]
+    hlbs: tuple[float, ...]
+    reachable: bool
+    reachable_low: float
+    reachable_high: float
+    fractions: tuple[float, ...] | None = None  # weight fractions of the system, same order
+    percents: tuple[float, ...] | None = None  # at the system's present total %
+    method: str = ""
+
+
+class PhaseFacts(_Frozen):
+    """Masses and volumes of the two liquid phases (per 100 g of formula)."""
+
+    oil_percent: float
+    water_percent: float
+    other_percent: float  # insoluble solids and lines that fit neither phase
+    oil_volume_ml: float | None
+    water_volume_ml: float | None
+    oil_density: float | None  # g/mL, mass / volume of the phase
+    water_density: float | None
+    missing_density: tuple[str, ...] = ()
+    # lines without a density whose volume was estimated at their phase's mean density
+    estimated_percent: float = 0.0
+    neither: tuple[str, ...] = ()
+
+
+class InterfaceFacts(_Frozen):
+    """Interface created at the droplet size, and the emulsifier needed to cover it."""
+
+    droplet_diameter_um: float
+    droplet_source: str
+    specific_area_m2_per_ml: float  # 6 phi / d, per mL of emulsion
+    area_m2: float  # total interface for the dispersed volume of 100 g of formula
+    surface_excess_mg_m2: float
+    surface_excess_source: str
+    emulsifier_needed_percent: float
+    emulsifier_present_percent: float
+    coverage_ratio: float | None  # present / needed
+
+
+class CreamingFacts(_Frozen):
+    """Stokes' law creaming (positive) or sedimentation (negative) speed of one droplet."""
+
+    droplet_diameter_um: float
+    dispersed_density_kg_m3: float
+    continuous_density_kg_m3: float
+    density_difference_kg_m3: float  # continuous minus dispersed
+    continuous_viscosity_mpas: float | None
+    viscosity_from: str | None  # the ingredient whose viscosity stands for the phase
+    velocity_m_s: float | None
+    velocity_mm_per_day: float | None
+
+
+class DataGap(_Frozen):
+    """A library value that is missing and the number it blocks or weakens."""
+
+    property: str
+    ingredients: tuple[str, ...]
+    blocks: str
+    detail: str = ""
+
+
+class FormulaFacts(_Frozen):
+    """The numbers a chemist works out by hand, once per formula, shown by every report."""
+
+    basis: str = "per 100 g of formula as written; masses in g (= % w/w), volumes in mL"
+    settings: FactsSettings = FactsSettings()
+    percent_total: float
+    lines: tuple[LineFacts, ...] = ()
+
+    emulsifiers: tuple[EmulsifierFacts, ...] = ()
+    emulsifier_percent: float = 0.0
+    co_emulsifiers: tuple[str, ...] = ()
+    soaps: tuple[SoapFacts, ...] = ()
+    blend_hlb: float | None = None
+    blend_hlb_covered_percent: float = 0.0  # emulsifier mass with a known HLB
+
+    required_hlb_ow: RequiredHlbFacts
+    required_hlb_wo: RequiredHlbFacts
+    working_type: EmulsionType | None = None  # the type the required HLB and phases are for
+    working_type_source: Literal["intended", "predicted"] | None = None
+    required_hlb: float | None = None
+    target_low: float | None = None
+    target_high: float | None = None
+    blend_solution: BlendSolution | None = None
+
+    water_side_emulsifier_percent: float = 0.0
+    oil_side_emulsifier_percent: float = 0.0
+    type_by_bancroft: EmulsionType | None = None
+    type_by_hlb: EmulsionType | None = None
+    predicted_type: EmulsionType | None = None
+    types_disagree: bool = False
+
+    phases: PhaseFacts
+    dispersed_phase: Literal["oil", "water"] | None = None
+    dispersed_fraction: float | None = None  # VOLUME fraction of the dispersed phase
+    packing_limit: float
+    random_close_packing: float
+    interface: InterfaceFacts | None = None
+    creaming: CreamingFacts | None = None
+
+    gaps: tuple[DataGap, ...] = ()
+    notes: tuple[str, ...] = ()
+
+
+class ProfileRef(_Frozen):
+    name: str
+    version: str
+
+
+def _finding_key(finding: Finding) -> tuple[int, str, tuple[str, ...], str]:
+    return (-finding.severity.rank, finding.rule, finding.ingredients, finding.message)
+
+
+def sort_findings(findings: list[Finding] | tuple[Finding, ...]) -> tuple[Finding, ...]:
+    """Most severe first, then by rule code, ingredients and message (a stable report order)."""
+    return tuple(sorted(findings, key=_finding_key))
+
+
+class CheckResult(_Frozen):
+    """One formula checked against one profile."""
+
+    formula: str
+    source: str
+    content_hash: str
+    category: Category
+    product: str | None = None
+    intended_type: EmulsionType | None = None
+    ph: float | None = None
+    profile: ProfileRef
+    facts: FormulaFacts
+    findings: tuple[Finding, ...] = ()
+
+    @property
+    def predicted_type(self) -> EmulsionType | None:
+        return self.facts.predicted_type
+
+    @property
+    def has_errors(self) -> bool:
+        return any(f.severity.rank >= 3 for f in self.findings)
+
+    def to_contract_json(self) -> dict[str, Any]:
+        """DESIGN.md section 3 keys first, then everything a text report shows, rounded."""
+        return contract_json(self)
+
+
+# ----- rounding at output -------------------------------------------------------------------
+
+def _is_hlb_key(key: str) -> bool:
+    return "hlb" in key or key in {"target_low", "target_high", "reachable_low",
+                                   "reachable_high"}
+
+
+def round_value(key: str, value: Any) -> Any:
+    """Round one number by what it is: 2 decimals for HLB, 3 for fractions, else 4 figures."""
+    if isinstance(value, bool) or not isinstance(value, float):
+        return value
+    if not math.isfinite(value):
+        return None
+    if "fraction" in key or "share" in key or "packing" in key or "ratio" in key:
+        return round(value, 3)
+    if _is_hlb_key(key):
+        return round(value, 2)
+    if "percent" in key or key in {"ph", "ph_min", "ph_max"}:
+        return round(value, 4)
+    if value == 0:
+        return 0.0
+    return float(f"{value:.4g}")
+
+
+def rounded(data: Any, key: str = "") -> Any:
+    """Round every number in a JSON-like structure, keyed by its field name."""
+    if isinstance(data, dict):
+        return {k: rounded(v, str(k)) for k, v in data.items()}
+    if isinstance(data, list | tuple):
+        return [rounded(v, key) for v in data]
+    return round_value(key, data)
+
+
+def finding_json(finding: Finding) -> dict[str, Any]:
+    return {
+        "rule": finding.rule,
+        "severity": finding.severity.value,
+        "message": finding.message,
+        "ingredients": list(finding.ingredients),
+        "name": finding.name,
+        "values": rounded(dict(finding.values)),
+        "advice": finding.advice,
+    }
+
+
+def contract_json(result: CheckResult) -> dict[str, Any]:
+    facts = result.facts
+    return {
+        "formula": result.formula,
+        "predicted_type": facts.predicted_type.value if facts.predicted_type else None,
+        "blend_hlb": round_value("blend_hlb", facts.blend_hlb),
+        "required_hlb": round_value("required_hlb", facts.required_hlb),
+        "dispersed_fraction": round_value("dispersed_fraction", facts.dispersed_fraction),
+        "findings": [finding_json(f) for f in result.findings],
+        "source": result.source,
+        "content_hash": result.content_hash,
+        "category": result.category.value,
+        "product": result.product,
+        "intended_type": result.intended_type.value if result.intended_type else None,
+        "ph": result.ph,
+        "profile": {"name": result.profile.name, "version": result.profile.version},
+        "facts": rounded(facts.model_dump(mode="json")),
+    }
