@@ -49,11 +49,11 @@ def _parse(url_or_path: str) -> URL:
         url = make_url(given)
     except ArgumentError as exc:
         masked = _PASSWORD_RE.sub(r"\1***@", given)
-        raise ConfigError(f"cannot read the database URL {masked!r}", hint=_URL_HINT) from exc
+        raise ConfigError(f"cannot read the database URL {masked!r}.", hint=_URL_HINT) from exc
     if url.get_backend_name() not in ("sqlite", "postgresql"):
         raise ConfigError(
             f"cannot open database {display_url(url)}: formdb keeps its library in SQLite or "
-            "PostgreSQL only", hint=_URL_HINT)
+            "PostgreSQL only.", hint=_URL_HINT)
     return url
 
 
@@ -107,13 +107,13 @@ def make_engine(url_or_path: str, *, must_exist: bool = False) -> Engine:
         if path is None:
             kwargs["poolclass"] = StaticPool  # one in-memory database shared by the session
         elif path.is_dir():
-            raise ConfigError(f"cannot open database {shown}: it is a folder, not a file",
+            raise ConfigError(f"cannot open database {shown}: it is a folder, not a file.",
                               hint="give a file name such as formdb.sqlite")
         elif not path.parent.is_dir():
             raise ConfigError(f"cannot open database {shown}: the folder {path.parent} does not "
-                              "exist", hint="create the folder or give another path")
+                              "exist.", hint="create the folder or give another path")
         elif must_exist and not path.exists():
-            raise SchemaOutdated(f"{shown} is not a formdb library yet (no such file)",
+            raise SchemaOutdated(f"{shown} is not a formdb library yet (no such file).",
                                  hint="run `formdb init` (add --seed for the bundled library)")
         kwargs["connect_args"] = {"timeout": BUSY_TIMEOUT_MS / 1000}
     else:
@@ -132,8 +132,8 @@ def make_engine(url_or_path: str, *, must_exist: bool = False) -> Engine:
                               else "SELECT count(*) FROM sqlite_master"))
     except DBAPIError as exc:
         engine.dispose()
-        reason = str(exc.orig).strip().splitlines()[0] if exc.orig else str(exc)
-        raise ConfigError(f"cannot open database {shown}: {reason}",
+        reason = " ".join(str(exc.orig or exc).split()).rstrip(".")
+        raise ConfigError(f"cannot open database {shown}: {reason}.",
                           hint="check the path or URL, that the server is running and that you "
                                "may log in") from exc
     return engine
@@ -155,7 +155,7 @@ def head_revision(script_location: Path | None = None) -> str:
     head = ScriptDirectory.from_config(alembic_config(script_location=script_location)) \
         .get_current_head()
     if head is None:  # pragma: no cover - the package always ships a revision
-        raise ConfigError("formdb's migrations folder holds no revision",
+        raise ConfigError("formdb's migrations folder holds no revision.",
                           hint="reinstall formdb")
     return head
 
@@ -187,7 +187,7 @@ def _migration_connection(engine: Engine) -> Iterator[Connection]:
                     if broken:
                         raise ConfigError(
                             f"changing {display_url(engine.url)} would break {len(broken)} "
-                            f"references (first: table {broken[0][0]})",
+                            f"references (first: table {broken[0][0]}).",
                             hint="nothing was changed; report this with --debug")
         finally:
             if raw is not None:
@@ -226,16 +226,16 @@ def open_library(url: str) -> Engine:
         if current == head:
             return engine
         if current is None:
-            raise SchemaOutdated(f"{shown} is not a formdb library yet",
+            raise SchemaOutdated(f"{shown} is not a formdb library yet.",
                                  hint="run `formdb init` (add --seed for the bundled library)")
         known = {rev.revision for rev in
                  ScriptDirectory.from_config(alembic_config()).walk_revisions()}
         if current not in known:
             raise SchemaOutdated(
                 f"{shown} is at revision {current}, which this formdb does not know (a newer "
-                f"formdb made it; this one stops at {head})",
+                f"formdb made it; this one stops at {head}).",
                 hint="upgrade formdb to the version your team uses")
-        raise SchemaOutdated(f"{shown} is at revision {current}; this formdb needs {head}",
+        raise SchemaOutdated(f"{shown} is at revision {current}; this formdb needs {head}.",
                              hint="run `formdb init` to upgrade")
     except BaseException:
         engine.dispose()
@@ -247,12 +247,12 @@ def open_library(url: str) -> Engine:
 def _translate(exc: BaseException, engine: Engine) -> FormdbError | None:
     """The FormdbError a database failure that is not a bug stands for, or None."""
     if isinstance(exc, StaleDataError):
-        return Conflict("someone else changed this record while you were working on it",
+        return Conflict("someone else changed this record while you were working on it.",
                         hint="read it again and repeat your change")
     if isinstance(exc, OperationalError):
-        reason = str(exc.orig).strip().splitlines()[0] if exc.orig else str(exc)
+        reason = " ".join(str(exc.orig or exc).split()).rstrip(".")
         return ConfigError(f"the library {display_url(engine.url)} could not be written: "
-                           f"{reason}", hint="try again; nothing was changed")
+                           f"{reason}.", hint="try again; nothing was changed")
     return None
 
 

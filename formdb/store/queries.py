@@ -113,7 +113,7 @@ def citations_for(session: Session, keys: Iterable[str]) -> dict[str, str]:
     for start in range(0, len(wanted), _CHUNK):
         chunk = wanted[start:start + _CHUNK]
         found.update(session.execute(
-            select(Source.key, Source.citation).where(Source.key.in_(chunk))).tuples().all())
+            select(Source.key, Source.citation).where(Source.key.in_(chunk))).all())
     return found
 
 
@@ -150,7 +150,7 @@ def find_ingredients(session: Session, names: Iterable[str]) -> dict[str, Ingred
         chunk = keys[start:start + _CHUNK]
         key_to_id.update(session.execute(
             select(IngredientName.name_key, IngredientName.ingredient_id)
-            .where(IngredientName.name_key.in_(chunk))).tuples().all())
+            .where(IngredientName.name_key.in_(chunk))).all())
     records = records_by_id(session, key_to_id.values())
     return {key: records[ingredient_id] for key, ingredient_id in key_to_id.items()}
 
@@ -207,6 +207,6 @@ def load_reference_data(session: Session) -> ReferenceData:
     found = find_ingredients(session, {p.soap_inci for p in pairs})
     soaps = {record.inci_name: record for record in found.values()}
     sources = dict(session.execute(
-        select(Source.key, Source.citation).order_by(Source.key)).tuples().all())
+        select(Source.key, Source.citation).order_by(Source.key)).all())
     return ReferenceData(limits=limits, incompatibilities=incompatibilities, soap_pairs=pairs,
                          soaps=soaps, sources=sources)

@@ -3,18 +3,15 @@ down with the data in place, on SQLite and on PostgreSQL."""
 
 from __future__ import annotations
 
-import shutil
 from datetime import UTC, date, datetime
 from pathlib import Path
 from typing import Any
 
-import pytest
 from alembic.autogenerate import compare_metadata
 from alembic.runtime.migration import MigrationContext
 from alembic.script import ScriptDirectory
 from sqlalchemy import Column, Integer, MetaData, Table, insert, inspect, select
 
-from formdb.resources import migrations_dir
 from formdb.store import models
 from formdb.store.db import (
     alembic_config,
@@ -173,46 +170,6 @@ def test_step_down_and_up_the_whole_chain(empty_library_url: str) -> None:
         assert schema_snapshot(url) == going_up[rev], rev
     _migrate(url, "downgrade", "base")
     assert set(schema_snapshot(url)) == {"alembic_version"}
-
-
-PROBE_REVISION = '''"""Probe: rebuild ingredients (batch recreate on SQLite) with an extra column.
-
-Revision ID: 9999_probe
-Revises: {down}
-"""
-import sqlalchemy as sa
-from alembic import op
-
-revision = "9999_probe"
-down_revision = "{down}"
-branch_labels = None
-depends_on = None
-
-
-def _how():
-    # SQLite rebuilds the table (copy, drop, rename); PostgreSQL alters it in place
-    return "always" if op.get_bind().dialect.name == "sqlite" else "auto"
-
-
-def upgrade():
-    with op.batch_alter_table("ingredients", recreate=_how()) as batch:
-        batch.add_column(sa.Column("probe_note", sa.Text(), nullable=True))
-
-
-def downgrade():
-    with op.batch_alter_table("ingredients", recreate=_how()) as batch:
-        batch.drop_column("probe_note")
-'''
-
-
-@pytest.fixture
-def migrations_with_probe(tmp_path: Path) -> Path:
-    """The real migrations plus one more revision that rebuilds the parent table of most rows."""
-    where = tmp_path / "migrations"
-    shutil.copytree(migrations_dir(), where, ignore=shutil.ignore_patterns("__pycache__"))
-    (where / "versions" / "9999_probe.py").write_text(
-        PROBE_REVISION.format(down=head_revision()))
-    return where
 
 
 def test_data_survives_a_table_rebuild_up_and_down(empty_library_url: str,

@@ -1,0 +1,238 @@
+"""``formdb init [--seed]``: bring a library to the newest migration and load the bundled data.
+
+Upgrade and seeding run in one transaction: either the library ends at head with every seed row
+in place, or it is left exactly as it was (a SQLite file that init created is removed again).
+Seeding upserts by key and compares first, so a second run adds nothing, changes nothing and
+writes no change-log rows. Rows a team added to its own library are never touched.
+"""
+
+from __future__ import annotations
+
+import json
+from dataclasses import dataclass, field
+from datetime import UTC, datetime
+from pathlib import Path
+from typing import Any
+
+from sqlalchemy import select
+from sqlalchemy.orm import Session
+
+from formdb.errors import ConfigError, SchemaOutdated
+from formdb.resources import seed_data_dir
+from formdb.services import seed_tables
+from formdb.store.db import (
+    alembic_config,
+    current_revision,
+    display_url,
+    head_revision,
+    make_engine,
+    sqlite_path,
+    upgraded_unit_of_work,
+)
+from formdb.store.models import (
+    Base,
+    ChangeLogEntry,
+    IncompatibilityEntry,
+    LimitEntry,
+    SoapPairEntry,
+    Source,
+)
+
+SEED_REASON = "bundled seed library"
+SEED_FILES = ("sources.csv", "ingredients.csv", "limits.csv", "incompatibilities.csv",
+              "soap_pairs.csv")
+
+# Source keys every library has, seeded or not, so any table can cite them (HELPERS.md).
+BUILTIN_SOURCES: tuple[dict[str, Any], ...] = (
+    {"key": "rule-of-thumb", "citation": "Rule of thumb of the trade; no published source",
+     "evidence": "rule of thumb", "url": None, "seen": None, "note": None},
+    {"key": "from-memory", "citation": "Recalled from memory; to be verified against a source",
+     "evidence": "from memory", "url": None, "seen": "memory", "note": None},
+)
+
+
+@dataclass(frozen=True)
+class TableCounts:
+    added: int = 0
+    changed: int = 0
+    unchanged: int = 0
+
+
+@dataclass(frozen=True)
+class InitReport:
+    """What ``init`` did: the revision before and after, and per seeded table what changed."""
+
+    database: str
+    revision_before: str | None
+    revision: str
+    seeded: dict[str, TableCounts] = field(default_factory=dict)
+    builtin_sources_added: int = 0
+
+    @property
+    def created(self) -> bool:
+        return self.revision_before is None
+
+    @property
+    def upgraded(self) -> bool:
+        return self.revision_before != self.revision
+
+    @property
+    def changed_anything(self) -> bool:
+        return (self.upgraded or self.builtin_sources_added > 0
+                or any(c.added or c.changed for c in self.seeded.values()))
+
+
+def init_library(url: str, *, seed: bool, user: str, seed_dir: Path | None = None) -> InitReport:
+    """Create or upgrade the library at ``url`` to head; with ``seed``, load the seed tables.
+
+    ``seed_dir`` replaces the bundled ``seed_data/`` (tests, a team's own seed); there a missing
+    file is skipped, while the bundled folder must hold all of ``SEED_FILES``.
+    """
+    path = sqlite_path(url)
+    existed = path is None or path.exists()
+    engine = make_engine(url)
+    try:
+        before = current_revision(engine)
+        _refuse_unknown_revision(engine.url, before)
+        with upgraded_unit_of_work(engine) as session:
+            seeded = seed_library(session, user=user, seed_dir=seed_dir) if seed else {}
+            builtins = ensure_builtin_sources(session, user)
+        return InitReport(display_url(engine.url), before, head_revision(), seeded,
+                          builtins.added)
+    except BaseException:
+        engine.dispose()
+        if not existed and path is not None:
+            for leftover in (path, Path(f"{path}-wal"), Path(f"{path}-shm")):
+                leftover.unlink(missing_ok=True)
+        raise
+    finally:
+        engine.dispose()
+
+
+def _refuse_unknown_revision(url: Any, revision: str | None) -> None:
+    from alembic.script import ScriptDirectory
+
+    if revision is None:
+        return
+    known = {r.revision for r in ScriptDirectory.from_config(alembic_config()).walk_revisions()}
+    if revision not in known:
+        raise SchemaOutdated(
+            f"{display_url(url)} is at revision {revision}, which this formdb does not know "
+            f"(a newer formdb made it; this one stops at {head_revision()}).",
+            hint="upgrade formdb to the version your team uses; the library was not changed")
+
+
+def ensure_builtin_sources(session: Session, user: str) -> TableCounts:
+    """Add the ``rule-of-thumb`` and ``from-memory`` sources if missing (never overwrite)."""
+    present = set(session.scalars(select(Source.key).where(
+        Source.key.in_([s["key"] for s in BUILTIN_SOURCES]))))
+    missing = [s for s in BUILTIN_SOURCES if s["key"] not in present]
+    now = datetime.now(UTC)
+    for values in missing:
+        session.add(Source(**values))
+        _log(session, now, user, "source", values["key"], "add", None, None,
+             _summary(values), "built-in source")
+    return TableCounts(added=len(missing), unchanged=len(present))
+
+
+def seed_library(session: Session, *, user: str,
+                 seed_dir: Path | None = None) -> dict[str, TableCounts]:
+    """Upsert every seed table in order (sources first: everything cites them)."""
+    bundled = seed_dir is None
+    folder = seed_data_dir() if seed_dir is None else seed_dir
+    if bundled:
+        missing = [name for name in SEED_FILES if not (folder / name).is_file()]
+        if missing:
+            raise ConfigError(f"the bundled seed data in {folder} lacks {', '.join(missing)}.",
+                              hint="reinstall formdb")
+    now = datetime.now(UTC)
+    counts: dict[str, TableCounts] = {}
+
+    def present(name: str) -> Path | None:
+        file = folder / name
+        return file if file.is_file() else None
+
+    if file := present("sources.csv"):
+        rows = seed_tables.read_sources(file, label=_label(folder, file))
+        counts["sources"] = _upsert(session, Source, ("key",), rows, "source", user, now)
+        session.flush()
+    if file := present("ingredients.csv"):
+        counts["ingredients"] = _import_ingredients(session, file, user)
+        session.flush()
+    known_sources = set(session.scalars(select(Source.key)))
+    if file := present("limits.csv"):
+        rows = seed_tables.read_limits(file, _label(folder, file), known_sources)
+        counts["limits"] = _upsert(session, LimitEntry, ("key",), rows, "limit", user, now)
+    if file := present("incompatibilities.csv"):
+        rows = seed_tables.read_incompatibilities(file, _label(folder, file), known_sources,
+                                                  session)
+        counts["incompatibilities"] = _upsert(session, IncompatibilityEntry, ("key",), rows,
+                                              "incompatibility", user, now)
+    if file := present("soap_pairs.csv"):
+        rows = seed_tables.read_soap_pairs(file, _label(folder, file), known_sources, session)
+        counts["soap_pairs"] = _upsert(session, SoapPairEntry, ("acid_inci", "base_inci"), rows,
+                                       "soap pair", user, now)
+    session.flush()
+    return counts
+
+
+def _label(folder: Path, file: Path) -> str:
+    return f"{folder.name}/{file.name}"
+
+
+def _import_ingredients(session: Session, file: Path, user: str) -> TableCounts:
+    try:
+        from formdb.services.ingredients import import_table
+    except ImportError as exc:  # pragma: no cover - only while the ingredient service is absent
+        raise ConfigError("this formdb cannot import ingredient tables yet.",
+                          hint="install a complete formdb") from exc
+    report = import_table(session, file, user=user, reason=SEED_REASON, action="seed")
+
+    def count(name: str) -> int:
+        value = getattr(report, name, 0)
+        return value if isinstance(value, int) else len(value)
+
+    return TableCounts(count("added"), count("changed"), count("unchanged"))
+
+
+def _upsert(session: Session, model: type[Base], key_fields: tuple[str, ...],
+            rows: list[dict[str, Any]], entity: str, user: str, now: datetime) -> TableCounts:
+    """Insert new keys, update differing fields (one change-log row each), leave equal rows."""
+    existing = {tuple(getattr(obj, k) for k in key_fields): obj
+                for obj in session.scalars(select(model))}
+    added = changed = unchanged = 0
+    for values in rows:
+        key = tuple(values[k] for k in key_fields)
+        entity_key = " + ".join(str(k) for k in key)
+        obj = existing.get(key)
+        if obj is None:
+            session.add(model(**values))
+            _log(session, now, user, entity, entity_key, "seed", None, None, _summary(values),
+                 SEED_REASON)
+            added += 1
+            continue
+        differing = {name: value for name, value in values.items()
+                     if getattr(obj, name) != value}
+        for name, value in differing.items():
+            _log(session, now, user, entity, entity_key, "seed", name,
+                 _text(getattr(obj, name)), _text(value), SEED_REASON)
+            setattr(obj, name, value)
+        changed += bool(differing)
+        unchanged += not differing
+    return TableCounts(added, changed, unchanged)
+
+
+def _text(value: Any) -> str | None:
+    return None if value is None else str(value)
+
+
+def _summary(values: dict[str, Any]) -> str:
+    return json.dumps({k: v for k, v in values.items() if v is not None}, default=str,
+                      ensure_ascii=False, sort_keys=True)
+
+
+def _log(session: Session, now: datetime, user: str, entity: str, entity_key: str, action: str,
+         field_name: str | None, old: str | None, new: str | None, reason: str) -> None:
+    session.add(ChangeLogEntry(at=now, user=user, entity=entity, entity_key=entity_key[:200],
+                               entity_version=None, action=action, field=field_name,
+                               old_value=old, new_value=new, reason=reason))
