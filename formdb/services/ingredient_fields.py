@@ -56,8 +56,9 @@ def normalise_column(header: str) -> str:
 
 def did_you_mean(word: str, choices: Iterable[str]) -> str:
     """'; did you mean X?' for the closest choice, or '' when nothing is close."""
-    best = process.extractOne(word, list(choices), scorer=fuzz.WRatio,
-                                  processor=utils.default_process, score_cutoff=70)
+    cutoff = 66 if len(word) <= 4 else 75  # 'hbl' finds 'hlb'; 'zwitterionic' no 'cationic'
+    best = process.extractOne(word, list(choices), scorer=fuzz.ratio,
+                              processor=utils.default_process, score_cutoff=cutoff)
     return f"; did you mean {best[0]!r}?" if best else ""
 
 

@@ -64,14 +64,25 @@ def render_ingredient(item: IngredientIn) -> Cells:
     return cells
 
 
-def _source_problem(prop: str, key: str, sources: Mapping[str, str]) -> str | None:
-    if not key:
-        return (f"{prop} has a value but no source; fill {prop}_source (or a shared source "
-                "column) with a key of the sources table, or rule-of-thumb / from-memory")
-    if key not in sources:
-        return (f"unknown source key {key!r} for {prop}{did_you_mean(key, sources)}; use a key "
-                "of the sources table, or rule-of-thumb / from-memory")
-    return None
+def _source_problems(wanting: Mapping[tuple[str, str], list[str]],
+                     sources: Mapping[str, str]) -> CellProblems:
+    """One problem per source cell: a value without a source, or a key the library lacks.
+
+    ``wanting`` maps (column, key) to the properties that take their source from that cell, so a
+    bad key in a shared ``source`` column is reported once per row, not once per value.
+    """
+    problems: CellProblems = []
+    for (column, key), props in wanting.items():
+        which = " and ".join(props)
+        if not key:
+            has = "has a value" if len(props) == 1 else "have values"
+            problems.append((column, f"{which} {has} but no source; fill {column} with a key of "
+                             "the sources table, or rule-of-thumb / from-memory"))
+        elif key not in sources:
+            problems.append((column, f"unknown source key {key!r} for {which}"
+                             f"{did_you_mean(key, sources)}; use a key of the sources table, "
+                             "or rule-of-thumb / from-memory"))
+    return problems
 
 
 def validate_cells(cells: Mapping[str, str], sources: Mapping[str, str],
@@ -101,6 +112,7 @@ def validate_cells(cells: Mapping[str, str], sources: Mapping[str, str],
     values: dict[str, object] = {}
     chosen: dict[str, str] = {}
     notes: dict[str, str] = {}
+    wanting: dict[tuple[str, str], list[str]] = {}
     for prop in PROPERTY_NAMES:
         text = cells.get(prop, "")
         if not text:
@@ -110,12 +122,12 @@ def validate_cells(cells: Mapping[str, str], sources: Mapping[str, str],
         except FieldProblem as exc:
             problems.append((prop, str(exc)))
         key = cells.get(f"{prop}_source", "")
-        trouble = _source_problem(prop, key, sources)
-        if trouble:
-            problems.append(((source_columns or {}).get(prop, f"{prop}_source"), trouble))
+        column = (source_columns or {}).get(prop, f"{prop}_source")
+        wanting.setdefault((column, key), []).append(prop)
         chosen[prop] = key
         if cells.get(f"{prop}_note", ""):
             notes[prop] = cells[f"{prop}_note"]
+    problems += _source_problems(wanting, sources)
     if problems:
         return None, problems
     try:

@@ -136,7 +136,7 @@ def _owners(session: Session, keys: Iterable[str]) -> dict[str, Ingredient]:
     for start in range(0, len(wanted), _CHUNK):
         key_to_id.update(session.execute(
             select(IngredientName.name_key, IngredientName.ingredient_id)
-            .where(IngredientName.name_key.in_(wanted[start:start + _CHUNK]))).tuples().all())
+            .where(IngredientName.name_key.in_(wanted[start:start + _CHUNK]))).all())
     ids = sorted(set(key_to_id.values()))
     found: dict[int, Ingredient] = {}
     for start in range(0, len(ids), _CHUNK):
@@ -159,7 +159,7 @@ def _get(session: Session, name: str) -> Ingredient:
 
 def _sources(session: Session) -> dict[str, str]:
     """Source key -> evidence kind, the special keys included."""
-    known = dict(session.execute(select(Source.key, Source.evidence)).tuples().all())
+    known = dict(session.execute(select(Source.key, Source.evidence)).all())
     for key, (evidence, _citation) in SPECIAL_SOURCES.items():
         known.setdefault(key, evidence)
     return known
@@ -400,6 +400,8 @@ def import_table(session: Session, path: Path, *, user: str, reason: str | None,
             plans.append((target, item, diff_cells(base, render_ingredient(item))))
     if not rows:
         report.notes.append("the file has a header but no data rows; nothing to import")
+    position = {label: i for i, label in enumerate(table.header)}
+    problems.sort(key=lambda p: (p.row or 0, position.get(p.column or "", len(position))))
     raise_problems(problems, hint="fix the file and import it again; nothing was written")
 
     for target, item, changes in plans:
