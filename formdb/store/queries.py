@@ -197,16 +197,20 @@ def soap_pair_record(row: SoapPairEntry) -> SoapPair:
 
 
 def load_reference_data(session: Session) -> ReferenceData:
-    """Limits, incompatibilities, soap pairs (with their soaps resolved) and every citation."""
+    """Limits, incompatibilities, soap pairs, the soaps and the parent acids of "as-acid" limits
+    resolved to records, and every citation."""
     limits = tuple(limit_record(r) for r in session.scalars(
         select(LimitEntry).order_by(LimitEntry.key)))
     incompatibilities = tuple(incompatibility_record(r) for r in session.scalars(
         select(IncompatibilityEntry).order_by(IncompatibilityEntry.key)))
     pairs = tuple(soap_pair_record(r) for r in session.scalars(
         select(SoapPairEntry).order_by(SoapPairEntry.acid_inci, SoapPairEntry.base_inci)))
-    found = find_ingredients(session, {p.soap_inci for p in pairs})
-    soaps = {record.inci_name: record for record in found.values()}
+    soap_names = {p.soap_inci for p in pairs}
+    acid_names = {lim.acid_inci for lim in limits if lim.basis == "as-acid" and lim.acid_inci}
+    found = find_ingredients(session, soap_names | acid_names)  # one lookup for both
+    soaps = {r.inci_name: r for n in soap_names if (r := found.get(name_key(n)))}
+    acids = {r.inci_name: r for n in acid_names if (r := found.get(name_key(n)))}
     sources = dict(session.execute(
         select(Source.key, Source.citation).order_by(Source.key)).all())
     return ReferenceData(limits=limits, incompatibilities=incompatibilities, soap_pairs=pairs,
-                         soaps=soaps, sources=sources)
+                         soaps=soaps, acids=acids, sources=sources)

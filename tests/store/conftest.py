@@ -48,3 +48,15 @@ def migrations_with_probe(tmp_path: Path) -> Path:
     (where / "versions" / "9999_probe.py").write_text(
         PROBE_REVISION.format(down=head_revision()))
     return where
+
+
+FIXTURE_SEED = Path(__file__).parent / "fixtures" / "seed"
+
+
+@pytest.fixture
+def fixture_library_url(library_url: str) -> str:
+    """A library on each backend holding the small fixture seed (8 ingredients, 2 limits...)."""
+    from formdb.services.setup import init_library
+
+    init_library(library_url, seed=True, user="larkspur-test", seed_dir=FIXTURE_SEED)
+    return library_url

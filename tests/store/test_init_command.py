@@ -101,13 +101,13 @@ def test_init_seed_twice_changes_nothing(empty_library_url: str,
     first = run_formdb(["--db", empty_library_url, "--user", "ana", "init", "--seed"])
     assert first.exit_code == 0, first.stderr
     assert "Created the library" in first.stdout
-    assert "ingredients        6 added, 0 changed, 0 unchanged" in first.stdout
+    assert "ingredients        8 added, 0 changed, 0 unchanged" in first.stdout
     before = dump_database(empty_library_url)
 
     second = run_formdb(["--db", empty_library_url, "--user", "bo", "init", "--seed"])
     assert second.exit_code == 0, second.stderr
     assert "already at revision" in second.stdout and "Nothing changed." in second.stdout
-    assert "ingredients        0 added, 0 changed, 6 unchanged" in second.stdout
+    assert "ingredients        0 added, 0 changed, 8 unchanged" in second.stdout
     assert dump_database(empty_library_url) == before
     assert "'ana'" in before and "'bo'" not in before  # the first run's user is on the log
 

@@ -49,7 +49,7 @@ def test_init_creates_the_library_at_head(empty_library_url: str) -> None:
 def test_seeding_fills_every_table(empty_library_url: str) -> None:
     report = _seed(empty_library_url)
     assert {t: c.added for t, c in report.seeded.items()} == {
-        "sources": 4, "ingredients": 6, "limits": 2, "incompatibilities": 2, "soap_pairs": 1}
+        "sources": 4, "ingredients": 8, "limits": 2, "incompatibilities": 2, "soap_pairs": 1}
     assert _count(empty_library_url, LimitEntry) == 2
 
 
@@ -60,7 +60,7 @@ def test_seeding_twice_changes_nothing(empty_library_url: str) -> None:
     assert dump_database(empty_library_url) == before  # no new rows, no change-log rows
     assert not report.changed_anything
     assert all(c.added == c.changed == 0 for c in report.seeded.values())
-    assert report.seeded["ingredients"].unchanged == 6
+    assert report.seeded["ingredients"].unchanged == 8
 
 
 def test_a_changed_seed_value_is_updated_and_logged(empty_library_url: str,
