@@ -225,10 +225,21 @@ def overlay(base: Mapping[str, str], row: FileRow) -> Cells:
             continue
         source = given.get(f"{prop}_source", "")
         note_column = f"{prop}_note"
-        moved = given[prop] != base.get(prop, "") or source != base.get(f"{prop}_source", "")
+        moved = (not _same_value(prop, given[prop], base.get(prop, ""))
+                 or source != base.get(f"{prop}_source", ""))
         cells[prop], cells[f"{prop}_source"] = given[prop], source
         if note_column in given:
             cells[note_column] = given[note_column]
         elif moved:
             cells[note_column] = ""
     return cells
+
+
+def _same_value(prop: str, text: str, stored: str) -> bool:
+    """True when two cells mean the same value ('997.05 kg/m3' and '0.99705' do)."""
+    if not stored:
+        return False
+    try:
+        return bool(parse_property(prop, text) == parse_property(prop, stored))
+    except FieldProblem:
+        return text == stored
