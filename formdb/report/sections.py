@@ -1,0 +1,367 @@
+"""The sections of a formula report, built from ``FormulaFacts`` as formatted strings.
+
+Each function returns one ``Section``; the wording explains a number where a formulator would
+otherwise have to guess what it means (which oils a required HLB covers, where a band comes from).
+"""
+
+from __future__ import annotations
+
+from formdb.report import numbers as n
+from formdb.report.blocks import Block, Flag, Line, Notes, Section, lines, table
+from formdb.schemas.result import (
+    BlendSolution,
+    CheckResult,
+    EmulsifierFacts,
+    FormulaFacts,
+    LineFacts,
+    RequiredHlbFacts,
+    SoapFacts,
+)
+from formdb.schemas.vocab import EmulsionType
+
+SIDE_WORDS = {"oil": "oil", "water": "water", "none": "neither", None: n.DASH}
+
+
+def _phase_letter(line: LineFacts) -> str:
+    """The formulator's phase letter (A, B, ...) when the facts carry it."""
+    letter = getattr(line, "phase_letter", None)
+    return str(letter) if letter else n.DASH
+
+
+# ----- phases -----------------------------------------------------------------------------
+
+def _line_row(line: LineFacts, with_left: bool) -> tuple[str, ...]:
+    row = (str(line.line_no), line.inci, n.percent(line.percent, ""), _phase_letter(line),
+           SIDE_WORDS[line.phase], n.density(line.density).removesuffix(" g/mL"),
+           line.phase_reason)
+    if with_left:
+        row = row[:3] + (n.percent(line.remaining_percent, ""),) + row[3:]
+    return row
+
+
+def _phase_lines(facts: FormulaFacts) -> list[Line]:
+    ph = facts.phases
+    out = [Line("Oil phase", f"{n.percent(ph.oil_percent)}, {n.volume_ml(ph.oil_volume_ml)}, "
+                             f"mean density {n.density(ph.oil_density)}"),
+           Line("Water phase", f"{n.percent(ph.water_percent)}, "
+                               f"{n.volume_ml(ph.water_volume_ml)}, "
+                               f"mean density {n.density(ph.water_density)}")]
+    if ph.other_percent > 0:
+        out.append(Line("In neither phase",
+                        f"{n.percent(ph.other_percent)}: {', '.join(ph.neither)}"))
+    if ph.estimated_percent > 0:
+        out.append(Line("Density estimated",
+                        f"{n.percent(ph.estimated_percent)} without a library density, taken at "
+                        f"its phase's mean: {', '.join(ph.missing_density)}", "warn"))
+    return out
+
+
+def phases_section(facts: FormulaFacts) -> Section:
+    with_left = any(abs(ln.remaining_percent - ln.percent) > 1e-9 for ln in facts.lines)
+    headers = ("Line", "INCI name", "% w/w", "Phase", "Side", "Density g/mL", "Placed by")
+    align = "nsnssns"
+    if with_left:
+        headers = headers[:3] + ("Stays % w/w",) + headers[3:]
+        align = "nsnnssns"
+    rows = [_line_row(ln, with_left) for ln in facts.lines]
+    blocks: list[Block] = [table(headers, rows, align)]
+    if with_left:
+        blocks.append(Notes(("'Stays' is what remains of the line after soap forms in the "
+                             "batch (see the HLB balance).",)))
+    blocks.append(lines(*_phase_lines(facts)))
+    return Section("Phases", tuple(blocks))
+
+
+# ----- HLB balance ------------------------------------------------------------------------
+
+def _origin(member: EmulsifierFacts) -> str:
+    if member.formed_in_place:
+        return "soap formed in the batch"
+    return f"line {member.line_no}" if member.line_no is not None else n.DASH
+
+
+def _emulsifier_table(facts: FormulaFacts) -> Block:
+    rows = [(e.inci, n.percent(e.percent, ""), n.hlb(e.hlb), n.share(e.share),
+             SIDE_WORDS.get(e.side, n.DASH), _origin(e)) for e in facts.emulsifiers]
+    return table(("Emulsifier", "% w/w", "HLB", "Share of system", "Side (Bancroft)", "Origin"),
+                 rows, "snnnss", "Emulsifier system")
+
+
+def _soap_row(soap: SoapFacts) -> tuple[str, ...]:
+    left = []
+    if soap.acid_left_percent > 1e-9:
+        left.append(f"{soap.acid} {n.percent(soap.acid_left_percent)}")
+    if soap.base_left_percent > 1e-9:
+        left.append(f"{soap.base} {n.percent(soap.base_left_percent)}")
+    favours = soap.favours.value if soap.favours else n.DASH
+    return (f"{soap.acid} + {soap.base}", soap.soap, n.percent(soap.soap_percent),
+            n.percent(soap.acid_used_percent), n.percent(soap.base_used_percent),
+            "; ".join(left) or "nothing", f"{soap.limiting}", favours)
+
+
+def _soap_table(facts: FormulaFacts) -> Block:
+    rows = [_soap_row(s) for s in facts.soaps]
+    return table(("Acid + base", "Soap formed", "Soap", "Acid used", "Base used", "Left over",
+                  "Limiting", "Favours"), rows, "ssnnnsss", "Soap formed in the batch")
+
+
+def _required_line(req: RequiredHlbFacts, working: bool) -> Line:
+    """One type's required HLB; a missing value is flagged only for the type worked for."""
+    label = f"Required HLB, {req.emulsion_type.value}"
+    flag: Flag = "warn" if working else ""
+    if req.members_percent <= 0:
+        return Line(label, "not worked out: no oil-phase ingredient counts toward it")
+    if req.value is None:
+        return Line(label, f"not worked out: no value in the library for "
+                           f"{', '.join(req.missing)}", flag)
+    if not req.missing:
+        return Line(label, f"{n.hlb(req.value)} (weight average over the "
+                           f"{n.percent(req.members_percent)} of oil phase that counts)")
+    return Line(label, f"{n.hlb(req.value)} (weight average over "
+                       f"{n.percent(req.covered_percent, '')} of "
+                       f"{n.percent(req.members_percent)}; no value for "
+                       f"{', '.join(req.missing)})", flag)
+
+
+def _blend_line(facts: FormulaFacts) -> Line:
+    if not facts.emulsifiers:
+        return Line("Blend HLB", "not worked out: no emulsifier, and no soap formed in the batch",
+                    "bad")
+    if facts.blend_hlb is None:
+        return Line("Blend HLB", "not worked out: no emulsifier has an HLB in the library", "warn")
+    covered = ""
+    if facts.blend_hlb_covered_percent + 1e-9 < facts.emulsifier_percent:
+        covered = (f"; covers only {n.percent(facts.blend_hlb_covered_percent)} of "
+                   f"{n.percent(facts.emulsifier_percent)}")
+    return Line("Blend HLB", f"{n.hlb(facts.blend_hlb)} (weight average of the emulsifier "
+                             f"system, Griffin's additivity{covered})")
+
+
+def _band_lines(facts: FormulaFacts) -> list[Line]:
+    if facts.required_hlb is None or facts.target_low is None or facts.target_high is None:
+        return []
+    tol = facts.settings.hlb_tolerance
+    kind = facts.working_type.value if facts.working_type else ""
+    out = [Line("Target band", f"{n.hlb(facts.target_low)} to {n.hlb(facts.target_high)} "
+                               f"(required {n.hlb(facts.required_hlb)} ± {tol:g}, {kind})")]
+    blend = facts.blend_hlb
+    if blend is None:
+        return out
+    if facts.target_low - 1e-9 <= blend <= facts.target_high + 1e-9:
+        out.append(Line("Balance", f"blend HLB {n.hlb(blend)} is inside the band", "ok"))
+    else:
+        gap = blend - facts.required_hlb
+        side = "above" if gap > 0 else "below"
+        out.append(Line("Balance", f"blend HLB {n.hlb(blend)} is {abs(gap):.2f} {side} the "
+                                   f"required {n.hlb(facts.required_hlb)}: outside the band",
+                        "warn"))
+    return out
+
+
+def _working_line(facts: FormulaFacts) -> Line | None:
+    if facts.working_type is None:
+        return Line("Worked for", "no intended type and no prediction: no required HLB chosen",
+                    "warn")
+    how = "as intended" if facts.working_type_source == "intended" else "as predicted"
+    return Line("Worked for", f"{facts.working_type.value} ({how})")
+
+
+def _present(facts: FormulaFacts) -> dict[str, float]:
+    return {e.inci: e.percent for e in facts.emulsifiers}
+
+
+def _solution_block(facts: FormulaFacts, sol: BlendSolution) -> Block:
+    if not sol.reachable:
+        return lines(Line(
+            "Ratio for the target",
+            f"none: the formula's emulsifiers reach HLB {n.hlb(sol.reachable_low)} to "
+            f"{n.hlb(sol.reachable_high)} only, and the target is {n.hlb(sol.target_hlb)}; "
+            "swap one for an emulsifier beyond the target or add one", "bad"))
+    present = _present(facts)
+    total = sum(present.get(name, 0.0) for name in sol.emulsifiers)
+    rows = []
+    for i, name in enumerate(sol.emulsifiers):
+        now = present.get(name, 0.0)
+        rows.append((name, n.hlb(sol.hlbs[i]), n.percent(now, ""),
+                     n.share(now / total if total > 0 else None),
+                     n.share(sol.fractions[i] if sol.fractions else None),
+                     n.percent(sol.percents[i] if sol.percents else None, "")))
+    method = f" ({sol.method})" if sol.method else ""
+    return table(("Emulsifier", "HLB", "Now % w/w", "Share now", "Share for target",
+                  "% w/w for target"), rows, "snnnnn",
+                 f"Ratio that gives HLB {n.hlb(sol.target_hlb)} at the present total{method}")
+
+
+def hlb_section(facts: FormulaFacts) -> Section:
+    blocks: list[Block] = []
+    if facts.emulsifiers:
+        blocks.append(_emulsifier_table(facts))
+    if facts.soaps:
+        blocks.append(_soap_table(facts))
+    items = [
+        Line("Emulsifier total", n.percent(facts.emulsifier_percent)) if facts.emulsifiers
+        else None,
+        _blend_line(facts),
+        Line("Co-emulsifiers", "counted with the oil phase: " + ", ".join(facts.co_emulsifiers))
+        if facts.co_emulsifiers else None,
+        _required_line(facts.required_hlb_ow, facts.working_type == EmulsionType.OW),
+        _required_line(facts.required_hlb_wo, facts.working_type == EmulsionType.WO),
+        _working_line(facts),
+        *_band_lines(facts),
+    ]
+    blocks.append(lines(*items))
+    if facts.blend_solution is not None:
+        blocks.append(_solution_block(facts, facts.blend_solution))
+    return Section("HLB balance", tuple(blocks))
+
+
+# ----- emulsion type ----------------------------------------------------------------------
+
+def _bancroft_line(facts: FormulaFacts) -> Line:
+    water, oil = facts.water_side_emulsifier_percent, facts.oil_side_emulsifier_percent
+    split = f"water-soluble {n.percent(water)} vs oil-soluble {n.percent(oil)}"
+    if water + oil <= 0:
+        return Line("By Bancroft's rule", "no prediction: no emulsifier with a known solubility")
+    if facts.type_by_bancroft is None:
+        return Line("By Bancroft's rule", f"no prediction, evenly split ({split})", "warn")
+    return Line("By Bancroft's rule", f"{facts.type_by_bancroft.value}: the continuous phase is "
+                                      f"the one the emulsifiers dissolve in ({split})")
+
+
+def _hlb_class_line(facts: FormulaFacts) -> Line:
+    s = facts.settings
+    bounds = f"W/O at or below {s.hlb_wo_max:g}, O/W at or above {s.hlb_ow_min:g}"
+    if facts.blend_hlb is None:
+        return Line("By HLB class", "no prediction: no blend HLB")
+    if facts.type_by_hlb is None:
+        return Line("By HLB class", f"no prediction: blend HLB {n.hlb(facts.blend_hlb)} lies "
+                                    f"between the classes ({bounds})", "warn")
+    return Line("By HLB class", f"{facts.type_by_hlb.value}: blend HLB "
+                                f"{n.hlb(facts.blend_hlb)} ({bounds})")
+
+
+def _agreement_lines(result: CheckResult) -> list[Line]:
+    facts, out = result.facts, []
+    if facts.types_disagree:
+        out.append(Line("Agreement", "the two predictions disagree: the type is uncertain; "
+                                     "make a small test batch and check it by dilution", "warn"))
+    elif facts.type_by_bancroft and facts.type_by_hlb:
+        out.append(Line("Agreement", "both predictions agree", "ok"))
+    intended, predicted = result.intended_type, facts.predicted_type
+    if intended and predicted and intended != predicted:
+        out.append(Line("Against intended", f"intended {intended.value} but predicted "
+                                            f"{predicted.value}", "bad"))
+    elif intended and predicted:
+        out.append(Line("Against intended", f"matches the intended {intended.value}", "ok"))
+    return out
+
+
+def prediction_section(result: CheckResult) -> Section:
+    facts = result.facts
+    predicted = facts.predicted_type.value if facts.predicted_type else "none"
+    items = [_bancroft_line(facts), _hlb_class_line(facts),
+             Line("Predicted type", f"{predicted} (Bancroft's rule first, HLB class when it "
+                                    "gives none)"),
+             *_agreement_lines(result)]
+    return Section("Emulsion type", (lines(*items),))
+
+
+# ----- packing ----------------------------------------------------------------------------
+
+def _packing_verdict(facts: FormulaFacts) -> Line | None:
+    phi = facts.dispersed_fraction
+    if phi is None:
+        return None
+    if phi > facts.packing_limit:
+        return Line("Verdict", "above the close-packing limit: only polydisperse or deformed "
+                               "drops pack this densely, and the emulsion is likely to invert",
+                    "bad")
+    if phi > facts.random_close_packing:
+        return Line("Verdict", "above random close packing: drops are crowded and deformed; "
+                               "expect a stiff cream", "warn")
+    return Line("Verdict", "below the packing limits", "ok")
+
+
+def packing_section(facts: FormulaFacts) -> Section:
+    if facts.dispersed_phase is None:
+        return Section("Dispersed phase", (lines(Line(
+            "Dispersed phase", "not worked out: no intended or predicted type")),))
+    kind = facts.working_type.value if facts.working_type else ""
+    phi = facts.dispersed_fraction
+    value = ("not worked out: a phase has no density in the library" if phi is None else
+             f"{n.fraction(phi)} ({phi * 100:.1f} % of the volume, from weights and densities)")
+    items = [Line("Dispersed phase", f"{facts.dispersed_phase} ({kind})"),
+             Line("Volume fraction φ", value),
+             Line("Packing limit", f"{facts.packing_limit:.4f} (π/√18, equal spheres); "
+                                   f"random close packing about "
+                                   f"{facts.random_close_packing:.2f}"),
+             _packing_verdict(facts)]
+    return Section("Dispersed phase", (lines(*items),))
+
+
+# ----- interface and creaming -------------------------------------------------------------
+
+def _interface_lines(facts: FormulaFacts) -> list[Line]:
+    face = facts.interface
+    if face is None:
+        return [Line("Interface", "not worked out: no dispersed volume fraction")]
+    coverage = face.coverage_ratio
+    cover_flag: Flag = "" if coverage is None else ("ok" if coverage >= 1 else "warn")
+    cover_text = n.DASH if coverage is None else f"{coverage:.2g} × what the interface needs"
+    return [
+        Line("Droplet diameter", f"{n.with_unit(face.droplet_diameter_um, 'µm')} "
+                                 f"({face.droplet_source})"),
+        Line("Interface", f"{n.with_unit(face.specific_area_m2_per_ml, 'm² per mL')} of "
+                          f"emulsion (6φ/d); {n.with_unit(face.area_m2, 'm²')} per 100 g"),
+        Line("Surface load", f"{n.with_unit(face.surface_excess_mg_m2, 'mg/m²')} "
+                             f"({face.surface_excess_source})"),
+        Line("Emulsifier to cover it", f"{n.percent(face.emulsifier_needed_percent)} needed, "
+                                       f"{n.percent(face.emulsifier_present_percent)} present"),
+        Line("Coverage", cover_text, cover_flag),
+    ]
+
+
+def _creaming_lines(facts: FormulaFacts) -> list[Line]:
+    cr = facts.creaming
+    if cr is None:
+        return [Line("Creaming", "not worked out: the phase densities are not known")]
+    out = [Line("Phase densities",
+                f"dispersed {n.with_unit(cr.dispersed_density_kg_m3, 'kg/m³', 4)}, continuous "
+                f"{n.with_unit(cr.continuous_density_kg_m3, 'kg/m³', 4)} (difference "
+                f"{cr.density_difference_kg_m3:+.1f} kg/m³)")]
+    if cr.continuous_viscosity_mpas is None or cr.velocity_m_s is None:
+        out.append(Line("Creaming speed", "not worked out: no viscosity in the library for the "
+                                          "continuous phase"))
+        return out
+    out.append(Line("Continuous viscosity", f"{n.with_unit(cr.continuous_viscosity_mpas, 'mPa·s')}"
+                                            f" (that of {cr.viscosity_from})"))
+    v = cr.velocity_m_s
+    direction = "drops rise (creaming)" if v > 0 else "drops sink (sedimentation)" if v < 0 \
+        else "no movement (equal densities)"
+    out.append(Line("Creaming speed (Stokes)",
+                    f"{n.with_unit(abs(v) * 1e6, 'µm/s')} = "
+                    f"{n.with_unit(abs(cr.velocity_mm_per_day or 0.0), 'mm/day')}: {direction}, "
+                    f"for one {cr.droplet_diameter_um:g} µm drop in the unthickened phase"))
+    return out
+
+
+def interface_section(facts: FormulaFacts) -> Section:
+    return Section("Interface and creaming",
+                   (lines(*_interface_lines(facts), *_creaming_lines(facts)),))
+
+
+# ----- data gaps --------------------------------------------------------------------------
+
+def data_gaps_section(facts: FormulaFacts) -> Section:
+    blocks: list[Block] = []
+    if facts.gaps:
+        rows = [(g.property, ", ".join(g.ingredients), g.blocks, g.detail or n.DASH)
+                for g in facts.gaps]
+        blocks.append(table(("Missing value", "Ingredients", "Blocks or weakens", "Detail"),
+                            rows, "ssss"))
+    else:
+        blocks.append(lines(Line("Data gaps", "none: every value these numbers need is in the "
+                                              "library", "ok")))
+    if facts.notes:
+        blocks.append(Notes(facts.notes, "Notes on the numbers"))
+    return Section("Data gaps", tuple(blocks))

@@ -1,0 +1,75 @@
+"""Hand-built check results for report tests that need no library.
+
+The ingredient values are those the reports are checked against elsewhere: sorbitan oleate 4.3 and
+polysorbate 80 15.0 (PMC4137601 Table 2), isopropyl myristate required HLB 11.5 and stearic acid
+15 (Wangpradit et al., OCL 29 (2022) 29, Table 4); densities from memory (water 0.997 g/mL at
+25 degC is the CRC Handbook value). These records are test fixtures, not seed data.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+from formdb.rules.facts import compute_facts
+from formdb.schemas.findings import Finding
+from formdb.schemas.formula import FormulaFile, ResolvedFormula, ResolvedLine
+from formdb.schemas.ingredient import IngredientProperties, IngredientRecord
+from formdb.schemas.reference import ReferenceData
+from formdb.schemas.result import CheckResult, ProfileRef
+from formdb.schemas.vocab import Role, Severity
+
+RECORDS: dict[str, dict[str, Any]] = {
+    "Water": {"roles": {Role.WATER}, "props": {"solubility": "water", "density": 0.997,
+                                                "viscosity_mpas": 0.89}},
+    "Sorbitan Oleate": {"roles": {Role.EMULSIFIER},
+                        "props": {"hlb": 4.3, "solubility": "oil", "density": 0.99,
+                                  "ionic_character": "nonionic"}},
+    "Polysorbate 80": {"roles": {Role.EMULSIFIER},
+                       "props": {"hlb": 15.0, "solubility": "water", "density": 1.07,
+                                 "ionic_character": "nonionic"}},
+    "Isopropyl Myristate": {"roles": {Role.OIL},
+                            "props": {"required_hlb_ow": 11.5, "solubility": "oil",
+                                      "density": 0.85}},
+    "Glycerin": {"roles": {Role.HUMECTANT}, "props": {"solubility": "water", "density": 1.26}},
+    "Squalane": {"roles": {Role.OIL}, "props": {"solubility": "oil", "density": 0.81}},
+}
+
+
+def record(name: str, number: int, synonyms: tuple[str, ...] = ()) -> IngredientRecord:
+    spec = RECORDS[name]
+    return IngredientRecord(id=number, inci_name=name, synonyms=synonyms,
+                            roles=frozenset(spec["roles"]),
+                            properties=IngredientProperties.model_validate(spec["props"]))
+
+
+def resolved(name: str, lines: list[tuple[str, float, str]], **extra: Any) -> ResolvedFormula:
+    formula = FormulaFile.model_validate({
+        "name": name, "category": "leave-on",
+        "ingredients": [{"inci": inci, "percent": pct, "phase": ph} for inci, pct, ph in lines],
+        **extra})
+    out = [ResolvedLine(line_no=i, given_name=inci, percent=pct, phase=ph,
+                        ingredient=record(inci, i))
+           for i, (inci, pct, ph) in enumerate(lines, start=1)]
+    return ResolvedFormula(source=f"{name}.toml", formula=formula, lines=tuple(out),
+                           content_hash="0" * 64)
+
+
+def result(name: str = "Larkspur test lotion",
+           lines: list[tuple[str, float, str]] | None = None,
+           findings: tuple[Finding, ...] = (), **extra: Any) -> CheckResult:
+    formula = resolved(name, lines or [
+        ("Water", 72.0, "A"), ("Glycerin", 3.0, "A"), ("Isopropyl Myristate", 20.0, "B"),
+        ("Sorbitan Oleate", 1.5, "B"), ("Polysorbate 80", 3.5, "A")], **extra)
+    facts = compute_facts(formula, ReferenceData())
+    ff = formula.formula
+    return CheckResult(formula=ff.name, source=formula.source, content_hash=formula.content_hash,
+                       category=ff.category, product=ff.product, intended_type=ff.intended_type,
+                       ph=ff.ph, profile=ProfileRef(name="default", version="1"), facts=facts,
+                       findings=findings)
+
+
+def finding(rule: str = "T001", severity: Severity = Severity.WARNING,
+            message: str = "a test finding", ingredients: tuple[str, ...] = ("Water",),
+            advice: str | None = "do something") -> Finding:
+    return Finding(rule=rule, name="test-rule", severity=severity, message=message,
+                   ingredients=ingredients, advice=advice)
