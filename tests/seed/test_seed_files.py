@@ -374,7 +374,9 @@ def test_limits_are_well_formed_and_resolve(by_name: dict[str, dict[str, str]],
             assert lim.acid_inci and by_name[name_key(lim.acid_inci)]["molar_mass"], lim.key
             for inci in lim.ingredients:  # the conversion needs both molar masses
                 assert by_name[name_key(inci)]["molar_mass"], (lim.key, inci)
-        assert set(lim.excludes) <= set(keys), lim.key
+        # excludes names entries of the same list (LimitRecord; the exclusive-entries rule)
+        entries = {x.entry for x in limits if x.list_name == lim.list_name}
+        assert set(lim.excludes) <= entries - {lim.entry}, lim.key
         assert lim.source in sources
         if products and lim.product:
             assert lim.product in products, lim.key  # a product type of the exposure table
@@ -399,8 +401,10 @@ def test_limits_match_the_regulatory_reference() -> None:
     assert lim["eu-v-57-rinse-off"].max_percent == 0.0015
     leave_on = lim["eu-v-57-leave-on"]
     assert (leave_on.max_percent, leave_on.category) == (0, "leave-on")
-    assert "eu-v-39-rinse-off" in lim["eu-v-57-rinse-off"].excludes
-    assert "eu-v-57-rinse-off" in lim["eu-v-39-rinse-off"].excludes
+    for key in ("eu-v-57-rinse-off", "eu-v-57-leave-on"):
+        assert lim[key].excludes == ("V/39",)
+    for key in ("eu-v-39-rinse-off", "eu-v-39-leave-on"):
+        assert lim[key].excludes == ("V/57",)
     # Annex V/29 phenoxyethanol 1 % (SCCS/1575/16 summaries); V/3 salicylic acid 0.5 % (ECHA)
     assert lim["eu-v-29"].max_percent == 1.0 and lim["eu-v-3"].max_percent == 0.5
     # Annex VI UV filters (legislation.gov.uk Annex VI 2020-12-31; Reg. (EU) 2022/1176)
