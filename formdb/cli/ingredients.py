@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import csv
 import functools
+import io
 import json
 import sys
 from collections.abc import Callable, Iterator, Sequence
@@ -123,9 +124,11 @@ def list_cmd(app: AppContext, role: str | None, fmt: str, include_retired: bool)
              *(_text(getattr(r.p, p)) for p in header[2:7]), str(r.version),
              "yes" if r.retired else "no"] for r in records]
     if fmt == "csv":
-        writer = csv.writer(sys.stdout, lineterminator="\n")
+        buffer = io.StringIO()
+        writer = csv.writer(buffer, lineterminator="\n")
         writer.writerow(header)
         writer.writerows(rows)
+        click.echo(buffer.getvalue(), nl=False)
         return
     from rich.table import Table
 
