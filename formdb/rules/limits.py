@@ -96,6 +96,12 @@ def _amount(row: LimitRecord, line: ResolvedLine, reference: ReferenceData,
     return _Amount(line, acid_mass / salt_mass)
 
 
+def _scope(row: LimitRecord) -> str:
+    if row.product:
+        return row.product
+    return "all products" if row.category == "any" else f"{row.category} products"
+
+
 def _where(row: LimitRecord) -> str:
     return f"{row.jurisdiction} {row.list_name}, entry {row.entry}"
 
@@ -189,7 +195,7 @@ class ConcentrationLimit(Rule):
         yield self.finding(
             self.default_severity,
             f"{line.inci} {line.percent:g} %{as_acid} is over the {row.max_percent:g} % limit "
-            f"for {row.product or row.category} ({_where(row)})",
+            f"for {_scope(row)} ({_where(row)})",
             ingredients=[line.inci], values=values,
             advice=f"reduce {line.inci} to at most {highest:.3g} %"
                    + (f" ({row.conditions})" if row.conditions else ""))
@@ -210,7 +216,7 @@ class ConcentrationLimit(Rule):
         yield self.finding(
             self.default_severity,
             f"{parts} = {total:.3g} %{basis} together, over the {row.max_percent:g} % limit of "
-            f"the sum for {row.product or row.category} ({_where(row)})",
+            f"the sum for {_scope(row)} ({_where(row)})",
             ingredients=names, values=values,
             advice=f"bring the total of {', '.join(names)} to at most {row.max_percent:g} %"
                    f"{basis}")

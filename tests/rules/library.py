@@ -1,0 +1,74 @@
+"""The fixture library of the rule cases (library.toml) and mini-formulas built from it."""
+
+from __future__ import annotations
+
+import hashlib
+import tomllib
+from collections.abc import Mapping, Sequence
+from functools import lru_cache
+from pathlib import Path
+from typing import Any
+
+from formdb.schemas.formula import FormulaFile, ResolvedFormula, ResolvedLine
+from formdb.schemas.ingredient import IngredientProperties, IngredientRecord, name_key
+from formdb.schemas.reference import Incompatibility, LimitRecord, ReferenceData, SoapPair
+
+HERE = Path(__file__).resolve().parent
+_RECORD_KEYS = {"inci", "synonyms", "roles", "classes"}
+
+
+@lru_cache(maxsize=1)
+def _raw() -> dict[str, Any]:
+    return tomllib.loads((HERE / "library.toml").read_text(encoding="utf-8"))
+
+
+@lru_cache(maxsize=1)
+def ingredients() -> dict[str, IngredientRecord]:
+    """Every fixture ingredient, keyed by the name key of its INCI name and of each synonym."""
+    out: dict[str, IngredientRecord] = {}
+    for number, row in enumerate(_raw()["ingredient"], start=1):
+        props = IngredientProperties(**{k: v for k, v in row.items() if k not in _RECORD_KEYS})
+        record = IngredientRecord(
+            id=number, inci_name=row["inci"], synonyms=tuple(row.get("synonyms", ())),
+            roles=frozenset(row.get("roles", ())), classes=frozenset(row.get("classes", ())),
+            properties=props)
+        for name in (record.inci_name, *record.synonyms):
+            key = name_key(name)
+            assert key not in out, f"library.toml: {name!r} appears twice"
+            out[key] = record
+    return out
+
+
+def ingredient(name: str) -> IngredientRecord:
+    try:
+        return ingredients()[name_key(name)]
+    except KeyError:
+        raise KeyError(f"{name!r} is not in tests/rules/library.toml") from None
+
+
+@lru_cache(maxsize=1)
+def reference() -> ReferenceData:
+    raw = _raw()
+    pairs = tuple(SoapPair(**row) for row in raw.get("soap_pair", ()))
+    limits = tuple(LimitRecord(**row) for row in raw.get("limit", ()))
+    return ReferenceData(
+        limits=limits,
+        incompatibilities=tuple(Incompatibility(**row) for row in raw.get("incompatibility", ())),
+        soap_pairs=pairs,
+        soaps={p.soap_inci: ingredient(p.soap_inci) for p in pairs},
+        acids={r.acid_inci: ingredient(r.acid_inci) for r in limits if r.acid_inci})
+
+
+def formula(name: str, lines: Sequence[tuple[str, float]] | Sequence[Sequence[Any]],
+            **fields: Any) -> ResolvedFormula:
+    """A resolved mini-formula: ``lines`` are (INCI, %) pairs; ``fields`` go to FormulaFile."""
+    body: Mapping[str, Any] = {"category": "leave-on", **fields}
+    file = FormulaFile(name=name, ingredients=[{"inci": n, "percent": p} for n, p in lines],
+                       **body)
+    resolved = tuple(
+        ResolvedLine(line_no=i, given_name=line.inci, percent=line.percent, phase=line.phase,
+                     ingredient=ingredient(line.inci))
+        for i, line in enumerate(file.ingredients, start=1))
+    digest = hashlib.sha256(repr((name, list(lines), sorted(fields.items()))).encode()).hexdigest()
+    return ResolvedFormula(source=f"case:{name}", formula=file, lines=resolved,
+                           content_hash=digest)
