@@ -112,6 +112,15 @@ class UnreachableHlb(ValueError):
         super().__init__(f"target HLB {target:g} cannot be reached with these emulsifiers: {reach}")
 
 
+# HLB values are known to 0.1 at best: two closer than this are the same HLB (this also keeps
+# the lever rule away from dividing by a difference that is only rounding noise).
+_SAME_HLB = 1e-9
+
+
+def _same_hlb(a: float, b: float) -> bool:
+    return abs(a - b) <= _SAME_HLB
+
+
 def _reachable(target: float, hlbs: Sequence[float]) -> None:
     if not math.isfinite(target):
         raise ValueError(f"target HLB must be a finite number, got {target}")
@@ -131,7 +140,7 @@ def two_emulsifier_fractions(target: float, hlb_a: float, hlb_b: float) -> tuple
     for index, value in enumerate((hlb_a, hlb_b)):
         _check_hlb(value, index)
     _reachable(target, (hlb_a, hlb_b))
-    if hlb_a == hlb_b:
+    if _same_hlb(hlb_a, hlb_b):
         return 0.5, 0.5
     x_a = min(1.0, max(0.0, (target - hlb_b) / (hlb_a - hlb_b)))
     return x_a, 1.0 - x_a
@@ -171,7 +180,7 @@ def blend_fractions(
     _reachable(target, hlbs)
     if len(hlbs) == 1:
         return (1.0,)
-    if len(hlbs) == 2 and hlbs[0] != hlbs[1]:
+    if len(hlbs) == 2 and not _same_hlb(hlbs[0], hlbs[1]):
         return two_emulsifier_fractions(target, hlbs[0], hlbs[1])
     clamped = min(max(target, min(hlbs)), max(hlbs))
     return least_change_fractions(shares, hlbs, clamped)
