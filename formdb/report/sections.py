@@ -352,11 +352,26 @@ def interface_section(facts: FormulaFacts) -> Section:
 
 # ----- data gaps --------------------------------------------------------------------------
 
+READABLE = {
+    "hlb": "HLB", "required_hlb_ow": "required HLB (O/W)", "required_hlb_wo": "required HLB (W/O)",
+    "viscosity_mpas": "viscosity", "use_min_percent": "use range, low end",
+    "use_max_percent": "use range, high end", "ph_min": "working pH, low end",
+    "ph_max": "working pH, high end", "dispersed_fraction": "dispersed volume fraction",
+    "molar_mass": "molar mass", "base_equivalents": "base equivalents",
+    "cation_valence": "cation valence", "ionic_character": "ionic character",
+}
+
+
+def readable(word: str) -> str:
+    """A library field or fact name as words ("required_hlb_ow" -> "required HLB (O/W)")."""
+    return READABLE.get(word, word.replace("_", " "))
+
+
 def data_gaps_section(facts: FormulaFacts) -> Section:
     blocks: list[Block] = []
     if facts.gaps:
-        rows = [(g.property, ", ".join(g.ingredients), g.blocks, g.detail or n.DASH)
-                for g in facts.gaps]
+        rows = [(readable(g.property), ", ".join(g.ingredients), readable(g.blocks),
+                 g.detail or n.DASH) for g in facts.gaps]
         blocks.append(table(("Missing value", "Ingredients", "Blocks or weakens", "Detail"),
                             rows, "ssss"))
     else:

@@ -1,0 +1,197 @@
+"""``formdb check`` and ``formdb blend``: parse, call a service, render. Nothing else.
+
+Exit codes of ``check`` (DESIGN.md section 3): 0 no error finding, 1 at least one, 2 the input
+could not be checked. Input problems print one ``Error:`` line each and nothing is written.
+"""
+
+from __future__ import annotations
+
+import functools
+import os
+import sys
+import tempfile
+from collections.abc import Callable, Sequence
+from pathlib import Path
+from typing import Any, TypeVar
+
+import click
+
+from formdb.cli.main import AppContext
+from formdb.errors import FormdbError, InvalidData
+
+F = TypeVar("F", bound=Callable[..., Any])
+REPORT_FORMATS = ("text", "json", "html")
+
+
+def every_problem(command: F) -> F:
+    """Print every problem line an error carries (``.problems``), one ``Error:`` line each."""
+    @functools.wraps(command)
+    def wrapper(*args: Any, **kwargs: Any) -> Any:
+        try:
+            return command(*args, **kwargs)
+        except FormdbError as exc:
+            problems = list(getattr(exc, "problems", None) or [])
+            if len(problems) < 2:
+                raise
+            for problem in problems[:-1]:
+                click.echo(f"Error: {problem}", err=True)
+            last = f"Error: {problems[-1]}" + (f" Next: {exc.hint}" if exc.hint else "")
+            click.echo(last, err=True)
+            raise click.exceptions.Exit(exc.exit_code) from None
+    return wrapper  # type: ignore[return-value]
+
+
+def _wants_color(out: Path | None, fmt: str) -> bool:
+    return (out is None and fmt == "text" and sys.stdout.isatty()
+            and "NO_COLOR" not in os.environ)
+
+
+def write_report(path: Path, text: str) -> None:
+    """Write the report whole or not at all (a temporary file renamed into place)."""
+    folder = path.parent if str(path.parent) else Path(".")
+    try:
+        with tempfile.NamedTemporaryFile("w", encoding="utf-8", dir=folder, delete=False,
+                                         prefix=f".{path.name}.", suffix=".part") as handle:
+            handle.write(text)
+        os.replace(handle.name, path)
+    except OSError as exc:
+        raise InvalidData(f"{path}: the report cannot be written ({exc.strerror or exc})",
+                          hint="choose a folder you can write to") from None
+
+
+def read_every_file(paths: Sequence[Path]) -> list[Any]:
+    """Read and validate every file first; all problems of all files in one error."""
+    from formdb.services.checking import read_inputs
+
+    items, problems, hint = [], [], None
+    for path in paths:
+        try:
+            items.extend(read_inputs([path]))
+        except InvalidData as exc:
+            problems.extend(getattr(exc, "problems", None) or [exc.message])
+            hint = hint or exc.hint
+    if problems:
+        error = InvalidData(problems[0], hint=hint)
+        error.problems = problems  # type: ignore[attr-defined]
+        raise error
+    return items
+
+
+def summary_line(results: Sequence[Any], out: Path) -> str:
+    counts = {s: sum(1 for r in results for f in r.findings if f.severity.value == s)
+              for s in ("error", "warning", "info")}
+    failing = sum(1 for r in results if r.has_errors)
+    return (f"{len(results)} formula(s) checked, {failing} with errors "
+            f"({counts['error']} error, {counts['warning']} warning, {counts['info']} info "
+            f"findings); report written to {out}")
+
+
+@click.command("check")
+@click.argument("files", nargs=-1, type=click.Path(path_type=Path))
+@click.option("--all", "all_stored", is_flag=True,
+              help="Also check every formula stored in the library.")
+@click.option("--profile", default="default", show_default=True,
+              help="Rule profile: a packaged name (default, strict) or a profile TOML file.")
+@click.option("--format", "fmt", type=click.Choice(REPORT_FORMATS), default="text",
+              show_default=True, help="Report format.")
+@click.option("--out", type=click.Path(path_type=Path, dir_okay=False),
+              help="Write the report to this file and print a one-line summary.")
+@click.pass_context
+@every_problem
+def check_cmd(ctx: click.Context, files: tuple[Path, ...], all_stored: bool, profile: str,
+              fmt: str, out: Path | None) -> None:
+    """Check formula FILES (TOML) against the library.
+
+    Exit 0: no error finding; 1: at least one; 2: the input could not be checked.
+    """
+    from formdb.report import ListSnapshot, render
+    from formdb.rules.profiles import load_profile
+    from formdb.services.checking import check_inputs, iter_check_stored
+    from formdb.services.report_context import limit_snapshots
+
+    app: AppContext = ctx.obj
+    if not files and not all_stored:
+        raise click.UsageError("give one or more formula FILEs, or --all")
+    items = read_every_file(files)
+    chosen = load_profile(profile)
+    results = check_inputs(app.db, items, chosen) if items else []
+    if all_stored:
+        results += list(iter_check_stored(app.db, chosen))
+    if not results:
+        click.echo("No stored formulas to check: `formdb formula import FILE` stores one.")
+        return
+    snapshots = [ListSnapshot(*row) for row in limit_snapshots(app.db, chosen)]
+    report = render(results, fmt, snapshots=snapshots, color=_wants_color(out, fmt))
+    if out is not None:
+        write_report(out, report)
+        click.echo(summary_line(results, out))
+    else:
+        click.echo(report, nl=False)
+    ctx.exit(1 if any(r.has_errors for r in results) else 0)
+
+
+def _blend_mode(file: Path | None, target: float | None, using: tuple[str, ...],
+                search: bool) -> str:
+    """Which blend question is asked; a UsageError for a combination that means nothing."""
+    if file is not None and using:
+        raise click.UsageError("give either FILE or --using, not both")
+    if search:
+        if using:
+            raise click.UsageError("--search looks through the whole library: leave out --using")
+        if file is None and target is None:
+            raise click.UsageError("--search needs --target HLB or a formula FILE")
+        return "search-file" if file is not None else "search"
+    if file is not None:
+        return "file"
+    if target is None or len(using) < 2:
+        raise click.UsageError("give --target HLB and --using at least twice, or a formula FILE")
+    return "named"
+
+
+@click.command("blend")
+@click.argument("file", required=False, type=click.Path(path_type=Path))
+@click.option("--target", type=float, help="The HLB the blend must have.")
+@click.option("--using", multiple=True, metavar="INCI",
+              help="An emulsifier of the blend (INCI name or synonym); repeat for each.")
+@click.option("--search", is_flag=True,
+              help="Rank compatible pairs from the whole library that reach the target.")
+@click.option("--total", type=float, default=None,
+              help="Emulsifier total in % w/w for the proportions (--search: default 5, or the "
+                   "formula's own total with FILE).")
+@click.option("--top", type=click.IntRange(1, 100), default=10, show_default=True,
+              help="How many pairs --search prints.")
+@click.option("--profile", default="default", show_default=True,
+              help="Rule profile for FILE (its HLB tolerance and facts settings).")
+@click.option("--format", "fmt", type=click.Choice(("text", "json")), default="text",
+              show_default=True, help="Output format.")
+@click.pass_context
+@every_problem
+def blend_cmd(ctx: click.Context, file: Path | None, target: float | None,
+              using: tuple[str, ...], search: bool, total: float | None, top: int,
+              profile: str, fmt: str) -> None:
+    """Emulsifier proportions for a target HLB: named emulsifiers, a formula FILE's own, or a
+    --search of the library for compatible pairs."""
+    from formdb.report.blend import render_plan, render_search
+    from formdb.services import blending
+
+    app: AppContext = ctx.obj
+    mode = _blend_mode(file, target, using, search)
+    color = _wants_color(None, fmt)
+    if mode == "named":
+        assert target is not None
+        plan = blending.blend_for_target(app.db, target, using, total)
+        click.echo(render_plan(plan, fmt, color), nl=False)
+    elif mode == "file":
+        assert file is not None
+        plan = blending.blend_for_formula(app.db, file, profile, target)
+        click.echo(render_plan(plan, fmt, color), nl=False)
+    elif mode == "search":
+        assert target is not None
+        found = blending.search_pairs(app.db, target,
+                                      blending.DEFAULT_TOTAL_PERCENT if total is None else total,
+                                      top)
+        click.echo(render_search(found, fmt, color), nl=False)
+    else:
+        assert file is not None
+        found = blending.search_for_formula(app.db, file, profile, total, top, target)
+        click.echo(render_search(found, fmt, color), nl=False)
