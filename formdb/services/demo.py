@@ -30,6 +30,17 @@ def demo_formula_paths() -> list[Path]:
     return sorted((seed_data_dir() / "demo").glob("*.toml"))
 
 
+def formula_purpose(path: Path) -> str:
+    """The leading comment of a demo formula file: what the formula is there to show."""
+    words = []
+    for line in path.read_text(encoding="utf-8").splitlines():
+        if not line.startswith("#"):
+            break
+        words.append(line.lstrip("#").strip())
+    text = " ".join(words)
+    return text.split(": ", 1)[1] if ": " in text else text
+
+
 @dataclass
 class DemoRun:
     library: Path
@@ -40,7 +51,7 @@ class DemoRun:
     def summary(self) -> str:
         """One line per formula: type, HLB balance, dispersed fraction and what was found."""
         lines = ["", "Summary (default profile):"]
-        for result in self.results:
+        for path, result in zip(self._files, self.results, strict=True):
             counts = {s: sum(1 for f in result.findings if f.severity.value == s)
                       for s in ("error", "warning", "info")}
             facts = result.facts
@@ -53,7 +64,10 @@ class DemoRun:
                 f"  {result.formula}: {kind}, blend HLB {blend} vs required {need}, "
                 f"dispersed volume fraction {phi}; {counts['error']} error(s), "
                 f"{counts['warning']} warning(s), {counts['info']} note(s): {verdict}")
+            lines.append(f"      ({formula_purpose(path)})")
         lines.append(f"Demo library: {self.library} (throwaway; rerun `formdb demo` any time).")
+        lines.append("Next: `formdb init --seed` makes your own library here; write a formula file "
+                     "as in the README and run `formdb check FILE`.")
         return "\n".join(lines)
 
     def write_reports(self, folder: Path, fmt: str) -> list[Path]:
