@@ -14,6 +14,7 @@ from dataclasses import dataclass
 from typing import Any, ClassVar
 
 from rapidfuzz import process
+from rapidfuzz.distance import OSA
 
 from formdb.schemas.findings import Finding
 from formdb.schemas.formula import ResolvedFormula
@@ -26,11 +27,16 @@ _SECTION_RE = re.compile(rf"^({'|'.join(DOC_SECTIONS)}):\s*", re.MULTILINE)
 
 
 def did_you_mean(word: str, choices: Iterable[str]) -> str:
-    """' (did you mean X?)' for the closest choice, or '' when nothing is close (rapidfuzz)."""
+    """' (did you mean X?)' for the closest choice, or '' when nothing is close.
+
+    Closeness is rapidfuzz's optimal-string-alignment similarity, so a swapped pair of letters
+    (HBL01 for HLB01) counts as one slip.
+    """
     options = list(choices)
     if not options:
         return ""
-    best = process.extractOne(word, options, processor=str.casefold, score_cutoff=60)
+    best = process.extractOne(word, options, scorer=OSA.normalized_similarity,
+                              processor=str.casefold, score_cutoff=0.5)
     return f" (did you mean {best[0]!r}?)" if best else ""
 
 
