@@ -82,9 +82,9 @@ def main(argv: list[str] | None = None) -> None:
     except FormdbError as exc:
         if _wants_debug(args):
             traceback.print_exc()
-        line = f"Error: {exc.message}"
+        line = f"Error: {exc.message.rstrip()}"
         if exc.hint:
-            line += f" Next: {exc.hint}"
+            line += ("" if line.endswith((".", "?", "!")) else ".") + f" Next: {exc.hint}"
         click.echo(line, err=True)
         sys.exit(exc.exit_code)
     except click.exceptions.Abort:
