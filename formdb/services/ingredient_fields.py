@@ -126,7 +126,8 @@ def _units() -> pint.UnitRegistry:
 
 def _convert(prop: str, text: str, number: float, unit_text: str) -> float:
     canonical = IngredientProperties.unit_of(prop)
-    expected = f"a number in {canonical}" if canonical else "a plain number without a unit"
+    expected = (f"a number in {canonical}" if canonical not in ("", "pH")
+                else "a plain number without a unit")
     given = unit_text.replace("w/w", "").replace("%", " percent ").strip() or "percent"
     if norm_token(unit_text) == norm_token(canonical):
         return number

@@ -35,6 +35,7 @@ from formdb.services.ingredient_fields import (
     join_list,
     normalise_column,
     parse_list_item,
+    property_kind,
     split_list,
 )
 from formdb.services.ingredient_rows import (
@@ -428,10 +429,24 @@ def export_table(session: Session, path: Path, *, role: str | None = None,
                  include_retired: bool = False) -> int:
     """Write the library (or one role) as CSV or XLSX in the import columns; returns the rows."""
     columns = export_columns()
-    rows = [[cells[c] for c in columns] for cells in
+    numeric = set()
+    if path.suffix.lower() == ".xlsx":  # a workbook holds numbers as numbers, not as text
+        numeric = {c for c in PROPERTY_NAMES if property_kind(c)[0] in ("float", "int")}
+    rows = [[_typed(cells[c]) if c in numeric else cells[c] for c in columns] for cells in
             (_cells(session, ing) for ing in _active(session, role, include_retired))]
     write_table(path, columns, rows, sheet="ingredients")
     return len(rows)
+
+
+def _typed(text: str) -> float | int | str | None:
+    """A number cell for a workbook; kept as text when 15 digits (a workbook's precision, and
+    what openpyxl writes) would not give the same number back."""
+    if not text:
+        return None
+    number = float(text)
+    if float(f"{number:.15g}") != number:
+        return text
+    return int(number) if number.is_integer() and abs(number) < 1e15 else number
 
 
 # --- add / edit / retire ------------------------------------------------------------------------
