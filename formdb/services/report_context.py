@@ -38,7 +38,7 @@ def limit_snapshots(db_url: str,
                 select(LimitEntry.jurisdiction, LimitEntry.list_name,
                        func.max(LimitEntry.list_date))
                 .group_by(LimitEntry.jurisdiction, LimitEntry.list_name)
-                .order_by(LimitEntry.jurisdiction, LimitEntry.list_name)).tuples().all()
+                .order_by(LimitEntry.jurisdiction, LimitEntry.list_name)).all()
     finally:
         engine.dispose()
     return [(j, name, when) for j, name, when in rows

@@ -73,3 +73,12 @@ def finding(rule: str = "T001", severity: Severity = Severity.WARNING,
             advice: str | None = "do something") -> Finding:
     return Finding(rule=rule, name="test-rule", severity=severity, message=message,
                    ingredients=ingredients, advice=advice)
+
+
+def formula_toml(name: str, lines: list[tuple[str, Any]], **keys: Any) -> str:
+    """The TOML text of a formula file (``lines``: (INCI, percent) pairs, percent as given)."""
+    import tomli_w
+
+    data: dict[str, Any] = {"name": name, "category": "leave-on", **keys}
+    data["ingredients"] = [{"inci": inci, "percent": pct} for inci, pct in lines]
+    return tomli_w.dumps(data)
