@@ -11,8 +11,10 @@ The science (``formdb.science``) does each calculation; this module decides what
 - The emulsifier system: lines with the role ``emulsifier`` (fatty acids excepted: their soap is
   the emulsifier) plus soap formed in place. A ``co-emulsifier`` that is not an emulsifier
   (fatty alcohols, non-self-emulsifying glyceryl stearate) belongs to the oil phase and counts in
-  its required HLB, with its own HLB standing in when it has no required HLB, as Wangpradit et
-  al., OCL 29 (2022) 29, Table 4 do for glyceryl monostearate (3.8).
+  its required HLB. A co-emulsifier with no required HLB that is not itself an oil, wax, fatty
+  alcohol or acid has its own HLB stand in, as Wangpradit et al., OCL 29 (2022) 29, Table 4 do
+  for glyceryl monostearate (3.8); a fatty alcohol's HLB never does (cetyl alcohol: HLB 1,
+  required HLB about 15).
 - Phases: emulsifiers by the side they dissolve on; other lines by solubility, then by role
   (oils, waxes, butters, fatty alcohols and acids, silicones, emollients: oil; water, humectants,
   electrolytes, thickeners, pH adjusters, neutralisers, chelators: water); insoluble solids and
@@ -56,6 +58,11 @@ OIL_NEED_ROLES = OIL_ROLES | {Role.CO_EMULSIFIER, Role.UV_FILTER}
 WATER_ROLES = frozenset({Role.WATER, Role.HUMECTANT, Role.ELECTROLYTE, Role.THICKENER,
                          Role.PH_ADJUSTER, Role.NEUTRALISER, Role.CHELATOR})
 SOLID_ROLES = frozenset({Role.PIGMENT})
+# an ingredient with one of these roles has a required HLB of its own, far from its HLB as an
+# emulsifier (cetyl alcohol: HLB 1, required HLB about 15; science.md section 1), so its HLB
+# never stands in for a missing required HLB
+OWN_NEED_ROLES = frozenset({Role.OIL, Role.WAX, Role.BUTTER, Role.FATTY_ALCOHOL,
+                            Role.FATTY_ACID, Role.SILICONE})
 SOAP_CLASS = "carboxylate soap"
 WATER_DENSITY = 0.99705  # g/mL at 25 degC (CRC Handbook; IAPWS), for water formed by neutralising
 HLB_WATER_SOLUBLE_ABOVE = 10.0  # rule of thumb: HLB below 10 oil-soluble, above 10 water-soluble
@@ -313,7 +320,8 @@ def _required(formula: ResolvedFormula, lines: list[LineFacts], kind: EmulsionTy
             continue
         ing = by_no[lf.line_no].ingredient
         value = ing.p.required_hlb_ow if kind == EmulsionType.OW else ing.p.required_hlb_wo
-        if value is None and is_co_emulsifier_only(ing) and ing.p.hlb is not None:
+        if value is None and is_co_emulsifier_only(ing) and ing.p.hlb is not None \
+                and not ing.roles & OWN_NEED_ROLES:
             value = ing.p.hlb
             work.note(f"{ing.inci_name}: co-emulsifier without a required HLB; its own HLB "
                       f"{value:g} stands for its need (as Wangpradit et al. 2022 do for "

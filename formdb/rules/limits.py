@@ -176,10 +176,12 @@ class ConcentrationLimit(Rule):
             ingredients=names, values=values,
             advice=f"remove {' and '.join(names)}; choose an ingredient allowed in {where}")
 
-    def _each(self, row: LimitRecord, amount: _Amount) -> Iterable[Finding]:
+    def _each(self, row: LimitRecord, amount: _Amount,
+              extra: Mapping[str, float | str | None] | None = None) -> Iterable[Finding]:
         line = amount.line
         values = _base_values(row)
         values["percent"] = line.percent
+        values.update(extra or {})
         if amount.value is None:
             yield self._unconvertible(row, [amount], values)
             return
@@ -188,6 +190,8 @@ class ConcentrationLimit(Rule):
         values["conversion_factor"] = amount.factor
         if amount.value <= row.max_percent + _EPS:
             return
+        if row.aggregate == "sum":
+            values["total_percent"] = amount.value
         as_acid = ""
         if row.basis == "as-acid" and amount.factor != 1.0:
             as_acid = f" = {amount.value:.3g} % as {row.acid_inci}"
@@ -201,6 +205,9 @@ class ConcentrationLimit(Rule):
                    + (f" ({row.conditions})" if row.conditions else ""))
 
     def _sum(self, row: LimitRecord, amounts: list[_Amount]) -> Iterable[Finding]:
+        if len(amounts) == 1:  # one member of the group present: judged as on its own
+            yield from self._each(row, amounts[0])
+            return
         values = _base_values(row)
         names = [a.line.inci for a in amounts]
         values["percent"] = sum(a.line.percent for a in amounts)

@@ -202,3 +202,19 @@ def test_packing_constants() -> None:
     facts = facts_of(LOTION)
     assert facts.packing_limit == pytest.approx(math.pi / math.sqrt(18))  # Hales 2005
     assert facts.random_close_packing == 0.64  # Scott & Kilgour 1969
+
+
+def test_a_fatty_alcohol_hlb_never_stands_in_for_its_required_hlb() -> None:
+    # science.md section 1: cetyl alcohol HLB 1 (Birdi) but required HLB about 15: never mix them
+    mini = formula("no rHLB", [("Water", 75.0), ("Paraffinum Liquidum", 15.0),
+                               ("Cetyl Alcohol", 5.0), ("Polysorbate 80", 5.0)],
+                   intended_type="O/W")
+    cetyl = mini.lines[2]
+    stripped = cetyl.ingredient.model_copy(update={
+        "properties": cetyl.ingredient.properties.model_copy(update={"required_hlb_ow": None})})
+    lines = (*mini.lines[:2], ResolvedLine(**{**cetyl.model_dump(), "ingredient": stripped}),
+             mini.lines[3])
+    facts = compute_facts(ResolvedFormula(source=mini.source, formula=mini.formula, lines=lines,
+                                          content_hash=mini.content_hash), reference())
+    assert facts.required_hlb == pytest.approx(12.0)  # mineral oil alone
+    assert facts.required_hlb_ow.missing == ("Cetyl Alcohol",)
