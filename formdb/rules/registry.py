@@ -1,29 +1,20 @@
 """The registry of rules: one entry per code, duplicates rejected.
 
-Rule modules register themselves with ``@register`` on import; ``default_registry()`` imports the
-built-in rule modules once and returns the shared registry.
+Rule modules register themselves with ``@register`` on import; ``default_registry()`` imports
+every module of the ``formdb.rules`` package once (so a new rule file needs no other edit) and
+returns the shared registry.
 """
 
 from __future__ import annotations
 
 import importlib
+import pkgutil
 
 from formdb.errors import ConfigError
 from formdb.rules.base import Rule, did_you_mean
 
-# the modules holding the built-in rules (one rule or a small family each)
-BUILTIN_RULE_MODULES: tuple[str, ...] = (
-    "formdb.rules.balance",
-    "formdb.rules.emulsifier",
-    "formdb.rules.hlb_balance",
-    "formdb.rules.emulsion_type",
-    "formdb.rules.packing",
-    "formdb.rules.incompatible",
-    "formdb.rules.limits",
-    "formdb.rules.ph_window",
-    "formdb.rules.use_range",
-    "formdb.rules.data_gaps",
-)
+# modules of formdb.rules that hold machinery, not rules
+_MACHINERY = frozenset({"base", "registry", "profiles", "engine", "facts", "docs"})
 
 
 class RuleRegistry:
@@ -84,8 +75,21 @@ REGISTRY = RuleRegistry()
 register = REGISTRY.add
 
 
+_loaded = False
+
+
+def builtin_rule_modules() -> tuple[str, ...]:
+    """The modules of formdb.rules that hold rules (one rule or a small family each)."""
+    package = importlib.import_module("formdb.rules")
+    return tuple(sorted(f"formdb.rules.{info.name}" for info in pkgutil.iter_modules(
+        package.__path__) if info.name not in _MACHINERY and not info.name.startswith("_")))
+
+
 def default_registry() -> RuleRegistry:
     """The shared registry with every built-in rule loaded."""
-    for module in BUILTIN_RULE_MODULES:
-        importlib.import_module(module)
+    global _loaded
+    if not _loaded:
+        for module in builtin_rule_modules():
+            importlib.import_module(module)
+        _loaded = True
     return REGISTRY
