@@ -279,6 +279,7 @@ def _line_facts(formula: ResolvedFormula, work: _Work) -> list[LineFacts]:
         density = ing.p.density
         out.append(LineFacts(
             line_no=ln.line_no, inci=ing.inci_name, percent=ln.percent, phase=phase,
+            phase_letter=ln.phase,
             phase_reason=reason, density=density,
             volume_ml=remaining / density if density else None, remaining_percent=remaining,
             emulsifier=emulsifier, required_hlb_member=member))

@@ -64,6 +64,7 @@ class LineFacts(_Frozen):
     remaining_percent: float  # what is left in its phase after soap formation
     emulsifier: bool  # counted in the emulsifier system
     required_hlb_member: bool  # counted in the oil phase's required HLB
+    phase_letter: str | None = None  # the formulator's process phase (A, B, ...) as written
 
 
 class EmulsifierFacts(_Frozen):
