@@ -25,28 +25,29 @@ _LABELS = {
 }
 
 
-def _effect(gap: DataGap, facts: FormulaFacts) -> tuple[str, float | None]:
-    """What the gap does to the number it touches, and that number (None when blocked)."""
+def _effect(gap: DataGap, facts: FormulaFacts) -> tuple[str, str | None, float | None]:
+    """What the gap does, the name of the number it touches, and that number (None: blocked)."""
     if gap.blocks == "blend HLB":
         value = facts.blend_hlb
         return ("the blend HLB leaves them out" if value is not None
-                else "the blend HLB cannot be worked out"), value
+                else "the blend HLB cannot be worked out"), "blend_hlb", value
     if gap.blocks.startswith("required HLB"):
         value = facts.required_hlb
         if value is None:
-            return f"the {gap.blocks} cannot be worked out", None
-        return f"the {gap.blocks} leaves them out", value
+            return f"the {gap.blocks} cannot be worked out", "required_hlb", None
+        return f"the {gap.blocks} leaves them out", "required_hlb", value
     if gap.blocks == "dispersed_fraction":
         value = facts.dispersed_fraction
         if value is None:
-            return "the dispersed_fraction cannot be worked out", None
+            return "the dispersed_fraction cannot be worked out", "dispersed_fraction", None
         return ("the dispersed_fraction takes their phase's mean density "
-                f"({facts.phases.estimated_percent:.3g} % of the formula estimated)"), value
+                f"({facts.phases.estimated_percent:.3g} % of the formula estimated)",
+                "dispersed_fraction", value)
     if gap.blocks == "creaming speed":
-        return "no creaming speed", None
+        return "no creaming speed", "velocity_m_s", None
     if gap.blocks == "soap formed in place":
-        return "the soap formed in place is not worked out", None
-    return f"{gap.blocks} is weakened", None
+        return "the soap formed in place is not worked out", None, None
+    return f"{gap.blocks} is weakened", None, None
 
 
 @register
@@ -74,12 +75,16 @@ class DataGaps(Rule):
               options: Mapping[str, Any]) -> Iterable[Finding]:
         for gap in facts.gaps:
             label = _LABELS.get(gap.property, gap.property.replace("_", " "))
-            effect, value = _effect(gap, facts)
+            effect, number, value = _effect(gap, facts)
+            values: dict[str, float | str | None] = {"property": gap.property,
+                                                     "blocks": gap.blocks}
+            if number is not None:
+                values[number] = value
             detail = f" ({gap.detail})" if gap.detail else ""
             yield self.finding(
                 self.default_severity,
                 f"no {label} in the library for {', '.join(gap.ingredients)}{detail}: {effect}",
                 ingredients=gap.ingredients,
-                values={"property": gap.property, "blocks": gap.blocks, "value": value},
+                values=values,
                 advice=f"add the {label} of {', '.join(gap.ingredients)} with its source "
                        "(`formdb ingredient edit`), then check again")

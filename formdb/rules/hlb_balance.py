@@ -76,8 +76,13 @@ class HlbBalance(Rule):
             values["reachable_low"] = solution.reachable_low
             values["reachable_high"] = solution.reachable_high
             need = "higher" if required > solution.reachable_high else "lower"
-            advice = (f"these emulsifiers reach only HLB {solution.reachable_low:.2f} to "
-                      f"{solution.reachable_high:.2f}: add or swap in one with a {need} HLB "
+            if len(solution.emulsifiers) == 1:
+                reach = (f"the only emulsifier with an HLB, {solution.emulsifiers[0]}, has HLB "
+                         f"{solution.reachable_low:.2f}")
+            else:
+                reach = (f"these emulsifiers reach only HLB {solution.reachable_low:.2f} to "
+                         f"{solution.reachable_high:.2f}")
+            advice = (f"{reach}: add or swap in one with a {need} HLB "
                       f"(`formdb blend --target {required:.1f}`)")
         else:
             advice = f"choose emulsifiers whose blend reaches HLB {required:.2f}"

@@ -56,6 +56,8 @@ def _tolerance(expected: float) -> float:
 
 
 def _same(actual: Any, expected: Any) -> bool:
+    if expected == "null":  # TOML has no null
+        return actual is None
     if isinstance(expected, bool) or expected is None:
         return actual == expected
     if isinstance(expected, int | float):
