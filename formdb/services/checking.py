@@ -96,9 +96,22 @@ def resolve(item: FormulaInput, found: dict[str, IngredientRecord],
                            content_hash=content_hash(item.text))
 
 
-def resolve_all(session: Session, items: list[FormulaInput]) -> list[ResolvedFormula]:
+def resolve_all(session: Session, items: list[FormulaInput],
+                known: dict[str, IngredientRecord] | None = None) -> list[ResolvedFormula]:
+    """Resolve every name of ``items`` in one bulk lookup.
+
+    ``known`` (name key -> record) carries records from earlier batches of the same transaction:
+    only names not in it are looked up, and what is found is added to it. It grows with the
+    library's size, never with the number of formulas.
+    """
     names = {line.inci for item in items for line in item.formula.ingredients}
-    found = queries.find_ingredients(session, names)
+    if known is None:
+        found = queries.find_ingredients(session, names)
+    else:
+        wanted = {n for n in names if name_key(n) not in known}
+        if wanted:
+            known.update(queries.find_ingredients(session, wanted))
+        found = known
     return [resolve(item, found, session) for item in items]
 
 
@@ -130,14 +143,15 @@ def iter_check_stored(db_url: str, profile: Profile | str | None = None,
     try:
         with unit_of_work(engine) as session:
             reference: ReferenceData = queries.load_reference_data(session)
+            known: dict[str, IngredientRecord] = {}  # records met so far: one build per run
             batch: list[FormulaInput] = []
             for stored in iter_stored_formulas(session):
                 batch.append(input_from_text(stored.content, f"stored:{stored.name}"))
                 if len(batch) >= batch_size:
-                    for formula in resolve_all(session, batch):
+                    for formula in resolve_all(session, batch, known):
                         yield check_resolved(formula, reference, chosen)
                     batch = []
-            for formula in resolve_all(session, batch):
+            for formula in resolve_all(session, batch, known):
                 yield check_resolved(formula, reference, chosen)
     finally:
         engine.dispose()

@@ -1,0 +1,374 @@
+"""``python -m formdb.bench run``: every figure of the benchmark, measured in one run.
+
+Each figure is printed with the raw floor it is divided by (``formdb.bench.floors``) and its
+target. Libraries are generated first (the seed library, synthetic ingredients, then formulas
+added size by size to copies, so the 10,000-formula library holds the 1,000 of the smaller one);
+each ``check --all`` and the import run in a process of their own (``formdb.bench.worker``) so
+their peak memory is theirs alone.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+import platform
+import shutil
+import sqlite3
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from collections.abc import Callable, Iterator, Sequence
+from contextlib import ExitStack, contextmanager
+from dataclasses import asdict, dataclass, field, replace
+from datetime import UTC, datetime
+from pathlib import Path
+from typing import Any
+
+import click
+
+from formdb.bench import floors, library, synthetic
+from formdb.resources import seed_data_dir
+from formdb.services.setup import init_library
+from formdb.store.db import open_library, unit_of_work
+
+CHECK_TARGET = 5.0
+IMPORT_TARGET = 2.0
+STARTUP_TARGET = 1.5
+MEMORY_TARGET_MB = 300.0
+MEMORY_GROWTH_TARGET = 0.20
+EXPONENT_BAND = (0.9, 1.1)  # "about 1.0"
+DEMO_FILE = "01-hand-cream.toml"
+
+
+@dataclass(frozen=True)
+class Sizes:
+    ingredients: int
+    formulas: tuple[int, ...]  # ascending; the last two are compared for memory growth
+    import_rows: int
+    startup_runs: int
+    seed: int = 42
+
+
+FULL = Sizes(ingredients=5000, formulas=(1000, 10_000, 100_000), import_rows=50_000,
+             startup_runs=9)
+QUICK = Sizes(ingredients=400, formulas=(100, 300, 1000), import_rows=2000, startup_runs=3)
+
+
+@dataclass
+class Figure:
+    """One line of the results: what was measured, against which floor, and the target."""
+
+    name: str
+    measured: float
+    unit: str
+    floor: float | None = None
+    floor_name: str = ""
+    target: str = ""
+    met: bool | None = None
+    detail: str = ""
+
+    @property
+    def ratio(self) -> float | None:
+        return self.measured / self.floor if self.floor else None
+
+
+@dataclass
+class BackendResult:
+    backend: str
+    figures: list[Figure] = field(default_factory=list)
+    notes: list[str] = field(default_factory=list)
+
+
+# --- where the libraries live -----------------------------------------------------------------
+
+class SqliteLibraries:
+    """Benchmark libraries as SQLite files in one folder."""
+
+    name = "SQLite"
+
+    def __init__(self, folder: Path) -> None:
+        self.folder = folder
+
+    def new(self, label: str) -> str:
+        path = self.folder / f"{label}.sqlite"
+        for leftover in (path, Path(f"{path}-wal"), Path(f"{path}-shm")):
+            leftover.unlink(missing_ok=True)
+        return str(path)
+
+    def copy(self, source: str, label: str) -> str:
+        library.checkpoint(source)
+        target = self.new(label)
+        shutil.copyfile(source, target)
+        return target
+
+    def close(self) -> None:
+        pass
+
+
+class PostgresLibraries:
+    """Benchmark libraries as databases on one PostgreSQL server, dropped at the end."""
+
+    name = "PostgreSQL"
+
+    def __init__(self, base_url: str) -> None:
+        self.base_url = base_url
+        self.stack = ExitStack()
+        self.prefix = f"formdb_bench_{os.getpid()}"
+
+    def _database(self, label: str, template: str | None = None) -> str:
+        return self.stack.enter_context(
+            library.pg_database(self.base_url, f"{self.prefix}_{label}", template))
+
+    def new(self, label: str) -> str:
+        return self._database(label)
+
+    def copy(self, source: str, label: str) -> str:
+        from sqlalchemy.engine import make_url
+
+        return self._database(label, template=make_url(source).database)
+
+    def close(self) -> None:
+        self.stack.close()
+
+
+# --- measurements -------------------------------------------------------------------------------
+
+def _worker(*args: str) -> dict[str, Any]:
+    done = subprocess.run([sys.executable, "-m", "formdb.bench.worker", *args],
+                          capture_output=True, text=True, check=False)
+    if done.returncode != 0:
+        raise RuntimeError(f"benchmark worker {' '.join(args[:1])} failed: "
+                           f"{done.stderr.strip()[-2000:]}")
+    return dict(json.loads(done.stdout.strip().splitlines()[-1]))
+
+
+def fitted_exponent(points: Sequence[tuple[float, float]]) -> float:
+    """The least-squares slope of log(time) against log(size)."""
+    xs = [math.log(n) for n, _t in points]
+    ys = [math.log(t) for _n, t in points]
+    mx, my = statistics.fmean(xs), statistics.fmean(ys)
+    return sum((x - mx) * (y - my) for x, y in zip(xs, ys, strict=True)) / \
+        sum((x - mx) ** 2 for x in xs)
+
+
+def _startup_command(url: str, formula: Path) -> tuple[list[str], str]:
+    """The ``formdb check FILE`` command; the service behind it when the CLI lacks ``check``."""
+    argv = [sys.executable, "-m", "formdb", "--db", url, "check", str(formula)]
+    done = subprocess.run(argv, capture_output=True, text=True, check=False)
+    if done.returncode in (0, 1):
+        return argv, "python -m formdb check FILE"
+    script = ("import sys; from pathlib import Path; "
+              "from formdb.services.checking import check_files; "
+              "from formdb.report import render; "
+              "print(render(check_files(sys.argv[1], [Path(sys.argv[2])]), 'text'))")
+    return ([sys.executable, "-c", script, url, str(formula)],
+            "check_files + report.render (the check CLI failed: "
+            f"{(done.stderr.strip().splitlines() or ['no message'])[-1][:120]})")
+
+
+def _median_wall(argv: list[str], runs: int) -> float:
+    return statistics.median(floors.wall_time(argv) for _ in range(runs))
+
+
+@dataclass
+class Progress:
+    echo: Callable[[str], None]
+    started: float = field(default_factory=time.perf_counter)
+
+    def __call__(self, text: str) -> None:
+        self.echo(f"  [{time.perf_counter() - self.started:7.1f} s] {text}")
+
+
+def measure_backend(libs: SqliteLibraries | PostgresLibraries, sizes: Sizes,
+                    work: Path, say: Progress) -> BackendResult:
+    result = BackendResult(libs.name)
+    plan = library.LibraryPlan(sizes.ingredients, 0, sizes.seed)
+
+    say("seed library and the synthetic-bench source")
+    seed_only = libs.new("seedonly")
+    init_library(seed_only, seed=True, user=library.BENCH_USER)
+    engine = open_library(seed_only)
+    try:
+        with unit_of_work(engine, write=True) as session:
+            library.add_source(session, library.BENCH_USER)
+    finally:
+        engine.dispose()
+
+    say(f"library of {sizes.ingredients} ingredients (synthetic ones via import_table)")
+    base = libs.copy(seed_only, "base")
+    started = time.perf_counter()
+    added = library.add_ingredients(base, plan)
+    result.notes.append(f"generated {added} synthetic ingredients through import_table in "
+                        f"{time.perf_counter() - started:.1f} s")
+
+    timings: list[tuple[int, float]] = []
+    peaks: dict[int, float] = {}
+    previous, previous_n = base, 0
+    for n in sizes.formulas:
+        say(f"{n} formulas: generating")
+        current = libs.copy(previous, f"f{n}")
+        started = time.perf_counter()
+        library.add_formulas(current, replace(plan, formulas=n), start=previous_n + 1)
+        result.notes.append(f"stored {n - previous_n} more formulas (total {n}) in "
+                            f"{time.perf_counter() - started:.1f} s")
+        library.checkpoint(current)
+        say(f"{n} formulas: check --all (own process)")
+        run = _worker("check", current)
+        if run["formulas"] != n:
+            raise RuntimeError(f"check --all saw {run['formulas']} formulas, expected {n}")
+        say(f"{n} formulas: floor")
+        floor_seconds, floor_formulas, floor_lines = floors.check_floor(current)
+        timings.append((n, run["seconds"]))
+        peaks[n] = run["peak_mb"]
+        per = run["seconds"] / n * 1000
+        result.figures.append(Figure(
+            f"check --all, {n:,} formulas ({floor_lines:,} lines)", run["seconds"], "s",
+            floor_seconds, "plain driver read + tomllib + property tuples",
+            f"<= {CHECK_TARGET:g}x", None,
+            f"{per:.2f} ms per formula; {run['with_error_findings']:,} formulas with an "
+            f"error finding"))
+        previous, previous_n = current, n
+
+    # the ratio target applies to the 10,000-formula run (the last-but-one size)
+    main_n = sizes.formulas[-2] if len(sizes.formulas) > 1 else sizes.formulas[-1]
+    for figure in result.figures:
+        if figure.name.startswith(f"check --all, {main_n:,} "):
+            figure.met = figure.ratio is not None and figure.ratio <= CHECK_TARGET
+    low_n, high_n = main_n, sizes.formulas[-1]
+    for n in sorted({low_n, high_n}):
+        result.figures.append(Figure(
+            f"peak memory, check --all {n:,} formulas", peaks[n], "MB", None, "",
+            f"<= {MEMORY_TARGET_MB:g} MB", peaks[n] <= MEMORY_TARGET_MB))
+    if high_n != low_n:
+        growth = peaks[high_n] / peaks[low_n] - 1
+        result.figures.append(Figure(
+            f"memory growth {low_n:,} -> {high_n:,} formulas", growth * 100, "%", None, "",
+            f"< {MEMORY_GROWTH_TARGET * 100:g} %", growth < MEMORY_GROWTH_TARGET))
+    if len(timings) >= 2:
+        exponent = fitted_exponent(timings)
+        result.figures.append(Figure(
+            "scaling exponent (log-log fit of check --all time)", exponent, "", None,
+            ", ".join(f"{n:,}: {t:.2f} s" for n, t in timings), "about 1.0",
+            EXPONENT_BAND[0] <= exponent <= EXPONENT_BAND[1]))
+
+    say(f"import of a {sizes.import_rows:,}-row CSV (own process)")
+    csv_path = work / f"import-{sizes.import_rows}.csv"
+    if not csv_path.exists():
+        synthetic.write_ingredient_csv(csv_path, synthetic.synthetic_ingredient_rows(
+            sizes.import_rows, sizes.seed + 1))
+    target = libs.copy(seed_only, "import")
+    run = _worker("import", target, str(csv_path))
+    floor_url = libs.new("importfloor")
+    floor_seconds, floor_rows = floors.import_floor(csv_path, floor_url)
+    result.figures.append(Figure(
+        f"import of a {floor_rows:,}-row CSV (import_table, one transaction)", run["seconds"],
+        "s", floor_seconds, "pandas.read_csv + plain executemany", f"<= {IMPORT_TARGET:g}x",
+        floor_seconds > 0 and run["seconds"] / floor_seconds <= IMPORT_TARGET,
+        f"{run['added']:,} added; peak {run['peak_mb']:.0f} MB"))
+
+    say(f"start-up: formdb check FILE, median of {sizes.startup_runs} runs")
+    formula = seed_data_dir() / "demo" / DEMO_FILE
+    argv, what = _startup_command(base, formula)
+    floors.wall_time(argv)  # warm the file cache once for both
+    floors.startup_floor()
+    single = _median_wall(argv, sizes.startup_runs)
+    floor = statistics.median(floors.startup_floor() for _ in range(sizes.startup_runs))
+    result.figures.append(Figure(
+        f"one check FILE process, wall time ({what})", single, "s", floor,
+        'python -c "import sqlalchemy, pydantic, click"', f"<= {STARTUP_TARGET:g}x",
+        single / floor <= STARTUP_TARGET))
+    return result
+
+
+# --- printing -------------------------------------------------------------------------------
+
+def machine() -> dict[str, str]:
+    memory = ""
+    try:
+        with open("/proc/meminfo", encoding="ascii") as handle:
+            kib = int(next(line for line in handle if line.startswith("MemTotal")).split()[1])
+            memory = f"{kib / 1024 / 1024:.1f} GiB"
+    except (OSError, StopIteration, ValueError):
+        memory = "unknown"
+    return {"date": datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC"),
+            "cpus": str(os.cpu_count()), "memory": memory,
+            "python": platform.python_version(), "platform": platform.platform(),
+            "sqlite": sqlite3.sqlite_version}
+
+
+def _number(value: float, unit: str) -> str:
+    if unit == "s":
+        return f"{value:.3f} s" if value < 10 else f"{value:.1f} s"
+    if unit == "MB":
+        return f"{value:.0f} MB"
+    if unit == "%":
+        return f"{value:+.1f} %"
+    return f"{value:.3f}"
+
+
+def render(results: Sequence[BackendResult], sizes: Sizes) -> list[str]:
+    info = machine()
+    lines = [f"formdb benchmark, {info['date']}: {info['cpus']} CPUs, {info['memory']}, "
+             f"Python {info['python']}, SQLite {info['sqlite']}",
+             f"library: {sizes.ingredients:,} ingredients (seed + synthetic), seed "
+             f"{sizes.seed}; formulas {', '.join(f'{n:,}' for n in sizes.formulas)}"]
+    for backend in results:
+        lines.append("")
+        lines.append(f"== {backend.backend} ==")
+        for fig in backend.figures:
+            met = {True: "MET", False: "MISSED", None: "-"}[fig.met]
+            lines.append(f"{fig.name}")
+            measured = _number(fig.measured, fig.unit)
+            if fig.floor is not None:
+                lines.append(f"    {measured}  vs floor {_number(fig.floor, 's')} "
+                             f"({fig.floor_name})  ratio {fig.ratio:.2f}x  "
+                             f"target {fig.target or '-'}  {met}")
+            else:
+                extra = f"  ({fig.floor_name})" if fig.floor_name else ""
+                lines.append(f"    {measured}{extra}  target {fig.target or '-'}  {met}")
+            if fig.detail:
+                lines.append(f"    {fig.detail}")
+        for note in backend.notes:
+            lines.append(f"  note: {note}")
+    return lines
+
+
+@contextmanager
+def _work_folder(work: Path | None) -> Iterator[Path]:
+    if work is not None:
+        work.mkdir(parents=True, exist_ok=True)
+        yield work
+        return
+    with tempfile.TemporaryDirectory(prefix="formdb-bench-") as folder:
+        yield Path(folder)
+
+
+def run_benchmark(*, quick: bool = False, pg_url: str | None = None, work: Path | None = None,
+                  sizes: Sizes | None = None, json_out: Path | None = None,
+                  echo: Callable[[str], None] = click.echo) -> list[BackendResult]:
+    """Measure every figure on SQLite (and PostgreSQL when ``pg_url`` is given), print them."""
+    chosen = sizes or (QUICK if quick else FULL)
+    results: list[BackendResult] = []
+    say = Progress(echo)
+    with _work_folder(work) as folder:
+        echo(f"SQLite libraries in {folder}")
+        results.append(measure_backend(SqliteLibraries(folder), chosen, folder, say))
+        if pg_url:
+            echo("PostgreSQL")
+            libs = PostgresLibraries(pg_url)
+            try:
+                results.append(measure_backend(libs, chosen, folder, say))
+            finally:
+                libs.close()
+    for line in render(results, chosen):
+        echo(line)
+    if json_out is not None:
+        json_out.write_text(json.dumps(
+            {"machine": machine(), "sizes": asdict(chosen),
+             "results": [{"backend": r.backend, "notes": r.notes,
+                          "figures": [{**asdict(f), "ratio": f.ratio} for f in r.figures]}
+                         for r in results]}, indent=2), encoding="utf-8")
+    return results
