@@ -11,6 +11,11 @@ import math
 DASH = "–"
 
 
+def glue(number: str, unit: str) -> str:
+    """A number and its unit (rich wraps at any Unicode space, so a plain one is used)."""
+    return f"{number} {unit}" if unit else number
+
+
 def _finite(value: float | None) -> bool:
     return value is not None and math.isfinite(value)
 
@@ -41,7 +46,7 @@ def percent(value: float | None, unit: str = "% w/w") -> str:
         return DASH
     assert value is not None
     number = f"{value:.2f}" if abs(value) >= 0.1 or value == 0 else plain(value)
-    return f"{number} {unit}" if unit else number
+    return glue(number, unit)
 
 
 def share(fraction: float | None) -> str:
@@ -49,7 +54,7 @@ def share(fraction: float | None) -> str:
     if not _finite(fraction):
         return DASH
     assert fraction is not None
-    return f"{fraction * 100:.1f} %"
+    return glue(f"{fraction * 100:.1f}", "%")
 
 
 def fraction(value: float | None) -> str:
@@ -60,11 +65,11 @@ def fraction(value: float | None) -> str:
 
 
 def density(value: float | None) -> str:
-    return DASH if not _finite(value) else f"{value:.3f} g/mL"
+    return DASH if not _finite(value) else glue(f"{value:.3f}", "g/mL")
 
 
 def volume_ml(value: float | None) -> str:
-    return DASH if not _finite(value) else f"{value:.2f} mL"
+    return DASH if not _finite(value) else glue(f"{value:.2f}", "mL")
 
 
 def signed(value: float, decimals: int = 2) -> str:
@@ -76,7 +81,7 @@ def with_unit(value: float | None, unit: str, digits: int = 3) -> str:
     if not _finite(value):
         return DASH
     assert value is not None
-    return f"{plain(value, digits)} {unit}"
+    return glue(plain(value, digits), unit)
 
 
 def count(n: int, singular: str, plural: str | None = None) -> str:

@@ -23,9 +23,8 @@ SIDE_WORDS = {"oil": "oil", "water": "water", "none": "neither", None: n.DASH}
 
 
 def _phase_letter(line: LineFacts) -> str:
-    """The formulator's phase letter (A, B, ...) when the facts carry it."""
-    letter = getattr(line, "phase_letter", None)
-    return str(letter) if letter else n.DASH
+    """The formulator's phase letter (A, B, ...), or a dash when the file gives none."""
+    return line.phase_letter or n.DASH
 
 
 # ----- phases -----------------------------------------------------------------------------
@@ -87,22 +86,21 @@ def _emulsifier_table(facts: FormulaFacts) -> Block:
                  rows, "snnnss", "Emulsifier system")
 
 
-def _soap_row(soap: SoapFacts) -> tuple[str, ...]:
-    left = []
-    if soap.acid_left_percent > 1e-9:
-        left.append(f"{soap.acid} {n.percent(soap.acid_left_percent)}")
+def _soap_lines(soap: SoapFacts) -> list[Line]:
+    favours = f", favours {soap.favours.value}" if soap.favours else ""
+    where = "" if soap.soap_in_library else " (no soap pair in the library)"
+    left = [f"{soap.acid} {n.percent(soap.acid_left_percent)}"] if \
+        soap.acid_left_percent > 1e-9 else []
     if soap.base_left_percent > 1e-9:
         left.append(f"{soap.base} {n.percent(soap.base_left_percent)}")
-    favours = soap.favours.value if soap.favours else n.DASH
-    return (f"{soap.acid} + {soap.base}", soap.soap, n.percent(soap.soap_percent),
-            n.percent(soap.acid_used_percent), n.percent(soap.base_used_percent),
-            "; ".join(left) or "nothing", f"{soap.limiting}", favours)
-
-
-def _soap_table(facts: FormulaFacts) -> Block:
-    rows = [_soap_row(s) for s in facts.soaps]
-    return table(("Acid + base", "Soap formed", "Soap", "Acid used", "Base used", "Left over",
-                  "Limiting", "Favours"), rows, "ssnnnsss", "Soap formed in the batch")
+    return [
+        Line("Soap formed in the batch",
+             f"{soap.acid} (line {soap.acid_line_no}) + {soap.base} (line {soap.base_line_no}) "
+             f"give {soap.soap} {n.percent(soap.soap_percent)}{where}{favours}"),
+        Line("Used", f"{soap.acid} {n.percent(soap.acid_used_percent)}, {soap.base} "
+                     f"{n.percent(soap.base_used_percent)}; {soap.limiting} limits the "
+                     f"reaction; water formed {n.percent(soap.water_formed_percent)}"),
+        Line("Left over", "; ".join(left) or "nothing")]
 
 
 def _required_line(req: RequiredHlbFacts, working: bool) -> Line:
@@ -170,13 +168,16 @@ def _present(facts: FormulaFacts) -> dict[str, float]:
     return {e.inci: e.percent for e in facts.emulsifiers}
 
 
-def _solution_block(facts: FormulaFacts, sol: BlendSolution) -> Block:
-    if not sol.reachable:
-        return lines(Line(
-            "Ratio for the target",
-            f"none: the formula's emulsifiers reach HLB {n.hlb(sol.reachable_low)} to "
-            f"{n.hlb(sol.reachable_high)} only, and the target is {n.hlb(sol.target_hlb)}; "
-            "swap one for an emulsifier beyond the target or add one", "bad"))
+def _unreachable_line(sol: BlendSolution) -> Line:
+    reach = (f"have HLB {n.hlb(sol.reachable_low)} only"
+             if abs(sol.reachable_high - sol.reachable_low) < 1e-9 else
+             f"reach HLB {n.hlb(sol.reachable_low)} to {n.hlb(sol.reachable_high)} only")
+    return Line("Ratio for the target",
+                f"none: the formula's emulsifiers {reach}, and the target is "
+                f"{n.hlb(sol.target_hlb)}; add or swap in an emulsifier beyond the target", "bad")
+
+
+def _solution_table(facts: FormulaFacts, sol: BlendSolution) -> Block:
     present = _present(facts)
     total = sum(present.get(name, 0.0) for name in sol.emulsifiers)
     rows = []
@@ -196,9 +197,8 @@ def hlb_section(facts: FormulaFacts) -> Section:
     blocks: list[Block] = []
     if facts.emulsifiers:
         blocks.append(_emulsifier_table(facts))
-    if facts.soaps:
-        blocks.append(_soap_table(facts))
     items = [
+        *(line for soap in facts.soaps for line in _soap_lines(soap)),
         Line("Emulsifier total", n.percent(facts.emulsifier_percent)) if facts.emulsifiers
         else None,
         _blend_line(facts),
@@ -209,9 +209,12 @@ def hlb_section(facts: FormulaFacts) -> Section:
         _working_line(facts),
         *_band_lines(facts),
     ]
+    sol = facts.blend_solution
+    if sol is not None and not sol.reachable:
+        items.append(_unreachable_line(sol))
     blocks.append(lines(*items))
-    if facts.blend_solution is not None:
-        blocks.append(_solution_block(facts, facts.blend_solution))
+    if sol is not None and sol.reachable:
+        blocks.append(_solution_table(facts, sol))
     return Section("HLB balance", tuple(blocks))
 
 

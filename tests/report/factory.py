@@ -35,31 +35,37 @@ RECORDS: dict[str, dict[str, Any]] = {
 }
 
 
-def record(name: str, number: int, synonyms: tuple[str, ...] = ()) -> IngredientRecord:
-    spec = RECORDS[name]
-    return IngredientRecord(id=number, inci_name=name, synonyms=synonyms,
-                            roles=frozenset(spec["roles"]),
+Spec = dict[str, Any]
+Line = tuple[str, float] | tuple[str, float, str]
+
+
+def record(name: str, number: int, extra: dict[str, Spec] | None = None) -> IngredientRecord:
+    spec = {**RECORDS, **(extra or {})}[name]
+    return IngredientRecord(id=number, inci_name=name, roles=frozenset(spec["roles"]),
                             properties=IngredientProperties.model_validate(spec["props"]))
 
 
-def resolved(name: str, lines: list[tuple[str, float, str]], **extra: Any) -> ResolvedFormula:
+def resolved(name: str, lines: list[Line], extra: dict[str, Spec] | None = None,
+             **keys: Any) -> ResolvedFormula:
+    """A resolved formula; ``lines`` are (INCI, %) or (INCI, %, phase letter)."""
+    full = [(ln[0], ln[1], ln[2] if len(ln) > 2 else None) for ln in lines]  # type: ignore[misc]
     formula = FormulaFile.model_validate({
         "name": name, "category": "leave-on",
-        "ingredients": [{"inci": inci, "percent": pct, "phase": ph} for inci, pct, ph in lines],
-        **extra})
-    out = [ResolvedLine(line_no=i, given_name=inci, percent=pct, phase=ph,
-                        ingredient=record(inci, i))
-           for i, (inci, pct, ph) in enumerate(lines, start=1)]
+        "ingredients": [{"inci": i, "percent": p, "phase": ph} for i, p, ph in full], **keys})
+    out = [ResolvedLine(line_no=n, given_name=i, percent=p, phase=ph,
+                        ingredient=record(i, n, extra))
+           for n, (i, p, ph) in enumerate(full, start=1)]
     return ResolvedFormula(source=f"{name}.toml", formula=formula, lines=tuple(out),
                            content_hash="0" * 64)
 
 
-def result(name: str = "Larkspur test lotion",
-           lines: list[tuple[str, float, str]] | None = None,
-           findings: tuple[Finding, ...] = (), **extra: Any) -> CheckResult:
+def result(name: str = "Larkspur test lotion", lines: list[Line] | None = None,
+           findings: tuple[Finding, ...] = (), extra: dict[str, Spec] | None = None,
+           **keys: Any) -> CheckResult:
+    """A checked formula: the facts worked out by the rules' own ``compute_facts``."""
     formula = resolved(name, lines or [
         ("Water", 72.0, "A"), ("Glycerin", 3.0, "A"), ("Isopropyl Myristate", 20.0, "B"),
-        ("Sorbitan Oleate", 1.5, "B"), ("Polysorbate 80", 3.5, "A")], **extra)
+        ("Sorbitan Oleate", 1.5, "B"), ("Polysorbate 80", 3.5, "A")], extra, **keys)
     facts = compute_facts(formula, ReferenceData())
     ff = formula.formula
     return CheckResult(formula=ff.name, source=formula.source, content_hash=formula.content_hash,

@@ -1,0 +1,93 @@
+"""The text report: plain when not a terminal, 100 columns, units on the numbers, no reprs."""
+
+from __future__ import annotations
+
+import re
+
+import pytest
+
+from formdb.errors import ConfigError
+from formdb.report import FORMATS, RENDERERS, render
+from formdb.schemas.vocab import Role, Severity
+from tests.report.factory import finding, result
+
+ANSI = re.compile(r"\x1b\[")
+
+
+def test_dispatch_table_has_the_three_formats() -> None:
+    assert set(RENDERERS) == set(FORMATS) == {"text", "json", "html"}
+    with pytest.raises(ConfigError, match="unknown report format"):
+        render([result()], "pdf")
+
+
+def test_plain_text_has_no_colour_codes_and_fits_100_columns() -> None:
+    text = render([result(intended_type="O/W", findings=(finding(),))], "text")
+    assert not ANSI.search(text)
+    assert max(len(line) for line in text.splitlines()) <= 100
+
+
+def test_colour_only_when_asked() -> None:
+    checked = result(findings=(finding(severity=Severity.ERROR),))
+    assert ANSI.search(render([checked], "text", color=True))
+
+
+def test_markup_in_user_strings_is_printed_as_written() -> None:
+    text = render([result(name="Lotion [bold]draft[/bold] [red]2", findings=(
+        finding(message="see [link=x]here[/link]"),))], "text")
+    assert "Lotion [bold]draft[/bold] [red]2" in text
+    assert "see [link=x]here[/link]" in text
+
+
+def test_numbers_carry_units_and_no_python_reprs_leak() -> None:
+    text = render([result(intended_type="O/W", ph=5.5)], "text")
+    for unit in ("% w/w", "g/mL", "mL", "µm", "m²", "mg/m²", "kg/m³", "mPa·s", "mm/day"):
+        assert unit in text, unit
+    for leak in ("None", "EmulsionType", "Severity.", "True", "False", "{'", "()"):
+        assert leak not in text, leak
+
+
+def test_sections_come_in_reading_order_and_findings_by_severity() -> None:
+    checked = result(intended_type="O/W", findings=(
+        finding("I9", Severity.INFO, "note"), finding("E9", Severity.ERROR, "error"),
+        finding("W9", Severity.WARNING, "warning")))
+    text = render([checked], "text")
+    order = ["PHASES", "HLB BALANCE", "EMULSION TYPE", "DISPERSED PHASE",
+             "INTERFACE AND CREAMING", "DATA GAPS", "FINDINGS", "Cautions"]
+    positions = [text.index(title) for title in order]
+    assert positions == sorted(positions)
+    assert text.index("Errors (1)") < text.index("Warnings (1)") < text.index("Information (1)")
+
+
+def test_the_published_blend_and_its_ratio_are_shown() -> None:
+    # 1.5 % sorbitan oleate (4.3) and 3.5 % polysorbate 80 (15.0) = 30/70 -> HLB 11.79
+    # (PMC4137601 Table 2); required HLB 11.5 of isopropyl myristate (OCL 2022 Table 4); the
+    # lever rule gives x = (11.5 - 15.0) / (4.3 - 15.0) = 0.327 of sorbitan oleate.
+    text = render([result(intended_type="O/W")], "text")
+    assert "Blend HLB          11.79" in text
+    assert "32.7 %" in text and "1.64" in text and "3.36" in text
+    assert "inside the band" in text
+
+
+def test_soap_formed_in_place_is_marked() -> None:
+    extra = {
+        "Stearic Acid": {"roles": {Role.FATTY_ACID, Role.EMULSIFIER}, "props": {
+            "solubility": "oil", "density": 0.94, "molar_mass": 284.48, "required_hlb_ow": 15}},
+        "Sodium Hydroxide": {"roles": {Role.PH_ADJUSTER}, "props": {
+            "solubility": "water", "density": 2.13, "molar_mass": 39.997,
+            "base_equivalents": 1, "cation_valence": 1, "neutralisation_water": 1}},
+    }
+    text = render([result(lines=[("Water", 84.0), ("Stearic Acid", 15.0),
+                                 ("Sodium Hydroxide", 1.0)], extra=extra,
+                          intended_type="O/W")], "text")
+    flat = " ".join(text.split())
+    assert "Soap formed in the batch" in flat and "Left over" in flat
+    # stoichiometry: 1.00 g NaOH (39.997 g/mol) neutralises 1.00 / 39.997 mol of stearic acid
+    # (284.48 g/mol) = 7.11 g and frees 1.00 / 39.997 x 18.015 = 0.45 g of water
+    assert "Stearic Acid 7.11 % w/w" in flat and "water formed 0.45 % w/w" in flat
+    assert "Stearic Acid 7.89 % w/w" in flat  # 15.00 - 7.11 left over
+
+
+def test_several_formulas_then_the_cautions_once() -> None:
+    text = render([result(name="First"), result(name="Second")], "text")
+    assert text.index("First") < text.index("Second") < text.index("Cautions")
+    assert text.count("Cautions") == 1
