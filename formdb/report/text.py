@@ -90,7 +90,7 @@ def _findings(groups: tuple[FindingGroup, ...]) -> RenderableType:
         grid.add_column(no_wrap=True, style=SEVERITY_STYLES[group.severity])
         grid.add_column(ratio=1)
         for item in group.items:
-            grid.add_row(Text(item.code), Text(f"{item.message} ({item.name})"))
+            grid.add_row(Text(item.code), Text(f"{item.name}: {item.message}"))
             if item.ingredients:
                 grid.add_row(Text(""), Text(f"Ingredients: {item.ingredients}"))
             if item.advice:
