@@ -10,7 +10,7 @@ import json
 from collections.abc import Callable, Sequence
 from dataclasses import asdict
 from io import StringIO
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from rich import box
 from rich.console import Console, RenderableType
@@ -20,7 +20,9 @@ from rich.text import Text
 from formdb.errors import ConfigError
 from formdb.report import numbers as n
 from formdb.schemas.result import rounded
-from formdb.services.blending import BlendMember, BlendPlan, PairCandidate, PairSearch
+
+if TYPE_CHECKING:  # the report layer only reads these records; it does not call services
+    from formdb.services.blending import BlendMember, BlendPlan, PairCandidate, PairSearch
 
 WIDTH = 100
 BLEND_FORMATS = ("text", "json")
