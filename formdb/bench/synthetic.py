@@ -184,6 +184,7 @@ class Pools:
     humectants: tuple[Material, ...]
     thickeners: tuple[Material, ...]
     oils: tuple[Material, ...]
+    wo_oils: tuple[Material, ...]  # oils with a required HLB for W/O
     fatty_alcohols: tuple[Material, ...]
     low_emulsifiers: tuple[Material, ...]
     high_emulsifiers: tuple[Material, ...]
@@ -209,15 +210,17 @@ def build_pools(rows: Sequence[Mapping[str, str]]) -> Pools:
         return low is not None and high is not None and low >= 0.01
 
     water = next(m for m in items if "water" in m.roles)
+    oils = pick(lambda m: bool(m.roles & {"oil", "butter", "wax", "silicone", "emollient"})
+                and m.words.get("solubility") == "oil" and m.n("required_hlb_ow") is not None
+                and not m.roles & {"fatty acid", "fatty alcohol", "preservative", "emulsifier"})
     return Pools(
         water=water,
         humectants=pick(lambda m: "humectant" in m.roles and m.words.get("solubility") == "water"
                         and not m.roles & {"active", "ph adjuster"} and ranged(m)),
         thickeners=pick(lambda m: "thickener" in m.roles and not m.roles & {
             "emulsifier", "electrolyte", "fatty alcohol", "fatty acid"} and ranged(m)),
-        oils=pick(lambda m: bool(m.roles & {"oil", "butter", "wax", "silicone", "emollient"})
-                  and m.words.get("solubility") == "oil" and m.n("required_hlb_ow") is not None
-                  and not m.roles & {"fatty acid", "fatty alcohol", "preservative", "emulsifier"}),
+        oils=oils,
+        wo_oils=tuple(m for m in oils if m.n("required_hlb_wo") is not None),
         fatty_alcohols=pick(lambda m: "fatty alcohol" in m.roles
                             and m.n("required_hlb_ow") is not None),
         low_emulsifiers=pick(lambda m: "emulsifier" in m.roles
@@ -279,10 +282,16 @@ _EXTRA_CAPS = {"oil": 8, "humectant": 1, "thickener": 1, "fatty_alcohol": 1,
                "preservative": 1, "antioxidant": 1, "fragrance": 1, "active": 5}
 
 
-def _extras(rng: random.Random, slots: int, water_in_oil: bool) -> dict[str, int]:
-    caps = dict(_EXTRA_CAPS)
-    if water_in_oil:
-        caps["thickener"] = 0
+def _extras(rng: random.Random, slots: int, water_in_oil: bool, pools: Pools) -> dict[str, int]:
+    """How many optional lines of each kind, capped by what the pools can supply."""
+    supply = {"oil": len(pools.wo_oils if water_in_oil else pools.oils) - 1,
+              "humectant": len(pools.humectants) - 1,
+              "thickener": 0 if water_in_oil else len(pools.thickeners),
+              "fatty_alcohol": 0 if water_in_oil else len(pools.fatty_alcohols),
+              "preservative": len(pools.preservatives) - 1,
+              "antioxidant": len(pools.antioxidants), "fragrance": len(pools.fragrances),
+              "active": len(pools.actives)}
+    caps = {k: max(0, min(cap, supply[k])) for k, cap in _EXTRA_CAPS.items()}
     counts = dict.fromkeys(caps, 0)
     for _ in range(slots):
         open_ = [k for k in caps if counts[k] < caps[k]]
@@ -297,7 +306,7 @@ def formula_lines(rng: random.Random, pools: Pools, water_in_oil: bool
     """(material, hundredths of a percent, phase) for one formula, 8-25 lines, totalling 100 %."""
     length = rng.randint(8, 25)
     fixed = 6 + (1 if water_in_oil else 0)  # water, 2 emulsifiers, preservative, oil, humectant
-    extra = _extras(rng, max(0, length - fixed), water_in_oil)
+    extra = _extras(rng, max(0, length - fixed), water_in_oil, pools)
     used: set[str] = {pools.water.name}
     phase_a: list[tuple[Material, int, str]] = []
     phase_b: list[tuple[Material, int, str]] = []
@@ -309,7 +318,7 @@ def formula_lines(rng: random.Random, pools: Pools, water_in_oil: bool
     if water_in_oil:
         for m in _draw(rng, pools.electrolytes, 1, used):
             phase_a.append((m, _within_use(rng, m, (0.5, 1.0)), "A"))
-    oils = _draw(rng, pools.oils, 1 + extra["oil"], used)
+    oils = _draw(rng, pools.wo_oils if water_in_oil else pools.oils, 1 + extra["oil"], used)
     oil_total = rng.randint(2000, 3500) if water_in_oil else rng.randint(800, 2500)
     for m, share in zip(oils, _split_total(rng, oil_total, len(oils), 50), strict=True):
         phase_b.append((m, share, "B"))

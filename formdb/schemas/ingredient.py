@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import re
 from collections.abc import Mapping
+from functools import lru_cache
 from typing import Any
 
 from pydantic import BaseModel, ConfigDict, Field, field_validator, model_validator
@@ -45,6 +46,7 @@ def normalise_inci(name: str) -> str:
     return " ".join(str(name).split())
 
 
+@lru_cache(maxsize=1 << 16)  # rules compare names per line and per limit row: memoised
 def name_key(name: str) -> str:
     """The comparison key of a name or synonym: case and spacing ignored."""
     return normalise_inci(name).casefold()

@@ -7,6 +7,7 @@ table that writes ``Fatty_Alcohol`` still lands as ``fatty alcohol``.
 from __future__ import annotations
 
 from enum import StrEnum
+from functools import lru_cache
 
 
 class Role(StrEnum):
@@ -106,6 +107,7 @@ COMPAT_CLASSES: dict[str, str] = {
 }
 
 
+@lru_cache(maxsize=1 << 12)  # a small vocabulary, compared for every pair of formula lines
 def norm_token(text: str) -> str:
     """Lower case, ``_``/spaces collapsed: the comparable form of a vocabulary word."""
     return " ".join(text.replace("_", " ").split()).casefold()
