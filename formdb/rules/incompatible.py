@@ -56,6 +56,12 @@ def _match(row: Incompatibility, a: _Member, b: _Member) -> tuple[_Member, _Memb
     return None
 
 
+def _both_sides_present(row: Incompatibility, members: list[_Member]) -> bool:
+    """Cheap pre-test: a row can match a pair only if some member is each of its sides."""
+    return (any(_is(m, row.class_a) for m in members)
+            and any(_is(m, row.class_b) for m in members))
+
+
 @register
 class IncompatiblePair(Rule):
     """Two ingredients whose classes are listed as incompatible are used together.
@@ -83,6 +89,8 @@ class IncompatiblePair(Rule):
               options: Mapping[str, Any]) -> Iterable[Finding]:
         members = _members(formula, facts)
         for row in reference.incompatibilities:
+            if not _both_sides_present(row, members):
+                continue  # most rows: one side absent, no pair to try
             for a, b in combinations(members, 2):
                 if a.lines & b.lines:
                     continue  # a soap and the acid or base it was formed from
