@@ -6,7 +6,6 @@ could not be checked. Input problems print one ``Error:`` line each and nothing 
 
 from __future__ import annotations
 
-import functools
 import os
 import sys
 import tempfile
@@ -17,28 +16,10 @@ from typing import Any, TypeVar
 import click
 
 from formdb.cli.main import AppContext
-from formdb.errors import FormdbError, InvalidData
+from formdb.errors import InvalidData
 
 F = TypeVar("F", bound=Callable[..., Any])
 REPORT_FORMATS = ("text", "json", "html")
-
-
-def every_problem(command: F) -> F:
-    """Print every problem line an error carries (``.problems``), one ``Error:`` line each."""
-    @functools.wraps(command)
-    def wrapper(*args: Any, **kwargs: Any) -> Any:
-        try:
-            return command(*args, **kwargs)
-        except FormdbError as exc:
-            problems = list(getattr(exc, "problems", None) or [])
-            if len(problems) < 2:
-                raise
-            for problem in problems[:-1]:
-                click.echo(f"Error: {problem}", err=True)
-            last = f"Error: {problems[-1]}" + (f" Next: {exc.hint}" if exc.hint else "")
-            click.echo(last, err=True)
-            raise click.exceptions.Exit(exc.exit_code) from None
-    return wrapper  # type: ignore[return-value]
 
 
 def _wants_color(out: Path | None, fmt: str) -> bool:
@@ -97,7 +78,6 @@ def summary_line(results: Sequence[Any], out: Path) -> str:
 @click.option("--out", type=click.Path(path_type=Path, dir_okay=False),
               help="Write the report to this file and print a one-line summary.")
 @click.pass_context
-@every_problem
 def check_cmd(ctx: click.Context, files: tuple[Path, ...], all_stored: bool, profile: str,
               fmt: str, out: Path | None) -> None:
     """Check formula FILES (TOML) against the library.
@@ -165,7 +145,6 @@ def _blend_mode(file: Path | None, target: float | None, using: tuple[str, ...],
 @click.option("--format", "fmt", type=click.Choice(("text", "json")), default="text",
               show_default=True, help="Output format.")
 @click.pass_context
-@every_problem
 def blend_cmd(ctx: click.Context, file: Path | None, target: float | None,
               using: tuple[str, ...], search: bool, total: float | None, top: int,
               profile: str, fmt: str) -> None:

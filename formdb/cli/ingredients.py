@@ -8,11 +8,10 @@ one of them (one ``Error:`` line each) and exits 2.
 from __future__ import annotations
 
 import csv
-import functools
 import io
 import json
 import sys
-from collections.abc import Callable, Iterator, Sequence
+from collections.abc import Iterator, Sequence
 from contextlib import contextmanager
 from datetime import UTC, datetime
 from pathlib import Path
@@ -37,25 +36,6 @@ def _library(app: AppContext) -> Iterator[Session]:
             yield session
     finally:
         engine.dispose()
-
-
-def _every_problem(command: Callable[..., Any]) -> Callable[..., Any]:
-    """Print each problem of a TableProblems on its own ``Error:`` line, then exit 2."""
-
-    @functools.wraps(command)
-    def wrapper(*args: Any, **kwargs: Any) -> Any:
-        from formdb.services.tables import TableProblems
-
-        try:
-            return command(*args, **kwargs)
-        except TableProblems as exc:
-            for problem in exc.problems:
-                click.echo(f"Error: {problem}", err=True)
-            if exc.hint:
-                click.echo(f"Next: {exc.hint}", err=True)
-            click.get_current_context().exit(2)
-
-    return wrapper
 
 
 def _console() -> Any:
@@ -187,7 +167,6 @@ def show_cmd(app: AppContext, name: str) -> None:
 @click.option("--role", "roles", multiple=True, help="A role such as emulsifier (repeatable).")
 @click.option("--reason", help="Why it is added (kept in the change log).")
 @click.pass_obj
-@_every_problem
 def add_cmd(app: AppContext, name: str, sets: tuple[str, ...], source: str | None,
             synonyms: tuple[str, ...], cas: tuple[str, ...], roles: tuple[str, ...],
             reason: str | None) -> None:
@@ -208,7 +187,6 @@ def add_cmd(app: AppContext, name: str, sets: tuple[str, ...], source: str | Non
 @click.option("--expect-version", type=int,
               help="The version you read; refused if someone changed it since.")
 @click.pass_obj
-@_every_problem
 def edit_cmd(app: AppContext, name: str, sets: tuple[str, ...], source: str | None,
              reason: str | None, expect_version: int | None) -> None:
     """Change fields of ingredient NAME: --set hlb=15 --source KEY --reason '...'."""
@@ -270,7 +248,6 @@ def history_cmd(app: AppContext, name: str) -> None:
 @click.option("--dry-run", is_flag=True, help="Report what would change; write nothing.")
 @click.option("--reason", help="Why the table is imported (kept in the change log).")
 @click.pass_obj
-@_every_problem
 def import_cmd(app: AppContext, file: Path, dry_run: bool, reason: str | None) -> None:
     """Import a CSV or XLSX ingredient table, all rows or none."""
     from formdb.services.ingredients import import_table

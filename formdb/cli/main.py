@@ -70,6 +70,21 @@ def cli(ctx: click.Context, db: str, user: str | None, debug: bool) -> None:
     ctx.obj = AppContext(db=db, user=user or default_user(), debug=debug)
 
 
+def _sentence(text: str) -> str:
+    text = text.rstrip()
+    return text if text.endswith((".", "?", "!")) else text + "."
+
+
+def error_lines(exc: FormdbError) -> list[str]:
+    """One ``Error:`` line per problem (an import table or several formula files may carry
+    many, in ``problems``); the next step rides on the last line."""
+    problems = [str(p) for p in (getattr(exc, "problems", None) or [])] or [exc.message]
+    lines = [f"Error: {_sentence(p)}" for p in problems]
+    if exc.hint:
+        lines[-1] += f" Next: {_sentence(exc.hint)}"
+    return lines
+
+
 def _wants_debug(argv: list[str]) -> bool:
     return "--debug" in argv or os.environ.get("FORMDB_DEBUG") == "1"
 
@@ -82,10 +97,8 @@ def main(argv: list[str] | None = None) -> None:
     except FormdbError as exc:
         if _wants_debug(args):
             traceback.print_exc()
-        line = f"Error: {exc.message.rstrip()}"
-        if exc.hint:
-            line += ("" if line.endswith((".", "?", "!")) else ".") + f" Next: {exc.hint}"
-        click.echo(line, err=True)
+        for line in error_lines(exc):
+            click.echo(line, err=True)
         sys.exit(exc.exit_code)
     except click.exceptions.Abort:
         click.echo("Error: aborted.", err=True)

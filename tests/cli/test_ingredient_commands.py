@@ -107,11 +107,13 @@ def test_edit_with_several_bad_values_prints_each(library: str) -> None:
     assert result.exit_code == 2
     assert dump_database(library) == before
     errors = [line for line in result.stderr.splitlines() if line.startswith("Error:")]
-    assert errors == [
-        "Error: edit 'Carbomer', field ph_min: ph_min -1 is out of range: it must be at least 0 "
-        "and at most 14",
+    assert len(errors) == 2
+    assert errors[0] == ("Error: edit 'Carbomer', field ph_min: ph_min -1 is out of range: it "
+                         "must be at least 0 and at most 14.")
+    # the last problem line also carries the next step
+    assert errors[1].startswith(
         "Error: edit 'Carbomer', field use_max_percent: 'lots' is not a number; "
-        "use_max_percent takes a number at least 0 and at most 100 % w/w"]
+        "use_max_percent takes a number at least 0 and at most 100 % w/w. Next: ")
 
 
 def test_malformed_set_is_a_usage_error(library: str) -> None:
