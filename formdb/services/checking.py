@@ -112,7 +112,18 @@ def resolve_all(session: Session, items: list[FormulaInput],
         if wanted:
             known.update(queries.find_ingredients(session, wanted))
         found = known
-    return [resolve(item, found, session) for item in items]
+    resolved, problems, hint = [], [], None
+    for item in items:
+        try:
+            resolved.append(resolve(item, found, session))
+        except InvalidData as exc:  # keep going: report unknown names of every file at once
+            problems.extend(getattr(exc, "problems", None) or [exc.message])
+            hint = exc.hint
+    if problems:
+        error = InvalidData(problems[0], hint=hint)
+        error.problems = problems  # type: ignore[attr-defined]
+        raise error
+    return resolved
 
 
 def check_inputs(db_url: str, items: list[FormulaInput],
