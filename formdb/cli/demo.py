@@ -23,12 +23,11 @@ def demo_cmd(app: AppContext, fmt: str, out: Path | None, keep: Path | None) -> 
     The formulas belong to Larkspur Bench Laboratories, an invented lab; the findings are real
     output of the checker on the bundled seed library. Always exits 0.
     """
-    from formdb.report import render
     from formdb.services.demo import run_demo
 
     demo = run_demo(keep=keep, user=app.user)
     click.echo(demo.intro)
-    click.echo(render(list(demo.results), fmt))
+    click.echo(demo.render(fmt))
     if out is not None:
         written = demo.write_reports(out, fmt)
         click.echo(f"Reports written: {', '.join(str(p) for p in written)}")

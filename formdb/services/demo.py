@@ -18,6 +18,7 @@ from formdb.resources import seed_data_dir
 from formdb.schemas.result import CheckResult
 from formdb.services.checking import check_files
 from formdb.services.formulas import import_formulas
+from formdb.services.report_context import limit_snapshots
 from formdb.services.setup import init_library
 
 INTRO = (
@@ -47,6 +48,13 @@ class DemoRun:
     results: list[CheckResult]
     intro: str = INTRO
     _files: list[Path] = field(default_factory=list)
+    snapshots: list = field(default_factory=list)  # the limit lists' dates, for the cautions
+
+    def render(self, fmt: str, results: list[CheckResult] | None = None) -> str:
+        from formdb.report import ListSnapshot, render
+
+        chosen = self.results if results is None else results
+        return render(chosen, fmt, snapshots=[ListSnapshot(*row) for row in self.snapshots])
 
     def summary(self) -> str:
         """One line per formula: type, HLB balance, dispersed fraction and what was found."""
@@ -71,14 +79,12 @@ class DemoRun:
         return "\n".join(lines)
 
     def write_reports(self, folder: Path, fmt: str) -> list[Path]:
-        from formdb.report import render
-
         folder.mkdir(parents=True, exist_ok=True)
         suffix = {"text": "txt", "json": "json", "html": "html"}[fmt]
         written = []
         for path, result in zip(self._files, self.results, strict=True):
             target = folder / f"{re.sub(r'[^A-Za-z0-9_-]+', '-', path.stem)}.{suffix}"
-            target.write_text(render([result], fmt), encoding="utf-8")
+            target.write_text(self.render(fmt, [result]), encoding="utf-8")
             written.append(target)
         return written
 
@@ -97,4 +103,5 @@ def run_demo(*, keep: Path | None = None, user: str = "demo") -> DemoRun:
     paths = demo_formula_paths()
     import_formulas(url, paths, user=user, reason="demo formulas of the invented lab")
     results = check_files(url, paths)
-    return DemoRun(library=library, results=results, _files=paths)
+    return DemoRun(library=library, results=results, _files=paths,
+                   snapshots=limit_snapshots(url))
