@@ -63,7 +63,7 @@ class IngredientProperties(BaseModel):
 
     hlb: float | None = Field(
         None, ge=0, le=50, json_schema_extra=_unit(""),
-        description="hydrophilic-lipophilic balance (Griffin 0-20; ionic values by Davies up to ~40)")
+        description="hydrophilic-lipophilic balance (Griffin 0-20; ionic ones by Davies to ~40)")
     required_hlb_ow: float | None = Field(
         None, ge=0, le=20, json_schema_extra=_unit(""),
         description="HLB an emulsifier system needs to emulsify this oil as oil-in-water")
@@ -101,7 +101,8 @@ class IngredientProperties(BaseModel):
         None, ge=0, le=1, json_schema_extra=_unit("mol H2O/equivalent"),
         description="water released per equivalent neutralised (NaOH 1, MgO 0.5, amines 0)")
     viscosity_mpas: float | None = Field(
-        None, gt=0, le=1e7, json_schema_extra=_unit("mPa·s"), description="viscosity at about 25 °C")
+        None, gt=0, le=1e7, json_schema_extra=_unit("mPa·s"),
+        description="viscosity at about 25 °C")
 
     @model_validator(mode="after")
     def _ranges_are_ordered(self) -> IngredientProperties:
@@ -175,7 +176,8 @@ class IngredientIn(BaseModel):
             if not cas:
                 continue
             if not cas_is_valid(cas):
-                raise ValueError(f"cas: {cas!r} is not a valid CAS number (wrong shape or check digit)")
+                raise ValueError(f"cas: {cas!r} is not a valid CAS number "
+                                 "(wrong shape or check digit)")
             out.append(cas)
         return tuple(dict.fromkeys(out))
 

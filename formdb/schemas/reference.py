@@ -1,4 +1,6 @@
-"""Reference records the rules read besides ingredients: limits and incompatibilities (data, not code)."""
+"""Reference records the rules read besides ingredients: limits, incompatibilities, soaps.
+
+They are data, never code."""
 
 from __future__ import annotations
 

@@ -1,4 +1,4 @@
-"""The controlled vocabularies of the library: roles, solubility, ionic character, evidence, classes.
+"""The library's controlled vocabularies: roles, solubility, ionic character, evidence, classes.
 
 Values are lower case; ``parse_choice`` accepts any case and ``_``/``-`` for spaces, so a supplier
 table that writes ``Fatty_Alcohol`` still lands as ``fatty alcohol``.

@@ -24,7 +24,7 @@ def content_hash(text: str) -> str:
 
 
 def _where(loc: tuple[int | str, ...]) -> str:
-    """Turn a pydantic location such as ('ingredients', 2, 'percent') into 'ingredients row 3, key percent'."""
+    """('ingredients', 2, 'percent') -> 'ingredients row 3, key percent' (rows count from 1)."""
     parts: list[str] = []
     i = 0
     while i < len(loc):

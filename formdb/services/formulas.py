@@ -57,7 +57,8 @@ def import_formulas(db_url: str, paths: list[Path], *, user: str,
                 digest = content_hash(item.text)
                 row = get_formula(session, item.formula.name)
                 if row is None:
-                    row = StoredFormula(name=item.formula.name, name_key=name_key(item.formula.name),
+                    row = StoredFormula(name=item.formula.name,
+                                        name_key=name_key(item.formula.name),
                                         content=item.text, content_hash=digest, created_at=now,
                                         updated_at=now, updated_by=user)
                     session.add(row)
@@ -77,7 +78,8 @@ def import_formulas(db_url: str, paths: list[Path], *, user: str,
                 session.add(ChangeLogEntry(
                     at=now, user=user, entity="formula", entity_key=row.name,
                     entity_version=row.version, action=action, field="content_hash",
-                    old_value=old, new_value=digest, reason=reason or f"imported from {item.label}"))
+                    old_value=old, new_value=digest,
+                    reason=reason or f"imported from {item.label}"))
     finally:
         engine.dispose()
     return FormulaImportReport(added, changed, unchanged)

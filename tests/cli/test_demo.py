@@ -80,7 +80,7 @@ def test_light_lotion_misses_its_required_hlb(demo) -> None:
     assert "HLB01" in _codes(result)
     solution = result.facts.blend_solution
     assert solution is not None and solution.reachable
-    # Sorbitan oleate 4.3 / polysorbate 80 15.0 (Griffin; HPE6) for the required HLB of the oil phase
+    # Sorbitan oleate 4.3 / polysorbate 80 15.0 (Griffin; HPE6), lever rule for the required HLB
     target = result.facts.required_hlb
     x = (target - 15.0) / (4.3 - 15.0)
     assert solution.fractions[solution.emulsifiers.index("Sorbitan Oleate")] == pytest.approx(x)
