@@ -180,7 +180,9 @@ def blend_fractions(
     _reachable(target, hlbs)
     if len(hlbs) == 1:
         return (1.0,)
-    if len(hlbs) == 2 and not _same_hlb(hlbs[0], hlbs[1]):
+    if _same_hlb(min(hlbs), max(hlbs)):
+        return tuple(shares)  # every blend has this HLB: keep the formula's proportions
+    if len(hlbs) == 2:
         return two_emulsifier_fractions(target, hlbs[0], hlbs[1])
     clamped = min(max(target, min(hlbs)), max(hlbs))
     return least_change_fractions(shares, hlbs, clamped)
