@@ -9,6 +9,7 @@ writes no change-log rows. Rows a team added to its own library are never touche
 from __future__ import annotations
 
 import json
+import sqlite3
 from dataclasses import dataclass, field
 from datetime import UTC, datetime
 from pathlib import Path
@@ -102,11 +103,28 @@ def init_library(url: str, *, seed: bool, user: str, seed_dir: Path | None = Non
     except BaseException:
         engine.dispose()
         if not existed and path is not None:
-            for leftover in (path, Path(f"{path}-wal"), Path(f"{path}-shm")):
-                leftover.unlink(missing_ok=True)
+            _remove_if_untouched(path)
         raise
     finally:
         engine.dispose()
+
+
+def _remove_if_untouched(path: Path) -> None:
+    """Delete the SQLite file a failed first ``init`` created, unless it holds tables or another
+    process is writing to it (a concurrent ``init`` that may yet succeed)."""
+    try:
+        conn = sqlite3.connect(path, timeout=0, isolation_level=None)
+        try:
+            conn.execute("BEGIN IMMEDIATE")
+            empty = conn.execute("SELECT count(*) FROM sqlite_master").fetchone()[0] == 0
+            conn.execute("ROLLBACK")
+        finally:
+            conn.close()
+    except sqlite3.Error:
+        return
+    if empty:
+        for leftover in (path, Path(f"{path}-wal"), Path(f"{path}-shm")):
+            leftover.unlink(missing_ok=True)
 
 
 def _refuse_unknown_revision(url: Any, revision: str | None) -> None:

@@ -89,8 +89,16 @@ def _sqlite_connect_settings(dbapi_connection: Any, _record: Any) -> None:
         cursor.close()
 
 
+WRITE_LOCK = "formdb_write_lock"  # execution option: take the write lock at BEGIN
+# one number for pg_advisory_xact_lock, so two `formdb init` runs against one server queue up
+_MIGRATION_LOCK_ID = 0x666F726D6462  # "formdb"
+
+
 def _sqlite_begin(conn: Connection) -> None:
-    conn.exec_driver_sql("BEGIN")
+    # BEGIN IMMEDIATE takes the write lock up front: a second writer waits (busy timeout) instead
+    # of failing halfway when the first one commits
+    immediate = conn.get_execution_options().get(WRITE_LOCK, False)
+    conn.exec_driver_sql("BEGIN IMMEDIATE" if immediate else "BEGIN")
 
 
 def make_engine(url_or_path: str, *, must_exist: bool = False) -> Engine:
@@ -176,11 +184,15 @@ def _migration_connection(engine: Engine) -> Iterator[Connection]:
     """
     sqlite = engine.dialect.name == "sqlite"
     with engine.connect() as conn:
+        conn.execution_options(**{WRITE_LOCK: True})
         raw = conn.connection.driver_connection if sqlite else None
         if raw is not None:
             raw.execute("PRAGMA foreign_keys=OFF")  # outside any transaction, or it is ignored
         try:
             with conn.begin():
+                if engine.dialect.name == "postgresql":
+                    conn.execute(text("SELECT pg_advisory_xact_lock(:id)"),
+                                 {"id": _MIGRATION_LOCK_ID})
                 yield conn
                 if sqlite:
                     broken = conn.exec_driver_sql("PRAGMA foreign_key_check").fetchall()
@@ -257,13 +269,15 @@ def _translate(exc: BaseException, engine: Engine) -> FormdbError | None:
 
 
 @contextmanager
-def unit_of_work(engine: Engine) -> Iterator[Session]:
+def unit_of_work(engine: Engine, *, write: bool = False) -> Iterator[Session]:
     """One transaction: commit when the block ends, roll back on any exception.
 
-    Database failures that are not bugs (a busy file, a concurrent edit) become FormdbErrors so
-    the CLI prints one line for them.
+    ``write``: the block will write; on SQLite the write lock is taken at the start, so two
+    writers queue up instead of the second failing at commit. Database failures that are not
+    bugs (a busy file, a concurrent edit) become FormdbErrors so the CLI prints one line.
     """
-    session = Session(engine, expire_on_commit=False)
+    bind = engine.execution_options(**{WRITE_LOCK: True}) if write else engine
+    session = Session(bind, expire_on_commit=False)
     try:
         yield session
         session.commit()

@@ -197,3 +197,19 @@ def test_bundled_seed_library_loads_and_reloads_unchanged(seeded_sqlite_url: str
     assert not report.changed_anything, report
     assert dump_database(seeded_sqlite_url) == before
     assert report.seeded["ingredients"].unchanged >= 90  # DESIGN.md section 4 lists ~95 names
+
+
+def test_two_inits_at_once_queue_up_and_agree(empty_library_url: str, tmp_path: Path) -> None:
+    """Two team members run ``init --seed`` on one library at the same moment: both succeed
+    (the second waits for the first's lock) and the library equals one run's result."""
+    from concurrent.futures import ThreadPoolExecutor
+
+    with ThreadPoolExecutor(2) as pool:
+        reports = list(pool.map(lambda _: _seed(empty_library_url), range(2)))
+    assert sorted(r.seeded["ingredients"].added for r in reports) == [0, 8]
+    moments = {"at", "created_at", "updated_at"}
+    alone = f"sqlite:///{tmp_path / 'alone.sqlite'}"
+    _seed(alone)
+    # the same rows (row order aside: the backends may sort text differently)
+    assert sorted(dump_database(empty_library_url, moments).splitlines()) == sorted(
+        dump_database(alone, moments).splitlines())

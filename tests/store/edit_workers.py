@@ -1,0 +1,89 @@
+"""Worker processes for the concurrency and crash tests (importable by name, so ``spawn`` and
+``python -m`` can run them).
+
+``edit_rounds``: one editor reading an ingredient's version and editing it with that version, over
+and over, on ingredients other workers edit too. Each edit sets two fields at once (``hlb`` and
+its note) so a partial write would show as a value whose note names a different edit.
+"""
+
+from __future__ import annotations
+
+import random
+import sys
+import time
+from dataclasses import dataclass
+
+from formdb.errors import Conflict
+from formdb.services.ingredients import edit_ingredient, show_ingredient
+from formdb.store.db import make_engine, unit_of_work
+
+STRESS_NAMES = ("Cetyl Alcohol", "Glyceryl Stearate", "Sorbitan Stearate")
+
+
+@dataclass(frozen=True)
+class Attempt:
+    worker: int
+    round: int
+    name: str
+    read_version: int
+    value: str              # the hlb this attempt tried to write
+    accepted_version: int | None
+    conflict: str | None    # the Conflict message when refused
+    other_error: str | None
+
+
+def stress_value(worker: int, round_: int) -> str:
+    """A value unique to (worker, round) and inside the HLB bounds."""
+    return f"{worker + round_ / 100:.2f}"
+
+
+def user_of(worker: int) -> str:
+    return f"larkspur-editor-{worker}"
+
+
+def edit_rounds(url: str, worker: int, rounds: int, start_at: float) -> list[Attempt]:
+    rng = random.Random(worker * 7919)
+    engine = make_engine(url)
+    out: list[Attempt] = []
+    try:
+        time.sleep(max(0.0, start_at - time.time()))  # every worker starts together
+        for r in range(rounds):
+            name = rng.choice(STRESS_NAMES)
+            with unit_of_work(engine) as session:
+                version = show_ingredient(session, name).record.version
+            time.sleep(rng.random() * 0.01)  # the user thinking; lets others slip in
+            value = stress_value(worker, r)
+            accepted = conflict = other = None
+            try:
+                with unit_of_work(engine, write=True) as session:
+                    report = edit_ingredient(
+                        session, name, [("hlb", value), ("hlb_note", f"w{worker} r{r}")],
+                        user=user_of(worker), source="rule-of-thumb",
+                        reason=f"stress round {r}", expect_version=version)
+                    accepted = report.version
+            except Conflict as exc:
+                conflict = exc.message
+            except Exception as exc:  # reported, and the test fails on it
+                other = f"{type(exc).__name__}: {exc}"
+            out.append(Attempt(worker, r, name, version, value, accepted, conflict, other))
+    finally:
+        engine.dispose()
+    return out
+
+
+def edit_forever(url: str) -> None:
+    """Edit one ingredient in a loop, printing each committed version (the kill test's victim)."""
+    engine = make_engine(url)
+    r = 0
+    while True:
+        with unit_of_work(engine, write=True) as session:
+            report = edit_ingredient(session, STRESS_NAMES[0],
+                                     [("hlb", stress_value(9, r % 100)), ("hlb_note", f"kill {r}")],
+                                     user="larkspur-victim", source="rule-of-thumb",
+                                     reason="kill test")
+        print(report.version, flush=True)
+        r += 1
+
+
+if __name__ == "__main__":  # python -m tests.store.edit_workers URL
+    edit_forever(sys.argv[1])
