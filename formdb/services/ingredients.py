@@ -234,11 +234,20 @@ def diff_cells(old: Mapping[str, str], new: Mapping[str, str]) -> list[FieldChan
 
 
 def _ensure_special_sources(session: Session, used: Iterable[str]) -> None:
-    wanted = [k for k in set(used) if k in SPECIAL_SOURCES]
+    """Create the special source rows a value cites, if missing; safe when two writers race
+    (INSERT ... ON CONFLICT DO NOTHING, which SQLite and PostgreSQL both understand)."""
+    wanted = sorted(k for k in set(used) if k in SPECIAL_SOURCES)
     present = set(session.scalars(select(Source.key).where(Source.key.in_(wanted))))
-    for key in sorted(set(wanted) - present):
-        evidence, citation = SPECIAL_SOURCES[key]
-        session.add(Source(key=key, citation=citation, evidence=evidence, seen="calc"))
+    missing = [k for k in wanted if k not in present]
+    if not missing:
+        return
+    if session.get_bind().dialect.name == "postgresql":
+        from sqlalchemy.dialects.postgresql import insert as upsert
+    else:
+        from sqlalchemy.dialects.sqlite import insert as upsert
+    rows = [{"key": k, "citation": SPECIAL_SOURCES[k][1], "evidence": SPECIAL_SOURCES[k][0],
+             "url": None, "seen": "calc", "note": None} for k in missing]
+    session.execute(upsert(Source).values(rows).on_conflict_do_nothing(index_elements=["key"]))
 
 
 def _apply(ing: Ingredient, item: IngredientIn, evidence: Mapping[str, str]) -> None:

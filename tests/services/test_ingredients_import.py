@@ -257,7 +257,8 @@ def test_setup_user_is_recorded(library: str) -> None:
     engine = make_engine(library)
     try:
         with unit_of_work(engine) as session:
-            users = set(session.scalars(select(ChangeLogEntry.user)))
+            users = set(session.scalars(select(ChangeLogEntry.user)
+                                        .where(ChangeLogEntry.entity == "ingredient")))
     finally:
         engine.dispose()
     assert users == {SETUP_USER}
