@@ -27,12 +27,14 @@ CAUTION = ("A screening aid, not a safety assessment: check values against curre
 
 
 @contextmanager
-def _library(app: AppContext) -> Iterator[Session]:
+def _library(app: AppContext, *, write: bool = False) -> Iterator[Session]:
+    """One unit of work on the library; ``write`` takes SQLite's write lock at the start, so two
+    people saving at once queue up instead of one failing at commit."""
     from formdb.store.db import open_library, unit_of_work
 
     engine = open_library(app.db)
     try:
-        with unit_of_work(engine) as session:
+        with unit_of_work(engine, write=write) as session:
             yield session
     finally:
         engine.dispose()
@@ -173,7 +175,7 @@ def add_cmd(app: AppContext, name: str, sets: tuple[str, ...], source: str | Non
     """Add ingredient NAME (its INCI name) to the library."""
     from formdb.services.ingredients import add_ingredient
 
-    with _library(app) as session:
+    with _library(app, write=True) as session:
         report = add_ingredient(session, name, _assignments(sets), user=app.user, source=source,
                                 synonyms=synonyms, cas=cas, roles=roles, reason=reason)
     _echo_changes(report.inci_name, report.changes, report.version, "added")
@@ -192,7 +194,7 @@ def edit_cmd(app: AppContext, name: str, sets: tuple[str, ...], source: str | No
     """Change fields of ingredient NAME: --set hlb=15 --source KEY --reason '...'."""
     from formdb.services.ingredients import edit_ingredient
 
-    with _library(app) as session:
+    with _library(app, write=True) as session:
         report = edit_ingredient(session, name, _assignments(sets), user=app.user, reason=reason,
                                  source=source, expect_version=expect_version)
     _echo_changes(report.inci_name, report.changes, report.version, "changed")
@@ -206,7 +208,7 @@ def retire_cmd(app: AppContext, name: str, reason: str) -> None:
     """Take NAME out of use (kept, with its history, for old formulas)."""
     from formdb.services.ingredients import retire_ingredient
 
-    with _library(app) as session:
+    with _library(app, write=True) as session:
         report = retire_ingredient(session, name, user=app.user, reason=reason)
     _echo_changes(report.inci_name, report.changes, report.version, "retired")
 
@@ -219,7 +221,7 @@ def restore_cmd(app: AppContext, name: str, reason: str) -> None:
     """Bring a retired ingredient back into use."""
     from formdb.services.ingredients import restore_ingredient
 
-    with _library(app) as session:
+    with _library(app, write=True) as session:
         report = restore_ingredient(session, name, user=app.user, reason=reason)
     _echo_changes(report.inci_name, report.changes, report.version, "restored")
 
@@ -252,7 +254,7 @@ def import_cmd(app: AppContext, file: Path, dry_run: bool, reason: str | None) -
     """Import a CSV or XLSX ingredient table, all rows or none."""
     from formdb.services.ingredients import import_table
 
-    with _library(app) as session:
+    with _library(app, write=not dry_run) as session:
         report = import_table(session, file, user=app.user, reason=reason, dry_run=dry_run)
     would = "would be " if dry_run else ""
     for note in report.notes:
