@@ -182,9 +182,10 @@ def read_ingredient_rows(table: RawTable) -> tuple[list[FileRow], list[Problem]]
         else:
             columns[index] = column
             shown[column] = header
-    if NAME_COLUMN not in shown:
+    if NAME_COLUMN not in shown:  # rows cannot be told apart; their cells are not read
         problems.append(Problem(table.file, "there is no inci_name column; the header row needs "
                                 "one (and one column per property)", table.header_row))
+        return [], problems
     rows: list[FileRow] = []
     for number, cells in table.rows:
         given: Cells = {}

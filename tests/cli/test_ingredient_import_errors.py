@@ -65,14 +65,20 @@ CASES = [
     # 9005-64-5 is polysorbate 20; its check digit is 5, so ...-4 is wrong (CAS Registry rule)
     ("bad_cas.csv", [(3, "cas", "CAS number '9005-64-4' fails its check digit")]),
     ("bad_hlb_text.csv", [(2, "hlb", "'high' is not a number")]),
-    ("bad_ranges.csv", [
-        (2, "hlb", "hlb 55 is out of range: it must be at least 0 and at most 50"),
-        (3, "density", "density 5.2 is out of range: it must be at least 0.5 and at most 3 g/mL"),
-        (4, "ph_min", "ph_min 15 is out of range: it must be at least 0 and at most 14")]),
-    ("bad_vocabulary.csv", [
-        (2, "roles", "'emulsifer' is not a known role; did you mean 'emulsifier'?"),
-        (3, "solubility", "'watery' is not a known solubility"),
-        (4, "ionic_character", "'zwitterionic' is not a known ionic character")]),
+    ("bad_hlb_range.csv", [
+        (2, "hlb", "hlb 55 is out of range: it must be at least 0 and at most 50")]),
+    ("bad_density_range.csv", [
+        (2, "density", "density 5.2 is out of range: it must be at least 0.5 and at most 3 g/mL")]),
+    ("bad_ph_range.csv", [
+        (2, "ph_min", "ph_min 15 is out of range: it must be at least 0 and at most 14")]),
+    ("bad_role.csv", [
+        (2, "roles", "'emulsifer' is not a known role; did you mean 'emulsifier'?")]),
+    ("bad_solubility.csv", [
+        (2, "solubility", "'watery' is not a known solubility; did you mean 'water'?")]),
+    ("bad_ionic_character.csv", [
+        (2, "ionic_character", "'zwitterionic' is not a known ionic character (choose from "
+                               "anionic, cationic, nonionic, amphoteric, none)")]),
+    ("bad_no_name_column.csv", [(1, None, "there is no inci_name column")]),
     ("bad_units.csv", [
         (3, "density", "'kg' cannot be converted to g/mL"),
         (4, "viscosity_mpas", "'cm' cannot be converted to mPa·s"),
@@ -95,7 +101,7 @@ def test_bad_table_is_refused_with_every_problem_located(library: str, tmp_path:
 
 
 def test_dry_run_reports_the_same_problems(library: str, tmp_path: Path) -> None:
-    path = _copy("bad_ranges.csv", tmp_path)
+    path = _copy("bad_units.csv", tmp_path)
     code, errors, _ = _import(library, path, "--dry-run")
     assert code == 2
     assert len(errors) == 3
