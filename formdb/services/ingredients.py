@@ -8,12 +8,13 @@ row per field, and bumps the ingredient's version (its optimistic lock).
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Mapping, Sequence
+from collections.abc import Callable, Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
 from datetime import UTC, datetime
 from pathlib import Path
+from typing import Any
 
-from sqlalchemy import select
+from sqlalchemy import Select, select
 from sqlalchemy.orm import Session, selectinload
 from sqlalchemy.orm.exc import StaleDataError
 
@@ -123,7 +124,7 @@ class IngredientDetail:
 
 # --- reading the library -----------------------------------------------------------------------
 
-def _with_children(stmt):  # type: ignore[no-untyped-def]
+def _with_children(stmt: Select[tuple[Ingredient]]) -> Select[tuple[Ingredient]]:
     return stmt.options(
         selectinload(Ingredient.names), selectinload(Ingredient.cas_numbers),
         selectinload(Ingredient.roles), selectinload(Ingredient.classes),
@@ -182,7 +183,7 @@ def _as_input(record: IngredientRecord) -> IngredientIn:
         notes={p: prov.note for p, prov in record.provenance.items() if prov.note})
 
 
-def _cells(session: Session, ing: Ingredient | None) -> Cells:
+def _cells(ing: Ingredient | None) -> Cells:
     if ing is None:
         return empty_cells()
     return render_ingredient(_as_input(queries.record_from_row(ing, {})))
@@ -281,7 +282,8 @@ def _apply(ing: Ingredient, item: IngredientIn, evidence: Mapping[str, str]) -> 
         row.evidence, row.note = evidence[source], item.notes.get(prop)
 
 
-def _sync(rows: list, attr: str, want: set[str], make) -> None:  # type: ignore[no-untyped-def]
+def _sync(rows: list[Any], attr: str, want: set[str], make: Callable[[str], Any]) -> None:
+    """Make ``rows`` (a child collection) hold exactly ``want``, keeping rows already there."""
     for row in list(rows):
         if getattr(row, attr) not in want:
             rows.remove(row)
@@ -390,7 +392,7 @@ def import_table(session: Session, path: Path, *, user: str, reason: str | None,
                 problem(row.row, column, f"{n!r} already belongs to another library "
                         f"ingredient, {owner.inci_name!r} (as {kind}); a name may belong to one "
                         "ingredient only")
-        base = _cells(session, target)
+        base = _cells(target)
         cells = overlay(base, row)
         if target is not None:
             cells[NAME_COLUMN] = target.inci_name
@@ -442,7 +444,7 @@ def export_table(session: Session, path: Path, *, role: str | None = None,
     if path.suffix.lower() == ".xlsx":  # a workbook holds numbers as numbers, not as text
         numeric = {c for c in PROPERTY_NAMES if property_kind(c)[0] in ("float", "int")}
     rows = [[_typed(cells[c]) if c in numeric else cells[c] for c in columns] for cells in
-            (_cells(session, ing) for ing in _active(session, role, include_retired))]
+            (_cells(ing) for ing in _active(session, role, include_retired))]
     write_table(path, columns, rows, sheet="ingredients")
     return len(rows)
 
@@ -560,7 +562,7 @@ def edit_ingredient(session: Session, name: str, assignments: Sequence[tuple[str
         raise InvalidData("nothing to change.", hint="give at least one --set field=value")
     ing = _get(session, name)
     _check_version(session, ing, expect_version)
-    base = _cells(session, ing)
+    base = _cells(ing)
     sources = _sources(session)
     item = _validated(_lay(base, assignments, source), sources, f"edit {ing.inci_name!r}")
     _check_names_free(session, item, ing)
