@@ -1,13 +1,15 @@
 """Library fixtures for every layer's tests.
 
 - ``empty_sqlite_url`` / ``empty_pg_url``: a database that exists but holds nothing yet.
-- ``sqlite_url`` / ``pg_url``: the same, migrated to head.
+- ``sqlite_url`` / ``pg_url``: the same after ``formdb init`` (schema at head, the built-in
+  sources rule-of-thumb and from-memory), no ingredients.
 - ``library_url``: parametrised over both backends (the PostgreSQL case skips without a server).
 - ``seeded_sqlite_url`` / ``seeded_pg_url`` / ``seeded_library_url``: the bundled seed library,
   built once per session and copied per test.
 
-PostgreSQL tests use the server named by FORMDB_TEST_PG_URL (each test gets its own database,
-dropped afterwards) and skip with a reason when it is unset.
+PostgreSQL tests use the server named by FORMDB_TEST_PG_URL and skip with a reason when it is
+unset. Each test gets its own schema (its URL's ``search_path``; seeded ones their own database,
+copied from a seeded template), dropped afterwards.
 """
 
 from __future__ import annotations
@@ -19,18 +21,17 @@ from pathlib import Path
 import pytest
 from sqlalchemy import text
 
-from formdb.store.db import make_engine, sqlite_path, upgrade_to_head
-from tests.helpers import PG_ENV, fresh_pg_database, pg_base_url
+from formdb.store.db import make_engine, sqlite_path
+from tests.helpers import PG_ENV, fresh_pg_database, fresh_pg_schema, pg_base_url
 
 TEST_USER = "larkspur-test"
 
 
 def _migrate(url: str) -> str:
-    engine = make_engine(url)
-    try:
-        upgrade_to_head(engine)
-    finally:
-        engine.dispose()
+    """What `formdb init` makes: the schema at head and the built-in sources."""
+    from formdb.services.setup import init_library
+
+    init_library(url, seed=False, user=TEST_USER)
     return url
 
 
@@ -64,7 +65,8 @@ def pg_server() -> str:
 
 @pytest.fixture
 def empty_pg_url(pg_server: str) -> Iterator[str]:
-    with fresh_pg_database(pg_server) as url:
+    """An empty schema of its own on the test server (the URL sets ``search_path`` to it)."""
+    with fresh_pg_schema(pg_server) as url:
         yield url
 
 

@@ -23,12 +23,13 @@ def pg_base_url() -> str | None:
     return os.environ.get(PG_ENV) or None
 
 
-def dump_database(url: str, exclude_columns: Collection[str] = ()) -> str:
+def dump_database(url: str, exclude_columns: Collection[str] = (),
+                  tables: Collection[str] | None = None) -> str:
     """Every table's columns and rows as text, tables by name, rows fully ordered.
 
     Two dumps are equal exactly when the library holds the same rows (the alembic revision
     included). ``exclude_columns`` leaves out columns such as timestamps where a test re-creates
-    data on purpose.
+    data on purpose; ``tables`` limits the dump to those tables.
     """
     engine = make_engine(url, must_exist=True)
     try:
@@ -37,6 +38,8 @@ def dump_database(url: str, exclude_columns: Collection[str] = ()) -> str:
             meta.reflect(conn)
             lines: list[str] = []
             for name in sorted(meta.tables):
+                if tables is not None and name not in tables:
+                    continue
                 table = meta.tables[name]
                 cols = [c for c in table.columns if c.name not in exclude_columns]
                 lines.append(f"== {name} ({', '.join(c.name for c in cols)})")
@@ -73,6 +76,26 @@ def fresh_pg_database(base_url: str, template: str | None = None) -> Iterator[st
         finally:
             with admin.connect() as conn:
                 conn.execute(text(f'DROP DATABASE IF EXISTS "{name}" WITH (FORCE)'))
+    finally:
+        admin.dispose()
+
+
+@contextmanager
+def fresh_pg_schema(base_url: str) -> Iterator[str]:
+    """A new, uniquely named schema in the test database, and a URL whose connections see only
+    it (``search_path``); dropped afterwards. Much cheaper than a database per test."""
+    base = make_url(base_url)
+    name = f"formdb_t_{uuid4().hex[:12]}"
+    admin = create_engine(base, isolation_level="AUTOCOMMIT")
+    try:
+        with admin.connect() as conn:
+            conn.execute(text(f'CREATE SCHEMA "{name}"'))
+        try:
+            url = base.update_query_dict({"options": f"-csearch_path={name}"})
+            yield url.render_as_string(hide_password=False)
+        finally:
+            with admin.connect() as conn:
+                conn.execute(text(f'DROP SCHEMA IF EXISTS "{name}" CASCADE'))
     finally:
         admin.dispose()
 

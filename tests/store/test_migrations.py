@@ -7,6 +7,7 @@ from datetime import UTC, date, datetime
 from pathlib import Path
 from typing import Any
 
+import pytest
 from alembic.autogenerate import compare_metadata
 from alembic.runtime.migration import MigrationContext
 from alembic.script import ScriptDirectory
@@ -199,3 +200,25 @@ def test_data_survives_a_table_rebuild_up_and_down(empty_library_url: str,
     _migrate(url, "upgrade", "head", where)
     _migrate(url, "downgrade", "-1", where)
     assert dump_database(url) == at_head
+
+
+def test_data_at_head_survives_a_step_down_and_back(empty_library_url: str) -> None:
+    """Rows in the tables the previous revision also has come through downgrade -1 and upgrade
+    unchanged (the tables the newest revision adds are dropped by design, then rebuilt)."""
+    script = ScriptDirectory.from_config(alembic_config())
+    head = script.get_revision(head_revision())
+    if head.down_revision is None:
+        pytest.skip("only one revision: test_upgrade_downgrade_upgrade_... covers base <-> head")
+    url = empty_library_url
+    _migrate(url, "upgrade", str(head.down_revision))
+    kept = set(schema_snapshot(url)) - {"alembic_version"}
+    _migrate(url, "upgrade")
+    _insert_library_rows(url)
+    before = dump_database(url, tables=kept)
+    whole = dump_database(url)
+
+    _migrate(url, "downgrade", "-1")
+    assert dump_database(url, tables=kept) == before
+    _migrate(url, "upgrade")
+    assert dump_database(url, tables=kept) == before
+    assert dump_database(url) == whole
