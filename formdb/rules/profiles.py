@@ -35,7 +35,10 @@ from formdb.schemas.vocab import Severity
 
 PROFILE_KEYS = ("name", "version", "description", "extends", "select", "exclude", "facts",
                 "rules")
-FACTS_KEYS = tuple(k for k in FactsSettings.model_fields if k != "hlb_tolerance")
+# set from rule options by ``facts_settings``, never in [facts]
+FROM_RULE_OPTIONS = {"hlb_tolerance": "[rules.HLB01] tolerance",
+                     "mos_threshold": "[rules.MOS01] threshold"}
+FACTS_KEYS = tuple(k for k in FactsSettings.model_fields if k not in FROM_RULE_OPTIONS)
 ALL = "all"
 
 
@@ -110,13 +113,17 @@ class Profile(BaseModel):
         return settings.severity if settings else None
 
     def facts_settings(self, registry: RuleRegistry | None = None) -> FactsSettings:
-        """The facts' assumptions, with the HLB band taken from HLB01's ``tolerance``."""
+        """The facts' assumptions, with the HLB band taken from HLB01's ``tolerance`` and the
+        margin-of-safety threshold from MOS01's ``threshold``."""
         registry = registry or default_registry()
+        update: dict[str, float] = {}
         hlb_rule = registry.find("HLB01")
-        if hlb_rule is None:
-            return self.facts
-        tolerance = float(self.options_for(hlb_rule)["tolerance"])
-        return self.facts.model_copy(update={"hlb_tolerance": tolerance})
+        if hlb_rule is not None:
+            update["hlb_tolerance"] = float(self.options_for(hlb_rule)["tolerance"])
+        mos_rule = registry.find("MOS01")
+        if mos_rule is not None:
+            update["mos_threshold"] = float(self.options_for(mos_rule)["threshold"])
+        return self.facts.model_copy(update=update) if update else self.facts
 
 
 def _check_selector(registry: RuleRegistry, word: str, where: str) -> None:
@@ -255,7 +262,7 @@ def _facts(table: Any, label: str) -> FactsSettings:
         raise ConfigError(f"{label}, [facts]: must be a table")
     for key in table:
         if key not in FACTS_KEYS:
-            extra = " (set it as [rules.HLB01] tolerance)" if key == "hlb_tolerance" else ""
+            extra = f" (set it as {FROM_RULE_OPTIONS[key]})" if key in FROM_RULE_OPTIONS else ""
             raise ConfigError(f"{label}, [facts]: unknown key {key!r}"
                               f"{extra or did_you_mean(key, FACTS_KEYS)}",
                               hint=f"[facts] keys: {', '.join(FACTS_KEYS)}")

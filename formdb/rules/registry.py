@@ -14,7 +14,8 @@ from formdb.errors import ConfigError
 from formdb.rules.base import Rule, did_you_mean
 
 # modules of formdb.rules that hold machinery, not rules
-_MACHINERY = frozenset({"base", "registry", "profiles", "engine", "facts", "docs"})
+_MACHINERY = frozenset({"base", "registry", "profiles", "engine", "facts", "docs",
+                        "exposure_sheet"})
 
 
 class RuleRegistry:

@@ -65,6 +65,47 @@ class SoapPair(BaseModel):
     source: str
 
 
+class ExposureRecord(BaseModel):
+    """Daily exposure to one product type (SCCS Notes of Guidance, Table 3A/3B).
+
+    ``exposure_mg_kg_bw_day`` is E_product after the retention factor; where a table gives only
+    grams per day (``exposure_g_day``), E_product is worked out with a body weight.
+    """
+
+    model_config = ConfigDict(frozen=True)
+
+    product: str
+    category: str  # leave-on | rinse-off
+    amount_g_day: float | None = None
+    amount_mg_kg_bw_day: float | None = None
+    retention_factor: float
+    exposure_g_day: float | None = None
+    exposure_mg_kg_bw_day: float | None = None
+    source: str
+
+
+class ToxicologyRecord(BaseModel):
+    """A substance's point of departure (value in mg/kg bw/day, species, study, source) and, when
+    known, its dermal absorption and oral bioavailability, each with a source."""
+
+    model_config = ConfigDict(frozen=True)
+
+    key: str
+    inci: str
+    pod_kind: str  # NOAEL | LOAEL | BMDL
+    pod_value: float
+    pod_unit: str = "mg/kg bw/day"
+    route: str  # oral | dermal
+    species: str
+    study: str
+    source: str
+    dermal_absorption_percent: float | None = None
+    dermal_absorption_source: str | None = None
+    oral_bioavailability_percent: float | None = None
+    oral_bioavailability_source: str | None = None
+    note: str | None = None
+
+
 class ReferenceData(BaseModel):
     """Everything besides ingredients that a check needs, loaded once per check run."""
 
@@ -79,3 +120,7 @@ class ReferenceData(BaseModel):
     # their molar mass converts a salt's % to % as acid
     acids: dict[str, IngredientRecord] = {}
     sources: dict[str, str] = {}  # key -> citation
+    # exposure per product type, keyed by the product name folded to lower case
+    exposure: dict[str, ExposureRecord] = {}
+    # toxicology records keyed by name_key of the substance's INCI name
+    toxicology: dict[str, ToxicologyRecord] = {}

@@ -28,6 +28,11 @@ DEFAULT_SURFACE_EXCESS_SOURCE = ("from memory: the middle of the 1-4 mg/m2 typic
 # Default droplet diameter: cosmetic creams and lotions mostly have drops of 1-10 um
 # (rule of thumb).
 DEFAULT_DROPLET_DIAMETER_UM = 5.0
+# Defaults of the exposure arithmetic (regulatory.md section 2.1). Each is flagged wherever used.
+DEFAULT_BODY_WEIGHT_KG = 60.0  # SCCS NoG default adult body weight (from memory)
+DEFAULT_DERMAL_ABSORPTION_PERCENT = 50.0  # SCCS practice without adequate data (from memory)
+DEFAULT_ORAL_BIOAVAILABILITY_PERCENT = 100.0  # no correction unless a profile or record sets one
+DEFAULT_MOS_THRESHOLD = 100.0  # 10 interspecies x 10 intraspecies (SCCS/1575/16 summary)
 
 
 class _Frozen(BaseModel):
@@ -49,6 +54,17 @@ class FactsSettings(_Frozen):
     droplet_diameter_source: str = "rule of thumb: creams and lotions mostly have 1-10 um drops"
     surface_excess_mg_m2: float = Field(DEFAULT_SURFACE_EXCESS_MG_M2, gt=0, le=100)
     surface_excess_source: str = DEFAULT_SURFACE_EXCESS_SOURCE
+    body_weight_kg: float = Field(DEFAULT_BODY_WEIGHT_KG, gt=0, le=500)
+    body_weight_source: str = "SCCS Notes of Guidance default adult body weight (from memory)"
+    default_dermal_absorption_percent: float = Field(DEFAULT_DERMAL_ABSORPTION_PERCENT, ge=0,
+                                                     le=100)
+    dermal_absorption_source: str = ("SCCS practice when no adequate data (from memory; other "
+                                     "guidance uses 100 % or 10 %)")
+    default_oral_bioavailability_percent: float = Field(DEFAULT_ORAL_BIOAVAILABILITY_PERCENT,
+                                                        gt=0, le=100)
+    oral_bioavailability_source: str = "no correction: the oral PoD is taken as systemic"
+    # not set in [facts]: the engine copies MOS01's ``threshold`` here (as for hlb_tolerance)
+    mos_threshold: float = Field(DEFAULT_MOS_THRESHOLD, gt=0)
 
 
 class LineFacts(_Frozen):
@@ -171,6 +187,51 @@ class CreamingFacts(_Frozen):
     velocity_mm_per_day: float | None
 
 
+class MosLine(_Frozen):
+    """The exposure and margin of safety of one substance, with every step written out."""
+
+    inci: str
+    percent: float  # C: % in the product (summed over every line that carries it)
+    dermal_absorption_percent: float
+    dermal_absorption_source: str
+    dermal_absorption_default: bool
+    sed_mg_kg_bw_day: float
+    pod_kind: str
+    pod_value: float
+    pod_unit: str
+    pod_route: str
+    species: str
+    study: str
+    pod_source: str
+    oral_bioavailability_percent: float
+    oral_bioavailability_source: str
+    oral_bioavailability_default: bool
+    pod_sys_mg_kg_bw_day: float
+    mos: float | None  # None when the SED is zero
+    threshold: float
+    below_threshold: bool
+    steps: tuple[str, ...] = ()
+
+
+class ExposureFacts(_Frozen):
+    """The exposure sheet: the product type's row, the defaults used, one MosLine per substance
+    with a point of departure, and the substances that need one but have none."""
+
+    product: str
+    category: str
+    exposure_source: str
+    amount_g_day: float | None
+    retention_factor: float
+    exposure_mg_kg_bw_day: float  # E_product
+    exposure_from: Literal["table", "grams per day and body weight"]
+    body_weight_kg: float | None  # used only when the table gives grams per day alone
+    threshold: float
+    lines: tuple[MosLine, ...] = ()
+    steps: tuple[str, ...] = ()
+    defaults_used: tuple[str, ...] = ()
+    missing_pod: tuple[str, ...] = ()
+
+
 class DataGap(_Frozen):
     """A library value that is missing and the number it blocks or weakens."""
 
@@ -218,6 +279,7 @@ class FormulaFacts(_Frozen):
     random_close_packing: float
     interface: InterfaceFacts | None = None
     creaming: CreamingFacts | None = None
+    exposure: ExposureFacts | None = None  # None without a product type
 
     gaps: tuple[DataGap, ...] = ()
     notes: tuple[str, ...] = ()

@@ -20,7 +20,7 @@ from sqlalchemy.orm import Session
 
 from formdb.errors import ConfigError, SchemaOutdated
 from formdb.resources import seed_data_dir
-from formdb.services import seed_tables
+from formdb.services import seed_safety, seed_tables
 from formdb.store.db import (
     alembic_config,
     current_revision,
@@ -33,15 +33,17 @@ from formdb.store.db import (
 from formdb.store.models import (
     Base,
     ChangeLogEntry,
+    ExposureEntry,
     IncompatibilityEntry,
     LimitEntry,
     SoapPairEntry,
     Source,
+    ToxicologyEntry,
 )
 
 SEED_REASON = "bundled seed library"
 SEED_FILES = ("sources.csv", "ingredients.csv", "limits.csv", "incompatibilities.csv",
-              "soap_pairs.csv")
+              "soap_pairs.csv", "exposure.csv", "toxicology.csv")
 
 # Source keys every library has, seeded or not, so any table can cite them (HELPERS.md).
 BUILTIN_SOURCES: tuple[dict[str, Any], ...] = (
@@ -190,6 +192,14 @@ def seed_library(session: Session, *, user: str,
         rows = seed_tables.read_soap_pairs(file, _label(folder, file), known_sources, session)
         counts["soap_pairs"] = _upsert(session, SoapPairEntry, ("acid_inci", "base_inci"), rows,
                                        "soap pair", user, now)
+    if file := present("exposure.csv"):
+        rows = seed_safety.read_exposure(file, _label(folder, file), known_sources)
+        counts["exposure"] = _upsert(session, ExposureEntry, ("product",), rows, "exposure",
+                                     user, now)
+    if file := present("toxicology.csv"):
+        rows = seed_safety.read_toxicology(file, _label(folder, file), known_sources, session)
+        counts["toxicology"] = _upsert(session, ToxicologyEntry, ("key",), rows, "toxicology",
+                                       user, now)
     session.flush()
     return counts
 

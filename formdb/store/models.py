@@ -211,3 +211,41 @@ class StoredFormula(Base):
     updated_by: Mapped[str] = mapped_column(String(100))
 
     __mapper_args__ = {"version_id_col": version}
+
+
+class ExposureEntry(Base):
+    """Daily exposure to one product type (SCCS Notes of Guidance, Table 3A/3B), per kg bw."""
+
+    __tablename__ = "exposure"
+
+    product: Mapped[str] = mapped_column(String(100), primary_key=True)
+    category: Mapped[str] = mapped_column(String(20))
+    amount_g_day: Mapped[float | None] = mapped_column(Float)
+    amount_mg_kg_bw_day: Mapped[float | None] = mapped_column(Float)
+    retention_factor: Mapped[float] = mapped_column(Float)
+    exposure_g_day: Mapped[float | None] = mapped_column(Float)
+    exposure_mg_kg_bw_day: Mapped[float | None] = mapped_column(Float)
+    source_key: Mapped[str] = mapped_column(ForeignKey("sources.key"))
+
+
+class ToxicologyEntry(Base):
+    """A substance's point of departure (mg/kg bw/day) with its study and source, and its dermal
+    absorption and oral bioavailability where known (each with a source)."""
+
+    __tablename__ = "toxicology"
+    __table_args__ = (UniqueConstraint("ingredient_id"),)
+
+    key: Mapped[str] = mapped_column(String(80), primary_key=True)
+    ingredient_id: Mapped[int] = mapped_column(ForeignKey("ingredients.id", ondelete="CASCADE"))
+    pod_kind: Mapped[str] = mapped_column(String(20))
+    pod_value: Mapped[float] = mapped_column(Float)
+    pod_unit: Mapped[str] = mapped_column(String(30))
+    route: Mapped[str] = mapped_column(String(20))
+    species: Mapped[str] = mapped_column(String(60))
+    study: Mapped[str] = mapped_column(Text)
+    source_key: Mapped[str] = mapped_column(ForeignKey("sources.key"))
+    dermal_absorption_percent: Mapped[float | None] = mapped_column(Float)
+    dermal_absorption_source: Mapped[str | None] = mapped_column(ForeignKey("sources.key"))
+    oral_bioavailability_percent: Mapped[float | None] = mapped_column(Float)
+    oral_bioavailability_source: Mapped[str | None] = mapped_column(ForeignKey("sources.key"))
+    note: Mapped[str | None] = mapped_column(Text)

@@ -24,19 +24,23 @@ from formdb.schemas.ingredient import (
     name_key,
 )
 from formdb.schemas.reference import (
+    ExposureRecord,
     Incompatibility,
     LimitRecord,
     ReferenceData,
     SoapPair,
+    ToxicologyRecord,
 )
 from formdb.schemas.vocab import Evidence, Role
 from formdb.store.models import (
+    ExposureEntry,
     IncompatibilityEntry,
     Ingredient,
     IngredientName,
     LimitEntry,
     SoapPairEntry,
     Source,
+    ToxicologyEntry,
 )
 
 _CHUNK = 500  # names per IN (...) list: well under SQLite's and PostgreSQL's parameter limits
@@ -213,4 +217,36 @@ def load_reference_data(session: Session) -> ReferenceData:
     sources = dict(session.execute(
         select(Source.key, Source.citation).order_by(Source.key)).all())
     return ReferenceData(limits=limits, incompatibilities=incompatibilities, soap_pairs=pairs,
-                         soaps=soaps, acids=acids, sources=sources)
+                         soaps=soaps, acids=acids, sources=sources,
+                         exposure=exposure_records(session), toxicology=toxicology_records(session))
+
+
+def exposure_record(row: ExposureEntry) -> ExposureRecord:
+    return ExposureRecord(
+        product=row.product, category=row.category, amount_g_day=row.amount_g_day,
+        amount_mg_kg_bw_day=row.amount_mg_kg_bw_day, retention_factor=row.retention_factor,
+        exposure_g_day=row.exposure_g_day, exposure_mg_kg_bw_day=row.exposure_mg_kg_bw_day,
+        source=row.source_key)
+
+
+def exposure_records(session: Session) -> dict[str, ExposureRecord]:
+    """The exposure table keyed by product type folded to lower case."""
+    return {row.product.casefold(): exposure_record(row) for row in session.scalars(
+        select(ExposureEntry).order_by(ExposureEntry.product))}
+
+
+def toxicology_records(session: Session) -> dict[str, ToxicologyRecord]:
+    """Toxicology records keyed by name_key of their substance's INCI name."""
+    out: dict[str, ToxicologyRecord] = {}
+    for row, inci in session.execute(
+            select(ToxicologyEntry, Ingredient.inci_name)
+            .join(Ingredient, Ingredient.id == ToxicologyEntry.ingredient_id)
+            .order_by(ToxicologyEntry.key)):
+        out[name_key(inci)] = ToxicologyRecord(
+            key=row.key, inci=inci, pod_kind=row.pod_kind, pod_value=row.pod_value,
+            pod_unit=row.pod_unit, route=row.route, species=row.species, study=row.study,
+            source=row.source_key, dermal_absorption_percent=row.dermal_absorption_percent,
+            dermal_absorption_source=row.dermal_absorption_source,
+            oral_bioavailability_percent=row.oral_bioavailability_percent,
+            oral_bioavailability_source=row.oral_bioavailability_source, note=row.note)
+    return out

@@ -11,7 +11,14 @@ from typing import Any
 
 from formdb.schemas.formula import FormulaFile, ResolvedFormula, ResolvedLine
 from formdb.schemas.ingredient import IngredientProperties, IngredientRecord, name_key
-from formdb.schemas.reference import Incompatibility, LimitRecord, ReferenceData, SoapPair
+from formdb.schemas.reference import (
+    ExposureRecord,
+    Incompatibility,
+    LimitRecord,
+    ReferenceData,
+    SoapPair,
+    ToxicologyRecord,
+)
 
 HERE = Path(__file__).resolve().parent
 _RECORD_KEYS = {"inci", "synonyms", "roles", "classes"}
@@ -56,7 +63,10 @@ def reference() -> ReferenceData:
         incompatibilities=tuple(Incompatibility(**row) for row in raw.get("incompatibility", ())),
         soap_pairs=pairs,
         soaps={p.soap_inci: ingredient(p.soap_inci) for p in pairs},
-        acids={r.acid_inci: ingredient(r.acid_inci) for r in limits if r.acid_inci})
+        acids={r.acid_inci: ingredient(r.acid_inci) for r in limits if r.acid_inci},
+        exposure={row["product"]: ExposureRecord(**row) for row in raw.get("exposure", ())},
+        toxicology={name_key(row["inci"]): ToxicologyRecord(**row)
+                    for row in raw.get("toxicology", ())})
 
 
 def formula(name: str, lines: Sequence[tuple[str, float]] | Sequence[Sequence[Any]],

@@ -1,0 +1,64 @@
+"""The exposure and margin-of-safety section: the sheet a reviewer redoes by hand."""
+
+from __future__ import annotations
+
+from formdb.report.blocks import Block, Line, Notes, Section, lines, table
+from formdb.schemas.result import ExposureFacts, FormulaFacts, MosLine
+
+DASH = "-"
+
+
+def _g(value: float | None) -> str:
+    return DASH if value is None else f"{value:.4g}"
+
+
+def _verdict(line: MosLine) -> str:
+    if line.mos is None:
+        return "no exposure"
+    return "below threshold" if line.below_threshold else "passes"
+
+
+def _row(line: MosLine) -> tuple[str, ...]:
+    dap = _g(line.dermal_absorption_percent) + ("*" if line.dermal_absorption_default else "")
+    pod_sys = _g(line.pod_sys_mg_kg_bw_day) + ("*" if line.oral_bioavailability_default else "")
+    return (line.inci, _g(line.percent), dap, _g(line.sed_mg_kg_bw_day),
+            f"{line.pod_kind} {_g(line.pod_value)}", pod_sys, _g(line.mos), _verdict(line))
+
+
+def _header(sheet: ExposureFacts) -> list[Line]:
+    out = [Line("Product type", f"{sheet.product} ({sheet.category}), retention factor "
+                                f"{_g(sheet.retention_factor)}"),
+           Line("E_product", f"{_g(sheet.exposure_mg_kg_bw_day)} mg/kg bw/day, source "
+                             f"{sheet.exposure_source}"),
+           Line("Body weight", f"{_g(sheet.body_weight_kg)} kg (default)" if sheet.body_weight_kg
+                else "not used: the table gives E_product per kg body weight"),
+           Line("MoS threshold", f"{_g(sheet.threshold)}")]
+    if sheet.defaults_used:
+        out.append(Line("Defaults used", "; ".join(sheet.defaults_used), "warn"))
+    if sheet.missing_pod:
+        out.append(Line("No point of departure", ", ".join(sheet.missing_pod), "bad"))
+    if any(line.below_threshold for line in sheet.lines):
+        out.append(Line("Verdict", "a margin of safety is below the threshold", "bad"))
+    elif sheet.lines:
+        out.append(Line("Verdict", "every margin of safety worked out reaches the threshold",
+                        "ok"))
+    return out
+
+
+def exposure_section(facts: FormulaFacts) -> Section | None:
+    """None when the formula names no product type (nothing to work out)."""
+    sheet = facts.exposure
+    if sheet is None:
+        return None
+    blocks: list[Block] = [lines(*_header(sheet))]
+    if sheet.lines:
+        blocks.append(table(("Substance", "C %", "DAp %", "SED", "PoD", "PoD_sys", "MoS",
+                             "Verdict"), [_row(line) for line in sheet.lines], "snnnsnns"))
+        blocks.append(Notes(("SED, PoD and PoD_sys in mg/kg bw/day; * a default was used "
+                             "(dermal absorption, or oral bioavailability for PoD_sys).",)))
+        for line in sheet.lines:
+            blocks.append(Notes((*sheet.steps, *line.steps), f"Arithmetic: {line.inci}"))
+    else:
+        blocks.append(lines(Line("Substances", "none of the formula's substances has a point "
+                                               "of departure in the library")))
+    return Section("Exposure and margin of safety", tuple(blocks))

@@ -1,0 +1,148 @@
+"""The exposure table and toxicology records in the library: seeded, validated, used by a check.
+
+Figures: SCCS Notes of Guidance, 12th revision, Table 3A (regulatory.md 2.2, found-secondary);
+phenoxyethanol NOAEL 357 mg/kg bw/day from memory (seed_data/toxicology.csv says so).
+"""
+
+from __future__ import annotations
+
+import shutil
+from pathlib import Path
+
+import pytest
+
+from formdb.errors import InvalidData
+from formdb.resources import seed_data_dir
+from formdb.services.checking import check_files
+from formdb.services.setup import init_library
+from formdb.store.db import open_library, unit_of_work
+from formdb.store.queries import load_reference_data
+from tests.helpers import dump_database
+
+TOX_HEADER = ("key,inci,pod_kind,pod_value,pod_unit,route,species,study,source,"
+              "dermal_absorption_percent,dermal_absorption_source,oral_bioavailability_percent,"
+              "oral_bioavailability_source,note\n")
+EXPOSURE_HEADER = ("product,category,amount_g_day,amount_mg_kg_bw_day,retention_factor,"
+                   "exposure_g_day,exposure_mg_kg_bw_day,source\n")
+
+
+def _seed_dir(tmp_path: Path, **files: str) -> Path:
+    folder = tmp_path / "seed"
+    folder.mkdir()
+    shutil.copyfile(seed_data_dir() / "sources.csv", folder / "sources.csv")
+    for name, text in files.items():
+        (folder / f"{name}.csv").write_text(text, encoding="utf-8")
+    return folder
+
+
+def test_the_bundled_library_holds_the_exposure_table_and_records(
+        seeded_sqlite_url: str) -> None:
+    engine = open_library(seeded_sqlite_url)
+    try:
+        with unit_of_work(engine) as session:
+            reference = load_reference_data(session)
+    finally:
+        engine.dispose()
+    assert len(reference.exposure) == 13
+    lotion = reference.exposure["body lotion"]
+    assert (lotion.exposure_mg_kg_bw_day, lotion.retention_factor) == (123.20, 1.0)
+    assert reference.exposure["hair conditioner"].amount_mg_kg_bw_day is None  # Table 3B: none
+    tox = reference.toxicology["phenoxyethanol"]
+    assert (tox.pod_kind, tox.pod_value, tox.pod_unit, tox.species) == (
+        "NOAEL", 357.0, "mg/kg bw/day", "rat")
+    assert tox.source == "from-memory"
+    assert tox.dermal_absorption_percent is None  # no data: the default applies, flagged
+
+
+@pytest.mark.parametrize(("files", "words"), [
+    ({"exposure": EXPOSURE_HEADER + "body lotion,leave-on,7.82,123.20,,7.82,123.20,"
+                                    "sccs-nog-12-table-3a\n"},
+     "exposure.csv, row 2, column retention_factor: is empty; a value is required"),
+    ({"exposure": EXPOSURE_HEADER + "body lotion,leave-on,7.82,123.20,1.0,7.82,12.32,"
+                                    "sccs-nog-12-table-3a\n"},
+     "column exposure_mg_kg_bw_day: 12.32 is not the amount 123.2 x retention factor 1"),
+    ({"exposure": EXPOSURE_HEADER + "body lotion,leave-on,7.82,123.20,1.0,,,"
+                                    "sccs-nog-12-table-3a\n"},
+     "exposure_mg_kg_bw_day or exposure_g_day must be given"),
+    ({"toxicology": TOX_HEADER + "p-noael,Phenoxyethanol,NOAEL,357,,oral,rat,study,"
+                                 "from-memory,,,,,\n"},
+     "toxicology.csv, row 2, column pod_unit: is empty"),
+    ({"toxicology": TOX_HEADER + "p-noael,Phenoxyethanol,NOAEL,357,mg/kg,oral,rat,study,"
+                                 "from-memory,,,,,\n"},
+     "column pod_unit: 'mg/kg' is not a unit formdb reads; write mg/kg bw/day"),
+    ({"toxicology": TOX_HEADER + "p-noael,Phenoxyethanol,NOAEL,357,mg/kg bw/day,oral,rat,"
+                                 "study,from-memory,-5,from-memory,,,\n"},
+     "column dermal_absorption_percent: Input should be greater than or equal to 0"),
+    ({"toxicology": TOX_HEADER + "p-noael,Phenoxyethanol,NOAEL,357,mg/kg bw/day,oral,rat,"
+                                 "study,from-memory,10,,,,\n"},
+     "dermal_absorption_percent needs dermal_absorption_source"),
+    ({"toxicology": TOX_HEADER + "p-noael,Larkspur Unknown Ester,NOAEL,357,mg/kg bw/day,oral,"
+                                 "rat,study,from-memory,,,,,\n"},
+     "column inci: 'Larkspur Unknown Ester' is not an ingredient in the library"),
+])
+def test_bad_safety_rows_are_refused_and_nothing_is_written(
+        seeded_sqlite_url: str, tmp_path: Path, files: dict[str, str], words: str) -> None:
+    before = dump_database(seeded_sqlite_url)
+    with pytest.raises(InvalidData) as caught:
+        init_library(seeded_sqlite_url, seed=True, user="larkspur-test",
+                     seed_dir=_seed_dir(tmp_path, **files))
+    assert words in caught.value.message
+    assert dump_database(seeded_sqlite_url) == before
+
+
+LOTION = '''name = "Larkspur LB-S01 body lotion"
+category = "leave-on"
+product = "Body Lotion"
+
+[[ingredients]]
+inci = "Aqua"
+percent = 94.0
+
+[[ingredients]]
+inci = "Glycerin"
+percent = 5.0
+
+[[ingredients]]
+inci = "Phenoxyethanol"
+percent = 1.0
+'''
+
+
+def test_a_check_shows_the_arithmetic_and_flags_the_defaults(seeded_sqlite_url: str,
+                                                            tmp_path: Path) -> None:
+    path = tmp_path / "lotion.toml"
+    path.write_text(LOTION, encoding="utf-8")
+    [result] = check_files(seeded_sqlite_url, [path], "strict")
+    sheet = result.to_contract_json()["facts"]["exposure"]
+    assert sheet["product"] == "body lotion" and sheet["exposure_mg_kg_bw_day"] == 123.2
+    [line] = sheet["lines"]
+    # SCCS NoG formula, by hand: SED = 123.20 x 1/100 x 50/100 = 0.616; the strict profile's
+    # oral bioavailability 50 %: PoD_sys = 178.5; MoS = 178.5 / 0.616 = 289.8
+    assert line["sed_mg_kg_bw_day"] == 0.616
+    assert line["pod_sys_mg_kg_bw_day"] == 178.5
+    assert line["mos"] == pytest.approx(289.8, abs=0.05)
+    assert line["dermal_absorption_default"] and line["oral_bioavailability_default"]
+    assert "SED = E_product x C/100 x DAp/100 = 123.2 x 1/100 x 50/100 = 0.616 mg/kg bw/day" \
+        in line["steps"]
+    assert any("dermal absorption 50 %" in d for d in sheet["defaults_used"])
+    infos = [f for f in result.findings if f.rule == "MOS01"]
+    assert [f.severity.value for f in infos] == ["info"]  # passes; the defaults are named
+
+
+def test_the_text_and_html_reports_show_the_sheet(seeded_sqlite_url: str,
+                                                  tmp_path: Path) -> None:
+    from formdb.report.html import render_html
+    from formdb.report.text import render_text
+
+    path = tmp_path / "lotion.toml"
+    path.write_text(LOTION.replace("Larkspur LB-S01", "Larkspur <b>LB-S01</b>"),
+                    encoding="utf-8")
+    [result] = check_files(seeded_sqlite_url, [path], "default")
+    text = render_text([result])
+    assert "EXPOSURE AND MARGIN OF SAFETY" in text
+    assert "MoS = PoD_sys / SED = 357 / 0.616 = 579.5: at least 100" in text
+    assert "Defaults used" in text
+    page = render_html([result])
+    assert "Exposure and margin of safety" in page
+    assert "357 / 0.616 = 579.5" in page
+    assert "<b>LB-S01</b>" not in page and "&lt;b&gt;LB-S01&lt;/b&gt;" in page
