@@ -47,7 +47,7 @@ def _parse(url_or_path: str) -> URL:
         given = f"postgresql+psycopg://{rest}"
     try:
         url = make_url(given)
-    except ArgumentError as exc:
+    except (ArgumentError, ValueError) as exc:  # ValueError: a port that is not a number
         masked = _PASSWORD_RE.sub(r"\1***@", given)
         raise ConfigError(f"cannot read the database URL {masked!r}.", hint=_URL_HINT) from exc
     if url.get_backend_name() not in ("sqlite", "postgresql"):
