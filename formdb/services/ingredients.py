@@ -14,7 +14,7 @@ from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any
 
-from sqlalchemy import Select, select
+from sqlalchemy import Select, insert, select
 from sqlalchemy.orm import Session, selectinload
 from sqlalchemy.orm.exc import StaleDataError
 
@@ -27,6 +27,7 @@ from formdb.schemas.ingredient import (
     normalise_inci,
 )
 from formdb.schemas.vocab import Evidence, Role
+from formdb.services.access import Action, require
 from formdb.services.ingredient_fields import (
     EDITABLE_FIELDS,
     NAME_COLUMN,
@@ -70,6 +71,7 @@ SPECIAL_SOURCES: dict[str, tuple[str, str]] = {
                     "Recalled from memory; check a published source before relying on it."),
 }
 _CHUNK = 500
+_BULK_CHUNK = 1000  # new ingredients per bulk insert
 
 
 @dataclass(frozen=True)
@@ -356,6 +358,8 @@ def import_table(session: Session, path: Path, *, user: str, reason: str | None,
     of every row is collected first and raised together as TableProblems, before anything is
     written. ``dry_run`` computes the same report and writes nothing.
     """
+    if not dry_run and action != "seed":  # seeding is part of `formdb init`
+        require(session, user, Action.CHANGE_LIBRARY)
     table = read_table(path)
     rows, problems = read_ingredient_rows(table)
     labels = header_labels(table)
@@ -428,12 +432,75 @@ def import_table(session: Session, path: Path, *, user: str, reason: str | None,
     now = datetime.now(UTC)
     _ensure_special_sources(session, (s for _t, item, _c in plans for s in item.sources.values()))
     why = reason or f"imported from {path.name}"
+    new_run: list[tuple[IngredientIn, list[FieldChange]]] = []
     for target, item, changes in plans:
+        if target is None and changes:
+            new_run.append((item, changes))
+            continue
+        _insert_new(session, new_run, sources, action=action, user=user, reason=why, now=now)
+        new_run = []
         if changes:
             _write(session, target, item, changes, sources, action=action, user=user,
                    reason=why, now=now)
+    _insert_new(session, new_run, sources, action=action, user=user, reason=why, now=now)
     session.flush()
     return report
+
+
+def _insert_new(session: Session, batch: Sequence[tuple[IngredientIn, list[FieldChange]]],
+                evidence: Mapping[str, str], *, action: str, user: str, reason: str | None,
+                now: datetime) -> None:
+    """Add new ingredients in bulk: the rows ``_write`` would store one by one (same order, so
+    the same ids), one statement per table instead of a flush per ingredient. A new ingredient
+    has no version to conflict with, so nothing of ``_flush``'s conflict check is lost."""
+    if not batch:
+        return
+    session.flush()  # earlier updates first, as the row order has them
+    for start in range(0, len(batch), _BULK_CHUNK):  # bounded memory for very large tables
+        _insert_chunk(session, batch[start:start + _BULK_CHUNK], evidence, action=action,
+                      user=user, reason=reason, now=now)
+
+
+def _insert_chunk(session: Session, batch: Sequence[tuple[IngredientIn, list[FieldChange]]],
+                  evidence: Mapping[str, str], *, action: str, user: str, reason: str | None,
+                  now: datetime) -> None:
+    # Core statements on the tables: one executemany per table (the ORM's bulk path would
+    # split the rows by which columns are None)
+    table = Ingredient.__table__
+    ids = list(session.scalars(
+        insert(table).returning(table.c.id, sort_by_parameter_order=True),
+        [{"inci_name": item.inci_name, "retired": False, "version": 1, "created_at": now,
+          "updated_at": now, "updated_by": user} for item, _changes in batch]))
+    rows: dict[type, list[dict[str, object]]] = {
+        IngredientName: [], IngredientCas: [], IngredientRole: [], IngredientClass: [],
+        PropertyValue: [], ChangeLogEntry: []}
+    for ingredient_id, (item, changes) in zip(ids, batch, strict=True):
+        own = {"ingredient_id": ingredient_id}
+        rows[IngredientName].append({**own, "name": item.inci_name,
+                                     "name_key": name_key(item.inci_name), "is_primary": True})
+        rows[IngredientName] += [{**own, "name": s, "name_key": k, "is_primary": False}
+                                 for k, s in {name_key(s): s for s in item.synonyms}.items()]
+        rows[IngredientCas] += [{**own, "cas": v} for v in sorted(set(item.cas_numbers))]
+        rows[IngredientRole] += [{**own, "role": v} for v in sorted({r.value for r in item.roles})]
+        rows[IngredientClass] += [{**own, "class_name": v} for v in sorted(set(item.classes))]
+        for prop in PROPERTY_NAMES:
+            value = getattr(item.properties, prop)
+            if value is None:
+                continue
+            num, text = queries.property_columns(prop, value)
+            source = item.sources[prop]
+            rows[PropertyValue].append({**own, "property": prop, "value_num": num,
+                                        "value_text": text, "source_key": source,
+                                        "evidence": evidence[source],
+                                        "note": item.notes.get(prop)})
+        rows[ChangeLogEntry] += [
+            {"at": now, "user": user, "entity": ENTITY, "entity_key": item.inci_name,
+             "entity_version": 1, "action": action, "field": change.field,
+             "old_value": change.old or None, "new_value": change.new or None, "reason": reason}
+            for change in changes]
+    for model, values in rows.items():
+        if values:
+            session.execute(insert(model.__table__), values)  # type: ignore[attr-defined]
 
 
 def export_table(session: Session, path: Path, *, role: str | None = None,
@@ -519,6 +586,7 @@ def add_ingredient(session: Session, name: str, assignments: Sequence[tuple[str,
                    cas: Sequence[str] = (), roles: Sequence[str] = (),
                    reason: str | None = None) -> EditReport:
     """Add a new ingredient; its name and synonyms must be new to the library."""
+    require(session, user, Action.CHANGE_LIBRARY)
     cells = empty_cells()
     cells[NAME_COLUMN] = name
     for column, values in (("synonyms", synonyms), ("cas", cas), ("roles", roles)):
@@ -558,6 +626,7 @@ def edit_ingredient(session: Session, name: str, assignments: Sequence[tuple[str
                     user: str, reason: str | None = None, source: str | None = None,
                     expect_version: int | None = None) -> EditReport:
     """Change fields of one ingredient; a published value changes only with a reason."""
+    require(session, user, Action.CHANGE_LIBRARY)
     if not assignments:
         raise InvalidData("nothing to change.", hint="give at least one --set field=value")
     ing = _get(session, name)
@@ -585,6 +654,7 @@ def edit_ingredient(session: Session, name: str, assignments: Sequence[tuple[str
 
 def _set_retired(session: Session, name: str, retired: bool, *, user: str,
                  reason: str) -> EditReport:
+    require(session, user, Action.CHANGE_LIBRARY)
     if not reason.strip():
         raise InvalidData("a reason is required.", hint='add --reason "why"')
     ing = _get(session, name)
