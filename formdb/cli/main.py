@@ -25,6 +25,8 @@ COMMANDS: dict[str, str] = {
     "blend": "formdb.cli.checking:blend_cmd",
     "rules": "formdb.cli.rules:rules_cmd",
     "demo": "formdb.cli.demo:demo_cmd",
+    "db": "formdb.cli.db:db_group",
+    "user": "formdb.cli.users:user_group",
 }
 
 

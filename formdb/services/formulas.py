@@ -12,6 +12,7 @@ from pathlib import Path
 
 from formdb.errors import Conflict, NotFound
 from formdb.schemas.ingredient import name_key
+from formdb.services.access import Action, require
 from formdb.services.checking import read_inputs, resolve_all
 from formdb.services.formula_files import content_hash
 from formdb.store.db import open_library, unit_of_work
@@ -51,6 +52,7 @@ def import_formulas(db_url: str, paths: list[Path], *, user: str,
     engine = open_library(db_url)
     try:
         with unit_of_work(engine) as session:
+            require(session, user, Action.STORE_FORMULAS)
             resolve_all(session, items)  # unknown ingredients stop the import here
             now = datetime.now(UTC)
             for item in items:

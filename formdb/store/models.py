@@ -249,3 +249,28 @@ class ToxicologyEntry(Base):
     oral_bioavailability_percent: Mapped[float | None] = mapped_column(Float)
     oral_bioavailability_source: Mapped[str | None] = mapped_column(ForeignKey("sources.key"))
     note: Mapped[str | None] = mapped_column(Text)
+
+
+class User(Base):
+    """A person who works on the library; what they may do is their rows in ``user_roles``."""
+
+    __tablename__ = "users"
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    name: Mapped[str] = mapped_column(String(100), unique=True)
+    active: Mapped[bool] = mapped_column(Boolean, default=True)
+    created_at: Mapped[datetime] = mapped_column(DateTime(timezone=True))
+    created_by: Mapped[str] = mapped_column(String(100))
+
+    roles: Mapped[list[UserRole]] = relationship(
+        cascade="all, delete-orphan", order_by="UserRole.role")
+
+
+class UserRole(Base):
+    """One duty of one user: admin, editor, formulator or reviewer (formdb.services.access)."""
+
+    __tablename__ = "user_roles"
+
+    user_id: Mapped[int] = mapped_column(ForeignKey("users.id", ondelete="CASCADE"),
+                                         primary_key=True)
+    role: Mapped[str] = mapped_column(String(20), primary_key=True)

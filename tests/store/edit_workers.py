@@ -85,5 +85,16 @@ def edit_forever(url: str) -> None:
         r += 1
 
 
-if __name__ == "__main__":  # python -m tests.store.edit_workers URL
-    edit_forever(sys.argv[1])
+def edit_then_hang(url: str) -> None:
+    """Make one edit, flush it (rows written, not committed), say so, and wait to be killed."""
+    engine = make_engine(url)
+    with unit_of_work(engine, write=True) as session:
+        edit_ingredient(session, STRESS_NAMES[0], [("hlb", "7.5"), ("hlb_note", "never kept")],
+                        user="larkspur-victim", source="rule-of-thumb", reason="kill test")
+        session.flush()
+        print("flushed", flush=True)
+        time.sleep(600)
+
+
+if __name__ == "__main__":  # python -m tests.store.edit_workers forever|hang URL
+    {"forever": edit_forever, "hang": edit_then_hang}[sys.argv[1]](sys.argv[2])

@@ -1,0 +1,348 @@
+"""``formdb db ...``: where the schema is, moving it along the migration chain, and backups.
+
+Two backup forms:
+- a SQLite library copied with SQLite's online backup API (``PATH`` not ending in ``.zip``): a
+  consistent file even while others write, restored the same way;
+- a portable archive (``PATH.zip``, any backend, the only form for PostgreSQL): ``manifest.json``
+  (format, revision, tables in load order, row counts) and one JSON-lines file per table.
+  Restoring it brings an empty database to the archive's revision and loads every row in one
+  transaction, so a failed restore leaves the database as it was.
+"""
+
+from __future__ import annotations
+
+import json
+import sqlite3
+import zipfile
+from collections.abc import Iterator
+from dataclasses import dataclass
+from datetime import date, datetime
+from pathlib import Path
+from typing import Any
+
+from alembic import command
+from alembic.script import ScriptDirectory
+from sqlalchemy import Connection, Date, DateTime, Engine, MetaData, func, insert, select, text
+
+from formdb.errors import ConfigError, InvalidData
+from formdb.store import db as store
+
+BACKUP_FORMAT = "formdb-backup-1"
+_BATCH = 1000
+
+
+@dataclass(frozen=True)
+class RevisionInfo:
+    revision: str
+    down_revision: str | None
+    title: str
+    is_current: bool
+    is_head: bool
+
+
+@dataclass(frozen=True)
+class Status:
+    database: str
+    current: str | None
+    head: str
+
+
+@dataclass(frozen=True)
+class BackupReport:
+    database: str
+    path: Path
+    revision: str | None
+    tables: dict[str, int]  # rows per table (the SQLite copy: the library's tables)
+
+
+def _engine(url: str) -> Engine:
+    return store.make_engine(url, must_exist=True)
+
+
+def _known() -> dict[str, Any]:
+    script = ScriptDirectory.from_config(store.alembic_config())
+    return {rev.revision: rev for rev in script.walk_revisions()}
+
+
+def status(url: str) -> Status:
+    engine = _engine(url)
+    try:
+        return Status(store.display_url(engine.url), store.current_revision(engine),
+                      store.head_revision())
+    finally:
+        engine.dispose()
+
+
+def history(url: str | None) -> list[RevisionInfo]:
+    """Every revision, oldest first; the library's own marked when ``url`` is given."""
+    current = status(url).current if url else None
+    head = store.head_revision()
+    revs = list(_known().values())[::-1]
+    return [RevisionInfo(r.revision, r.down_revision, (r.doc or "").strip().splitlines()[0]
+                         if r.doc else "", r.revision == current, r.revision == head)
+            for r in revs]
+
+
+def _check_target(revision: str) -> None:
+    if revision in ("head", "base"):
+        return
+    known = _known()
+    if revision not in known:
+        raise InvalidData(f"no migration revision {revision!r}; formdb knows "
+                          f"{', '.join(sorted(known))} (and base, head).",
+                          hint="`formdb db history` lists them")
+
+
+def move(url: str, revision: str, *, down: bool) -> tuple[str | None, str | None]:
+    """Upgrade (or downgrade) the library to ``revision`` in one transaction; (before, after)."""
+    _check_target(revision)
+    engine = _engine(url)
+    try:
+        before = store.current_revision(engine)
+        if down:
+            if before is None:
+                raise ConfigError(f"{store.display_url(engine.url)} has no formdb schema to "
+                                  "step down from.", hint="nothing was changed")
+            store.downgrade(engine, revision)
+        else:
+            store.upgrade(engine, revision)
+        return before, store.current_revision(engine)
+    finally:
+        engine.dispose()
+
+
+# --- backup -------------------------------------------------------------------------------------
+
+def _jsonable(value: Any) -> Any:
+    if isinstance(value, datetime | date):
+        return value.isoformat()
+    return value
+
+
+def _table_rows(conn: Connection, meta: MetaData) -> Iterator[tuple[str, Iterator[dict]]]:
+    for table in meta.sorted_tables:
+        order = list(table.primary_key.columns) or list(table.columns)
+        result = conn.execution_options(yield_per=_BATCH).execute(
+            select(table).order_by(*order))
+        yield table.name, (dict(row._mapping) for row in result)
+
+
+def backup(url: str, path: Path) -> BackupReport:
+    """Copy the whole library to ``path`` (a new file); see the module docstring for forms."""
+    if path.exists():
+        raise ConfigError(f"{path} already exists; a backup never overwrites a file.",
+                          hint="give a new file name")
+    if not path.parent.is_dir():
+        raise ConfigError(f"cannot write {path}: the folder {path.parent} does not exist.",
+                          hint="create the folder or give another path")
+    engine = _engine(url)
+    try:
+        shown = store.display_url(engine.url)
+        if path.suffix.lower() == ".zip":
+            return _backup_zip(engine, shown, path)
+        source = store.sqlite_path(url)
+        if source is None:
+            raise ConfigError(f"{shown} is a PostgreSQL library: back it up to a .zip archive.",
+                              hint=f"formdb db backup {path.with_suffix('.zip')}")
+        try:
+            src, dst = sqlite3.connect(source), sqlite3.connect(path)
+            try:
+                src.backup(dst)  # consistent even while others write
+            finally:
+                src.close()
+                dst.close()
+        except sqlite3.Error as exc:
+            path.unlink(missing_ok=True)
+            raise ConfigError(f"cannot back up {shown} to {path}: {exc}.",
+                              hint="nothing was written") from exc
+        return BackupReport(shown, path, store.current_revision(engine), _counts(url))
+    finally:
+        engine.dispose()
+
+
+def _counts(url: str) -> dict[str, int]:
+    engine = _engine(url)
+    try:
+        with engine.connect() as conn:
+            meta = MetaData()
+            meta.reflect(conn)
+            return {t.name: conn.execute(select(func.count()).select_from(t)).scalar_one()
+                    for t in meta.sorted_tables}
+    finally:
+        engine.dispose()
+
+
+def _backup_zip(engine: Engine, shown: str, path: Path) -> BackupReport:
+    counts: dict[str, int] = {}
+    partial = path.with_name(path.name + ".partial")
+    try:
+        # one read transaction: every table from the same moment
+        with engine.connect() as conn, conn.begin(), \
+                zipfile.ZipFile(partial, "w", zipfile.ZIP_DEFLATED) as archive:
+            if engine.dialect.name == "postgresql":
+                conn.execute(text("SET TRANSACTION ISOLATION LEVEL REPEATABLE READ READ ONLY"))
+            meta = MetaData()
+            meta.reflect(conn)
+            revision = conn.execute(text("SELECT version_num FROM alembic_version")).scalar()
+            for name, rows in _table_rows(conn, meta):
+                n = 0
+                with archive.open(f"tables/{name}.jsonl", "w") as out:
+                    for row in rows:
+                        out.write((json.dumps({k: _jsonable(v) for k, v in row.items()},
+                                              ensure_ascii=False) + "\n").encode())
+                        n += 1
+                counts[name] = n
+            archive.writestr("manifest.json", json.dumps(
+                {"format": BACKUP_FORMAT, "revision": revision, "tables": counts}, indent=1))
+        partial.replace(path)
+    except BaseException:
+        partial.unlink(missing_ok=True)
+        raise
+    return BackupReport(shown, path, revision, counts)
+
+
+# --- restore ------------------------------------------------------------------------------------
+
+def _read_manifest(archive: zipfile.ZipFile, path: Path) -> dict[str, Any]:
+    try:
+        manifest = json.loads(archive.read("manifest.json"))
+    except (KeyError, ValueError) as exc:
+        raise InvalidData(f"{path}: not a formdb backup (no readable manifest.json).",
+                          hint="give a file written by `formdb db backup`") from exc
+    if manifest.get("format") != BACKUP_FORMAT:
+        raise InvalidData(f"{path}: backup format {manifest.get('format')!r} is not "
+                          f"{BACKUP_FORMAT!r}.", hint="restore it with the formdb that wrote it")
+    return manifest
+
+
+def _refuse_non_empty(conn: Connection, shown: str) -> str | None:
+    meta = MetaData()
+    meta.reflect(conn)
+    for table in meta.sorted_tables:
+        if table.name == "alembic_version":
+            continue
+        if conn.execute(select(func.count()).select_from(table)).scalar_one():
+            raise ConfigError(f"{shown} already holds data (table {table.name}); restore only "
+                              "fills an empty database.",
+                              hint="create a new database (or give a new SQLite file) and "
+                                   "restore into it")
+    return conn.execute(text("SELECT version_num FROM alembic_version")).scalar() \
+        if "alembic_version" in meta.tables else None
+
+
+def _convert(meta: MetaData, name: str, row: dict[str, Any]) -> dict[str, Any]:
+    table = meta.tables[name]
+    out = {}
+    for key, value in row.items():
+        col = table.columns.get(key)
+        if col is None:
+            raise InvalidData(f"backup table {name} has a column {key!r} the database lacks.",
+                              hint="nothing was restored")
+        if isinstance(value, str) and isinstance(col.type, DateTime):
+            value = datetime.fromisoformat(value)
+        elif isinstance(value, str) and isinstance(col.type, Date):
+            value = date.fromisoformat(value)
+        out[key] = value
+    return out
+
+
+def _reset_sequences(conn: Connection, meta: MetaData) -> None:
+    """After rows arrive with their ids, PostgreSQL's id counters must move past them."""
+    for table in meta.sorted_tables:
+        for col in table.primary_key.columns:
+            seq = conn.execute(text("SELECT pg_get_serial_sequence(:t, :c)"),
+                               {"t": table.name, "c": col.name}).scalar()
+            if seq:
+                conn.execute(text(f'SELECT setval(:s, COALESCE((SELECT max("{col.name}") '
+                                  f'FROM "{table.name}"), 0) + 1, false)'), {"s": seq})
+
+
+def restore(url: str, path: Path) -> BackupReport:
+    """Fill an empty database from a backup made by :func:`backup`, all or nothing."""
+    if not path.is_file():
+        raise ConfigError(f"no backup file {path}.", hint="give the file `formdb db backup` wrote")
+    if not zipfile.is_zipfile(path):
+        return _restore_sqlite_copy(url, path)
+    engine = store.make_engine(url)
+    shown = store.display_url(engine.url)
+    try:
+        with zipfile.ZipFile(path) as archive:
+            manifest = _read_manifest(archive, path)
+            revision = manifest["revision"]
+            _check_target(revision)
+            counts: dict[str, int] = {}
+            with engine.connect() as conn, conn.begin():
+                current = _refuse_non_empty(conn, shown)
+                if current is None:
+                    command.upgrade(store.alembic_config(conn), revision)
+                elif current != revision:
+                    raise ConfigError(f"{shown} is at revision {current}; the backup is at "
+                                      f"{revision}.", hint="restore into a new, empty database")
+                meta = MetaData()
+                meta.reflect(conn)
+                for name in manifest["tables"]:
+                    if name == "alembic_version":
+                        continue
+                    if name not in meta.tables:
+                        raise InvalidData(f"{path}: table {name} is not in the schema at "
+                                          f"revision {revision}.", hint="nothing was restored")
+                    counts[name] = _load_table(conn, meta, name, archive, path)
+                if engine.dialect.name == "postgresql":
+                    _reset_sequences(conn, meta)
+            return BackupReport(shown, path, revision, counts)
+    except zipfile.BadZipFile as exc:
+        raise InvalidData(f"{path}: the archive is damaged ({exc}).",
+                          hint="nothing was restored") from exc
+    finally:
+        engine.dispose()
+
+
+def _load_table(conn: Connection, meta: MetaData, name: str, archive: zipfile.ZipFile,
+                path: Path) -> int:
+    batch: list[dict[str, Any]] = []
+    n = 0
+    with archive.open(f"tables/{name}.jsonl") as lines:
+        for number, raw in enumerate(lines, start=1):
+            try:
+                row = json.loads(raw)
+            except ValueError as exc:
+                raise InvalidData(f"{path}: tables/{name}.jsonl line {number} is not JSON.",
+                                  hint="nothing was restored") from exc
+            batch.append(_convert(meta, name, row))
+            if len(batch) >= _BATCH:
+                conn.execute(insert(meta.tables[name]), batch)
+                n += len(batch)
+                batch = []
+    if batch:
+        conn.execute(insert(meta.tables[name]), batch)
+        n += len(batch)
+    return n
+
+
+def _restore_sqlite_copy(url: str, path: Path) -> BackupReport:
+    target = store.sqlite_path(url)
+    if target is None:
+        raise ConfigError(f"{path} is a SQLite copy; it restores into a SQLite library only.",
+                          hint="back the library up to a .zip to move it to PostgreSQL")
+    try:
+        with sqlite3.connect(f"file:{path}?mode=ro", uri=True) as src:
+            revision = src.execute("SELECT version_num FROM alembic_version").fetchone()[0]
+    except (sqlite3.Error, TypeError) as exc:
+        raise InvalidData(f"{path}: not a formdb SQLite backup ({exc}).",
+                          hint="give a file written by `formdb db backup`") from exc
+    _check_target(revision)
+    engine = store.make_engine(url)
+    shown = store.display_url(engine.url)
+    try:
+        with engine.connect() as conn:
+            _refuse_non_empty(conn, shown)
+    finally:
+        engine.dispose()
+    src = sqlite3.connect(f"file:{path}?mode=ro", uri=True)
+    dst = sqlite3.connect(target)
+    try:
+        src.backup(dst)  # page by page under the target's lock; replaces the whole file at once
+    finally:
+        src.close()
+        dst.close()
+    return BackupReport(shown, path, revision, _counts(url))
