@@ -274,3 +274,21 @@ class UserRole(Base):
     user_id: Mapped[int] = mapped_column(ForeignKey("users.id", ondelete="CASCADE"),
                                          primary_key=True)
     role: Mapped[str] = mapped_column(String(20), primary_key=True)
+
+
+class LabelThresholdEntry(Base):
+    """Above this % in a product of the category, substances with the role must be labelled."""
+
+    __tablename__ = "label_thresholds"
+
+    key: Mapped[str] = mapped_column(String(80), primary_key=True)
+    jurisdiction: Mapped[str] = mapped_column(String(20))
+    list_name: Mapped[str] = mapped_column(String(200))
+    entry: Mapped[str] = mapped_column(String(40))
+    role: Mapped[str] = mapped_column(String(40))
+    category: Mapped[str] = mapped_column(String(20))
+    threshold_percent: Mapped[float] = mapped_column(Float)
+    label_rule: Mapped[str] = mapped_column(Text)
+    source_key: Mapped[str] = mapped_column(ForeignKey("sources.key"))
+    list_date: Mapped[date] = mapped_column(Date)
+
