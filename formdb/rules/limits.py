@@ -10,6 +10,7 @@ from __future__ import annotations
 
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
+from functools import lru_cache
 from typing import Any
 
 from formdb.rules.base import Option, Rule
@@ -25,14 +26,33 @@ _EPS = 1e-9
 JURISDICTION = Option(str, "EU", "jurisdiction whose limit lists apply (as in limits.csv)")
 
 
-def _keys(ing: IngredientRecord) -> set[str]:
-    return {name_key(ing.inci_name)} | {name_key(s) for s in ing.synonyms}
+@lru_cache(maxsize=1 << 14)
+def _name_keys(names: tuple[str, ...]) -> frozenset[str]:
+    """Memoised: every limit row asks this of every line of every formula."""
+    return frozenset(name_key(n) for n in names)
+
+
+def _keys(ing: IngredientRecord) -> frozenset[str]:
+    return _name_keys((ing.inci_name, *ing.synonyms))
+
+
+# the name keys of the last formula asked about (LIM01 and LIM02 ask once per limit row)
+_last_formula: list[tuple[ResolvedFormula, frozenset[str]]] = []
+
+
+def _formula_keys(formula: ResolvedFormula) -> frozenset[str]:
+    if not _last_formula or _last_formula[0][0] is not formula:
+        keys = frozenset().union(*(_keys(ln.ingredient) for ln in formula.lines))
+        _last_formula[:] = [(formula, keys)]
+    return _last_formula[0][1]
 
 
 def lines_in(row: LimitRecord, formula: ResolvedFormula) -> list[ResolvedLine]:
     """The formula lines that are one of the row's ingredients."""
-    wanted = {name_key(n) for n in row.ingredients}
-    return [ln for ln in formula.lines if _keys(ln.ingredient) & wanted]
+    wanted = _name_keys(row.ingredients)
+    if wanted.isdisjoint(_formula_keys(formula)):
+        return []  # most rows: none of their ingredients is in the formula
+    return [ln for ln in formula.lines if not wanted.isdisjoint(_keys(ln.ingredient))]
 
 
 def applicable_rows(reference: ReferenceData, formula: ResolvedFormula,
