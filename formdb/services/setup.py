@@ -21,6 +21,7 @@ from sqlalchemy.orm import Session
 from formdb.errors import ConfigError, SchemaOutdated
 from formdb.resources import seed_data_dir
 from formdb.services import seed_safety, seed_tables
+from formdb.services.ingredients import SPECIAL_SOURCES
 from formdb.store.db import (
     alembic_config,
     current_revision,
@@ -45,13 +46,12 @@ SEED_REASON = "bundled seed library"
 SEED_FILES = ("sources.csv", "ingredients.csv", "limits.csv", "incompatibilities.csv",
               "soap_pairs.csv", "exposure.csv", "toxicology.csv")
 
-# Source keys every library has, seeded or not, so any table can cite them (HELPERS.md).
-BUILTIN_SOURCES: tuple[dict[str, Any], ...] = (
-    {"key": "rule-of-thumb", "citation": "Rule of thumb of the trade; no published source",
-     "evidence": "rule of thumb", "url": None, "seen": None, "note": None},
-    {"key": "from-memory", "citation": "Recalled from memory; to be verified against a source",
-     "evidence": "from memory", "url": None, "seen": "memory", "note": None},
-)
+# Source keys every library has, seeded or not, so any table can cite them (HELPERS.md); the
+# same rows the ingredient service creates when a value cites one in a library that lacks it.
+BUILTIN_SOURCES: tuple[dict[str, Any], ...] = tuple(
+    {"key": key, "citation": citation, "evidence": evidence, "url": None, "seen": "calc",
+     "note": None}
+    for key, (evidence, citation) in SPECIAL_SOURCES.items())
 
 
 @dataclass(frozen=True)
