@@ -56,10 +56,12 @@ def _match(row: Incompatibility, a: _Member, b: _Member) -> tuple[_Member, _Memb
     return None
 
 
-def _both_sides_present(row: Incompatibility, members: list[_Member]) -> bool:
-    """Cheap pre-test: a row can match a pair only if some member is each of its sides."""
-    return (any(_is(m, row.class_a) for m in members)
-            and any(_is(m, row.class_b) for m in members))
+def _both_sides_present(row: Incompatibility, present: frozenset[str]) -> bool:
+    """Cheap pre-test: a row can match a pair only if some member is each of its sides.
+    ``present`` holds every member's classes and name keys together (a false hit only costs
+    the full test)."""
+    return ((norm_token(row.class_a) in present or name_key(row.class_a) in present)
+            and (norm_token(row.class_b) in present or name_key(row.class_b) in present))
 
 
 @register
@@ -88,8 +90,9 @@ class IncompatiblePair(Rule):
     def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,
               options: Mapping[str, Any]) -> Iterable[Finding]:
         members = _members(formula, facts)
+        present = frozenset().union(*(m.classes | m.keys for m in members))
         for row in reference.incompatibilities:
-            if not _both_sides_present(row, members):
+            if not _both_sides_present(row, present):
                 continue  # most rows: one side absent, no pair to try
             for a, b in combinations(members, 2):
                 if a.lines & b.lines:
