@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import sys
 import time
+from dataclasses import replace
 from pathlib import Path
 
 import click
@@ -65,7 +66,7 @@ def run_cmd(quick: bool, pg_url: str | None, work: Path | None, ingredients: int
             sizes: str | None, import_rows: int | None, startup_runs: int | None, seed: int,
             json_out: Path | None) -> None:
     """Measure every figure in one run and print it with its floor, ratio and target."""
-    from formdb.bench.run import FULL, QUICK, Sizes, run_benchmark
+    from formdb.bench.run import FULL, QUICK, run_benchmark
 
     base = QUICK if quick else FULL
     try:
@@ -75,8 +76,9 @@ def run_cmd(quick: bool, pg_url: str | None, work: Path | None, ingredients: int
                                  param_hint="--sizes") from None
     if not counts or min(counts) < 1:
         raise click.BadParameter("every formula count must be at least 1", param_hint="--sizes")
-    chosen = Sizes(ingredients if ingredients is not None else base.ingredients, counts,
-                   import_rows or base.import_rows, startup_runs or base.startup_runs, seed)
+    chosen = replace(base, ingredients=base.ingredients if ingredients is None else ingredients,
+                     formulas=counts, import_rows=import_rows or base.import_rows,
+                     startup_runs=startup_runs or base.startup_runs, seed=seed)
     run_benchmark(pg_url=pg_url, work=work, sizes=chosen, json_out=json_out)
 
 

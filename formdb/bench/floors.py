@@ -18,6 +18,7 @@ import time
 import tomllib
 from collections.abc import Iterator
 from contextlib import contextmanager
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
@@ -54,9 +55,29 @@ def _key(name: str) -> str:
     return " ".join(name.split()).casefold()
 
 
-def check_floor(url: str) -> tuple[float, int, int]:
-    """(seconds, formulas, lines): read and parse every formula line with its properties."""
-    started = time.perf_counter()
+@dataclass(frozen=True)
+class Timing:
+    seconds: float  # wall
+    cpu_seconds: float  # this process's CPU time (the server's is not in it)
+
+
+@contextmanager
+def timed() -> Iterator[list[Timing]]:
+    """``with timed() as t:`` ... ``t[0]`` is the block's Timing."""
+    out: list[Timing] = []
+    started, cpu = time.perf_counter(), time.process_time()
+    yield out
+    out.append(Timing(time.perf_counter() - started, time.process_time() - cpu))
+
+
+def check_floor(url: str) -> tuple[Timing, int, int]:
+    """(timing, formulas, lines): read and parse every formula line with its properties."""
+    with timed() as timing:
+        formulas, lines = _read_formula_lines(url)
+    return timing[0], formulas, lines
+
+
+def _read_formula_lines(url: str) -> tuple[int, int]:
     formulas = lines = 0
     with raw_connection(url) as conn:
         cursor = conn.cursor()
@@ -75,15 +96,20 @@ def check_floor(url: str) -> tuple[float, int, int]:
                     for line in data["ingredients"])
                 formulas += 1
                 lines += len(resolved)
-    return time.perf_counter() - started, formulas, lines
+    return formulas, lines
 
 
-def import_floor(csv_path: Path, url: str) -> tuple[float, int]:
-    """(seconds, rows): ``pandas.read_csv`` plus a plain ``executemany`` of the same rows into
+def import_floor(csv_path: Path, url: str) -> tuple[Timing, int]:
+    """(timing, rows): ``pandas.read_csv`` plus a plain ``executemany`` of the same rows into
     an empty table at ``url`` (a SQLite file, or a PostgreSQL database), committed."""
     import pandas as pd
 
-    started = time.perf_counter()
+    with timed() as timing:
+        rows = _read_and_insert(pd, csv_path, url)
+    return timing[0], rows
+
+
+def _read_and_insert(pd: Any, csv_path: Path, url: str) -> int:
     frame = pd.read_csv(csv_path, dtype=str, keep_default_na=False)
     columns = [f"c{i}" for i in range(len(frame.columns))]
     rows = list(frame.itertuples(index=False, name=None))
@@ -94,7 +120,7 @@ def import_floor(csv_path: Path, url: str) -> tuple[float, int]:
         cursor.executemany(
             f"INSERT INTO floor_rows VALUES ({', '.join([marker] * len(columns))})", rows)
         conn.commit()
-    return time.perf_counter() - started, len(rows)
+    return len(rows)
 
 
 def startup_floor() -> float:
