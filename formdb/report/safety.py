@@ -62,3 +62,23 @@ def exposure_section(facts: FormulaFacts) -> Section | None:
         blocks.append(lines(Line("Substances", "none of the formula's substances has a point "
                                                "of departure in the library")))
     return Section("Exposure and margin of safety", tuple(blocks))
+
+
+def allergen_section(facts: FormulaFacts) -> Section | None:
+    """The allergen table; None when the formula holds no labelled allergen."""
+    table_facts = facts.allergens
+    if table_facts is None:
+        return None
+    head = lines(
+        Line("Threshold", f"{table_facts.threshold_percent:g} % in a {table_facts.category} "
+                          f"product ({table_facts.list_name} {table_facts.entry}, list of "
+                          f"{table_facts.list_date}, source {table_facts.source})"),
+        Line("Must be named on the label",
+             ", ".join(table_facts.must_label) if table_facts.must_label else "none",
+             "warn" if table_facts.must_label else "ok"))
+    rows = [(line.inci, f"{line.percent:.4g}", "yes" if line.must_label else "no",
+             "; ".join(line.sources)) for line in table_facts.lines]
+    return Section("Fragrance allergens", (head, table(
+        ("Allergen", "Total %", "Label", "Summed over"), rows, "snss"),
+        Notes(("Each allergen is summed over every line that carries it before the threshold "
+               "test; Annex III maximum concentrations still apply (limits section).",))))

@@ -12,7 +12,7 @@ from typing import Literal
 from formdb.report import numbers as n
 from formdb.report.blocks import Line, Section
 from formdb.report.chart import HlbChart, hlb_chart
-from formdb.report.safety import exposure_section
+from formdb.report.safety import allergen_section, exposure_section
 from formdb.report.sections import (
     data_gaps_section,
     hlb_section,
@@ -120,7 +120,7 @@ def formula_view(result: CheckResult) -> FormulaView:
     sections = tuple(s for s in (
         phases_section(facts), hlb_section(facts), prediction_section(result),
         packing_section(facts), interface_section(facts), exposure_section(facts),
-        data_gaps_section(facts)) if s is not None)
+        allergen_section(facts), data_gaps_section(facts)) if s is not None)
     return FormulaView(title=result.formula, header=header_lines(result), verdict=text,
                        verdict_flag=flag, sections=sections,
                        findings=finding_groups(result.findings), chart=hlb_chart(facts),

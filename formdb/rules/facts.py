@@ -26,6 +26,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+from formdb.rules.allergen_table import allergen_table
 from formdb.rules.exposure_sheet import exposure_sheet
 from formdb.schemas.formula import ResolvedFormula, ResolvedLine
 from formdb.schemas.ingredient import IngredientRecord, name_key
@@ -515,6 +516,7 @@ def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
         dispersed_fraction=fraction, packing_limit=CLOSE_PACKING,
         random_close_packing=RANDOM_CLOSE_PACKING, interface=interface, creaming=creaming,
         exposure=exposure_sheet(formula, reference, settings),
+        allergens=allergen_table(formula, reference, settings),
         gaps=tuple(DataGap(property=prop, ingredients=tuple(names), blocks=blocks,
                            detail=detail)
                    for (prop, blocks), (names, detail) in work.gaps.items()),

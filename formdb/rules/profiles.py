@@ -37,7 +37,8 @@ PROFILE_KEYS = ("name", "version", "description", "extends", "select", "exclude"
                 "rules")
 # set from rule options by ``facts_settings``, never in [facts]
 FROM_RULE_OPTIONS = {"hlb_tolerance": "[rules.HLB01] tolerance",
-                     "mos_threshold": "[rules.MOS01] threshold"}
+                     "mos_threshold": "[rules.MOS01] threshold",
+                     "label_jurisdiction": "[rules.ALG01] jurisdiction"}
 FACTS_KEYS = tuple(k for k in FactsSettings.model_fields if k not in FROM_RULE_OPTIONS)
 ALL = "all"
 
@@ -116,13 +117,16 @@ class Profile(BaseModel):
         """The facts' assumptions, with the HLB band taken from HLB01's ``tolerance`` and the
         margin-of-safety threshold from MOS01's ``threshold``."""
         registry = registry or default_registry()
-        update: dict[str, float] = {}
+        update: dict[str, float | str] = {}
         hlb_rule = registry.find("HLB01")
         if hlb_rule is not None:
             update["hlb_tolerance"] = float(self.options_for(hlb_rule)["tolerance"])
         mos_rule = registry.find("MOS01")
         if mos_rule is not None:
             update["mos_threshold"] = float(self.options_for(mos_rule)["threshold"])
+        label_rule = registry.find("ALG01")
+        if label_rule is not None:
+            update["label_jurisdiction"] = str(self.options_for(label_rule)["jurisdiction"])
         return self.facts.model_copy(update=update) if update else self.facts
 
 

@@ -15,7 +15,7 @@ from formdb.rules.base import Rule, did_you_mean
 
 # modules of formdb.rules that hold machinery, not rules
 _MACHINERY = frozenset({"base", "registry", "profiles", "engine", "facts", "docs",
-                        "exposure_sheet"})
+                        "exposure_sheet", "allergen_table"})
 
 
 class RuleRegistry:

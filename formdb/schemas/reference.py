@@ -106,6 +106,24 @@ class ToxicologyRecord(BaseModel):
     note: str | None = None
 
 
+class LabelThreshold(BaseModel):
+    """Above ``threshold_percent`` in a product of ``category``, every substance with ``role``
+    (e.g. the fragrance allergens) must be named on the label."""
+
+    model_config = ConfigDict(frozen=True)
+
+    key: str
+    jurisdiction: str
+    list_name: str
+    entry: str
+    role: str
+    category: str  # leave-on | rinse-off
+    threshold_percent: float
+    label_rule: str
+    source: str
+    list_date: date
+
+
 class ReferenceData(BaseModel):
     """Everything besides ingredients that a check needs, loaded once per check run."""
 
@@ -124,3 +142,4 @@ class ReferenceData(BaseModel):
     exposure: dict[str, ExposureRecord] = {}
     # toxicology records keyed by name_key of the substance's INCI name
     toxicology: dict[str, ToxicologyRecord] = {}
+    label_thresholds: tuple[LabelThreshold, ...] = ()

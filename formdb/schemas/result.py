@@ -65,6 +65,8 @@ class FactsSettings(_Frozen):
     oral_bioavailability_source: str = "no correction: the oral PoD is taken as systemic"
     # not set in [facts]: the engine copies MOS01's ``threshold`` here (as for hlb_tolerance)
     mos_threshold: float = Field(DEFAULT_MOS_THRESHOLD, gt=0)
+    # not set in [facts]: the engine copies ALG01's ``jurisdiction`` here
+    label_jurisdiction: str = "EU"
 
 
 class LineFacts(_Frozen):
@@ -232,6 +234,30 @@ class ExposureFacts(_Frozen):
     missing_pod: tuple[str, ...] = ()
 
 
+class AllergenLine(_Frozen):
+    """One labelled allergen: its total in the product, summed over every source."""
+
+    inci: str
+    percent: float
+    sources: tuple[str, ...]  # where it comes from, e.g. "line 4 (Limonene)"
+    must_label: bool  # total above the threshold
+
+
+class AllergenFacts(_Frozen):
+    """The allergen table: each allergen's total against the labelling threshold."""
+
+    jurisdiction: str
+    category: str
+    threshold_percent: float
+    entry: str
+    list_name: str
+    label_rule: str
+    source: str
+    list_date: str
+    lines: tuple[AllergenLine, ...] = ()
+    must_label: tuple[str, ...] = ()
+
+
 class DataGap(_Frozen):
     """A library value that is missing and the number it blocks or weakens."""
 
@@ -280,6 +306,7 @@ class FormulaFacts(_Frozen):
     interface: InterfaceFacts | None = None
     creaming: CreamingFacts | None = None
     exposure: ExposureFacts | None = None  # None without a product type
+    allergens: AllergenFacts | None = None  # None when the formula holds no labelled allergen
 
     gaps: tuple[DataGap, ...] = ()
     notes: tuple[str, ...] = ()

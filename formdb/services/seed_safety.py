@@ -1,4 +1,5 @@
-"""Reading the safety seed tables: the exposure table per product type and toxicology records.
+"""Reading the safety seed tables: exposure per product type, toxicology records, and the
+labelling thresholds (fragrance allergens).
 
 Same conventions as ``seed_tables``: each row validated by a pydantic row model, every problem
 of a file named by file, row and column before anything is written.
@@ -6,6 +7,7 @@ of a file named by file, row and column before anything is written.
 
 from __future__ import annotations
 
+from datetime import date
 from pathlib import Path
 from typing import Any, Literal
 
@@ -13,7 +15,7 @@ from pydantic import Field, field_validator, model_validator
 from sqlalchemy.orm import Session
 
 from formdb.schemas.ingredient import name_key
-from formdb.schemas.vocab import norm_token
+from formdb.schemas.vocab import Role, norm_token, parse_choice
 from formdb.services.seed_tables import (
     Rows,
     SeedProblems,
@@ -180,3 +182,45 @@ def read_toxicology(file: Path, label: str, known_sources: set[str], session: Se
         raise SeedProblems(problems)
     return [{**r.model_dump(exclude={"inci", "source"}), "source_key": r.source,
              "ingredient_id": found[name_key(r.inci)].id} for r in parsed]
+
+
+LABEL_COLUMNS = ("key", "jurisdiction", "list_name", "entry", "role", "category",
+                 "threshold_percent", "label_rule", "source", "list_date")
+
+
+class LabelThresholdRow(_Row):
+    key: str = Field(max_length=80, pattern=r"^\S+$")
+    jurisdiction: str = Field(max_length=20)
+    list_name: str = Field(max_length=200)
+    entry: str = Field(max_length=40)
+    role: str = Field(max_length=40)
+    category: Literal["leave-on", "rinse-off"]
+    threshold_percent: float = Field(ge=0, le=100)
+    label_rule: str
+    source: str
+    list_date: date
+
+    @field_validator("threshold_percent", mode="before")
+    @classmethod
+    def _numbers(cls, value: Any) -> Any:
+        return _number(value)
+
+    @field_validator("role", mode="before")
+    @classmethod
+    def _role(cls, value: Any) -> Any:
+        return parse_choice(Role, str(value), "role").value
+
+    @field_validator("category", mode="before")
+    @classmethod
+    def _category(cls, value: Any) -> Any:
+        return norm_token(value) if isinstance(value, str) else value
+
+
+def read_label_thresholds(file: Path, label: str, known_sources: set[str]) -> Rows:
+    rows = read_rows(file, label, LABEL_COLUMNS, LABEL_COLUMNS)
+    source_check = _source_check(known_sources)
+    parsed, problems = _validate(LabelThresholdRow, label, rows, lambda r: r.key, "key",
+                                 lambda r: source_check(r.source))
+    if problems:
+        raise SeedProblems(problems)
+    return [{**r.model_dump(exclude={"source"}), "source_key": r.source} for r in parsed]

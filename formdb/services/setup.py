@@ -36,6 +36,7 @@ from formdb.store.models import (
     ChangeLogEntry,
     ExposureEntry,
     IncompatibilityEntry,
+    LabelThresholdEntry,
     LimitEntry,
     SoapPairEntry,
     Source,
@@ -44,7 +45,8 @@ from formdb.store.models import (
 
 SEED_REASON = "bundled seed library"
 SEED_FILES = ("sources.csv", "ingredients.csv", "limits.csv", "incompatibilities.csv",
-              "soap_pairs.csv", "exposure.csv", "toxicology.csv")
+              "soap_pairs.csv", "exposure.csv", "toxicology.csv",
+              "label_thresholds.csv")
 
 # Source keys every library has, seeded or not, so any table can cite them (HELPERS.md); the
 # same rows the ingredient service creates when a value cites one in a library that lacks it.
@@ -200,6 +202,10 @@ def seed_library(session: Session, *, user: str,
         rows = seed_safety.read_toxicology(file, _label(folder, file), known_sources, session)
         counts["toxicology"] = _upsert(session, ToxicologyEntry, ("key",), rows, "toxicology",
                                        user, now)
+    if file := present("label_thresholds.csv"):
+        rows = seed_safety.read_label_thresholds(file, _label(folder, file), known_sources)
+        counts["label_thresholds"] = _upsert(session, LabelThresholdEntry, ("key",), rows,
+                                             "label threshold", user, now)
     session.flush()
     return counts
 

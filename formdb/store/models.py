@@ -291,4 +291,3 @@ class LabelThresholdEntry(Base):
     label_rule: Mapped[str] = mapped_column(Text)
     source_key: Mapped[str] = mapped_column(ForeignKey("sources.key"))
     list_date: Mapped[date] = mapped_column(Date)
-

@@ -26,6 +26,7 @@ from formdb.schemas.ingredient import (
 from formdb.schemas.reference import (
     ExposureRecord,
     Incompatibility,
+    LabelThreshold,
     LimitRecord,
     ReferenceData,
     SoapPair,
@@ -37,6 +38,7 @@ from formdb.store.models import (
     IncompatibilityEntry,
     Ingredient,
     IngredientName,
+    LabelThresholdEntry,
     LimitEntry,
     SoapPairEntry,
     Source,
@@ -218,7 +220,16 @@ def load_reference_data(session: Session) -> ReferenceData:
         select(Source.key, Source.citation).order_by(Source.key)).all())
     return ReferenceData(limits=limits, incompatibilities=incompatibilities, soap_pairs=pairs,
                          soaps=soaps, acids=acids, sources=sources,
-                         exposure=exposure_records(session), toxicology=toxicology_records(session))
+                         exposure=exposure_records(session), toxicology=toxicology_records(session),
+                         label_thresholds=label_thresholds(session))
+
+
+def label_thresholds(session: Session) -> tuple[LabelThreshold, ...]:
+    return tuple(LabelThreshold(
+        key=r.key, jurisdiction=r.jurisdiction, list_name=r.list_name, entry=r.entry,
+        role=r.role, category=r.category, threshold_percent=r.threshold_percent,
+        label_rule=r.label_rule, source=r.source_key, list_date=r.list_date)
+        for r in session.scalars(select(LabelThresholdEntry).order_by(LabelThresholdEntry.key)))
 
 
 def exposure_record(row: ExposureEntry) -> ExposureRecord:

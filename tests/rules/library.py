@@ -14,6 +14,7 @@ from formdb.schemas.ingredient import IngredientProperties, IngredientRecord, na
 from formdb.schemas.reference import (
     ExposureRecord,
     Incompatibility,
+    LabelThreshold,
     LimitRecord,
     ReferenceData,
     SoapPair,
@@ -66,7 +67,8 @@ def reference() -> ReferenceData:
         acids={r.acid_inci: ingredient(r.acid_inci) for r in limits if r.acid_inci},
         exposure={row["product"]: ExposureRecord(**row) for row in raw.get("exposure", ())},
         toxicology={name_key(row["inci"]): ToxicologyRecord(**row)
-                    for row in raw.get("toxicology", ())})
+                    for row in raw.get("toxicology", ())},
+        label_thresholds=tuple(LabelThreshold(**row) for row in raw.get("label_threshold", ())))
 
 
 def formula(name: str, lines: Sequence[tuple[str, float]] | Sequence[Sequence[Any]],

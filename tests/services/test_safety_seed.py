@@ -146,3 +146,61 @@ def test_the_text_and_html_reports_show_the_sheet(seeded_sqlite_url: str,
     assert "Exposure and margin of safety" in page
     assert "357 / 0.616 = 579.5" in page
     assert "<b>LB-S01</b>" not in page and "&lt;b&gt;LB-S01&lt;/b&gt;" in page
+
+
+WASH = '''name = "Larkspur LB-S02 shower gel"
+category = "rinse-off"
+
+[[ingredients]]
+inci = "Aqua"
+percent = 89.96
+
+[[ingredients]]
+inci = "Sodium Laureth Sulfate"
+percent = 10.0
+
+[[ingredients]]
+inci = "Limonene"
+percent = 0.03
+
+[[ingredients]]
+inci = "Linalool"
+percent = 0.005
+
+[[ingredients]]
+inci = "Linalool"
+percent = 0.005
+'''
+
+
+def test_allergens_are_summed_and_listed_for_the_label(seeded_sqlite_url: str,
+                                                       tmp_path: Path) -> None:
+    """Rinse-off threshold 0.01 % (Reg. (EC) No 1223/2009 Annex III, regulatory.md 1.3):
+    Limonene 0.03 % is above; Linalool 0.005 + 0.005 = 0.01 % is not above."""
+    from formdb.report.text import render_text
+
+    path = tmp_path / "wash.toml"
+    path.write_text(WASH, encoding="utf-8")
+    [result] = check_files(seeded_sqlite_url, [path], "default")
+    table = result.facts.allergens
+    assert table is not None and table.threshold_percent == 0.01
+    assert table.source == "reg-1223-2009-annex-iii-allergens"
+    totals = {line.inci: line.percent for line in table.lines}
+    assert totals == {"Limonene": pytest.approx(0.03), "Linalool": pytest.approx(0.01)}
+    assert table.must_label == ("Limonene",)
+    [finding] = [f for f in result.findings if f.rule == "ALG01"]
+    assert finding.ingredients == ("Limonene",)
+    assert "FRAGRANCE ALLERGENS" in render_text([result])
+
+
+def test_a_bad_label_threshold_row_is_refused(seeded_sqlite_url: str, tmp_path: Path) -> None:
+    before = dump_database(seeded_sqlite_url)
+    text = ("key,jurisdiction,list_name,entry,role,category,threshold_percent,label_rule,"
+            "source,list_date\n"
+            "x,EU,Annex III,III/45,alergen,leave-on,0.001,name it,"
+            "reg-1223-2009-annex-iii-allergens,2009-11-30\n")
+    with pytest.raises(InvalidData) as caught:
+        init_library(seeded_sqlite_url, seed=True, user="larkspur-test",
+                     seed_dir=_seed_dir(tmp_path, label_thresholds=text))
+    assert "label_thresholds.csv, row 2, column role" in caught.value.message
+    assert dump_database(seeded_sqlite_url) == before
