@@ -85,3 +85,19 @@ def restore_cmd(app: AppContext, path: Path) -> None:
     report = database.restore(app.db, path)
     click.echo(f"Restored {sum(report.tables.values())} rows in {len(report.tables)} tables "
                f"into {report.database} (revision {report.revision}).")
+
+
+@db_group.command("grant-setup")
+@click.option("--prefix", default="formdb", show_default=True,
+              help="Start of the role names (PREFIX_editor, PREFIX_reviewer, ...).")
+@click.pass_obj
+def grant_setup_cmd(app: AppContext, prefix: str) -> None:
+    """On PostgreSQL, create one database role per duty with matching grants; give a person's
+    login a duty with `GRANT PREFIX_editor TO login` (see formdb.services.grants)."""
+    from formdb.services.grants import grant_setup
+
+    report = grant_setup(app.db, prefix)
+    click.echo(f"Roles on {report.database}: {prefix}_reader (reads every table).")
+    for role, tables in report.roles.items():
+        click.echo(f"  {role}: writes {', '.join(tables) or '(no table yet)'}; "
+                   "appends to change_log")

@@ -1,0 +1,86 @@
+"""``formdb db grant-setup`` on the real PostgreSQL server: with real logins, a reviewer's
+login cannot update ingredients, an editor's can but cannot write users or formulas. The
+roles are created with a prefix private to the test and dropped afterwards."""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+from uuid import uuid4
+
+import pytest
+from sqlalchemy import create_engine, text
+from sqlalchemy.engine import make_url
+from sqlalchemy.exc import ProgrammingError
+
+from tests.helpers import run_formdb
+
+pytestmark = pytest.mark.postgres
+
+
+@pytest.fixture
+def prefix(pg_url: str) -> Iterator[str]:
+    name = f"fdbt_{uuid4().hex[:8]}"
+    yield name
+    admin = create_engine(pg_url, isolation_level="AUTOCOMMIT")
+    try:
+        with admin.connect() as conn:
+            roles = conn.execute(text("SELECT rolname FROM pg_roles WHERE rolname LIKE :p"),
+                                 {"p": f"{name}%"}).scalars().all()
+            for role in roles:
+                conn.execute(text(f'DROP OWNED BY "{role}"'))
+            for role in roles:
+                conn.execute(text(f'DROP ROLE "{role}"'))
+    finally:
+        admin.dispose()
+
+
+def _login(pg_url: str, prefix: str, duty: str) -> str:
+    login = f"{prefix}_{duty}_login"
+    admin = create_engine(pg_url, isolation_level="AUTOCOMMIT")
+    try:
+        with admin.connect() as conn:
+            conn.execute(text(f'CREATE ROLE "{login}" LOGIN'))
+            conn.execute(text(f'GRANT "{prefix}_{duty}" TO "{login}"'))
+    finally:
+        admin.dispose()
+    return make_url(pg_url).set(username=login).render_as_string(hide_password=False)
+
+
+def _try(url: str, sql: str) -> bool:
+    engine = create_engine(url)
+    try:
+        with engine.begin() as conn:
+            conn.execute(text(sql))
+        return True
+    except ProgrammingError as exc:
+        assert "permission denied" in str(exc)
+        return False
+    finally:
+        engine.dispose()
+
+
+def test_database_roles_mirror_duties(pg_url: str, prefix: str) -> None:
+    made = run_formdb(["--db", pg_url, "db", "grant-setup", "--prefix", prefix])
+    assert made.exit_code == 0, made.stderr
+    engine = create_engine(pg_url)
+    with engine.begin() as conn:
+        conn.execute(text("INSERT INTO sources (key, citation, evidence) VALUES "
+                          "('larkspur-notebook', 'Larkspur notebook (invented)', 'measured')"))
+    engine.dispose()
+    update = "UPDATE sources SET note = 'x' WHERE key = 'larkspur-notebook'"
+    reviewer = _login(pg_url, prefix, "reviewer")
+    editor = _login(pg_url, prefix, "editor")
+    assert _try(reviewer, "SELECT count(*) FROM ingredients")
+    assert not _try(reviewer, update)
+    assert not _try(reviewer, "UPDATE ingredients SET retired = true")
+    assert _try(editor, update)
+    assert _try(editor, "INSERT INTO change_log (at, \"user\", entity, entity_key, action) "
+                        "VALUES (now(), 'ed', 'ingredient', 'x', 'edit')")
+    assert not _try(editor, "DELETE FROM change_log")  # history is append-only
+    assert not _try(editor, "INSERT INTO user_roles (user_id, role) VALUES (1, 'admin')")
+    assert not _try(editor, "UPDATE formulas SET name = 'x'")
+
+
+def test_grant_setup_on_sqlite_is_one_clear_line(sqlite_url: str) -> None:
+    result = run_formdb(["--db", sqlite_url, "db", "grant-setup"])
+    assert result.exit_code == 2 and "PostgreSQL only" in result.stderr
