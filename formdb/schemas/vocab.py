@@ -7,7 +7,7 @@ table that writes ``Fatty_Alcohol`` still lands as ``fatty alcohol``.
 from __future__ import annotations
 
 from enum import StrEnum
-from functools import lru_cache
+from functools import cache, lru_cache
 
 
 class Role(StrEnum):
@@ -113,12 +113,21 @@ def norm_token(text: str) -> str:
     return " ".join(text.replace("_", " ").split()).casefold()
 
 
+@cache
+def _choice_index(enum_cls: type[StrEnum]) -> dict[str, StrEnum]:
+    """Token -> member, the first member whose value or name gives the token winning."""
+    index: dict[str, StrEnum] = {}
+    for member in enum_cls:
+        index.setdefault(norm_token(member.value), member)
+        index.setdefault(norm_token(member.name), member)
+    return index
+
+
 def parse_choice(enum_cls: type[StrEnum], text: str, field: str) -> StrEnum:
     """Turn user text into an enum member or raise ValueError naming the field and the choices."""
-    token = norm_token(text)
-    for member in enum_cls:
-        if norm_token(member.value) == token or norm_token(member.name) == token:
-            return member
+    found = _choice_index(enum_cls).get(norm_token(text))
+    if found is not None:
+        return found
     choices = ", ".join(m.value for m in enum_cls)
     raise ValueError(f"{field}: {text!r} is not one of: {choices}")
 

@@ -11,7 +11,7 @@ import math
 import re
 from collections.abc import Iterable, Sequence
 from enum import StrEnum
-from functools import cache
+from functools import cache, lru_cache
 from typing import Any, get_args
 
 import annotated_types as at
@@ -37,12 +37,17 @@ class FieldProblem(ValueError):
     """One cell that cannot be read; the message is a complete sentence without location."""
 
 
-def export_columns() -> list[str]:
-    """The columns of an exported table, in order; import reads exactly these back."""
+@cache
+def _export_columns() -> tuple[str, ...]:
     columns = [NAME_COLUMN, *LIST_FIELDS]
     for prop in PROPERTY_NAMES:
         columns += [prop, f"{prop}_source", f"{prop}_note"]
-    return columns
+    return tuple(columns)
+
+
+def export_columns() -> list[str]:
+    """The columns of an exported table, in order; import reads exactly these back."""
+    return list(_export_columns())  # built once: every imported row asks for them
 
 
 KNOWN_COLUMNS: frozenset[str] = frozenset([*export_columns(), SHARED_SOURCE])
@@ -62,6 +67,7 @@ def did_you_mean(word: str, choices: Iterable[str]) -> str:
     return f"; did you mean {best[0]!r}?" if best else ""
 
 
+@lru_cache(maxsize=1 << 12)  # vocabulary words, asked for every cell of an import
 def _loose(text: str) -> str:
     """Vocabulary words compared without case, spaces, hyphens or underscores."""
     return norm_token(text).replace("-", "").replace(" ", "")
@@ -72,6 +78,12 @@ def _choose(text: str, choices: Iterable[str]) -> str | None:
     return next((c for c in choices if _loose(c) == token), None)
 
 
+@cache
+def _values(enum_cls: type[StrEnum]) -> tuple[str, ...]:
+    return tuple(m.value for m in enum_cls)
+
+
+@cache
 def property_kind(prop: str) -> tuple[str, type[StrEnum] | None]:
     """('float' | 'int' | 'bool' | 'choice', the enum class for a choice)."""
     annotation = IngredientProperties.model_fields[prop].annotation
@@ -81,6 +93,7 @@ def property_kind(prop: str) -> tuple[str, type[StrEnum] | None]:
     return {float: "float", int: "int", bool: "bool"}[base], None
 
 
+@cache
 def _bounds(prop: str) -> tuple[float | None, bool, float | None, bool]:
     low = high = None
     low_open = high_open = False
@@ -176,10 +189,10 @@ def parse_property(prop: str, text: str) -> Any:
     kind, enum_cls = property_kind(prop)
     if kind == "choice":
         assert enum_cls is not None
-        found = _choose(text, [m.value for m in enum_cls])
+        found = _choose(text, _values(enum_cls))
         if found is not None:
             return enum_cls(found)
-        choices = [m.value for m in enum_cls]
+        choices = list(_values(enum_cls))
         raise FieldProblem(f"{text!r} is not a known {prop.replace('_', ' ')}"
                            f"{did_you_mean(text, choices)} (choose from {', '.join(choices)})")
     if kind == "bool":
@@ -240,10 +253,10 @@ def parse_list_item(column: str, item: str) -> str:
         raise FieldProblem(f"CAS number {item!r} fails its check digit (the digits before it "
                            f"give {expected}, not {item[-1]})")
     if column == "roles":
-        found = _choose(item, [r.value for r in Role])
+        found = _choose(item, _values(Role))
         if found is not None:
             return found
-        roles = [r.value for r in Role]
+        roles = list(_values(Role))
         raise FieldProblem(f"{item!r} is not a known role{did_you_mean(item, roles)}"
                            f" (choose from {', '.join(roles)})")
     if column == "classes":
