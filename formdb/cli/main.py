@@ -27,6 +27,7 @@ COMMANDS: dict[str, str] = {
     "demo": "formdb.cli.demo:demo_cmd",
     "db": "formdb.cli.db:db_group",
     "user": "formdb.cli.users:user_group",
+    "label": "formdb.cli.labelling:label_cmd",
 }
 
 

@@ -1,0 +1,37 @@
+"""``formdb label FILE``: the ingredient declaration for the label."""
+
+from __future__ import annotations
+
+import json
+from dataclasses import asdict
+from pathlib import Path
+
+import click
+
+from formdb.cli.main import AppContext
+
+
+@click.command("label")
+@click.argument("file", type=click.Path(path_type=Path))
+@click.option("--jurisdiction", default="EU", show_default=True,
+              help="Whose naming and order rules apply.")
+@click.option("--format", "fmt", type=click.Choice(["text", "json"]), default="text",
+              show_default=True, help="Output format.")
+@click.pass_obj
+def label_cmd(app: AppContext, file: Path, jurisdiction: str, fmt: str) -> None:
+    """Print the label's ingredient list of formula FILE: above 1 % by descending weight, then
+    the rest, colourants last, allergens above the labelling threshold named."""
+    from formdb.services.labelling import label_file
+
+    result = label_file(app.db, file, jurisdiction)
+    if fmt == "json":
+        data = asdict(result) | {"declaration": result.text}
+        click.echo(json.dumps(data, indent=2, ensure_ascii=False))
+        return
+    click.echo(f"{result.formula} ({result.category}, {result.jurisdiction})")
+    click.echo(f"Ingredients: {result.text}")
+    if result.allergens_named:
+        click.echo(f"Allergens named (above the labelling threshold): "
+                   f"{', '.join(result.allergens_named)}")
+    click.echo("A screening aid, not a label approval: check the current regulation and local "
+               "law before printing a label.")

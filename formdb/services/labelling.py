@@ -1,0 +1,93 @@
+"""``formdb label FILE``: the ingredient declaration for the label of one formula.
+
+EU order (Regulation (EC) No 1223/2009 Art. 19(1)(g)): ingredients above 1 % in descending
+order of weight, then those at 1 % or less (any order is allowed; formdb keeps descending
+order so the list is reproducible), colourants last. Each name is the library's INCI name (the
+name the EU list expects: a line written "Water" is declared "Aqua"). Allergens above the
+labelling threshold are named (ALG01's table); they are marked in the result.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+
+from formdb.errors import ConfigError
+from formdb.rules.allergen_table import allergen_table
+from formdb.schemas.formula import ResolvedFormula
+from formdb.schemas.ingredient import name_key
+from formdb.schemas.reference import ReferenceData
+from formdb.schemas.result import FactsSettings
+from formdb.schemas.vocab import Role
+from formdb.services.checking import read_inputs, resolve_all
+from formdb.store import queries
+from formdb.store.db import open_library, unit_of_work
+
+ORDERED_ABOVE_PERCENT = 1.0
+JURISDICTIONS = ("EU",)
+
+
+@dataclass(frozen=True)
+class LabelEntry:
+    name: str
+    percent: float
+    group: str  # "above 1 %", "1 % or less", "colourant"
+    allergen: bool
+    given_as: tuple[str, ...]  # the names the formula used for it
+
+
+@dataclass(frozen=True)
+class LabelDeclaration:
+    formula: str
+    category: str
+    jurisdiction: str
+    entries: tuple[LabelEntry, ...]
+    allergens_named: tuple[str, ...]
+
+    @property
+    def text(self) -> str:
+        return ", ".join(entry.name for entry in self.entries)
+
+
+def declaration(formula: ResolvedFormula, reference: ReferenceData,
+                jurisdiction: str = "EU") -> LabelDeclaration:
+    """The declaration of one resolved formula (pure)."""
+    if jurisdiction.upper() not in JURISDICTIONS:
+        raise ConfigError(f"no label naming rules for jurisdiction {jurisdiction!r}",
+                          hint=f"use one of: {', '.join(JURISDICTIONS)}")
+    totals: dict[str, tuple[str, float, bool, list[str]]] = {}
+    for ln in formula.lines:
+        ing = ln.ingredient
+        key = name_key(ing.inci_name)
+        name, total, colourant, given = totals.get(key, (ing.inci_name, 0.0, False, []))
+        if ln.given_name not in given:
+            given.append(ln.given_name)
+        totals[key] = (name, total + ln.percent, colourant or ing.has_role(Role.COLOURANT), given)
+    table = allergen_table(formula, reference, FactsSettings(label_jurisdiction=jurisdiction))
+    named = set(table.must_label) if table else set()
+
+    def group(percent: float, colourant: bool) -> str:
+        if colourant:
+            return "colourant"
+        return "above 1 %" if percent > ORDERED_ABOVE_PERCENT else "1 % or less"
+
+    entries = [LabelEntry(name, total, group(total, colourant), name in named, tuple(given))
+               for name, total, colourant, given in totals.values()]
+    rank = {"above 1 %": 0, "1 % or less": 1, "colourant": 2}
+    entries.sort(key=lambda e: (rank[e.group], -e.percent, e.name))
+    return LabelDeclaration(formula=formula.name, category=formula.formula.category.value,
+                            jurisdiction=jurisdiction.upper(), entries=tuple(entries),
+                            allergens_named=tuple(e.name for e in entries if e.allergen))
+
+
+def label_file(db_url: str, path: Path, jurisdiction: str = "EU") -> LabelDeclaration:
+    """The Python face of ``formdb label FILE``."""
+    items = read_inputs([path])
+    engine = open_library(db_url)
+    try:
+        with unit_of_work(engine) as session:
+            reference = queries.load_reference_data(session)
+            [resolved] = resolve_all(session, items)
+    finally:
+        engine.dispose()
+    return declaration(resolved, reference, jurisdiction)
