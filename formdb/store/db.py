@@ -9,17 +9,14 @@ no ``alembic.ini``.
 
 from __future__ import annotations
 
+import ast
 import re
 from collections.abc import Iterator
 from contextlib import contextmanager
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-from alembic import command
-from alembic.config import Config
-from alembic.runtime.migration import MigrationContext
-from alembic.script import ScriptDirectory
-from sqlalchemy import Engine, create_engine, event, text
+from sqlalchemy import Engine, create_engine, event, inspect, text
 from sqlalchemy.engine import URL, Connection, make_url
 from sqlalchemy.exc import ArgumentError, DBAPIError, NoSuchModuleError, OperationalError
 from sqlalchemy.orm import Session
@@ -28,6 +25,9 @@ from sqlalchemy.pool import StaticPool
 
 from formdb.errors import ConfigError, Conflict, FormdbError, SchemaOutdated
 from formdb.resources import migrations_dir
+
+if TYPE_CHECKING:  # alembic is imported where a command migrates, not to open a library
+    from alembic.config import Config
 
 BUSY_TIMEOUT_MS = 10_000
 _URL_HINT = ("give a SQLite file path such as formdb.sqlite or a "
@@ -152,6 +152,8 @@ def make_engine(url_or_path: str, *, must_exist: bool = False) -> Engine:
 def alembic_config(connection: Connection | None = None,
                    script_location: Path | None = None) -> Config:
     """Alembic's Config built in code: the bundled migrations, and our connection if given."""
+    from alembic.config import Config
+
     cfg = Config()
     location = str(script_location or migrations_dir())
     cfg.set_main_option("script_location", location.replace("%", "%%"))
@@ -160,6 +162,8 @@ def alembic_config(connection: Connection | None = None,
 
 
 def head_revision(script_location: Path | None = None) -> str:
+    from alembic.script import ScriptDirectory
+
     head = ScriptDirectory.from_config(alembic_config(script_location=script_location)) \
         .get_current_head()
     if head is None:  # pragma: no cover - the package always ships a revision
@@ -170,8 +174,66 @@ def head_revision(script_location: Path | None = None) -> str:
 
 def current_revision(engine: Engine) -> str | None:
     """The revision the database is at; None for an empty or never-migrated database."""
+    from alembic.runtime.migration import MigrationContext
+
     with engine.connect() as conn:
         return MigrationContext.configure(conn).get_current_revision()
+
+
+# Opening a library needs only "is it at head?". Answering that without importing alembic
+# (about a third of `formdb check FILE`'s start-up) reads the version row with plain SQL and the
+# head from the revision files' literal `revision`/`down_revision` assignments; anything
+# unusual (branches, merges, dependencies, several rows) is left to alembic itself.
+# tests/bench/test_lean_start.py checks both answers against alembic's.
+_ALEMBIC_VERSION_TABLE = "alembic_version"
+
+
+def stored_revision_plain(engine: Engine) -> tuple[bool, str | None]:
+    """(answered, revision) read with plain SQL; answered is False when alembic must decide."""
+    with engine.connect() as conn:
+        if not inspect(conn).has_table(_ALEMBIC_VERSION_TABLE):
+            return True, None
+        rows = conn.execute(text(f"SELECT version_num FROM {_ALEMBIC_VERSION_TABLE}")).all()
+    if len(rows) > 1:
+        return False, None
+    return True, (rows[0][0] if rows else None)
+
+
+def _literal_assignments(file: Path) -> dict[str, object]:
+    """Module-level ``name = <literal>`` (or ``name: T = <literal>``) of a Python file."""
+    values: dict[str, object] = {}
+    for node in ast.parse(file.read_text(encoding="utf-8")).body:
+        if isinstance(node, ast.AnnAssign):
+            target, value = node.target, node.value
+        elif isinstance(node, ast.Assign) and len(node.targets) == 1:
+            target, value = node.targets[0], node.value
+        else:
+            continue
+        if isinstance(target, ast.Name) and isinstance(value, ast.Constant):
+            values[target.id] = value.value
+        elif isinstance(target, ast.Name):
+            values[target.id] = value  # not a literal: head_from_files gives up on it
+    return values
+
+
+def head_from_files(script_location: Path | None = None) -> str | None:
+    """The head of a plain linear chain of revision files, or None to ask alembic."""
+    folder = (script_location or migrations_dir()) / "versions"
+    revisions: set[str] = set()
+    parents: set[str] = set()
+    for file in sorted(folder.glob("*.py")):
+        values = _literal_assignments(file)
+        revision, parent = values.get("revision"), values.get("down_revision")
+        if (not isinstance(revision, str) or not (parent is None or isinstance(parent, str))
+                or values.get("branch_labels") or values.get("depends_on")):
+            return None
+        if revision in revisions:
+            return None
+        revisions.add(revision)
+        if parent is not None:
+            parents.add(parent)
+    heads = revisions - parents
+    return heads.pop() if len(heads) == 1 and parents <= revisions else None
 
 
 @contextmanager
@@ -208,6 +270,8 @@ def _migration_connection(engine: Engine) -> Iterator[Connection]:
 
 def _migrate(engine: Engine, direction: str, revision: str,
              script_location: Path | None = None) -> None:
+    from alembic import command
+
     run = command.upgrade if direction == "upgrade" else command.downgrade
     with _migration_connection(engine) as conn:
         run(alembic_config(conn, script_location), revision)
@@ -233,6 +297,11 @@ def open_library(url: str) -> Engine:
     engine = make_engine(url, must_exist=True)
     shown = display_url(engine.url)
     try:
+        answered, current = stored_revision_plain(engine)
+        if answered and current is not None and current == head_from_files():
+            return engine  # the everyday case, without importing alembic
+        from alembic.script import ScriptDirectory
+
         current = current_revision(engine)
         head = head_revision()
         if current == head:
@@ -296,6 +365,8 @@ def upgraded_unit_of_work(engine: Engine) -> Iterator[Session]:
     """Upgrade to head and yield a session in the same transaction, so the schema change and
     the data written after it (``init --seed``) are committed together or not at all."""
     try:
+        from alembic import command
+
         with _migration_connection(engine) as conn:
             command.upgrade(alembic_config(conn), "head")
             session = Session(bind=conn, expire_on_commit=False)
