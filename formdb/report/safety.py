@@ -82,3 +82,16 @@ def allergen_section(facts: FormulaFacts) -> Section | None:
         ("Allergen", "Total %", "Label", "Summed over"), rows, "snss"),
         Notes(("Each allergen is summed over every line that carries it before the threshold "
                "test; Annex III maximum concentrations still apply (limits section).",))))
+
+
+def substance_section(facts: FormulaFacts) -> Section | None:
+    """The substance-level composition; None unless a line is a mixture with constituents."""
+    if not facts.substances:
+        return None
+    rows = [(item.inci, f"{item.percent:.4g}", "; ".join(item.sources))
+            for item in facts.substances]
+    return Section("Substances (mixtures exploded)", (
+        table(("Substance", "% in product", "From"), rows, "sns"),
+        Notes(("A mixture's declared constituents count as substances: limits of the MoS "
+               "sheet and the allergen sums use these totals; what a declaration leaves "
+               "undeclared stays with the mixture.",))))

@@ -12,7 +12,7 @@ from typing import Literal
 from formdb.report import numbers as n
 from formdb.report.blocks import Line, Section
 from formdb.report.chart import HlbChart, hlb_chart
-from formdb.report.safety import allergen_section, exposure_section
+from formdb.report.safety import allergen_section, exposure_section, substance_section
 from formdb.report.sections import (
     data_gaps_section,
     hlb_section,
@@ -118,7 +118,8 @@ def formula_view(result: CheckResult) -> FormulaView:
     text, flag = verdict(counts)
     facts = result.facts
     sections = tuple(s for s in (
-        phases_section(facts), hlb_section(facts), prediction_section(result),
+        phases_section(facts), substance_section(facts), hlb_section(facts),
+        prediction_section(result),
         packing_section(facts), interface_section(facts), exposure_section(facts),
         allergen_section(facts), data_gaps_section(facts)) if s is not None)
     return FormulaView(title=result.formula, header=header_lines(result), verdict=text,

@@ -1,15 +1,16 @@
 """The allergen table of a formula: each labelled allergen summed over every source.
 
 A substance counts when its library record has the role ``allergen``; its % in the product is
-the sum over every line that carries it (synonyms resolve to one record). It must be named on
+the sum over every line that carries it and every mixture that declares it as a constituent
+(synonyms resolve to one record). It must be named on
 the label when the total exceeds the threshold of the formula's category (Regulation (EC)
 No 1223/2009 Annex III: 0.001 % leave-on, 0.01 % rinse-off).
 """
 
 from __future__ import annotations
 
+from formdb.rules.composition import substances
 from formdb.schemas.formula import ResolvedFormula
-from formdb.schemas.ingredient import name_key
 from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import AllergenFacts, AllergenLine, FactsSettings
 from formdb.schemas.vocab import Role
@@ -21,15 +22,9 @@ def allergen_table(formula: ResolvedFormula, reference: ReferenceData,
     rows = [t for t in reference.label_thresholds
             if t.role == Role.ALLERGEN.value and t.category == category
             and t.jurisdiction.casefold() == settings.label_jurisdiction.casefold()]
-    totals: dict[str, tuple[str, float, list[str]]] = {}
-    for ln in formula.lines:
-        ing = ln.ingredient
-        if not ing.has_role(Role.ALLERGEN):
-            continue
-        key = name_key(ing.inci_name)
-        name, total, sources = totals.get(key, (ing.inci_name, 0.0, []))
-        sources.append(f"line {ln.line_no} ({ln.given_name})")
-        totals[key] = (name, total + ln.percent, sources)
+    totals = {key: (item.record.inci_name, item.percent, item.sources)
+              for key, item in substances(formula, reference).items()
+              if item.record.has_role(Role.ALLERGEN)}
     if not totals or not rows:
         return None
     row = min(rows, key=lambda t: t.threshold_percent)

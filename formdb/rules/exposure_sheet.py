@@ -9,8 +9,8 @@ reviewer can redo it by hand.
 
 from __future__ import annotations
 
+from formdb.rules.composition import substances
 from formdb.schemas.formula import ResolvedFormula
-from formdb.schemas.ingredient import name_key
 from formdb.schemas.reference import ExposureRecord, ReferenceData, ToxicologyRecord
 from formdb.schemas.result import ExposureFacts, FactsSettings, MosLine
 from formdb.schemas.vocab import Role
@@ -27,16 +27,6 @@ NEEDS_POD_ROLES = frozenset({Role.PRESERVATIVE, Role.UV_FILTER, Role.ACTIVE})
 
 def _n(value: float) -> str:
     return f"{value:.4g}"
-
-
-def substance_percents(formula: ResolvedFormula) -> dict[str, tuple[str, float]]:
-    """name key -> (INCI name, % in the product) summed over every line."""
-    out: dict[str, tuple[str, float]] = {}
-    for ln in formula.lines:
-        key = name_key(ln.ingredient.inci_name)
-        name, percent = out.get(key, (ln.ingredient.inci_name, 0.0))
-        out[key] = (name, percent + ln.percent)
-    return out
 
 
 def _e_product(row: ExposureRecord, settings: FactsSettings,
@@ -120,9 +110,10 @@ def exposure_sheet(formula: ResolvedFormula, reference: ReferenceData,
     citation = reference.sources.get(row.source, row.source)
     e_product, e_from, bw, steps, defaults = _e_product(row, settings, citation)
     lines, missing = [], []
-    needs = {name_key(ln.ingredient.inci_name) for ln in formula.lines
-             if ln.ingredient.roles & NEEDS_POD_ROLES}
-    for key, (inci, percent) in substance_percents(formula).items():
+    composition = substances(formula, reference)
+    needs = {key for key, item in composition.items() if item.record.roles & NEEDS_POD_ROLES}
+    for key, item in composition.items():
+        inci, percent = item.record.inci_name, item.percent
         tox = reference.toxicology.get(key)
         if tox is None:
             if key in needs:

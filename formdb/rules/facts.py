@@ -27,6 +27,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 from formdb.rules.allergen_table import allergen_table
+from formdb.rules.composition import has_mixtures, substances
 from formdb.rules.exposure_sheet import exposure_sheet
 from formdb.schemas.formula import ResolvedFormula, ResolvedLine
 from formdb.schemas.ingredient import IngredientRecord, name_key
@@ -44,6 +45,7 @@ from formdb.schemas.result import (
     PhaseName,
     RequiredHlbFacts,
     SoapFacts,
+    SubstanceFacts,
 )
 from formdb.schemas.vocab import EmulsionType, IonicCharacter, Role, Solubility
 from formdb.science.emulsion_type import bancroft_type
@@ -517,6 +519,12 @@ def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
         random_close_packing=RANDOM_CLOSE_PACKING, interface=interface, creaming=creaming,
         exposure=exposure_sheet(formula, reference, settings),
         allergens=allergen_table(formula, reference, settings),
+        substances=tuple(
+            SubstanceFacts(inci=item.record.inci_name, percent=item.percent,
+                           sources=tuple(item.sources))
+            for item in sorted(substances(formula, reference).values(),
+                               key=lambda i: (-i.percent, i.record.inci_name))
+        ) if has_mixtures(formula, reference) else (),
         gaps=tuple(DataGap(property=prop, ingredients=tuple(names), blocks=blocks,
                            detail=detail)
                    for (prop, blocks), (names, detail) in work.gaps.items()),

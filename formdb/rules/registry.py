@@ -15,7 +15,8 @@ from formdb.rules.base import Rule, did_you_mean
 
 # modules of formdb.rules that hold machinery, not rules
 _MACHINERY = frozenset({"base", "registry", "profiles", "engine", "facts", "docs",
-                        "exposure_sheet", "allergen_table"})
+                        "exposure_sheet", "allergen_table",
+                        "composition"})
 
 
 class RuleRegistry:

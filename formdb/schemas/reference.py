@@ -124,6 +124,16 @@ class LabelThreshold(BaseModel):
     list_date: date
 
 
+class Constituent(BaseModel):
+    """A declared constituent of a mixture: its record and its % in the mixture, with source."""
+
+    model_config = ConfigDict(frozen=True)
+
+    record: IngredientRecord
+    percent: float
+    source: str
+
+
 class ReferenceData(BaseModel):
     """Everything besides ingredients that a check needs, loaded once per check run."""
 
@@ -143,3 +153,5 @@ class ReferenceData(BaseModel):
     # toxicology records keyed by name_key of the substance's INCI name
     toxicology: dict[str, ToxicologyRecord] = {}
     label_thresholds: tuple[LabelThreshold, ...] = ()
+    # declared constituents of mixture ingredients, keyed by name_key of the mixture's INCI name
+    constituents: dict[str, tuple[Constituent, ...]] = {}

@@ -234,6 +234,14 @@ class ExposureFacts(_Frozen):
     missing_pod: tuple[str, ...] = ()
 
 
+class SubstanceFacts(_Frozen):
+    """One substance of the formula after mixtures are exploded into their constituents."""
+
+    inci: str
+    percent: float  # % in the product, summed over every source
+    sources: tuple[str, ...]  # e.g. "line 5 (Parfum): 2 % of 0.5 %"
+
+
 class AllergenLine(_Frozen):
     """One labelled allergen: its total in the product, summed over every source."""
 
@@ -307,6 +315,8 @@ class FormulaFacts(_Frozen):
     creaming: CreamingFacts | None = None
     exposure: ExposureFacts | None = None  # None without a product type
     allergens: AllergenFacts | None = None  # None when the formula holds no labelled allergen
+    # substance-level composition; empty unless a line is a mixture with declared constituents
+    substances: tuple[SubstanceFacts, ...] = ()
 
     gaps: tuple[DataGap, ...] = ()
     notes: tuple[str, ...] = ()

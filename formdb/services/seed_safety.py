@@ -224,3 +224,57 @@ def read_label_thresholds(file: Path, label: str, known_sources: set[str]) -> Ro
     if problems:
         raise SeedProblems(problems)
     return [{**r.model_dump(exclude={"source"}), "source_key": r.source} for r in parsed]
+
+
+CONSTITUENT_COLUMNS = ("mixture_inci", "constituent_inci", "percent", "source")
+
+
+class ConstituentRow(_Row):
+    mixture_inci: str = Field(max_length=200)
+    constituent_inci: str = Field(max_length=200)
+    percent: float = Field(gt=0, le=100)
+    source: str
+
+    @field_validator("percent", mode="before")
+    @classmethod
+    def _numbers(cls, value: Any) -> Any:
+        return _number(value)
+
+
+def read_constituents(file: Path, label: str, known_sources: set[str],
+                      session: Session) -> Rows:
+    """Declared constituents; both names must be library ingredients, a mixture's constituents
+    may not add up to more than 100 %, and a mixture may not contain itself."""
+    rows = read_rows(file, label, CONSTITUENT_COLUMNS, CONSTITUENT_COLUMNS)
+    found = find_ingredients(session, [cells.get(c, "") for _, cells in rows
+                                       for c in ("mixture_inci", "constituent_inci")])
+    source_check = _source_check(known_sources)
+    totals: dict[int, float] = {}
+
+    def check(row: ConstituentRow) -> list[tuple[str, str]]:
+        problems = source_check(row.source)
+        ids = []
+        for column in ("mixture_inci", "constituent_inci"):
+            record = found.get(name_key(getattr(row, column)))
+            if record is None:
+                problems.append((column, f"{getattr(row, column)!r} is not an ingredient in "
+                                         "the library"))
+            ids.append(record.id if record else None)
+        if ids[0] is not None and ids[0] == ids[1]:
+            problems.append(("constituent_inci", "a mixture cannot contain itself"))
+        if ids[0] is not None:
+            totals[ids[0]] = totals.get(ids[0], 0.0) + row.percent
+            if totals[ids[0]] > 100.0 + 1e-9:
+                problems.append(("percent", f"the constituents of {row.mixture_inci} add up "
+                                            f"to {totals[ids[0]]:g} %, more than 100 %"))
+        return problems
+
+    def pair(row: ConstituentRow) -> tuple[str, str]:
+        return (name_key(row.mixture_inci), name_key(row.constituent_inci))
+
+    parsed, problems = _validate(ConstituentRow, label, rows, pair, "constituent_inci", check)
+    if problems:
+        raise SeedProblems(problems)
+    return [{"mixture_id": found[name_key(r.mixture_inci)].id,
+             "constituent_id": found[name_key(r.constituent_inci)].id,
+             "percent": r.percent, "source_key": r.source} for r in parsed]

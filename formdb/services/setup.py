@@ -38,6 +38,7 @@ from formdb.store.models import (
     IncompatibilityEntry,
     LabelThresholdEntry,
     LimitEntry,
+    MixtureConstituent,
     SoapPairEntry,
     Source,
     ToxicologyEntry,
@@ -47,6 +48,8 @@ SEED_REASON = "bundled seed library"
 SEED_FILES = ("sources.csv", "ingredients.csv", "limits.csv", "incompatibilities.csv",
               "soap_pairs.csv", "exposure.csv", "toxicology.csv",
               "label_thresholds.csv")
+# constituents.csv (declared mixtures) is optional: a team's own seed may have one, the bundled
+# seed declares no mixture
 
 # Source keys every library has, seeded or not, so any table can cite them (HELPERS.md); the
 # same rows the ingredient service creates when a value cites one in a library that lacks it.
@@ -206,6 +209,11 @@ def seed_library(session: Session, *, user: str,
         rows = seed_safety.read_label_thresholds(file, _label(folder, file), known_sources)
         counts["label_thresholds"] = _upsert(session, LabelThresholdEntry, ("key",), rows,
                                              "label threshold", user, now)
+    if file := present("constituents.csv"):
+        rows = seed_safety.read_constituents(file, _label(folder, file), known_sources, session)
+        counts["constituents"] = _upsert(session, MixtureConstituent,
+                                         ("mixture_id", "constituent_id"), rows, "constituent",
+                                         user, now)
     session.flush()
     return counts
 

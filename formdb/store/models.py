@@ -291,3 +291,17 @@ class LabelThresholdEntry(Base):
     label_rule: Mapped[str] = mapped_column(Text)
     source_key: Mapped[str] = mapped_column(ForeignKey("sources.key"))
     list_date: Mapped[date] = mapped_column(Date)
+
+
+class MixtureConstituent(Base):
+    """A declared constituent of a mixture ingredient: its % in the mixture, with its source
+    (a supplier's composition or allergen certificate)."""
+
+    __tablename__ = "mixture_constituents"
+
+    mixture_id: Mapped[int] = mapped_column(
+        ForeignKey("ingredients.id", ondelete="CASCADE"), primary_key=True)
+    constituent_id: Mapped[int] = mapped_column(
+        ForeignKey("ingredients.id", ondelete="CASCADE"), primary_key=True)
+    percent: Mapped[float] = mapped_column(Float)
+    source_key: Mapped[str] = mapped_column(ForeignKey("sources.key"))

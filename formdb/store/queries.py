@@ -24,6 +24,7 @@ from formdb.schemas.ingredient import (
     name_key,
 )
 from formdb.schemas.reference import (
+    Constituent,
     ExposureRecord,
     Incompatibility,
     LabelThreshold,
@@ -40,6 +41,7 @@ from formdb.store.models import (
     IngredientName,
     LabelThresholdEntry,
     LimitEntry,
+    MixtureConstituent,
     SoapPairEntry,
     Source,
     ToxicologyEntry,
@@ -221,7 +223,25 @@ def load_reference_data(session: Session) -> ReferenceData:
     return ReferenceData(limits=limits, incompatibilities=incompatibilities, soap_pairs=pairs,
                          soaps=soaps, acids=acids, sources=sources,
                          exposure=exposure_records(session), toxicology=toxicology_records(session),
-                         label_thresholds=label_thresholds(session))
+                         label_thresholds=label_thresholds(session),
+                         constituents=constituents(session))
+
+
+def constituents(session: Session) -> dict[str, tuple[Constituent, ...]]:
+    """Declared constituents of every mixture, keyed by name_key of the mixture's INCI name."""
+    rows = list(session.scalars(select(MixtureConstituent).order_by(
+        MixtureConstituent.mixture_id, MixtureConstituent.percent.desc(),
+        MixtureConstituent.constituent_id)))
+    if not rows:
+        return {}
+    records = records_by_id(session, {r.mixture_id for r in rows} | {r.constituent_id
+                                                                       for r in rows})
+    out: dict[str, list[Constituent]] = {}
+    for row in rows:
+        key = name_key(records[row.mixture_id].inci_name)
+        out.setdefault(key, []).append(Constituent(
+            record=records[row.constituent_id], percent=row.percent, source=row.source_key))
+    return {key: tuple(parts) for key, parts in out.items()}
 
 
 def label_thresholds(session: Session) -> tuple[LabelThreshold, ...]:

@@ -12,6 +12,7 @@ from typing import Any
 from formdb.schemas.formula import FormulaFile, ResolvedFormula, ResolvedLine
 from formdb.schemas.ingredient import IngredientProperties, IngredientRecord, name_key
 from formdb.schemas.reference import (
+    Constituent,
     ExposureRecord,
     Incompatibility,
     LabelThreshold,
@@ -68,7 +69,16 @@ def reference() -> ReferenceData:
         exposure={row["product"]: ExposureRecord(**row) for row in raw.get("exposure", ())},
         toxicology={name_key(row["inci"]): ToxicologyRecord(**row)
                     for row in raw.get("toxicology", ())},
-        label_thresholds=tuple(LabelThreshold(**row) for row in raw.get("label_threshold", ())))
+        label_thresholds=tuple(LabelThreshold(**row) for row in raw.get("label_threshold", ())),
+        constituents=_constituents(raw))
+
+
+def _constituents(raw: Mapping[str, Any]) -> dict[str, tuple[Constituent, ...]]:
+    out: dict[str, list[Constituent]] = {}
+    for row in raw.get("constituent", ()):
+        out.setdefault(name_key(row["mixture"]), []).append(Constituent(
+            record=ingredient(row["inci"]), percent=row["percent"], source=row["source"]))
+    return {key: tuple(parts) for key, parts in out.items()}
 
 
 def formula(name: str, lines: Sequence[tuple[str, float]] | Sequence[Sequence[Any]],

@@ -94,3 +94,15 @@ def test_the_command_prints_the_declaration(seeded_sqlite_url: str, tmp_path: Pa
     assert refused.exit_code == 2
     assert "unknown ingredient 'Larkspur Unknown Ester'" in refused.stderr
     assert "Traceback" not in refused.stderr
+
+
+def test_allergens_declared_by_a_mixture_are_named() -> None:
+    # Parfum's demo allergen certificate (tests/rules/library.toml): Limonene 2 % of it, so
+    # 0.5 % Parfum carries 0.01 % Limonene (> 0.001 % leave-on) and 0.0005 % Linalool (not above)
+    mini = formula("cream", [("Water", 94.5), ("Glycerin", 5.0), ("Fragrance", 0.5)])
+    result = declaration(mini, reference())
+    assert [e.name for e in result.entries] == ["Water", "Glycerin", "Parfum", "Limonene"]
+    assert result.allergens_named == ("Limonene",)
+    limonene = result.entries[-1]
+    assert limonene.percent == pytest.approx(0.01)
+    assert limonene.given_as == ("line 3 (Fragrance): 2 % of 0.5 %",)

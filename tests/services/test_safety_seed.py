@@ -204,3 +204,66 @@ def test_a_bad_label_threshold_row_is_refused(seeded_sqlite_url: str, tmp_path: 
                      seed_dir=_seed_dir(tmp_path, label_thresholds=text))
     assert "label_thresholds.csv, row 2, column role" in caught.value.message
     assert dump_database(seeded_sqlite_url) == before
+
+
+def _demo_sources(folder: Path) -> None:
+    with open(folder / "sources.csv", "a", encoding="utf-8") as handle:
+        handle.write("larkspur-demo,Larkspur Bench Laboratories demo allergen certificate "
+                     "(invented demo data),supplier,,,for tests and the demo only\n")
+
+
+CREAM = '''name = "Larkspur LB-S04 face cream"
+category = "leave-on"
+product = "face cream"
+
+[[ingredients]]
+inci = "Aqua"
+percent = 94.5
+
+[[ingredients]]
+inci = "Glycerin"
+percent = 5.0
+
+[[ingredients]]
+inci = "Fragrance"
+percent = 0.5
+'''
+
+
+def test_a_mixture_is_exploded_into_its_constituents(seeded_sqlite_url: str,
+                                                      tmp_path: Path) -> None:
+    folder = _seed_dir(tmp_path, constituents="mixture_inci,constituent_inci,percent,source\n"
+                       "Parfum,Limonene,2,larkspur-demo\nParfum,Linalool,0.1,larkspur-demo\n")
+    _demo_sources(folder)
+    init_library(seeded_sqlite_url, seed=True, user="larkspur-test", seed_dir=folder)
+    path = tmp_path / "cream.toml"
+    path.write_text(CREAM, encoding="utf-8")
+    [result] = check_files(seeded_sqlite_url, [path], "default")
+    shares = {s.inci: s.percent for s in result.facts.substances}
+    # 0.5 % Parfum: Limonene 0.5 x 2/100 = 0.01 %, Linalool 0.5 x 0.1/100 = 0.0005 %,
+    # undeclared Parfum 0.5 x 97.9/100 = 0.4895 %
+    assert shares == {"Aqua": pytest.approx(94.5), "Glycerin": pytest.approx(5.0),
+                      "Parfum": pytest.approx(0.4895), "Limonene": pytest.approx(0.01),
+                      "Linalool": pytest.approx(0.0005)}
+    assert result.facts.allergens is not None
+    assert result.facts.allergens.must_label == ("Limonene",)  # 0.01 > 0.001; 0.0005 is not
+
+
+@pytest.mark.parametrize(("rows", "words"), [
+    ("Parfum,Limonene,80,larkspur-demo\nParfum,Linalool,30,larkspur-demo\n",
+     "the constituents of Parfum add up to 110 %, more than 100 %"),
+    ("Parfum,Parfum,10,larkspur-demo\n", "a mixture cannot contain itself"),
+    ("Parfum,Larkspur Unknown Ester,10,larkspur-demo\n",
+     "'Larkspur Unknown Ester' is not an ingredient in the library"),
+    ("Parfum,Limonene,-2,larkspur-demo\n", "column percent: Input should be greater than 0"),
+])
+def test_bad_constituents_are_refused(seeded_sqlite_url: str, tmp_path: Path, rows: str,
+                                      words: str) -> None:
+    folder = _seed_dir(tmp_path, constituents="mixture_inci,constituent_inci,percent,source\n"
+                       + rows)
+    _demo_sources(folder)
+    before = dump_database(seeded_sqlite_url)
+    with pytest.raises(InvalidData) as caught:
+        init_library(seeded_sqlite_url, seed=True, user="larkspur-test", seed_dir=folder)
+    assert words in caught.value.message
+    assert dump_database(seeded_sqlite_url) == before
