@@ -248,9 +248,10 @@ def _check_series(libs: SqliteLibraries | PostgresLibraries, sizes: Sizes, base:
         run = _best([_worker("check", current) for _ in range(repeats)])
         if run["formulas"] != n:
             raise RuntimeError(f"check --all saw {run['formulas']} formulas, expected {n}")
-        say(f"{n:,} formulas: floor, {sizes.floor_repeats} run(s)")
+        floor_repeats = sizes.floor_repeats if n <= main_n else 1
+        say(f"{n:,} formulas: floor, {floor_repeats} run(s)")
         floor, (formulas, lines) = _best_floor(
-            lambda url=current: _floor_parts(floors.check_floor(url)), sizes.floor_repeats)
+            lambda url=current: _floor_parts(floors.check_floor(url)), floor_repeats)
         timings.append((n, run["seconds"]))
         peaks[n] = run["peak_mb"]
         figure = Figure(
@@ -330,12 +331,21 @@ def measure_backend(libs: SqliteLibraries | PostgresLibraries, sizes: Sizes,
                     work: Path, say: Progress) -> BackendResult:
     result = BackendResult(libs.name)
     result.notes.append(f"load average at start: {_load()}")
+    if isinstance(libs, PostgresLibraries):
+        result.notes.append(f"server: {_server_version(libs.base_url)}")
     seed_only, base = _make_library(libs, sizes, say, result)
     _check_series(libs, sizes, base, say, result)
     _import_figure(libs, sizes, seed_only, work, say, result)
     _startup_figure(base, sizes, say, result)
     result.notes.append(f"load average at end: {_load()}")
     return result
+
+
+def _server_version(url: str) -> str:
+    with floors.raw_connection(url) as conn:
+        cursor = conn.cursor()
+        cursor.execute("SHOW server_version")
+        return f"PostgreSQL {cursor.fetchone()[0]}"
 
 
 def _load() -> str:
