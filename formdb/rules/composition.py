@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
-from formdb.schemas.formula import ResolvedFormula
+from formdb.schemas.formula import ResolvedFormula, ResolvedLine
 from formdb.schemas.ingredient import IngredientRecord, name_key
 from formdb.schemas.reference import ReferenceData
 
@@ -52,3 +52,15 @@ def substances(formula: ResolvedFormula, reference: ReferenceData) -> dict[str, 
 def has_mixtures(formula: ResolvedFormula, reference: ReferenceData) -> bool:
     return any(name_key(ln.ingredient.inci_name) in reference.constituents
                for ln in formula.lines)
+
+
+def substance_formula(formula: ResolvedFormula, reference: ReferenceData) -> ResolvedFormula:
+    """The formula as its substances, one line each (totals over lines and mixtures), for rules
+    that judge substances; the formula itself when no line is a declared mixture."""
+    if not has_mixtures(formula, reference):
+        return formula
+    lines = tuple(
+        ResolvedLine(line_no=number, given_name=item.record.inci_name, percent=item.percent,
+                     phase=None, ingredient=item.record)
+        for number, item in enumerate(substances(formula, reference).values(), start=1))
+    return formula.model_copy(update={"lines": lines})

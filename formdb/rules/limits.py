@@ -14,6 +14,7 @@ from functools import lru_cache
 from typing import Any
 
 from formdb.rules.base import Option, Rule
+from formdb.rules.composition import substance_formula
 from formdb.rules.registry import register
 from formdb.schemas.findings import Finding
 from formdb.schemas.formula import ResolvedFormula, ResolvedLine
@@ -171,6 +172,7 @@ class ConcentrationLimit(Rule):
                 advice="load the limit lists for this jurisdiction, or choose another one in "
                        "the profile ([rules.LIM01] jurisdiction)")
             return
+        formula = substance_formula(formula, reference)  # limits apply to constituents too
         for row in applicable_rows(reference, formula, jurisdiction):
             present = lines_in(row, formula)
             if not present:
