@@ -27,6 +27,7 @@ from formdb.schemas.ingredient import (
     normalise_inci,
 )
 from formdb.schemas.vocab import Evidence, Role
+from formdb.services.access import Action, require
 from formdb.services.ingredient_fields import (
     EDITABLE_FIELDS,
     NAME_COLUMN,
@@ -357,6 +358,8 @@ def import_table(session: Session, path: Path, *, user: str, reason: str | None,
     of every row is collected first and raised together as TableProblems, before anything is
     written. ``dry_run`` computes the same report and writes nothing.
     """
+    if not dry_run and action != "seed":  # seeding is part of `formdb init`
+        require(session, user, Action.CHANGE_LIBRARY)
     table = read_table(path)
     rows, problems = read_ingredient_rows(table)
     labels = header_labels(table)
@@ -583,6 +586,7 @@ def add_ingredient(session: Session, name: str, assignments: Sequence[tuple[str,
                    cas: Sequence[str] = (), roles: Sequence[str] = (),
                    reason: str | None = None) -> EditReport:
     """Add a new ingredient; its name and synonyms must be new to the library."""
+    require(session, user, Action.CHANGE_LIBRARY)
     cells = empty_cells()
     cells[NAME_COLUMN] = name
     for column, values in (("synonyms", synonyms), ("cas", cas), ("roles", roles)):
@@ -622,6 +626,7 @@ def edit_ingredient(session: Session, name: str, assignments: Sequence[tuple[str
                     user: str, reason: str | None = None, source: str | None = None,
                     expect_version: int | None = None) -> EditReport:
     """Change fields of one ingredient; a published value changes only with a reason."""
+    require(session, user, Action.CHANGE_LIBRARY)
     if not assignments:
         raise InvalidData("nothing to change.", hint="give at least one --set field=value")
     ing = _get(session, name)
@@ -649,6 +654,7 @@ def edit_ingredient(session: Session, name: str, assignments: Sequence[tuple[str
 
 def _set_retired(session: Session, name: str, retired: bool, *, user: str,
                  reason: str) -> EditReport:
+    require(session, user, Action.CHANGE_LIBRARY)
     if not reason.strip():
         raise InvalidData("a reason is required.", hint='add --reason "why"')
     ing = _get(session, name)
