@@ -17,7 +17,7 @@ from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any
 
-from sqlalchemy import Engine, create_engine, insert, select, text
+from sqlalchemy import Engine, create_engine, insert, text
 from sqlalchemy.engine import make_url
 from sqlalchemy.orm import Session
 
@@ -27,7 +27,7 @@ from formdb.schemas.ingredient import name_key
 from formdb.services.formula_files import content_hash, parse_formula_text
 from formdb.services.setup import init_library
 from formdb.store.db import open_library, sqlite_path, unit_of_work
-from formdb.store.models import ChangeLogEntry, Ingredient, Source, StoredFormula
+from formdb.store.models import ChangeLogEntry, Source, StoredFormula
 
 BENCH_USER = "formdb-bench"
 FORMULA_FOLDER = "synthetic-bench"  # the folder the import reason names, as if imported from files
@@ -43,15 +43,11 @@ class LibraryPlan:
     seed: int = 42
 
 
-def synthetic_count(session: Session) -> int:
-    return len(list(session.scalars(
-        select(Ingredient.id).where(Ingredient.inci_name.like("Synthetic %")))))
-
-
-def all_rows(plan: LibraryPlan, seed_count: int) -> list[dict[str, str]]:
-    """The seed ingredients followed by the synthetic ones, as cell dicts."""
-    extra = max(0, plan.ingredients - seed_count)
-    return [*synthetic.seed_rows(), *synthetic.synthetic_ingredient_rows(extra, plan.seed)]
+def all_rows(plan: LibraryPlan) -> list[dict[str, str]]:
+    """The seed ingredients followed by the plan's synthetic ones, as cell dicts."""
+    seed = synthetic.seed_rows()
+    extra = max(0, plan.ingredients - len(seed))
+    return [*seed, *synthetic.synthetic_ingredient_rows(extra, plan.seed)]
 
 
 def add_source(session: Session, user: str) -> None:
@@ -88,7 +84,7 @@ def add_ingredients(url: str, plan: LibraryPlan, user: str = BENCH_USER) -> int:
 
 
 def pools_for(plan: LibraryPlan) -> synthetic.Pools:
-    return synthetic.build_pools(all_rows(plan, len(synthetic.seed_rows())))
+    return synthetic.build_pools(all_rows(plan))
 
 
 def formula_texts(plan: LibraryPlan, start: int, stop: int,

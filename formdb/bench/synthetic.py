@@ -12,7 +12,7 @@ from __future__ import annotations
 
 import csv
 import random
-from collections.abc import Iterator, Mapping, Sequence
+from collections.abc import Callable, Iterator, Mapping, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -202,7 +202,7 @@ _AVOID = frozenset({"quaternary cationic", "nitrosating agent", "carboxylate soa
 def build_pools(rows: Sequence[Mapping[str, str]]) -> Pools:
     items = [material(r) for r in rows]
 
-    def pick(test) -> tuple[Material, ...]:  # type: ignore[no-untyped-def]
+    def pick(test: Callable[[Material], bool]) -> tuple[Material, ...]:
         return tuple(m for m in items if not (m.classes & _AVOID) and test(m))
 
     def ranged(m: Material) -> bool:
