@@ -147,6 +147,8 @@ class ChangeLogEntry(Base):
     old_value: Mapped[str | None] = mapped_column(Text)
     new_value: Mapped[str | None] = mapped_column(Text)
     reason: Mapped[str | None] = mapped_column(Text)
+    prev_hash: Mapped[str | None] = mapped_column(String(64))  # hash chain (formdb audit verify)
+    row_hash: Mapped[str | None] = mapped_column(String(64))
 
 
 class LimitEntry(Base):
@@ -305,3 +307,49 @@ class MixtureConstituent(Base):
         ForeignKey("ingredients.id", ondelete="CASCADE"), primary_key=True)
     percent: Mapped[float] = mapped_column(Float)
     source_key: Mapped[str] = mapped_column(ForeignKey("sources.key"))
+
+
+class ReviewRun(Base):
+    """One review check run, stored once and never updated: the formula as checked, the hash of
+    every library record it used, the profile, the findings and the full result. A later run of
+    the same formula name supersedes it (``supersedes_run_id`` on the newer run)."""
+
+    __tablename__ = "review_runs"
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    run_key: Mapped[str] = mapped_column(String(20), unique=True)
+    run_hash: Mapped[str] = mapped_column(String(64))
+    formula_name: Mapped[str] = mapped_column(String(300), index=True)
+    formula_source: Mapped[str] = mapped_column(Text)  # a file path or "stored:NAME"
+    formula_hash: Mapped[str] = mapped_column(String(64))
+    formula_text: Mapped[str] = mapped_column(Text)
+    library_hash: Mapped[str] = mapped_column(String(64))
+    records_json: Mapped[str] = mapped_column(Text)
+    profile_name: Mapped[str] = mapped_column(String(60))
+    profile_version: Mapped[str] = mapped_column(String(40))
+    formdb_version: Mapped[str] = mapped_column(String(40))
+    created_at: Mapped[datetime] = mapped_column(DateTime(timezone=True))
+    created_by: Mapped[str] = mapped_column(String(100))
+    findings_json: Mapped[str] = mapped_column(Text)
+    result_json: Mapped[str] = mapped_column(Text)
+    supersedes_run_id: Mapped[int | None] = mapped_column(ForeignKey("review_runs.id"))
+    prev_hash: Mapped[str | None] = mapped_column(String(64))
+    row_hash: Mapped[str | None] = mapped_column(String(64))
+
+
+class ReviewSignature(Base):
+    """A sign-off on one run: printed name, login, UTC time and meaning, bound to the run hash
+    (21 CFR 11.50 / 11.70)."""
+
+    __tablename__ = "review_signatures"
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    run_id: Mapped[int] = mapped_column(ForeignKey("review_runs.id"), index=True)
+    run_hash: Mapped[str] = mapped_column(String(64))
+    signer: Mapped[str] = mapped_column(String(200))
+    signed_by: Mapped[str] = mapped_column(String(100))
+    meaning: Mapped[str] = mapped_column(String(20))  # approved | reviewed | rejected
+    signed_at: Mapped[datetime] = mapped_column(DateTime(timezone=True))
+    comment: Mapped[str | None] = mapped_column(Text)
+    prev_hash: Mapped[str | None] = mapped_column(String(64))
+    row_hash: Mapped[str | None] = mapped_column(String(64))
