@@ -28,6 +28,8 @@ COMMANDS: dict[str, str] = {
     "db": "formdb.cli.db:db_group",
     "user": "formdb.cli.users:user_group",
     "label": "formdb.cli.labelling:label_cmd",
+    "audit": "formdb.cli.audit:audit_group",
+    "impact": "formdb.cli.impact:impact_cmd",
 }
 
 

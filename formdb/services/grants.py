@@ -10,7 +10,9 @@ Creates (or refreshes) one NOLOGIN role per duty, named ``PREFIX_reader``, ``PRE
 - reviewer: reader + write the review and sign-off tables (names starting ``review`` or
   ``sign``);
 - admin: reader + write ``users`` and ``user_roles``;
-and every writer may append to ``change_log`` (insert only: history is never rewritten).
+and every writer may append to ``change_log`` (insert only: history is never rewritten); the
+review runs and signatures are insert-only too (they are hash-chained like the log, see
+formdb.store.sealing).
 A person's login gets a duty with ``GRANT PREFIX_editor TO their_login``. Run it again after
 ``formdb db upgrade`` so new tables are covered. All in one transaction.
 """
@@ -28,6 +30,7 @@ from formdb.store import db as store
 FORMULA_TABLES = frozenset({"formulas"})
 ADMIN_TABLES = frozenset({"users", "user_roles"})
 LOG_TABLE = "change_log"
+APPEND_ONLY = frozenset({"review_runs", "review_signatures"})  # and LOG_TABLE
 NOT_LIBRARY = FORMULA_TABLES | ADMIN_TABLES | {LOG_TABLE, "alembic_version"}
 _NAME = re.compile(r"^[a-z][a-z0-9_]{0,40}$")
 
@@ -75,8 +78,8 @@ def grant_setup(url: str, prefix: str = "formdb") -> GrantReport:
             for duty, owned in writes.items():
                 role = f"{prefix}_{duty}"
                 for table in owned:
-                    conn.execute(text(f'GRANT INSERT, UPDATE, DELETE ON "{schema}"."{table}" '
-                                      f'TO "{role}"'))
+                    rights = "INSERT" if table in APPEND_ONLY else "INSERT, UPDATE, DELETE"
+                    conn.execute(text(f'GRANT {rights} ON "{schema}"."{table}" TO "{role}"'))
                 conn.execute(text(f'GRANT INSERT ON "{schema}"."{LOG_TABLE}" TO "{role}"'))
                 conn.execute(text(f'GRANT USAGE ON ALL SEQUENCES IN SCHEMA "{schema}" TO "{role}"'))
         return GrantReport(shown, {f"{prefix}_{d}": t for d, t in writes.items()})

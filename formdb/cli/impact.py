@@ -1,0 +1,90 @@
+"""``formdb impact INGREDIENT``: which stored formulas and signed runs a library change touches."""
+
+from __future__ import annotations
+
+import json
+
+import click
+
+from formdb.cli.main import AppContext
+
+
+@click.command("impact")
+@click.argument("ingredient")
+@click.option("--since", default=None, metavar="VERSION|RUN",
+              help="Compare with the ingredient at this version, or as this review run used "
+                   "it (default: each formula's latest review run, else the version before the "
+                   "ingredient's latest change).")
+@click.option("--profile", default=None, help="Profile for the re-check (default: default; a "
+                                              "review run is re-checked with its own).")
+@click.option("--format", "fmt", type=click.Choice(["text", "json"]), default="text",
+              show_default=True, help="Output format.")
+@click.pass_context
+def impact_cmd(ctx: click.Context, ingredient: str, since: str | None, profile: str | None,
+               fmt: str) -> None:
+    """Re-check every stored formula that uses INGREDIENT (by name, synonym or inside a mixture)
+    and list those whose verdict or findings changed, and the signed review runs now stale.
+    Exit 0 when nothing changed, 1 when something did, 2 when it could not be worked out."""
+    from formdb.services.impact import impact_of
+
+    app: AppContext = ctx.obj
+    report = impact_of(app.db, ingredient, since=since, profile=profile)
+    if fmt == "json":
+        click.echo(json.dumps({
+            "ingredient": report.ingredient, "version": report.version,
+            "compared_version": report.baseline_version,
+            "latest_change": None if report.change is None else {
+                "version": report.change.version, "at": report.change.at.isoformat(),
+                "user": report.change.user, "fields": list(report.change.fields)},
+            "formulas": [{
+                "formula": f.formula, "via": list(f.via), "compared_with": f.compared_with,
+                "verdict_before": f.verdict_before, "verdict_now": f.verdict_now,
+                "verdict_changed": f.verdict_changed, "changed": f.changed,
+                "findings_added": [vars(k) for k in f.added],
+                "findings_gone": [vars(k) for k in f.gone]} for f in report.formulas],
+            "stale_runs": [{"run": r.run_key, "formula": r.formula,
+                            "used_version": r.used_version, "current_version": r.current_version,
+                            "signatures": list(r.signatures), "superseded": r.superseded}
+                           for r in report.stale_runs],
+            "notes": report.notes}, indent=2, ensure_ascii=False, default=str))
+    else:
+        _text(report)
+    ctx.exit(1 if report.changed or report.stale_runs else 0)
+
+
+def _text(report: object) -> None:
+    from formdb.services.impact import ImpactReport
+
+    assert isinstance(report, ImpactReport)
+    click.echo(f"Impact of {report.ingredient} (now version {report.version})")
+    if report.change is not None:
+        click.echo(f"  latest change: version {report.change.version} by {report.change.user} "
+                   f"at {report.change.at:%Y-%m-%d %H:%M}: " + "; ".join(report.change.fields))
+    click.echo(f"Stored formulas using it: {len(report.formulas)}; changed: "
+               f"{len(report.changed)}")
+    for item in report.formulas:
+        if item.verdict_before is None:
+            state = f"now {item.verdict_now} (nothing to compare with)"
+        elif item.verdict_changed:
+            state = f"VERDICT CHANGED {item.verdict_before} -> {item.verdict_now}"
+        else:
+            state = ("findings changed" if item.changed else "unchanged") + \
+                f", verdict {item.verdict_now}"
+        click.echo(f"  {item.formula}: {state}; compared with {item.compared_with}; "
+                   f"via {', '.join(item.via)}")
+        for key in item.added:
+            click.echo(f"    + {key.severity} {key.rule}: {key.message}")
+        for key in item.gone:
+            click.echo(f"    - {key.severity} {key.rule}: {key.message}")
+    if report.stale_runs:
+        click.echo("Signed review runs now stale:")
+        for run in report.stale_runs:
+            click.echo(f"  {run.run_key} ({run.formula}): used version {run.used_version}, now "
+                       f"{run.current_version}; {'; '.join(run.signatures)}"
+                       + (" (superseded)" if run.superseded else ""))
+    else:
+        click.echo("Signed review runs now stale: none")
+    for note in report.notes:
+        click.echo(f"Note: {note}")
+    click.echo("A screening aid, not a safety assessment: defer to the current regulation and a "
+               "qualified safety assessor.")

@@ -1,0 +1,148 @@
+"""The audit trail: append sealed rows, and verify every hash chain.
+
+The sealing itself (canonical form, hashes, the session hooks that seal every new row of the
+change log and the review tables) is formdb.store.sealing. ``verify_chains`` walks each table in
+id order and recomputes: a row whose content no longer matches its hash was altered; a row whose
+``prev_hash`` is not the previous row's hash means rows were removed, slipped in, or altered and
+resealed. A gap in ids alone is not a break: PostgreSQL spends ids of rolled-back writes, and the
+chain (not the id sequence) says what was committed.
+
+What a chain cannot show on its own: removing the newest rows (the head moves back), or a writer
+with the table's UPDATE right who recomputes every later hash. Record ``head`` (the last id and
+hash printed by ``formdb audit verify``) with a filed report to anchor it; on PostgreSQL, writers
+get INSERT only on the change log (``formdb db grant-setup``).
+"""
+
+from __future__ import annotations
+
+from collections import deque
+from dataclasses import dataclass, field
+from typing import Any
+
+from sqlalchemy import inspect, select
+from sqlalchemy.orm import Session
+
+from formdb.store.db import open_library, unit_of_work
+from formdb.store.models import Base
+from formdb.store.sealing import GENESIS, SEALED_COLUMNS, canonical, row_hash, seal
+
+_WINDOW = 64  # recent hashes kept to recognise rows slipped in between two sealed rows
+_MAX_PROBLEMS = 20  # per table; the first is what matters, the rest show the extent
+
+
+@dataclass(frozen=True)
+class ChainProblem:
+    table: str
+    row_id: int
+    kind: str  # altered | removed | inserted | unsealed | broken-link
+    detail: str
+
+
+@dataclass
+class ChainReport:
+    table: str
+    rows: int = 0
+    head_id: int | None = None
+    head_hash: str | None = None
+    problems: list[ChainProblem] = field(default_factory=list)
+    more_problems: int = 0
+
+    @property
+    def intact(self) -> bool:
+        return not self.problems
+
+
+@dataclass(frozen=True)
+class AuditReport:
+    chains: list[ChainReport]
+
+    @property
+    def intact(self) -> bool:
+        return all(c.intact for c in self.chains)
+
+    @property
+    def first_problem(self) -> ChainProblem | None:
+        return next((p for c in self.chains for p in c.problems), None)
+
+
+def append_sealed(session: Session, row: Any) -> Any:
+    """Add a change-log or review row and flush it: the session hook gives it its id and seals
+    it onto the end of its table's chain (under the write lock). Returns the row."""
+    session.add(row)
+    session.flush()
+    return row
+
+
+def seal_values(table: str, rows: list[dict[str, Any]], first_id: int, prev_hash: str) -> str:
+    """Seal plain dicts as rows ``first_id``... after ``prev_hash``; returns the new head."""
+    return seal(table, rows, first_id, prev_hash)
+
+
+def _short(value: str | None) -> str:
+    return "(none)" if value is None else value[:12]
+
+
+def verify_table(session: Session, table: str) -> ChainReport:
+    """Recompute one chain, oldest row first."""
+    report = ChainReport(table)
+    model = Base.metadata.tables[table]
+    columns = [model.c[name] for name in (*SEALED_COLUMNS[table], "row_hash")]
+    recent: deque[tuple[int, str]] = deque(maxlen=_WINDOW)  # (id, stored row_hash)
+    prev_id: int | None = None
+    prev_stored: str = GENESIS
+
+    def problem(row_id: int, kind: str, detail: str) -> None:
+        if len(report.problems) < _MAX_PROBLEMS:
+            report.problems.append(ChainProblem(table, row_id, kind, detail))
+        else:
+            report.more_problems += 1
+
+    stmt = select(*columns).order_by(model.c.id).execution_options(yield_per=1000)
+    for row in session.execute(stmt).mappings():
+        report.rows += 1
+        row_id, linked, stored = int(row["id"]), row["prev_hash"], row["row_hash"]
+        if stored is None:
+            problem(row_id, "unsealed", f"row {row_id} has no hash: it was written outside "
+                    "formdb (plain SQL) or never sealed")
+        elif row_hash(linked or "", canonical(table, row)) != stored:
+            problem(row_id, "altered", f"row {row_id} was altered: its content no longer "
+                    f"matches its hash {_short(stored)}")
+        if linked != prev_stored:
+            earlier = next((i for i, h in recent if h == linked and i != prev_id), None)
+            if prev_id is None:
+                problem(row_id, "removed", f"the chain does not start at row {row_id}: "
+                        "earlier rows were removed")
+            elif earlier is not None:
+                first_in = next(i for i, _h in recent if i > earlier)
+                problem(first_in, "inserted", f"row {first_in} was inserted out of order: row "
+                        f"{row_id} links to row {earlier}, not to the rows after it")
+            elif row_id > prev_id + 1:
+                gone = (f"row {prev_id + 1} was" if row_id == prev_id + 2
+                        else f"rows {prev_id + 1}..{row_id - 1} were")
+                problem(prev_id + 1, "removed", f"{gone} removed: row {row_id} does not link "
+                        f"to row {prev_id}")
+            else:
+                problem(row_id, "broken-link", f"row {row_id} does not link to row {prev_id}: "
+                        f"a row between them was removed, or row {prev_id} was altered and "
+                        "resealed")
+        recent.append((row_id, stored or ""))
+        prev_id, prev_stored = row_id, stored or ""
+    report.head_id = prev_id
+    report.head_hash = prev_stored if prev_id is not None else None
+    return report
+
+
+def verify_chains(db_url: str, tables: list[str] | None = None) -> AuditReport:
+    """Verify every sealed table present in the library (or the ones named)."""
+    engine = open_library(db_url)
+    try:
+        with unit_of_work(engine) as session:
+            present = set(inspect(session.connection()).get_table_names())
+            wanted = [t for t in (tables or list(SEALED_COLUMNS)) if t in present]
+            return AuditReport([verify_table(session, t) for t in wanted])
+    finally:
+        engine.dispose()
+
+
+__all__ = ["AuditReport", "ChainProblem", "ChainReport", "append_sealed", "canonical",
+           "row_hash", "seal_values", "verify_chains", "verify_table"]

@@ -1,0 +1,382 @@
+"""What a library change does: re-check every stored formula that uses an ingredient.
+
+A formula uses the ingredient when a line names it (INCI name or synonym) or names a mixture
+that declares it as a constituent. Each such formula is checked now and compared with a
+baseline, chosen per formula:
+- its latest review run, if it has one (the run's stored findings; re-checked with the run's
+  profile, so like is compared with like);
+- otherwise the same check with the ingredient as it was before its most recent change (or, with
+  ``since``, as it was at that version or at the version a named review run used), rebuilt from
+  the change log's old values.
+Signed review runs that used an older version of the ingredient are listed as stale.
+"""
+
+from __future__ import annotations
+
+import json
+from collections.abc import Iterator, Mapping
+from dataclasses import dataclass, field
+from datetime import datetime
+from typing import Any
+
+from sqlalchemy import Table, inspect, select
+from sqlalchemy.orm import Session
+
+from formdb.errors import InvalidData, NotFound
+from formdb.rules.engine import check_resolved
+from formdb.rules.profiles import Profile, load_profile
+from formdb.schemas.formula import ResolvedFormula
+from formdb.schemas.ingredient import IngredientRecord, Provenance, name_key
+from formdb.schemas.reference import ReferenceData
+from formdb.schemas.result import CheckResult
+from formdb.schemas.vocab import Evidence
+from formdb.services.checking import FormulaInput, input_from_text, resolve_all
+from formdb.services.ingredient_rows import render_ingredient, validate_cells
+from formdb.services.ingredients import ENTITY, _as_input, _get, _sources
+from formdb.store import queries
+from formdb.store.db import open_library, unit_of_work
+from formdb.store.formulas import iter_stored_formulas
+from formdb.store.models import Base, ChangeLogEntry
+
+_BATCH = 200
+
+
+@dataclass(frozen=True)
+class FindingKey:
+    """A finding as compared: what it says, not where it sits in the list."""
+
+    rule: str
+    severity: str
+    message: str
+
+
+@dataclass(frozen=True)
+class FormulaImpact:
+    formula: str
+    via: tuple[str, ...]  # the lines that bring the ingredient in
+    compared_with: str
+    verdict_before: str | None  # None: nothing to compare with
+    verdict_now: str
+    added: tuple[FindingKey, ...] = ()
+    gone: tuple[FindingKey, ...] = ()
+
+    @property
+    def verdict_changed(self) -> bool:
+        return self.verdict_before is not None and self.verdict_before != self.verdict_now
+
+    @property
+    def changed(self) -> bool:
+        return self.verdict_changed or bool(self.added or self.gone)
+
+
+@dataclass(frozen=True)
+class StaleRun:
+    run_key: str
+    formula: str
+    used_version: int
+    current_version: int
+    signatures: tuple[str, ...]  # "meaning by signer at time"
+    superseded: bool
+
+
+@dataclass(frozen=True)
+class LibraryChange:
+    version: int
+    at: datetime
+    user: str
+    fields: tuple[str, ...]  # "field: old -> new"
+
+
+@dataclass
+class ImpactReport:
+    ingredient: str
+    version: int
+    baseline_version: int | None
+    change: LibraryChange | None
+    formulas: list[FormulaImpact] = field(default_factory=list)
+    stale_runs: list[StaleRun] = field(default_factory=list)
+    notes: list[str] = field(default_factory=list)
+
+    @property
+    def changed(self) -> list[FormulaImpact]:
+        return [f for f in self.formulas if f.changed]
+
+
+def verdict(findings: Any) -> str:
+    """"errors", "warnings" or "clean" from findings (Finding objects or their JSON dicts)."""
+    severities = {str(_get_field(f, "severity")) for f in findings}
+    if "error" in severities:
+        return "errors"
+    return "warnings" if "warning" in severities else "clean"
+
+
+def _get_field(finding: Any, name: str) -> Any:
+    value = finding.get(name) if isinstance(finding, Mapping) else getattr(finding, name, None)
+    return getattr(value, "value", value)
+
+
+def _keys(findings: Any) -> set[FindingKey]:
+    return {FindingKey(str(_get_field(f, "rule")), str(_get_field(f, "severity")),
+                       str(_get_field(f, "message"))) for f in findings}
+
+
+# --- the ingredient as it was --------------------------------------------------------------------
+
+def _log_since(session: Session, inci: str, version: int) -> list[ChangeLogEntry]:
+    return list(session.scalars(
+        select(ChangeLogEntry).where(ChangeLogEntry.entity == ENTITY,
+                                     ChangeLogEntry.entity_key == inci,
+                                     ChangeLogEntry.entity_version > version)
+        .order_by(ChangeLogEntry.entity_version.desc(), ChangeLogEntry.id.desc())))
+
+
+def earlier_record(session: Session, record: IngredientRecord, version: int) -> IngredientRecord:
+    """The ingredient as it was at ``version``: every logged change after it undone, newest
+    first (each log row holds the field's text before and after, in the import columns)."""
+    cells = render_ingredient(_as_input(record))
+    retired = record.retired
+    for row in _log_since(session, record.inci_name, version):
+        if row.field == "retired":
+            retired = row.old_value == "yes"
+        elif row.field in cells:
+            cells[row.field] = row.old_value or ""
+    sources = _sources(session)
+    item, problems = validate_cells(cells, sources)
+    if item is None:
+        raise InvalidData(f"{record.inci_name!r} version {version} cannot be rebuilt from the "
+                          f"change log ({problems[0][1] if problems else 'unreadable'}).",
+                          hint="compare with a later version (--since)")
+    citations = queries.citations_for(session, item.sources.values())
+    provenance = {p: Provenance(source=s, evidence=Evidence(sources[s]),
+                                citation=citations.get(s), note=item.notes.get(p))
+                  for p, s in item.sources.items()}
+    return IngredientRecord(
+        id=record.id, inci_name=item.inci_name, version=version, retired=retired,
+        synonyms=item.synonyms, cas_numbers=item.cas_numbers, roles=frozenset(item.roles),
+        classes=frozenset(item.classes), properties=item.properties, provenance=provenance)
+
+
+def _swap(formula: ResolvedFormula, reference: ReferenceData, old: IngredientRecord,
+          ) -> tuple[ResolvedFormula, ReferenceData]:
+    """The formula and reference data with ``old`` wherever the ingredient appears."""
+    def pick(rec: IngredientRecord) -> IngredientRecord:
+        return old if rec.id == old.id else rec
+
+    lines = tuple(ln.model_copy(update={"ingredient": pick(ln.ingredient)})
+                  for ln in formula.lines)
+    constituents = {k: tuple(p.model_copy(update={"record": pick(p.record)}) for p in parts)
+                    for k, parts in reference.constituents.items()}
+    swapped = reference.model_copy(update={
+        "constituents": constituents,
+        "soaps": {k: pick(v) for k, v in reference.soaps.items()},
+        "acids": {k: pick(v) for k, v in reference.acids.items()}})
+    return formula.model_copy(update={"lines": lines}), swapped
+
+
+# --- review runs (formdb.services.review stores them) -------------------------------------------
+
+def _table(session: Session, name: str) -> Table | None:
+    if name not in inspect(session.connection()).get_table_names():
+        return None
+    return Base.metadata.tables.get(name)
+
+
+def _versions_used(records_json: str, target: IngredientRecord) -> list[int]:
+    """Versions of the ingredient a run recorded: any object in its records that names the
+    ingredient (INCI name, or its library id) together with a version."""
+    try:
+        data = json.loads(records_json or "null")
+    except ValueError:
+        return []
+    found: list[int] = []
+
+    def walk(node: Any) -> None:
+        if isinstance(node, dict):
+            names = [node.get(k) for k in ("inci_name", "inci", "name", "key")]
+            hit = any(isinstance(n, str) and name_key(n) == name_key(target.inci_name)
+                      for n in names) or node.get("ingredient_id") == target.id
+            kind = str(node.get("kind", node.get("table", "ingredient")))
+            if hit and "ingredient" in kind and isinstance(node.get("version"), int):
+                found.append(node["version"])
+            for value in node.values():
+                walk(value)
+        elif isinstance(node, list):
+            for value in node:
+                walk(value)
+
+    walk(data)
+    return found
+
+
+def _runs(session: Session) -> list[Any]:
+    runs = _table(session, "review_runs")
+    if runs is None:
+        return []
+    return list(session.execute(select(runs).order_by(runs.c.id)).mappings())
+
+
+def _signatures(session: Session) -> dict[int, list[str]]:
+    signs = _table(session, "review_signatures")
+    out: dict[int, list[str]] = {}
+    if signs is None:
+        return out
+    for row in session.execute(select(signs).order_by(signs.c.id)).mappings():
+        out.setdefault(row["run_id"], []).append(
+            f"{row['meaning']} by {row['signer']} at {row['signed_at']:%Y-%m-%d %H:%M}")
+    return out
+
+
+def _run_findings(run: Mapping[str, Any]) -> list[Any] | None:
+    try:
+        data = json.loads(run["findings_json"] or "null")
+    except ValueError:
+        return None
+    if isinstance(data, dict):
+        data = data.get("findings")
+    return data if isinstance(data, list) else None
+
+
+# --- the use case -------------------------------------------------------------------------------
+
+def _using(session: Session, target: IngredientRecord, reference: ReferenceData,
+           ) -> Iterator[tuple[FormulaInput, ResolvedFormula, tuple[str, ...]]]:
+    mixtures = {key for key, parts in reference.constituents.items()
+                if any(p.record.id == target.id for p in parts)}
+    known: dict[str, IngredientRecord] = {}
+    batch: list[FormulaInput] = []
+
+    def flush(items: list[FormulaInput]) -> Iterator[tuple[FormulaInput, ResolvedFormula,
+                                                           tuple[str, ...]]]:
+        for item, formula in zip(items, resolve_all(session, items, known), strict=True):
+            via = tuple(
+                f"line {ln.line_no} {ln.given_name}" + (
+                    "" if ln.ingredient.id == target.id
+                    else f" (a mixture containing {target.inci_name})")
+                for ln in formula.lines
+                if ln.ingredient.id == target.id or name_key(ln.ingredient.inci_name) in mixtures)
+            if via:
+                yield item, formula, via
+
+    for stored in iter_stored_formulas(session):
+        batch.append(input_from_text(stored.content, f"stored:{stored.name}"))
+        if len(batch) >= _BATCH:
+            yield from flush(batch)
+            batch = []
+    yield from flush(batch)
+
+
+def _baseline_version(session: Session, target: IngredientRecord, since: str | None,
+                      runs: list[Any]) -> int | None:
+    if since is None:
+        return target.version - 1 if target.version > 1 else None
+    text = since.strip()
+    if text.isdigit():
+        version = int(text)
+        if not 1 <= version <= target.version:
+            raise InvalidData(f"--since {since}: {target.inci_name!r} has versions 1 to "
+                              f"{target.version}.", hint="give a version or a review run")
+        return version
+    run = next((r for r in runs if str(r["run_key"]) == text), None)
+    if run is None:
+        raise NotFound(f"--since {since}: no review run {text!r} and not a version number.",
+                       hint="`formdb review status` lists the runs")
+    used = _versions_used(run["records_json"], target)
+    if not used:
+        raise InvalidData(f"--since {since}: review run {text} did not use "
+                          f"{target.inci_name!r}.", hint="name a run that used the ingredient")
+    return min(used)
+
+
+def _latest_change(session: Session, target: IngredientRecord) -> LibraryChange | None:
+    rows = sorted((r for r in _log_since(session, target.inci_name, target.version - 1)
+                   if r.entity_version == target.version), key=lambda r: r.id)
+    if not rows:
+        return None
+    return LibraryChange(target.version, rows[0].at, rows[0].user, tuple(
+        f"{r.field}: {r.old_value or '(none)'} -> {r.new_value or '(none)'}" for r in rows))
+
+
+def impact_of(db_url: str, ingredient: str, *, since: str | None = None,
+              profile: Profile | str | None = None) -> ImpactReport:
+    """Re-check every stored formula using ``ingredient`` and compare (module docstring)."""
+    chosen = profile if isinstance(profile, Profile) else load_profile(profile or "default")
+    engine = open_library(db_url)
+    try:
+        with unit_of_work(engine) as session:
+            target = queries.records_by_id(session, [_get(session, ingredient).id])
+            record = next(iter(target.values()))
+            runs = _runs(session)
+            base_version = _baseline_version(session, record, since, runs)
+            earlier = (earlier_record(session, record, base_version)
+                       if base_version is not None and base_version != record.version else None)
+            report = ImpactReport(record.inci_name, record.version, base_version,
+                                  _latest_change(session, record))
+            reference = queries.load_reference_data(session)
+            latest_run = {} if since is not None else {
+                name_key(r["formula_name"]): r for r in runs}
+            for _item, formula, via in _using(session, record, reference):
+                report.formulas.append(_compare(formula, reference, chosen, earlier, via,
+                                                latest_run.get(name_key(formula.formula.name)),
+                                                report))
+            report.stale_runs = _stale(session, record, runs)
+    finally:
+        engine.dispose()
+    return report
+
+
+def _compare(formula: ResolvedFormula, reference: ReferenceData, profile: Profile,
+             earlier: IngredientRecord | None, via: tuple[str, ...], run: Mapping[str, Any] | None,
+             report: ImpactReport) -> FormulaImpact:
+    name = formula.formula.name
+    if run is not None and (before := _run_findings(run)) is not None:
+        try:
+            run_profile = load_profile(run["profile_name"])
+        except Exception:  # a profile this formdb no longer ships: say so, use the chosen one
+            run_profile = profile
+            report.notes.append(f"{name}: review run {run['run_key']}'s profile "
+                                f"{run['profile_name']!r} is not available; checked with "
+                                f"{profile.name!r}")
+        if run["formula_hash"] != formula.content_hash:
+            report.notes.append(f"{name}: the stored formula changed since review run "
+                                f"{run['run_key']}; part of the difference may be its own")
+        now = check_resolved(formula, reference, run_profile)
+        return _impact(name, via, f"review run {run['run_key']} ({run_profile.name} profile)",
+                       before, now)
+    now = check_resolved(formula, reference, profile)
+    if earlier is None:
+        return FormulaImpact(name, via, "nothing (no earlier version of the ingredient)", None,
+                             verdict(now.findings))
+    old_formula, old_reference = _swap(formula, reference, earlier)
+    then: CheckResult = check_resolved(old_formula, old_reference, profile)
+    return _impact(name, via, f"{earlier.inci_name} version {earlier.version}",
+                   list(then.findings), now)
+
+
+def _impact(name: str, via: tuple[str, ...], compared_with: str, before: list[Any],
+            now: CheckResult) -> FormulaImpact:
+    old, new = _keys(before), _keys(now.findings)
+    return FormulaImpact(name, via, compared_with, verdict(before), verdict(now.findings),
+                         tuple(sorted(new - old, key=_order)), tuple(sorted(old - new, key=_order)))
+
+
+def _order(key: FindingKey) -> tuple[str, str]:
+    return key.rule, key.message
+
+
+def _stale(session: Session, record: IngredientRecord, runs: list[Any]) -> list[StaleRun]:
+    signed = _signatures(session)
+    superseded = {r["supersedes_run_id"] for r in runs if r.get("supersedes_run_id")}
+    out = []
+    for run in runs:
+        if run["id"] not in signed:
+            continue
+        used = [v for v in _versions_used(run["records_json"], record) if v != record.version]
+        if used:
+            out.append(StaleRun(str(run["run_key"]), str(run["formula_name"]), min(used),
+                                record.version, tuple(signed[run["id"]]),
+                                run["id"] in superseded))
+    return out
+
+
+__all__ = ["FindingKey", "FormulaImpact", "ImpactReport", "LibraryChange", "StaleRun",
+           "earlier_record", "impact_of", "verdict"]

@@ -1,0 +1,69 @@
+"""Seal the rows written before sealing existed: hash-chain the change log and review tables.
+
+A table none of whose rows is sealed yet (a library from before sealing) is sealed in id
+order, each row linked to the row before it (formdb.store.sealing: sha256(prev_hash +
+canonical row), the first row after the genesis value). A table that already holds sealed rows
+is left exactly as it is, so running this again never seals (launders) a row slipped in with
+plain SQL. A data migration only; the downgrade keeps the hashes (0011's downgrade drops their
+columns).
+
+Revision ID: 0012_seal_audit_rows
+Revises: 0011_review_runs
+Created: 2026-12-01
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from typing import Any
+
+import sqlalchemy as sa
+from alembic import op
+
+from formdb.store.sealing import GENESIS, SEALED_COLUMNS, seal
+
+revision: str = "0012_seal_audit_rows"
+down_revision: str | None = "0011_review_runs"
+branch_labels: str | Sequence[str] | None = None
+depends_on: str | Sequence[str] | None = None
+
+_INTEGER = {"id", "entity_version", "supersedes_run_id", "run_id"}
+_TIMESTAMP = {"at", "created_at", "signed_at"}
+_CHUNK = 1000
+
+
+def _column(name: str) -> sa.ColumnClause[Any]:
+    if name in _INTEGER:
+        return sa.column(name, sa.Integer)
+    if name in _TIMESTAMP:  # read back as datetimes, so they hash as the ORM's values do
+        return sa.column(name, sa.DateTime(timezone=True))
+    return sa.column(name, sa.Text)
+
+
+def _seal_table(bind: sa.Connection, name: str) -> None:
+    table = sa.table(name, *(_column(c) for c in (*SEALED_COLUMNS[name], "row_hash")))
+    head = GENESIS
+    updates: list[dict[str, Any]] = []
+    rows = bind.execute(sa.select(table).order_by(table.c.id)).mappings().all()
+    if any(stored["row_hash"] is not None for stored in rows):
+        return  # already a chain: an unsealed row now is for `audit verify`, never laundered
+    for stored in rows:
+        row = dict(stored)
+        head = seal(name, [row], [row["id"]], head)
+        updates.append({"b_id": row["id"], "b_prev": row["prev_hash"], "b_hash": head})
+    update = (sa.update(table).where(table.c.id == sa.bindparam("b_id"))
+              .values(prev_hash=sa.bindparam("b_prev"), row_hash=sa.bindparam("b_hash")))
+    for start in range(0, len(updates), _CHUNK):
+        bind.execute(update, updates[start:start + _CHUNK])
+
+
+def upgrade() -> None:
+    bind = op.get_bind()
+    present = set(sa.inspect(bind).get_table_names())
+    for name in SEALED_COLUMNS:
+        if name in present:
+            _seal_table(bind, name)
+
+
+def downgrade() -> None:
+    pass  # the hashes stay; they are harmless to 0011 and dropped with its columns
