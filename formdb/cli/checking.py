@@ -19,7 +19,7 @@ from formdb.cli.main import AppContext
 from formdb.errors import InvalidData
 
 F = TypeVar("F", bound=Callable[..., Any])
-REPORT_FORMATS = ("text", "json", "html")
+REPORT_FORMATS = ("text", "json", "html", "jsonl")
 
 
 def _wants_color(out: Path | None, fmt: str) -> bool:
@@ -94,13 +94,16 @@ def check_cmd(ctx: click.Context, files: tuple[Path, ...], all_stored: bool, pro
         raise click.UsageError("give one or more formula FILEs, or --all")
     items = read_every_file(files)
     chosen = load_profile(profile)
+    snapshots = [ListSnapshot(*row) for row in limit_snapshots(app.db, chosen)]
+    if fmt == "jsonl" or (all_stored and fmt != "html"):
+        failing = _stream(app, items, chosen, all_stored, fmt, out, snapshots)
+        ctx.exit(1 if failing else 0)
     results = check_inputs(app.db, items, chosen) if items else []
     if all_stored:
         results += list(iter_check_stored(app.db, chosen))
     if not results:
         click.echo("No stored formulas to check: `formdb formula import FILE` stores one.")
         return
-    snapshots = [ListSnapshot(*row) for row in limit_snapshots(app.db, chosen)]
     report = render(results, fmt, snapshots=snapshots, color=_wants_color(out, fmt))
     if out is not None:
         write_report(out, report)
@@ -108,6 +111,56 @@ def check_cmd(ctx: click.Context, files: tuple[Path, ...], all_stored: bool, pro
     else:
         click.echo(report, nl=False)
     ctx.exit(1 if any(r.has_errors for r in results) else 0)
+
+
+def _stream(app: AppContext, items: list[Any], profile: Any, all_stored: bool, fmt: str,
+            out: Path | None, snapshots: list[Any]) -> int:
+    """Write each result as it is checked (``--all`` over thousands of formulas, or jsonl);
+    a progress bar on stderr when it is a terminal. Returns how many formulas have errors."""
+    import itertools
+
+    from formdb.report.stream import StreamReport
+    from formdb.services.checking import check_inputs, count_stored, iter_check_stored
+
+    results = itertools.chain(check_inputs(app.db, items, profile) if items else [],
+                              iter_check_stored(app.db, profile) if all_stored else [])
+    total = len(items) + (count_stored(app.db) if all_stored else 0)
+    if total == 0:
+        click.echo("No stored formulas to check: `formdb formula import FILE` stores one.")
+        return 0
+    target = out.with_name(f".{out.name}.part") if out is not None else None
+    try:
+        handle = open(target, "w", encoding="utf-8") if target else sys.stdout
+    except OSError as exc:
+        raise InvalidData(f"{out}: the report cannot be written ({exc.strerror or exc})",
+                          hint="choose a folder you can write to") from None
+    try:
+        report = StreamReport(handle, "text" if fmt == "text" else fmt, snapshots)
+        for result in _with_progress(results, total):
+            report.write(result)
+        tally = report.close()
+    finally:
+        if target:
+            handle.close()
+        else:
+            handle.flush()
+    if target is not None and out is not None:
+        os.replace(target, out)
+        click.echo(f"{tally.line()}; report written to {out}")
+    return tally.failing
+
+
+def _with_progress(results: Any, total: int) -> Any:
+    if not sys.stderr.isatty():
+        yield from results
+        return
+    from rich.progress import Progress
+
+    with Progress(transient=True, console=None) as progress:
+        task = progress.add_task("checking", total=total)
+        for result in results:
+            yield result
+            progress.advance(task)
 
 
 def _blend_mode(file: Path | None, target: float | None, using: tuple[str, ...],

@@ -146,6 +146,20 @@ def check_files(db_url: str, paths: Iterable[Path],
     return check_inputs(db_url, read_inputs(paths), profile)
 
 
+def count_stored(db_url: str) -> int:
+    """How many formulas the library stores (for a progress bar)."""
+    from sqlalchemy import func, select
+
+    from formdb.store.models import StoredFormula
+
+    engine = open_library(db_url)
+    try:
+        with unit_of_work(engine) as session:
+            return int(session.scalar(select(func.count()).select_from(StoredFormula)) or 0)
+    finally:
+        engine.dispose()
+
+
 def iter_check_stored(db_url: str, profile: Profile | str | None = None,
                       batch_size: int = 200) -> Iterator[CheckResult]:
     """Check every stored formula, a batch at a time (names resolved in bulk per batch)."""
