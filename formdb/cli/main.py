@@ -28,6 +28,7 @@ COMMANDS: dict[str, str] = {
     "db": "formdb.cli.db:db_group",
     "user": "formdb.cli.users:user_group",
     "label": "formdb.cli.labelling:label_cmd",
+    "review": "formdb.cli.review:review_group",
     "audit": "formdb.cli.audit:audit_group",
     "impact": "formdb.cli.impact:impact_cmd",
 }

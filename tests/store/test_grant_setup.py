@@ -1,5 +1,6 @@
 """``formdb db grant-setup`` on the real PostgreSQL server: with real logins, a reviewer's
-login cannot update ingredients, an editor's can but cannot write users or formulas. The
+login cannot update ingredients, an editor's can but cannot write users or formulas, nor file or
+sign a review run (a reviewer's login can). The
 roles are created with a prefix private to the test and dropped afterwards."""
 
 from __future__ import annotations
@@ -79,6 +80,19 @@ def test_database_roles_mirror_duties(pg_url: str, prefix: str) -> None:
     assert not _try(editor, "DELETE FROM change_log")  # history is append-only
     assert not _try(editor, "INSERT INTO user_roles (user_id, role) VALUES (1, 'admin')")
     assert not _try(editor, "UPDATE formulas SET name = 'x'")
+    # sign-offs are the reviewer's: a reviewer may file a run and sign it, an editor may not sign
+    run = ("INSERT INTO review_runs (run_key, run_hash, formula_name, formula_source, "
+           "formula_hash, formula_text, library_hash, records_json, profile_name, "
+           "profile_version, formdb_version, created_at, created_by, findings_json, result_json) "
+           "VALUES ('{k}', '{k}', 'f', 'f.toml', 'h', 't', 'h', '[]', 'strict', '1', '0', now(), "
+           "'rv', '[]', '{{}}')")
+    sign = ("INSERT INTO review_signatures (run_id, run_hash, signer, signed_by, meaning, "
+            "signed_at) SELECT id, run_hash, 'R. Reviewer', '{who}', 'approved', now() "
+            "FROM review_runs")
+    assert _try(reviewer, run.format(k="aaaaaaaaaaaa"))
+    assert _try(reviewer, sign.format(who="rv"))
+    assert not _try(editor, run.format(k="bbbbbbbbbbbb"))
+    assert not _try(editor, sign.format(who="ed"))
 
 
 def test_grant_setup_on_sqlite_is_one_clear_line(sqlite_url: str) -> None:

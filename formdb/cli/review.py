@@ -1,0 +1,100 @@
+"""``formdb review run|sign|status|report``: parse, call formdb.services.review, render."""
+
+from __future__ import annotations
+
+import json
+from dataclasses import asdict
+from pathlib import Path
+
+import click
+
+from formdb.cli.main import AppContext
+
+
+@click.group("review")
+def review_group() -> None:
+    """Pre-trial review: stored check runs, sign-offs, their state, filed reports."""
+
+
+@review_group.command("run")
+@click.argument("source", metavar="FILE")
+@click.option("--profile", default="strict", show_default=True,
+              help="Rule profile: a packaged name (strict, default) or a profile TOML file.")
+@click.pass_obj
+def run_cmd(app: AppContext, source: str, profile: str) -> None:
+    """Check formula FILE (or stored:NAME) and store the run, immutable, with the hash of every
+    library record it used."""
+    from formdb.services.review import run_review
+
+    summary = run_review(app.db, source, profile, user=app.user)
+    click.echo(f"Run {summary.run_key}: {summary.formula}: {summary.verdict} "
+               f"({summary.errors} error, {summary.warnings} warning findings; "
+               f"{summary.open_items} open item(s); {summary.records} library records hashed)")
+    click.echo(f"Run hash {summary.run_hash}")
+    if summary.supersedes:
+        click.echo(f"Supersedes run {summary.supersedes}.")
+
+
+@review_group.command("sign")
+@click.argument("run")
+@click.option("--meaning", required=True, type=click.Choice(("approved", "reviewed",
+                                                              "rejected")),
+              help="What the signature means.")
+@click.option("--as", "signer", required=True, metavar="NAME", help="The signer's printed name.")
+@click.option("--comment", help="A note kept with the signature.")
+@click.pass_obj
+def sign_cmd(app: AppContext, run: str, meaning: str, signer: str, comment: str | None) -> None:
+    """Sign review RUN (its run key): refused if it is stale or superseded."""
+    from formdb.services.review import sign_run
+
+    sig = sign_run(app.db, run, meaning, signer, user=app.user, comment=comment)
+    click.echo(f"Signed run {sig.run_hash[:12]}: {sig.meaning} by {sig.signer} "
+               f"(login {sig.signed_by}) at {sig.signed_at}; run hash {sig.run_hash}")
+
+
+@review_group.command("status")
+@click.option("--format", "fmt", type=click.Choice(("table", "json")), default="table",
+              show_default=True)
+@click.pass_obj
+def status_cmd(app: AppContext, fmt: str) -> None:
+    """Every review run: current, stale (what changed, old -> new) or superseded."""
+    from formdb.services.review import review_status
+
+    states = review_status(app.db)
+    if fmt == "json":
+        click.echo(json.dumps([asdict(s) for s in states], indent=2, ensure_ascii=False))
+        return
+    if not states:
+        click.echo("No review runs yet: `formdb review run FILE` makes one.")
+        return
+    for s in states:
+        extra = f" by {s.superseded_by}" if s.superseded_by else ""
+        click.echo(f"{s.run_key}  {s.state}{extra}  {s.formula}  ({s.profile}; "
+                   f"{s.created_at}, {s.created_by})")
+        for change in s.changes:
+            click.echo(f"    changed: {change}")
+        for sig in s.signatures:
+            click.echo(f"    signed: {sig.meaning} by {sig.signer} ({sig.signed_by}) at "
+                       f"{sig.signed_at}")
+
+
+@review_group.command("report")
+@click.argument("run")
+@click.option("--format", "fmt", type=click.Choice(("html", "json")), default="html",
+              show_default=True)
+@click.option("--out", type=click.Path(path_type=Path, dir_okay=False),
+              help="Write the report to this file.")
+@click.pass_obj
+def report_cmd(app: AppContext, run: str, fmt: str, out: Path | None) -> None:
+    """The filed report of review RUN: HTML (printable) or JSON."""
+    from formdb.cli.checking import write_report
+    from formdb.report.review import render_review
+    from formdb.services.review import filed_run
+
+    filed = filed_run(app.db, run)
+    text = render_review(filed, fmt)
+    if out is None:
+        click.echo(text, nl=False)
+    else:
+        write_report(out, text)
+        click.echo(f"Report of run {filed.state.run_key} ({filed.state.state}) written to {out}")

@@ -1,0 +1,196 @@
+"""``formdb review run|sign|status``: immutable runs, sign-offs bound to the run hash, and runs
+that go stale when the formula or a library record they used changes (21 CFR 11.10(e), 11.50,
+11.70 as summarised in regulatory.md section 5: a record shows who, when and what; a signature
+shows the printed name, date and time and meaning, and is linked to its record).
+
+The formula is the golden O/W day cream of the invented Larkspur Bench Laboratories on the
+bundled seed library; the replacement values the tests write (a glycerin density of 1.27, a
+phenoxyethanol limit of 0.5 %) are made up to provoke a change. The limit row it starts from is
+Regulation (EC) No 1223/2009 Annex V entry 29, phenoxyethanol 1 % (seed_data/limits.csv).
+"""
+
+from __future__ import annotations
+
+import json
+import shutil
+from pathlib import Path
+
+import pytest
+from sqlalchemy import select, text
+
+from formdb.store.db import make_engine, unit_of_work
+from formdb.store.models import ChangeLogEntry, ReviewRun, ReviewSignature
+from tests.helpers import dump_database, run_formdb
+
+CREAM = Path(__file__).parents[1] / "golden" / "formulas" / "ow-cream.toml"
+NAME = "Larkspur LB-G01 day cream"
+
+
+@pytest.fixture
+def cream(tmp_path: Path) -> Path:
+    target = tmp_path / "day-cream.toml"
+    shutil.copyfile(CREAM, target)
+    return target
+
+
+def _formdb(url: str, *args: str, user: str = "ana"):
+    return run_formdb(["--db", url, "--user", user, *args])
+
+
+def _run(url: str, file: Path | str, user: str = "ana") -> str:
+    done = _formdb(url, "review", "run", str(file), user=user)
+    assert done.exit_code == 0, done.stderr
+    assert done.stdout.startswith("Run ")
+    return done.stdout.split()[1].rstrip(":")
+
+
+def _status(url: str) -> dict[str, dict]:
+    shown = _formdb(url, "review", "status", "--format", "json")
+    assert shown.exit_code == 0, shown.stderr
+    return {s["run_key"]: s for s in json.loads(shown.stdout)}
+
+
+def _runs(url: str) -> list[ReviewRun]:
+    engine = make_engine(url)
+    try:
+        with unit_of_work(engine) as session:
+            runs = list(session.scalars(select(ReviewRun).order_by(ReviewRun.id)))
+            session.expunge_all()
+            return runs
+    finally:
+        engine.dispose()
+
+
+def test_run_report_sign_edit_stale_rerun_sign(seeded_library_url: str, cream: Path) -> None:
+    url = seeded_library_url
+    first = _run(url, cream)
+    [run] = _runs(url)
+    assert run.run_key == first and run.run_hash.startswith(first) and len(run.run_hash) == 64
+    assert run.profile_name == "strict" and run.formula_name == NAME
+    assert run.formula_text == cream.read_text(encoding="utf-8")
+    records = {(r["kind"], r["key"]): r for r in json.loads(run.records_json)}
+    # every line's ingredient with its version, the Annex V/29 phenoxyethanol limit, the SCCS
+    # face cream exposure row and the phenoxyethanol NOAEL row were read by the check
+    assert records[("ingredient", "Glycerin")]["version"] == 1
+    assert records[("limit", "eu-v-29")]["values"]["max_percent"] == 1.0
+    assert ("exposure", "face cream") in records
+    assert ("toxicology", "phenoxyethanol-noael-rat-oral") in records
+    assert sum(1 for kind, _ in records if kind == "ingredient") == 12
+
+    report = _formdb(url, "review", "report", first, "--format", "json")
+    assert report.exit_code == 0, report.stderr
+    assert json.loads(report.stdout)["header"]["state"] == "current"
+
+    signed = _formdb(url, "review", "sign", first, "--meaning", "reviewed", "--as",
+                     "Dr. Ana Reviewer", "--comment", "first look")
+    assert signed.exit_code == 0, signed.stderr
+    edit = _formdb(url, "ingredient", "edit", "Glycerin", "--set", "density=1.27",
+                   "--source", "rule-of-thumb", "--reason", "remeasured", user="ed")
+    assert edit.exit_code == 0, edit.stderr
+
+    state = _status(url)[first]
+    assert state["state"] == "stale"
+    assert any(c.startswith("ingredient Glycerin: density '1.26' -> '1.27' by ed")
+               for c in state["changes"]), state["changes"]
+    assert [s["meaning"] for s in state["signatures"]] == ["reviewed"]
+    table = _formdb(url, "review", "status")
+    assert f"{first}  stale" in table.stdout and "density '1.26' -> '1.27'" in table.stdout
+
+    refused = _formdb(url, "review", "sign", first, "--meaning", "approved", "--as", "A. R.")
+    assert refused.exit_code == 2 and "Traceback" not in refused.stderr
+    assert refused.stderr.startswith(f"Error: run {first} is stale: ingredient Glycerin: density")
+
+    second = _run(url, cream)
+    assert second != first
+    assert _formdb(url, "review", "sign", second, "--meaning", "approved", "--as",
+                   "Dr. Ana Reviewer").exit_code == 0
+    states = _status(url)
+    assert states[first]["state"] == "superseded" and states[first]["superseded_by"] == second
+    assert states[second]["state"] == "current"
+    assert [(s["signer"], s["signed_by"], s["meaning"], s["run_hash"])
+            for s in states[second]["signatures"]] == [
+        ("Dr. Ana Reviewer", "ana", "approved", _runs(url)[1].run_hash)]
+    old = _formdb(url, "review", "sign", first, "--meaning", "approved", "--as", "A. R.")
+    assert old.exit_code == 2 and f"superseded by run {second}" in old.stderr
+
+
+def test_a_run_that_does_not_exist_is_refused(seeded_sqlite_url: str, cream: Path) -> None:
+    key = _run(seeded_sqlite_url, cream)
+    before = dump_database(seeded_sqlite_url)
+    typo = key[:-1] + ("0" if key[-1] != "0" else "1")
+    refused = _formdb(seeded_sqlite_url, "review", "sign", typo, "--meaning", "approved",
+                      "--as", "A. Reviewer")
+    assert refused.exit_code == 2 and "Traceback" not in refused.stderr
+    assert refused.stderr.startswith(f"Error: no review run '{typo}'.")
+    assert f"did you mean {key}?" in refused.stderr
+    assert dump_database(seeded_sqlite_url) == before
+
+
+def test_a_formula_file_changed_on_disk_makes_the_run_stale(seeded_sqlite_url: str,
+                                                             cream: Path) -> None:
+    key = _run(seeded_sqlite_url, cream)
+    cream.write_text(cream.read_text(encoding="utf-8").replace("percent = 72.4",
+                                                               "percent = 72.3"),
+                     encoding="utf-8")
+    [change] = _status(seeded_sqlite_url)[key]["changes"]
+    assert change.startswith(f"formula file {cream.resolve()} changed since the run")
+    refused = _formdb(seeded_sqlite_url, "review", "sign", key, "--meaning", "approved",
+                      "--as", "A. Reviewer")
+    assert refused.exit_code == 2 and "changed since the run" in refused.stderr
+
+
+def test_a_changed_limit_row_is_named_with_old_and_new(seeded_sqlite_url: str,
+                                                       cream: Path) -> None:
+    key = _run(seeded_sqlite_url, cream)
+    engine = make_engine(seeded_sqlite_url)
+    with engine.begin() as conn:
+        conn.execute(text("UPDATE limits SET max_percent = 0.5 WHERE key = 'eu-v-29'"))
+    engine.dispose()
+    state = _status(seeded_sqlite_url)[key]
+    assert state["state"] == "stale"
+    assert state["changes"] == ["limit eu-v-29: max_percent 1.0 -> 0.5"]
+
+
+def test_a_non_reviewer_is_refused_and_logged(seeded_sqlite_url: str, cream: Path) -> None:
+    url = seeded_sqlite_url
+    assert _formdb(url, "user", "add", "ada", "--role", "admin", user="ada").exit_code == 0
+    assert _formdb(url, "user", "add", "rita", "--role", "reviewer", user="ada").exit_code == 0
+    assert _formdb(url, "user", "add", "bo", "--role", "editor", user="ada").exit_code == 0
+    key = _run(url, cream, user="bo")  # storing a run needs no role: it only records a check
+    refused = _formdb(url, "review", "sign", key, "--meaning", "approved", "--as", "Bo",
+                      user="bo")
+    assert refused.exit_code == 2
+    assert refused.stderr.startswith("Error: bo may not sign runs: that needs the role reviewer.")
+    engine = make_engine(url)
+    try:
+        with unit_of_work(engine) as session:
+            assert session.scalars(select(ReviewSignature)).all() == []
+            logged = session.scalars(select(ChangeLogEntry).where(
+                ChangeLogEntry.action == "refused")).all()
+            assert [(e.user, e.field) for e in logged] == [("bo", "sign runs")]
+    finally:
+        engine.dispose()
+    allowed = _formdb(url, "review", "sign", key, "--meaning", "approved", "--as",
+                      "Rita Reviewer", user="rita")
+    assert allowed.exit_code == 0, allowed.stderr
+
+
+def test_bad_input_writes_nothing(seeded_sqlite_url: str, tmp_path: Path, cream: Path) -> None:
+    before = dump_database(seeded_sqlite_url)
+    wrong = tmp_path / "wrong.toml"
+    wrong.write_text(cream.read_text(encoding="utf-8").replace('"Glycerin"', '"Glycerine X"'),
+                     encoding="utf-8")
+    unknown = _formdb(seeded_sqlite_url, "review", "run", str(wrong))
+    assert unknown.exit_code == 2 and "unknown ingredient 'Glycerine X'" in unknown.stderr
+    missing = _formdb(seeded_sqlite_url, "review", "run", str(tmp_path / "none.toml"))
+    assert missing.exit_code == 2 and missing.stderr.startswith("Error: ")
+    assert dump_database(seeded_sqlite_url) == before
+    key = _run(seeded_sqlite_url, cream)
+    after_run = dump_database(seeded_sqlite_url)
+    assert after_run != before
+    meaning = _formdb(seeded_sqlite_url, "review", "sign", key, "--meaning", "ok", "--as", "X")
+    assert meaning.exit_code == 2
+    blank = _formdb(seeded_sqlite_url, "review", "sign", key, "--meaning", "approved",
+                    "--as", " ")
+    assert blank.exit_code == 2 and "printed name" in blank.stderr
+    assert dump_database(seeded_sqlite_url) == after_run
