@@ -31,6 +31,7 @@ from formdb.schemas.ingredient import IngredientRecord, name_key
 from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import CheckResult
 from formdb.services.access import Action, require
+from formdb.services.audit import append_sealed
 from formdb.services.checking import FormulaInput, input_from_text, read_inputs, resolve_all
 from formdb.services.formula_files import content_hash
 from formdb.store import queries
@@ -141,14 +142,14 @@ def _read(source: str, session: Session) -> FormulaInput:
     return read_inputs([Path(source)])[0]
 
 
-def _add(session: Session, row: Any) -> None:
-    try:
-        from formdb.services.audit import append_sealed
-    except ImportError:  # an older tree without the audit trail: the row goes in unsealed
-        session.add(row)
-        session.flush()
-    else:
-        append_sealed(session, row)
+RESULT_KEYS = ("formula", "source", "content_hash", "category", "product", "intended_type", "ph",
+               "profile", "facts", "findings")
+
+
+def stored_result(result_json: str) -> CheckResult:
+    """The CheckResult back from a run's contract JSON (numbers as the reports round them)."""
+    data = json.loads(result_json)
+    return CheckResult.model_validate({k: data[k] for k in RESULT_KEYS if k in data})
 
 
 def run_review(db_url: str, source: str, profile: Profile | str | None = None, *,
@@ -168,16 +169,17 @@ def run_review(db_url: str, source: str, profile: Profile | str | None = None, *
             resolved = resolve_all(session, [item])[0]
             result = check_resolved(resolved, reference, chosen)
             records = used_records(resolved, reference)
-            now = datetime.now(UTC).replace(microsecond=0)
+            now = datetime.now(UTC)
             findings = [f.model_dump(mode="json") for f in result.findings]
+            before = session.scalars(select(ReviewRun).where(
+                ReviewRun.formula_name == resolved.name).order_by(ReviewRun.id.desc())).first()
             content = {"formula_name": resolved.name, "formula_source": label,
                        "formula_hash": content_hash(item.text), "library_hash":
                        library_hash(records), "profile": [chosen.name, chosen.version],
                        "formdb_version": __version__, "created_at": now.isoformat(),
-                       "created_by": user, "findings": findings}
+                       "created_by": user, "findings": findings,
+                       "supersedes": before.run_hash if before else None}
             run_hash = _digest(content)
-            before = session.scalars(select(ReviewRun).where(
-                ReviewRun.formula_name == resolved.name).order_by(ReviewRun.id.desc())).first()
             run = ReviewRun(
                 run_key=run_hash[:12], run_hash=run_hash, formula_name=resolved.name,
                 formula_source=label, formula_hash=content["formula_hash"],
@@ -186,9 +188,9 @@ def run_review(db_url: str, source: str, profile: Profile | str | None = None, *
                 profile_name=chosen.name, profile_version=chosen.version,
                 formdb_version=__version__, created_at=now, created_by=user,
                 findings_json=json.dumps(findings, sort_keys=True, ensure_ascii=False),
-                result_json=result.model_dump_json(),
+                result_json=json.dumps(result.to_contract_json(), ensure_ascii=False),
                 supersedes_run_id=before.id if before else None)
-            _add(session, run)
+            append_sealed(session, run)
             counts = {s: sum(1 for f in result.findings if f.severity.value == s)
                       for s in ("error", "warning")}
             return RunSummary(run.run_key, run_hash, resolved.name,
@@ -377,7 +379,7 @@ def sign_run(db_url: str, key: str, meaning: str, signer: str, *, user: str,
             sig = ReviewSignature(run_id=run.id, run_hash=run.run_hash, signer=signer,
                                   signed_by=user, meaning=meaning, signed_at=now,
                                   comment=comment)
-            _add(session, sig)
+            append_sealed(session, sig)
             return SignatureInfo(signer, user, meaning, _stamp(now), comment, run.run_hash)
     finally:
         engine.dispose()
@@ -410,7 +412,7 @@ def filed_run(db_url: str, key: str) -> FiledRun:
             run = _find_run(session, key)
             reference = queries.load_reference_data(session)
             state = _state(session, run, _newer(session), reference)
-            result = CheckResult.model_validate_json(run.result_json)
+            result = stored_result(run.result_json)
             try:
                 resolved = resolve_all(session, [input_from_text(run.formula_text,
                                                                  run.formula_name)])[0]

@@ -194,3 +194,33 @@ def test_bad_input_writes_nothing(seeded_sqlite_url: str, tmp_path: Path, cream:
                     "--as", " ")
     assert blank.exit_code == 2 and "printed name" in blank.stderr
     assert dump_database(seeded_sqlite_url) == after_run
+
+
+def test_a_stored_formula_is_compared_with_its_stored_text(seeded_sqlite_url: str,
+                                                           cream: Path) -> None:
+    url = seeded_sqlite_url
+    assert _formdb(url, "formula", "import", str(cream)).exit_code == 0
+    key = _run(url, f"stored:{NAME}")
+    [run] = _runs(url)
+    assert run.formula_source == f"stored:{NAME}"
+    assert _status(url)[key]["state"] == "current"
+    cream.write_text(cream.read_text(encoding="utf-8").replace("percent = 72.4",
+                                                               "percent = 72.3"),
+                     encoding="utf-8")
+    assert _status(url)[key]["state"] == "current"  # the file is not what was reviewed
+    changed = _formdb(url, "formula", "import", str(cream), "--reason", "less water")
+    assert changed.exit_code == 0, changed.stderr
+    [change] = _status(url)[key]["changes"]
+    assert change.startswith(f"stored formula {NAME!r} changed since the run")
+    unknown = _formdb(url, "review", "run", "stored:No Such Cream")
+    assert unknown.exit_code == 2 and "no stored formula 'No Such Cream'" in unknown.stderr
+
+
+def test_runs_of_the_same_content_in_one_second_get_their_own_keys(seeded_sqlite_url: str,
+                                                                    cream: Path) -> None:
+    from formdb.services.review import run_review
+
+    keys = [run_review(seeded_sqlite_url, str(cream), user="ana").run_key for _ in range(3)]
+    assert len(set(keys)) == 3
+    runs = _runs(seeded_sqlite_url)
+    assert [r.supersedes_run_id for r in runs] == [None, runs[0].id, runs[1].id]
