@@ -35,11 +35,15 @@ def _limits(filed: Any) -> list[dict[str, Any]]:
         if rec["kind"] != "limit":
             continue
         v = rec["values"]
-        hit = flagged.get((v["list_name"], v["entry"]))
-        if hit is not None:
+        product = (v.get("product") or "").casefold()
+        applies = v["category"] in (category, "any") and (
+            not product or product == (filed.result.product or "").casefold())
+        hit = flagged.get((v["list_name"], v["entry"])) if applies else None
+        if not applies:
+            verdict = ("not applicable (" + (v.get("product") or f"{v['category']} only")
+                       + ")")
+        elif hit is not None:
             verdict = f"{hit.severity.value}: {hit.message}"
-        elif v["category"] not in (category, "any"):
-            verdict = f"not applicable ({v['category']} only)"
         else:
             verdict = "within the limit"
         rows.append({"cited": f"{v['jurisdiction']} {v['list_name']}, entry {v['entry']} "
