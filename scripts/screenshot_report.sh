@@ -3,6 +3,7 @@
 # look at its layout and escaping in a real browser engine.
 #
 # Usage: scripts/screenshot_report.sh REPORT.html OUT.png [WIDTHxHEIGHT]
+#        scripts/screenshot_report.sh REPORT.html OUT.pdf      (printed to A4 PDF, for filing)
 #   e.g. formdb review report RUN --format html --out /tmp/run.html
 #        scripts/screenshot_report.sh /tmp/run.html /tmp/run.png 1100x2600
 # CHROMIUM overrides the browser (default /usr/bin/chromium). The browser runs with a throw-away
@@ -23,12 +24,16 @@ if [[ ! -x "$browser" ]]; then
 fi
 profile=$(mktemp -d)
 trap 'rm -rf "$profile"' EXIT
+if [[ "$out" == *.pdf ]]; then
+  what=(--no-pdf-header-footer --print-to-pdf="$out")
+else
+  what=(--hide-scrollbars --window-size="${size/x/,}" --screenshot="$out")
+fi
 "$browser" --headless --no-sandbox --disable-gpu --disable-quic --no-first-run \
   --disable-background-networking --disable-component-update --disable-sync \
-  --user-data-dir="$profile" --hide-scrollbars --window-size="${size/x/,}" \
-  --screenshot="$out" "file://$report" >/dev/null 2>&1
+  --user-data-dir="$profile" "${what[@]}" "file://$report" >/dev/null 2>&1
 if [[ ! -s "$out" ]]; then
-  echo "$0: no screenshot written to $out" >&2
+  echo "$0: nothing written to $out" >&2
   exit 1
 fi
 echo "$out"

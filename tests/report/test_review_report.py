@@ -81,7 +81,7 @@ def test_html_escapes_a_script_in_the_formula_name(seeded_sqlite_url: str,
 
 
 @pytest.mark.skipif(not CHROMIUM.exists(), reason="no /usr/bin/chromium")
-def test_screenshot_script_renders_a_png(seeded_sqlite_url: str, tmp_path: Path) -> None:
+def test_screenshot_script_renders_a_png_and_a_pdf(seeded_sqlite_url: str, tmp_path: Path) -> None:
     formula = tmp_path / "cream.toml"
     shutil.copyfile(CREAM, formula)
     key = _signed_run(seeded_sqlite_url, formula)
@@ -91,3 +91,7 @@ def test_screenshot_script_renders_a_png(seeded_sqlite_url: str, tmp_path: Path)
                     "1000x1400"], check=True, timeout=120, capture_output=True)
     data = png.read_bytes()
     assert data[:8] == b"\x89PNG\r\n\x1a\n" and len(data) > 10_000
+    pdf = tmp_path / "report.pdf"  # the same script prints the filed copy to PDF
+    subprocess.run([str(ROOT / "scripts" / "screenshot_report.sh"), str(page), str(pdf)],
+                   check=True, timeout=120, capture_output=True)
+    assert pdf.read_bytes()[:5] == b"%PDF-"
