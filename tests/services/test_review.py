@@ -6,7 +6,9 @@ shows the printed name, date and time and meaning, and is linked to its record).
 The formula is the golden O/W day cream of the invented Larkspur Bench Laboratories on the
 bundled seed library; the replacement values the tests write (a glycerin density of 1.27, a
 phenoxyethanol limit of 0.5 %) are made up to provoke a change. The limit row it starts from is
-Regulation (EC) No 1223/2009 Annex V entry 29, phenoxyethanol 1 % (seed_data/limits.csv).
+Regulation (EC) No 1223/2009 Annex V entry 29, phenoxyethanol 1 % (seed_data/limits.csv); the
+face cream retention factor 1 is the SCCS Notes of Guidance's for a leave-on product, and the
+phenoxyethanol NOAEL of 357 mg/kg bw/day is the seed's (from memory, SCCS/1575/16).
 """
 
 from __future__ import annotations
@@ -139,16 +141,23 @@ def test_a_formula_file_changed_on_disk_makes_the_run_stale(seeded_sqlite_url: s
     assert refused.exit_code == 2 and "changed since the run" in refused.stderr
 
 
-def test_a_changed_limit_row_is_named_with_old_and_new(seeded_sqlite_url: str,
+def test_changed_reference_rows_are_named_with_old_and_new(seeded_sqlite_url: str,
                                                        cream: Path) -> None:
     key = _run(seeded_sqlite_url, cream)
     engine = make_engine(seeded_sqlite_url)
     with engine.begin() as conn:
         conn.execute(text("UPDATE limits SET max_percent = 0.5 WHERE key = 'eu-v-29'"))
+        conn.execute(text("UPDATE toxicology SET pod_value = 300 "
+                          "WHERE key = 'phenoxyethanol-noael-rat-oral'"))
+        conn.execute(text("UPDATE exposure SET retention_factor = 0.5 "
+                          "WHERE product = 'face cream'"))
     engine.dispose()
     state = _status(seeded_sqlite_url)[key]
     assert state["state"] == "stale"
-    assert state["changes"] == ["limit eu-v-29: max_percent 1.0 -> 0.5"]
+    assert state["changes"] == [
+        "exposure face cream: retention_factor 1.0 -> 0.5",
+        "limit eu-v-29: max_percent 1.0 -> 0.5",
+        "toxicology phenoxyethanol-noael-rat-oral: pod_value 357.0 -> 300.0"]
 
 
 def test_a_non_reviewer_is_refused_and_logged(seeded_sqlite_url: str, cream: Path) -> None:
