@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import json
+from collections.abc import Sequence
+from typing import Any
 
 import click
 
@@ -10,7 +12,7 @@ from formdb.cli.main import AppContext
 
 
 @click.command("impact")
-@click.argument("ingredient")
+@click.argument("ingredients", nargs=-1, required=True)
 @click.option("--since", default=None, metavar="VERSION|RUN",
               help="Compare with the ingredient at this version, or as this review run used "
                    "it (default: each formula's latest review run, else the version before the "
@@ -20,36 +22,51 @@ from formdb.cli.main import AppContext
 @click.option("--format", "fmt", type=click.Choice(["text", "json"]), default="text",
               show_default=True, help="Output format.")
 @click.pass_context
-def impact_cmd(ctx: click.Context, ingredient: str, since: str | None, profile: str | None,
-               fmt: str) -> None:
-    """Re-check every stored formula that uses INGREDIENT (by name, synonym or inside a mixture)
-    and list those whose verdict or findings changed, and the signed review runs now stale.
+def impact_cmd(ctx: click.Context, ingredients: tuple[str, ...], since: str | None,
+               profile: str | None, fmt: str) -> None:
+    """Re-check every stored formula that uses each INGREDIENT (by name, synonym or inside a
+    mixture) and list those whose verdict or findings changed, and the signed review runs now
+    stale. Give several names after an import (`formdb ingredient import --impact` does it).
     Exit 0 when nothing changed, 1 when something did, 2 when it could not be worked out."""
+    app: AppContext = ctx.obj
+    touched = show_impacts(app, ingredients, since=since, profile=profile, fmt=fmt)
+    ctx.exit(1 if touched else 0)
+
+
+def show_impacts(app: AppContext, ingredients: Sequence[str], *, since: str | None = None,
+                 profile: str | None = None, fmt: str = "text") -> bool:
+    """Print the impact of each ingredient; True when any formula or signed run is touched."""
     from formdb.services.impact import impact_of
 
-    app: AppContext = ctx.obj
-    report = impact_of(app.db, ingredient, since=since, profile=profile)
+    reports = [impact_of(app.db, name, since=since, profile=profile) for name in ingredients]
     if fmt == "json":
-        click.echo(json.dumps({
-            "ingredient": report.ingredient, "version": report.version,
-            "compared_version": report.baseline_version,
-            "latest_change": None if report.change is None else {
-                "version": report.change.version, "at": report.change.at.isoformat(),
-                "user": report.change.user, "fields": list(report.change.fields)},
-            "formulas": [{
-                "formula": f.formula, "via": list(f.via), "compared_with": f.compared_with,
-                "verdict_before": f.verdict_before, "verdict_now": f.verdict_now,
-                "verdict_changed": f.verdict_changed, "changed": f.changed,
-                "findings_added": [vars(k) for k in f.added],
-                "findings_gone": [vars(k) for k in f.gone]} for f in report.formulas],
-            "stale_runs": [{"run": r.run_key, "formula": r.formula,
-                            "used_version": r.used_version, "current_version": r.current_version,
-                            "signatures": list(r.signatures), "superseded": r.superseded}
-                           for r in report.stale_runs],
-            "notes": report.notes}, indent=2, ensure_ascii=False, default=str))
+        objects = [_json(report) for report in reports]
+        payload = objects[0] if len(objects) == 1 else objects
+        click.echo(json.dumps(payload, indent=2, ensure_ascii=False, default=str))
     else:
-        _text(report)
-    ctx.exit(1 if report.changed or report.stale_runs else 0)
+        for report in reports:
+            _text(report)
+    return any(report.changed or report.stale_runs for report in reports)
+
+
+def _json(report: Any) -> dict[str, Any]:
+    return {
+        "ingredient": report.ingredient, "version": report.version,
+        "compared_version": report.baseline_version,
+        "latest_change": None if report.change is None else {
+            "version": report.change.version, "at": report.change.at.isoformat(),
+            "user": report.change.user, "fields": list(report.change.fields)},
+        "formulas": [{
+            "formula": f.formula, "via": list(f.via), "compared_with": f.compared_with,
+            "verdict_before": f.verdict_before, "verdict_now": f.verdict_now,
+            "verdict_changed": f.verdict_changed, "changed": f.changed,
+            "findings_added": [vars(k) for k in f.added],
+            "findings_gone": [vars(k) for k in f.gone]} for f in report.formulas],
+        "stale_runs": [{"run": r.run_key, "formula": r.formula,
+                        "used_version": r.used_version, "current_version": r.current_version,
+                        "signatures": list(r.signatures), "superseded": r.superseded}
+                       for r in report.stale_runs],
+        "notes": report.notes}
 
 
 def _text(report: object) -> None:

@@ -249,8 +249,11 @@ def history_cmd(app: AppContext, name: str) -> None:
 @click.argument("file", type=click.Path(path_type=Path))
 @click.option("--dry-run", is_flag=True, help="Report what would change; write nothing.")
 @click.option("--reason", help="Why the table is imported (kept in the change log).")
+@click.option("--impact", "show_impact", is_flag=True,
+              help="Then re-check the stored formulas and signed runs the changed rows touch.")
 @click.pass_obj
-def import_cmd(app: AppContext, file: Path, dry_run: bool, reason: str | None) -> None:
+def import_cmd(app: AppContext, file: Path, dry_run: bool, reason: str | None,
+               show_impact: bool) -> None:
     """Import a CSV or XLSX ingredient table, all rows or none."""
     from formdb.services.ingredients import import_table
 
@@ -270,6 +273,10 @@ def import_cmd(app: AppContext, file: Path, dry_run: bool, reason: str | None) -
     click.echo(f"{len(report.added)} {would}added, {len(report.changed)} {would}changed, "
                f"{len(report.unchanged)} left alone"
                + (" (dry run: nothing was written)." if dry_run else "."))
+    if show_impact and report.changed and not dry_run:
+        from formdb.cli.impact import show_impacts
+
+        show_impacts(app, list(report.changed))
 
 
 @ingredient_group.command("export")

@@ -138,3 +138,22 @@ def test_a_mixture_containing_it_counts_as_a_use(seeded_library_url: str, tmp_pa
     assert "a mixture containing Sodium Benzoate" in item.via[0]
     # 1.24 % Parfum x 50 % = 0.62 % sodium benzoate: the same flip as the plain formulas
     assert item.verdict_before == "errors" and [k.rule for k in item.gone] == ["LIM01"]
+
+
+def test_import_with_impact_and_several_names(seeded_sqlite_url: str, tmp_path: Path) -> None:
+    # After a supplier table changes an ingredient, `import --impact` re-checks what it touches.
+    _formulas(seeded_sqlite_url, tmp_path)
+    table = tmp_path / "supplier.csv"
+    table.write_text("inci_name,molar_mass,molar_mass_source\n"
+                     "Sodium Benzoate,160,from-memory\n", encoding="utf-8")
+    imported = run_formdb(["--db", seeded_sqlite_url, "ingredient", "import", str(table),
+                           "--reason", "test: a wrong molar mass", "--impact"])
+    assert imported.exit_code == 0, imported.stderr
+    assert "Impact of Sodium Benzoate (now version 2)" in imported.stdout
+    assert "Larkspur toner A: VERDICT CHANGED errors -> warnings" in imported.stdout
+    both = run_formdb(["--db", seeded_sqlite_url, "impact", "Sodium Benzoate", "Phenoxyethanol",
+                       "--format", "json"])
+    assert both.exit_code == 1
+    data = json.loads(both.stdout)
+    assert [d["ingredient"] for d in data] == ["Sodium Benzoate", "Phenoxyethanol"]
+    assert [f["formula"] for f in data[1]["formulas"]] == ["Larkspur toner C"]
