@@ -31,9 +31,9 @@ def _json(url: str, *args: str) -> dict:
 # 11.79, so each target must come back as that ratio.
 @pytest.mark.parametrize(("target", "oleate", "polysorbate"),
                          [("11.79", 0.3, 0.7), ("12.86", 0.2, 0.8), ("13.93", 0.1, 0.9)])
-def test_published_two_emulsifier_ratios(seeded_sqlite_url: str, target: str, oleate: float,
+def test_published_two_emulsifier_ratios(seeded_library_url: str, target: str, oleate: float,
                                          polysorbate: float) -> None:
-    data = _json(seeded_sqlite_url, "--target", target, *SPAN80_TWEEN80)
+    data = _json(seeded_library_url, "--target", target, *SPAN80_TWEEN80)
     members = {m["inci"]: m for m in data["members"]}
     assert members["Sorbitan Oleate"]["hlb"] == pytest.approx(4.3)
     assert members["Polysorbate 80"]["hlb"] == pytest.approx(15.0)
@@ -43,8 +43,8 @@ def test_published_two_emulsifier_ratios(seeded_sqlite_url: str, target: str, ol
     assert "lever rule" in data["method"]
 
 
-def test_text_output_shows_the_ratio_and_the_hlb_sources(seeded_sqlite_url: str) -> None:
-    result = _blend(seeded_sqlite_url, "--target", "11.79", *SPAN80_TWEEN80, "--total", "5")
+def test_text_output_shows_the_ratio_and_the_hlb_sources(seeded_library_url: str) -> None:
+    result = _blend(seeded_library_url, "--target", "11.79", *SPAN80_TWEEN80, "--total", "5")
     assert result.exit_code == 0, result.stderr
     out = result.stdout
     assert "30.0 %" in out and "70.0 %" in out  # PMC4137601 Table 2, 7:3
@@ -52,19 +52,19 @@ def test_text_output_shows_the_ratio_and_the_hlb_sources(seeded_sqlite_url: str)
     assert "HLB sources:" in out and "Traceback" not in out
 
 
-def test_unreachable_target_states_the_range(seeded_sqlite_url: str) -> None:
-    before = dump_database(seeded_sqlite_url)
-    result = _blend(seeded_sqlite_url, "--target", "17", *SPAN80_TWEEN80)
+def test_unreachable_target_states_the_range(seeded_library_url: str) -> None:
+    before = dump_database(seeded_library_url)
+    result = _blend(seeded_library_url, "--target", "17", *SPAN80_TWEEN80)
     assert result.exit_code == 2
     lines = result.stderr.strip().splitlines()
     assert len(lines) == 1 and lines[0].startswith("Error: ")
     assert "4.3 to 15" in lines[0] and "17" in lines[0]
     assert result.stdout == ""
-    assert dump_database(seeded_sqlite_url) == before
+    assert dump_database(seeded_library_url) == before
 
 
-def test_unknown_emulsifier_suggests_names(seeded_sqlite_url: str) -> None:
-    result = _blend(seeded_sqlite_url, "--target", "10", "--using", "Sorbitan Olate",
+def test_unknown_emulsifier_suggests_names(seeded_library_url: str) -> None:
+    result = _blend(seeded_library_url, "--target", "10", "--using", "Sorbitan Olate",
                     "--using", "Polysorbate 80")
     assert result.exit_code == 2
     assert "did you mean" in result.stderr and "Sorbitan Oleate" in result.stderr
@@ -87,19 +87,19 @@ def _emulsifier_without_hlb(url: str) -> str | None:
     return names[0] if names else None
 
 
-def test_emulsifier_without_hlb_is_named(seeded_sqlite_url: str) -> None:
-    name = _emulsifier_without_hlb(seeded_sqlite_url)
+def test_emulsifier_without_hlb_is_named(seeded_library_url: str) -> None:
+    name = _emulsifier_without_hlb(seeded_library_url)
     if name is None:
         pytest.skip("every seed emulsifier has an HLB")
-    result = _blend(seeded_sqlite_url, "--target", "10", "--using", name,
+    result = _blend(seeded_library_url, "--target", "10", "--using", name,
                     "--using", "Polysorbate 80")
     assert result.exit_code == 2
     lines = result.stderr.strip().splitlines()
     assert len(lines) == 1 and name in lines[0] and "no HLB" in lines[0]
 
 
-def test_ingredient_without_hlb_and_unknown_name_give_two_lines(seeded_sqlite_url: str) -> None:
-    result = _blend(seeded_sqlite_url, "--target", "10", "--using", "Aqua", "--using",
+def test_ingredient_without_hlb_and_unknown_name_give_two_lines(seeded_library_url: str) -> None:
+    result = _blend(seeded_library_url, "--target", "10", "--using", "Aqua", "--using",
                     "Polysorbat 80x", "--using", "Polysorbate 80")
     assert result.exit_code == 2
     lines = result.stderr.strip().splitlines()
@@ -107,14 +107,14 @@ def test_ingredient_without_hlb_and_unknown_name_give_two_lines(seeded_sqlite_ur
     assert "Aqua" in lines[0] and "no HLB" in lines[0] and "unknown" in lines[1]
 
 
-def test_one_using_is_a_usage_error(seeded_sqlite_url: str) -> None:
-    result = _blend(seeded_sqlite_url, "--target", "10", "--using", "Polysorbate 80")
+def test_one_using_is_a_usage_error(seeded_library_url: str) -> None:
+    result = _blend(seeded_library_url, "--target", "10", "--using", "Polysorbate 80")
     assert result.exit_code == 2 and "--using" in result.stderr
 
 
-def test_three_emulsifiers_least_change_from_equal_shares(seeded_sqlite_url: str) -> None:
+def test_three_emulsifiers_least_change_from_equal_shares(seeded_library_url: str) -> None:
     names = ["Sorbitan Oleate", "Sorbitan Stearate", "Polysorbate 80"]
-    data = _json(seeded_sqlite_url, "--target", "10", *[a for n in names for a in ("--using", n)])
+    data = _json(seeded_library_url, "--target", "10", *[a for n in names for a in ("--using", n)])
     hlbs = np.array([m["hlb"] for m in data["members"]])
     got = np.array([m["fraction"] for m in data["members"]])
     # Outside check: the least-squares correction of the equal shares s onto the two equality
@@ -143,10 +143,10 @@ WANGPRADIT_LINES = [("Aqua", 82.0), ("Isopropyl Myristate", 15.0), ("Polysorbate
                     ("Sorbitan Stearate", 1.5)]
 
 
-def test_file_with_target_reproduces_the_published_split(seeded_sqlite_url: str,
+def test_file_with_target_reproduces_the_published_split(seeded_library_url: str,
                                                          tmp_path: Path) -> None:
     path = _formula(tmp_path, WANGPRADIT_LINES, intended_type="O/W")
-    data = _json(seeded_sqlite_url, str(path), "--target", "10.33")
+    data = _json(seeded_library_url, str(path), "--target", "10.33")
     members = {m["inci"]: m for m in data["members"]}
     assert data["total_percent"] == pytest.approx(3.0)
     assert members["Polysorbate 80"]["percent"] == pytest.approx(1.64, abs=0.005)
@@ -154,13 +154,13 @@ def test_file_with_target_reproduces_the_published_split(seeded_sqlite_url: str,
     assert members["Polysorbate 80"]["present_percent"] == pytest.approx(1.5)
 
 
-def test_file_solves_for_the_required_hlb_as_check_does(seeded_sqlite_url: str,
+def test_file_solves_for_the_required_hlb_as_check_does(seeded_library_url: str,
                                                         tmp_path: Path) -> None:
     path = _formula(tmp_path, WANGPRADIT_LINES, intended_type="O/W")
-    checked = run_formdb(["--db", seeded_sqlite_url, "check", str(path), "--format", "json"])
+    checked = run_formdb(["--db", seeded_library_url, "check", str(path), "--format", "json"])
     facts = json.loads(checked.stdout)
     solution = facts["facts"]["blend_solution"]
-    data = _json(seeded_sqlite_url, str(path))
+    data = _json(seeded_library_url, str(path))
     assert data["target"] == pytest.approx(facts["required_hlb"], abs=1e-2)
     assert "required HLB (O/W, intended)" in data["target_from"]
     by_name = {m["inci"]: m["percent"] for m in data["members"]}
@@ -173,27 +173,27 @@ def test_file_solves_for_the_required_hlb_as_check_does(seeded_sqlite_url: str,
     assert data["blend_hlb"] == pytest.approx(data["target"], abs=1e-2)
 
 
-def test_file_without_required_hlb_exits_2(seeded_sqlite_url: str, tmp_path: Path) -> None:
+def test_file_without_required_hlb_exits_2(seeded_library_url: str, tmp_path: Path) -> None:
     path = _formula(tmp_path, [("Aqua", 95.0), ("Polysorbate 80", 3.0),
                                ("Sorbitan Oleate", 2.0)])
-    result = _blend(seeded_sqlite_url, str(path))
+    result = _blend(seeded_library_url, str(path))
     assert result.exit_code == 2
     assert str(path) in result.stderr and "required HLB" in result.stderr
     assert "Traceback" not in result.stderr
 
 
-def test_file_whose_emulsifiers_cannot_reach_exits_2(seeded_sqlite_url: str,
+def test_file_whose_emulsifiers_cannot_reach_exits_2(seeded_library_url: str,
                                                      tmp_path: Path) -> None:
     path = _formula(tmp_path, [("Aqua", 80.0), ("Isopropyl Myristate", 15.0),
                                ("Sorbitan Oleate", 2.5), ("Sorbitan Stearate", 2.5)],
                     intended_type="O/W")
-    result = _blend(seeded_sqlite_url, str(path))
+    result = _blend(seeded_library_url, str(path))
     assert result.exit_code == 2
     assert "cannot be reached" in result.stderr and "4.3 to 4.7" in result.stderr
 
 
-def test_file_and_using_together_is_a_usage_error(seeded_sqlite_url: str,
+def test_file_and_using_together_is_a_usage_error(seeded_library_url: str,
                                                   tmp_path: Path) -> None:
     path = _formula(tmp_path, WANGPRADIT_LINES)
-    result = _blend(seeded_sqlite_url, str(path), *SPAN80_TWEEN80)
+    result = _blend(seeded_library_url, str(path), *SPAN80_TWEEN80)
     assert result.exit_code == 2 and "not both" in result.stderr

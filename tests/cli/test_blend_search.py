@@ -50,10 +50,10 @@ def _search(url: str, *args: str) -> dict:
 
 
 @pytest.mark.parametrize("target", ["6", "10.5", "20"])
-def test_search_returns_only_compatible_pairs_in_range(seeded_sqlite_url: str,
+def test_search_returns_only_compatible_pairs_in_range(seeded_library_url: str,
                                                       target: str) -> None:
-    records, rows = _library(seeded_sqlite_url)
-    data = _search(seeded_sqlite_url, "--target", target, "--total", "5", "--top", "100")
+    records, rows = _library(seeded_library_url)
+    data = _search(seeded_library_url, "--target", target, "--total", "5", "--top", "100")
     assert data["candidates"], "some pair reaches every target tested"
     for pair in data["candidates"]:
         low, high = records[pair["low"]["inci"]], records[pair["high"]["inci"]]
@@ -68,34 +68,34 @@ def test_search_returns_only_compatible_pairs_in_range(seeded_sqlite_url: str,
         assert blend == pytest.approx(float(target), abs=2e-2)
 
 
-def test_a_known_incompatible_pair_is_left_out(seeded_sqlite_url: str) -> None:
-    records, rows = _library(seeded_sqlite_url)
+def test_a_known_incompatible_pair_is_left_out(seeded_library_url: str) -> None:
+    records, rows = _library(seeded_library_url)
     gelatin, sls = records.get("Gelatin"), records.get("Sodium Lauryl Sulfate")
     if gelatin is None or sls is None:
         pytest.skip("the seed library no longer holds both Gelatin and Sodium Lauryl Sulfate")
     assert _clash(gelatin, sls, rows)
-    data = _search(seeded_sqlite_url, "--target", "20", "--total", "5", "--top", "100")
+    data = _search(seeded_library_url, "--target", "20", "--total", "5", "--top", "100")
     pairs = {(p["low"]["inci"], p["high"]["inci"]) for p in data["candidates"]}
     assert ("Gelatin", "Sodium Lauryl Sulfate") not in pairs
     assert data["excluded_incompatible"] >= 1
 
 
-def test_search_for_a_formula_uses_its_required_hlb(seeded_sqlite_url: str,
+def test_search_for_a_formula_uses_its_required_hlb(seeded_library_url: str,
                                                     tmp_path: Path) -> None:
     path = tmp_path / "lotion.toml"
     path.write_text(formula_toml("Larkspur LB-960", [
         ("Aqua", 80.0), ("Isopropyl Myristate", 16.0), ("Polysorbate 80", 2.0),
         ("Sorbitan Oleate", 2.0)], intended_type="O/W"), encoding="utf-8")
-    checked = json.loads(run_formdb(["--db", seeded_sqlite_url, "check", str(path),
+    checked = json.loads(run_formdb(["--db", seeded_library_url, "check", str(path),
                                      "--format", "json"]).stdout)
-    data = _search(seeded_sqlite_url, str(path))
+    data = _search(seeded_library_url, str(path))
     assert data["target"] == pytest.approx(checked["required_hlb"], abs=1e-2)
     assert data["total_percent"] == pytest.approx(4.0)  # the formula's own emulsifier total
     assert len(data["candidates"]) <= 10
 
 
-def test_text_output_prints_at_most_ten_pairs(seeded_sqlite_url: str) -> None:
-    result = run_formdb(["--db", seeded_sqlite_url, "blend", "--search", "--target", "11"])
+def test_text_output_prints_at_most_ten_pairs(seeded_library_url: str) -> None:
+    result = run_formdb(["--db", seeded_library_url, "blend", "--search", "--target", "11"])
     assert result.exit_code == 0, result.stderr
     assert "The best 10:" in result.stdout and "Ranked:" in result.stdout
     table = result.stdout.split("The best 10:")[1].split("Ranked:")[0]
@@ -103,8 +103,8 @@ def test_text_output_prints_at_most_ten_pairs(seeded_sqlite_url: str) -> None:
     assert ranks == list(range(1, 11))
 
 
-def test_search_needs_a_target_or_a_file(seeded_sqlite_url: str) -> None:
-    result = run_formdb(["--db", seeded_sqlite_url, "blend", "--search"])
+def test_search_needs_a_target_or_a_file(seeded_library_url: str) -> None:
+    result = run_formdb(["--db", seeded_library_url, "blend", "--search"])
     assert result.exit_code == 2 and "--target" in result.stderr
 
 

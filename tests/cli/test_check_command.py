@@ -33,37 +33,37 @@ def _check(url: str, *args: str):
     return run_formdb(["--db", url, "check", *args])
 
 
-def test_clean_formula_exits_0(seeded_sqlite_url: str, tmp_path: Path) -> None:
+def test_clean_formula_exits_0(seeded_library_url: str, tmp_path: Path) -> None:
     path = _file(tmp_path, "clean.toml", "Larkspur LB-901 hand cream", CLEAN)
-    result = _check(seeded_sqlite_url, str(path))
+    result = _check(seeded_library_url, str(path))
     assert result.exit_code == 0, result.stdout + result.stderr
     assert "Larkspur LB-901 hand cream" in result.stdout
     assert "0 errors" in result.stdout
     assert result.stderr == ""
 
 
-def test_error_finding_exits_1(seeded_sqlite_url: str, tmp_path: Path) -> None:
+def test_error_finding_exits_1(seeded_library_url: str, tmp_path: Path) -> None:
     path = _file(tmp_path, "over.toml", "Larkspur LB-902 hand cream", OVER_LIMIT)
-    result = _check(seeded_sqlite_url, str(path), "--format", "json")
+    result = _check(seeded_library_url, str(path), "--format", "json")
     assert result.exit_code == 1, result.stdout + result.stderr
     data = json.loads(result.stdout)
     errors = [f for f in data["findings"] if f["severity"] == "error"]
     assert any("Phenoxyethanol" in f["ingredients"] for f in errors), errors
 
 
-def test_check_writes_nothing_to_the_library(seeded_sqlite_url: str, tmp_path: Path) -> None:
-    before = dump_database(seeded_sqlite_url)
-    _check(seeded_sqlite_url, str(_file(tmp_path, "a.toml", "Larkspur LB-903", CLEAN)))
-    assert dump_database(seeded_sqlite_url) == before
+def test_check_writes_nothing_to_the_library(seeded_library_url: str, tmp_path: Path) -> None:
+    before = dump_database(seeded_library_url)
+    _check(seeded_library_url, str(_file(tmp_path, "a.toml", "Larkspur LB-903", CLEAN)))
+    assert dump_database(seeded_library_url) == before
 
 
-def test_out_writes_the_report_and_prints_one_line(seeded_sqlite_url: str,
+def test_out_writes_the_report_and_prints_one_line(seeded_library_url: str,
                                                    tmp_path: Path) -> None:
     clean = _file(tmp_path, "clean.toml", "Larkspur LB-904", CLEAN)
     over = _file(tmp_path, "over.toml", "Larkspur LB-905", OVER_LIMIT)
     for fmt in ("text", "json", "html"):
         out = tmp_path / f"report.{fmt}"
-        result = _check(seeded_sqlite_url, str(clean), str(over), "--format", fmt,
+        result = _check(seeded_library_url, str(clean), str(over), "--format", fmt,
                         "--out", str(out))
         assert result.exit_code == 1  # one of the two has an error finding
         assert len(result.stdout.strip().splitlines()) == 1
@@ -75,49 +75,49 @@ def test_out_writes_the_report_and_prints_one_line(seeded_sqlite_url: str,
     assert not list(tmp_path.glob("*.part"))
 
 
-def test_several_files_give_a_json_array_in_order(seeded_sqlite_url: str,
+def test_several_files_give_a_json_array_in_order(seeded_library_url: str,
                                                   tmp_path: Path) -> None:
     paths = [_file(tmp_path, f"f{i}.toml", f"Larkspur LB-91{i}", CLEAN) for i in range(3)]
-    result = _check(seeded_sqlite_url, *map(str, paths), "--format", "json")
+    result = _check(seeded_library_url, *map(str, paths), "--format", "json")
     assert result.exit_code == 0
     data = json.loads(result.stdout)
     assert [d["formula"] for d in data] == ["Larkspur LB-910", "Larkspur LB-911",
                                             "Larkspur LB-912"]
 
 
-def test_all_checks_the_stored_formulas(seeded_sqlite_url: str, tmp_path: Path) -> None:
+def test_all_checks_the_stored_formulas(seeded_library_url: str, tmp_path: Path) -> None:
     stored = _file(tmp_path, "stored.toml", "Larkspur LB-920 stored cream", OVER_LIMIT)
-    imported = run_formdb(["--db", seeded_sqlite_url, "formula", "import", str(stored)])
+    imported = run_formdb(["--db", seeded_library_url, "formula", "import", str(stored)])
     assert imported.exit_code == 0, imported.stderr
     loose = _file(tmp_path, "loose.toml", "Larkspur LB-921 loose cream", CLEAN)
-    result = _check(seeded_sqlite_url, "--all", "--format", "json")
+    result = _check(seeded_library_url, "--all", "--format", "json")
     assert result.exit_code == 1
     data = json.loads(result.stdout)
     data = data if isinstance(data, list) else [data]
     assert [d["formula"] for d in data] == ["Larkspur LB-920 stored cream"]
     assert data[0]["source"] == "stored:Larkspur LB-920 stored cream"
-    both = _check(seeded_sqlite_url, str(loose), "--all", "--format", "json")
+    both = _check(seeded_library_url, str(loose), "--all", "--format", "json")
     assert [d["formula"] for d in json.loads(both.stdout)] == [
         "Larkspur LB-921 loose cream", "Larkspur LB-920 stored cream"]
 
 
-def test_all_on_an_empty_library_says_so(seeded_sqlite_url: str) -> None:
-    result = _check(seeded_sqlite_url, "--all")
+def test_all_on_an_empty_library_says_so(seeded_library_url: str) -> None:
+    result = _check(seeded_library_url, "--all")
     assert result.exit_code == 0
     assert "No stored formulas" in result.stdout
 
 
-def test_strict_profile_is_named_in_the_report(seeded_sqlite_url: str, tmp_path: Path) -> None:
+def test_strict_profile_is_named_in_the_report(seeded_library_url: str, tmp_path: Path) -> None:
     path = _file(tmp_path, "clean.toml", "Larkspur LB-930", CLEAN)
-    result = _check(seeded_sqlite_url, str(path), "--profile", "strict", "--format", "json")
+    result = _check(seeded_library_url, str(path), "--profile", "strict", "--format", "json")
     assert result.exit_code in (0, 1), result.stderr
     assert json.loads(result.stdout)["profile"]["name"] == "strict"
 
 
-def test_text_report_names_the_limit_lists_and_their_dates(seeded_sqlite_url: str,
+def test_text_report_names_the_limit_lists_and_their_dates(seeded_library_url: str,
                                                            tmp_path: Path) -> None:
     path = _file(tmp_path, "clean.toml", "Larkspur LB-940", CLEAN)
-    result = _check(seeded_sqlite_url, str(path))
+    result = _check(seeded_library_url, str(path))
     flat = " ".join(result.stdout.split()).replace("| ", "")
     # the seed's EU lists carry their dates (seed_data/limits.csv, column list_date)
     assert "Regulation (EC) No 1223/2009 Annex V as of 20" in flat

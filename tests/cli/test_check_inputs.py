@@ -59,12 +59,12 @@ CASES = ["missing file", "not TOML", "unknown ingredient", "negative percent",
 
 @pytest.mark.parametrize("fmt", ["text", "json"])
 @pytest.mark.parametrize("case", CASES)
-def test_bad_input_exits_2_with_one_line(case: str, fmt: str, seeded_sqlite_url: str,
+def test_bad_input_exits_2_with_one_line(case: str, fmt: str, seeded_library_url: str,
                                          tmp_path: Path) -> None:
     path, fragment = _bad_files(tmp_path)[case]
     out = tmp_path / "report.out"
-    before = dump_database(seeded_sqlite_url)
-    result = run_formdb(["--db", seeded_sqlite_url, "check", str(path), "--format", fmt,
+    before = dump_database(seeded_library_url)
+    result = run_formdb(["--db", seeded_library_url, "check", str(path), "--format", fmt,
                          "--out", str(out)])
     assert result.exit_code == 2, result
     lines = result.stderr.strip().splitlines()
@@ -74,24 +74,24 @@ def test_bad_input_exits_2_with_one_line(case: str, fmt: str, seeded_sqlite_url:
     assert "Traceback" not in result.stderr + result.stdout
     assert result.stdout == ""
     assert not out.exists()
-    assert dump_database(seeded_sqlite_url) == before
+    assert dump_database(seeded_library_url) == before
 
 
-def test_unknown_ingredient_names_the_row_and_suggests(seeded_sqlite_url: str,
+def test_unknown_ingredient_names_the_row_and_suggests(seeded_library_url: str,
                                                        tmp_path: Path) -> None:
     path, _ = _bad_files(tmp_path)["unknown ingredient"]
-    result = run_formdb(["--db", seeded_sqlite_url, "check", str(path)])
+    result = run_formdb(["--db", seeded_library_url, "check", str(path)])
     assert result.exit_code == 2
     assert "ingredients row 2" in result.stderr and "'Polysorbate 8O'" in result.stderr
     assert "Polysorbate 80" in result.stderr.split("did you mean", 1)[1]
 
 
-def test_every_bad_file_is_reported_and_no_good_file_is_checked(seeded_sqlite_url: str,
+def test_every_bad_file_is_reported_and_no_good_file_is_checked(seeded_library_url: str,
                                                                 tmp_path: Path) -> None:
     files = _bad_files(tmp_path)
     good = _good(tmp_path)
     paths = [good, files["negative percent"][0], files["unknown key"][0]]
-    result = run_formdb(["--db", seeded_sqlite_url, "check", *map(str, paths)])
+    result = run_formdb(["--db", seeded_library_url, "check", *map(str, paths)])
     assert result.exit_code == 2
     lines = result.stderr.strip().splitlines()
     assert len(lines) == 2, result.stderr
@@ -99,25 +99,25 @@ def test_every_bad_file_is_reported_and_no_good_file_is_checked(seeded_sqlite_ur
     assert result.stdout == ""  # the good file was read but nothing was checked or printed
 
 
-def test_two_unknown_names_give_two_lines(seeded_sqlite_url: str, tmp_path: Path) -> None:
+def test_two_unknown_names_give_two_lines(seeded_library_url: str, tmp_path: Path) -> None:
     path = _write(tmp_path, "two.toml", formula_toml(
         "Larkspur two typos", [("Aqua", 80.0), ("Glycerine oil", 5.0), ("Paraffinium", 15.0)]))
-    result = run_formdb(["--db", seeded_sqlite_url, "check", str(path)])
+    result = run_formdb(["--db", seeded_library_url, "check", str(path)])
     assert result.exit_code == 2
     lines = result.stderr.strip().splitlines()
     assert len(lines) == 2 and "row 2" in lines[0] and "row 3" in lines[1]
 
 
-def test_unknown_profile_exits_2(seeded_sqlite_url: str, tmp_path: Path) -> None:
-    result = run_formdb(["--db", seeded_sqlite_url, "check", str(_good(tmp_path)),
+def test_unknown_profile_exits_2(seeded_library_url: str, tmp_path: Path) -> None:
+    result = run_formdb(["--db", seeded_library_url, "check", str(_good(tmp_path)),
                          "--profile", "no-such-profile"])
     assert result.exit_code == 2
     assert result.stderr.startswith("Error: ") and "Traceback" not in result.stderr
     assert result.stdout == ""
 
 
-def test_no_file_and_no_all_is_a_usage_error(seeded_sqlite_url: str) -> None:
-    result = run_formdb(["--db", seeded_sqlite_url, "check"])
+def test_no_file_and_no_all_is_a_usage_error(seeded_library_url: str) -> None:
+    result = run_formdb(["--db", seeded_library_url, "check"])
     assert result.exit_code == 2
     assert "--all" in result.stderr
 

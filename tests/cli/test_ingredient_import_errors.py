@@ -19,8 +19,8 @@ from tests.helpers import dump_database, run_formdb
 
 
 @pytest.fixture
-def library(sqlite_url: str) -> str:
-    return build_library(sqlite_url)
+def library(library_url: str) -> str:
+    return build_library(library_url)
 
 
 def _import(url: str, path: Path, *extra: str) -> tuple[int, list[str], str]:
