@@ -10,7 +10,12 @@ from pathlib import Path
 from typing import Any
 
 from formdb.schemas.formula import FormulaFile, ResolvedFormula, ResolvedLine
-from formdb.schemas.ingredient import IngredientProperties, IngredientRecord, name_key
+from formdb.schemas.ingredient import (
+    IngredientProperties,
+    IngredientRecord,
+    Provenance,
+    name_key,
+)
 from formdb.schemas.reference import (
     Constituent,
     ExposureRecord,
@@ -23,7 +28,7 @@ from formdb.schemas.reference import (
 )
 
 HERE = Path(__file__).resolve().parent
-_RECORD_KEYS = {"inci", "synonyms", "roles", "classes"}
+_RECORD_KEYS = {"inci", "synonyms", "roles", "classes", "evidence"}
 
 
 @lru_cache(maxsize=1)
@@ -40,7 +45,9 @@ def ingredients() -> dict[str, IngredientRecord]:
         record = IngredientRecord(
             id=number, inci_name=row["inci"], synonyms=tuple(row.get("synonyms", ())),
             roles=frozenset(row.get("roles", ())), classes=frozenset(row.get("classes", ())),
-            properties=props)
+            properties=props, provenance={
+                prop: Provenance(source=f"fixture-{kind.replace(' ', '-')}", evidence=kind)
+                for prop, kind in row.get("evidence", {}).items()})
         for name in (record.inci_name, *record.synonyms):
             key = name_key(name)
             assert key not in out, f"library.toml: {name!r} appears twice"

@@ -38,7 +38,7 @@ def test_strict_severity_override_applies_to_every_finding_of_the_rule() -> None
     gaps_strict = [f for f in strict.findings if f.rule == "GAP01"]
     assert gaps_default and all(f.severity == Severity.INFO for f in gaps_default)
     assert len(gaps_strict) == len(gaps_default)
-    assert all(f.severity == Severity.WARNING for f in gaps_strict)
+    assert all(f.severity == Severity.ERROR for f in gaps_strict)
     assert strict.profile.name == "strict" and strict.facts.settings.hlb_tolerance == 0.5
 
 

@@ -1,0 +1,80 @@
+"""EVD01: a number the check relies on is not verified (from memory, or a rule of thumb)."""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Mapping
+from typing import Any
+
+from formdb.rules.base import Option, Rule
+from formdb.rules.registry import register
+from formdb.schemas.findings import Finding
+from formdb.schemas.formula import ResolvedFormula
+from formdb.schemas.reference import ReferenceData
+from formdb.schemas.result import FormulaFacts
+from formdb.schemas.vocab import Evidence, Severity
+
+_SEVERITIES = ("off", *(s.value for s in Severity))
+
+# The properties the facts and rules compute with. Typical use ranges are left out: they are
+# experience by nature and USE01 only advises on them.
+CHECKED_PROPERTIES = (
+    "hlb", "required_hlb_ow", "required_hlb_wo", "solubility", "ionic_character", "density",
+    "ph_min", "ph_max", "electrolyte_sensitive", "molar_mass", "base_equivalents",
+    "cation_valence", "neutralisation_water", "viscosity_mpas")
+
+
+@register
+class UnverifiedValue(Rule):
+    """A value the check computes with is recalled from memory or is a rule of thumb.
+
+    Flags: for each formula line, the library values among those the check uses (HLB, required
+    HLB, solubility, ionic character, density, pH window, electrolyte sensitivity, molar mass,
+    base equivalents, cation valence, viscosity) whose evidence is "from memory" or "rule of
+    thumb"; one finding per ingredient and kind of evidence, naming the properties.
+    Why: a reviewer signs a formula off on its numbers; a value nobody checked against a
+    published source or a supplier's certificate is an open item before a trial, however
+    plausible it looks (regulatory.md: every default and unverified value must be shown).
+    Fails: Polysorbate 80 whose solubility is recorded "from memory".
+    Passes: Polysorbate 80 whose HLB 15.0 cites HPE6 Table IX (published).
+    Options: from_memory_severity (default "info"; the strict profile makes it "error") and
+    rule_of_thumb_severity (default "info"; strict: "warning"); "off" silences one kind.
+    """
+
+    code = "EVD01"
+    name = "unverified-value"
+    groups = ("data", "review")
+    default_severity = Severity.INFO
+    options = {
+        "from_memory_severity": Option(str, "info", "severity of values from memory",
+                                       _SEVERITIES),
+        "rule_of_thumb_severity": Option(str, "info", "severity of rule-of-thumb values",
+                                         _SEVERITIES),
+    }
+
+    def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,
+              options: Mapping[str, Any]) -> Iterable[Finding]:
+        kinds = ((Evidence.FROM_MEMORY, options["from_memory_severity"]),
+                 (Evidence.RULE_OF_THUMB, options["rule_of_thumb_severity"]))
+        seen: set[int] = set()
+        for ln in formula.lines:
+            ing = ln.ingredient
+            if ing.id in seen:
+                continue
+            seen.add(ing.id)
+            for evidence, severity in kinds:
+                if severity == "off":
+                    continue
+                props = [p for p in CHECKED_PROPERTIES
+                         if getattr(ing.p, p) is not None and p in ing.provenance
+                         and ing.provenance[p].evidence == evidence]
+                if not props:
+                    continue
+                yield self.finding(
+                    Severity(severity),
+                    f"{ing.inci_name}: {', '.join(props)} rest on values recorded as "
+                    f"{evidence.value} (not verified against a source)",
+                    ingredients=[ing.inci_name],
+                    values={"evidence": evidence.value, "properties": ", ".join(props)},
+                    advice=f"verify {', '.join(props)} of {ing.inci_name} against a published "
+                           "source or the supplier's certificate and record it (`formdb "
+                           "ingredient edit` with --source and --reason)")
