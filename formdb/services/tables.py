@@ -132,9 +132,14 @@ def _read_csv(path: Path, raw: bytes) -> list[list[str]]:
         delimiter = ","
     # The widest record sets the column count, so ragged rows are read (and reported), not fatal.
     width = max((len(r) for r in csv.reader(io.StringIO(text), delimiter=delimiter)), default=1)
-    frame = pd.read_csv(
-        path, header=None, names=range(width), dtype=str, keep_default_na=False,
-        skip_blank_lines=False, sep=delimiter, encoding="utf-8-sig", engine="python")
+    try:
+        frame = pd.read_csv(
+            path, header=None, names=range(width), dtype=str, keep_default_na=False,
+            skip_blank_lines=False, sep=delimiter, encoding="utf-8-sig", engine="python")
+    except (pd.errors.ParserError, csv.Error) as exc:  # e.g. a quote that never closes
+        raise_problems([Problem(str(path), f"not a readable CSV table ({exc}); check for a "
+                                "quote that is opened and never closed")])
+        raise  # pragma: no cover - raise_problems always raises here
     return frame.fillna("").values.tolist()
 
 

@@ -34,8 +34,8 @@ NUMBERS = ["nan", "NaN", "inf", "-inf", "1e308", "1e999", "-1e999", "-3", "0", "
 
 
 @pytest.fixture
-def library(sqlite_url: str) -> str:
-    return build_library(sqlite_url)
+def library(library_url: str) -> str:
+    return build_library(library_url)
 
 
 def _clean(result: CliResult) -> None:
@@ -75,6 +75,15 @@ def test_wrong_encoding_names_the_file(library: str, tmp_path: Path) -> None:
                      .encode("utf-16"))
     result = _refused_unchanged(library, ["ingredient", "import", str(path)])
     assert result.exit_code == 2 and str(path) in result.stderr
+
+
+def test_unclosed_quote_is_a_located_error(library: str, tmp_path: Path) -> None:
+    # found by the random-bytes test: a lone '"' made pandas' parser fail
+    path = tmp_path / "quote.csv"
+    path.write_bytes(b'inci_name,hlb,source\n"Sorbitan Oleate,4.3,rule-of-thumb\n')
+    result = _refused_unchanged(library, ["ingredient", "import", str(path)])
+    assert result.exit_code == 2 and str(path) in result.stderr
+    assert "internal problem" not in result.stderr
 
 
 @_settings(30)
