@@ -6,16 +6,22 @@ the CLI turns each one into a single ``Error: ...`` line plus a next step, and e
 
 from __future__ import annotations
 
+from collections.abc import Sequence
+
 
 class FormdbError(Exception):
     """Base of every problem formdb reports to a user; ``hint`` is the next step to suggest."""
 
     exit_code = 2
 
-    def __init__(self, message: str, hint: str | None = None) -> None:
+    def __init__(self, message: str, hint: str | None = None,
+                 problems: Sequence[str] | None = None) -> None:
         super().__init__(message)
         self.message = message
         self.hint = hint
+        # every problem, one line each (an import table or several files may carry many);
+        # the CLI prints one ``Error:`` line per entry
+        self.problems: list[str] = list(problems) if problems else [message]
 
     def __str__(self) -> str:
         return self.message
@@ -23,6 +29,11 @@ class FormdbError(Exception):
 
 class InvalidData(FormdbError):
     """Input that breaks a data rule: a bad value, a missing field, a malformed file."""
+
+    @classmethod
+    def of(cls, problems: Sequence[str], hint: str | None = None) -> InvalidData:
+        """One error carrying several problems; its message is the first."""
+        return cls(problems[0], hint=hint, problems=problems)
 
 
 class NotFound(FormdbError):

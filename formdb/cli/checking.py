@@ -40,24 +40,6 @@ def write_report(path: Path, text: str) -> None:
                           hint="choose a folder you can write to") from None
 
 
-def read_every_file(paths: Sequence[Path]) -> list[Any]:
-    """Read and validate every file first; all problems of all files in one error."""
-    from formdb.services.checking import read_inputs
-
-    items, problems, hint = [], [], None
-    for path in paths:
-        try:
-            items.extend(read_inputs([path]))
-        except InvalidData as exc:
-            problems.extend(getattr(exc, "problems", None) or [exc.message])
-            hint = hint or exc.hint
-    if problems:
-        error = InvalidData(problems[0], hint=hint)
-        error.problems = problems  # type: ignore[attr-defined]
-        raise error
-    return items
-
-
 def summary_line(results: Sequence[Any], out: Path) -> str:
     counts = {s: sum(1 for r in results for f in r.findings if f.severity.value == s)
               for s in ("error", "warning", "info")}
@@ -86,13 +68,13 @@ def check_cmd(ctx: click.Context, files: tuple[Path, ...], all_stored: bool, pro
     """
     from formdb.report import ListSnapshot, render
     from formdb.rules.profiles import load_profile
-    from formdb.services.checking import check_inputs, iter_check_stored
+    from formdb.services.checking import check_inputs, iter_check_stored, read_inputs
     from formdb.services.report_context import limit_snapshots
 
     app: AppContext = ctx.obj
     if not files and not all_stored:
         raise click.UsageError("give one or more formula FILEs, or --all")
-    items = read_every_file(files)
+    items = read_inputs(files)
     chosen = load_profile(profile)
     snapshots = [ListSnapshot(*row) for row in limit_snapshots(app.db, chosen)]
     if fmt == "jsonl" or (all_stored and fmt != "html"):

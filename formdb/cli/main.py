@@ -84,8 +84,7 @@ def _sentence(text: str) -> str:
 def error_lines(exc: FormdbError) -> list[str]:
     """One ``Error:`` line per problem (an import table or several formula files may carry
     many, in ``problems``); the next step rides on the last line."""
-    problems = [str(p) for p in (getattr(exc, "problems", None) or [])] or [exc.message]
-    lines = [f"Error: {_sentence(p)}" for p in problems]
+    lines = [f"Error: {_sentence(str(p))}" for p in exc.problems]
     if exc.hint:
         lines[-1] += f" Next: {_sentence(exc.hint)}"
     return lines

@@ -131,9 +131,7 @@ def _unknown_line(session: Session, name: str) -> str:
 
 
 def _raise(problems: list[str], hint: str) -> None:
-    error = InvalidData(problems[0], hint=hint)
-    error.problems = problems  # type: ignore[attr-defined]
-    raise error
+    raise InvalidData.of(problems, hint=hint)
 
 
 def resolve_emulsifiers(session: Session, names: Sequence[str]) -> list[IngredientRecord]:

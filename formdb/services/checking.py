@@ -8,10 +8,11 @@ never touch it.
 from __future__ import annotations
 
 import csv
-from collections.abc import Iterable, Iterator
+from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass
 from functools import lru_cache
 from pathlib import Path
+from typing import Any
 
 from sqlalchemy.orm import Session
 
@@ -57,13 +58,14 @@ def _check_product(formula: FormulaFile, label: str) -> None:
 
 
 def read_inputs(paths: Iterable[Path]) -> list[FormulaInput]:
-    """Read and validate every file before anything is checked (all-or-nothing input)."""
-    inputs = []
-    for path in paths:
+    """Read and validate every file before anything is checked (all-or-nothing input); the
+    problems of every file are reported together."""
+    def read(path: Path) -> FormulaInput:
         formula, text = read_formula_file(path)
         _check_product(formula, str(path))
-        inputs.append(FormulaInput(formula, text, str(path)))
-    return inputs
+        return FormulaInput(formula, text, str(path))
+
+    return _every_item(read, paths)
 
 
 def input_from_text(text: str, label: str) -> FormulaInput:
@@ -88,10 +90,8 @@ def resolve(item: FormulaInput, found: dict[str, IngredientRecord],
         lines.append(ResolvedLine(line_no=number, given_name=line.inci, percent=line.percent,
                                   phase=line.phase, ingredient=record))
     if problems:
-        error = InvalidData(problems[0], hint="add the ingredient to the library "
-                            "(`formdb ingredient add`) or correct the name")
-        error.problems = problems  # type: ignore[attr-defined]
-        raise error
+        raise InvalidData.of(problems, hint="add the ingredient to the library "
+                             "(`formdb ingredient add`) or correct the name")
     return ResolvedFormula(source=item.label, formula=item.formula, lines=tuple(lines),
                            content_hash=content_hash(item.text))
 
@@ -112,18 +112,22 @@ def resolve_all(session: Session, items: list[FormulaInput],
         if wanted:
             known.update(queries.find_ingredients(session, wanted))
         found = known
-    resolved, problems, hint = [], [], None
+    return _every_item(lambda item: resolve(item, found, session), items)
+
+
+def _every_item(step: Callable[[Any], Any], items: Iterable[Any]) -> list[Any]:
+    """``step`` over every item; the problems of all items are raised together, so a run over
+    several files names every bad line at once and nothing goes on with half of them."""
+    done, problems, hint = [], [], None
     for item in items:
         try:
-            resolved.append(resolve(item, found, session))
-        except InvalidData as exc:  # keep going: report unknown names of every file at once
-            problems.extend(getattr(exc, "problems", None) or [exc.message])
-            hint = exc.hint
+            done.append(step(item))
+        except InvalidData as exc:
+            problems.extend(exc.problems)
+            hint = hint or exc.hint
     if problems:
-        error = InvalidData(problems[0], hint=hint)
-        error.problems = problems  # type: ignore[attr-defined]
-        raise error
-    return resolved
+        raise InvalidData.of(problems, hint=hint)
+    return done
 
 
 def check_inputs(db_url: str, items: list[FormulaInput],

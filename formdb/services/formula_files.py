@@ -62,10 +62,8 @@ def parse_formula_text(text: str, label: str) -> FormulaFile:
     try:
         return FormulaFile.model_validate(data)
     except ValidationError as exc:
-        problems = validation_problems(label, exc)
-        error = InvalidData(problems[0], hint="correct the formula file and check again")
-        error.problems = problems  # type: ignore[attr-defined]
-        raise error from None
+        raise InvalidData.of(validation_problems(label, exc),
+                             hint="correct the formula file and check again") from None
 
 
 def read_formula_file(path: Path) -> tuple[FormulaFile, str]:

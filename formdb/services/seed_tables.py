@@ -37,8 +37,8 @@ class SeedProblems(InvalidData):
         if more > 0:
             shown += f"; and {more} more"
         shown = shown if shown.endswith(".") else shown + "."
-        super().__init__(shown, hint="correct the seed file; nothing was written")
-        self.problems = list(problems)
+        super().__init__(shown, hint="correct the seed file; nothing was written",
+                         problems=problems)
 
 
 def _where(label: str, row: int | None, column: str | None) -> str:

@@ -60,8 +60,7 @@ class TableProblems(InvalidData):
     def __init__(self, problems: Sequence[str], hint: str | None = None) -> None:
         if not problems:
             raise ValueError("TableProblems needs at least one problem")
-        super().__init__(problems[0], hint)
-        self.problems: list[str] = list(problems)
+        super().__init__(problems[0], hint, problems=problems)
 
 
 def raise_problems(problems: Sequence[Problem], hint: str | None = None) -> None:
