@@ -41,12 +41,12 @@ def write_report(path: Path, text: str) -> None:
 
 
 def summary_line(results: Sequence[Any], out: Path) -> str:
-    counts = {s: sum(1 for r in results for f in r.findings if f.severity.value == s)
-              for s in ("error", "warning", "info")}
-    failing = sum(1 for r in results if r.has_errors)
-    return (f"{len(results)} formula(s) checked, {failing} with errors "
-            f"({counts['error']} error, {counts['warning']} warning, {counts['info']} info "
-            f"findings); report written to {out}")
+    from formdb.report.stream import Tally
+
+    tally = Tally()
+    for result in results:
+        tally.add(result)
+    return f"{tally.line()}; report written to {out}"
 
 
 @click.command("check")

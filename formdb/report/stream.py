@@ -30,8 +30,8 @@ class Tally:
     def add(self, result: CheckResult) -> None:
         self.formulas += 1
         self.failing += result.has_errors
-        for finding in result.findings:
-            self.counts[finding.severity.value] += 1
+        for severity, count in result.severity_counts().items():
+            self.counts[severity] += count
 
     def line(self) -> str:
         return (f"{self.formulas} formula(s) checked, {self.failing} with errors "
@@ -83,8 +83,7 @@ class StreamReport:
 
     def _write_text(self, result: CheckResult) -> None:
         facts = result.facts
-        per = {s: sum(1 for f in result.findings if f.severity.value == s)
-               for s in ("error", "warning", "info")}
+        per = result.severity_counts()
         kind = facts.predicted_type.value if facts.predicted_type else "?"
         name = result.formula if len(result.formula) <= 48 else result.formula[:45] + "..."
         self.out.write(f"{name:<48} {kind:<4} {_number(facts.blend_hlb, 1):>6} "

@@ -78,10 +78,6 @@ def finding_groups(findings: tuple[Finding, ...]) -> tuple[FindingGroup, ...]:
     return tuple(groups)
 
 
-def severity_counts(result: CheckResult) -> dict[str, int]:
-    return {s.value: sum(1 for f in result.findings if f.severity == s) for s in Severity}
-
-
 def verdict(counts: dict[str, int]) -> tuple[str, str]:
     """A one-line summary of the findings and its flag (bad, warn, ok)."""
     text = (f"{n.count(counts['error'], 'error')}, {n.count(counts['warning'], 'warning')}, "
@@ -114,7 +110,7 @@ def header_lines(result: CheckResult) -> tuple[Line, ...]:
 
 def formula_view(result: CheckResult) -> FormulaView:
     """Every section of the report on one formula, in reading order."""
-    counts = severity_counts(result)
+    counts = result.severity_counts()
     text, flag = verdict(counts)
     facts = result.facts
     sections = tuple(s for s in (

@@ -15,7 +15,7 @@ from typing import Any, Literal
 from pydantic import BaseModel, ConfigDict, Field
 
 from formdb.schemas.findings import Finding
-from formdb.schemas.vocab import Category, EmulsionType, IonicCharacter, Solubility
+from formdb.schemas.vocab import Category, EmulsionType, IonicCharacter, Severity, Solubility
 
 PhaseName = Literal["oil", "water", "none"]
 
@@ -353,6 +353,13 @@ class CheckResult(_Frozen):
     @property
     def predicted_type(self) -> EmulsionType | None:
         return self.facts.predicted_type
+
+    def severity_counts(self) -> dict[str, int]:
+        """How many findings of each severity ({"error": n, "warning": n, "info": n})."""
+        counts = {s.value: 0 for s in Severity}
+        for finding in self.findings:
+            counts[finding.severity.value] += 1
+        return counts
 
     @property
     def has_errors(self) -> bool:

@@ -60,8 +60,7 @@ class DemoRun:
         """One line per formula: type, HLB balance, dispersed fraction and what was found."""
         lines = ["", "Summary (default profile):"]
         for path, result in zip(self._files, self.results, strict=True):
-            counts = {s: sum(1 for f in result.findings if f.severity.value == s)
-                      for s in ("error", "warning", "info")}
+            counts = result.severity_counts()
             facts = result.facts
             blend = "-" if facts.blend_hlb is None else f"{facts.blend_hlb:.1f}"
             need = "-" if facts.required_hlb is None else f"{facts.required_hlb:.1f}"

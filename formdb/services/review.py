@@ -191,8 +191,7 @@ def run_review(db_url: str, source: str, profile: Profile | str | None = None, *
                 result_json=json.dumps(result.to_contract_json(), ensure_ascii=False),
                 supersedes_run_id=before.id if before else None)
             append_sealed(session, run)
-            counts = {s: sum(1 for f in result.findings if f.severity.value == s)
-                      for s in ("error", "warning")}
+            counts = result.severity_counts()
             return RunSummary(run.run_key, run_hash, resolved.name,
                               verdict(result, chosen.name), counts["error"], counts["warning"],
                               len(open_items(result, chosen.name)), len(records),
