@@ -28,6 +28,7 @@ from formdb.services.formula_files import content_hash, parse_formula_text
 from formdb.services.setup import init_library
 from formdb.store.db import open_library, sqlite_path, unit_of_work
 from formdb.store.models import ChangeLogEntry, Source, StoredFormula
+from formdb.store.sealing import append_rows
 
 BENCH_USER = "formdb-bench"
 FORMULA_FOLDER = "synthetic-bench"  # the folder the import reason names, as if imported from files
@@ -137,7 +138,7 @@ def add_formulas(url: str, plan: LibraryPlan, start: int = 1, user: str = BENCH_
 def _insert(session: Session, batch: list[tuple[dict[str, Any], dict[str, Any]]]) -> int:
     if batch:
         session.execute(insert(StoredFormula), [row for row, _log in batch])
-        session.execute(insert(ChangeLogEntry), [log for _row, log in batch])
+        append_rows(session, ChangeLogEntry.__table__, [log for _row, log in batch])
     return len(batch)
 
 

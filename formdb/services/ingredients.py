@@ -61,6 +61,7 @@ from formdb.store.models import (
     PropertyValue,
     Source,
 )
+from formdb.store.sealing import append_rows
 
 ENTITY = "ingredient"
 # Source keys every library understands, created on first use when its sources table lacks them.
@@ -498,9 +499,11 @@ def _insert_chunk(session: Session, batch: Sequence[tuple[IngredientIn, list[Fie
              "entity_version": 1, "action": action, "field": change.field,
              "old_value": change.old or None, "new_value": change.new or None, "reason": reason}
             for change in changes]
+    log = rows.pop(ChangeLogEntry)
     for model, values in rows.items():
         if values:
             session.execute(insert(model.__table__), values)  # type: ignore[attr-defined]
+    append_rows(session, ChangeLogEntry.__table__, log)  # type: ignore[arg-type]
 
 
 def export_table(session: Session, path: Path, *, role: str | None = None,

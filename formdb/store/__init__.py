@@ -1,5 +1,5 @@
-"""Storage: SQLAlchemy models, engine and session factory, queries. Knows nothing of rules."""
+"""Storage: SQLAlchemy models, the Library (engine and units of work), queries.
 
-from formdb.store import sealing as _sealing
-
-_sealing.install()  # every session seals the change log and review records (formdb.store.sealing)
+Knows nothing of rules. Importing it changes nothing outside formdb: the audit trail's sealing
+hooks listen to formdb's own session class (formdb.store.sealing.LibrarySession).
+"""

@@ -25,6 +25,7 @@ from sqlalchemy.pool import StaticPool
 
 from formdb.errors import ConfigError, Conflict, FormdbError, SchemaOutdated
 from formdb.resources import migrations_dir
+from formdb.store.sealing import LibrarySession
 
 if TYPE_CHECKING:  # alembic is imported where a command migrates, not to open a library
     from alembic.config import Config
@@ -325,7 +326,7 @@ def open_library(url: str) -> Engine:
 
 # --- unit of work -------------------------------------------------------------------------------
 
-def _translate(exc: BaseException, engine: Engine) -> FormdbError | None:
+def translate_failure(exc: BaseException, engine: Engine) -> FormdbError | None:
     """The FormdbError a database failure that is not a bug stands for, or None."""
     if isinstance(exc, StaleDataError):
         return Conflict("someone else changed this record while you were working on it.",
@@ -346,13 +347,13 @@ def unit_of_work(engine: Engine, *, write: bool = False) -> Iterator[Session]:
     bugs (a busy file, a concurrent edit) become FormdbErrors so the CLI prints one line.
     """
     bind = engine.execution_options(**{WRITE_LOCK: True}) if write else engine
-    session = Session(bind, expire_on_commit=False)
+    session = LibrarySession(bind, expire_on_commit=False)
     try:
         yield session
         session.commit()
     except BaseException as exc:
         session.rollback()
-        problem = _translate(exc, engine)
+        problem = translate_failure(exc, engine)
         if problem is not None:
             raise problem from exc
         raise
@@ -369,7 +370,7 @@ def upgraded_unit_of_work(engine: Engine) -> Iterator[Session]:
 
         with _migration_connection(engine) as conn:
             command.upgrade(alembic_config(conn), "head")
-            session = Session(bind=conn, expire_on_commit=False)
+            session = LibrarySession(bind=conn, expire_on_commit=False)
             try:
                 yield session
                 session.flush()
@@ -378,7 +379,7 @@ def upgraded_unit_of_work(engine: Engine) -> Iterator[Session]:
     except FormdbError:
         raise
     except BaseException as exc:
-        problem = _translate(exc, engine)
+        problem = translate_failure(exc, engine)
         if problem is not None:
             raise problem from exc
         raise

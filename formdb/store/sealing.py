@@ -6,11 +6,13 @@ in a fixed order, each value as text (timestamps in ISO 8601 UTC), and ``prev_ha
 ``row_hash`` of the row before it (``GENESIS`` for the first row). Editing, removing or slipping
 in a row with plain SQL then breaks the chain, which ``formdb audit verify`` reports.
 
-Sealing happens in two session hooks registered once, on every Session, when formdb.store is
-imported, so no call site can forget it:
+Sealing happens on formdb's own session class, ``LibrarySession`` (every unit of work of a
+``formdb.store.library.Library`` is one), never on SQLAlchemy's ``Session`` itself, so other code
+in the same process is untouched:
 - ``before_flush``: new ORM instances of a sealed table get their id, prev_hash and row_hash;
-- ``do_orm_execute``: a Core ``insert(table)`` run through the session gets the same, row by row;
-  an UPDATE or DELETE of a sealed table through the session is refused (append-only).
+- ``append_rows(session, table, rows)``: plain dicts inserted in bulk, sealed the same way;
+- ``do_orm_execute``: any other INSERT, and every UPDATE or DELETE, of a sealed table through a
+  LibrarySession is refused (append-only; a bulk insert must come through ``append_rows``).
 Ids are given here, not by the database, because the hash covers the id and the row must be
 complete when it is inserted (writers may INSERT the log but never UPDATE it, see grant-setup).
 
@@ -29,7 +31,7 @@ from collections.abc import Iterable, Mapping, Sequence
 from datetime import UTC, date, datetime
 from typing import Any
 
-from sqlalchemy import event, text
+from sqlalchemy import Table, event, insert, inspect, text
 from sqlalchemy.orm import ORMExecuteState, Session, UOWTransaction
 
 from formdb.errors import FormdbError
@@ -51,6 +53,11 @@ SEALED_COLUMNS: dict[str, tuple[str, ...]] = {
 }
 _WRITE_LOCK_ID = 0x666462_6C6F67  # pg_advisory_xact_lock key shared by every formdb writer
 _LOCKED = "formdb_sealing_locked_tx"
+_APPENDING = "formdb_sealed_append"  # execution option set only by append_rows
+
+
+class LibrarySession(Session):
+    """formdb's session: the only one the sealing hooks listen to."""
 
 
 class AppendOnly(FormdbError):
@@ -145,6 +152,18 @@ def _seal_rows(session: Session, table: str, rows: list[dict[str, Any]]) -> None
 
 # --- the hooks -----------------------------------------------------------------------------------
 
+def append_rows(session: Session, table: Table, rows: Sequence[dict[str, Any]]) -> None:
+    """Insert ``rows`` (plain dicts, in chain order) into a sealed table, sealed onto its chain."""
+    if table.name not in SEALED_COLUMNS:
+        raise ValueError(f"{table.name} is not a sealed table")
+    if not rows:
+        return
+    session.flush()  # pending ORM rows first, so ids and links follow the call order
+    sealed = [dict(row) for row in rows]
+    _seal_rows(session, table.name, sealed)
+    session.execute(insert(table), sealed, execution_options={_APPENDING: True})
+
+
 def _table_of(obj: object) -> str | None:
     table = getattr(type(obj), "__table__", None)
     name = getattr(table, "name", None)
@@ -164,6 +183,10 @@ def _orm_values(obj: Any, table: str) -> dict[str, Any]:
     return values
 
 
+def _insert_order(obj: object) -> int:
+    return inspect(obj).insert_order or 0
+
+
 def _before_flush(session: Session, _flush: UOWTransaction, _instances: Iterable[Any]) -> None:
     if not (session.new or session.dirty or session.deleted):
         return
@@ -179,7 +202,7 @@ def _before_flush(session: Session, _flush: UOWTransaction, _instances: Iterable
         if table is not None:
             pending.setdefault(table, []).append(obj)
     for table, objs in pending.items():
-        objs.sort(key=lambda o: o._sa_instance_state.insert_order)
+        objs.sort(key=_insert_order)
         rows = [_orm_values(o, table) for o in objs]
         _seal_rows(session, table, rows)
         for obj, row in zip(objs, rows, strict=True):
@@ -190,33 +213,26 @@ def _before_flush(session: Session, _flush: UOWTransaction, _instances: Iterable
 
 def _on_execute(state: ORMExecuteState) -> None:
     if not (state.is_insert or state.is_update or state.is_delete):
-        return None
+        return
+    if state.execution_options.get(_APPENDING):
+        return  # append_rows sealed these rows itself
     state.session.flush()  # pending ORM rows first, so ids and links follow the call order
     lock_for_write(state.session)
-    table = getattr(getattr(state.statement, "table", None), "name", None)
+    target = getattr(state.statement, "table", None)
+    table = getattr(target, "name", None)
     if table not in SEALED_COLUMNS:
-        return None
-    if not state.is_insert:
-        raise AppendOnly(f"{table} is append-only: a sealed row is never changed or removed.",
-                         hint="record a new row instead")
-    stmt: Any = state.statement
-    if getattr(stmt, "_values", None) or getattr(stmt, "_multi_values", None) \
-            or getattr(stmt, "select", None) is not None:
-        raise AppendOnly(f"rows of {table} must be inserted with parameters (a list of dicts) "
-                         "so that they can be sealed.", hint="pass the rows to execute()")
-    given = state.parameters
-    rows = [dict(p) for p in (given if isinstance(given, list) else [given or {}])]
-    _seal_rows(state.session, table, rows)
-    return state.invoke_statement(params=rows)  # type: ignore[return-value]
+        return
+    if state.is_insert:
+        raise AppendOnly(f"rows of {table} are added through formdb.store.sealing.append_rows "
+                         "(or as ORM objects) so that they are sealed.",
+                         hint="pass the rows to append_rows()")
+    raise AppendOnly(f"{table} is append-only: a sealed row is never changed or removed.",
+                     hint="record a new row instead")
 
 
-def install() -> None:
-    """Register the hooks on every Session (idempotent)."""
-    if not event.contains(Session, "before_flush", _before_flush):
-        event.listen(Session, "before_flush", _before_flush)
-    if not event.contains(Session, "do_orm_execute", _on_execute):
-        event.listen(Session, "do_orm_execute", _on_execute)
+event.listen(LibrarySession, "before_flush", _before_flush)
+event.listen(LibrarySession, "do_orm_execute", _on_execute)
 
 
-__all__ = ["GENESIS", "SEALED_COLUMNS", "AppendOnly", "as_text", "canonical", "chain_head",
-           "install", "lock_for_write", "row_hash", "seal", "utc"]
+__all__ = ["GENESIS", "SEALED_COLUMNS", "AppendOnly", "LibrarySession", "append_rows", "as_text",
+           "canonical", "chain_head", "lock_for_write", "row_hash", "seal", "utc"]

@@ -29,6 +29,7 @@ from formdb.services.ingredients import (
 from formdb.services.tables import TableProblems
 from formdb.store.db import make_engine, unit_of_work
 from formdb.store.models import ChangeLogEntry, Ingredient
+from formdb.store.sealing import LibrarySession
 from tests.fixtures.tables.library_setup import SETUP_USER, build_library
 from tests.helpers import dump_database
 
@@ -127,7 +128,7 @@ def test_concurrent_edit_becomes_a_conflict_not_an_overwrite(library: str) -> No
     """Two people load version 1; the second save must fail (optimistic lock)."""
     engine = make_engine(library)
     try:
-        slow = Session(engine, expire_on_commit=False)
+        slow = LibrarySession(engine, expire_on_commit=False)
         stale = slow.scalars(select(Ingredient).where(Ingredient.inci_name == "Glycerin")).one()
         slow.commit()  # the object keeps version 1 in the slow session's identity map
         assert stale.version == 1

@@ -1,0 +1,112 @@
+"""The Library: one open library, its engine, and the units of work every service runs in.
+
+A command opens its library once (``Library.open``) and hands the object to the services it
+calls. Each service asks for ``library.read()`` or ``library.write()``. The first unit opened
+on a Library is the command's transaction; a unit opened inside it joins it, so every number a
+command reports comes from one state of the library:
+
+- ``read()``: one consistent snapshot. On PostgreSQL the transaction is REPEATABLE READ and READ
+  ONLY (every statement sees the snapshot of the first); on SQLite a deferred read transaction
+  in WAL mode sees the file as it was at its first read.
+- ``write()``: one transaction, committed when the outermost unit ends, rolled back on any
+  exception. On SQLite the write lock is taken at BEGIN so writers queue instead of failing.
+
+A write inside a read is refused (a bug, not bad input): a command that writes opens a write
+unit at the top. The sealing hooks of the audit trail live on ``LibrarySession``, formdb's own
+session class, so other SQLAlchemy code in the same process is untouched.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+from contextlib import AbstractContextManager, contextmanager
+from typing import ClassVar
+
+from sqlalchemy import Engine
+from sqlalchemy.orm import Session
+
+from formdb.store.db import WRITE_LOCK, display_url, open_library, translate_failure
+from formdb.store.sealing import LibrarySession
+
+READ_SNAPSHOT = {"isolation_level": "REPEATABLE READ", "postgresql_readonly": True}
+
+
+class Library:
+    """An open formdb library (a SQLite file or a PostgreSQL database at the newest schema)."""
+
+    opened: ClassVar[int] = 0  # how many libraries this process opened (tests count it)
+
+    def __init__(self, engine: Engine, *, owns_engine: bool = True) -> None:
+        self.engine = engine
+        self._owns_engine = owns_engine
+        self._session: Session | None = None
+        self._writing = False
+        self.transactions = 0  # outermost units run on this Library (tests count it)
+
+    @classmethod
+    def open(cls, url: str) -> Library:
+        """Open the library at ``url``; SchemaOutdated when it is missing or not at head."""
+        library = cls(open_library(url))
+        Library.opened += 1
+        return library
+
+    @property
+    def url(self) -> str:
+        """Where the library is, as it may be shown (password hidden)."""
+        return display_url(self.engine.url)
+
+    @property
+    def dialect(self) -> str:
+        return self.engine.dialect.name
+
+    def read(self) -> AbstractContextManager[Session]:
+        """A unit that only reads: one consistent snapshot (joins the open unit, if any)."""
+        return self._unit(write=False)
+
+    def write(self) -> AbstractContextManager[Session]:
+        """A unit that writes: one transaction (joins an open write unit)."""
+        return self._unit(write=True)
+
+    @contextmanager
+    def _unit(self, *, write: bool) -> Iterator[Session]:
+        if self._session is not None:
+            if write and not self._writing:
+                raise RuntimeError("a write unit was opened inside a read unit; open the "
+                                   "command's unit with write() at the top")
+            yield self._session
+            return
+        if write:
+            bind = self.engine.execution_options(**{WRITE_LOCK: True})
+        elif self.dialect == "postgresql":
+            bind = self.engine.execution_options(**READ_SNAPSHOT)
+        else:
+            bind = self.engine
+        session = LibrarySession(bind, expire_on_commit=False)
+        self._session, self._writing = session, write
+        self.transactions += 1
+        try:
+            yield session
+            session.commit()
+        except BaseException as exc:
+            session.rollback()
+            problem = translate_failure(exc, self.engine)
+            if problem is not None:
+                raise problem from exc
+            raise
+        finally:
+            self._session, self._writing = None, False
+            session.close()
+
+    def close(self) -> None:
+        if self._owns_engine:
+            self.engine.dispose()
+
+    def __enter__(self) -> Library:
+        return self
+
+    def __exit__(self, *_exc: object) -> None:
+        self.close()
+
+    def __repr__(self) -> str:
+        return f"Library({self.url!r})"
+
