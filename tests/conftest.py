@@ -138,3 +138,12 @@ def seeded_pg_url(pg_server: str, _seeded_pg_template: str) -> Iterator[str]:
 def seeded_library_url(request: pytest.FixtureRequest) -> str:
     name = "seeded_sqlite_url" if request.param == "sqlite" else "seeded_pg_url"
     return request.getfixturevalue(name)
+
+
+@pytest.fixture(autouse=True)
+def _close_opened_libraries() -> Iterator[None]:
+    """Dispose of the Libraries a test opened with tests.libraries.opened."""
+    from tests.libraries import close_all
+
+    yield
+    close_all()

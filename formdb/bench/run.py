@@ -175,8 +175,9 @@ def _startup_command(url: str, formula: Path) -> tuple[list[str], str]:
         return argv, "python -m formdb check FILE"
     script = ("import sys; from pathlib import Path; "
               "from formdb.services.checking import check_files; "
-              "from formdb.report import render; "
-              "print(render(check_files(sys.argv[1], [Path(sys.argv[2])]), 'text'))")
+              "from formdb.report import render; from formdb.store.library import Library; "
+              "print(render(check_files(Library.open(sys.argv[1]), [Path(sys.argv[2])]), "
+              "'text'))")
     return ([sys.executable, "-c", script, url, str(formula)],
             "check_files + report.render (the check CLI failed: "
             f"{(done.stderr.strip().splitlines() or ['no message'])[-1][:120]})")

@@ -32,11 +32,14 @@ def check_all(url: str) -> dict[str, Any]:
     from formdb.schemas.vocab import Severity
     from formdb.services.checking import iter_check_stored
 
+    from formdb.store.library import Library
+
     count = errors = findings = 0
-    for result in iter_check_stored(url):
-        count += 1
-        findings += len(result.findings)
-        errors += any(f.severity == Severity.ERROR for f in result.findings)
+    with Library.open(url) as library:
+        for result in iter_check_stored(library):
+            count += 1
+            findings += len(result.findings)
+            errors += any(f.severity == Severity.ERROR for f in result.findings)
     return {"formulas": count, "with_error_findings": errors, "findings": findings}
 
 

@@ -3,10 +3,14 @@
 from __future__ import annotations
 
 import json
+from typing import TYPE_CHECKING
 
 import click
 
-from formdb.cli.main import AppContext
+from formdb.cli.main import AppContext, with_library
+
+if TYPE_CHECKING:
+    from formdb.store.library import Library
 
 
 @click.group("audit")
@@ -17,14 +21,13 @@ def audit_group() -> None:
 @audit_group.command("verify")
 @click.option("--format", "fmt", type=click.Choice(["text", "json"]), default="text",
               show_default=True, help="Output format.")
-@click.pass_context
-def verify_cmd(ctx: click.Context, fmt: str) -> None:
+@with_library
+def verify_cmd(app: AppContext, library: Library, fmt: str) -> None:
     """Recompute every chain and name the first row that was altered, removed or slipped in.
     Exit 0 when every chain is intact, 1 when one is broken, 2 when the library cannot be read."""
     from formdb.services.audit import verify_chains
 
-    app: AppContext = ctx.obj
-    report = verify_chains(app.db)
+    report = verify_chains(library)
     if fmt == "json":
         click.echo(json.dumps({
             "intact": report.intact,
@@ -50,4 +53,4 @@ def verify_cmd(ctx: click.Context, fmt: str) -> None:
     first = report.first_problem
     if first is not None:
         click.echo(f"First break: {first.table} row {first.row_id}: {first.detail}.", err=True)
-    ctx.exit(0 if report.intact else 1)
+    click.get_current_context().exit(0 if report.intact else 1)

@@ -11,12 +11,15 @@ import sys
 import tempfile
 from collections.abc import Callable, Sequence
 from pathlib import Path
-from typing import Any, TypeVar
+from typing import TYPE_CHECKING, Any, TypeVar
 
 import click
 
-from formdb.cli.main import AppContext
+from formdb.cli.main import AppContext, with_library
 from formdb.errors import InvalidData
+
+if TYPE_CHECKING:
+    from formdb.store.library import Library
 
 F = TypeVar("F", bound=Callable[..., Any])
 REPORT_FORMATS = ("text", "json", "html", "jsonl")
@@ -59,9 +62,9 @@ def summary_line(results: Sequence[Any], out: Path) -> str:
               show_default=True, help="Report format.")
 @click.option("--out", type=click.Path(path_type=Path, dir_okay=False),
               help="Write the report to this file and print a one-line summary.")
-@click.pass_context
-def check_cmd(ctx: click.Context, files: tuple[Path, ...], all_stored: bool, profile: str,
-              fmt: str, out: Path | None) -> None:
+@with_library
+def check_cmd(app: AppContext, library: Library, files: tuple[Path, ...], all_stored: bool,
+              profile: str, fmt: str, out: Path | None) -> None:
     """Check formula FILES (TOML) against the library.
 
     Exit 0: no error finding; 1: at least one; 2: the input could not be checked.
@@ -71,18 +74,19 @@ def check_cmd(ctx: click.Context, files: tuple[Path, ...], all_stored: bool, pro
     from formdb.services.checking import check_inputs, iter_check_stored, read_inputs
     from formdb.services.report_context import limit_snapshots
 
-    app: AppContext = ctx.obj
+    ctx = click.get_current_context()
     if not files and not all_stored:
         raise click.UsageError("give one or more formula FILEs, or --all")
     items = read_inputs(files)
     chosen = load_profile(profile)
-    snapshots = [ListSnapshot(*row) for row in limit_snapshots(app.db, chosen)]
-    if fmt == "jsonl" or (all_stored and fmt != "html"):
-        failing = _stream(app, items, chosen, all_stored, fmt, out, snapshots)
-        ctx.exit(1 if failing else 0)
-    results = check_inputs(app.db, items, chosen) if items else []
-    if all_stored:
-        results += list(iter_check_stored(app.db, chosen))
+    with library.read():  # the list dates and every finding from one state of the library
+        snapshots = [ListSnapshot(*row) for row in limit_snapshots(library, chosen)]
+        if fmt == "jsonl" or (all_stored and fmt != "html"):
+            failing = _stream(library, items, chosen, all_stored, fmt, out, snapshots)
+            ctx.exit(1 if failing else 0)
+        results = check_inputs(library, items, chosen) if items else []
+        if all_stored:
+            results += list(iter_check_stored(library, chosen))
     if not results:
         click.echo("No stored formulas to check: `formdb formula import FILE` stores one.")
         return
@@ -95,7 +99,7 @@ def check_cmd(ctx: click.Context, files: tuple[Path, ...], all_stored: bool, pro
     ctx.exit(1 if any(r.has_errors for r in results) else 0)
 
 
-def _stream(app: AppContext, items: list[Any], profile: Any, all_stored: bool, fmt: str,
+def _stream(library: Library, items: list[Any], profile: Any, all_stored: bool, fmt: str,
             out: Path | None, snapshots: list[Any]) -> int:
     """Write each result as it is checked (``--all`` over thousands of formulas, or jsonl);
     a progress bar on stderr when it is a terminal. Returns how many formulas have errors."""
@@ -104,9 +108,9 @@ def _stream(app: AppContext, items: list[Any], profile: Any, all_stored: bool, f
     from formdb.report.stream import StreamReport
     from formdb.services.checking import check_inputs, count_stored, iter_check_stored
 
-    results = itertools.chain(check_inputs(app.db, items, profile) if items else [],
-                              iter_check_stored(app.db, profile) if all_stored else [])
-    total = len(items) + (count_stored(app.db) if all_stored else 0)
+    results = itertools.chain(check_inputs(library, items, profile) if items else [],
+                              iter_check_stored(library, profile) if all_stored else [])
+    total = len(items) + (count_stored(library) if all_stored else 0)
     if total == 0:
         click.echo("No stored formulas to check: `formdb formula import FILE` stores one.")
         return 0
@@ -179,8 +183,8 @@ def _blend_mode(file: Path | None, target: float | None, using: tuple[str, ...],
               help="Rule profile for FILE (its HLB tolerance and facts settings).")
 @click.option("--format", "fmt", type=click.Choice(("text", "json")), default="text",
               show_default=True, help="Output format.")
-@click.pass_context
-def blend_cmd(ctx: click.Context, file: Path | None, target: float | None,
+@with_library
+def blend_cmd(app: AppContext, library: Library, file: Path | None, target: float | None,
               using: tuple[str, ...], search: bool, total: float | None, top: int,
               profile: str, fmt: str) -> None:
     """Emulsifier proportions for a target HLB: named emulsifiers, a formula FILE's own, or a
@@ -188,24 +192,23 @@ def blend_cmd(ctx: click.Context, file: Path | None, target: float | None,
     from formdb.report.blend import render_plan, render_search
     from formdb.services import blending
 
-    app: AppContext = ctx.obj
     mode = _blend_mode(file, target, using, search)
     color = _wants_color(None, fmt)
-    if mode == "named":
-        assert target is not None
-        plan = blending.blend_for_target(app.db, target, using, total)
-        click.echo(render_plan(plan, fmt, color), nl=False)
-    elif mode == "file":
-        assert file is not None
-        plan = blending.blend_for_formula(app.db, file, profile, target)
-        click.echo(render_plan(plan, fmt, color), nl=False)
-    elif mode == "search":
-        assert target is not None
-        found = blending.search_pairs(app.db, target,
-                                      blending.DEFAULT_TOTAL_PERCENT if total is None else total,
-                                      top)
-        click.echo(render_search(found, fmt, color), nl=False)
-    else:
-        assert file is not None
-        found = blending.search_for_formula(app.db, file, profile, total, top, target)
-        click.echo(render_search(found, fmt, color), nl=False)
+    with library.read():  # one snapshot for the check and the provenance it quotes
+        if mode == "named":
+            assert target is not None
+            plan = blending.blend_for_target(library, target, using, total)
+            click.echo(render_plan(plan, fmt, color), nl=False)
+        elif mode == "file":
+            assert file is not None
+            plan = blending.blend_for_formula(library, file, profile, target)
+            click.echo(render_plan(plan, fmt, color), nl=False)
+        elif mode == "search":
+            assert target is not None
+            given = blending.DEFAULT_TOTAL_PERCENT if total is None else total
+            found = blending.search_pairs(library, target, given, top)
+            click.echo(render_search(found, fmt, color), nl=False)
+        else:
+            assert file is not None
+            found = blending.search_for_formula(library, file, profile, total, top, target)
+            click.echo(render_search(found, fmt, color), nl=False)

@@ -3,10 +3,14 @@
 from __future__ import annotations
 
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import click
 
-from formdb.cli.main import AppContext
+from formdb.cli.main import AppContext, with_library
+
+if TYPE_CHECKING:
+    from formdb.store.library import Library
 from formdb.errors import InvalidData
 
 
@@ -18,12 +22,13 @@ def formula_group() -> None:
 @formula_group.command("import")
 @click.argument("files", nargs=-1, required=True, type=click.Path(path_type=Path))
 @click.option("--reason", help="Why these formulas are stored or changed (kept in the change log).")
-@click.pass_obj
-def import_cmd(app: AppContext, files: tuple[Path, ...], reason: str | None) -> None:
+@with_library
+def import_cmd(app: AppContext, library: Library, files: tuple[Path, ...],
+               reason: str | None) -> None:
     """Store formula FILES (all or none); every ingredient must be in the library."""
     from formdb.services.formulas import import_formulas
 
-    report = import_formulas(app.db, list(files), user=app.user, reason=reason)
+    report = import_formulas(library, list(files), user=app.user, reason=reason)
     for label, names in (("added", report.added), ("changed", report.changed),
                          ("unchanged", report.unchanged)):
         for name in names:
@@ -33,15 +38,15 @@ def import_cmd(app: AppContext, files: tuple[Path, ...], reason: str | None) -> 
 
 
 @formula_group.command("list")
-@click.pass_obj
-def list_cmd(app: AppContext) -> None:
+@with_library
+def list_cmd(app: AppContext, library: Library) -> None:
     """List stored formulas with version, lines and last change."""
     from rich.console import Console
     from rich.table import Table
 
     from formdb.services.formulas import list_formulas
 
-    rows = list_formulas(app.db)
+    rows = list_formulas(library)
     table = Table("name", "version", "lines", "updated (UTC)", "by", "sha-256")
     for info in rows:
         table.add_row(info.name, str(info.version), str(info.lines),
@@ -54,23 +59,23 @@ def list_cmd(app: AppContext) -> None:
 
 @formula_group.command("show")
 @click.argument("name")
-@click.pass_obj
-def show_cmd(app: AppContext, name: str) -> None:
+@with_library
+def show_cmd(app: AppContext, library: Library, name: str) -> None:
     """Print a stored formula's TOML exactly as imported."""
     from formdb.services.formulas import formula_text
 
-    click.echo(formula_text(app.db, name), nl=False)
+    click.echo(formula_text(library, name), nl=False)
 
 
 @formula_group.command("export")
 @click.argument("name")
 @click.argument("file", type=click.Path(path_type=Path))
-@click.pass_obj
-def export_cmd(app: AppContext, name: str, file: Path) -> None:
+@with_library
+def export_cmd(app: AppContext, library: Library, name: str, file: Path) -> None:
     """Write a stored formula to FILE (TOML, byte for byte as imported)."""
     from formdb.services.formulas import formula_text
 
-    text = formula_text(app.db, name)
+    text = formula_text(library, name)
     try:
         file.write_text(text, encoding="utf-8")
     except OSError as exc:

@@ -4,11 +4,14 @@ from __future__ import annotations
 
 import json
 from collections.abc import Sequence
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import click
 
-from formdb.cli.main import AppContext
+from formdb.cli.main import AppContext, with_library
+
+if TYPE_CHECKING:
+    from formdb.store.library import Library
 
 
 @click.command("impact")
@@ -21,24 +24,25 @@ from formdb.cli.main import AppContext
                                               "review run is re-checked with its own).")
 @click.option("--format", "fmt", type=click.Choice(["text", "json"]), default="text",
               show_default=True, help="Output format.")
-@click.pass_context
-def impact_cmd(ctx: click.Context, ingredients: tuple[str, ...], since: str | None,
+@with_library
+def impact_cmd(app: AppContext, library: Library, ingredients: tuple[str, ...], since: str | None,
                profile: str | None, fmt: str) -> None:
     """Re-check every stored formula that uses each INGREDIENT (by name, synonym or inside a
     mixture) and list those whose verdict or findings changed, and the signed review runs now
     stale. Give several names after an import (`formdb ingredient import --impact` does it).
     Exit 0 when nothing changed, 1 when something did, 2 when it could not be worked out."""
-    app: AppContext = ctx.obj
-    touched = show_impacts(app, ingredients, since=since, profile=profile, fmt=fmt)
-    ctx.exit(1 if touched else 0)
+    touched = show_impacts(library, ingredients, since=since, profile=profile, fmt=fmt)
+    click.get_current_context().exit(1 if touched else 0)
 
 
-def show_impacts(app: AppContext, ingredients: Sequence[str], *, since: str | None = None,
+def show_impacts(library: Library, ingredients: Sequence[str], *, since: str | None = None,
                  profile: str | None = None, fmt: str = "text") -> bool:
     """Print the impact of each ingredient; True when any formula or signed run is touched."""
     from formdb.services.impact import impact_of
 
-    reports = [impact_of(app.db, name, since=since, profile=profile) for name in ingredients]
+    with library.read():  # every ingredient's impact from one state of the library
+        reports = [impact_of(library, name, since=since, profile=profile)
+                   for name in ingredients]
     if fmt == "json":
         objects = [_json(report) for report in reports]
         payload = objects[0] if len(objects) == 1 else objects

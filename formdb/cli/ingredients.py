@@ -11,33 +11,22 @@ import csv
 import io
 import json
 import sys
-from collections.abc import Iterator, Sequence
-from contextlib import contextmanager
+from collections.abc import Sequence
 from datetime import UTC, datetime
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import click
-from sqlalchemy.orm import Session
 
-from formdb.cli.main import AppContext
+from formdb.cli.main import AppContext, with_library
+
+if TYPE_CHECKING:
+    from formdb.store.library import Library
 
 CAUTION = ("A screening aid, not a safety assessment: check values against current sources, "
            "and defer to the regulation and a qualified safety assessor.")
 
 
-@contextmanager
-def _library(app: AppContext, *, write: bool = False) -> Iterator[Session]:
-    """One unit of work on the library; ``write`` takes SQLite's write lock at the start, so two
-    people saving at once queue up instead of one failing at commit."""
-    from formdb.store.db import open_library, unit_of_work
-
-    engine = open_library(app.db)
-    try:
-        with unit_of_work(engine, write=write) as session:
-            yield session
-    finally:
-        engine.dispose()
 
 
 def _console() -> Any:
@@ -89,12 +78,13 @@ _SOURCE = click.option("--source", help="Source key of the values given with --s
 @click.option("--format", "fmt", type=click.Choice(["table", "csv", "json"]), default="table",
               show_default=True)
 @click.option("--include-retired", is_flag=True, help="Also list retired ingredients.")
-@click.pass_obj
-def list_cmd(app: AppContext, role: str | None, fmt: str, include_retired: bool) -> None:
+@with_library
+def list_cmd(app: AppContext, library: Library, role: str | None, fmt: str,
+             include_retired: bool) -> None:
     """List the library's ingredients with their main emulsion properties."""
     from formdb.services.ingredients import list_ingredients
 
-    with _library(app) as session:
+    with library.read() as session:
         records = list_ingredients(session, role=role, include_retired=include_retired)
     if fmt == "json":
         click.echo(json.dumps([r.model_dump(mode="json") for r in records], indent=2,
@@ -130,8 +120,8 @@ def _text(value: Any) -> str:
 
 @ingredient_group.command("show")
 @click.argument("name")
-@click.pass_obj
-def show_cmd(app: AppContext, name: str) -> None:
+@with_library
+def show_cmd(app: AppContext, library: Library, name: str) -> None:
     """Every property of NAME with its value, unit, source, evidence and citation."""
     from rich.table import Table
 
@@ -139,7 +129,7 @@ def show_cmd(app: AppContext, name: str) -> None:
     from formdb.services.ingredient_fields import render_property
     from formdb.services.ingredients import show_ingredient
 
-    with _library(app) as session:
+    with library.read() as session:
         detail = show_ingredient(session, name)
     rec = detail.record
     click.echo(f"{rec.inci_name}  (version {rec.version}{', RETIRED' if rec.retired else ''}; "
@@ -168,14 +158,14 @@ def show_cmd(app: AppContext, name: str) -> None:
 @click.option("--cas", "cas", multiple=True, help="A CAS number (repeatable).")
 @click.option("--role", "roles", multiple=True, help="A role such as emulsifier (repeatable).")
 @click.option("--reason", help="Why it is added (kept in the change log).")
-@click.pass_obj
-def add_cmd(app: AppContext, name: str, sets: tuple[str, ...], source: str | None,
+@with_library
+def add_cmd(app: AppContext, library: Library, name: str, sets: tuple[str, ...], source: str | None,
             synonyms: tuple[str, ...], cas: tuple[str, ...], roles: tuple[str, ...],
             reason: str | None) -> None:
     """Add ingredient NAME (its INCI name) to the library."""
     from formdb.services.ingredients import add_ingredient
 
-    with _library(app, write=True) as session:
+    with library.write() as session:
         report = add_ingredient(session, name, _assignments(sets), user=app.user, source=source,
                                 synonyms=synonyms, cas=cas, roles=roles, reason=reason)
     _echo_changes(report.inci_name, report.changes, report.version, "added")
@@ -188,13 +178,13 @@ def add_cmd(app: AppContext, name: str, sets: tuple[str, ...], source: str | Non
 @click.option("--reason", help="Why it changes (required for published values).")
 @click.option("--expect-version", type=int,
               help="The version you read; refused if someone changed it since.")
-@click.pass_obj
-def edit_cmd(app: AppContext, name: str, sets: tuple[str, ...], source: str | None,
-             reason: str | None, expect_version: int | None) -> None:
+@with_library
+def edit_cmd(app: AppContext, library: Library, name: str, sets: tuple[str, ...],
+             source: str | None, reason: str | None, expect_version: int | None) -> None:
     """Change fields of ingredient NAME: --set hlb=15 --source KEY --reason '...'."""
     from formdb.services.ingredients import edit_ingredient
 
-    with _library(app, write=True) as session:
+    with library.write() as session:
         report = edit_ingredient(session, name, _assignments(sets), user=app.user, reason=reason,
                                  source=source, expect_version=expect_version)
     _echo_changes(report.inci_name, report.changes, report.version, "changed")
@@ -203,12 +193,12 @@ def edit_cmd(app: AppContext, name: str, sets: tuple[str, ...], source: str | No
 @ingredient_group.command("retire")
 @click.argument("name")
 @click.option("--reason", required=True, help="Why it is taken out of use.")
-@click.pass_obj
-def retire_cmd(app: AppContext, name: str, reason: str) -> None:
+@with_library
+def retire_cmd(app: AppContext, library: Library, name: str, reason: str) -> None:
     """Take NAME out of use (kept, with its history, for old formulas)."""
     from formdb.services.ingredients import retire_ingredient
 
-    with _library(app, write=True) as session:
+    with library.write() as session:
         report = retire_ingredient(session, name, user=app.user, reason=reason)
     _echo_changes(report.inci_name, report.changes, report.version, "retired")
 
@@ -216,26 +206,26 @@ def retire_cmd(app: AppContext, name: str, reason: str) -> None:
 @ingredient_group.command("restore")
 @click.argument("name")
 @click.option("--reason", required=True, help="Why it comes back into use.")
-@click.pass_obj
-def restore_cmd(app: AppContext, name: str, reason: str) -> None:
+@with_library
+def restore_cmd(app: AppContext, library: Library, name: str, reason: str) -> None:
     """Bring a retired ingredient back into use."""
     from formdb.services.ingredients import restore_ingredient
 
-    with _library(app, write=True) as session:
+    with library.write() as session:
         report = restore_ingredient(session, name, user=app.user, reason=reason)
     _echo_changes(report.inci_name, report.changes, report.version, "restored")
 
 
 @ingredient_group.command("history")
 @click.argument("name")
-@click.pass_obj
-def history_cmd(app: AppContext, name: str) -> None:
+@with_library
+def history_cmd(app: AppContext, library: Library, name: str) -> None:
     """Who changed NAME, when, what (old -> new) and why."""
     from rich.table import Table
 
     from formdb.services.ingredients import ingredient_history
 
-    with _library(app) as session:
+    with library.read() as session:
         entries = ingredient_history(session, name)
     table = Table("when (UTC)", "who", "action", "version", "field", "old", "new", "reason")
     for e in entries:
@@ -251,13 +241,13 @@ def history_cmd(app: AppContext, name: str) -> None:
 @click.option("--reason", help="Why the table is imported (kept in the change log).")
 @click.option("--impact", "show_impact", is_flag=True,
               help="Then re-check the stored formulas and signed runs the changed rows touch.")
-@click.pass_obj
-def import_cmd(app: AppContext, file: Path, dry_run: bool, reason: str | None,
+@with_library
+def import_cmd(app: AppContext, library: Library, file: Path, dry_run: bool, reason: str | None,
                show_impact: bool) -> None:
     """Import a CSV or XLSX ingredient table, all rows or none."""
     from formdb.services.ingredients import import_table
 
-    with _library(app, write=not dry_run) as session:
+    with library.write() as session:
         report = import_table(session, file, user=app.user, reason=reason, dry_run=dry_run)
     would = "would be " if dry_run else ""
     for note in report.notes:
@@ -276,18 +266,19 @@ def import_cmd(app: AppContext, file: Path, dry_run: bool, reason: str | None,
     if show_impact and report.changed and not dry_run:
         from formdb.cli.impact import show_impacts
 
-        show_impacts(app, list(report.changed))
+        show_impacts(library, list(report.changed))
 
 
 @ingredient_group.command("export")
 @click.argument("file", type=click.Path(path_type=Path))
 @click.option("--role", help="Only ingredients with this role.")
 @click.option("--include-retired", is_flag=True, help="Also export retired ingredients.")
-@click.pass_obj
-def export_cmd(app: AppContext, file: Path, role: str | None, include_retired: bool) -> None:
+@with_library
+def export_cmd(app: AppContext, library: Library, file: Path, role: str | None,
+               include_retired: bool) -> None:
     """Write the library to FILE (.csv or .xlsx) in the columns `import` reads."""
     from formdb.services.ingredients import export_table
 
-    with _library(app) as session:
+    with library.read() as session:
         count = export_table(session, file, role=role, include_retired=include_retired)
     click.echo(f"wrote {count} ingredient(s) to {file}")

@@ -5,10 +5,14 @@ from __future__ import annotations
 import json
 from dataclasses import asdict
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import click
 
-from formdb.cli.main import AppContext
+from formdb.cli.main import AppContext, with_library
+
+if TYPE_CHECKING:
+    from formdb.store.library import Library
 
 
 @click.command("label")
@@ -17,13 +21,13 @@ from formdb.cli.main import AppContext
               help="Whose naming and order rules apply.")
 @click.option("--format", "fmt", type=click.Choice(["text", "json"]), default="text",
               show_default=True, help="Output format.")
-@click.pass_obj
-def label_cmd(app: AppContext, file: Path, jurisdiction: str, fmt: str) -> None:
+@with_library
+def label_cmd(app: AppContext, library: Library, file: Path, jurisdiction: str, fmt: str) -> None:
     """Print the label's ingredient list of formula FILE: above 1 % by descending weight, then
     the rest, colourants last, allergens above the labelling threshold named."""
     from formdb.services.labelling import label_file
 
-    result = label_file(app.db, file, jurisdiction)
+    result = label_file(library, file, jurisdiction)
     if fmt == "json":
         data = asdict(result) | {"declaration": result.text}
         click.echo(json.dumps(data, indent=2, ensure_ascii=False))

@@ -10,7 +10,10 @@ import importlib
 import os
 import sys
 import traceback
+from collections.abc import Callable
 from dataclasses import dataclass
+from functools import wraps
+from typing import Any, TypeVar
 
 import click
 
@@ -41,6 +44,26 @@ class AppContext:
     db: str
     user: str
     debug: bool
+
+
+F = TypeVar("F", bound=Callable[..., Any])
+
+
+def with_library(command: F) -> F:
+    """Give the command the AppContext and the Library (opened at its first use, closed at the
+    end): one open per command. A command that calls several services wraps them in one
+    ``library.read()`` or ``library.write()``, so it sees one snapshot or writes one
+    transaction; a service's own unit joins the open one."""
+
+    @wraps(command)
+    @click.pass_obj
+    def run(app: AppContext, *args: Any, **kwargs: Any) -> Any:
+        from formdb.store.library import Library
+
+        with Library.deferred(app.db) as library:
+            return command(app, library, *args, **kwargs)
+
+    return run  # type: ignore[return-value]
 
 
 def default_user() -> str:

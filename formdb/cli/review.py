@@ -5,10 +5,14 @@ from __future__ import annotations
 import json
 from dataclasses import asdict
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import click
 
-from formdb.cli.main import AppContext
+from formdb.cli.main import AppContext, with_library
+
+if TYPE_CHECKING:
+    from formdb.store.library import Library
 
 
 @click.group("review")
@@ -20,13 +24,13 @@ def review_group() -> None:
 @click.argument("source", metavar="FILE")
 @click.option("--profile", default="strict", show_default=True,
               help="Rule profile: a packaged name (strict, default) or a profile TOML file.")
-@click.pass_obj
-def run_cmd(app: AppContext, source: str, profile: str) -> None:
+@with_library
+def run_cmd(app: AppContext, library: Library, source: str, profile: str) -> None:
     """Check formula FILE (or stored:NAME) and store the run, immutable, with the hash of every
     library record it used."""
     from formdb.services.review import run_review
 
-    summary = run_review(app.db, source, profile, user=app.user)
+    summary = run_review(library, source, profile, user=app.user)
     click.echo(f"Run {summary.run_key}: {summary.formula}: {summary.verdict} "
                f"({summary.errors} error, {summary.warnings} warning findings; "
                f"{summary.open_items} open item(s); {summary.records} library records hashed)")
@@ -42,12 +46,13 @@ def run_cmd(app: AppContext, source: str, profile: str) -> None:
               help="What the signature means.")
 @click.option("--as", "signer", required=True, metavar="NAME", help="The signer's printed name.")
 @click.option("--comment", help="A note kept with the signature.")
-@click.pass_obj
-def sign_cmd(app: AppContext, run: str, meaning: str, signer: str, comment: str | None) -> None:
+@with_library
+def sign_cmd(app: AppContext, library: Library, run: str, meaning: str, signer: str,
+             comment: str | None) -> None:
     """Sign review RUN (its run key): refused if it is stale or superseded."""
     from formdb.services.review import sign_run
 
-    sig = sign_run(app.db, run, meaning, signer, user=app.user, comment=comment)
+    sig = sign_run(library, run, meaning, signer, user=app.user, comment=comment)
     click.echo(f"Signed run {sig.run_hash[:12]}: {sig.meaning} by {sig.signer} "
                f"(login {sig.signed_by}) at {sig.signed_at}; run hash {sig.run_hash}")
 
@@ -55,12 +60,12 @@ def sign_cmd(app: AppContext, run: str, meaning: str, signer: str, comment: str 
 @review_group.command("status")
 @click.option("--format", "fmt", type=click.Choice(("table", "json")), default="table",
               show_default=True)
-@click.pass_obj
-def status_cmd(app: AppContext, fmt: str) -> None:
+@with_library
+def status_cmd(app: AppContext, library: Library, fmt: str) -> None:
     """Every review run: current, stale (what changed, old -> new) or superseded."""
     from formdb.services.review import review_status
 
-    states = review_status(app.db)
+    states = review_status(library)
     if fmt == "json":
         click.echo(json.dumps([asdict(s) for s in states], indent=2, ensure_ascii=False))
         return
@@ -84,14 +89,14 @@ def status_cmd(app: AppContext, fmt: str) -> None:
               show_default=True)
 @click.option("--out", type=click.Path(path_type=Path, dir_okay=False),
               help="Write the report to this file.")
-@click.pass_obj
-def report_cmd(app: AppContext, run: str, fmt: str, out: Path | None) -> None:
+@with_library
+def report_cmd(app: AppContext, library: Library, run: str, fmt: str, out: Path | None) -> None:
     """The filed report of review RUN: HTML (printable) or JSON."""
     from formdb.cli.checking import write_report
     from formdb.report.review import render_review
     from formdb.services.review import filed_run
 
-    filed = filed_run(app.db, run)
+    filed = filed_run(library, run)
     text = render_review(filed, fmt)
     if out is None:
         click.echo(text, nl=False)

@@ -2,25 +2,16 @@
 
 from __future__ import annotations
 
-from collections.abc import Iterator
-from contextlib import contextmanager
+from typing import TYPE_CHECKING
 
 import click
-from sqlalchemy.orm import Session
 
-from formdb.cli.main import AppContext
+from formdb.cli.main import AppContext, with_library
+
+if TYPE_CHECKING:
+    from formdb.store.library import Library
 
 
-@contextmanager
-def _library(app: AppContext, *, write: bool = False) -> Iterator[Session]:
-    from formdb.store.db import open_library, unit_of_work
-
-    engine = open_library(app.db)
-    try:
-        with unit_of_work(engine, write=write) as session:
-            yield session
-    finally:
-        engine.dispose()
 
 
 @click.group("user")
@@ -32,12 +23,12 @@ def user_group() -> None:
 @user_group.command("add")
 @click.argument("name")
 @click.option("--role", "roles", multiple=True, help="A role to grant (repeat for several).")
-@click.pass_obj
-def add_cmd(app: AppContext, name: str, roles: tuple[str, ...]) -> None:
+@with_library
+def add_cmd(app: AppContext, library: Library, name: str, roles: tuple[str, ...]) -> None:
     """Add user NAME with --role ROLE ...; only an admin may, once there is one."""
     from formdb.services.access import add_user
 
-    with _library(app, write=True) as session:
+    with library.write() as session:
         info = add_user(session, name, list(roles), actor=app.user)
     click.echo(f"Added user {info.name} with roles: {', '.join(info.roles) or '(none)'}.")
 
@@ -45,23 +36,23 @@ def add_cmd(app: AppContext, name: str, roles: tuple[str, ...]) -> None:
 @user_group.command("grant")
 @click.argument("name")
 @click.argument("role")
-@click.pass_obj
-def grant_cmd(app: AppContext, name: str, role: str) -> None:
+@with_library
+def grant_cmd(app: AppContext, library: Library, name: str, role: str) -> None:
     """Give user NAME the role ROLE."""
     from formdb.services.access import grant
 
-    with _library(app, write=True) as session:
+    with library.write() as session:
         info = grant(session, name, role, actor=app.user)
     click.echo(f"{info.name} now has roles: {', '.join(info.roles)}.")
 
 
 @user_group.command("list")
-@click.pass_obj
-def list_cmd(app: AppContext) -> None:
+@with_library
+def list_cmd(app: AppContext, library: Library) -> None:
     """Every user with their roles, and whether the library is still open."""
     from formdb.services.access import is_open, list_users
 
-    with _library(app) as session:
+    with library.read() as session:
         users = list_users(session)
         open_mode = is_open(session)
     for u in users:

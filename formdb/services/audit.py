@@ -22,7 +22,7 @@ from typing import Any
 from sqlalchemy import inspect, select
 from sqlalchemy.orm import Session
 
-from formdb.store.db import open_library, unit_of_work
+from formdb.store.library import Library
 from formdb.store.models import Base
 from formdb.store.sealing import GENESIS, SEALED_COLUMNS, canonical, row_hash, seal
 
@@ -132,16 +132,12 @@ def verify_table(session: Session, table: str) -> ChainReport:
     return report
 
 
-def verify_chains(db_url: str, tables: list[str] | None = None) -> AuditReport:
+def verify_chains(library: Library, tables: list[str] | None = None) -> AuditReport:
     """Verify every sealed table present in the library (or the ones named)."""
-    engine = open_library(db_url)
-    try:
-        with unit_of_work(engine) as session:
-            present = set(inspect(session.connection()).get_table_names())
-            wanted = [t for t in (tables or list(SEALED_COLUMNS)) if t in present]
-            return AuditReport([verify_table(session, t) for t in wanted])
-    finally:
-        engine.dispose()
+    with library.read() as session:
+        present = set(inspect(session.connection()).get_table_names())
+        wanted = [t for t in (tables or list(SEALED_COLUMNS)) if t in present]
+        return AuditReport([verify_table(session, t) for t in wanted])
 
 
 __all__ = ["AuditReport", "ChainProblem", "ChainReport", "append_sealed", "canonical",

@@ -39,7 +39,7 @@ from formdb.schemas.vocab import EmulsionType, Evidence, Role, Solubility, norm_
 from formdb.science.hlb import UnreachableHlb, blend_fractions, blend_hlb
 from formdb.services.checking import check_files
 from formdb.store import queries
-from formdb.store.db import open_library, unit_of_work
+from formdb.store.library import Library
 from formdb.store.models import Ingredient, IngredientRole
 
 DEFAULT_TOTAL_PERCENT = 5.0
@@ -184,19 +184,15 @@ def _solve(target: float, hlbs: Sequence[float], start: Sequence[float] | None,
         raise _unreachable(what, target, exc.low, exc.high) from None
 
 
-def blend_for_target(db_url: str, target: float, names: Sequence[str],
+def blend_for_target(library: Library, target: float, names: Sequence[str],
                      total_percent: float | None = None) -> BlendPlan:
     """The proportions of the named emulsifiers (two or more) that give ``target``."""
     _check_target(target)
     if len(names) < 2:
         raise InvalidData(f"--using given {len(names)} time(s): a blend needs at least two "
                           "emulsifiers", hint="repeat --using for each emulsifier")
-    engine = open_library(db_url)
-    try:
-        with unit_of_work(engine) as session:
-            records = resolve_emulsifiers(session, names)
-    finally:
-        engine.dispose()
+    with library.read() as session:
+        records = resolve_emulsifiers(session, names)
     hlbs = [float(r.p.hlb) for r in records if r.p.hlb is not None]
     fractions = _solve(target, hlbs, None, f"--target {target:g}")
     members = tuple(
@@ -213,8 +209,8 @@ def blend_for_target(db_url: str, target: float, names: Sequence[str],
 
 # ----- a formula's own emulsifiers --------------------------------------------------------
 
-def check_one(db_url: str, path: Path, profile: Profile | str | None) -> CheckResult:
-    return check_files(db_url, [path], profile)[0]
+def check_one(library: Library, path: Path, profile: Profile | str | None) -> CheckResult:
+    return check_files(library, [path], profile)[0]
 
 
 def formula_target(facts: FormulaFacts, label: str) -> tuple[float, str]:
@@ -234,14 +230,10 @@ def formula_target(facts: FormulaFacts, label: str) -> tuple[float, str]:
     return facts.required_hlb, f"required HLB ({kind.value}, {how}) of the oil phase"
 
 
-def _provenance(db_url: str, names: Sequence[str]) -> dict[str, tuple[str, str | None]]:
+def _provenance(library: Library, names: Sequence[str]) -> dict[str, tuple[str, str | None]]:
     """(source, citation) of each named emulsifier's HLB; soap not in the library says so."""
-    engine = open_library(db_url)
-    try:
-        with unit_of_work(engine) as session:
-            found = queries.find_ingredients(session, names)
-    finally:
-        engine.dispose()
+    with library.read() as session:
+        found = queries.find_ingredients(session, names)
     out: dict[str, tuple[str, str | None]] = {}
     for name in names:
         record = found.get(name_key(name))
@@ -276,14 +268,14 @@ def _own_fractions(facts: FormulaFacts, known: list[EmulsifierFacts], label: str
     return goal, goal_from, sol.fractions
 
 
-def blend_for_formula(db_url: str, path: Path, profile: Profile | str | None = None,
+def blend_for_formula(library: Library, path: Path, profile: Profile | str | None = None,
                       target: float | None = None) -> BlendPlan:
     """Solve the formula's own emulsifiers for its oil phase's required HLB (or ``target``).
 
     Without ``target`` the answer is the check's own ``facts.blend_solution`` (least change
     from the present proportions), so ``blend FILE`` and ``check FILE`` always agree.
     """
-    result = check_one(db_url, path, profile)
+    result = check_one(library, path, profile)
     facts, label = result.facts, str(path)
     known = [e for e in facts.emulsifiers if e.hlb is not None and e.percent > 0]
     if not known:
@@ -293,7 +285,7 @@ def blend_for_formula(db_url: str, path: Path, profile: Profile | str | None = N
     goal, goal_from, fractions = _own_fractions(facts, known, label, target)
     hlbs = [float(e.hlb or 0.0) for e in known]
     total = sum(e.percent for e in known)
-    sources = _provenance(db_url, [e.inci for e in known])
+    sources = _provenance(library, [e.inci for e in known])
     members = tuple(
         BlendMember(inci=e.inci, hlb=h, hlb_source=sources[e.inci][0], fraction=f,
                     percent=f * total, present_percent=e.percent,
@@ -412,19 +404,15 @@ def _check_total(total: float) -> None:
                           "100 % w/w")
 
 
-def search_pairs(db_url: str, target: float, total_percent: float = DEFAULT_TOTAL_PERCENT,
+def search_pairs(library: Library, target: float, total_percent: float = DEFAULT_TOTAL_PERCENT,
                  limit: int = 10, target_from: str = "given with --target",
                  formula: str | None = None) -> PairSearch:
     """The best ``limit`` compatible pairs of library emulsifiers that reach ``target``."""
     _check_target(target)
     _check_total(total_percent)
-    engine = open_library(db_url)
-    try:
-        with unit_of_work(engine) as session:
-            records = library_emulsifiers(session)
-            rows = queries.load_reference_data(session).incompatibilities
-    finally:
-        engine.dispose()
+    with library.read() as session:
+        records = library_emulsifiers(session)
+        rows = queries.load_reference_data(session).incompatibilities
     ranked, tally = rank_pairs(records, target, total_percent, rows)
     return PairSearch(target=target, target_from=target_from, total_percent=total_percent,
                       candidates=tuple(ranked[:limit]), found=len(ranked),
@@ -433,12 +421,12 @@ def search_pairs(db_url: str, target: float, total_percent: float = DEFAULT_TOTA
                       formula=formula)
 
 
-def search_for_formula(db_url: str, path: Path, profile: Profile | str | None = None,
+def search_for_formula(library: Library, path: Path, profile: Profile | str | None = None,
                        total_percent: float | None = None, limit: int = 10,
                        target: float | None = None) -> PairSearch:
     """Pairs for a formula's required HLB (or ``target``), at its present emulsifier total
     unless ``total_percent`` is given."""
-    result = check_one(db_url, path, profile)
+    result = check_one(library, path, profile)
     if target is None:
         goal, goal_from = formula_target(result.facts, str(path))
     else:
@@ -447,4 +435,4 @@ def search_for_formula(db_url: str, path: Path, profile: Profile | str | None = 
     if total is None:
         present = result.facts.emulsifier_percent
         total = present if present > 0 else DEFAULT_TOTAL_PERCENT
-    return search_pairs(db_url, goal, total, limit, goal_from, result.formula)
+    return search_pairs(library, goal, total, limit, goal_from, result.formula)

@@ -26,8 +26,8 @@ from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import CheckResult
 from formdb.services.formula_files import content_hash, parse_formula_text, read_formula_file
 from formdb.store import queries
-from formdb.store.db import open_library, unit_of_work
 from formdb.store.formulas import iter_stored_formulas
+from formdb.store.library import Library
 
 
 @dataclass(frozen=True)
@@ -130,57 +130,45 @@ def _every_item(step: Callable[[Any], Any], items: Iterable[Any]) -> list[Any]:
     return done
 
 
-def check_inputs(db_url: str, items: list[FormulaInput],
+def check_inputs(library: Library, items: list[FormulaInput],
                  profile: Profile | str | None = None) -> list[CheckResult]:
-    """Check already-read formulas against the library at ``db_url``."""
+    """Check already-read formulas against the library at ``library``."""
     chosen = profile if isinstance(profile, Profile) else load_profile(profile or "default")
-    engine = open_library(db_url)
-    try:
-        with unit_of_work(engine) as session:
-            reference = queries.load_reference_data(session)
-            resolved = resolve_all(session, items)
-    finally:
-        engine.dispose()
+    with library.read() as session:
+        reference = queries.load_reference_data(session)
+        resolved = resolve_all(session, items)
     return [check_resolved(formula, reference, chosen) for formula in resolved]
 
 
-def check_files(db_url: str, paths: Iterable[Path],
+def check_files(library: Library, paths: Iterable[Path],
                 profile: Profile | str | None = None) -> list[CheckResult]:
     """The Python face of ``formdb check FILE...``: the same records ``--format json`` prints."""
-    return check_inputs(db_url, read_inputs(paths), profile)
+    return check_inputs(library, read_inputs(paths), profile)
 
 
-def count_stored(db_url: str) -> int:
+def count_stored(library: Library) -> int:
     """How many formulas the library stores (for a progress bar)."""
     from sqlalchemy import func, select
 
     from formdb.store.models import StoredFormula
 
-    engine = open_library(db_url)
-    try:
-        with unit_of_work(engine) as session:
-            return int(session.scalar(select(func.count()).select_from(StoredFormula)) or 0)
-    finally:
-        engine.dispose()
+    with library.read() as session:
+        return int(session.scalar(select(func.count()).select_from(StoredFormula)) or 0)
 
 
-def iter_check_stored(db_url: str, profile: Profile | str | None = None,
+def iter_check_stored(library: Library, profile: Profile | str | None = None,
                       batch_size: int = 200) -> Iterator[CheckResult]:
     """Check every stored formula, a batch at a time (names resolved in bulk per batch)."""
     chosen = profile if isinstance(profile, Profile) else load_profile(profile or "default")
-    engine = open_library(db_url)
-    try:
-        with unit_of_work(engine) as session:
-            reference: ReferenceData = queries.load_reference_data(session)
-            known: dict[str, IngredientRecord] = {}  # records met so far: one build per run
-            batch: list[FormulaInput] = []
-            for stored in iter_stored_formulas(session):
-                batch.append(input_from_text(stored.content, f"stored:{stored.name}"))
-                if len(batch) >= batch_size:
-                    for formula in resolve_all(session, batch, known):
-                        yield check_resolved(formula, reference, chosen)
-                    batch = []
-            for formula in resolve_all(session, batch, known):
-                yield check_resolved(formula, reference, chosen)
-    finally:
-        engine.dispose()
+    with library.read() as session:
+        reference: ReferenceData = queries.load_reference_data(session)
+        known: dict[str, IngredientRecord] = {}  # records met so far: one build per run
+        batch: list[FormulaInput] = []
+        for stored in iter_stored_formulas(session):
+            batch.append(input_from_text(stored.content, f"stored:{stored.name}"))
+            if len(batch) >= batch_size:
+                for formula in resolve_all(session, batch, known):
+                    yield check_resolved(formula, reference, chosen)
+                batch = []
+        for formula in resolve_all(session, batch, known):
+            yield check_resolved(formula, reference, chosen)

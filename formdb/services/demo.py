@@ -20,6 +20,7 @@ from formdb.services.checking import check_files
 from formdb.services.formulas import import_formulas
 from formdb.services.report_context import limit_snapshots
 from formdb.services.setup import init_library
+from formdb.store.library import Library
 
 INTRO = (
     "formdb demo: a throwaway library from the bundled seed data, then the formulas of\n"
@@ -100,7 +101,9 @@ def run_demo(*, keep: Path | None = None, user: str = "demo") -> DemoRun:
     url = str(library)
     init_library(url, seed=True, user=user)
     paths = demo_formula_paths()
-    import_formulas(url, paths, user=user, reason="demo formulas of the invented lab")
-    results = check_files(url, paths)
-    return DemoRun(library=library, results=results, _files=paths,
-                   snapshots=limit_snapshots(url))
+    with Library.open(url) as opened:
+        import_formulas(opened, paths, user=user, reason="demo formulas of the invented lab")
+        with opened.read():
+            results = check_files(opened, paths)
+            snapshots = limit_snapshots(opened)
+    return DemoRun(library=library, results=results, _files=paths, snapshots=snapshots)

@@ -15,8 +15,8 @@ from formdb.schemas.ingredient import name_key
 from formdb.services.access import Action, require
 from formdb.services.checking import read_inputs, resolve_all
 from formdb.services.formula_files import content_hash
-from formdb.store.db import open_library, unit_of_work
 from formdb.store.formulas import formula_names, get_formula, iter_stored_formulas
+from formdb.store.library import Library
 from formdb.store.models import ChangeLogEntry, StoredFormula
 
 
@@ -37,7 +37,7 @@ class FormulaImportReport:
     unchanged: list[str]
 
 
-def import_formulas(db_url: str, paths: list[Path], *, user: str,
+def import_formulas(library: Library, paths: list[Path], *, user: str,
                     reason: str | None = None) -> FormulaImportReport:
     """Validate every file (names must resolve in the library), then store all or none."""
     items = read_inputs(paths)
@@ -49,41 +49,37 @@ def import_formulas(db_url: str, paths: list[Path], *, user: str,
                            f"used by {seen[key]}", hint="give each formula its own name")
         seen[key] = item.label
     added, changed, unchanged = [], [], []
-    engine = open_library(db_url)
-    try:
-        with unit_of_work(engine) as session:
-            require(session, user, Action.STORE_FORMULAS)
-            resolve_all(session, items)  # unknown ingredients stop the import here
-            now = datetime.now(UTC)
-            for item in items:
-                digest = content_hash(item.text)
-                row = get_formula(session, item.formula.name)
-                if row is None:
-                    row = StoredFormula(name=item.formula.name,
-                                        name_key=name_key(item.formula.name),
-                                        content=item.text, content_hash=digest, created_at=now,
-                                        updated_at=now, updated_by=user)
-                    session.add(row)
-                    session.flush()
-                    added.append(item.formula.name)
-                    action, old = "add", None
-                elif row.content_hash == digest:
-                    unchanged.append(item.formula.name)
-                    continue
-                else:
-                    old = row.content_hash
-                    row.content, row.content_hash = item.text, digest
-                    row.name, row.updated_at, row.updated_by = item.formula.name, now, user
-                    session.flush()
-                    changed.append(item.formula.name)
-                    action = "edit"
-                session.add(ChangeLogEntry(
-                    at=now, user=user, entity="formula", entity_key=row.name,
-                    entity_version=row.version, action=action, field="content_hash",
-                    old_value=old, new_value=digest,
-                    reason=reason or f"imported from {item.label}"))
-    finally:
-        engine.dispose()
+    with library.write() as session:
+        require(session, user, Action.STORE_FORMULAS)
+        resolve_all(session, items)  # unknown ingredients stop the import here
+        now = datetime.now(UTC)
+        for item in items:
+            digest = content_hash(item.text)
+            row = get_formula(session, item.formula.name)
+            if row is None:
+                row = StoredFormula(name=item.formula.name,
+                                    name_key=name_key(item.formula.name),
+                                    content=item.text, content_hash=digest, created_at=now,
+                                    updated_at=now, updated_by=user)
+                session.add(row)
+                session.flush()
+                added.append(item.formula.name)
+                action, old = "add", None
+            elif row.content_hash == digest:
+                unchanged.append(item.formula.name)
+                continue
+            else:
+                old = row.content_hash
+                row.content, row.content_hash = item.text, digest
+                row.name, row.updated_at, row.updated_by = item.formula.name, now, user
+                session.flush()
+                changed.append(item.formula.name)
+                action = "edit"
+            session.add(ChangeLogEntry(
+                at=now, user=user, entity="formula", entity_key=row.name,
+                entity_version=row.version, action=action, field="content_hash",
+                old_value=old, new_value=digest,
+                reason=reason or f"imported from {item.label}"))
     return FormulaImportReport(added, changed, unchanged)
 
 
@@ -93,26 +89,18 @@ def _info(row: StoredFormula) -> StoredFormulaInfo:
                              row.updated_by, lines)
 
 
-def list_formulas(db_url: str) -> list[StoredFormulaInfo]:
-    engine = open_library(db_url)
-    try:
-        with unit_of_work(engine) as session:
-            return [_info(row) for row in iter_stored_formulas(session)]
-    finally:
-        engine.dispose()
+def list_formulas(library: Library) -> list[StoredFormulaInfo]:
+    with library.read() as session:
+        return [_info(row) for row in iter_stored_formulas(session)]
 
 
-def formula_text(db_url: str, name: str) -> str:
+def formula_text(library: Library, name: str) -> str:
     """The stored TOML text of a formula, exactly as imported."""
-    engine = open_library(db_url)
-    try:
-        with unit_of_work(engine) as session:
-            row = get_formula(session, name)
-            if row is None:
-                known = formula_names(session)
-                hint = ("stored formulas: " + ", ".join(known[:10])) if known else \
-                    "import one with `formdb formula import FILE`"
-                raise NotFound(f"no stored formula named {name!r}", hint=hint)
-            return row.content
-    finally:
-        engine.dispose()
+    with library.read() as session:
+        row = get_formula(session, name)
+        if row is None:
+            known = formula_names(session)
+            hint = ("stored formulas: " + ", ".join(known[:10])) if known else \
+                "import one with `formdb formula import FILE`"
+            raise NotFound(f"no stored formula named {name!r}", hint=hint)
+        return row.content

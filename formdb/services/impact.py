@@ -34,8 +34,8 @@ from formdb.services.checking import FormulaInput, input_from_text, resolve_all
 from formdb.services.ingredient_rows import render_ingredient, validate_cells
 from formdb.services.ingredients import ENTITY, _as_input, _get, _sources
 from formdb.store import queries
-from formdb.store.db import open_library, unit_of_work
 from formdb.store.formulas import iter_stored_formulas
+from formdb.store.library import Library
 from formdb.store.models import Base, ChangeLogEntry
 
 _BATCH = 200
@@ -296,31 +296,27 @@ def _latest_change(session: Session, target: IngredientRecord) -> LibraryChange 
         f"{r.field}: {r.old_value or '(none)'} -> {r.new_value or '(none)'}" for r in rows))
 
 
-def impact_of(db_url: str, ingredient: str, *, since: str | None = None,
+def impact_of(library: Library, ingredient: str, *, since: str | None = None,
               profile: Profile | str | None = None) -> ImpactReport:
     """Re-check every stored formula using ``ingredient`` and compare (module docstring)."""
     chosen = profile if isinstance(profile, Profile) else load_profile(profile or "default")
-    engine = open_library(db_url)
-    try:
-        with unit_of_work(engine) as session:
-            target = queries.records_by_id(session, [_get(session, ingredient).id])
-            record = next(iter(target.values()))
-            runs = _runs(session)
-            base_version = _baseline_version(session, record, since, runs)
-            earlier = (earlier_record(session, record, base_version)
-                       if base_version is not None and base_version != record.version else None)
-            report = ImpactReport(record.inci_name, record.version, base_version,
-                                  _latest_change(session, record))
-            reference = queries.load_reference_data(session)
-            latest_run = {} if since is not None else {
-                name_key(r["formula_name"]): r for r in runs}
-            for _item, formula, via in _using(session, record, reference):
-                report.formulas.append(_compare(formula, reference, chosen, earlier, via,
-                                                latest_run.get(name_key(formula.formula.name)),
-                                                report))
-            report.stale_runs = _stale(session, record, runs)
-    finally:
-        engine.dispose()
+    with library.read() as session:
+        target = queries.records_by_id(session, [_get(session, ingredient).id])
+        record = next(iter(target.values()))
+        runs = _runs(session)
+        base_version = _baseline_version(session, record, since, runs)
+        earlier = (earlier_record(session, record, base_version)
+                   if base_version is not None and base_version != record.version else None)
+        report = ImpactReport(record.inci_name, record.version, base_version,
+                              _latest_change(session, record))
+        reference = queries.load_reference_data(session)
+        latest_run = {} if since is not None else {
+            name_key(r["formula_name"]): r for r in runs}
+        for _item, formula, via in _using(session, record, reference):
+            report.formulas.append(_compare(formula, reference, chosen, earlier, via,
+                                            latest_run.get(name_key(formula.formula.name)),
+                                            report))
+        report.stale_runs = _stale(session, record, runs)
     return report
 
 

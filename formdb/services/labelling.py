@@ -21,7 +21,7 @@ from formdb.schemas.result import FactsSettings
 from formdb.schemas.vocab import Role
 from formdb.services.checking import read_inputs, resolve_all
 from formdb.store import queries
-from formdb.store.db import open_library, unit_of_work
+from formdb.store.library import Library
 
 ORDERED_ABOVE_PERCENT = 1.0
 JURISDICTIONS = ("EU",)
@@ -85,14 +85,10 @@ def declaration(formula: ResolvedFormula, reference: ReferenceData,
                             allergens_named=tuple(e.name for e in entries if e.allergen))
 
 
-def label_file(db_url: str, path: Path, jurisdiction: str = "EU") -> LabelDeclaration:
+def label_file(library: Library, path: Path, jurisdiction: str = "EU") -> LabelDeclaration:
     """The Python face of ``formdb label FILE``."""
     items = read_inputs([path])
-    engine = open_library(db_url)
-    try:
-        with unit_of_work(engine) as session:
-            reference = queries.load_reference_data(session)
-            [resolved] = resolve_all(session, items)
-    finally:
-        engine.dispose()
+    with library.read() as session:
+        reference = queries.load_reference_data(session)
+        [resolved] = resolve_all(session, items)
     return declaration(resolved, reference, jurisdiction)

@@ -13,7 +13,7 @@ from sqlalchemy import func, select
 
 from formdb.rules.profiles import Profile, load_profile
 from formdb.rules.registry import default_registry
-from formdb.store.db import open_library, unit_of_work
+from formdb.store.library import Library
 from formdb.store.models import LimitEntry
 
 
@@ -26,20 +26,16 @@ def profile_jurisdictions(profile: Profile) -> set[str]:
     return found
 
 
-def limit_snapshots(db_url: str,
+def limit_snapshots(library: Library,
                     profile: Profile | str | None = None) -> list[tuple[str, str, date]]:
     """(jurisdiction, list name, newest list date) of every limit list the profile checks."""
     chosen = profile if isinstance(profile, Profile) else load_profile(profile or "default")
     wanted = profile_jurisdictions(chosen)
-    engine = open_library(db_url)
-    try:
-        with unit_of_work(engine) as session:
-            rows = session.execute(
-                select(LimitEntry.jurisdiction, LimitEntry.list_name,
-                       func.max(LimitEntry.list_date))
-                .group_by(LimitEntry.jurisdiction, LimitEntry.list_name)
-                .order_by(LimitEntry.jurisdiction, LimitEntry.list_name)).all()
-    finally:
-        engine.dispose()
+    with library.read() as session:
+        rows = session.execute(
+            select(LimitEntry.jurisdiction, LimitEntry.list_name,
+                   func.max(LimitEntry.list_date))
+            .group_by(LimitEntry.jurisdiction, LimitEntry.list_name)
+            .order_by(LimitEntry.jurisdiction, LimitEntry.list_name)).all()
     return [(j, name, when) for j, name, when in rows
             if not wanted or j.casefold() in wanted]

@@ -35,8 +35,8 @@ from formdb.services.audit import append_sealed
 from formdb.services.checking import FormulaInput, input_from_text, read_inputs, resolve_all
 from formdb.services.formula_files import content_hash
 from formdb.store import queries
-from formdb.store.db import open_library, unit_of_work
 from formdb.store.formulas import get_formula
+from formdb.store.library import Library
 from formdb.store.models import ChangeLogEntry, ReviewRun, ReviewSignature
 
 DEFAULT_PROFILE = "strict"
@@ -152,52 +152,48 @@ def stored_result(result_json: str) -> CheckResult:
     return CheckResult.model_validate({k: data[k] for k in RESULT_KEYS if k in data})
 
 
-def run_review(db_url: str, source: str, profile: Profile | str | None = None, *,
+def run_review(library: Library, source: str, profile: Profile | str | None = None, *,
                user: str) -> RunSummary:
     """``formdb review run``: check ``source`` (a path or stored:NAME) and store the run."""
     chosen = profile if isinstance(profile, Profile) else load_profile(profile or DEFAULT_PROFILE)
     if not source.startswith(STORED):
         item = read_inputs([Path(source)])[0]
         label = str(Path(source).resolve())
-    engine = open_library(db_url)
-    try:
-        with unit_of_work(engine) as session:
-            if source.startswith(STORED):
-                item = _read(source, session)
-                label = item.label
-            reference = queries.load_reference_data(session)
-            resolved = resolve_all(session, [item])[0]
-            result = check_resolved(resolved, reference, chosen)
-            records = used_records(resolved, reference)
-            now = datetime.now(UTC)
-            findings = [f.model_dump(mode="json") for f in result.findings]
-            before = session.scalars(select(ReviewRun).where(
-                ReviewRun.formula_name == resolved.name).order_by(ReviewRun.id.desc())).first()
-            content = {"formula_name": resolved.name, "formula_source": label,
-                       "formula_hash": content_hash(item.text), "library_hash":
-                       library_hash(records), "profile": [chosen.name, chosen.version],
-                       "formdb_version": __version__, "created_at": now.isoformat(),
-                       "created_by": user, "findings": findings,
-                       "supersedes": before.run_hash if before else None}
-            run_hash = _digest(content)
-            run = ReviewRun(
-                run_key=run_hash[:12], run_hash=run_hash, formula_name=resolved.name,
-                formula_source=label, formula_hash=content["formula_hash"],
-                formula_text=item.text, library_hash=content["library_hash"],
-                records_json=json.dumps(records, sort_keys=True, ensure_ascii=False),
-                profile_name=chosen.name, profile_version=chosen.version,
-                formdb_version=__version__, created_at=now, created_by=user,
-                findings_json=json.dumps(findings, sort_keys=True, ensure_ascii=False),
-                result_json=json.dumps(result.to_contract_json(), ensure_ascii=False),
-                supersedes_run_id=before.id if before else None)
-            append_sealed(session, run)
-            counts = result.severity_counts()
-            return RunSummary(run.run_key, run_hash, resolved.name,
-                              verdict(result, chosen.name), counts["error"], counts["warning"],
-                              len(open_items(result, chosen.name)), len(records),
-                              before.run_key if before else None)
-    finally:
-        engine.dispose()
+    with library.write() as session:
+        if source.startswith(STORED):
+            item = _read(source, session)
+            label = item.label
+        reference = queries.load_reference_data(session)
+        resolved = resolve_all(session, [item])[0]
+        result = check_resolved(resolved, reference, chosen)
+        records = used_records(resolved, reference)
+        now = datetime.now(UTC)
+        findings = [f.model_dump(mode="json") for f in result.findings]
+        before = session.scalars(select(ReviewRun).where(
+            ReviewRun.formula_name == resolved.name).order_by(ReviewRun.id.desc())).first()
+        content = {"formula_name": resolved.name, "formula_source": label,
+                   "formula_hash": content_hash(item.text), "library_hash":
+                   library_hash(records), "profile": [chosen.name, chosen.version],
+                   "formdb_version": __version__, "created_at": now.isoformat(),
+                   "created_by": user, "findings": findings,
+                   "supersedes": before.run_hash if before else None}
+        run_hash = _digest(content)
+        run = ReviewRun(
+            run_key=run_hash[:12], run_hash=run_hash, formula_name=resolved.name,
+            formula_source=label, formula_hash=content["formula_hash"],
+            formula_text=item.text, library_hash=content["library_hash"],
+            records_json=json.dumps(records, sort_keys=True, ensure_ascii=False),
+            profile_name=chosen.name, profile_version=chosen.version,
+            formdb_version=__version__, created_at=now, created_by=user,
+            findings_json=json.dumps(findings, sort_keys=True, ensure_ascii=False),
+            result_json=json.dumps(result.to_contract_json(), ensure_ascii=False),
+            supersedes_run_id=before.id if before else None)
+        append_sealed(session, run)
+        counts = result.severity_counts()
+        return RunSummary(run.run_key, run_hash, resolved.name,
+                          verdict(result, chosen.name), counts["error"], counts["warning"],
+                          len(open_items(result, chosen.name)), len(records),
+                          before.run_key if before else None)
 
 
 # ----- state --------------------------------------------------------------------------------
@@ -333,22 +329,18 @@ def _find_run(session: Session, key: str) -> ReviewRun:
     raise NotFound(f"no review run {key!r}.", hint=hint)
 
 
-def review_status(db_url: str) -> list[RunState]:
+def review_status(library: Library) -> list[RunState]:
     """``formdb review status``: every run with its state and its signatures, oldest first."""
-    engine = open_library(db_url)
-    try:
-        with unit_of_work(engine) as session:
-            reference = queries.load_reference_data(session)
-            newer = _newer(session)
-            runs = session.scalars(select(ReviewRun).order_by(ReviewRun.id)).all()
-            return [_state(session, run, newer, reference) for run in runs]
-    finally:
-        engine.dispose()
+    with library.read() as session:
+        reference = queries.load_reference_data(session)
+        newer = _newer(session)
+        runs = session.scalars(select(ReviewRun).order_by(ReviewRun.id)).all()
+        return [_state(session, run, newer, reference) for run in runs]
 
 
 # ----- sign ---------------------------------------------------------------------------------
 
-def sign_run(db_url: str, key: str, meaning: str, signer: str, *, user: str,
+def sign_run(library: Library, key: str, meaning: str, signer: str, *, user: str,
              comment: str | None = None) -> SignatureInfo:
     """``formdb review sign``: a reviewer's sign-off on a current run (refused otherwise)."""
     meaning = meaning.strip().lower()
@@ -359,29 +351,25 @@ def sign_run(db_url: str, key: str, meaning: str, signer: str, *, user: str,
     if not signer or len(signer) > 200 or any(not c.isprintable() for c in signer):
         raise InvalidData(f"--as {signer!r}: give the signer's printed name (1-200 printable "
                           "characters).", hint="for example --as 'Dr. A. Reviewer'")
-    engine = open_library(db_url)
-    try:
-        with unit_of_work(engine) as session:
-            require(session, user, Action.SIGN_RUNS)
-            run = _find_run(session, key)
-            state = _state(session, run, _newer(session), queries.load_reference_data(session))
-            if state.state == "superseded":
-                raise Conflict(f"run {run.run_key} is superseded by run {state.superseded_by}; "
-                               "sign the newer run.", hint=f"formdb review sign "
-                               f"{state.superseded_by} ...")
-            if state.state == "stale":
-                raise Conflict(f"run {run.run_key} is stale: {state.changes[0]}"
-                               + (f" (and {len(state.changes) - 1} more change(s))"
-                                  if len(state.changes) > 1 else ""),
-                               hint="run the review again: formdb review run FILE")
-            now = datetime.now(UTC).replace(microsecond=0)
-            sig = ReviewSignature(run_id=run.id, run_hash=run.run_hash, signer=signer,
-                                  signed_by=user, meaning=meaning, signed_at=now,
-                                  comment=comment)
-            append_sealed(session, sig)
-            return SignatureInfo(signer, user, meaning, _stamp(now), comment, run.run_hash)
-    finally:
-        engine.dispose()
+    with library.write() as session:
+        require(session, user, Action.SIGN_RUNS)
+        run = _find_run(session, key)
+        state = _state(session, run, _newer(session), queries.load_reference_data(session))
+        if state.state == "superseded":
+            raise Conflict(f"run {run.run_key} is superseded by run {state.superseded_by}; "
+                           "sign the newer run.", hint=f"formdb review sign "
+                           f"{state.superseded_by} ...")
+        if state.state == "stale":
+            raise Conflict(f"run {run.run_key} is stale: {state.changes[0]}"
+                           + (f" (and {len(state.changes) - 1} more change(s))"
+                              if len(state.changes) > 1 else ""),
+                           hint="run the review again: formdb review run FILE")
+        now = datetime.now(UTC).replace(microsecond=0)
+        sig = ReviewSignature(run_id=run.id, run_hash=run.run_hash, signer=signer,
+                              signed_by=user, meaning=meaning, signed_at=now,
+                              comment=comment)
+        append_sealed(session, sig)
+        return SignatureInfo(signer, user, meaning, _stamp(now), comment, run.run_hash)
 
 
 # ----- report -------------------------------------------------------------------------------
@@ -402,25 +390,21 @@ class FiledRun:
     records: list[dict[str, Any]]
 
 
-def filed_run(db_url: str, key: str) -> FiledRun:
+def filed_run(library: Library, key: str) -> FiledRun:
     from formdb.services.labelling import declaration
 
-    engine = open_library(db_url)
-    try:
-        with unit_of_work(engine) as session:
-            run = _find_run(session, key)
-            reference = queries.load_reference_data(session)
-            state = _state(session, run, _newer(session), reference)
-            result = stored_result(run.result_json)
-            try:
-                resolved = resolve_all(session, [input_from_text(run.formula_text,
-                                                                 run.formula_name)])[0]
-                label = declaration(resolved, reference, result.facts.settings
-                                    .label_jurisdiction)
-            except InvalidData:
-                label = None
-            return FiledRun(state, run.formula_hash, run.library_hash, run.profile_name,
-                            run.profile_version, run.formdb_version, result, label,
-                            open_items(result, run.profile_name), json.loads(run.records_json))
-    finally:
-        engine.dispose()
+    with library.read() as session:
+        run = _find_run(session, key)
+        reference = queries.load_reference_data(session)
+        state = _state(session, run, _newer(session), reference)
+        result = stored_result(run.result_json)
+        try:
+            resolved = resolve_all(session, [input_from_text(run.formula_text,
+                                                             run.formula_name)])[0]
+            label = declaration(resolved, reference, result.facts.settings
+                                .label_jurisdiction)
+        except InvalidData:
+            label = None
+        return FiledRun(state, run.formula_hash, run.library_hash, run.profile_name,
+                        run.profile_version, run.formdb_version, result, label,
+                        open_items(result, run.profile_name), json.loads(run.records_json))

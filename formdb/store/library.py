@@ -36,8 +36,12 @@ class Library:
 
     opened: ClassVar[int] = 0  # how many libraries this process opened (tests count it)
 
-    def __init__(self, engine: Engine, *, owns_engine: bool = True) -> None:
-        self.engine = engine
+    def __init__(self, engine: Engine | None = None, *, url: str | None = None,
+                 owns_engine: bool = True) -> None:
+        if engine is None and url is None:
+            raise ValueError("give an engine or a url")
+        self._engine = engine
+        self._url = url
         self._owns_engine = owns_engine
         self._session: Session | None = None
         self._writing = False
@@ -46,13 +50,29 @@ class Library:
     @classmethod
     def open(cls, url: str) -> Library:
         """Open the library at ``url``; SchemaOutdated when it is missing or not at head."""
-        library = cls(open_library(url))
-        Library.opened += 1
+        library = cls(url=url)
+        _ = library.engine
         return library
+
+    @classmethod
+    def deferred(cls, url: str) -> Library:
+        """The library at ``url``, opened at its first use: a command checks its own input
+        (and may need no library at all) before a missing library is reported."""
+        return cls(url=url)
+
+    @property
+    def engine(self) -> Engine:
+        if self._engine is None:
+            assert self._url is not None
+            self._engine = open_library(self._url)
+            Library.opened += 1
+        return self._engine
 
     @property
     def url(self) -> str:
         """Where the library is, as it may be shown (password hidden)."""
+        if self._engine is None and self._url is not None:
+            return display_url(self._url)
         return display_url(self.engine.url)
 
     @property
@@ -98,8 +118,10 @@ class Library:
             session.close()
 
     def close(self) -> None:
-        if self._owns_engine:
-            self.engine.dispose()
+        if self._owns_engine and self._engine is not None:
+            self._engine.dispose()
+            if self._url is not None:
+                self._engine = None
 
     def __enter__(self) -> Library:
         return self

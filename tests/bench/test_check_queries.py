@@ -16,6 +16,7 @@ from formdb.bench import library
 from formdb.schemas.ingredient import name_key
 from formdb.services.checking import iter_check_stored
 from formdb.store import queries
+from tests.libraries import opened
 
 PLAN = library.LibraryPlan(ingredients=260, formulas=120, seed=11)
 # per batch: the name lookup, the ingredient rows, five child collections, the citations
@@ -56,7 +57,7 @@ def test_queries_per_batch_are_bounded(bench_library: str, counter: StatementCou
                                        batch_size: int) -> None:
     lines = 0
     count = 0
-    for result in iter_check_stored(bench_library, batch_size=batch_size):
+    for result in iter_check_stored(opened(bench_library), batch_size=batch_size):
         count += 1
         lines += len(result.facts.lines)
     batches = math.ceil(PLAN.formulas / batch_size)
@@ -79,7 +80,7 @@ def test_each_name_is_looked_up_once_per_run(bench_library: str,
         return real(session, names)
 
     monkeypatch.setattr(queries, "find_ingredients", recording)
-    seen = {line.inci for r in iter_check_stored(bench_library, batch_size=5)
+    seen = {line.inci for r in iter_check_stored(opened(bench_library), batch_size=5)
             for line in r.facts.lines}
     formula_keys = [k for k in asked if k not in _reference_names(bench_library)]
     assert len(formula_keys) == len(set(formula_keys))

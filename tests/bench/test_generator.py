@@ -21,6 +21,7 @@ from formdb.services.formulas import import_formulas
 from formdb.store.db import open_library, unit_of_work
 from formdb.store.models import ChangeLogEntry, Source, StoredFormula
 from tests.helpers import dump_database
+from tests.libraries import opened
 
 PLAN = library.LibraryPlan(ingredients=180, formulas=60, seed=7)
 TIMESTAMPS = ("at", "created_at", "updated_at")
@@ -100,7 +101,7 @@ def test_formulas_are_plausible_drafts() -> None:
 
 
 def test_every_formula_checks_without_input_errors(generated: Path) -> None:
-    results = list(iter_check_stored(str(generated), batch_size=25))
+    results = list(iter_check_stored(opened(str(generated)), batch_size=25))
     assert len(results) == PLAN.formulas
     for result in results:
         assert not [f for f in result.findings if f.rule == "BAL01"], result.formula
@@ -136,7 +137,7 @@ def test_stored_rows_are_what_formula_import_stores(generated: Path, tmp_path: P
         (folder / synthetic.formula_file_name(index)).write_text(text, encoding="utf-8")
     monkeypatch.chdir(tmp_path)
     paths = sorted(Path(library.FORMULA_FOLDER).glob("*.toml"))
-    report = import_formulas(str(copy), paths, user=library.BENCH_USER)
+    report = import_formulas(opened(str(copy)), paths, user=library.BENCH_USER)
     assert len(report.added) == PLAN.formulas
     assert _formula_rows(str(copy)) == _formula_rows(str(generated))
     first = _formula_rows(str(generated))[0]

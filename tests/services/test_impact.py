@@ -21,6 +21,7 @@ from formdb.services.ingredients import edit_ingredient
 from formdb.store.db import open_library, unit_of_work
 from formdb.store.models import Ingredient, MixtureConstituent
 from tests.helpers import run_formdb
+from tests.libraries import opened
 
 TONER = """name = "{name}"
 category = "leave-on"
@@ -50,7 +51,7 @@ def _formulas(url: str, folder: Path) -> None:
         path.write_text(TONER.format(name=name, preservative=preservative, amount=amount,
                                      water=water), encoding="utf-8")
         files.append(path)
-    import_formulas(url, files, user="larkspur-lab")
+    import_formulas(opened(url), files, user="larkspur-lab")
 
 
 def _edit(url: str, **values: str) -> None:
@@ -68,7 +69,7 @@ def test_impact_lists_exactly_the_formulas_whose_verdict_changed(
         seeded_library_url: str, tmp_path: Path) -> None:
     _formulas(seeded_library_url, tmp_path)
     _edit(seeded_library_url, molar_mass="160")
-    report = impact_of(seeded_library_url, "Sodium Benzoate")
+    report = impact_of(opened(seeded_library_url), "Sodium Benzoate")
     assert report.version == 2 and report.baseline_version == 1
     assert sorted(f.formula for f in report.formulas) == ["Larkspur toner A", "Larkspur toner B"]
     assert sorted(f.formula for f in report.changed) == ["Larkspur toner A", "Larkspur toner B"]
@@ -93,7 +94,7 @@ def test_an_edit_that_changes_nothing_lists_the_users_unchanged(
         seeded_library_url: str, tmp_path: Path) -> None:
     _formulas(seeded_library_url, tmp_path)
     _edit(seeded_library_url, viscosity_mpas="1")  # no rule reads it for this formula
-    report = impact_of(seeded_library_url, "Sodium Benzoate")
+    report = impact_of(opened(seeded_library_url), "Sodium Benzoate")
     assert len(report.formulas) == 2 and report.changed == []
     result = run_formdb(["--db", seeded_library_url, "impact", "Sodium Benzoate"])
     assert result.exit_code == 0 and "changed: 0" in result.stdout
@@ -104,8 +105,8 @@ def test_since_a_version_and_bad_input(seeded_library_url: str, tmp_path: Path) 
     _edit(seeded_library_url, molar_mass="160")
     _edit(seeded_library_url, viscosity_mpas="1")
     # against version 2 (after the molar mass change) nothing changed; against 1 the verdict did
-    assert impact_of(seeded_library_url, "Sodium Benzoate").changed == []
-    assert len(impact_of(seeded_library_url, "Sodium Benzoate", since="1").changed) == 2
+    assert impact_of(opened(seeded_library_url), "Sodium Benzoate").changed == []
+    assert len(impact_of(opened(seeded_library_url), "Sodium Benzoate", since="1").changed) == 2
     for args, words in ((["Sodium Benzoat"], "no ingredient"),
                         (["Sodium Benzoate", "--since", "9"], "versions 1 to 3"),
                         (["Sodium Benzoate", "--since", "no-such-run"], "no review run")):
@@ -131,9 +132,9 @@ def test_a_mixture_containing_it_counts_as_a_use(seeded_library_url: str, tmp_pa
     path = tmp_path / "scented.toml"
     path.write_text(TONER.format(name="Larkspur scented toner", preservative="Parfum",
                                  amount=1.24, water=93.76), encoding="utf-8")
-    import_formulas(seeded_library_url, [path], user="larkspur-lab")
+    import_formulas(opened(seeded_library_url), [path], user="larkspur-lab")
     _edit(seeded_library_url, molar_mass="160")
-    report = impact_of(seeded_library_url, "Sodium Benzoate")
+    report = impact_of(opened(seeded_library_url), "Sodium Benzoate")
     (item,) = report.formulas
     assert "a mixture containing Sodium Benzoate" in item.via[0]
     # 1.24 % Parfum x 50 % = 0.62 % sodium benzoate: the same flip as the plain formulas

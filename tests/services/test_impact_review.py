@@ -14,12 +14,13 @@ from formdb.services.impact import impact_of
 from formdb.services.review import run_review, sign_run
 from formdb.store.db import make_engine
 from tests.helpers import run_formdb
+from tests.libraries import opened
 from tests.services.test_impact import _edit, _formulas
 
 
 def _signed_run(url: str, formula: str) -> str:
-    summary = run_review(url, f"stored:{formula}", user="larkspur-reviewer")
-    sign_run(url, summary.run_key, "reviewed", "A. Reviewer", user="larkspur-reviewer")
+    summary = run_review(opened(url), f"stored:{formula}", user="larkspur-reviewer")
+    sign_run(opened(url), summary.run_key, "reviewed", "A. Reviewer", user="larkspur-reviewer")
     return summary.run_key
 
 
@@ -28,7 +29,7 @@ def test_impact_compares_with_the_run_and_names_the_stale_signature(
     _formulas(seeded_library_url, tmp_path)
     key = _signed_run(seeded_library_url, "Larkspur toner A")
     _edit(seeded_library_url, molar_mass="160")
-    report = impact_of(seeded_library_url, "Sodium Benzoate")
+    report = impact_of(opened(seeded_library_url), "Sodium Benzoate")
     by_name = {f.formula: f for f in report.formulas}
     assert sorted(by_name) == ["Larkspur toner A", "Larkspur toner B"]
     with_run, without = by_name["Larkspur toner A"], by_name["Larkspur toner B"]
@@ -40,7 +41,7 @@ def test_impact_compares_with_the_run_and_names_the_stale_signature(
         key, "Larkspur toner A", 1, 2)
     assert "reviewed by A. Reviewer" in stale.signatures[0] and not stale.superseded
     # --since RUN: every formula against the ingredient as that run used it
-    since = impact_of(seeded_library_url, "Sodium Benzoate", since=key)
+    since = impact_of(opened(seeded_library_url), "Sodium Benzoate", since=key)
     assert since.baseline_version == 1 and len(since.changed) == 2
     result = run_formdb(["--db", seeded_library_url, "impact", "Sodium Benzoate",
                          "--format", "json"])

@@ -23,6 +23,7 @@ from sqlalchemy import select, text
 from formdb.store.db import make_engine, unit_of_work
 from formdb.store.models import ChangeLogEntry, ReviewRun, ReviewSignature
 from tests.helpers import dump_database, run_formdb
+from tests.libraries import opened
 
 CREAM = Path(__file__).parents[1] / "golden" / "formulas" / "ow-cream.toml"
 NAME = "Larkspur LB-G01 day cream"
@@ -229,7 +230,7 @@ def test_runs_of_the_same_content_in_one_second_get_their_own_keys(seeded_sqlite
                                                                     cream: Path) -> None:
     from formdb.services.review import run_review
 
-    keys = [run_review(seeded_sqlite_url, str(cream), user="ana").run_key for _ in range(3)]
+    keys = [run_review(opened(seeded_sqlite_url), str(cream), user="ana").run_key for _ in range(3)]
     assert len(set(keys)) == 3
     runs = _runs(seeded_sqlite_url)
     assert [r.supersedes_run_id for r in runs] == [None, runs[0].id, runs[1].id]

@@ -18,6 +18,7 @@ from formdb.services.setup import init_library
 from formdb.store.db import open_library, unit_of_work
 from formdb.store.queries import load_reference_data
 from tests.helpers import dump_database
+from tests.libraries import opened
 
 TOX_HEADER = ("key,inci,pod_kind,pod_value,pod_unit,route,species,study,source,"
               "dermal_absorption_percent,dermal_absorption_source,oral_bioavailability_percent,"
@@ -112,7 +113,7 @@ def test_a_check_shows_the_arithmetic_and_flags_the_defaults(seeded_sqlite_url: 
                                                             tmp_path: Path) -> None:
     path = tmp_path / "lotion.toml"
     path.write_text(LOTION, encoding="utf-8")
-    [result] = check_files(seeded_sqlite_url, [path], "strict")
+    [result] = check_files(opened(seeded_sqlite_url), [path], "strict")
     sheet = result.to_contract_json()["facts"]["exposure"]
     assert sheet["product"] == "body lotion" and sheet["exposure_mg_kg_bw_day"] == 123.2
     [line] = sheet["lines"]
@@ -137,7 +138,7 @@ def test_the_text_and_html_reports_show_the_sheet(seeded_sqlite_url: str,
     path = tmp_path / "lotion.toml"
     path.write_text(LOTION.replace("Larkspur LB-S01", "Larkspur <b>LB-S01</b>"),
                     encoding="utf-8")
-    [result] = check_files(seeded_sqlite_url, [path], "default")
+    [result] = check_files(opened(seeded_sqlite_url), [path], "default")
     text = render_text([result])
     assert "EXPOSURE AND MARGIN OF SAFETY" in text
     assert "MoS = PoD_sys / SED = 357 / 0.616 = 579.5: at least 100" in text
@@ -181,7 +182,7 @@ def test_allergens_are_summed_and_listed_for_the_label(seeded_sqlite_url: str,
 
     path = tmp_path / "wash.toml"
     path.write_text(WASH, encoding="utf-8")
-    [result] = check_files(seeded_sqlite_url, [path], "default")
+    [result] = check_files(opened(seeded_sqlite_url), [path], "default")
     table = result.facts.allergens
     assert table is not None and table.threshold_percent == 0.01
     assert table.source == "reg-1223-2009-annex-iii-allergens"
@@ -238,7 +239,7 @@ def test_a_mixture_is_exploded_into_its_constituents(seeded_sqlite_url: str,
     init_library(seeded_sqlite_url, seed=True, user="larkspur-test", seed_dir=folder)
     path = tmp_path / "cream.toml"
     path.write_text(CREAM, encoding="utf-8")
-    [result] = check_files(seeded_sqlite_url, [path], "default")
+    [result] = check_files(opened(seeded_sqlite_url), [path], "default")
     shares = {s.inci: s.percent for s in result.facts.substances}
     # 0.5 % Parfum: Limonene 0.5 x 2/100 = 0.01 %, Linalool 0.5 x 0.1/100 = 0.0005 %,
     # undeclared Parfum 0.5 x 97.9/100 = 0.4895 %

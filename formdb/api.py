@@ -1,0 +1,177 @@
+"""formdb's public Python API: everything the command line does, as functions.
+
+Open a library once and pass it to every call; each call is one unit of work, and a block
+``with library.read():`` (or ``write()``) makes several calls share one snapshot or one
+transaction, exactly as one command does. The functions return the same pydantic records that
+``--format json`` prints (``CheckResult.to_contract_json()`` is that JSON).
+
+    from formdb import api
+
+    library = api.create_library("larkspur.sqlite", seed=True)
+    result = api.check(library, Path("cream.toml"))
+    print(result.facts.blend_hlb, [f.rule for f in result.findings])
+
+A formula is given as a ``Path`` to a TOML file, as TOML text (a ``str``) or as a mapping with
+the keys of the formula file. Bad input raises ``formdb.errors.InvalidData`` (a ``FormdbError``)
+naming the file, row and field, and the library is left as it was. Changes are recorded under
+``user``; without one, the operating-system account that runs the program.
+"""
+
+from __future__ import annotations
+
+import getpass
+from collections.abc import Iterable, Iterator, Mapping
+from pathlib import Path
+from typing import Any
+
+from formdb.errors import InvalidData
+from formdb.rules.profiles import Profile, load_profile
+from formdb.schemas.ingredient import IngredientRecord
+from formdb.schemas.result import CheckResult
+from formdb.store.library import Library
+
+FormulaGiven = Path | str | Mapping[str, Any]
+ProfileGiven = Profile | str | None
+
+
+def _os_user() -> str:
+    try:
+        return getpass.getuser()
+    except Exception:  # no login name in some containers
+        return "unknown"
+
+
+# ----- the library ------------------------------------------------------------------------------
+
+def open_library(url: str = "formdb.sqlite") -> Library:
+    """The library at ``url`` (a SQLite file path or a ``postgresql+psycopg://`` URL), at the
+    newest schema; ``formdb.errors.SchemaOutdated`` when it is missing or older."""
+    return Library.open(url)
+
+
+def create_library(url: str = "formdb.sqlite", *, seed: bool = False,
+                   user: str | None = None) -> Library:
+    """Create (or upgrade) the library at ``url`` and open it; ``seed`` loads the bundled
+    ingredient library, limit lists and profiles (what ``formdb init --seed`` does)."""
+    from formdb.services.setup import init_library
+
+    init_library(url, seed=seed, user=user or _os_user())
+    return Library.open(url)
+
+
+# ----- checking ---------------------------------------------------------------------------------
+
+def _as_input(formula: FormulaGiven, label: str | None) -> Any:
+    from formdb.services.checking import input_from_text, read_inputs
+
+    if isinstance(formula, Path):
+        return read_inputs([formula])[0]
+    if isinstance(formula, str):
+        return input_from_text(formula, label or "<formula text>")
+    if isinstance(formula, Mapping):
+        import tomli_w
+
+        try:
+            text = tomli_w.dumps(dict(formula))
+        except (TypeError, ValueError) as exc:
+            raise InvalidData(f"{label or '<formula mapping>'}: cannot be written as a formula "
+                              f"file ({exc})", hint="use the keys and types of the formula "
+                              "file (README)") from None
+        return input_from_text(text, label or "<formula mapping>")
+    raise TypeError(f"a formula is a Path, TOML text or a mapping, not {type(formula).__name__}")
+
+
+def check(library: Library, formula: FormulaGiven, *, profile: ProfileGiven = "default",
+          label: str | None = None) -> CheckResult:
+    """Check one formula against the library (``formdb check FILE``)."""
+    return check_many(library, [formula], profile=profile, labels=[label])[0]
+
+
+def check_many(library: Library, formulas: Iterable[FormulaGiven], *,
+               profile: ProfileGiven = "default",
+               labels: Iterable[str | None] | None = None) -> list[CheckResult]:
+    """Check several formulas in one snapshot; the problems of every input are raised at once."""
+    from formdb.services.checking import check_inputs
+
+    given = list(formulas)
+    names = list(labels) if labels is not None else [None] * len(given)
+    items = [_as_input(f, n) for f, n in zip(given, names, strict=True)]
+    return check_inputs(library, items, _profile(profile))
+
+
+def check_stored(library: Library, *, profile: ProfileGiven = "default") -> Iterator[CheckResult]:
+    """Check every formula stored in the library, one result at a time (``check --all``)."""
+    from formdb.services.checking import iter_check_stored
+
+    return iter_check_stored(library, _profile(profile))
+
+
+def _profile(profile: ProfileGiven) -> Profile:
+    return profile if isinstance(profile, Profile) else load_profile(profile or "default")
+
+
+# ----- ingredients ------------------------------------------------------------------------------
+
+def list_ingredients(library: Library, *, role: str | None = None,
+                     include_retired: bool = False) -> list[IngredientRecord]:
+    """The library's ingredients (``formdb ingredient list --format json``)."""
+    from formdb.services.ingredients import list_ingredients as listed
+
+    with library.read() as session:
+        return listed(session, role=role, include_retired=include_retired)
+
+
+def show_ingredient(library: Library, name: str) -> IngredientRecord:
+    """One ingredient by INCI name or synonym, every value with its provenance."""
+    from formdb.services.ingredients import show_ingredient as shown
+
+    with library.read() as session:
+        return shown(session, name).record
+
+
+def import_ingredients(library: Library, path: Path, *, user: str | None = None,
+                       reason: str | None = None, dry_run: bool = False) -> Any:
+    """Import a CSV or XLSX ingredient table, all rows or none (``formdb ingredient import``);
+    returns the report of what was (or would be) added and changed."""
+    from formdb.services.ingredients import import_table
+
+    with library.write() as session:
+        return import_table(session, path, user=user or _os_user(), reason=reason,
+                            dry_run=dry_run)
+
+
+# ----- the review flow --------------------------------------------------------------------------
+
+def run_review(library: Library, source: Path | str, *, profile: ProfileGiven = None,
+               user: str | None = None) -> Any:
+    """Check a formula file (or ``stored:NAME``) and store an immutable review run."""
+    from formdb.services.review import run_review as run
+
+    return run(library, str(source), profile, user=user or _os_user())
+
+
+def sign_review(library: Library, run_key: str, meaning: str, signer: str, *,
+                user: str | None = None, comment: str | None = None) -> Any:
+    """Sign a current review run (``formdb review sign``)."""
+    from formdb.services.review import sign_run
+
+    return sign_run(library, run_key, meaning, signer, user=user or _os_user(), comment=comment)
+
+
+def review_status(library: Library) -> list[Any]:
+    """Every review run with its state (current, stale, superseded) and signatures."""
+    from formdb.services.review import review_status as status
+
+    return status(library)
+
+
+def filed_review(library: Library, run_key: str) -> Any:
+    """A stored run as filed: its result, records and signatures (``formdb review report``)."""
+    from formdb.services.review import filed_run
+
+    return filed_run(library, run_key)
+
+
+__all__ = ["Library", "check", "check_many", "check_stored", "create_library", "filed_review",
+           "import_ingredients", "list_ingredients", "open_library", "review_status",
+           "run_review", "show_ingredient", "sign_review"]
