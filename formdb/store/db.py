@@ -340,25 +340,13 @@ def translate_failure(exc: BaseException, engine: Engine) -> FormdbError | None:
 
 @contextmanager
 def unit_of_work(engine: Engine, *, write: bool = False) -> Iterator[Session]:
-    """One transaction: commit when the block ends, roll back on any exception.
+    """One transaction on an engine the caller owns (administration and tests), run by the
+    Library's own unit: ``write`` takes the write lock up front, as ``Library.write()`` does;
+    without it, a plain transaction that may still write (no read-only snapshot)."""
+    from formdb.store.library import Library
 
-    ``write``: the block will write; on SQLite the write lock is taken at the start, so two
-    writers queue up instead of the second failing at commit. Database failures that are not
-    bugs (a busy file, a concurrent edit) become FormdbErrors so the CLI prints one line.
-    """
-    bind = engine.execution_options(**{WRITE_LOCK: True}) if write else engine
-    session = LibrarySession(bind, expire_on_commit=False)
-    try:
+    with Library(engine, owns_engine=False)._unit(write=write, snapshot=False) as session:
         yield session
-        session.commit()
-    except BaseException as exc:
-        session.rollback()
-        problem = translate_failure(exc, engine)
-        if problem is not None:
-            raise problem from exc
-        raise
-    finally:
-        session.close()
 
 
 @contextmanager

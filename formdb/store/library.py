@@ -88,7 +88,9 @@ class Library:
         return self._unit(write=True)
 
     @contextmanager
-    def _unit(self, *, write: bool) -> Iterator[Session]:
+    def _unit(self, *, write: bool, snapshot: bool = True) -> Iterator[Session]:
+        """``snapshot`` False: a plain (READ COMMITTED) transaction that may write without the
+        up-front lock, as ``store.db.unit_of_work`` gives administration and tests."""
         if self._session is not None:
             if write and not self._writing:
                 raise RuntimeError("a write unit was opened inside a read unit; open the "
@@ -97,12 +99,12 @@ class Library:
             return
         if write:
             bind = self.engine.execution_options(**{WRITE_LOCK: True})
-        elif self.dialect == "postgresql":
+        elif snapshot and self.dialect == "postgresql":
             bind = self.engine.execution_options(**READ_SNAPSHOT)
         else:
             bind = self.engine
         session = LibrarySession(bind, expire_on_commit=False)
-        self._session, self._writing = session, write
+        self._session, self._writing = session, write or not snapshot
         self.transactions += 1
         try:
             yield session
