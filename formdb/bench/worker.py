@@ -31,7 +31,6 @@ def peak_mb() -> float:
 def check_all(url: str) -> dict[str, Any]:
     from formdb.schemas.vocab import Severity
     from formdb.services.checking import iter_check_stored
-
     from formdb.store.library import Library
 
     count = errors = findings = 0

@@ -5,7 +5,8 @@ from __future__ import annotations
 import click
 
 from formdb.cli.main import AppContext
-from formdb.services.setup import InitReport, init_library
+from formdb.schemas.admin import InitReport
+from formdb.services.setup import init_library
 
 
 def render_init(report: InitReport) -> list[str]:

@@ -22,7 +22,7 @@ from formdb.report import numbers as n
 from formdb.schemas.result import rounded
 
 if TYPE_CHECKING:  # the report layer only reads these records; it does not call services
-    from formdb.services.blending import BlendMember, BlendPlan, PairCandidate, PairSearch
+    from formdb.schemas.blend import BlendMember, BlendPlan, PairCandidate, PairSearch
 
 WIDTH = 100
 BLEND_FORMATS = ("text", "json")

@@ -15,33 +15,16 @@ own writes are rolled back.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from datetime import UTC, datetime
-from enum import StrEnum
 
 from sqlalchemy import select
 from sqlalchemy.orm import Session, selectinload
 
 from formdb.errors import Conflict, Forbidden, InvalidData, NotFound
+from formdb.schemas.admin import Action, Duty, UserInfo
 from formdb.store.models import ChangeLogEntry, User, UserRole
 
 ENTITY = "user"
-
-
-class Duty(StrEnum):
-    ADMIN = "admin"
-    EDITOR = "editor"
-    FORMULATOR = "formulator"
-    REVIEWER = "reviewer"
-
-
-class Action(StrEnum):
-    """Guarded actions, each with the one role it needs (NEEDS)."""
-
-    CHANGE_LIBRARY = "change the library"
-    STORE_FORMULAS = "store formulas"
-    SIGN_RUNS = "sign runs"
-    MANAGE_USERS = "manage users"
 
 
 NEEDS: dict[Action, Duty] = {
@@ -50,13 +33,6 @@ NEEDS: dict[Action, Duty] = {
     Action.SIGN_RUNS: Duty.REVIEWER,
     Action.MANAGE_USERS: Duty.ADMIN,
 }
-
-
-@dataclass(frozen=True)
-class UserInfo:
-    name: str
-    active: bool
-    roles: tuple[str, ...]
 
 
 def parse_duty(text: str) -> Duty:

@@ -16,53 +16,18 @@ get INSERT only on the change log (``formdb db grant-setup``).
 from __future__ import annotations
 
 from collections import deque
-from dataclasses import dataclass, field
 from typing import Any
 
 from sqlalchemy import inspect, select
 from sqlalchemy.orm import Session
 
+from formdb.schemas.audit import AuditReport, ChainProblem, ChainReport
 from formdb.store.library import Library
 from formdb.store.models import Base
 from formdb.store.sealing import GENESIS, SEALED_COLUMNS, canonical, row_hash, seal
 
 _WINDOW = 64  # recent hashes kept to recognise rows slipped in between two sealed rows
 _MAX_PROBLEMS = 20  # per table; the first is what matters, the rest show the extent
-
-
-@dataclass(frozen=True)
-class ChainProblem:
-    table: str
-    row_id: int
-    kind: str  # altered | removed | inserted | unsealed | broken-link
-    detail: str
-
-
-@dataclass
-class ChainReport:
-    table: str
-    rows: int = 0
-    head_id: int | None = None
-    head_hash: str | None = None
-    problems: list[ChainProblem] = field(default_factory=list)
-    more_problems: int = 0
-
-    @property
-    def intact(self) -> bool:
-        return not self.problems
-
-
-@dataclass(frozen=True)
-class AuditReport:
-    chains: list[ChainReport]
-
-    @property
-    def intact(self) -> bool:
-        return all(c.intact for c in self.chains)
-
-    @property
-    def first_problem(self) -> ChainProblem | None:
-        return next((p for c in self.chains for p in c.problems), None)
 
 
 def append_sealed(session: Session, row: Any) -> Any:

@@ -15,7 +15,6 @@ import json
 import sqlite3
 import zipfile
 from collections.abc import Iterator
-from dataclasses import dataclass
 from datetime import date, datetime
 from pathlib import Path
 from typing import Any
@@ -25,34 +24,11 @@ from alembic.script import ScriptDirectory
 from sqlalchemy import Connection, Date, DateTime, Engine, MetaData, func, insert, select, text
 
 from formdb.errors import ConfigError, InvalidData
+from formdb.schemas.admin import BackupReport, RevisionInfo, Status
 from formdb.store import db as store
 
 BACKUP_FORMAT = "formdb-backup-1"
 _BATCH = 1000
-
-
-@dataclass(frozen=True)
-class RevisionInfo:
-    revision: str
-    down_revision: str | None
-    title: str
-    is_current: bool
-    is_head: bool
-
-
-@dataclass(frozen=True)
-class Status:
-    database: str
-    current: str | None
-    head: str
-
-
-@dataclass(frozen=True)
-class BackupReport:
-    database: str
-    path: Path
-    revision: str | None
-    tables: dict[str, int]  # rows per table (the SQLite copy: the library's tables)
 
 
 def _engine(url: str) -> Engine:

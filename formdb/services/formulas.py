@@ -6,35 +6,19 @@ byte) with its SHA-256; re-importing changed text bumps its version and logs the
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
 
 from formdb.errors import Conflict, NotFound
+from formdb.schemas.admin import Action
 from formdb.schemas.ingredient import name_key
-from formdb.services.access import Action, require
+from formdb.schemas.stored import FormulaImportReport, StoredFormulaInfo
+from formdb.services.access import require
 from formdb.services.checking import read_inputs, resolve_all
 from formdb.services.formula_files import content_hash
 from formdb.store.formulas import formula_names, get_formula, iter_stored_formulas
 from formdb.store.library import Library
 from formdb.store.models import ChangeLogEntry, StoredFormula
-
-
-@dataclass(frozen=True)
-class StoredFormulaInfo:
-    name: str
-    version: int
-    content_hash: str
-    updated_at: datetime
-    updated_by: str
-    lines: int
-
-
-@dataclass(frozen=True)
-class FormulaImportReport:
-    added: list[str]
-    changed: list[str]
-    unchanged: list[str]
 
 
 def import_formulas(library: Library, paths: list[Path], *, user: str,

@@ -20,11 +20,11 @@ A person's login gets a duty with ``GRANT PREFIX_editor TO their_login``. Run it
 from __future__ import annotations
 
 import re
-from dataclasses import dataclass
 
 from sqlalchemy import inspect, text
 
 from formdb.errors import ConfigError, InvalidData
+from formdb.schemas.admin import GrantReport
 from formdb.store import db as store
 
 FORMULA_TABLES = frozenset({"formulas"})
@@ -37,12 +37,6 @@ _NAME = re.compile(r"^[a-z][a-z0-9_]{0,40}$")
 
 def _is_review(table: str) -> bool:
     return table.startswith(("review", "sign"))
-
-
-@dataclass(frozen=True)
-class GrantReport:
-    database: str
-    roles: dict[str, list[str]]  # role -> tables it may write
 
 
 def grant_setup(url: str, prefix: str = "formdb") -> GrantReport:

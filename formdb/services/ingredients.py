@@ -19,6 +19,7 @@ from sqlalchemy.orm import Session, selectinload
 from sqlalchemy.orm.exc import StaleDataError
 
 from formdb.errors import Conflict, InvalidData, NotFound
+from formdb.schemas.admin import Action
 from formdb.schemas.ingredient import (
     PROPERTY_NAMES,
     IngredientIn,
@@ -27,7 +28,7 @@ from formdb.schemas.ingredient import (
     normalise_inci,
 )
 from formdb.schemas.vocab import Evidence, Role
-from formdb.services.access import Action, require
+from formdb.services.access import require
 from formdb.services.ingredient_fields import (
     EDITABLE_FIELDS,
     NAME_COLUMN,

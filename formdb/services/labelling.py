@@ -9,13 +9,13 @@ labelling threshold are named (ALG01's table); they are marked in the result.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from pathlib import Path
 
 from formdb.errors import ConfigError
 from formdb.rules.allergen_table import allergen_table
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.ingredient import name_key
+from formdb.schemas.labels import LabelDeclaration, LabelEntry
 from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import FactsSettings
 from formdb.schemas.vocab import Role
@@ -25,28 +25,6 @@ from formdb.store.library import Library
 
 ORDERED_ABOVE_PERCENT = 1.0
 JURISDICTIONS = ("EU",)
-
-
-@dataclass(frozen=True)
-class LabelEntry:
-    name: str
-    percent: float
-    group: str  # "above 1 %", "1 % or less", "colourant"
-    allergen: bool
-    given_as: tuple[str, ...]  # the names the formula used for it
-
-
-@dataclass(frozen=True)
-class LabelDeclaration:
-    formula: str
-    category: str
-    jurisdiction: str
-    entries: tuple[LabelEntry, ...]
-    allergens_named: tuple[str, ...]
-
-    @property
-    def text(self) -> str:
-        return ", ".join(entry.name for entry in self.entries)
 
 
 def declaration(formula: ResolvedFormula, reference: ReferenceData,

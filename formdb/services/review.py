@@ -13,7 +13,6 @@ from __future__ import annotations
 
 import hashlib
 import json
-from dataclasses import dataclass, field
 from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any
@@ -26,11 +25,13 @@ from formdb import __version__
 from formdb.errors import Conflict, InvalidData, NotFound
 from formdb.rules.engine import check_resolved
 from formdb.rules.profiles import Profile, load_profile
+from formdb.schemas.admin import Action
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.ingredient import IngredientRecord, name_key
 from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import CheckResult
-from formdb.services.access import Action, require
+from formdb.schemas.review import FiledRun, RunState, RunSummary, SignatureInfo
+from formdb.services.access import require
 from formdb.services.audit import append_sealed
 from formdb.services.checking import FormulaInput, input_from_text, read_inputs, resolve_all
 from formdb.services.formula_files import content_hash
@@ -103,18 +104,6 @@ def library_hash(records: list[dict[str, Any]]) -> str:
 
 
 # ----- run ----------------------------------------------------------------------------------
-
-@dataclass(frozen=True)
-class RunSummary:
-    run_key: str
-    run_hash: str
-    formula: str
-    verdict: str
-    errors: int
-    warnings: int
-    open_items: int
-    records: int
-    supersedes: str | None
 
 
 def open_items(result: CheckResult, profile_name: str) -> list[dict[str, Any]]:
@@ -197,30 +186,6 @@ def run_review(library: Library, source: str, profile: Profile | str | None = No
 
 
 # ----- state --------------------------------------------------------------------------------
-
-@dataclass(frozen=True)
-class SignatureInfo:
-    signer: str
-    signed_by: str
-    meaning: str
-    signed_at: str
-    comment: str | None
-    run_hash: str
-
-
-@dataclass
-class RunState:
-    run_key: str
-    run_hash: str
-    formula: str
-    source: str
-    profile: str
-    created_at: str
-    created_by: str
-    state: str = "current"  # current | stale | superseded
-    superseded_by: str | None = None
-    changes: list[str] = field(default_factory=list)
-    signatures: list[SignatureInfo] = field(default_factory=list)
 
 
 def _utc(at: datetime) -> datetime:
@@ -373,21 +338,6 @@ def sign_run(library: Library, key: str, meaning: str, signer: str, *, user: str
 
 
 # ----- report -------------------------------------------------------------------------------
-
-@dataclass(frozen=True)
-class FiledRun:
-    """What a filed report shows: the stored run, its state now and the stored result."""
-
-    state: RunState
-    formula_hash: str
-    library_hash: str
-    profile_name: str
-    profile_version: str
-    formdb_version: str
-    result: CheckResult
-    label: Any  # formdb.services.labelling.LabelDeclaration, or None when it cannot be made
-    open_items: list[dict[str, Any]]
-    records: list[dict[str, Any]]
 
 
 def filed_run(library: Library, key: str) -> FiledRun:

@@ -10,7 +10,6 @@ from __future__ import annotations
 
 import json
 import sqlite3
-from dataclasses import dataclass, field
 from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any
@@ -20,6 +19,7 @@ from sqlalchemy.orm import Session
 
 from formdb.errors import ConfigError, SchemaOutdated
 from formdb.resources import seed_data_dir
+from formdb.schemas.admin import InitReport, TableCounts
 from formdb.services import seed_safety, seed_tables
 from formdb.services.ingredients import SPECIAL_SOURCES
 from formdb.store.db import (
@@ -57,37 +57,6 @@ BUILTIN_SOURCES: tuple[dict[str, Any], ...] = tuple(
     {"key": key, "citation": citation, "evidence": evidence, "url": None, "seen": "calc",
      "note": None}
     for key, (evidence, citation) in SPECIAL_SOURCES.items())
-
-
-@dataclass(frozen=True)
-class TableCounts:
-    added: int = 0
-    changed: int = 0
-    unchanged: int = 0
-
-
-@dataclass(frozen=True)
-class InitReport:
-    """What ``init`` did: the revision before and after, and per seeded table what changed."""
-
-    database: str
-    revision_before: str | None
-    revision: str
-    seeded: dict[str, TableCounts] = field(default_factory=dict)
-    builtin_sources_added: int = 0
-
-    @property
-    def created(self) -> bool:
-        return self.revision_before is None
-
-    @property
-    def upgraded(self) -> bool:
-        return self.revision_before != self.revision
-
-    @property
-    def changed_anything(self) -> bool:
-        return (self.upgraded or self.builtin_sources_added > 0
-                or any(c.added or c.changed for c in self.seeded.values()))
 
 
 def init_library(url: str, *, seed: bool, user: str, seed_dir: Path | None = None) -> InitReport:

@@ -10,7 +10,8 @@ import pytest
 from sqlalchemy import select
 
 from formdb.errors import Forbidden
-from formdb.services.access import Action, add_user, grant, is_open, list_users, require
+from formdb.schemas.admin import Action
+from formdb.services.access import add_user, grant, is_open, list_users, require
 from formdb.store.db import make_engine, unit_of_work
 from formdb.store.models import ChangeLogEntry
 from tests.fixtures.tables.library_setup import build_library

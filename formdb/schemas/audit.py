@@ -1,0 +1,40 @@
+"""What `formdb audit verify` found in each hash chain (built by services.audit)."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+
+@dataclass(frozen=True)
+class ChainProblem:
+    table: str
+    row_id: int
+    kind: str  # altered | removed | inserted | unsealed | broken-link
+    detail: str
+
+
+@dataclass
+class ChainReport:
+    table: str
+    rows: int = 0
+    head_id: int | None = None
+    head_hash: str | None = None
+    problems: list[ChainProblem] = field(default_factory=list)
+    more_problems: int = 0
+
+    @property
+    def intact(self) -> bool:
+        return not self.problems
+
+
+@dataclass(frozen=True)
+class AuditReport:
+    chains: list[ChainReport]
+
+    @property
+    def intact(self) -> bool:
+        return all(c.intact for c in self.chains)
+
+    @property
+    def first_problem(self) -> ChainProblem | None:
+        return next((p for c in self.chains for p in c.problems), None)
