@@ -23,12 +23,18 @@ def demo_cmd(app: AppContext, fmt: str, out: Path | None, keep: Path | None) -> 
     The formulas belong to Larkspur Bench Laboratories, an invented lab; the findings are real
     output of the checker on the bundled seed library. Always exits 0.
     """
+    from formdb.cli.checking import write_report
+    from formdb.report.demo import INTRO, demo_report, demo_report_files, demo_summary
     from formdb.services.demo import run_demo
 
     demo = run_demo(keep=keep, user=app.user)
-    click.echo(demo.intro)
-    click.echo(demo.render(fmt))
+    click.echo(INTRO)
+    click.echo(demo_report(demo, fmt))
     if out is not None:
-        written = demo.write_reports(out, fmt)
+        out.mkdir(parents=True, exist_ok=True)
+        written = []
+        for name, text in demo_report_files(demo, fmt).items():
+            write_report(out / name, text)
+            written.append(out / name)
         click.echo(f"Reports written: {', '.join(str(p) for p in written)}")
-    click.echo(demo.summary())
+    click.echo(demo_summary(demo))

@@ -41,20 +41,10 @@ def import_cmd(app: AppContext, library: Library, files: tuple[Path, ...],
 @with_library
 def list_cmd(app: AppContext, library: Library) -> None:
     """List stored formulas with version, lines and last change."""
-    from rich.console import Console
-    from rich.table import Table
-
+    from formdb.report.library import formula_list
     from formdb.services.formulas import list_formulas
 
-    rows = list_formulas(library)
-    table = Table("name", "version", "lines", "updated (UTC)", "by", "sha-256")
-    for info in rows:
-        table.add_row(info.name, str(info.version), str(info.lines),
-                      info.updated_at.strftime("%Y-%m-%d %H:%M"), info.updated_by,
-                      info.content_hash[:12])
-    Console().print(table)
-    if not rows:
-        click.echo("No stored formulas yet: `formdb formula import FILE`.")
+    click.echo(formula_list(list_formulas(library)), nl=False)
 
 
 @formula_group.command("show")

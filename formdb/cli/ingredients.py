@@ -7,32 +7,28 @@ one of them (one ``Error:`` line each) and exits 2.
 
 from __future__ import annotations
 
-import csv
-import io
-import json
 import sys
 from collections.abc import Sequence
-from datetime import UTC, datetime
 from pathlib import Path
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING
 
 import click
 
 from formdb.cli.main import AppContext, with_library
+from formdb.report.library import record_changes
 
 if TYPE_CHECKING:
     from formdb.store.library import Library
 
-CAUTION = ("A screening aid, not a safety assessment: check values against current sources, "
-           "and defer to the regulation and a qualified safety assessor.")
 
 
 
 
-def _console() -> Any:
-    from rich.console import Console
+def _width() -> int | None:
+    """The terminal's width for tables; None (160 columns) into a pipe or file."""
+    import shutil
 
-    return Console(width=None if sys.stdout.isatty() else 160, highlight=False)
+    return shutil.get_terminal_size().columns if sys.stdout.isatty() else None
 
 
 def _assignments(values: Sequence[str]) -> list[tuple[str, str]]:
@@ -44,21 +40,6 @@ def _assignments(values: Sequence[str]) -> list[tuple[str, str]]:
                                      param_hint="--set")
         out.append((field.strip(), value))
     return out
-
-
-def _when(at: datetime) -> str:
-    if at.tzinfo is None:
-        at = at.replace(tzinfo=UTC)
-    return at.astimezone(UTC).strftime("%Y-%m-%d %H:%M:%S")
-
-
-def _echo_changes(name: str, changes: Sequence[Any], version: int, verb: str) -> None:
-    if not changes:
-        click.echo(f"{name}: nothing changed (version {version}).")
-        return
-    click.echo(f"{verb} {name} (now version {version}):")
-    for change in changes:
-        click.echo(f"  {change.describe()}")
 
 
 @click.group("ingredient")
@@ -82,40 +63,13 @@ _SOURCE = click.option("--source", help="Source key of the values given with --s
 def list_cmd(app: AppContext, library: Library, role: str | None, fmt: str,
              include_retired: bool) -> None:
     """List the library's ingredients with their main emulsion properties."""
+    from formdb.report.library import ingredient_list
     from formdb.services.ingredients import list_ingredients
 
     with library.read() as session:
         records = list_ingredients(session, role=role, include_retired=include_retired)
-    if fmt == "json":
-        click.echo(json.dumps([r.model_dump(mode="json") for r in records], indent=2,
-                              ensure_ascii=False))
-        return
-    header = ["inci_name", "roles", "hlb", "required_hlb_ow", "required_hlb_wo", "solubility",
-              "ionic_character", "version", "retired"]
-    rows = [[r.inci_name, "; ".join(sorted(x.value for x in r.roles)),
-             *(_text(getattr(r.p, p)) for p in header[2:7]), str(r.version),
-             "yes" if r.retired else "no"] for r in records]
-    if fmt == "csv":
-        buffer = io.StringIO()
-        writer = csv.writer(buffer, lineterminator="\n")
-        writer.writerow(header)
-        writer.writerows(rows)
-        click.echo(buffer.getvalue(), nl=False)
-        return
-    from rich.table import Table
-
-    table = Table("INCI name", "roles", "HLB", "req. HLB O/W", "req. HLB W/O", "solubility",
-                  "ionic", "version", *(["retired"] if include_retired else []))
-    for row in rows:
-        table.add_row(*(row if include_retired else row[:-1]))
-    _console().print(table)
-    click.echo(f"{len(rows)} ingredient(s).")
-
-
-def _text(value: Any) -> str:
-    from formdb.services.ingredient_fields import render_property
-
-    return render_property("", value)
+    click.echo(ingredient_list(records, fmt, include_retired=include_retired,
+                               width=_width()), nl=False)
 
 
 @ingredient_group.command("show")
@@ -123,31 +77,12 @@ def _text(value: Any) -> str:
 @with_library
 def show_cmd(app: AppContext, library: Library, name: str) -> None:
     """Every property of NAME with its value, unit, source, evidence and citation."""
-    from rich.table import Table
-
-    from formdb.schemas.ingredient import PROPERTY_NAMES, IngredientProperties
-    from formdb.services.ingredient_fields import render_property
+    from formdb.report.library import ingredient_detail
     from formdb.services.ingredients import show_ingredient
 
     with library.read() as session:
         detail = show_ingredient(session, name)
-    rec = detail.record
-    click.echo(f"{rec.inci_name}  (version {rec.version}{', RETIRED' if rec.retired else ''}; "
-               f"last changed {_when(detail.updated_at)} UTC by {detail.updated_by})")
-    for label, items in (("synonyms", rec.synonyms), ("CAS", rec.cas_numbers),
-                         ("roles", sorted(r.value for r in rec.roles)),
-                         ("classes", sorted(rec.classes))):
-        click.echo(f"  {label}: {'; '.join(items) or '-'}")
-    table = Table("property", "value", "unit", "source", "evidence", "citation", "note")
-    for prop in PROPERTY_NAMES:
-        value = getattr(rec.p, prop)
-        prov = rec.provenance.get(prop)
-        table.add_row(prop, render_property(prop, value) if value is not None else "-",
-                      IngredientProperties.unit_of(prop) if value is not None else "",
-                      prov.source if prov else "", prov.evidence.value if prov else "",
-                      (prov.citation or "") if prov else "", (prov.note or "") if prov else "")
-    _console().print(table)
-    click.echo(CAUTION)
+    click.echo(ingredient_detail(detail, width=_width()), nl=False)
 
 
 @ingredient_group.command("add")
@@ -168,7 +103,7 @@ def add_cmd(app: AppContext, library: Library, name: str, sets: tuple[str, ...],
     with library.write() as session:
         report = add_ingredient(session, name, _assignments(sets), user=app.user, source=source,
                                 synonyms=synonyms, cas=cas, roles=roles, reason=reason)
-    _echo_changes(report.inci_name, report.changes, report.version, "added")
+    click.echo(record_changes(report, "added"), nl=False)
 
 
 @ingredient_group.command("edit")
@@ -187,7 +122,7 @@ def edit_cmd(app: AppContext, library: Library, name: str, sets: tuple[str, ...]
     with library.write() as session:
         report = edit_ingredient(session, name, _assignments(sets), user=app.user, reason=reason,
                                  source=source, expect_version=expect_version)
-    _echo_changes(report.inci_name, report.changes, report.version, "changed")
+    click.echo(record_changes(report, "changed"), nl=False)
 
 
 @ingredient_group.command("retire")
@@ -200,7 +135,7 @@ def retire_cmd(app: AppContext, library: Library, name: str, reason: str) -> Non
 
     with library.write() as session:
         report = retire_ingredient(session, name, user=app.user, reason=reason)
-    _echo_changes(report.inci_name, report.changes, report.version, "retired")
+    click.echo(record_changes(report, "retired"), nl=False)
 
 
 @ingredient_group.command("restore")
@@ -213,7 +148,7 @@ def restore_cmd(app: AppContext, library: Library, name: str, reason: str) -> No
 
     with library.write() as session:
         report = restore_ingredient(session, name, user=app.user, reason=reason)
-    _echo_changes(report.inci_name, report.changes, report.version, "restored")
+    click.echo(record_changes(report, "restored"), nl=False)
 
 
 @ingredient_group.command("history")
@@ -221,18 +156,12 @@ def restore_cmd(app: AppContext, library: Library, name: str, reason: str) -> No
 @with_library
 def history_cmd(app: AppContext, library: Library, name: str) -> None:
     """Who changed NAME, when, what (old -> new) and why."""
-    from rich.table import Table
-
+    from formdb.report.library import ingredient_history as history_text
     from formdb.services.ingredients import ingredient_history
 
     with library.read() as session:
         entries = ingredient_history(session, name)
-    table = Table("when (UTC)", "who", "action", "version", "field", "old", "new", "reason")
-    for e in entries:
-        table.add_row(_when(e.at), e.user, e.action, "" if e.version is None else str(e.version),
-                      e.field or "", e.old or "", e.new or "", e.reason or "")
-    _console().print(table)
-    click.echo(f"{len(entries)} change(s).")
+    click.echo(history_text(entries, width=_width()), nl=False)
 
 
 @ingredient_group.command("import")
@@ -245,24 +174,12 @@ def history_cmd(app: AppContext, library: Library, name: str) -> None:
 def import_cmd(app: AppContext, library: Library, file: Path, dry_run: bool, reason: str | None,
                show_impact: bool) -> None:
     """Import a CSV or XLSX ingredient table, all rows or none."""
+    from formdb.report.library import import_summary
     from formdb.services.ingredients import import_table
 
     with library.write() as session:
         report = import_table(session, file, user=app.user, reason=reason, dry_run=dry_run)
-    would = "would be " if dry_run else ""
-    for note in report.notes:
-        click.echo(f"note: {note}")
-    for name in report.added:
-        click.echo(f"{would}added: {name}")
-    for name, changes in report.changed.items():
-        click.echo(f"{would}changed: {name}")
-        for change in changes:
-            click.echo(f"  {change.describe()}")
-    for name in report.unchanged:
-        click.echo(f"{'would be ' if dry_run else ''}left alone: {name}")
-    click.echo(f"{len(report.added)} {would}added, {len(report.changed)} {would}changed, "
-               f"{len(report.unchanged)} left alone"
-               + (" (dry run: nothing was written)." if dry_run else "."))
+    click.echo(import_summary(report), nl=False)
     if show_impact and report.changed and not dry_run:
         from formdb.cli.impact import show_impacts
 

@@ -8,9 +8,9 @@ and an emulsifier pair that misses the oil phase's required HLB.
 
 from __future__ import annotations
 
-import re
 import tempfile
 from dataclasses import dataclass, field
+from datetime import date
 from pathlib import Path
 
 from formdb.errors import ConfigError
@@ -21,11 +21,6 @@ from formdb.services.formulas import import_formulas
 from formdb.services.report_context import limit_snapshots
 from formdb.services.setup import init_library
 from formdb.store.library import Library
-
-INTRO = (
-    "formdb demo: a throwaway library from the bundled seed data, then the formulas of\n"
-    "Larkspur Bench Laboratories (an invented lab) checked with the default profile.\n"
-)
 
 
 def demo_formula_paths() -> list[Path]:
@@ -45,48 +40,14 @@ def formula_purpose(path: Path) -> str:
 
 @dataclass
 class DemoRun:
+    """The demo's library, the checked formulas (file, what it shows, result) and the limit
+    lists' dates for the cautions; report.demo renders it."""
+
     library: Path
     results: list[CheckResult]
-    intro: str = INTRO
-    _files: list[Path] = field(default_factory=list)
-    snapshots: list = field(default_factory=list)  # the limit lists' dates, for the cautions
-
-    def render(self, fmt: str, results: list[CheckResult] | None = None) -> str:
-        from formdb.report import ListSnapshot, render
-
-        chosen = self.results if results is None else results
-        return render(chosen, fmt, snapshots=[ListSnapshot(*row) for row in self.snapshots])
-
-    def summary(self) -> str:
-        """One line per formula: type, HLB balance, dispersed fraction and what was found."""
-        lines = ["", "Summary (default profile):"]
-        for path, result in zip(self._files, self.results, strict=True):
-            counts = result.severity_counts()
-            facts = result.facts
-            blend = "-" if facts.blend_hlb is None else f"{facts.blend_hlb:.1f}"
-            need = "-" if facts.required_hlb is None else f"{facts.required_hlb:.1f}"
-            phi = "-" if facts.dispersed_fraction is None else f"{facts.dispersed_fraction:.2f}"
-            kind = facts.predicted_type.value if facts.predicted_type else "?"
-            verdict = "needs work" if result.has_errors else "no errors"
-            lines.append(
-                f"  {result.formula}: {kind}, blend HLB {blend} vs required {need}, "
-                f"dispersed volume fraction {phi}; {counts['error']} error(s), "
-                f"{counts['warning']} warning(s), {counts['info']} note(s): {verdict}")
-            lines.append(f"      ({formula_purpose(path)})")
-        lines.append(f"Demo library: {self.library} (throwaway; rerun `formdb demo` any time).")
-        lines.append("Next: `formdb init --seed` makes your own library here; write a formula file "
-                     "as in the README and run `formdb check FILE`.")
-        return "\n".join(lines)
-
-    def write_reports(self, folder: Path, fmt: str) -> list[Path]:
-        folder.mkdir(parents=True, exist_ok=True)
-        suffix = {"text": "txt", "json": "json", "html": "html"}[fmt]
-        written = []
-        for path, result in zip(self._files, self.results, strict=True):
-            target = folder / f"{re.sub(r'[^A-Za-z0-9_-]+', '-', path.stem)}.{suffix}"
-            target.write_text(self.render(fmt, [result]), encoding="utf-8")
-            written.append(target)
-        return written
+    files: list[Path] = field(default_factory=list)
+    purposes: list[str] = field(default_factory=list)
+    snapshots: list[tuple[str, str, date]] = field(default_factory=list)
 
 
 def run_demo(*, keep: Path | None = None, user: str = "demo") -> DemoRun:
@@ -106,4 +67,5 @@ def run_demo(*, keep: Path | None = None, user: str = "demo") -> DemoRun:
         with opened.read():
             results = check_files(opened, paths)
             snapshots = limit_snapshots(opened)
-    return DemoRun(library=library, results=results, _files=paths, snapshots=snapshots)
+    return DemoRun(library=library, results=results, files=paths,
+                   purposes=[formula_purpose(p) for p in paths], snapshots=snapshots)

@@ -1,0 +1,143 @@
+"""What the library commands print: ingredient lists, records, histories, imports and edits,
+and stored formulas. Each function returns the whole text; the CLI only echoes it."""
+
+from __future__ import annotations
+
+import csv
+import io
+import json
+from collections.abc import Sequence
+from datetime import UTC, datetime
+from typing import TYPE_CHECKING, Any
+
+if TYPE_CHECKING:
+    from formdb.schemas.ingredient import IngredientRecord
+    from formdb.schemas.stored import StoredFormulaInfo
+
+CAUTION = ("A screening aid, not a safety assessment: check values against current sources, "
+           "and defer to the regulation and a qualified safety assessor.")
+LIST_FORMATS = ("table", "csv", "json")
+_LIST_COLUMNS = ["inci_name", "roles", "hlb", "required_hlb_ow", "required_hlb_wo",
+                 "solubility", "ionic_character", "version", "retired"]
+
+
+def _tables(render: Any, width: int | None) -> str:
+    """Rich renderables as text, at the terminal's width (or 160 columns into a pipe)."""
+    from rich.console import Console
+
+    console = Console(width=width or 160, file=io.StringIO(), highlight=False,
+                      color_system=None)
+    render(console)
+    out = console.file.getvalue()
+    assert isinstance(out, str)
+    return out
+
+
+def when(at: datetime) -> str:
+    """A stored timestamp as UTC text (SQLite hands back naive UTC values)."""
+    if at.tzinfo is None:
+        at = at.replace(tzinfo=UTC)
+    return at.astimezone(UTC).strftime("%Y-%m-%d %H:%M:%S")
+
+
+def _value(value: Any) -> str:
+    from formdb.services.ingredient_fields import render_property
+
+    return render_property("", value)
+
+
+def ingredient_list(records: Sequence[IngredientRecord], fmt: str, *,
+                    include_retired: bool = False, width: int | None = None) -> str:
+    if fmt == "json":
+        return json.dumps([r.model_dump(mode="json") for r in records], indent=2,
+                          ensure_ascii=False) + "\n"
+    rows = [[r.inci_name, "; ".join(sorted(x.value for x in r.roles)),
+             *(_value(getattr(r.p, p)) for p in _LIST_COLUMNS[2:7]), str(r.version),
+             "yes" if r.retired else "no"] for r in records]
+    if fmt == "csv":
+        buffer = io.StringIO()
+        writer = csv.writer(buffer, lineterminator="\n")
+        writer.writerow(_LIST_COLUMNS)
+        writer.writerows(rows)
+        return buffer.getvalue()
+    from rich.table import Table
+
+    table = Table("INCI name", "roles", "HLB", "req. HLB O/W", "req. HLB W/O", "solubility",
+                  "ionic", "version", *(["retired"] if include_retired else []))
+    for row in rows:
+        table.add_row(*(row if include_retired else row[:-1]))
+    return _tables(lambda c: c.print(table), width) + f"{len(rows)} ingredient(s).\n"
+
+
+def ingredient_detail(detail: Any, *, width: int | None = None) -> str:
+    """``ingredient show``: every property with value, unit, source, evidence and citation."""
+    from rich.table import Table
+
+    from formdb.schemas.ingredient import PROPERTY_NAMES, IngredientProperties
+    from formdb.services.ingredient_fields import render_property
+
+    rec = detail.record
+    lines = [f"{rec.inci_name}  (version {rec.version}{', RETIRED' if rec.retired else ''}; "
+             f"last changed {when(detail.updated_at)} UTC by {detail.updated_by})"]
+    for label, items in (("synonyms", rec.synonyms), ("CAS", rec.cas_numbers),
+                         ("roles", sorted(r.value for r in rec.roles)),
+                         ("classes", sorted(rec.classes))):
+        lines.append(f"  {label}: {'; '.join(items) or '-'}")
+    table = Table("property", "value", "unit", "source", "evidence", "citation", "note")
+    for prop in PROPERTY_NAMES:
+        value = getattr(rec.p, prop)
+        prov = rec.provenance.get(prop)
+        table.add_row(prop, render_property(prop, value) if value is not None else "-",
+                      IngredientProperties.unit_of(prop) if value is not None else "",
+                      prov.source if prov else "", prov.evidence.value if prov else "",
+                      (prov.citation or "") if prov else "", (prov.note or "") if prov else "")
+    return "\n".join(lines) + "\n" + _tables(lambda c: c.print(table), width) + CAUTION + "\n"
+
+
+def ingredient_history(entries: Sequence[Any], *, width: int | None = None) -> str:
+    from rich.table import Table
+
+    table = Table("when (UTC)", "who", "action", "version", "field", "old", "new", "reason")
+    for e in entries:
+        table.add_row(when(e.at), e.user, e.action, "" if e.version is None else str(e.version),
+                      e.field or "", e.old or "", e.new or "", e.reason or "")
+    return _tables(lambda c: c.print(table), width) + f"{len(entries)} change(s).\n"
+
+
+def record_changes(report: Any, verb: str) -> str:
+    """What an add, edit, retire or restore did to one ingredient."""
+    name, changes, version = report.inci_name, report.changes, report.version
+    if not changes:
+        return f"{name}: nothing changed (version {version}).\n"
+    return "".join([f"{verb} {name} (now version {version}):\n",
+                    *(f"  {change.describe()}\n" for change in changes)])
+
+
+def import_summary(report: Any) -> str:
+    """What an ingredient import did (or, in a dry run, would do), row by row."""
+    dry_run = report.dry_run
+    would = "would be " if dry_run else ""
+    lines = [f"note: {note}" for note in report.notes]
+    lines += [f"{would}added: {name}" for name in report.added]
+    for name, changes in report.changed.items():
+        lines.append(f"{would}changed: {name}")
+        lines += [f"  {change.describe()}" for change in changes]
+    lines += [f"{would}left alone: {name}" for name in report.unchanged]
+    lines.append(f"{len(report.added)} {would}added, {len(report.changed)} {would}changed, "
+                 f"{len(report.unchanged)} left alone"
+                 + (" (dry run: nothing was written)." if dry_run else "."))
+    return "\n".join(lines) + "\n"
+
+
+def formula_list(rows: Sequence[StoredFormulaInfo], *, width: int | None = None) -> str:
+    from rich.table import Table
+
+    table = Table("name", "version", "lines", "updated (UTC)", "by", "sha-256")
+    for info in rows:
+        table.add_row(info.name, str(info.version), str(info.lines),
+                      info.updated_at.strftime("%Y-%m-%d %H:%M"), info.updated_by,
+                      info.content_hash[:12])
+    text = _tables(lambda c: c.print(table), width)
+    if not rows:
+        text += "No stored formulas yet: `formdb formula import FILE`.\n"
+    return text
