@@ -12,14 +12,15 @@ import re
 from collections.abc import Iterable, Sequence
 from enum import StrEnum
 from functools import cache, lru_cache
-from typing import Any, get_args
+from typing import TYPE_CHECKING, Any, get_args
 
 import annotated_types as at
-import pint
-from rapidfuzz import fuzz, process, utils
 
 from formdb.schemas.ingredient import PROPERTY_NAMES, IngredientProperties, cas_is_valid
 from formdb.schemas.vocab import COMPAT_CLASSES, Role, norm_token
+
+if TYPE_CHECKING:  # pint (and rapidfuzz) load only when a unit or a suggestion is needed
+    import pint
 
 NAME_COLUMN = "inci_name"
 LIST_FIELDS = ("synonyms", "cas", "roles", "classes")
@@ -61,6 +62,8 @@ def normalise_column(header: str) -> str:
 
 def did_you_mean(word: str, choices: Iterable[str]) -> str:
     """'; did you mean X?' for the closest choice, or '' when nothing is close."""
+    from rapidfuzz import fuzz, process, utils
+
     cutoff = 66 if len(word) <= 4 else 75  # 'hbl' finds 'hlb'; 'zwitterionic' no 'cationic'
     best = process.extractOne(word, list(choices), scorer=fuzz.ratio,
                               processor=utils.default_process, score_cutoff=cutoff)
@@ -131,6 +134,8 @@ def format_number(value: float) -> str:
 
 @cache
 def _units() -> pint.UnitRegistry:
+    import pint
+
     return pint.UnitRegistry(preprocessors=[
         lambda s: s.replace("·", "*").replace("³", "**3").replace("²", "**2"),
         lambda s: re.sub(r"(?<=[A-Za-z])(\d)", r"**\1", s),  # m3 -> m**3
@@ -148,6 +153,8 @@ def _convert(prop: str, text: str, number: float, unit_text: str) -> float:
     if target is None:
         raise FieldProblem(f"{text!r} carries the unit {unit_text!r}, but {prop} takes {expected}")
     registry = _units()
+    import pint
+
     try:
         converted = registry.Quantity(number, given).to(target).magnitude
     except pint.DimensionalityError:

@@ -10,7 +10,6 @@ from __future__ import annotations
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 
-from openpyxl.utils import get_column_letter
 from pydantic import ValidationError
 
 from formdb.schemas.ingredient import (
@@ -156,6 +155,8 @@ class FileRow:
 
 
 def _letters(index: int) -> str:
+    from openpyxl.utils import get_column_letter  # not at import: show/list never load openpyxl
+
     return get_column_letter(index + 1)
 
 

@@ -14,8 +14,6 @@ from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 
-import pandas as pd
-
 from formdb.errors import InvalidData
 
 # A cell that starts with one of these runs as a formula when a spreadsheet opens the file
@@ -123,6 +121,8 @@ def _decode(path: Path, raw: bytes) -> str:
 
 
 def _read_csv(path: Path, raw: bytes) -> list[list[str]]:
+    import pandas as pd  # here, not at import: read-only commands never load it
+
     text = _decode(path, raw)
     first = next((line for line in text.splitlines() if line.strip()), "")
     try:
@@ -143,6 +143,8 @@ def _read_csv(path: Path, raw: bytes) -> list[list[str]]:
 
 
 def _read_xlsx(path: Path) -> list[list[str]]:
+    import pandas as pd
+
     try:
         frame = pd.read_excel(path, sheet_name=0, header=None, dtype=str, keep_default_na=False,
                               engine="openpyxl")
@@ -183,6 +185,8 @@ def write_table(path: Path, header: Sequence[str], rows: Iterable[Sequence[str |
         raise InvalidData(f"{path}: cannot export to {path.suffix or 'a file without suffix'}; "
                           "only .csv and .xlsx are written.",
                           "give the export file a .csv or .xlsx name.")
+    import pandas as pd
+
     safe = [[guard_cell(c) if isinstance(c, str) else c for c in row] for row in rows]
     frame = pd.DataFrame(safe, columns=list(header), dtype=object)
     try:
