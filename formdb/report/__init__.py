@@ -8,10 +8,13 @@ from __future__ import annotations
 
 from collections.abc import Callable, Sequence
 from importlib import import_module
+from typing import TYPE_CHECKING
 
 from formdb.errors import ConfigError
 from formdb.report.cautions import ListSnapshot
-from formdb.schemas.result import CheckResult
+
+if TYPE_CHECKING:  # the result models are built only by commands that check
+    from formdb.schemas.result import CheckResult
 
 # format name -> "module:function"; imported on first use so JSON output does not load jinja2
 RENDERERS: dict[str, str] = {

@@ -10,9 +10,10 @@ from __future__ import annotations
 
 from collections.abc import Iterable, Sequence
 from datetime import date
-from typing import NamedTuple
+from typing import TYPE_CHECKING, NamedTuple
 
-from formdb.schemas.result import CheckResult
+if TYPE_CHECKING:  # the library commands print cautions without building the result models
+    from formdb.schemas.result import CheckResult
 
 
 class ListSnapshot(NamedTuple):

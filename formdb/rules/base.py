@@ -13,9 +13,6 @@ from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any, ClassVar
 
-from rapidfuzz import process
-from rapidfuzz.distance import OSA
-
 from formdb.schemas.findings import Finding
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.reference import ReferenceData
@@ -32,6 +29,9 @@ def did_you_mean(word: str, choices: Iterable[str]) -> str:
     Closeness is rapidfuzz's optimal-string-alignment similarity, so a swapped pair of letters
     (HBL01 for HLB01) counts as one slip.
     """
+    from rapidfuzz import process  # only when a word is not found: not at start-up
+    from rapidfuzz.distance import OSA
+
     options = list(choices)
     if not options:
         return ""

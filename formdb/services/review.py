@@ -17,7 +17,6 @@ from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any
 
-from rapidfuzz import process
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
@@ -288,6 +287,8 @@ def _find_run(session: Session, key: str) -> ReviewRun:
     starts = [k for k in keys if key and k.startswith(key)]
     if len(starts) == 1:
         return session.scalars(select(ReviewRun).where(ReviewRun.run_key == starts[0])).one()
+    from rapidfuzz import process  # only for a run key that is not found
+
     close = starts or [m for m, _s, _i in process.extract(key, keys, limit=3, score_cutoff=60)]
     hint = (f"did you mean {', '.join(close)}?" if close
             else "`formdb review status` lists the runs")

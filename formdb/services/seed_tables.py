@@ -15,7 +15,6 @@ from pathlib import Path
 from typing import Any, Literal, TypeVar
 
 from pydantic import BaseModel, ConfigDict, Field, ValidationError, field_validator, model_validator
-from rapidfuzz import fuzz, process, utils
 from sqlalchemy.orm import Session
 
 from formdb.errors import InvalidData
@@ -46,6 +45,8 @@ def _where(label: str, row: int | None, column: str | None) -> str:
 
 
 def _close_to(word: str, choices: Iterable[str]) -> str:
+    from rapidfuzz import fuzz, process, utils
+
     best = process.extractOne(word, list(choices), scorer=fuzz.WRatio,
                               processor=utils.default_process, score_cutoff=75)
     return f" (did you mean {best[0]!r}?)" if best else ""

@@ -11,7 +11,6 @@ from collections.abc import Iterable, Mapping, Sequence
 from typing import Any
 
 from pydantic import ValidationError
-from rapidfuzz import fuzz, process, utils
 from sqlalchemy import select
 from sqlalchemy.orm import Session, selectinload
 
@@ -170,6 +169,8 @@ def find_ingredient(session: Session, name: str) -> IngredientRecord | None:
 
 def suggest_names(session: Session, name: str, limit: int = 3) -> list[str]:
     """The library names (INCI names or synonyms of current ingredients) closest to ``name``."""
+    from rapidfuzz import fuzz, process, utils  # only for a name that is not found
+
     choices = list(session.scalars(
         select(IngredientName.name).join(Ingredient)
         .where(Ingredient.retired.is_(False)).order_by(IngredientName.name_key)))
