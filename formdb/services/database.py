@@ -19,8 +19,6 @@ from datetime import date, datetime
 from pathlib import Path
 from typing import Any
 
-from alembic import command
-from alembic.script import ScriptDirectory
 from sqlalchemy import Connection, Date, DateTime, Engine, MetaData, func, insert, select, text
 
 from formdb.errors import ConfigError, InvalidData
@@ -36,6 +34,8 @@ def _engine(url: str) -> Engine:
 
 
 def _known() -> dict[str, Any]:
+    from alembic.script import ScriptDirectory  # alembic loads only when a command needs it
+
     script = ScriptDirectory.from_config(store.alembic_config())
     return {rev.revision: rev for rev in script.walk_revisions()}
 
@@ -250,6 +250,8 @@ def restore(url: str, path: Path) -> BackupReport:
             with engine.connect() as conn, conn.begin():
                 current = _refuse_non_empty(conn, shown)
                 if current is None:
+                    from alembic import command
+
                     command.upgrade(store.alembic_config(conn), revision)
                 elif current != revision:
                     raise ConfigError(f"{shown} is at revision {current}; the backup is at "
