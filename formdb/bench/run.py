@@ -29,18 +29,23 @@ from typing import Any
 
 import click
 
-from formdb.bench import floors, library, synthetic
+from formdb.bench import floors, library, startup, synthetic
 from formdb.resources import seed_data_dir
 from formdb.services.setup import init_library
 from formdb.store.db import open_library, unit_of_work
 
 CHECK_TARGET = 5.0
 IMPORT_TARGET = 2.0
-STARTUP_TARGET = 1.5
+STARTUP_TARGET = 1.5  # one check FILE process
+SHOW_TARGET = 1.3  # one ingredient show NAME process
+# import time beyond the floor's: the room each start-up target leaves (the work comes on top)
+STARTUP_IMPORT_TARGET = STARTUP_TARGET - 1
+SHOW_IMPORT_TARGET = SHOW_TARGET - 1
 MEMORY_TARGET_MB = 300.0
 MEMORY_GROWTH_TARGET = 0.20
 EXPONENT_BAND = (0.9, 1.1)  # "about 1.0"
 DEMO_FILE = "01-hand-cream.toml"
+SHOW_NAME = "Glycerin"  # a seed ingredient
 
 
 @dataclass(frozen=True)
@@ -52,12 +57,13 @@ class Sizes:
     seed: int = 42
     check_repeats: int = 2  # runs of check --all up to the main size (the least counts)
     floor_repeats: int = 3
+    import_profile_runs: int = 3  # -X importtime processes per command (median)
 
 
 FULL = Sizes(ingredients=5000, formulas=(1000, 10_000, 100_000), import_rows=50_000,
              startup_runs=9)
 QUICK = Sizes(ingredients=400, formulas=(100, 300, 1000), import_rows=2000, startup_runs=3,
-              check_repeats=1, floor_repeats=2)
+              check_repeats=1, floor_repeats=2, import_profile_runs=1)
 
 
 @dataclass
@@ -313,22 +319,75 @@ def _import_figure(libs: SqliteLibraries | PostgresLibraries, sizes: Sizes, seed
         run["cpu_seconds"], floor.cpu_seconds))
 
 
-def _startup_figure(base: str, sizes: Sizes, say: Progress, result: BackendResult) -> None:
-    say(f"start-up: one check FILE process, median of {sizes.startup_runs} runs")
+def _console_script() -> Path | None:
+    """The ``formdb`` console script beside this interpreter, when formdb is installed."""
+    script = Path(sys.executable).with_name("formdb")
+    return script if script.is_file() else None
+
+
+def _startup_figures(base: str, sizes: Sizes, work: Path, say: Progress,
+                     result: BackendResult) -> None:
+    """Whole processes against the import floor (medians of interleaved runs, with a bytecode
+    cache), then where their import time goes (``-X importtime``)."""
     formula = seed_data_dir() / "demo" / DEMO_FILE
-    argv, what = _startup_command(base, formula)
-    floor_argv = [sys.executable, "-c", "import sqlalchemy, pydantic, click"]
-    floors.wall_time(argv)  # warm the file cache once for both
-    floors.wall_time(floor_argv)
-    single, floor = [], []
-    for _ in range(sizes.startup_runs):  # interleaved, so drifting load hits both alike
-        single.append(floors.wall_time(argv))
-        floor.append(floors.wall_time(floor_argv))
-    measured, floor_median = statistics.median(single), statistics.median(floor)
+    check_argv, what = _startup_command(base, formula)
+    show_argv = [sys.executable, "-m", "formdb", "--db", base, "ingredient", "show", SHOW_NAME]
+    done = subprocess.run(show_argv, capture_output=True, text=True, check=False)
+    if done.returncode != 0:
+        raise RuntimeError(f"formdb ingredient show {SHOW_NAME} failed: {done.stderr[-2000:]}")
+    commands: dict[str, list[str]] = {"floor": list(startup.FLOOR_ARGV), "check": check_argv,
+                                      "show": show_argv}
+    script = _console_script()
+    if script is not None and check_argv[1:3] == ["-m", "formdb"]:
+        commands["script"] = [str(script), *check_argv[3:]]
+    env = startup.bytecode_env(work / "pycache")
+    say(f"start-up: check FILE and ingredient show processes, median of {sizes.startup_runs} "
+        "interleaved runs")
+    series = startup.interleaved(commands, sizes.startup_runs, env)
+    floor_wall, floor_cpu = series.wall("floor"), series.cpu("floor")
+    extra = []
+    if "script" in commands:
+        extra.append(f"the console script `formdb check FILE`: {series.wall('script'):.3f} s "
+                     f"({series.wall('script') / floor_wall:.2f}x)")
+    if os.environ.get("PYTHONDONTWRITEBYTECODE"):
+        raw_runs = max(1, sizes.startup_runs // 3)
+        say(f"start-up as this environment runs it (PYTHONDONTWRITEBYTECODE), {raw_runs} runs")
+        raw = startup.interleaved({"floor": commands["floor"], "check": check_argv}, raw_runs)
+        extra.append("without a bytecode cache (PYTHONDONTWRITEBYTECODE=1, as this environment "
+                     f"runs an editable checkout): {raw.wall('check'):.3f} s / "
+                     f"{raw.wall('floor'):.3f} s = {raw.wall('check') / raw.wall('floor'):.2f}x")
+    floor_name = f'python -c "{startup.FLOOR_CODE}"'
     result.figures.append(Figure(
-        f"one check FILE process, wall time ({what})", measured, "s", floor_median,
-        'python -c "import sqlalchemy, pydantic, click"', f"<= {STARTUP_TARGET:g}x",
-        measured / floor_median <= STARTUP_TARGET, "medians of interleaved runs"))
+        f"one check FILE process, wall time ({what})", series.wall("check"), "s", floor_wall,
+        floor_name, f"<= {STARTUP_TARGET:g}x", series.wall("check") / floor_wall <= STARTUP_TARGET,
+        "; ".join([f"medians of {sizes.startup_runs} interleaved runs, bytecode cached", *extra]),
+        series.cpu("check"), floor_cpu))
+    result.figures.append(Figure(
+        f"one ingredient show NAME process, wall time (python -m formdb ingredient show "
+        f"{SHOW_NAME})", series.wall("show"), "s", floor_wall, floor_name,
+        f"<= {SHOW_TARGET:g}x", series.wall("show") / floor_wall <= SHOW_TARGET,
+        f"medians of {sizes.startup_runs} interleaved runs, bytecode cached",
+        series.cpu("show"), floor_cpu))
+    say(f"import time (-X importtime), {sizes.import_profile_runs} run(s) per command")
+    for label, argv, target in (("check FILE", check_argv, STARTUP_IMPORT_TARGET),
+                                ("ingredient show", show_argv, SHOW_IMPORT_TARGET)):
+        profile = startup.import_profile(argv, sizes.import_profile_runs, env)
+        result.figures.append(Figure(
+            f"import time of one {label} process beyond the floor's (-X importtime)",
+            profile.beyond_floor, "s", profile.floor_total, "the floor process's import time",
+            f"<= {target:.1f}x (the room the {1 + target:g}x start-up target leaves)",
+            profile.beyond_floor / profile.floor_total <= target,
+            f"all its imports {profile.total:.3f} s; beyond the floor: "
+            f"{startup.describe_groups(profile)}"))
+        if label == "check FILE":
+            own = profile.by_group.get("formdb", 0.0)
+            result.figures.append(Figure(
+                "formdb's own modules, import time in one check FILE process (-X importtime)",
+                own, "s", profile.floor_total, "the floor process's import time",
+                f"inside the {STARTUP_IMPORT_TARGET:.1f}x above", None,
+                f"{profile.formdb_modules} modules; slowest: " + ", ".join(
+                    f"{name} {seconds * 1000:.1f} ms" for name, seconds in
+                    profile.slowest_formdb)))
 
 
 def measure_backend(libs: SqliteLibraries | PostgresLibraries, sizes: Sizes,
@@ -340,7 +399,7 @@ def measure_backend(libs: SqliteLibraries | PostgresLibraries, sizes: Sizes,
     seed_only, base = _make_library(libs, sizes, say, result)
     _check_series(libs, sizes, base, say, result)
     _import_figure(libs, sizes, seed_only, work, say, result)
-    _startup_figure(base, sizes, say, result)
+    _startup_figures(base, sizes, work, say, result)
     result.notes.append(f"load average at end: {_load()}")
     return result
 

@@ -9,12 +9,18 @@ import subprocess
 import sys
 from pathlib import Path
 
+from formdb.bench.floors import STARTUP_FLOOR_CODE
 from formdb.bench.run import Figure, fitted_exponent
+from formdb.bench.startup import group_of, import_profile
 
 EXPECTED = ("check --all, 20 formulas", "check --all, 40 formulas",
             "peak memory (ru_maxrss), check --all 20 formulas",
             "peak memory (ru_maxrss), check --all 40 formulas", "memory growth 20 -> 40",
-            "scaling exponent", "import of a 60-row CSV", "one check FILE process")
+            "scaling exponent", "import of a 60-row CSV", "one check FILE process",
+            "one ingredient show NAME process",
+            "import time of one check FILE process beyond the floor's",
+            "import time of one ingredient show process beyond the floor's",
+            "formdb's own modules, import time in one check FILE process")
 
 
 def test_quick_run_prints_every_figure(tmp_path: Path) -> None:
@@ -28,7 +34,8 @@ def test_quick_run_prints_every_figure(tmp_path: Path) -> None:
     text = done.stdout
     for name in EXPECTED:
         assert name in text, name
-    assert text.count("ratio ") >= 4  # the two checks, the import and the start-up
+    assert text.count("ratio ") >= 8  # two checks, the import, two start-ups, three imports
+    assert "<= 1.5x" in text and "<= 1.3x" in text  # the start-up targets beside the figures
     assert "plain driver read + tomllib" in text
     assert "pandas.read_csv + plain executemany" in text
     assert 'python -c "import sqlalchemy, pydantic, click"' in text
@@ -54,3 +61,21 @@ def test_figure_ratios() -> None:
     assert figure.ratio == 5.0
     assert figure.cpu_ratio == 4.0
     assert Figure("y", 1.0, "MB").ratio is None
+
+
+def test_import_profile_names_what_the_floor_does_not_import() -> None:
+    """A process importing the floor plus ``sqlalchemy.orm``: only the ORM (and what it pulls
+    in) is beyond the floor, and none of it is formdb's."""
+    profile = import_profile([sys.executable, "-c", f"{STARTUP_FLOOR_CODE}, sqlalchemy.orm"], 1)
+    assert profile.by_group.get("sqlalchemy.orm", 0) > 0
+    assert "formdb" not in profile.by_group
+    assert 0 < profile.beyond_floor < profile.total
+    assert math.isclose(sum(profile.by_group.values()), profile.beyond_floor)
+
+
+def test_import_groups() -> None:
+    assert group_of("formdb.store.models") == "formdb"
+    assert group_of("sqlalchemy.orm.session") == "sqlalchemy.orm"
+    assert group_of("sqlalchemy.sql.compiler") == "sqlalchemy"
+    assert group_of("pydantic_core.core_schema") == "pydantic_core"
+    assert group_of("formdbx") == "other"
