@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import json
 from typing import TYPE_CHECKING
 
 import click
@@ -25,32 +24,12 @@ def audit_group() -> None:
 def verify_cmd(app: AppContext, library: Library, fmt: str) -> None:
     """Recompute every chain and name the first row that was altered, removed or slipped in.
     Exit 0 when every chain is intact, 1 when one is broken, 2 when the library cannot be read."""
+    from formdb.report.audit import audit_verify, first_break
     from formdb.services.audit import verify_chains
 
     report = verify_chains(library)
-    if fmt == "json":
-        click.echo(json.dumps({
-            "intact": report.intact,
-            "chains": [{"table": c.table, "rows": c.rows, "intact": c.intact,
-                        "head": {"id": c.head_id, "hash": c.head_hash},
-                        "problems": [{"row": p.row_id, "kind": p.kind, "detail": p.detail}
-                                     for p in c.problems],
-                        "more_problems": c.more_problems} for c in report.chains]},
-            indent=2, ensure_ascii=False))
-    else:
-        for chain in report.chains:
-            head = (f"head row {chain.head_id} {chain.head_hash}" if chain.head_id is not None
-                    else "empty")
-            state = "intact" if chain.intact else "BROKEN"
-            click.echo(f"{chain.table}: {chain.rows} rows, {state}; {head}")
-            for problem in chain.problems:
-                click.echo(f"  {chain.table} row {problem.row_id} ({problem.kind}): "
-                           f"{problem.detail}")
-            if chain.more_problems:
-                click.echo(f"  ... and {chain.more_problems} more problems")
-        click.echo("Keep the head hashes with a filed report: a chain alone cannot show that "
-                   "its newest rows were removed.")
-    first = report.first_problem
-    if first is not None:
-        click.echo(f"First break: {first.table} row {first.row_id}: {first.detail}.", err=True)
+    click.echo(audit_verify(report, fmt), nl=False)
+    line = first_break(report)
+    if line is not None:
+        click.echo(line, nl=False, err=True)
     click.get_current_context().exit(0 if report.intact else 1)

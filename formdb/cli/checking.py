@@ -8,8 +8,7 @@ from __future__ import annotations
 
 import os
 import sys
-import tempfile
-from collections.abc import Callable, Sequence
+from collections.abc import Callable
 from pathlib import Path
 from typing import TYPE_CHECKING, Any, TypeVar
 
@@ -30,28 +29,6 @@ def _wants_color(out: Path | None, fmt: str) -> bool:
             and "NO_COLOR" not in os.environ)
 
 
-def write_report(path: Path, text: str) -> None:
-    """Write the report whole or not at all (a temporary file renamed into place)."""
-    folder = path.parent if str(path.parent) else Path(".")
-    try:
-        with tempfile.NamedTemporaryFile("w", encoding="utf-8", dir=folder, delete=False,
-                                         prefix=f".{path.name}.", suffix=".part") as handle:
-            handle.write(text)
-        os.replace(handle.name, path)
-    except OSError as exc:
-        raise InvalidData(f"{path}: the report cannot be written ({exc.strerror or exc})",
-                          hint="choose a folder you can write to") from None
-
-
-def summary_line(results: Sequence[Any], out: Path) -> str:
-    from formdb.report.stream import Tally
-
-    tally = Tally()
-    for result in results:
-        tally.add(result)
-    return f"{tally.line()}; report written to {out}"
-
-
 @click.command("check")
 @click.argument("files", nargs=-1, type=click.Path(path_type=Path))
 @click.option("--all", "all_stored", is_flag=True,
@@ -70,6 +47,7 @@ def check_cmd(app: AppContext, library: Library, files: tuple[Path, ...], all_st
     Exit 0: no error finding; 1: at least one; 2: the input could not be checked.
     """
     from formdb.report import ListSnapshot, render
+    from formdb.report.files import summary_line, write_report
     from formdb.rules.profiles import load_profile
     from formdb.services.checking import check_inputs, iter_check_stored, read_inputs
     from formdb.services.report_context import limit_snapshots

@@ -8,6 +8,7 @@ import click
 
 from formdb.cli.main import AppContext
 from formdb.errors import FormdbError
+from formdb.report import admin as report
 from formdb.services import database
 
 
@@ -20,15 +21,7 @@ def db_group() -> None:
 @click.pass_obj
 def current_cmd(app: AppContext) -> None:
     """Show the library's revision and the newest this formdb knows."""
-    s = database.status(app.db)
-    if s.current is None:
-        click.echo(f"{s.database}: no formdb schema yet (newest is {s.head}). "
-                   "Run `formdb db upgrade` or `formdb init`.")
-    elif s.current == s.head:
-        click.echo(f"{s.database}: revision {s.current} (the newest).")
-    else:
-        click.echo(f"{s.database}: revision {s.current}; the newest is {s.head}. "
-                   "Run `formdb db upgrade`.")
+    click.echo(report.db_status(database.status(app.db)), nl=False)
 
 
 @db_group.command("history")
@@ -39,10 +32,7 @@ def history_cmd(app: AppContext) -> None:
         revisions = database.history(app.db)
     except FormdbError:  # no library here: still list the chain
         revisions = database.history(None)
-    for r in revisions:
-        marks = [m for m, on in (("current", r.is_current), ("head", r.is_head)) if on]
-        tag = f"  ({', '.join(marks)})" if marks else ""
-        click.echo(f"{r.revision}  <- {r.down_revision or 'base'}  {r.title}{tag}")
+    click.echo(report.db_history(revisions), nl=False)
 
 
 @db_group.command("upgrade")
@@ -51,10 +41,7 @@ def history_cmd(app: AppContext) -> None:
 def upgrade_cmd(app: AppContext, revision: str) -> None:
     """Move the library's schema up to REVISION (default: the newest)."""
     before, after = database.move(app.db, revision, down=False)
-    if before == after:
-        click.echo(f"Already at revision {after}; nothing changed.")
-    else:
-        click.echo(f"Upgraded from revision {before or 'base'} to {after}.")
+    click.echo(report.db_moved(before, after, down=False), nl=False)
 
 
 @db_group.command("downgrade")
@@ -63,7 +50,7 @@ def upgrade_cmd(app: AppContext, revision: str) -> None:
 def downgrade_cmd(app: AppContext, revision: str) -> None:
     """Step the schema down to REVISION ("base" removes every table); back up first."""
     before, after = database.move(app.db, revision, down=True)
-    click.echo(f"Downgraded from revision {before} to {after or 'base'}.")
+    click.echo(report.db_moved(before, after, down=True), nl=False)
 
 
 @db_group.command("backup")
@@ -71,10 +58,7 @@ def downgrade_cmd(app: AppContext, revision: str) -> None:
 @click.pass_obj
 def backup_cmd(app: AppContext, path: Path) -> None:
     """Copy the whole library to PATH: a SQLite file, or PATH.zip (portable, any backend)."""
-    report = database.backup(app.db, path)
-    click.echo(f"Backed up {report.database} (revision {report.revision}, "
-               f"{sum(report.tables.values())} rows in {len(report.tables)} tables) to "
-               f"{report.path}.")
+    click.echo(report.db_backed_up(database.backup(app.db, path)), nl=False)
 
 
 @db_group.command("restore")
@@ -82,9 +66,7 @@ def backup_cmd(app: AppContext, path: Path) -> None:
 @click.pass_obj
 def restore_cmd(app: AppContext, path: Path) -> None:
     """Fill an empty database (--db) from a backup PATH, all rows or none."""
-    report = database.restore(app.db, path)
-    click.echo(f"Restored {sum(report.tables.values())} rows in {len(report.tables)} tables "
-               f"into {report.database} (revision {report.revision}).")
+    click.echo(report.db_restored(database.restore(app.db, path)), nl=False)
 
 
 @db_group.command("grant-setup")
@@ -96,8 +78,4 @@ def grant_setup_cmd(app: AppContext, prefix: str) -> None:
     login a duty with `GRANT PREFIX_editor TO login` (see formdb.services.grants)."""
     from formdb.services.grants import grant_setup
 
-    report = grant_setup(app.db, prefix)
-    click.echo(f"Roles on {report.database}: {prefix}_reader (reads every table).")
-    for role, tables in report.roles.items():
-        click.echo(f"  {role}: writes {', '.join(tables) or '(no table yet)'}; "
-                   "appends to change_log")
+    click.echo(report.db_grants(grant_setup(app.db, prefix), prefix), nl=False)

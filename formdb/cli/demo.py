@@ -23,8 +23,8 @@ def demo_cmd(app: AppContext, fmt: str, out: Path | None, keep: Path | None) -> 
     The formulas belong to Larkspur Bench Laboratories, an invented lab; the findings are real
     output of the checker on the bundled seed library. Always exits 0.
     """
-    from formdb.cli.checking import write_report
     from formdb.report.demo import INTRO, demo_report, demo_report_files, demo_summary
+    from formdb.report.files import write_report
     from formdb.services.demo import run_demo
 
     demo = run_demo(keep=keep, user=app.user)

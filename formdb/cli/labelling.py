@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import json
-from dataclasses import asdict
 from pathlib import Path
 from typing import TYPE_CHECKING
 
@@ -25,17 +23,7 @@ if TYPE_CHECKING:
 def label_cmd(app: AppContext, library: Library, file: Path, jurisdiction: str, fmt: str) -> None:
     """Print the label's ingredient list of formula FILE: above 1 % by descending weight, then
     the rest, colourants last, allergens above the labelling threshold named."""
+    from formdb.report.labels import label_declaration
     from formdb.services.labelling import label_file
 
-    result = label_file(library, file, jurisdiction)
-    if fmt == "json":
-        data = asdict(result) | {"declaration": result.text}
-        click.echo(json.dumps(data, indent=2, ensure_ascii=False))
-        return
-    click.echo(f"{result.formula} ({result.category}, {result.jurisdiction})")
-    click.echo(f"Ingredients: {result.text}")
-    if result.allergens_named:
-        click.echo(f"Allergens named (above the labelling threshold): "
-                   f"{', '.join(result.allergens_named)}")
-    click.echo("A screening aid, not a label approval: check the current regulation and local "
-               "law before printing a label.")
+    click.echo(label_declaration(label_file(library, file, jurisdiction), fmt), nl=False)

@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import json
-from dataclasses import asdict
 from pathlib import Path
 from typing import TYPE_CHECKING
 
@@ -28,15 +26,11 @@ def review_group() -> None:
 def run_cmd(app: AppContext, library: Library, source: str, profile: str) -> None:
     """Check formula FILE (or stored:NAME) and store the run, immutable, with the hash of every
     library record it used."""
+    from formdb.report.review_status import run_stored
     from formdb.services.review import run_review
 
     summary = run_review(library, source, profile, user=app.user)
-    click.echo(f"Run {summary.run_key}: {summary.formula}: {summary.verdict} "
-               f"({summary.errors} error, {summary.warnings} warning findings; "
-               f"{summary.open_items} open item(s); {summary.records} library records hashed)")
-    click.echo(f"Run hash {summary.run_hash}")
-    if summary.supersedes:
-        click.echo(f"Supersedes run {summary.supersedes}.")
+    click.echo(run_stored(summary), nl=False)
 
 
 @review_group.command("sign")
@@ -50,11 +44,11 @@ def run_cmd(app: AppContext, library: Library, source: str, profile: str) -> Non
 def sign_cmd(app: AppContext, library: Library, run: str, meaning: str, signer: str,
              comment: str | None) -> None:
     """Sign review RUN (its run key): refused if it is stale or superseded."""
+    from formdb.report.review_status import run_signed
     from formdb.services.review import sign_run
 
     sig = sign_run(library, run, meaning, signer, user=app.user, comment=comment)
-    click.echo(f"Signed run {sig.run_hash[:12]}: {sig.meaning} by {sig.signer} "
-               f"(login {sig.signed_by}) at {sig.signed_at}; run hash {sig.run_hash}")
+    click.echo(run_signed(sig), nl=False)
 
 
 @review_group.command("status")
@@ -63,24 +57,10 @@ def sign_cmd(app: AppContext, library: Library, run: str, meaning: str, signer: 
 @with_library
 def status_cmd(app: AppContext, library: Library, fmt: str) -> None:
     """Every review run: current, stale (what changed, old -> new) or superseded."""
+    from formdb.report.review_status import review_status as status_text
     from formdb.services.review import review_status
 
-    states = review_status(library)
-    if fmt == "json":
-        click.echo(json.dumps([asdict(s) for s in states], indent=2, ensure_ascii=False))
-        return
-    if not states:
-        click.echo("No review runs yet: `formdb review run FILE` makes one.")
-        return
-    for s in states:
-        extra = f" by {s.superseded_by}" if s.superseded_by else ""
-        click.echo(f"{s.run_key}  {s.state}{extra}  {s.formula}  ({s.profile}; "
-                   f"{s.created_at}, {s.created_by})")
-        for change in s.changes:
-            click.echo(f"    changed: {change}")
-        for sig in s.signatures:
-            click.echo(f"    signed: {sig.meaning} by {sig.signer} ({sig.signed_by}) at "
-                       f"{sig.signed_at}")
+    click.echo(status_text(review_status(library), fmt), nl=False)
 
 
 @review_group.command("report")
@@ -92,8 +72,9 @@ def status_cmd(app: AppContext, library: Library, fmt: str) -> None:
 @with_library
 def report_cmd(app: AppContext, library: Library, run: str, fmt: str, out: Path | None) -> None:
     """The filed report of review RUN: HTML (printable) or JSON."""
-    from formdb.cli.checking import write_report
+    from formdb.report.files import write_report
     from formdb.report.review import render_review
+    from formdb.report.review_status import report_written
     from formdb.services.review import filed_run
 
     filed = filed_run(library, run)
@@ -102,4 +83,4 @@ def report_cmd(app: AppContext, library: Library, run: str, fmt: str, out: Path 
         click.echo(text, nl=False)
     else:
         write_report(out, text)
-        click.echo(f"Report of run {filed.state.run_key} ({filed.state.state}) written to {out}")
+        click.echo(report_written(filed, out), nl=False)

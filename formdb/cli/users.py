@@ -12,8 +12,6 @@ if TYPE_CHECKING:
     from formdb.store.library import Library
 
 
-
-
 @click.group("user")
 def user_group() -> None:
     """Users and roles (admin, editor, formulator, reviewer). With no admin yet, the library is
@@ -26,11 +24,12 @@ def user_group() -> None:
 @with_library
 def add_cmd(app: AppContext, library: Library, name: str, roles: tuple[str, ...]) -> None:
     """Add user NAME with --role ROLE ...; only an admin may, once there is one."""
+    from formdb.report.admin import user_added
     from formdb.services.access import add_user
 
     with library.write() as session:
         info = add_user(session, name, list(roles), actor=app.user)
-    click.echo(f"Added user {info.name} with roles: {', '.join(info.roles) or '(none)'}.")
+    click.echo(user_added(info), nl=False)
 
 
 @user_group.command("grant")
@@ -39,25 +38,22 @@ def add_cmd(app: AppContext, library: Library, name: str, roles: tuple[str, ...]
 @with_library
 def grant_cmd(app: AppContext, library: Library, name: str, role: str) -> None:
     """Give user NAME the role ROLE."""
+    from formdb.report.admin import user_granted
     from formdb.services.access import grant
 
     with library.write() as session:
         info = grant(session, name, role, actor=app.user)
-    click.echo(f"{info.name} now has roles: {', '.join(info.roles)}.")
+    click.echo(user_granted(info), nl=False)
 
 
 @user_group.command("list")
 @with_library
 def list_cmd(app: AppContext, library: Library) -> None:
     """Every user with their roles, and whether the library is still open."""
+    from formdb.report.admin import user_list
     from formdb.services.access import is_open, list_users
 
     with library.read() as session:
         users = list_users(session)
         open_mode = is_open(session)
-    for u in users:
-        click.echo(f"{u.name}  {', '.join(u.roles) or '(no roles)'}"
-                   f"{'' if u.active else '  (inactive)'}")
-    if open_mode:
-        click.echo("Open mode: no admin yet, so everyone may do everything. "
-                   "`formdb user add NAME --role admin` closes it.")
+    click.echo(user_list(users, open_mode), nl=False)

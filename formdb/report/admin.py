@@ -1,0 +1,112 @@
+"""What the administration commands print: ``init``, ``db ...`` (revisions, backups, restores,
+grants) and ``user ...``. Each function returns the whole text; the CLI only echoes it."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from formdb.schemas.admin import (
+        BackupReport,
+        GrantReport,
+        InitReport,
+        RevisionInfo,
+        Status,
+        UserInfo,
+    )
+
+
+def _text(lines: Sequence[str]) -> str:
+    return "".join(f"{line}\n" for line in lines)
+
+
+def render_init(report: InitReport) -> str:
+    """``init``: where, which revision, and what seeding added or left alone."""
+    if report.created:
+        lines = [f"Created the library {report.database} at revision {report.revision}."]
+    elif report.upgraded:
+        lines = [f"Upgraded the library {report.database} from revision "
+                 f"{report.revision_before} to {report.revision}."]
+    else:
+        lines = [f"The library {report.database} is already at revision {report.revision} "
+                 "(the newest)."]
+    if report.builtin_sources_added:
+        lines.append(f"Added {report.builtin_sources_added} built-in sources "
+                     "(rule-of-thumb, from-memory).")
+    if report.seeded:
+        lines.append("Seed library:")
+        width = max(len(t) for t in report.seeded)
+        for table, counts in report.seeded.items():
+            lines.append(f"  {table:<{width}}  {counts.added} added, {counts.changed} changed, "
+                         f"{counts.unchanged} unchanged")
+    if not report.changed_anything:
+        lines.append("Nothing changed.")
+    return _text(lines)
+
+
+def db_status(s: Status) -> str:
+    """``db current``: the library's revision against the newest, and the next step."""
+    if s.current is None:
+        return (f"{s.database}: no formdb schema yet (newest is {s.head}). "
+                "Run `formdb db upgrade` or `formdb init`.\n")
+    if s.current == s.head:
+        return f"{s.database}: revision {s.current} (the newest).\n"
+    return f"{s.database}: revision {s.current}; the newest is {s.head}. Run `formdb db upgrade`.\n"
+
+
+def db_history(revisions: Sequence[RevisionInfo]) -> str:
+    """``db history``: one line per revision, oldest first, the library's own and the head
+    marked."""
+    lines = []
+    for r in revisions:
+        marks = [m for m, on in (("current", r.is_current), ("head", r.is_head)) if on]
+        tag = f"  ({', '.join(marks)})" if marks else ""
+        lines.append(f"{r.revision}  <- {r.down_revision or 'base'}  {r.title}{tag}")
+    return _text(lines)
+
+
+def db_moved(before: str | None, after: str | None, *, down: bool) -> str:
+    """``db upgrade`` / ``db downgrade``: from which revision to which."""
+    if down:
+        return f"Downgraded from revision {before} to {after or 'base'}.\n"
+    if before == after:
+        return f"Already at revision {after}; nothing changed.\n"
+    return f"Upgraded from revision {before or 'base'} to {after}.\n"
+
+
+def db_backed_up(report: BackupReport) -> str:
+    return (f"Backed up {report.database} (revision {report.revision}, "
+            f"{sum(report.tables.values())} rows in {len(report.tables)} tables) to "
+            f"{report.path}.\n")
+
+
+def db_restored(report: BackupReport) -> str:
+    return (f"Restored {sum(report.tables.values())} rows in {len(report.tables)} tables "
+            f"into {report.database} (revision {report.revision}).\n")
+
+
+def db_grants(report: GrantReport, prefix: str) -> str:
+    """``db grant-setup``: the reader role, then each duty's role and the tables it writes."""
+    lines = [f"Roles on {report.database}: {prefix}_reader (reads every table)."]
+    lines += [f"  {role}: writes {', '.join(tables) or '(no table yet)'}; appends to change_log"
+              for role, tables in report.roles.items()]
+    return _text(lines)
+
+
+def user_added(info: UserInfo) -> str:
+    return f"Added user {info.name} with roles: {', '.join(info.roles) or '(none)'}.\n"
+
+
+def user_granted(info: UserInfo) -> str:
+    return f"{info.name} now has roles: {', '.join(info.roles)}.\n"
+
+
+def user_list(users: Sequence[UserInfo], open_mode: bool) -> str:
+    """``user list``: each user with their roles, and a note while the library is open."""
+    lines = [f"{u.name}  {', '.join(u.roles) or '(no roles)'}{'' if u.active else '  (inactive)'}"
+             for u in users]
+    if open_mode:
+        lines.append("Open mode: no admin yet, so everyone may do everything. "
+                     "`formdb user add NAME --role admin` closes it.")
+    return _text(lines)
