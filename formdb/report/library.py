@@ -41,7 +41,7 @@ def when(at: datetime) -> str:
 
 
 def _value(value: Any) -> str:
-    from formdb.services.ingredient_fields import render_property
+    from formdb.schemas.cells import render_property
 
     return render_property("", value)
 
@@ -73,8 +73,8 @@ def ingredient_detail(detail: Any, *, width: int | None = None) -> str:
     """``ingredient show``: every property with value, unit, source, evidence and citation."""
     from rich.table import Table
 
+    from formdb.schemas.cells import render_property
     from formdb.schemas.ingredient import PROPERTY_NAMES, IngredientProperties
-    from formdb.services.ingredient_fields import render_property
 
     rec = detail.record
     lines = [f"{rec.inci_name}  (version {rec.version}{', RETIRED' if rec.retired else ''}; "

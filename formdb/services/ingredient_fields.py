@@ -16,6 +16,7 @@ from typing import TYPE_CHECKING, Any, get_args
 
 import annotated_types as at
 
+from formdb.schemas.cells import format_number
 from formdb.schemas.ingredient import PROPERTY_NAMES, IngredientProperties, cas_is_valid
 from formdb.schemas.vocab import COMPAT_CLASSES, Role, norm_token
 
@@ -125,13 +126,6 @@ def _num(value: float | None) -> str:
     return "?" if value is None else format_number(value)
 
 
-def format_number(value: float) -> str:
-    """The shortest text that reads back as exactly ``value`` (12.0 -> '12')."""
-    if float(value).is_integer() and abs(value) < 1e15:
-        return str(int(value))
-    return repr(float(value))
-
-
 @cache
 def _units() -> pint.UnitRegistry:
     import pint
@@ -216,19 +210,6 @@ def parse_property(prop: str, text: str) -> Any:
         value = int(value)
     _check_range(prop, value)
     return value
-
-
-def render_property(prop: str, value: Any) -> str:
-    """The cell text for a value: what ``parse_property`` reads back as the same value."""
-    if value is None:
-        return ""
-    if isinstance(value, bool):
-        return "yes" if value else "no"
-    if isinstance(value, StrEnum):
-        return value.value
-    if isinstance(value, int | float):
-        return format_number(value)
-    return str(value)
 
 
 def split_list(text: str) -> list[str]:

@@ -12,6 +12,7 @@ from dataclasses import dataclass, field
 
 from pydantic import ValidationError
 
+from formdb.schemas.cells import render_property
 from formdb.schemas.ingredient import (
     PROPERTY_NAMES,
     IngredientIn,
@@ -31,7 +32,6 @@ from formdb.services.ingredient_fields import (
     normalise_column,
     parse_list_item,
     parse_property,
-    render_property,
     split_list,
 )
 from formdb.services.tables import Problem, RawTable

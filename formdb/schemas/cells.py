@@ -1,0 +1,29 @@
+"""A property value as the text of a table cell: what the importer reads back as the same value.
+
+Shared by the exporter (services) and the listings (report), so both print a value one way.
+"""
+
+from __future__ import annotations
+
+from enum import StrEnum
+from typing import Any
+
+
+def format_number(value: float) -> str:
+    """The shortest text that reads back as exactly ``value`` (12.0 -> '12')."""
+    if float(value).is_integer() and abs(value) < 1e15:
+        return str(int(value))
+    return repr(float(value))
+
+
+def render_property(prop: str, value: Any) -> str:
+    """The cell text for a value: what ``parse_property`` reads back as the same value."""
+    if value is None:
+        return ""
+    if isinstance(value, bool):
+        return "yes" if value else "no"
+    if isinstance(value, StrEnum):
+        return value.value
+    if isinstance(value, int | float):
+        return format_number(value)
+    return str(value)
