@@ -257,7 +257,7 @@ def _check_series(libs: SqliteLibraries | PostgresLibraries, sizes: Sizes, base:
             raise RuntimeError(f"check --all saw {run['formulas']} formulas, expected {n}")
         floor_repeats = sizes.floor_repeats if n <= main_n else 1
         say(f"{n:,} formulas: floor, {floor_repeats} run(s)")
-        floor, (formulas, lines) = _best_floor(
+        floor, (_formulas, lines) = _best_floor(
             lambda url=current: _floor_parts(floors.check_floor(url)), floor_repeats)
         timings.append((n, run["seconds"]))
         peaks[n] = run["peak_mb"]
@@ -470,8 +470,7 @@ def render(results: Sequence[BackendResult], sizes: Sizes) -> list[str]:
                 lines.append(f"    {measured}{extra}  target {fig.target or '-'}  {met}")
             if fig.detail:
                 lines.append(f"    {fig.detail}")
-        for note in backend.notes:
-            lines.append(f"  note: {note}")
+        lines.extend(f"  note: {note}" for note in backend.notes)
     return lines
 
 

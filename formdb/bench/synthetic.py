@@ -311,20 +311,20 @@ def formula_lines(rng: random.Random, pools: Pools, water_in_oil: bool
     phase_a: list[tuple[Material, int, str]] = []
     phase_b: list[tuple[Material, int, str]] = []
     phase_c: list[tuple[Material, int, str]] = []
-    for m in _draw(rng, pools.humectants, 1 + extra["humectant"], used):
-        phase_a.append((m, _within_use(rng, m, (1.0, 5.0)), "A"))
-    for m in _draw(rng, pools.thickeners, extra["thickener"], used):
-        phase_a.append((m, _within_use(rng, m, (0.1, 0.5)), "A"))
+    phase_a.extend((m, _within_use(rng, m, (1.0, 5.0)), "A")
+                   for m in _draw(rng, pools.humectants, 1 + extra["humectant"], used))
+    phase_a.extend((m, _within_use(rng, m, (0.1, 0.5)), "A")
+                   for m in _draw(rng, pools.thickeners, extra["thickener"], used))
     if water_in_oil:
-        for m in _draw(rng, pools.electrolytes, 1, used):
-            phase_a.append((m, _within_use(rng, m, (0.5, 1.0)), "A"))
+        phase_a.extend((m, _within_use(rng, m, (0.5, 1.0)), "A")
+                       for m in _draw(rng, pools.electrolytes, 1, used))
     oils = _draw(rng, pools.wo_oils if water_in_oil else pools.oils, 1 + extra["oil"], used)
     oil_total = rng.randint(2000, 3500) if water_in_oil else rng.randint(800, 2500)
     for m, share in zip(oils, _split_total(rng, oil_total, len(oils), 50), strict=True):
         phase_b.append((m, share, "B"))
-    for m in _draw(rng, pools.fatty_alcohols, 0 if water_in_oil else extra["fatty_alcohol"],
-                   used):
-        phase_b.append((m, rng.randint(100, 400), "B"))
+    fatty_alcohols = 0 if water_in_oil else extra["fatty_alcohol"]
+    phase_b.extend((m, rng.randint(100, 400), "B")
+                   for m in _draw(rng, pools.fatty_alcohols, fatty_alcohols, used))
     weighted = [(p, m.n("required_hlb_wo" if water_in_oil else "required_hlb_ow"))
                 for m, p, _ in phase_b]
     known = [(p, v) for p, v in weighted if v is not None]
@@ -341,14 +341,14 @@ def formula_lines(rng: random.Random, pools: Pools, water_in_oil: bool
     low_part = max(20, round(emulsifier_total * share_low))
     phase_b.append((low, low_part, "B"))
     phase_b.append((high, max(20, emulsifier_total - low_part), "B"))
-    for m in _draw(rng, pools.preservatives, 1 + extra["preservative"], used):
-        phase_c.append((m, _within_use(rng, m, (0.3, 1.0)), "C"))
-    for m in _draw(rng, pools.antioxidants, extra["antioxidant"], used):
-        phase_c.append((m, _within_use(rng, m, (0.05, 0.5)), "C"))
-    for m in _draw(rng, pools.fragrances, extra["fragrance"], used):
-        phase_c.append((m, _within_use(rng, m, (0.1, 0.5)), "C"))
-    for m in _draw(rng, pools.actives, extra["active"], used):
-        phase_c.append((m, _within_use(rng, m, (0.5, 3.0)), "C"))
+    phase_c.extend((m, _within_use(rng, m, (0.3, 1.0)), "C")
+                   for m in _draw(rng, pools.preservatives, 1 + extra["preservative"], used))
+    phase_c.extend((m, _within_use(rng, m, (0.05, 0.5)), "C")
+                   for m in _draw(rng, pools.antioxidants, extra["antioxidant"], used))
+    phase_c.extend((m, _within_use(rng, m, (0.1, 0.5)), "C")
+                   for m in _draw(rng, pools.fragrances, extra["fragrance"], used))
+    phase_c.extend((m, _within_use(rng, m, (0.5, 3.0)), "C")
+                   for m in _draw(rng, pools.actives, extra["active"], used))
     rest = HUNDREDTHS - sum(p for part in (phase_a, phase_b, phase_c) for _m, p, _ in part)
     if rest < 3000:
         raise ValueError("a synthetic formula left less than 30 % water")  # pragma: no cover

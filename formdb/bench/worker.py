@@ -73,7 +73,7 @@ def main(argv: list[str] | None = None) -> None:
     parser.add_argument("--profile", type=int, default=0)
     args = parser.parse_args(argv)
     # the libraries a task needs are imported before the clock starts
-    import formdb.services.checking  # noqa: F401
+    import formdb.services.checking
     if args.task == "import":
         import formdb.services.ingredients  # noqa: F401
 

@@ -94,7 +94,8 @@ def _stream(library: Library, items: list[Any], profile: Any, all_stored: bool, 
         return 0
     target = out.with_name(f".{out.name}.part") if out is not None else None
     try:
-        handle = open(target, "w", encoding="utf-8") if target else sys.stdout
+        # closed in the finally below; stdout is not ours to close
+        handle = open(target, "w", encoding="utf-8") if target else sys.stdout  # noqa: SIM115
     except OSError as exc:
         raise InvalidData(f"{out}: the report cannot be written ({exc.strerror or exc})",
                           hint="choose a folder you can write to") from None

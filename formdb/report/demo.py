@@ -9,8 +9,8 @@ from typing import TYPE_CHECKING
 from formdb.report import SUFFIXES, ListSnapshot, render
 
 if TYPE_CHECKING:
+    from formdb.schemas.demo import DemoRun
     from formdb.schemas.result import CheckResult
-    from formdb.services.demo import DemoRun
 
 INTRO = (
     "formdb demo: a throwaway library from the bundled seed data, then the formulas of\n"

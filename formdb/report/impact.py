@@ -8,7 +8,7 @@ from collections.abc import Sequence
 from typing import TYPE_CHECKING, Any
 
 if TYPE_CHECKING:
-    from formdb.services.impact import ImpactReport
+    from formdb.schemas.impact import ImpactReport
 
 
 def render_impacts(reports: Sequence[ImpactReport], fmt: str) -> str:

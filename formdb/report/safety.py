@@ -56,8 +56,8 @@ def exposure_section(facts: FormulaFacts) -> Section | None:
                              "Verdict"), [_row(line) for line in sheet.lines], "snnnsnns"))
         blocks.append(Notes(("SED, PoD and PoD_sys in mg/kg bw/day; * a default was used "
                              "(dermal absorption, or oral bioavailability for PoD_sys).",)))
-        for line in sheet.lines:
-            blocks.append(Notes((*sheet.steps, *line.steps), f"Arithmetic: {line.inci}"))
+        blocks.extend(Notes((*sheet.steps, *line.steps), f"Arithmetic: {line.inci}")
+                      for line in sheet.lines)
     else:
         blocks.append(lines(Line("Substances", "none of the formula's substances has a point "
                                                "of departure in the library")))

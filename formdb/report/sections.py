@@ -34,7 +34,7 @@ def _line_row(line: LineFacts, with_left: bool) -> tuple[str, ...]:
            SIDE_WORDS[line.phase], n.density(line.density).removesuffix(" g/mL"),
            line.phase_reason)
     if with_left:
-        row = row[:3] + (n.percent(line.remaining_percent, ""),) + row[3:]
+        row = (*row[:3], n.percent(line.remaining_percent, ""), *row[3:])
     return row
 
 
@@ -60,7 +60,7 @@ def phases_section(facts: FormulaFacts) -> Section:
     headers = ("Line", "INCI name", "% w/w", "Phase", "Side", "Density g/mL", "Placed by")
     align = "nsnssns"
     if with_left:
-        headers = headers[:3] + ("Stays % w/w",) + headers[3:]
+        headers = (*headers[:3], "Stays % w/w", *headers[3:])
         align = "nsnnssns"
     rows = [_line_row(ln, with_left) for ln in facts.lines]
     blocks: list[Block] = [table(headers, rows, align)]

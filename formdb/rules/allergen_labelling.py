@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from collections.abc import Iterable, Mapping
-from typing import Any
+from typing import Any, ClassVar
 
 from formdb.rules.base import Option, Rule
 from formdb.rules.registry import register
@@ -36,7 +36,9 @@ class AllergenLabelling(Rule):
     name = "allergen-labelling"
     groups = ("labelling",)
     default_severity = Severity.INFO
-    options = {"jurisdiction": Option(str, "EU", "jurisdiction whose labelling thresholds apply")}
+    options: ClassVar[dict[str, Option]] = {
+        "jurisdiction": Option(str, "EU", "jurisdiction whose labelling thresholds apply"),
+    }
 
     def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,
               options: Mapping[str, Any]) -> Iterable[Finding]:

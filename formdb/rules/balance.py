@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from collections.abc import Iterable, Mapping
-from typing import Any
+from typing import Any, ClassVar
 
 from formdb.rules.base import Option, Rule
 from formdb.rules.registry import register
@@ -31,7 +31,9 @@ class PercentTotal(Rule):
     name = "percent-total"
     groups = ("composition",)
     default_severity = Severity.ERROR
-    options = {"tolerance": Option(float, 0.1, "allowed difference from 100 % w/w", minimum=0)}
+    options: ClassVar[dict[str, Option]] = {
+        "tolerance": Option(float, 0.1, "allowed difference from 100 % w/w", minimum=0),
+    }
 
     def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,
               options: Mapping[str, Any]) -> Iterable[Finding]:

@@ -304,9 +304,9 @@ def _emulsifiers(formula: ResolvedFormula, lines: list[LineFacts],
             work.gap("hlb", ing.inci_name, "blend HLB")
         members.append((ing.inci_name, lf.percent, ing.p.hlb, ing.p.solubility,
                         ing.p.ionic_character, False, lf.line_no, side))
-    for soap in work.soaps:
-        members.append((soap.facts.soap, soap.facts.soap_percent, soap.facts.hlb,
-                        soap.solubility, soap.ionic_character, True, None, soap.side))
+    members.extend((soap.facts.soap, soap.facts.soap_percent, soap.facts.hlb,
+                    soap.solubility, soap.ionic_character, True, None, soap.side)
+                   for soap in work.soaps)
     total = sum(m[1] for m in members)
     return [EmulsifierFacts(inci=m[0], percent=m[1], hlb=m[2], solubility=m[3],
                             ionic_character=m[4], share=m[1] / total if total > 0 else 0.0,

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from collections.abc import Iterable, Mapping
-from typing import Any
+from typing import Any, ClassVar
 
 from formdb.rules.base import Option, Rule
 from formdb.rules.registry import register
@@ -48,7 +48,9 @@ class HlbBalance(Rule):
     name = "hlb-balance"
     groups = ("emulsion", "hlb")
     default_severity = Severity.WARNING
-    options = {"tolerance": Option(float, 1.0, "half-width of the accepted HLB band", minimum=0)}
+    options: ClassVar[dict[str, Option]] = {
+        "tolerance": Option(float, 1.0, "half-width of the accepted HLB band", minimum=0),
+    }
 
     def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,
               options: Mapping[str, Any]) -> Iterable[Finding]:

@@ -35,11 +35,11 @@ def _members(formula: ResolvedFormula, facts: FormulaFacts) -> list[_Member]:
         out.append(_Member(ing.inci_name, ing.inci_name, ln.percent,
                            frozenset(norm_token(c) for c in ing.classes), frozenset(keys),
                            frozenset({ln.line_no})))
-    for soap in facts.soaps:
-        out.append(_Member(soap.soap, f"{soap.soap} (formed in place)", soap.soap_percent,
-                           frozenset(norm_token(c) for c in soap.classes),
-                           frozenset({name_key(soap.soap)}),
-                           frozenset({soap.acid_line_no, soap.base_line_no})))
+    out.extend(_Member(soap.soap, f"{soap.soap} (formed in place)", soap.soap_percent,
+                       frozenset(norm_token(c) for c in soap.classes),
+                       frozenset({name_key(soap.soap)}),
+                       frozenset({soap.acid_line_no, soap.base_line_no}))
+               for soap in facts.soaps)
     return out
 
 

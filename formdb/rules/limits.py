@@ -11,7 +11,7 @@ from __future__ import annotations
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from functools import lru_cache
-from typing import Any
+from typing import Any, ClassVar
 
 from formdb.rules.base import Option, Rule
 from formdb.rules.composition import substance_formula
@@ -158,7 +158,7 @@ class ConcentrationLimit(Rule):
     name = "concentration-limit"
     groups = ("regulatory",)
     default_severity = Severity.ERROR
-    options = {"jurisdiction": JURISDICTION}
+    options: ClassVar[dict[str, Option]] = {"jurisdiction": JURISDICTION}
 
     def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,
               options: Mapping[str, Any]) -> Iterable[Finding]:
@@ -287,7 +287,7 @@ class ExclusiveEntries(Rule):
     name = "exclusive-entries"
     groups = ("regulatory",)
     default_severity = Severity.ERROR
-    options = {"jurisdiction": JURISDICTION}
+    options: ClassVar[dict[str, Option]] = {"jurisdiction": JURISDICTION}
 
     def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,
               options: Mapping[str, Any]) -> Iterable[Finding]:

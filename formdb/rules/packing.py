@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from collections.abc import Iterable, Mapping
-from typing import Any
+from typing import Any, ClassVar
 
 from formdb.rules.base import Option, Rule
 from formdb.rules.registry import register
@@ -36,7 +36,7 @@ class Packing(Rule):
     name = "packing"
     groups = ("emulsion",)
     default_severity = Severity.WARNING
-    options = {
+    options: ClassVar[dict[str, Option]] = {
         "random_close_info": Option(bool, True, "report fractions above random close packing"),
         "random_close": Option(float, 0.64, "random close packing limit", minimum=0),
     }

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from collections.abc import Iterable, Mapping
-from typing import Any
+from typing import Any, ClassVar
 
 from formdb.rules.base import Option, Rule
 from formdb.rules.registry import register
@@ -44,7 +44,7 @@ class SafetyMargin(Rule):
     name = "margin-of-safety"
     groups = ("safety",)
     default_severity = Severity.ERROR
-    options = {
+    options: ClassVar[dict[str, Option]] = {
         "threshold": Option(float, DEFAULT_MOS_THRESHOLD, "lowest acceptable margin of safety",
                             minimum=1.0),
         "missing_severity": Option(str, "warning", "severity for a preservative, UV filter or "

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from collections.abc import Iterable, Mapping
-from typing import Any
+from typing import Any, ClassVar
 
 from formdb.rules.base import Option, Rule
 from formdb.rules.registry import register
@@ -44,7 +44,7 @@ class UnverifiedValue(Rule):
     name = "unverified-value"
     groups = ("data", "review")
     default_severity = Severity.INFO
-    options = {
+    options: ClassVar[dict[str, Option]] = {
         "from_memory_severity": Option(str, "info", "severity of values from memory",
                                        _SEVERITIES),
         "rule_of_thumb_severity": Option(str, "info", "severity of rule-of-thumb values",

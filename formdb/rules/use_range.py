@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from collections.abc import Iterable, Mapping
-from typing import Any
+from typing import Any, ClassVar
 
 from formdb.rules.base import Option, Rule
 from formdb.rules.registry import register
@@ -36,7 +36,7 @@ class UseRange(Rule):
     name = "use-range"
     groups = ("usage",)
     default_severity = Severity.WARNING
-    options = {
+    options: ClassVar[dict[str, Option]] = {
         "below_severity": Option(str, "info", "severity below the use range", _SEVERITIES),
         "above_severity": Option(str, "warning", "severity above the use range", _SEVERITIES),
     }

@@ -282,10 +282,10 @@ def lipophilic(record: IngredientRecord) -> bool:
 
 
 def data_gaps(record: IngredientRecord) -> list[str]:
-    p, gaps = record.p, []
-    for prop in ("use_min_percent", "use_max_percent", "solubility", "ionic_character"):
-        if getattr(p, prop) is None:
-            gaps.append(f"{record.inci_name}: no {prop}")
+    p = record.p
+    gaps = [f"{record.inci_name}: no {prop}"
+            for prop in ("use_min_percent", "use_max_percent", "solubility", "ionic_character")
+            if getattr(p, prop) is None]
     prov = record.provenance.get("hlb")
     if prov is not None and prov.evidence in WEAK_EVIDENCE:
         gaps.append(f"{record.inci_name}: HLB {prov.evidence.value}")

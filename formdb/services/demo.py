@@ -9,13 +9,11 @@ and an emulsifier pair that misses the oil phase's required HLB.
 from __future__ import annotations
 
 import tempfile
-from dataclasses import dataclass, field
-from datetime import date
 from pathlib import Path
 
 from formdb.errors import ConfigError
 from formdb.resources import seed_data_dir
-from formdb.schemas.result import CheckResult
+from formdb.schemas.demo import DemoRun
 from formdb.services.checking import check_files
 from formdb.services.formulas import import_formulas
 from formdb.services.report_context import limit_snapshots
@@ -36,18 +34,6 @@ def formula_purpose(path: Path) -> str:
         words.append(line.lstrip("#").strip())
     text = " ".join(words)
     return text.split(": ", 1)[1] if ": " in text else text
-
-
-@dataclass
-class DemoRun:
-    """The demo's library, the checked formulas (file, what it shows, result) and the limit
-    lists' dates for the cautions; report.demo renders it."""
-
-    library: Path
-    results: list[CheckResult]
-    files: list[Path] = field(default_factory=list)
-    purposes: list[str] = field(default_factory=list)
-    snapshots: list[tuple[str, str, date]] = field(default_factory=list)
 
 
 def run_demo(*, keep: Path | None = None, user: str = "demo") -> DemoRun:

@@ -52,10 +52,10 @@ def declaration(formula: ResolvedFormula, reference: ReferenceData,
     entries = [LabelEntry(name, total, group(total, colourant), name in named, tuple(given))
                for name, total, colourant, given in totals.values()]
     listed = {name_key(e.name) for e in entries}
-    for line in table.lines if table else ():
-        if line.must_label and name_key(line.inci) not in listed:  # declared by a mixture
-            entries.append(LabelEntry(line.inci, line.percent, group(line.percent, False), True,
-                                      tuple(line.sources)))
+    entries.extend(  # allergens declared by a mixture that no line names
+        LabelEntry(line.inci, line.percent, group(line.percent, False), True, tuple(line.sources))
+        for line in (table.lines if table else ())
+        if line.must_label and name_key(line.inci) not in listed)
     rank = {"above 1 %": 0, "1 % or less": 1, "colourant": 2}
     entries.sort(key=lambda e: (rank[e.group], -e.percent, e.name))
     return LabelDeclaration(formula=formula.name, category=formula.formula.category.value,

@@ -238,15 +238,14 @@ def read_limits(file: Path, label: str, known_sources: set[str]) -> Rows:
     if problems:
         raise SeedProblems(problems)
     out = []
-    for row in parsed:
-        out.append({
+    out.extend({
             "key": row.key, "jurisdiction": row.jurisdiction, "list_name": row.list_name,
             "entry": row.entry, "ingredients": "; ".join(row.ingredients),
             "category": row.category, "product": row.product, "max_percent": row.max_percent,
             "aggregate": row.aggregate, "basis": row.basis,
             "acid_inci": normalise_inci(row.acid_inci) if row.acid_inci else None,
             "excludes": "; ".join(row.excludes) or None, "conditions": row.conditions,
-            "source_key": row.source, "list_date": row.list_date})
+            "source_key": row.source, "list_date": row.list_date} for row in parsed)
     return out
 
 

@@ -96,4 +96,4 @@ def test_contract_json_nulls_without_emulsifier() -> None:
     assert data["required_hlb"] is None
     assert data["dispersed_fraction"] is None
     assert data["predicted_type"] is None
-    assert [f["rule"] for f in data["findings"]][0] == "EMU01"
+    assert next(f["rule"] for f in data["findings"]) == "EMU01"

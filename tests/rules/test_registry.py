@@ -41,7 +41,7 @@ class _SameName(_First):
 def test_registry_rejects_a_duplicate_code() -> None:
     registry = RuleRegistry()
     registry.add(_First)
-    with pytest.raises(ConfigError, match="rule code 'TST01'.*already taken by _First"):
+    with pytest.raises(ConfigError, match=r"rule code 'TST01'.*already taken by _First"):
         registry.add(_SameCode)
     assert len(registry) == 1
 

@@ -39,8 +39,8 @@ def _case_files() -> list[tuple[str, dict[str, Any]]]:
 def _params() -> list[Any]:
     params = []
     for code, data in _case_files():
-        for case in data["case"]:
-            params.append(pytest.param(code, case, id=f"{code}-{case['name']}"))
+        params.extend(pytest.param(code, case, id=f"{code}-{case['name']}")
+                      for case in data["case"])
     return params
 
 

@@ -85,7 +85,7 @@ def test_unreachable_target_states_the_range() -> None:
     assert (caught.value.target, caught.value.low, caught.value.high) == (16.0, 4.3, 15.0)
     assert "4.3 to 15" in str(caught.value)
     assert isinstance(caught.value, ValueError)
-    with pytest.raises(UnreachableHlb, match="4.3 to 16.7"):
+    with pytest.raises(UnreachableHlb, match=r"4\.3 to 16\.7"):
         blend_fractions(2.0, [POLYSORBATE_80, SORBITAN_OLEATE, 16.7])
 
 

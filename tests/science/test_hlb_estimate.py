@@ -94,7 +94,7 @@ def test_davies_sulfate_is_the_original_38_7() -> None:
 
 def test_davies_group_names_are_forgiving_but_unknown_ones_fail() -> None:
     assert hlb_davies({"Carboxylate Sodium": 1, "CHx": 17}) == pytest.approx(18.025)
-    with pytest.raises(ValueError, match="unknown Davies group 'sulphonate'.*groups: sulfate"):
+    with pytest.raises(ValueError, match=r"unknown Davies group 'sulphonate'.*groups: sulfate"):
         hlb_davies({"sulphonate": 1})
     with pytest.raises(ValueError, match="count of chx"):
         hlb_davies({"chx": -2})

@@ -18,13 +18,13 @@ from formdb.science.packing import (
 
 def test_packing_constants() -> None:
     # Kepler conjecture (Hales, Ann. Math. 162 (2005) 1065): FCC/HCP 0.74048.
-    assert CLOSE_PACKING == pytest.approx(0.74048, abs=5e-6)
-    assert CLOSE_PACKING == pytest.approx(math.pi / (3 * math.sqrt(2)))
+    assert pytest.approx(0.74048, abs=5e-6) == CLOSE_PACKING
+    assert pytest.approx(math.pi / (3 * math.sqrt(2))) == CLOSE_PACKING
     # Torquato 1995; Scott & Kilgour 1969: random close packing 0.64 +- 0.02.
-    assert RANDOM_CLOSE_PACKING == pytest.approx(0.637, abs=0.02)
+    assert pytest.approx(0.637, abs=0.02) == RANDOM_CLOSE_PACKING
     # Geometry (computed from the published formulas): BCC 0.6802, simple cubic 0.5236.
-    assert BODY_CENTRED_CUBIC_PACKING == pytest.approx(0.6802, abs=5e-5)
-    assert SIMPLE_CUBIC_PACKING == pytest.approx(0.5236, abs=5e-5)
+    assert pytest.approx(0.6802, abs=5e-5) == BODY_CENTRED_CUBIC_PACKING
+    assert pytest.approx(0.5236, abs=5e-5) == SIMPLE_CUBIC_PACKING
     assert [value for _, value, _ in PACKING_LIMITS] == sorted(
         (value for _, value, _ in PACKING_LIMITS), reverse=True)
 

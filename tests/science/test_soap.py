@@ -30,11 +30,11 @@ MAGNESIUM_OLEATE = mm(C=36, H=66, Mg=1, O=4)  # Mg(C17H33COO)2, 587.2
 
 def test_the_molar_masses_in_the_brief() -> None:
     # Computed from molar masses (IUPAC standard atomic weights).
-    assert STEARIC_ACID == pytest.approx(284.48, abs=0.01)
-    assert OLEIC_ACID == pytest.approx(282.46, abs=0.01)
-    assert TRIETHANOLAMINE == pytest.approx(149.19, abs=0.01)
-    assert SODIUM_HYDROXIDE == pytest.approx(39.997, abs=0.001)
-    assert MAGNESIUM_OXIDE == pytest.approx(40.304, abs=0.001)
+    assert pytest.approx(284.48, abs=0.01) == STEARIC_ACID
+    assert pytest.approx(282.46, abs=0.01) == OLEIC_ACID
+    assert pytest.approx(149.19, abs=0.01) == TRIETHANOLAMINE
+    assert pytest.approx(39.997, abs=0.001) == SODIUM_HYDROXIDE
+    assert pytest.approx(40.304, abs=0.001) == MAGNESIUM_OXIDE
     assert mm(H=2, O=1) == pytest.approx(WATER_MOLAR_MASS, abs=0.001)
 
 

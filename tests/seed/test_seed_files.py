@@ -184,11 +184,9 @@ def test_memory_and_calc_sources_claim_no_more_than_they_are(
 
 def test_every_source_key_resolves(sources: dict[str, dict[str, str]],
                                    ingredients: list[dict[str, str]]) -> None:
-    used: list[tuple[str, str]] = []
-    for row in ingredients:
-        for prop in PROPERTY_NAMES:
-            if row.get(prop, "").strip():
-                used.append((f"ingredients.csv {row['inci_name']}.{prop}", row[f"{prop}_source"]))
+    used: list[tuple[str, str]] = [
+        (f"ingredients.csv {row['inci_name']}.{prop}", row[f"{prop}_source"])
+        for row in ingredients for prop in PROPERTY_NAMES if row.get(prop, "").strip()]
     for name in ("limits.csv", "incompatibilities.csv", "soap_pairs.csv"):
         used += [(f"{name} row {i}", row["source"]) for i, row in enumerate(_read(name), start=2)]
     # other seed tables that carry a source column (e.g. the SCCS exposure table)
@@ -343,17 +341,15 @@ def test_values_marked_memory_cite_a_memory_source(
 # --- limits ----------------------------------------------------------------------------------
 
 def _limits() -> list[LimitRecord]:
-    out = []
-    for row in _read("limits.csv"):
-        out.append(LimitRecord(
+    return [LimitRecord(
             key=row["key"], jurisdiction=row["jurisdiction"], list_name=row["list_name"],
             entry=row["entry"], ingredients=tuple(_split(row["ingredients"])),
             category=row["category"], product=row["product"] or None,
             max_percent=float(row["max_percent"]), aggregate=row["aggregate"],
             basis=row["basis"], acid_inci=row["acid_inci"] or None,
             excludes=tuple(_split(row["excludes"])), conditions=row["conditions"] or None,
-            source=row["source"], list_date=date.fromisoformat(row["list_date"])))
-    return out
+            source=row["source"], list_date=date.fromisoformat(row["list_date"]))
+        for row in _read("limits.csv")]
 
 
 def test_limits_are_well_formed_and_resolve(by_name: dict[str, dict[str, str]],

@@ -8,6 +8,7 @@ values written here are made up for the test (source rule-of-thumb).
 from __future__ import annotations
 
 import hashlib
+import itertools
 import json
 import multiprocessing
 import time
@@ -136,7 +137,7 @@ def test_service_writes_are_sealed_and_verify_is_intact(library_url: str) -> Non
     rows = _rows(library_url)
     assert rows and all(r.row_hash for r in rows)
     assert rows[0].prev_hash == GENESIS
-    assert all(b.prev_hash == a.row_hash for a, b in zip(rows, rows[1:], strict=False))
+    assert all(b.prev_hash == a.row_hash for a, b in itertools.pairwise(rows))
     code, log, _err = _verify(library_url)
     assert code == 0 and log["intact"] and log["rows"] == len(rows)
     assert log["head"] == {"id": rows[-1].id, "hash": rows[-1].row_hash}

@@ -116,11 +116,11 @@ def test_an_edit_from_a_stale_version_is_a_conflict(library_url: str) -> None:
             bos_copy = session.get(Ingredient, 7)
             assert bos_copy is not None
             bos_copy.updated_by = "bo"
-        with pytest.raises(Conflict, match="someone else changed this record"):
-            with unit_of_work(engine, write=True) as session:
-                session.add(anas_copy)
-                assert anas_copy is not None
-                anas_copy.updated_by = "ana again"
+        with pytest.raises(Conflict, match="someone else changed this record"), \
+                unit_of_work(engine, write=True) as session:
+            session.add(anas_copy)
+            assert anas_copy is not None
+            anas_copy.updated_by = "ana again"
         with unit_of_work(engine) as session:
             row = session.get(Ingredient, 7)
             assert row is not None and (row.updated_by, row.version) == ("bo", 2)
@@ -133,12 +133,12 @@ def test_open_library_accepts_only_a_library_at_head(library_url: str, tmp_path:
     engine = open_library(library_url)
     engine.dispose()
     if library_url.startswith("postgresql"):
-        with fresh_pg_schema(library_url.split("?")[0]) as other:
-            with pytest.raises(SchemaOutdated, match="is not a formdb library yet.$") as caught:
-                open_library(other)
+        with fresh_pg_schema(library_url.split("?")[0]) as other, \
+                pytest.raises(SchemaOutdated, match=r"is not a formdb library yet\.$") as caught:
+            open_library(other)
     else:
         empty = tmp_path / "empty.sqlite"
         make_engine(str(empty)).dispose()  # an SQLite file with no tables
-        with pytest.raises(SchemaOutdated, match="is not a formdb library yet.$") as caught:
+        with pytest.raises(SchemaOutdated, match=r"is not a formdb library yet\.$") as caught:
             open_library(str(empty))
     assert caught.value.hint is not None and "formdb init" in caught.value.hint

@@ -153,7 +153,7 @@ def test_a_bad_seed_row_is_named_and_nothing_is_written(
 
 def test_an_empty_seed_file_is_refused(sqlite_url: str, seed_copy: Path) -> None:
     (seed_copy / "incompatibilities.csv").write_text("")
-    with pytest.raises(InvalidData, match="seed/incompatibilities.csv: the file is empty"):
+    with pytest.raises(InvalidData, match=r"seed/incompatibilities\.csv: the file is empty"):
         _seed(sqlite_url, seed_copy)
 
 
