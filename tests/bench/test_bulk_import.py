@@ -17,6 +17,8 @@ from formdb.services import ingredients
 from formdb.store.db import open_library, unit_of_work
 from tests.helpers import dump_database, fresh_pg_database
 
+pytestmark = pytest.mark.slow  # left out of the fast lane
+
 TIMESTAMPS = ("at", "created_at", "updated_at")
 
 

@@ -23,6 +23,8 @@ from formdb.store.models import ChangeLogEntry, Source, StoredFormula
 from tests.helpers import dump_database
 from tests.libraries import opened
 
+pytestmark = pytest.mark.slow  # left out of the fast lane
+
 PLAN = library.LibraryPlan(ingredients=180, formulas=60, seed=7)
 TIMESTAMPS = ("at", "created_at", "updated_at")
 

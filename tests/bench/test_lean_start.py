@@ -23,6 +23,8 @@ from formdb.store.db import (
     stored_revision_plain,
 )
 
+pytestmark = pytest.mark.slow  # left out of the fast lane
+
 HEAVY = ("alembic", "pandas", "openpyxl", "jinja2", "pint", "matplotlib", "numpy")
 # loaded only to suggest a name for a misspelt one, which none of the runs below has
 SUGGESTIONS = ("rapidfuzz",)

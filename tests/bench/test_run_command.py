@@ -9,9 +9,13 @@ import subprocess
 import sys
 from pathlib import Path
 
+import pytest
+
 from formdb.bench.floors import STARTUP_FLOOR_CODE
 from formdb.bench.run import Figure, fitted_exponent
 from formdb.bench.startup import group_of, import_profile
+
+pytestmark = pytest.mark.slow  # left out of the fast lane
 
 EXPECTED = ("check --all, 20 formulas", "check --all, 40 formulas",
             "peak memory (ru_maxrss), check --all 20 formulas",

@@ -8,12 +8,15 @@ from collections.abc import Iterator
 from contextlib import contextmanager
 from pathlib import Path
 
+import pytest
 from alembic.script import ScriptDirectory
 from sqlalchemy import inspect
 
 from formdb.services.ingredients import add_ingredient
 from formdb.store.db import alembic_config, head_revision, make_engine, unit_of_work
 from tests.helpers import dump_database, fresh_pg_database, pg_base_url, run_formdb
+
+pytestmark = pytest.mark.slow  # left out of the fast lane
 
 
 def test_migration_chain_has_exactly_one_head() -> None:

@@ -22,6 +22,8 @@ from hypothesis import strategies as st
 from tests.fixtures.tables.library_setup import build_library
 from tests.helpers import CliResult, dump_database, run_formdb
 
+pytestmark = pytest.mark.slow  # left out of the fast lane
+
 
 def _settings(examples: int) -> settings:
     return settings(max_examples=examples, deadline=None, derandomize=True, database=None,

@@ -9,6 +9,8 @@ from pathlib import Path
 
 import pytest
 
+pytestmark = pytest.mark.slow  # left out of the fast lane
+
 REPO = Path(__file__).resolve().parents[2]
 
 

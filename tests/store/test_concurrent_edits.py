@@ -25,6 +25,8 @@ from formdb.store.models import ChangeLogEntry, Ingredient, PropertyValue
 from tests.helpers import dump_database, run_formdb
 from tests.store.edit_workers import STRESS_NAMES, Attempt, edit_rounds, user_of
 
+pytestmark = pytest.mark.slow  # left out of the fast lane
+
 PROCESSES = 4
 ROUNDS = 25
 START_HLB = {"Cetyl Alcohol": "1", "Glyceryl Stearate": "3.8", "Sorbitan Stearate": "4.7"}

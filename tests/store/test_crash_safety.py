@@ -16,12 +16,15 @@ import sys
 import time
 from pathlib import Path
 
+import pytest
 from sqlalchemy import text
 
 from formdb.store.db import make_engine, sqlite_path
 from tests.helpers import dump_database
 from tests.store.edit_workers import STRESS_NAMES
 from tests.store.test_concurrent_edits import _log, _state, _stock
+
+pytestmark = pytest.mark.slow  # left out of the fast lane
 
 IMPORT_ROWS = 20_000
 ROOT = Path(__file__).resolve().parents[2]

@@ -15,7 +15,7 @@ from sqlalchemy.exc import ProgrammingError
 
 from tests.helpers import run_formdb
 
-pytestmark = pytest.mark.postgres
+pytestmark = [pytest.mark.slow, pytest.mark.postgres]
 
 
 @pytest.fixture

@@ -26,6 +26,8 @@ from formdb.store.db import (
 from formdb.store.sealing import GENESIS, seal
 from tests.helpers import dump_database
 
+pytestmark = pytest.mark.slow  # left out of the fast lane
+
 NOW = datetime(2026, 3, 2, 9, 30, tzinfo=UTC)
 
 

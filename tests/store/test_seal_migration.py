@@ -7,10 +7,13 @@ from __future__ import annotations
 import json
 from datetime import UTC, datetime
 
+import pytest
 from sqlalchemy import text
 
 from formdb.store.db import downgrade, make_engine, upgrade
 from tests.helpers import run_formdb
+
+pytestmark = pytest.mark.slow  # left out of the fast lane
 
 AT = datetime(2026, 3, 2, 9, 30, 15, 250000, tzinfo=UTC)
 

@@ -5,12 +5,15 @@ from __future__ import annotations
 
 from datetime import UTC, datetime
 
+import pytest
 from alembic.script import ScriptDirectory
 from sqlalchemy import DateTime, String, column, insert, select, table, text
 
 from formdb.services.access import add_user, is_open, list_users
 from formdb.store.db import alembic_config, downgrade, make_engine, unit_of_work, upgrade
 from tests.helpers import dump_database
+
+pytestmark = pytest.mark.slow  # left out of the fast lane
 
 REVISION = "0009_users_roles"
 AT = datetime(2026, 3, 2, 9, 30, tzinfo=UTC)
