@@ -35,6 +35,7 @@ FORMULAS_SQL = "SELECT content FROM formulas ORDER BY name_key"
 def raw_connection(url: str) -> Iterator[Any]:
     """A plain DB-API connection (sqlite3 or psycopg) to the library at ``url``."""
     path = sqlite_path(url)
+    conn: Any
     if path is not None:
         conn = sqlite3.connect(path)
     else:

@@ -15,9 +15,9 @@ from contextlib import contextmanager
 from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
-from typing import Any
+from typing import Any, cast
 
-from sqlalchemy import Engine, create_engine, insert, text
+from sqlalchemy import Engine, Table, create_engine, insert, text
 from sqlalchemy.engine import make_url
 from sqlalchemy.orm import Session
 
@@ -138,7 +138,7 @@ def add_formulas(url: str, plan: LibraryPlan, start: int = 1, user: str = BENCH_
 def _insert(session: Session, batch: list[tuple[dict[str, Any], dict[str, Any]]]) -> int:
     if batch:
         session.execute(insert(StoredFormula), [row for row, _log in batch])
-        append_rows(session, ChangeLogEntry.__table__, [log for _row, log in batch])
+        append_rows(session, cast(Table, ChangeLogEntry.__table__), [log for _row, log in batch])
     return len(batch)
 
 

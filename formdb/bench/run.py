@@ -257,8 +257,10 @@ def _check_series(libs: SqliteLibraries | PostgresLibraries, sizes: Sizes, base:
             raise RuntimeError(f"check --all saw {run['formulas']} formulas, expected {n}")
         floor_repeats = sizes.floor_repeats if n <= main_n else 1
         say(f"{n:,} formulas: floor, {floor_repeats} run(s)")
-        floor, (_formulas, lines) = _best_floor(
-            lambda url=current: _floor_parts(floors.check_floor(url)), floor_repeats)
+        def floor_once(url: str = current) -> Any:
+            return _floor_parts(floors.check_floor(url))
+
+        floor, (_formulas, lines) = _best_floor(floor_once, floor_repeats)
         timings.append((n, run["seconds"]))
         peaks[n] = run["peak_mb"]
         figure = Figure(

@@ -82,7 +82,8 @@ class LazyGroup(click.Group):
         if target is None:
             return None
         module_name, attr = target.split(":")
-        return getattr(importlib.import_module(module_name), attr)
+        command: click.Command = getattr(importlib.import_module(module_name), attr)
+        return command
 
 
 @click.group(cls=LazyGroup, context_settings={"help_option_names": ["-h", "--help"]})

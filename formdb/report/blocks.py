@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Literal
 
@@ -52,7 +53,7 @@ def lines(*items: Line | None) -> Lines:
     return Lines(tuple(i for i in items if i is not None))
 
 
-def table(headers: tuple[str, ...], rows: list[tuple[str, ...]], numeric: str,
+def table(headers: tuple[str, ...], rows: Sequence[tuple[str, ...]], numeric: str,
           title: str = "") -> Table:
     """A table; ``numeric`` has one character per column: 'n' right-aligned, anything else left."""
     if len(numeric) != len(headers):

@@ -25,12 +25,9 @@ def _tables(render: Any, width: int | None) -> str:
     """Rich renderables as text, at the terminal's width (or 160 columns into a pipe)."""
     from rich.console import Console
 
-    console = Console(width=width or 160, file=io.StringIO(), highlight=False,
-                      color_system=None)
-    render(console)
-    out = console.file.getvalue()
-    assert isinstance(out, str)
-    return out
+    buffer = io.StringIO()
+    render(Console(width=width or 160, file=buffer, highlight=False, color_system=None))
+    return buffer.getvalue()
 
 
 def when(at: datetime) -> str:

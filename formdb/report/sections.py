@@ -30,7 +30,8 @@ def _phase_letter(line: LineFacts) -> str:
 # ----- phases -----------------------------------------------------------------------------
 
 def _line_row(line: LineFacts, with_left: bool) -> tuple[str, ...]:
-    row = (str(line.line_no), line.inci, n.percent(line.percent, ""), _phase_letter(line),
+    row: tuple[str, ...] = (str(line.line_no), line.inci, n.percent(line.percent, ""),
+                            _phase_letter(line),
            SIDE_WORDS[line.phase], n.density(line.density).removesuffix(" g/mL"),
            line.phase_reason)
     if with_left:
@@ -57,7 +58,8 @@ def _phase_lines(facts: FormulaFacts) -> list[Line]:
 
 def phases_section(facts: FormulaFacts) -> Section:
     with_left = any(abs(ln.remaining_percent - ln.percent) > 1e-9 for ln in facts.lines)
-    headers = ("Line", "INCI name", "% w/w", "Phase", "Side", "Density g/mL", "Placed by")
+    headers: tuple[str, ...] = ("Line", "INCI name", "% w/w", "Phase", "Side", "Density g/mL",
+                                "Placed by")
     align = "nsnssns"
     if with_left:
         headers = (*headers[:3], "Stays % w/w", *headers[3:])

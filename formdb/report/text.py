@@ -71,7 +71,8 @@ RENDER_BLOCK = {"lines": _lines, "table": _table, "notes": _notes}
 
 
 def _block(block: Block) -> RenderableType:
-    return RENDER_BLOCK[block.kind](block)  # type: ignore[operator]
+    rendered: RenderableType = RENDER_BLOCK[block.kind](block)  # type: ignore[operator]
+    return rendered
 
 
 def _section(section: Section) -> RenderableType:

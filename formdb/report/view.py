@@ -73,7 +73,7 @@ def finding_groups(findings: tuple[Finding, ...]) -> tuple[FindingGroup, ...]:
     for severity, title in SEVERITY_TITLES.items():
         items = tuple(_finding_view(f) for f in findings if f.severity == severity)
         if items:
-            groups.append(FindingGroup(severity.value, f"{title} ({len(items)})",  # type: ignore[arg-type]
+            groups.append(FindingGroup(severity.value, f"{title} ({len(items)})",
                                        items))
     return tuple(groups)
 

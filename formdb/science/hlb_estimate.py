@@ -142,11 +142,11 @@ def _ethoxylate(
     ethylene_oxide_units: float | None = None,
 ) -> float:
     """(E + P)/5 from percentages, or E/5 from a hydrophobe's molar mass and its EO units."""
-    by_structure = hydrophobe_molar_mass is not None and ethylene_oxide_units is not None
     if oxyethylene_percent is not None and hydrophobe_molar_mass is None \
             and ethylene_oxide_units is None:
         return hlb_from_ethoxylate(oxyethylene_percent, polyol_percent)
-    if by_structure and oxyethylene_percent is None and polyol_percent == 0.0:
+    if (hydrophobe_molar_mass is not None and ethylene_oxide_units is not None
+            and oxyethylene_percent is None and polyol_percent == 0.0):
         return hlb_from_ethoxylate(_oxyethylene(hydrophobe_molar_mass, ethylene_oxide_units))
     raise TypeError("inconsistent ethoxylate inputs")
 

@@ -41,7 +41,7 @@ def area_ratio(n_droplets: float) -> float:
     n = _positive("n_droplets", n_droplets)
     if n < 1:
         raise ValueError(f"n_droplets must be >= 1, got {n}")
-    return n ** (1.0 / 3.0)
+    return float(n ** (1.0 / 3.0))
 
 
 def interfacial_area_m2(dispersed_volume_m3: float, diameter_m: float) -> float:

@@ -69,7 +69,7 @@ def verify_table(session: Session, table: str) -> ChainReport:
         if stored is None:
             problem(row_id, "unsealed", f"row {row_id} has no hash: it was written outside "
                     "formdb (plain SQL) or never sealed")
-        elif row_hash(linked or "", canonical(table, row)) != stored:
+        elif row_hash(linked or "", canonical(table, dict(row))) != stored:
             problem(row_id, "altered", f"row {row_id} was altered: its content no longer "
                     f"matches its hash {_short(stored)}")
         if linked != prev_stored:

@@ -81,7 +81,9 @@ def _raise(problems: list[str], hint: str) -> None:
 def resolve_emulsifiers(session: Session, names: Sequence[str]) -> list[IngredientRecord]:
     """The library records of the named emulsifiers; one problem line per bad name."""
     found = queries.find_ingredients(session, names)
-    problems, records, seen = [], [], {}
+    problems: list[str] = []
+    records: list[IngredientRecord] = []
+    seen: dict[int, str] = {}
     for name in names:
         record = found.get(name_key(name))
         if record is None:

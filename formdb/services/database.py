@@ -95,7 +95,8 @@ def _jsonable(value: Any) -> Any:
     return value
 
 
-def _table_rows(conn: Connection, meta: MetaData) -> Iterator[tuple[str, Iterator[dict]]]:
+def _table_rows(conn: Connection,
+                meta: MetaData) -> Iterator[tuple[str, Iterator[dict[str, Any]]]]:
     for table in meta.sorted_tables:
         order = list(table.primary_key.columns) or list(table.columns)
         result = conn.execution_options(yield_per=_BATCH).execute(
@@ -188,7 +189,7 @@ def _read_manifest(archive: zipfile.ZipFile, path: Path) -> dict[str, Any]:
     if manifest.get("format") != BACKUP_FORMAT:
         raise InvalidData(f"{path}: backup format {manifest.get('format')!r} is not "
                           f"{BACKUP_FORMAT!r}.", hint="restore it with the formdb that wrote it")
-    return manifest
+    return dict(manifest)
 
 
 def _refuse_non_empty(conn: Connection, shown: str) -> str | None:

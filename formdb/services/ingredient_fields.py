@@ -99,7 +99,8 @@ def property_kind(prop: str) -> tuple[str, type[StrEnum] | None]:
 
 @cache
 def _bounds(prop: str) -> tuple[float | None, bool, float | None, bool]:
-    low = high = None
+    low: Any = None
+    high: Any = None
     low_open = high_open = False
     for meta in IngredientProperties.model_fields[prop].metadata:
         if isinstance(meta, at.Ge):
@@ -110,7 +111,7 @@ def _bounds(prop: str) -> tuple[float | None, bool, float | None, bool]:
             high = meta.le
         elif isinstance(meta, at.Lt):
             high, high_open = meta.lt, True
-    return low, low_open, high, high_open  # type: ignore[return-value]
+    return low, low_open, high, high_open
 
 
 def range_text(prop: str) -> str:
@@ -127,7 +128,7 @@ def _num(value: float | None) -> str:
 
 
 @cache
-def _units() -> pint.UnitRegistry:
+def _units() -> pint.UnitRegistry[Any]:
     import pint
 
     return pint.UnitRegistry(preprocessors=[

@@ -133,14 +133,14 @@ def validate_cells(cells: Mapping[str, str], sources: Mapping[str, str],
         item = IngredientIn(
             inci_name=name, synonyms=tuple(lists["synonyms"]), cas_numbers=tuple(lists["cas"]),
             roles=tuple(lists["roles"]), classes=tuple(lists["classes"]),
-            properties=IngredientProperties(**values),  # type: ignore[arg-type]
+            properties=IngredientProperties(**values),
             sources=chosen, notes=notes)
     except ValidationError as exc:
         for error in exc.errors():
             loc = [str(part) for part in error["loc"]]
-            column = next((part for part in loc if part in KNOWN_COLUMNS), None)
+            located = next((part for part in loc if part in KNOWN_COLUMNS), None)
             message = error["msg"].removeprefix("Value error, ")
-            problems.append((column, message))
+            problems.append((located, message))
         return None, problems
     return item, []
 

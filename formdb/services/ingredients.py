@@ -12,9 +12,9 @@ from collections.abc import Callable, Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
 from datetime import UTC, datetime
 from pathlib import Path
-from typing import Any
+from typing import Any, cast
 
-from sqlalchemy import Select, insert, select
+from sqlalchemy import Select, Table, insert, select
 from sqlalchemy.orm import Session, selectinload
 from sqlalchemy.orm.exc import StaleDataError
 
@@ -128,7 +128,7 @@ class IngredientDetail:
 
 # --- reading the library -----------------------------------------------------------------------
 
-def _with_children(stmt: Select[tuple[Ingredient]]) -> Select[tuple[Ingredient]]:
+def _with_children(stmt: Select[Ingredient]) -> Select[Ingredient]:
     return stmt.options(
         selectinload(Ingredient.names), selectinload(Ingredient.cas_numbers),
         selectinload(Ingredient.roles), selectinload(Ingredient.classes),
@@ -246,13 +246,18 @@ def _ensure_special_sources(session: Session, used: Iterable[str]) -> None:
     missing = [k for k in wanted if k not in present]
     if not missing:
         return
-    if session.get_bind().dialect.name == "postgresql":
-        from sqlalchemy.dialects.postgresql import insert as upsert
-    else:
-        from sqlalchemy.dialects.sqlite import insert as upsert
     rows = [{"key": k, "citation": SPECIAL_SOURCES[k][1], "evidence": SPECIAL_SOURCES[k][0],
              "url": None, "seen": "calc", "note": None} for k in missing]
-    session.execute(upsert(Source).values(rows).on_conflict_do_nothing(index_elements=["key"]))
+    if session.get_bind().dialect.name == "postgresql":
+        from sqlalchemy.dialects.postgresql import insert as pg_insert
+
+        session.execute(pg_insert(Source).values(rows).on_conflict_do_nothing(
+            index_elements=["key"]))
+    else:
+        from sqlalchemy.dialects.sqlite import insert as sqlite_insert
+
+        session.execute(sqlite_insert(Source).values(rows).on_conflict_do_nothing(
+            index_elements=["key"]))
 
 
 def _apply(ing: Ingredient, item: IngredientIn, evidence: Mapping[str, str]) -> None:
@@ -272,18 +277,18 @@ def _apply(ing: Ingredient, item: IngredientIn, evidence: Mapping[str, str]) -> 
     stored = {v.property: v for v in ing.values}
     for prop in PROPERTY_NAMES:
         value = getattr(item.properties, prop)
-        row = stored.get(prop)
+        held = stored.get(prop)
         if value is None:
-            if row is not None:
-                ing.values.remove(row)
+            if held is not None:
+                ing.values.remove(held)
             continue
         num, text = queries.property_columns(prop, value)
         source = item.sources[prop]
-        if row is None:
-            row = PropertyValue(property=prop)
-            ing.values.append(row)
-        row.value_num, row.value_text, row.source_key = num, text, source
-        row.evidence, row.note = evidence[source], item.notes.get(prop)
+        if held is None:
+            held = PropertyValue(property=prop)
+            ing.values.append(held)
+        held.value_num, held.value_text, held.source_key = num, text, source
+        held.evidence, held.note = evidence[source], item.notes.get(prop)
 
 
 def _sync(rows: list[Any], attr: str, want: set[str], make: Callable[[str], Any]) -> None:
@@ -412,8 +417,8 @@ def import_table(session: Session, path: Path, *, user: str, reason: str | None,
                 report.notes.append(f"row {row.row}: {target.inci_name!r} is retired; its values "
                                     "are updated but it stays retired")
         item, cell_problems = validate_cells(cells, sources, row.source_columns)
-        for column, text in cell_problems:
-            problem(row.row, column, text)
+        for located, text in cell_problems:
+            problem(row.row, located, text)
         if item is not None:
             plans.append((target, item, diff_cells(base, render_ingredient(item))))
     if not rows:
@@ -468,7 +473,7 @@ def _insert_chunk(session: Session, batch: Sequence[tuple[IngredientIn, list[Fie
                   now: datetime) -> None:
     # Core statements on the tables: one executemany per table (the ORM's bulk path would
     # split the rows by which columns are None)
-    table = Ingredient.__table__
+    table = cast(Table, Ingredient.__table__)
     ids = list(session.scalars(
         insert(table).returning(table.c.id, sort_by_parameter_order=True),
         [{"inci_name": item.inci_name, "retired": False, "version": 1, "created_at": now,
@@ -504,7 +509,7 @@ def _insert_chunk(session: Session, batch: Sequence[tuple[IngredientIn, list[Fie
     for model, values in rows.items():
         if values:
             session.execute(insert(model.__table__), values)  # type: ignore[attr-defined]
-    append_rows(session, ChangeLogEntry.__table__, log)  # type: ignore[arg-type]
+    append_rows(session, cast(Table, ChangeLogEntry.__table__), log)
 
 
 def export_table(session: Session, path: Path, *, role: str | None = None,

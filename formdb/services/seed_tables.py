@@ -237,7 +237,7 @@ def read_limits(file: Path, label: str, known_sources: set[str]) -> Rows:
                                  lambda r: source_check(r.source))
     if problems:
         raise SeedProblems(problems)
-    out = []
+    out: list[dict[str, object]] = []
     out.extend({
             "key": row.key, "jurisdiction": row.jurisdiction, "list_name": row.list_name,
             "entry": row.entry, "ingredients": "; ".join(row.ingredients),

@@ -203,6 +203,8 @@ def stored_revision_plain(engine: Engine) -> tuple[bool, str | None]:
 def _literal_assignments(file: Path) -> dict[str, object]:
     """Module-level ``name = <literal>`` (or ``name: T = <literal>``) of a Python file."""
     values: dict[str, object] = {}
+    target: ast.expr
+    value: ast.expr | None
     for node in ast.parse(file.read_text(encoding="utf-8")).body:
         if isinstance(node, ast.AnnAssign):
             target, value = node.target, node.value

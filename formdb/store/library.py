@@ -97,6 +97,7 @@ class Library:
                                    "command's unit with write() at the top")
             yield self._session
             return
+        bind: Engine
         if write:
             bind = self.engine.execution_options(**{WRITE_LOCK: True})
         elif snapshot and self.dialect == "postgresql":

@@ -8,7 +8,6 @@ synonyms) is one row of ``ingredient_names``, so one unique index keeps names un
 from __future__ import annotations
 
 from datetime import date, datetime
-from typing import Any, ClassVar
 
 from sqlalchemy import (
     Boolean,
@@ -72,7 +71,7 @@ class Ingredient(Base):
     values: Mapped[list[PropertyValue]] = relationship(
         cascade="all, delete-orphan", order_by="PropertyValue.property")
 
-    __mapper_args__: ClassVar[dict[str, Any]] = {"version_id_col": version}
+    __mapper_args__ = {"version_id_col": version}  # noqa: RUF012 - SQLAlchemy reads it
 
 
 class IngredientName(Base):
@@ -213,7 +212,7 @@ class StoredFormula(Base):
     updated_at: Mapped[datetime] = mapped_column(DateTime(timezone=True))
     updated_by: Mapped[str] = mapped_column(String(100))
 
-    __mapper_args__: ClassVar[dict[str, Any]] = {"version_id_col": version}
+    __mapper_args__ = {"version_id_col": version}  # noqa: RUF012 - SQLAlchemy reads it
 
 
 class ExposureEntry(Base):
