@@ -105,7 +105,7 @@ class RuleDoc:
 
 def rule_doc(rule: Rule | type[Rule]) -> RuleDoc:
     """Split a rule's docstring into the summary and the ``Flags:``... ``Options:`` sections."""
-    text = inspect.cleandoc(type(rule).__doc__ if isinstance(rule, Rule) else rule.__doc__ or "")
+    text = inspect.cleandoc((type(rule) if isinstance(rule, Rule) else rule).__doc__ or "")
     parts = _SECTION_RE.split(text)
     summary = " ".join(parts[0].split())
     sections: dict[str, str] = {}
