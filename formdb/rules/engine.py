@@ -6,7 +6,7 @@ findings; a profile's severity override for a rule applies to all of that rule's
 
 from __future__ import annotations
 
-from formdb.rules.facts import compute_facts
+from formdb.facts import compute_facts
 from formdb.rules.profiles import Profile
 from formdb.rules.registry import RuleRegistry, default_registry
 from formdb.schemas.findings import Finding

@@ -13,8 +13,8 @@ from dataclasses import dataclass
 from functools import lru_cache
 from typing import Any, ClassVar
 
+from formdb.facts.composition import substance_formula
 from formdb.rules.base import Option, Rule
-from formdb.rules.composition import substance_formula
 from formdb.rules.registry import register
 from formdb.schemas.findings import Finding
 from formdb.schemas.formula import ResolvedFormula, ResolvedLine

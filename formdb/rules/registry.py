@@ -2,7 +2,9 @@
 
 Rule modules register themselves with ``@register`` on import; ``default_registry()`` imports
 every module of the ``formdb.rules`` package once (so a new rule file needs no other edit) and
-returns the shared registry.
+returns the shared registry. The package holds the rules and their machinery only (the facts
+live in ``formdb.facts``), so importing the machinery modules too is harmless: they register
+nothing.
 """
 
 from __future__ import annotations
@@ -12,11 +14,6 @@ import pkgutil
 
 from formdb.errors import ConfigError
 from formdb.rules.base import Rule, did_you_mean
-
-# modules of formdb.rules that hold machinery, not rules
-_MACHINERY = frozenset({"base", "registry", "profiles", "engine", "facts", "docs",
-                        "exposure_sheet", "allergen_table",
-                        "composition"})
 
 
 class RuleRegistry:
@@ -80,18 +77,13 @@ register = REGISTRY.add
 _loaded = False
 
 
-def builtin_rule_modules() -> tuple[str, ...]:
-    """The modules of formdb.rules that hold rules (one rule or a small family each)."""
-    package = importlib.import_module("formdb.rules")
-    return tuple(sorted(f"formdb.rules.{info.name}" for info in pkgutil.iter_modules(
-        package.__path__) if info.name not in _MACHINERY and not info.name.startswith("_")))
-
-
 def default_registry() -> RuleRegistry:
     """The shared registry with every built-in rule loaded."""
     global _loaded
     if not _loaded:
-        for module in builtin_rule_modules():
-            importlib.import_module(module)
+        package = importlib.import_module("formdb.rules")
+        for info in pkgutil.iter_modules(package.__path__):
+            if not info.name.startswith("_"):
+                importlib.import_module(f"formdb.rules.{info.name}")
         _loaded = True
     return REGISTRY

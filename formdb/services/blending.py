@@ -30,7 +30,7 @@ from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from formdb.errors import InvalidData
-from formdb.rules.facts import is_emulsifier
+from formdb.facts.phases import is_emulsifier
 from formdb.rules.profiles import Profile
 from formdb.schemas.blend import BlendMember, BlendPlan, PairCandidate, PairSearch
 from formdb.schemas.ingredient import IngredientRecord, name_key

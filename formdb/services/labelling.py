@@ -12,7 +12,7 @@ from __future__ import annotations
 from pathlib import Path
 
 from formdb.errors import ConfigError
-from formdb.rules.allergen_table import allergen_table
+from formdb.facts.allergen_table import allergen_table
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.ingredient import name_key
 from formdb.schemas.labels import LabelDeclaration, LabelEntry

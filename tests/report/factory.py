@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from typing import Any
 
-from formdb.rules.facts import compute_facts
+from formdb.facts import compute_facts
 from formdb.schemas.findings import Finding
 from formdb.schemas.formula import FormulaFile, ResolvedFormula, ResolvedLine
 from formdb.schemas.ingredient import IngredientProperties, IngredientRecord

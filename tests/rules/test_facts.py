@@ -10,7 +10,7 @@ import math
 
 import pytest
 
-from formdb.rules.facts import compute_facts
+from formdb.facts import compute_facts
 from formdb.schemas.formula import ResolvedFormula, ResolvedLine
 from formdb.schemas.result import DEFAULT_SURFACE_EXCESS_MG_M2, FactsSettings
 from formdb.science.interface import TYPICAL_SURFACE_EXCESS_MG_M2

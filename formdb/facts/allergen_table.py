@@ -9,7 +9,7 @@ No 1223/2009 Annex III: 0.001 % leave-on, 0.01 % rinse-off).
 
 from __future__ import annotations
 
-from formdb.rules.composition import substances
+from formdb.facts.composition import substances
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import AllergenFacts, AllergenLine, FactsSettings

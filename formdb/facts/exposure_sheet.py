@@ -9,7 +9,7 @@ reviewer can redo it by hand.
 
 from __future__ import annotations
 
-from formdb.rules.composition import substances
+from formdb.facts.composition import substances
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.reference import ExposureRecord, ReferenceData, ToxicologyRecord
 from formdb.schemas.result import ExposureFacts, FactsSettings, MosLine
@@ -31,7 +31,8 @@ def _n(value: float) -> str:
 
 def _e_product(row: ExposureRecord, settings: FactsSettings,
                citation: str) -> tuple[float, str, float | None, list[str], list[str]]:
-    steps, defaults = [], []
+    steps: list[str] = []
+    defaults: list[str] = []
     where = f"{row.product}, retention factor {_n(row.retention_factor)}; {citation}"
     if row.exposure_mg_kg_bw_day is not None:
         value = row.exposure_mg_kg_bw_day

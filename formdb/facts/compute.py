@@ -1,0 +1,77 @@
+"""Work out a formula's facts once: phases, soap formed in place, HLB balance, type, packing.
+
+This is the arithmetic a chemist does by hand before a batch, on 100 g of the formula as written.
+The science (``formdb.science``) does each calculation; the modules of this package decide what
+goes in. The order of the steps is the order of the data gaps and notes in every report.
+"""
+
+from __future__ import annotations
+
+from formdb.facts import droplets, hlb, phase_volume
+from formdb.facts.allergen_table import allergen_table
+from formdb.facts.composition import has_mixtures, substances
+from formdb.facts.emulsion_type import emulsion_type
+from formdb.facts.exposure_sheet import exposure_sheet
+from formdb.facts.phases import is_co_emulsifier_only, line_facts
+from formdb.facts.soap import form_soaps
+from formdb.facts.work import Work
+from formdb.schemas.formula import ResolvedFormula
+from formdb.schemas.reference import ReferenceData
+from formdb.schemas.result import FactsSettings, FormulaFacts, SubstanceFacts
+from formdb.schemas.vocab import EmulsionType
+from formdb.science.packing import CLOSE_PACKING, RANDOM_CLOSE_PACKING
+
+
+def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
+                  settings: FactsSettings | None = None) -> FormulaFacts:
+    """Every hand-worked number of one formula (pure: no database, no rule options)."""
+    settings = settings or FactsSettings()
+    work = Work(remaining={ln.line_no: ln.percent for ln in formula.lines})
+    form_soaps(formula, reference, work)
+    lines = line_facts(formula, work)
+    emulsifiers = hlb.emulsifiers(formula, lines, work)
+    emulsifier_percent = sum(e.percent for e in emulsifiers)
+    by_no = {ln.line_no: ln.ingredient for ln in formula.lines}
+    co_emulsifiers = tuple(lf.inci for lf in lines if is_co_emulsifier_only(by_no[lf.line_no]))
+    blend, blend_covered = hlb.blend(emulsifiers, emulsifier_percent, work)
+
+    kind = emulsion_type(formula, emulsifiers, blend, settings, work)
+    rhlb_ow = hlb.required(formula, lines, EmulsionType.OW, work)
+    rhlb_wo = hlb.required(formula, lines, EmulsionType.WO, work)
+    required = hlb.working_required(kind.working, rhlb_ow, rhlb_wo, work)
+    tol = settings.hlb_tolerance
+    solution = hlb.solve(required, emulsifiers) if required is not None else None
+
+    phases = phase_volume.phase_volumes(lines, kind.working, work)
+    interface = droplets.interface(formula, settings, phases, emulsifier_percent)
+    creaming = droplets.creaming(formula, settings, phases, work)
+
+    return FormulaFacts(
+        settings=settings,
+        percent_total=sum(ln.percent for ln in formula.lines),
+        lines=tuple(lines), emulsifiers=tuple(emulsifiers),
+        emulsifier_percent=emulsifier_percent, co_emulsifiers=co_emulsifiers,
+        soaps=tuple(s.facts for s in work.soaps), blend_hlb=blend,
+        blend_hlb_covered_percent=blend_covered,
+        required_hlb_ow=rhlb_ow, required_hlb_wo=rhlb_wo,
+        working_type=kind.working, working_type_source=kind.source,
+        required_hlb=required,
+        target_low=required - tol if required is not None else None,
+        target_high=required + tol if required is not None else None,
+        blend_solution=solution,
+        water_side_emulsifier_percent=kind.water_side, oil_side_emulsifier_percent=kind.oil_side,
+        type_by_bancroft=kind.by_bancroft, type_by_hlb=kind.by_hlb,
+        predicted_type=kind.predicted, types_disagree=kind.disagree, phases=phases.facts,
+        dispersed_phase=phases.dispersed,
+        dispersed_fraction=phases.fraction, packing_limit=CLOSE_PACKING,
+        random_close_packing=RANDOM_CLOSE_PACKING, interface=interface, creaming=creaming,
+        exposure=exposure_sheet(formula, reference, settings),
+        allergens=allergen_table(formula, reference, settings),
+        substances=tuple(
+            SubstanceFacts(inci=item.record.inci_name, percent=item.percent,
+                           sources=tuple(item.sources))
+            for item in sorted(substances(formula, reference).values(),
+                               key=lambda i: (-i.percent, i.record.inci_name))
+        ) if has_mixtures(formula, reference) else (),
+        gaps=work.data_gaps(),
+        notes=tuple(work.notes))

@@ -1,0 +1,123 @@
+"""The two liquid phases by mass and volume, and the dispersed phase's volume fraction.
+
+A line without a density takes its phase's mean density (noted, and a data gap); water formed by
+neutralisation joins the water phase.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Literal
+
+from formdb.facts.work import Work
+from formdb.schemas.result import LineFacts, PhaseFacts
+from formdb.schemas.vocab import EmulsionType
+from formdb.science.packing import volume_fraction
+
+WATER_DENSITY = 0.99705  # g/mL at 25 degC (CRC Handbook; IAPWS), for water formed by neutralising
+
+
+@dataclass
+class Phase:
+    """One liquid phase: its mass and its parts (mass, density or None, name)."""
+
+    mass: float = 0.0
+    parts: list[tuple[float, float | None, str]] = field(default_factory=list)
+
+    def add(self, mass: float, density: float | None, name: str) -> None:
+        if mass > 0:
+            self.mass += mass
+            self.parts.append((mass, density, name))
+
+    def mean_density(self) -> float | None:
+        known = [(m, d) for m, d, _ in self.parts if d]
+        volume = sum(m / d for m, d in known if d)
+        return sum(m for m, _ in known) / volume if volume > 0 else None
+
+    def filled(self) -> list[tuple[float, float]] | None:
+        """(mass, density) with missing densities at the phase mean; None if nothing known."""
+        if not self.parts:
+            return []
+        mean = self.mean_density()
+        if mean is None:
+            return None
+        return [(m, d if d else mean) for m, d, _ in self.parts]
+
+    def volume(self) -> float | None:
+        filled = self.filled()
+        return None if filled is None else sum(m / d for m, d in filled)
+
+    def missing(self) -> list[str]:
+        return [name for _, d, name in self.parts if not d]
+
+    def main_part(self) -> str | None:
+        return max(self.parts, key=lambda p: p[0])[2] if self.parts else None
+
+
+@dataclass(frozen=True)
+class PhaseVolumes:
+    oil: Phase
+    water: Phase
+    facts: PhaseFacts
+    dispersed: Literal["oil", "water"] | None
+    fraction: float | None  # volume fraction of the dispersed phase
+
+    def dispersed_volume_ml(self) -> float | None:
+        return self.facts.oil_volume_ml if self.dispersed == "oil" else \
+            self.facts.water_volume_ml
+
+
+def _phases(lines: list[LineFacts], work: Work) -> tuple[Phase, Phase, float, list[str]]:
+    oil, water = Phase(), Phase()
+    other, neither = 0.0, []
+    for lf in lines:
+        if lf.phase == "oil":
+            oil.add(lf.remaining_percent, lf.density, lf.inci)
+        elif lf.phase == "water":
+            water.add(lf.remaining_percent, lf.density, lf.inci)
+        elif lf.remaining_percent > 0:
+            other += lf.remaining_percent
+            neither.append(lf.inci)
+    for soap in work.soaps:
+        target = oil if soap.side == "oil" else water if soap.side == "water" else None
+        if target is None:
+            other += soap.facts.soap_percent
+            neither.append(soap.facts.soap)
+        else:
+            target.add(soap.facts.soap_percent, soap.density, soap.facts.soap)
+    water.add(work.water_formed, WATER_DENSITY, "water formed by neutralisation")
+    return oil, water, other, neither
+
+
+def phase_volumes(lines: list[LineFacts], working: EmulsionType | None,
+                  work: Work) -> PhaseVolumes:
+    """Both phases, and (with a working type) which is dispersed and its volume fraction."""
+    oil, water, other, neither = _phases(lines, work)
+    if neither:
+        work.note(f"in neither liquid phase: {', '.join(neither)}")
+    for phase in (oil, water):
+        for name in phase.missing():
+            work.gap("density", name, "dispersed_fraction",
+                     "estimated at its phase's mean density")
+    oil_volume, water_volume = oil.volume(), water.volume()
+
+    dispersed: Literal["oil", "water"] | None = None if working is None else (
+        "oil" if working == EmulsionType.OW else "water")
+    fraction = None
+    if dispersed is not None:
+        disp, cont = (oil, water) if dispersed == "oil" else (water, oil)
+        d_parts, c_parts = disp.filled(), cont.filled()
+        if d_parts is None or c_parts is None:
+            work.note("dispersed_fraction: a phase has no ingredient with a density")
+        elif d_parts or c_parts:
+            fraction = volume_fraction(d_parts, c_parts)
+
+    facts = PhaseFacts(
+        oil_percent=oil.mass, water_percent=water.mass, other_percent=other,
+        oil_volume_ml=oil_volume, water_volume_ml=water_volume,
+        oil_density=oil.mass / oil_volume if oil_volume else None,
+        water_density=water.mass / water_volume if water_volume else None,
+        missing_density=tuple(oil.missing() + water.missing()),
+        estimated_percent=sum(m for p in (oil, water) for m, d, _ in p.parts if not d),
+        neither=tuple(neither))
+    return PhaseVolumes(oil, water, facts, dispersed, fraction)

@@ -1,0 +1,47 @@
+"""Scratch state while one formula's facts are worked out: what is left of each line, the soap
+formed in place, and the data gaps and notes in the order they were found (reports keep it)."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+from formdb.schemas.result import DataGap, SoapFacts
+from formdb.schemas.vocab import IonicCharacter, Solubility
+
+
+@dataclass
+class SoapMember:
+    """Soap formed in the batch with what the phase and emulsifier sums need."""
+
+    facts: SoapFacts
+    solubility: Solubility | None
+    ionic_character: IonicCharacter | None
+    side: str | None
+    density: float | None
+
+
+@dataclass
+class Work:
+    """Scratch state while the facts are being worked out."""
+
+    remaining: dict[int, float]
+    soaps: list[SoapMember] = field(default_factory=list)
+    water_formed: float = 0.0
+    gaps: dict[tuple[str, str], tuple[list[str], str]] = field(default_factory=dict)
+    notes: list[str] = field(default_factory=list)
+
+    def gap(self, prop: str, ingredient: str, blocks: str, detail: str = "") -> None:
+        names, old = self.gaps.setdefault((prop, blocks), ([], detail))
+        if ingredient not in names:
+            names.append(ingredient)
+        if detail and not old:
+            self.gaps[(prop, blocks)] = (names, detail)
+
+    def note(self, text: str) -> None:
+        if text not in self.notes:
+            self.notes.append(text)
+
+    def data_gaps(self) -> tuple[DataGap, ...]:
+        return tuple(DataGap(property=prop, ingredients=tuple(names), blocks=blocks,
+                             detail=detail)
+                     for (prop, blocks), (names, detail) in self.gaps.items())
