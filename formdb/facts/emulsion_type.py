@@ -1,5 +1,6 @@
-"""The emulsion type: Bancroft's rule on the emulsifier sides beside the blend HLB's class, and
-the working type the rest of the facts use (the intended type, else the prediction)."""
+"""The emulsion type: Bancroft's rule on the emulsifier sides beside the blend HLB's class
+(``science.emulsion_type.predict_type``), and the working type the rest of the facts use (the
+intended type, else the prediction)."""
 
 from __future__ import annotations
 
@@ -10,8 +11,7 @@ from formdb.facts.work import Work
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.result import EmulsifierFacts, FactsSettings
 from formdb.schemas.vocab import EmulsionType
-from formdb.science.emulsion_type import bancroft_type
-from formdb.science.hlb import hlb_class
+from formdb.science.emulsion_type import predict_type
 
 
 @dataclass(frozen=True)
@@ -30,18 +30,15 @@ def emulsion_type(formula: ResolvedFormula, emulsifiers: list[EmulsifierFacts],
                   blend: float | None, settings: FactsSettings, work: Work) -> TypeFacts:
     water_side = sum(e.percent for e in emulsifiers if e.side == "water")
     oil_side = sum(e.percent for e in emulsifiers if e.side == "oil")
-    by_bancroft = (bancroft_type(water_side, oil_side, margin=settings.bancroft_margin)
-                   if water_side + oil_side > 0 else None)
-    by_hlb = (hlb_class(blend, wo_max=settings.hlb_wo_max, ow_min=settings.hlb_ow_min)
-              if blend is not None else None)
-    predicted = by_bancroft or by_hlb
-    disagree = by_bancroft is not None and by_hlb is not None and by_bancroft != by_hlb
-    if emulsifiers and water_side + oil_side > 0 and by_bancroft is None:
+    prediction = predict_type(water_side, oil_side, blend, margin=settings.bancroft_margin,
+                              wo_max=settings.hlb_wo_max, ow_min=settings.hlb_ow_min)
+    predicted = prediction.predicted
+    if emulsifiers and water_side + oil_side > 0 and prediction.bancroft is None:
         work.note("Bancroft's rule predicts no type: the emulsifier system is split about "
                   "evenly between water- and oil-soluble members")
     intended = formula.formula.intended_type
     working = intended or predicted
     source: Literal["intended", "predicted"] | None = (
         "intended" if intended else ("predicted" if predicted else None))
-    return TypeFacts(water_side, oil_side, by_bancroft, by_hlb, predicted, disagree, working,
-                     source)
+    return TypeFacts(water_side, oil_side, prediction.bancroft, prediction.by_hlb, predicted,
+                     prediction.disagree, working, source)

@@ -65,6 +65,12 @@ class TypePrediction:
         """The type when both predict the same one, else None."""
         return self.bancroft if self.bancroft == self.by_hlb else None
 
+    @property
+    def predicted(self) -> EmulsionType | None:
+        """Bancroft's type when it gives one, else the HLB class (the solubility of the
+        emulsifier system is the more direct evidence; the HLB class stands in for it)."""
+        return self.bancroft if self.bancroft is not None else self.by_hlb
+
 
 def predict_type(
     water_soluble_mass: float,
@@ -75,7 +81,13 @@ def predict_type(
     wo_max: float = 7.0,
     ow_min: float = 8.0,
 ) -> TypePrediction:
-    """Bancroft's prediction beside the HLB class of the blend (None when the HLB is unknown)."""
+    """Bancroft's prediction beside the HLB class of the blend (None when the HLB is unknown).
+
+    With no emulsifier mass on either side (none placed, or no emulsifier at all) Bancroft's
+    rule has nothing to judge and its prediction is None; the HLB class still stands.
+    """
     by_hlb = None if blend_hlb is None else hlb_class(blend_hlb, wo_max=wo_max, ow_min=ow_min)
-    return TypePrediction(bancroft_type(water_soluble_mass, oil_soluble_mass, margin=margin),
-                          by_hlb)
+    placed = water_soluble_mass + oil_soluble_mass > 0
+    bancroft = (bancroft_type(water_soluble_mass, oil_soluble_mass, margin=margin)
+                if placed else None)
+    return TypePrediction(bancroft, by_hlb)

@@ -49,3 +49,14 @@ def test_disagreement_is_flagged() -> None:
     assert prediction.agreed is None
     assert not predict_type(1.0, 1.0, 4.7).disagree  # no Bancroft prediction: no disagreement
     assert predict_type(1.0, 0.0, None).by_hlb is None
+
+
+def test_the_prediction_prefers_bancroft_and_needs_no_emulsifier_mass() -> None:
+    # Bancroft first, the HLB class when Bancroft says nothing (how formdb's facts choose; a
+    # design choice, not a published rule). Sorbitan stearate 4.7: W/O class (Griffin 1949).
+    assert predict_type(9.0, 1.0, 4.7).predicted is EmulsionType.OW
+    assert predict_type(1.0, 1.0, 4.7).predicted is EmulsionType.WO
+    nothing_placed = predict_type(0.0, 0.0, 4.7)
+    assert nothing_placed.bancroft is None and not nothing_placed.disagree
+    assert nothing_placed.predicted is EmulsionType.WO
+    assert predict_type(0.0, 0.0, None).predicted is None
