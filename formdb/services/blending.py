@@ -30,13 +30,14 @@ from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from formdb.errors import InvalidData
+from formdb.facts.incompatibility import first_incompatibility
 from formdb.facts.phases import is_emulsifier
 from formdb.rules.profiles import Profile
 from formdb.schemas.blend import BlendMember, BlendPlan, PairCandidate, PairSearch
 from formdb.schemas.ingredient import IngredientRecord, name_key
 from formdb.schemas.reference import Incompatibility
 from formdb.schemas.result import CheckResult, EmulsifierFacts, FormulaFacts
-from formdb.schemas.vocab import EmulsionType, Evidence, Role, Solubility, norm_token
+from formdb.schemas.vocab import EmulsionType, Evidence, Role, Solubility
 from formdb.science.hlb import UnreachableHlb, blend_fractions, blend_hlb
 from formdb.services.checking import check_files
 from formdb.store import queries
@@ -260,22 +261,6 @@ def library_emulsifiers(session: Session) -> list[IngredientRecord]:
                   key=lambda r: (r.p.hlb or 0.0, r.inci_name))
 
 
-def _tokens(record: IngredientRecord) -> set[str]:
-    names = {name_key(record.inci_name)} | {name_key(s) for s in record.synonyms}
-    return names | {norm_token(c) for c in record.classes}
-
-
-def incompatible(a: IngredientRecord, b: IngredientRecord,
-                 rows: Sequence[Incompatibility]) -> Incompatibility | None:
-    """The first incompatibility row that pairs a class (or name) of ``a`` with one of ``b``."""
-    ta, tb = _tokens(a), _tokens(b)
-    for row in rows:
-        ca, cb = norm_token(row.class_a), norm_token(row.class_b)
-        if (ca in ta and cb in tb) or (ca in tb and cb in ta):
-            return row
-    return None
-
-
 def lipophilic(record: IngredientRecord) -> bool:
     sol = record.p.solubility
     if sol is not None:
@@ -321,7 +306,7 @@ def _candidate(a: IngredientRecord, b: IngredientRecord, target: float, total: f
     if not ha < target < hb:
         return None  # a pair must straddle the target; at an end it is one emulsifier
     tally.considered += 1
-    if incompatible(a, b, rows) is not None:
+    if first_incompatibility(a, b, rows) is not None:
         tally.incompatible += 1
         return None
     xa, xb = blend_fractions(target, (ha, hb))
