@@ -17,27 +17,11 @@ from formdb.schemas.findings import Finding
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import FormulaFacts
+from formdb.schemas.suggest import did_you_mean
 from formdb.schemas.vocab import Severity
 
 DOC_SECTIONS: tuple[str, ...] = ("Flags", "Why", "Fails", "Passes", "Options")
 _SECTION_RE = re.compile(rf"^({'|'.join(DOC_SECTIONS)}):\s*", re.MULTILINE)
-
-
-def did_you_mean(word: str, choices: Iterable[str]) -> str:
-    """' (did you mean X?)' for the closest choice, or '' when nothing is close.
-
-    Closeness is rapidfuzz's optimal-string-alignment similarity, so a swapped pair of letters
-    (HBL01 for HLB01) counts as one slip.
-    """
-    from rapidfuzz import process  # only when a word is not found: not at start-up
-    from rapidfuzz.distance import OSA
-
-    options = list(choices)
-    if not options:
-        return ""
-    best = process.extractOne(word, options, scorer=OSA.normalized_similarity,
-                              processor=str.casefold, score_cutoff=0.5)
-    return f" (did you mean {best[0]!r}?)" if best else ""
 
 
 @dataclass(frozen=True)

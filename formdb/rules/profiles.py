@@ -28,9 +28,10 @@ from pydantic import BaseModel, ConfigDict, ValidationError, model_validator
 
 from formdb.errors import ConfigError
 from formdb.resources import seed_data_dir
-from formdb.rules.base import Rule, did_you_mean
+from formdb.rules.base import Rule
 from formdb.rules.registry import RuleRegistry, default_registry
 from formdb.schemas.result import FactsSettings
+from formdb.schemas.suggest import did_you_mean
 from formdb.schemas.vocab import Severity
 
 PROFILE_KEYS = ("name", "version", "description", "extends", "select", "exclude", "facts",

@@ -13,7 +13,8 @@ import importlib
 import pkgutil
 
 from formdb.errors import ConfigError
-from formdb.rules.base import Rule, did_you_mean
+from formdb.rules.base import Rule
+from formdb.schemas.suggest import did_you_mean
 
 
 class RuleRegistry:

@@ -18,6 +18,7 @@ import annotated_types as at
 
 from formdb.schemas.cells import format_number
 from formdb.schemas.ingredient import PROPERTY_NAMES, IngredientProperties, cas_is_valid
+from formdb.schemas.suggest import closest
 from formdb.schemas.vocab import COMPAT_CLASSES, Role, norm_token
 
 if TYPE_CHECKING:  # pint (and rapidfuzz) load only when a unit or a suggestion is needed
@@ -63,12 +64,8 @@ def normalise_column(header: str) -> str:
 
 def did_you_mean(word: str, choices: Iterable[str]) -> str:
     """'; did you mean X?' for the closest choice, or '' when nothing is close."""
-    from rapidfuzz import fuzz, process, utils
-
-    cutoff = 66 if len(word) <= 4 else 75  # 'hbl' finds 'hlb'; 'zwitterionic' no 'cationic'
-    best = process.extractOne(word, list(choices), scorer=fuzz.ratio,
-                              processor=utils.default_process, score_cutoff=cutoff)
-    return f"; did you mean {best[0]!r}?" if best else ""
+    best = closest(word, choices)
+    return f"; did you mean {best!r}?" if best is not None else ""
 
 
 @lru_cache(maxsize=1 << 12)  # vocabulary words, asked for every cell of an import

@@ -30,6 +30,7 @@ from formdb.schemas.ingredient import IngredientRecord, name_key
 from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import CheckResult
 from formdb.schemas.review import FiledRun, RunState, RunSummary, SignatureInfo
+from formdb.schemas.suggest import close_matches
 from formdb.services.access import require
 from formdb.services.audit import append_sealed
 from formdb.services.checking import FormulaInput, input_from_text, read_inputs, resolve_all
@@ -287,9 +288,7 @@ def _find_run(session: Session, key: str) -> ReviewRun:
     starts = [k for k in keys if key and k.startswith(key)]
     if len(starts) == 1:
         return session.scalars(select(ReviewRun).where(ReviewRun.run_key == starts[0])).one()
-    from rapidfuzz import process  # only for a run key that is not found
-
-    close = starts or [m for m, _s, _i in process.extract(key, keys, limit=3, score_cutoff=60)]
+    close = starts or close_matches(key, keys, limit=3)
     hint = (f"did you mean {', '.join(close)}?" if close
             else "`formdb review status` lists the runs")
     raise NotFound(f"no review run {key!r}.", hint=hint)

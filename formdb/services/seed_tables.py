@@ -19,6 +19,7 @@ from sqlalchemy.orm import Session
 
 from formdb.errors import InvalidData
 from formdb.schemas.ingredient import name_key, normalise_inci
+from formdb.schemas.suggest import did_you_mean
 from formdb.schemas.vocab import COMPAT_CLASSES, Evidence, Severity, norm_token, parse_choice
 from formdb.store.queries import find_ingredients
 
@@ -44,14 +45,6 @@ def _where(label: str, row: int | None, column: str | None) -> str:
     return label + (f", row {row}" if row else "") + (f", column {column}" if column else "")
 
 
-def _close_to(word: str, choices: Iterable[str]) -> str:
-    from rapidfuzz import fuzz, process, utils
-
-    best = process.extractOne(word, list(choices), scorer=fuzz.WRatio,
-                              processor=utils.default_process, score_cutoff=75)
-    return f" (did you mean {best[0]!r}?)" if best else ""
-
-
 def read_rows(file: Path, label: str, columns: Sequence[str],
               required: Sequence[str]) -> list[tuple[int, dict[str, str]]]:
     """(row number, {column: stripped text}) for every non-blank data row of a CSV file."""
@@ -67,7 +60,7 @@ def read_rows(file: Path, label: str, columns: Sequence[str],
     (header_row, header), *data = records
     header = [h.casefold() for h in header]
     problems = [f"{_where(label, header_row, h or '(blank)')}: unknown column"
-                f"{_close_to(h, columns)}; the columns are {', '.join(columns)}"
+                f"{did_you_mean(h, columns)}; the columns are {', '.join(columns)}"
                 for h in header if h not in columns]
     problems += [f"{_where(label, header_row, h)}: the column appears twice"
                  for i, h in enumerate(header) if h in header[:i]]
@@ -137,7 +130,7 @@ def _source_check(known: set[str]) -> Callable[[str], list[tuple[str, str]]]:
     def check(source: str) -> list[tuple[str, str]]:
         if source in known:
             return []
-        return [("source", f"unknown source {source!r}{_close_to(source, known)}; add it to "
+        return [("source", f"unknown source {source!r}{did_you_mean(source, known)}; add it to "
                            "sources.csv first")]
     return check
 
@@ -294,7 +287,7 @@ def read_incompatibilities(file: Path, label: str, known_sources: set[str],
             text = getattr(row, column)
             if meaning.get(text) is None:
                 problems.append((column, f"{text!r} is neither a compatibility class"
-                                 f"{_close_to(text, COMPAT_CLASSES)} nor an ingredient in the "
+                                 f"{did_you_mean(text, COMPAT_CLASSES)} nor an ingredient in the "
                                  "library"))
         return problems
 

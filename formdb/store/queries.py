@@ -32,6 +32,7 @@ from formdb.schemas.reference import (
     SoapPair,
     ToxicologyRecord,
 )
+from formdb.schemas.suggest import close_matches
 from formdb.schemas.vocab import Evidence, Role
 from formdb.store.models import (
     ExposureEntry,
@@ -169,15 +170,11 @@ def find_ingredient(session: Session, name: str) -> IngredientRecord | None:
 
 def suggest_names(session: Session, name: str, limit: int = 3) -> list[str]:
     """The library names (INCI names or synonyms of current ingredients) closest to ``name``."""
-    from rapidfuzz import fuzz, process, utils  # only for a name that is not found
-
     choices = list(session.scalars(
         select(IngredientName.name).join(Ingredient)
         .where(Ingredient.retired.is_(False)).order_by(IngredientName.name_key)))
-    matches = process.extract(name, choices, scorer=fuzz.WRatio, processor=utils.default_process,
-                              limit=limit * 3, score_cutoff=70)
     seen: list[str] = []
-    for match, _score, _index in matches:
+    for match in close_matches(name, choices, limit=limit * 3):
         if match not in seen and name_key(match) != name_key(name):
             seen.append(match)
     return seen[:limit]
