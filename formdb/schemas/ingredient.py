@@ -7,13 +7,13 @@ property as a row of ``property_values``, so no migration is needed for a new on
 
 from __future__ import annotations
 
-import re
 from collections.abc import Mapping
 from functools import lru_cache
 from typing import Any
 
 from pydantic import BaseModel, ConfigDict, Field, field_validator, model_validator
 
+from formdb.schemas.cas import cas_is_valid
 from formdb.schemas.vocab import (
     Evidence,
     IonicCharacter,
@@ -22,23 +22,6 @@ from formdb.schemas.vocab import (
     parse_choice,
     parse_class,
 )
-
-_CAS_RE = re.compile(r"^(\d{2,7})-(\d{2})-(\d)$")
-
-
-def cas_is_valid(cas: str) -> bool:
-    """True when ``cas`` has the CAS Registry shape and its check digit is right.
-
-    The check digit is the sum of the other digits, each weighted by its position counted from the
-    right (1, 2, 3, ...), modulo 10 (CAS Registry, "Check digit verification of CAS Registry
-    Numbers"). Example: water 7732-18-5: 8*1+1*2+2*3+3*4+7*5+7*6 = 105, 105 mod 10 = 5.
-    """
-    match = _CAS_RE.match(cas.strip())
-    if not match:
-        return False
-    digits = (match.group(1) + match.group(2))[::-1]
-    total = sum((i + 1) * int(d) for i, d in enumerate(digits))
-    return total % 10 == int(match.group(3))
 
 
 def normalise_inci(name: str) -> str:

@@ -16,8 +16,9 @@ from typing import TYPE_CHECKING, Any, get_args
 
 import annotated_types as at
 
+from formdb.schemas.cas import cas_check_digit, cas_is_valid
 from formdb.schemas.cells import format_number
-from formdb.schemas.ingredient import PROPERTY_NAMES, IngredientProperties, cas_is_valid
+from formdb.schemas.ingredient import PROPERTY_NAMES, IngredientProperties
 from formdb.schemas.suggest import closest
 from formdb.schemas.vocab import COMPAT_CLASSES, Role, norm_token
 
@@ -216,15 +217,6 @@ def split_list(text: str) -> list[str]:
 
 def join_list(items: Sequence[str]) -> str:
     return f"{LIST_SEPARATOR} ".join(items)
-
-
-def cas_check_digit(cas: str) -> int | None:
-    """The check digit a CAS number of the right shape should end with (see cas_is_valid)."""
-    match = re.fullmatch(r"(\d{2,7})-(\d{2})-(\d)", cas)
-    if not match:
-        return None
-    digits = (match.group(1) + match.group(2))[::-1]
-    return sum((i + 1) * int(d) for i, d in enumerate(digits)) % 10
 
 
 def parse_list_item(column: str, item: str) -> str:
