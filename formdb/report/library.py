@@ -7,8 +7,10 @@ import csv
 import io
 import json
 from collections.abc import Sequence
-from datetime import UTC, datetime
+from datetime import datetime
 from typing import TYPE_CHECKING, Any
+
+from formdb.schemas.times import utc
 
 if TYPE_CHECKING:
     from formdb.schemas.ingredient import IngredientRecord
@@ -32,9 +34,7 @@ def _tables(render: Any, width: int | None) -> str:
 
 def when(at: datetime) -> str:
     """A stored timestamp as UTC text (SQLite hands back naive UTC values)."""
-    if at.tzinfo is None:
-        at = at.replace(tzinfo=UTC)
-    return at.astimezone(UTC).strftime("%Y-%m-%d %H:%M:%S")
+    return utc(at).strftime("%Y-%m-%d %H:%M:%S")
 
 
 def _value(value: Any) -> str:

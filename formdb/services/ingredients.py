@@ -27,6 +27,7 @@ from formdb.schemas.ingredient import (
     name_key,
     normalise_inci,
 )
+from formdb.schemas.times import utc
 from formdb.schemas.vocab import Evidence, Role
 from formdb.services.access import require
 from formdb.services.ingredient_fields import (
@@ -327,9 +328,7 @@ def _flush(session: Session, names: Sequence[str]) -> None:
 
 
 def _when(at: datetime) -> str:
-    if at.tzinfo is None:  # SQLite hands back naive datetimes; they were written as UTC
-        at = at.replace(tzinfo=UTC)
-    return at.astimezone(UTC).strftime("%Y-%m-%d %H:%M:%S UTC")
+    return utc(at).strftime("%Y-%m-%d %H:%M:%S UTC")
 
 
 def _write(session: Session, ing: Ingredient | None, item: IngredientIn,

@@ -31,6 +31,7 @@ from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import CheckResult
 from formdb.schemas.review import FiledRun, RunState, RunSummary, SignatureInfo
 from formdb.schemas.suggest import close_matches
+from formdb.schemas.times import utc
 from formdb.services.access import require
 from formdb.services.audit import append_sealed
 from formdb.services.checking import FormulaInput, input_from_text, read_inputs, resolve_all
@@ -188,12 +189,8 @@ def run_review(library: Library, source: str, profile: Profile | str | None = No
 # ----- state --------------------------------------------------------------------------------
 
 
-def _utc(at: datetime) -> datetime:
-    return at if at.tzinfo else at.replace(tzinfo=UTC)
-
-
 def _stamp(at: datetime) -> str:
-    return _utc(at).strftime("%Y-%m-%d %H:%M:%S UTC")
+    return utc(at).strftime("%Y-%m-%d %H:%M:%S UTC")
 
 
 def _formula_changes(session: Session, run: ReviewRun) -> list[str]:
