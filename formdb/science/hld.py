@@ -12,6 +12,9 @@ number (n-alkanes: their carbon number, by definition), f(A)/phi(A) the alcohol 
 
 Every default constant below is FROM MEMORY (K 0.17, a_T 0.01 /K, c_T 0.06 /K, b 0.13 per
 g/100 mL) and so are the Cc values; verify them before relying on a result.
+
+Kept for the lab-workflow issue (issue 16, with the process temperature); not yet wired into the
+facts or any command, only its tests call it.
 """
 
 from __future__ import annotations

@@ -8,6 +8,10 @@ surface excess in mg/m^2 (the unit tables use), emulsifier masses in g.
 Typical saturation surface excess (from memory, order of magnitude only): about 1-4 mg/m^2 for
 small-molecule surfactants and proteins (e.g. sodium dodecyl sulfate about 3e-6 mol/m^2, i.e.
 about 1 mg/m^2). Use a measured value for the ingredient when there is one.
+
+The facts use specific_area, interfacial_area_m2 and emulsifier_needed_g; area_ratio,
+droplets_from_split and coverable_diameter_m are kept for the lab-workflow issue (issue 16) and
+not yet wired in.
 """
 
 from __future__ import annotations
@@ -37,7 +41,10 @@ def specific_area(volume_fraction: float, diameter_m: float) -> float:
 
 
 def area_ratio(n_droplets: float) -> float:
-    """Area of N equal drops over the area of the one drop of the same volume: N^(1/3)."""
+    """Area of N equal drops over the area of the one drop of the same volume: N^(1/3).
+
+    Kept for the lab-workflow issue (issue 16); not yet wired into the facts.
+    """
     n = _positive("n_droplets", n_droplets)
     if n < 1:
         raise ValueError(f"n_droplets must be >= 1, got {n}")
@@ -51,7 +58,10 @@ def interfacial_area_m2(dispersed_volume_m3: float, diameter_m: float) -> float:
 
 
 def droplets_from_split(dispersed_volume_m3: float, diameter_m: float) -> float:
-    """Number of equal drops of diameter d (m) that a volume V (m^3) makes: V / (pi d^3 / 6)."""
+    """Number of equal drops of diameter d (m) that a volume V (m^3) makes: V / (pi d^3 / 6).
+
+    Kept for the lab-workflow issue (issue 16); not yet wired into the facts.
+    """
     volume = _positive("dispersed_volume_m3", dispersed_volume_m3, allow_zero=True)
     d = _positive("diameter_m", diameter_m)
     return volume / (math.pi * d**3 / 6.0)
@@ -71,7 +81,8 @@ def coverable_diameter_m(
 ) -> float:
     """Smallest drop diameter (m) the emulsifier present can fully cover: 6 V Gamma / m.
 
-    Infinite when there is no emulsifier (not even the largest drop is covered).
+    Infinite when there is no emulsifier (not even the largest drop is covered). Kept for the
+    lab-workflow issue (issue 16); not yet wired into the facts.
     """
     volume = _positive("dispersed_volume_m3", dispersed_volume_m3, allow_zero=True)
     mass = _positive("emulsifier_g", emulsifier_g, allow_zero=True)
