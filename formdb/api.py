@@ -53,7 +53,7 @@ def create_library(url: str = "formdb.sqlite", *, seed: bool = False,
                    user: str | None = None) -> Library:
     """Create (or upgrade) the library at ``url`` and open it; ``seed`` loads the bundled
     ingredient library, limit lists and profiles (what ``formdb init --seed`` does)."""
-    from formdb.services.setup import init_library
+    from formdb.services.seed.setup import init_library
 
     init_library(url, seed=seed, user=user or _os_user())
     return Library.open(url)
@@ -62,7 +62,7 @@ def create_library(url: str = "formdb.sqlite", *, seed: bool = False,
 # ----- checking ---------------------------------------------------------------------------------
 
 def _as_input(formula: FormulaGiven, label: str | None) -> Any:
-    from formdb.services.checking import input_from_text, read_inputs
+    from formdb.services.checking.flow import input_from_text, read_inputs
 
     if isinstance(formula, Path):
         return read_inputs([formula])[0]
@@ -91,7 +91,7 @@ def check_many(library: Library, formulas: Iterable[FormulaGiven], *,
                profile: ProfileGiven = "default",
                labels: Iterable[str | None] | None = None) -> list[CheckResult]:
     """Check several formulas in one snapshot; the problems of every input are raised at once."""
-    from formdb.services.checking import check_inputs
+    from formdb.services.checking.flow import check_inputs
 
     given = list(formulas)
     names = list(labels) if labels is not None else [None] * len(given)
@@ -101,7 +101,7 @@ def check_many(library: Library, formulas: Iterable[FormulaGiven], *,
 
 def check_stored(library: Library, *, profile: ProfileGiven = "default") -> Iterator[CheckResult]:
     """Check every formula stored in the library, one result at a time (``check --all``)."""
-    from formdb.services.checking import iter_check_stored
+    from formdb.services.checking.flow import iter_check_stored
 
     return iter_check_stored(library, _profile(profile))
 
@@ -115,7 +115,7 @@ def _profile(profile: ProfileGiven) -> Profile:
 def list_ingredients(library: Library, *, role: str | None = None,
                      include_retired: bool = False) -> list[IngredientRecord]:
     """The library's ingredients (``formdb ingredient list --format json``)."""
-    from formdb.services.ingredients import list_ingredients as listed
+    from formdb.services.library.ingredients import list_ingredients as listed
 
     with library.read() as session:
         return listed(session, role=role, include_retired=include_retired)
@@ -123,7 +123,7 @@ def list_ingredients(library: Library, *, role: str | None = None,
 
 def show_ingredient(library: Library, name: str) -> IngredientRecord:
     """One ingredient by INCI name or synonym, every value with its provenance."""
-    from formdb.services.ingredients import show_ingredient as shown
+    from formdb.services.library.ingredients import show_ingredient as shown
 
     with library.read() as session:
         return shown(session, name).record
@@ -133,7 +133,7 @@ def import_ingredients(library: Library, path: Path, *, user: str | None = None,
                        reason: str | None = None, dry_run: bool = False) -> Any:
     """Import a CSV or XLSX ingredient table, all rows or none (``formdb ingredient import``);
     returns the report of what was (or would be) added and changed."""
-    from formdb.services.ingredients import import_table
+    from formdb.services.library.ingredients import import_table
 
     with library.write() as session:
         return import_table(session, path, user=user or _os_user(), reason=reason,
@@ -145,7 +145,7 @@ def import_ingredients(library: Library, path: Path, *, user: str | None = None,
 def run_review(library: Library, source: Path | str, *, profile: ProfileGiven = None,
                user: str | None = None) -> Any:
     """Check a formula file (or ``stored:NAME``) and store an immutable review run."""
-    from formdb.services.review import run_review as run
+    from formdb.services.review.runs import run_review as run
 
     return run(library, str(source), profile, user=user or _os_user())
 
@@ -153,21 +153,21 @@ def run_review(library: Library, source: Path | str, *, profile: ProfileGiven = 
 def sign_review(library: Library, run_key: str, meaning: str, signer: str, *,
                 user: str | None = None, comment: str | None = None) -> Any:
     """Sign a current review run (``formdb review sign``)."""
-    from formdb.services.review import sign_run
+    from formdb.services.review.runs import sign_run
 
     return sign_run(library, run_key, meaning, signer, user=user or _os_user(), comment=comment)
 
 
 def review_status(library: Library) -> list[Any]:
     """Every review run with its state (current, stale, superseded) and signatures."""
-    from formdb.services.review import review_status as status
+    from formdb.services.review.runs import review_status as status
 
     return status(library)
 
 
 def filed_review(library: Library, run_key: str) -> Any:
     """A stored run as filed: its result, records and signatures (``formdb review report``)."""
-    from formdb.services.review import filed_run
+    from formdb.services.review.runs import filed_run
 
     return filed_run(library, run_key)
 

@@ -37,9 +37,9 @@ def _client(url: str, seconds: float, seed: int, start_at: float) -> list[tuple[
     from formdb.errors import Conflict, FormdbError
     from formdb.rules.engine import check_resolved
     from formdb.rules.profiles import load_profile
-    from formdb.services.checking import read_inputs, resolve_all
-    from formdb.services.demo import demo_formula_paths
-    from formdb.services.ingredients import edit_ingredient, list_ingredients, show_ingredient
+    from formdb.services.checking.flow import read_inputs, resolve_all
+    from formdb.services.checking.demo import demo_formula_paths
+    from formdb.services.library.ingredients import edit_ingredient, list_ingredients, show_ingredient
     from formdb.store import queries
     from formdb.store.db import make_engine, unit_of_work
 
@@ -104,7 +104,7 @@ def main(argv: list[str] | None = None) -> int:
     from sqlalchemy import create_engine, text
     from sqlalchemy.engine import make_url
 
-    from formdb.services.setup import init_library
+    from formdb.services.seed.setup import init_library
 
     base = make_url(args.pg.replace("postgresql://", "postgresql+psycopg://", 1))
     name = f"formdb_load_{uuid4().hex[:10]}"

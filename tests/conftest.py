@@ -29,7 +29,7 @@ TEST_USER = "larkspur-test"
 
 def _migrate(url: str) -> str:
     """What `formdb init` makes: the schema at head and the built-in sources."""
-    from formdb.services.setup import init_library
+    from formdb.services.seed.setup import init_library
 
     init_library(url, seed=False, user=TEST_USER)
     return url
@@ -91,7 +91,7 @@ def empty_library_url(request: pytest.FixtureRequest) -> str:
 # --- seeded libraries ----------------------------------------------------------------------
 
 def _seed(url: str) -> None:
-    from formdb.services.setup import init_library
+    from formdb.services.seed.setup import init_library
 
     init_library(url, seed=True, user=TEST_USER)
 

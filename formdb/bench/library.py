@@ -24,8 +24,8 @@ from sqlalchemy.orm import Session
 from formdb.bench import synthetic
 from formdb.errors import ConfigError
 from formdb.schemas.ingredient import name_key
-from formdb.services.formula_files import content_hash, parse_formula_text
-from formdb.services.setup import init_library
+from formdb.services.library.formula_files import content_hash, parse_formula_text
+from formdb.services.seed.setup import init_library
 from formdb.store.db import open_library, sqlite_path, unit_of_work
 from formdb.store.models import ChangeLogEntry, Source, StoredFormula
 from formdb.store.sealing import append_rows
@@ -65,7 +65,7 @@ def add_source(session: Session, user: str) -> None:
 
 def add_ingredients(url: str, plan: LibraryPlan, user: str = BENCH_USER) -> int:
     """Import the plan's synthetic ingredients through ``import_table``; returns how many."""
-    from formdb.services.ingredients import import_table
+    from formdb.services.library.ingredients import import_table
 
     seed_count = len(synthetic.seed_rows())
     extra = max(0, plan.ingredients - seed_count)

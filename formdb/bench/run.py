@@ -31,7 +31,7 @@ import click
 
 from formdb.bench import floors, library, startup, synthetic
 from formdb.resources import seed_data_dir
-from formdb.services.setup import init_library
+from formdb.services.seed.setup import init_library
 from formdb.store.db import open_library, unit_of_work
 
 CHECK_TARGET = 5.0
@@ -180,7 +180,7 @@ def _startup_command(url: str, formula: Path) -> tuple[list[str], str]:
     if done.returncode in (0, 1):
         return argv, "python -m formdb check FILE"
     script = ("import sys; from pathlib import Path; "
-              "from formdb.services.checking import check_files; "
+              "from formdb.services.checking.flow import check_files; "
               "from formdb.report import render; from formdb.store.library import Library; "
               "print(render(check_files(Library.open(sys.argv[1]), [Path(sys.argv[2])]), "
               "'text'))")

@@ -30,7 +30,7 @@ def peak_mb() -> float:
 
 def check_all(url: str) -> dict[str, Any]:
     from formdb.schemas.vocab import Severity
-    from formdb.services.checking import iter_check_stored
+    from formdb.services.checking.flow import iter_check_stored
     from formdb.store.library import Library
 
     count = errors = findings = 0
@@ -43,7 +43,7 @@ def check_all(url: str) -> dict[str, Any]:
 
 
 def import_csv(url: str, csv_path: str) -> dict[str, Any]:
-    from formdb.services.ingredients import import_table
+    from formdb.services.library.ingredients import import_table
     from formdb.store.db import open_library, unit_of_work
 
     engine = open_library(url)
@@ -73,9 +73,9 @@ def main(argv: list[str] | None = None) -> None:
     parser.add_argument("--profile", type=int, default=0)
     args = parser.parse_args(argv)
     # the libraries a task needs are imported before the clock starts
-    import formdb.services.checking
+    import formdb.services.checking.flow
     if args.task == "import":
-        import formdb.services.ingredients  # noqa: F401
+        import formdb.services.library.ingredients  # noqa: F401
 
     def work() -> dict[str, Any]:
         if args.task == "check":

@@ -6,7 +6,7 @@ import click
 
 from formdb.cli.main import AppContext
 from formdb.report.admin import render_init
-from formdb.services.setup import init_library
+from formdb.services.seed.setup import init_library
 
 
 @click.command("init")

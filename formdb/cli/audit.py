@@ -25,7 +25,7 @@ def verify_cmd(app: AppContext, library: Library, fmt: str) -> None:
     """Recompute every chain and name the first row that was altered, removed or slipped in.
     Exit 0 when every chain is intact, 1 when one is broken, 2 when the library cannot be read."""
     from formdb.report.audit import audit_verify, first_break
-    from formdb.services.audit import verify_chains
+    from formdb.services.review.audit import verify_chains
 
     report = verify_chains(library)
     click.echo(audit_verify(report, fmt), nl=False)

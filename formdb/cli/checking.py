@@ -49,8 +49,8 @@ def check_cmd(app: AppContext, library: Library, files: tuple[Path, ...], all_st
     from formdb.report import ListSnapshot, render
     from formdb.report.files import summary_line, write_report
     from formdb.rules.profiles import load_profile
-    from formdb.services.checking import check_inputs, iter_check_stored, read_inputs
-    from formdb.services.report_context import limit_snapshots
+    from formdb.services.checking.flow import check_inputs, iter_check_stored, read_inputs
+    from formdb.services.checking.report_context import limit_snapshots
 
     ctx = click.get_current_context()
     if not files and not all_stored:
@@ -84,7 +84,7 @@ def _stream(library: Library, items: list[Any], profile: Any, all_stored: bool, 
     import itertools
 
     from formdb.report.stream import StreamReport
-    from formdb.services.checking import check_inputs, count_stored, iter_check_stored
+    from formdb.services.checking.flow import check_inputs, count_stored, iter_check_stored
 
     results = itertools.chain(check_inputs(library, items, profile) if items else [],
                               iter_check_stored(library, profile) if all_stored else [])
@@ -169,7 +169,7 @@ def blend_cmd(app: AppContext, library: Library, file: Path | None, target: floa
     """Emulsifier proportions for a target HLB: named emulsifiers, a formula FILE's own, or a
     --search of the library for compatible pairs."""
     from formdb.report.blend import render_plan, render_search
-    from formdb.services import blending
+    from formdb.services.checking import blending
 
     mode = _blend_mode(file, target, using, search)
     color = _wants_color(None, fmt)

@@ -9,7 +9,7 @@ import click
 from formdb.cli.main import AppContext
 from formdb.errors import FormdbError
 from formdb.report import admin as report
-from formdb.services import database
+from formdb.services.admin import database
 
 
 @click.group("db")
@@ -75,7 +75,7 @@ def restore_cmd(app: AppContext, path: Path) -> None:
 @click.pass_obj
 def grant_setup_cmd(app: AppContext, prefix: str) -> None:
     """On PostgreSQL, create one database role per duty with matching grants; give a person's
-    login a duty with `GRANT PREFIX_editor TO login` (see formdb.services.grants)."""
-    from formdb.services.grants import grant_setup
+    login a duty with `GRANT PREFIX_editor TO login` (see formdb.services.admin.grants)."""
+    from formdb.services.admin.grants import grant_setup
 
     click.echo(report.db_grants(grant_setup(app.db, prefix), prefix), nl=False)

@@ -25,7 +25,7 @@ def demo_cmd(app: AppContext, fmt: str, out: Path | None, keep: Path | None) -> 
     """
     from formdb.report.demo import INTRO, demo_report, demo_report_files, demo_summary
     from formdb.report.files import write_report
-    from formdb.services.demo import run_demo
+    from formdb.services.checking.demo import run_demo
 
     demo = run_demo(keep=keep, user=app.user)
     click.echo(INTRO)

@@ -26,7 +26,7 @@ def formula_group() -> None:
 def import_cmd(app: AppContext, library: Library, files: tuple[Path, ...],
                reason: str | None) -> None:
     """Store formula FILES (all or none); every ingredient must be in the library."""
-    from formdb.services.formulas import import_formulas
+    from formdb.services.library.formulas import import_formulas
 
     report = import_formulas(library, list(files), user=app.user, reason=reason)
     for label, names in (("added", report.added), ("changed", report.changed),
@@ -42,7 +42,7 @@ def import_cmd(app: AppContext, library: Library, files: tuple[Path, ...],
 def list_cmd(app: AppContext, library: Library) -> None:
     """List stored formulas with version, lines and last change."""
     from formdb.report.library import formula_list
-    from formdb.services.formulas import list_formulas
+    from formdb.services.library.formulas import list_formulas
 
     click.echo(formula_list(list_formulas(library)), nl=False)
 
@@ -52,7 +52,7 @@ def list_cmd(app: AppContext, library: Library) -> None:
 @with_library
 def show_cmd(app: AppContext, library: Library, name: str) -> None:
     """Print a stored formula's TOML exactly as imported."""
-    from formdb.services.formulas import formula_text
+    from formdb.services.library.formulas import formula_text
 
     click.echo(formula_text(library, name), nl=False)
 
@@ -63,7 +63,7 @@ def show_cmd(app: AppContext, library: Library, name: str) -> None:
 @with_library
 def export_cmd(app: AppContext, library: Library, name: str, file: Path) -> None:
     """Write a stored formula to FILE (TOML, byte for byte as imported)."""
-    from formdb.services.formulas import formula_text
+    from formdb.services.library.formulas import formula_text
 
     text = formula_text(library, name)
     try:

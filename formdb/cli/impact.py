@@ -38,7 +38,7 @@ def show_impacts(library: Library, ingredients: Sequence[str], *, since: str | N
                  profile: str | None = None, fmt: str = "text") -> bool:
     """Print the impact of each ingredient; True when any formula or signed run is touched."""
     from formdb.report.impact import render_impacts
-    from formdb.services.impact import impact_of
+    from formdb.services.review.impact import impact_of
 
     with library.read():  # every ingredient's impact from one state of the library
         reports = [impact_of(library, name, since=since, profile=profile)

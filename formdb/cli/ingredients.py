@@ -1,6 +1,6 @@
 """``formdb ingredient ...``: the shared ingredient library from the command line.
 
-Thin: each command parses its options, calls one function of ``formdb.services.ingredients``
+Thin: each command parses its options, calls one function of ``formdb.services.library.ingredients``
 inside one unit of work, and renders the result. A file or edit with several problems prints every
 one of them (one ``Error:`` line each) and exits 2.
 """
@@ -64,7 +64,7 @@ def list_cmd(app: AppContext, library: Library, role: str | None, fmt: str,
              include_retired: bool) -> None:
     """List the library's ingredients with their main emulsion properties."""
     from formdb.report.library import ingredient_list
-    from formdb.services.ingredients import list_ingredients
+    from formdb.services.library.ingredients import list_ingredients
 
     with library.read() as session:
         records = list_ingredients(session, role=role, include_retired=include_retired)
@@ -78,7 +78,7 @@ def list_cmd(app: AppContext, library: Library, role: str | None, fmt: str,
 def show_cmd(app: AppContext, library: Library, name: str) -> None:
     """Every property of NAME with its value, unit, source, evidence and citation."""
     from formdb.report.library import ingredient_detail
-    from formdb.services.ingredients import show_ingredient
+    from formdb.services.library.ingredients import show_ingredient
 
     with library.read() as session:
         detail = show_ingredient(session, name)
@@ -98,7 +98,7 @@ def add_cmd(app: AppContext, library: Library, name: str, sets: tuple[str, ...],
             synonyms: tuple[str, ...], cas: tuple[str, ...], roles: tuple[str, ...],
             reason: str | None) -> None:
     """Add ingredient NAME (its INCI name) to the library."""
-    from formdb.services.ingredients import add_ingredient
+    from formdb.services.library.ingredients import add_ingredient
 
     with library.write() as session:
         report = add_ingredient(session, name, _assignments(sets), user=app.user, source=source,
@@ -117,7 +117,7 @@ def add_cmd(app: AppContext, library: Library, name: str, sets: tuple[str, ...],
 def edit_cmd(app: AppContext, library: Library, name: str, sets: tuple[str, ...],
              source: str | None, reason: str | None, expect_version: int | None) -> None:
     """Change fields of ingredient NAME: --set hlb=15 --source KEY --reason '...'."""
-    from formdb.services.ingredients import edit_ingredient
+    from formdb.services.library.ingredients import edit_ingredient
 
     with library.write() as session:
         report = edit_ingredient(session, name, _assignments(sets), user=app.user, reason=reason,
@@ -131,7 +131,7 @@ def edit_cmd(app: AppContext, library: Library, name: str, sets: tuple[str, ...]
 @with_library
 def retire_cmd(app: AppContext, library: Library, name: str, reason: str) -> None:
     """Take NAME out of use (kept, with its history, for old formulas)."""
-    from formdb.services.ingredients import retire_ingredient
+    from formdb.services.library.ingredients import retire_ingredient
 
     with library.write() as session:
         report = retire_ingredient(session, name, user=app.user, reason=reason)
@@ -144,7 +144,7 @@ def retire_cmd(app: AppContext, library: Library, name: str, reason: str) -> Non
 @with_library
 def restore_cmd(app: AppContext, library: Library, name: str, reason: str) -> None:
     """Bring a retired ingredient back into use."""
-    from formdb.services.ingredients import restore_ingredient
+    from formdb.services.library.ingredients import restore_ingredient
 
     with library.write() as session:
         report = restore_ingredient(session, name, user=app.user, reason=reason)
@@ -157,7 +157,7 @@ def restore_cmd(app: AppContext, library: Library, name: str, reason: str) -> No
 def history_cmd(app: AppContext, library: Library, name: str) -> None:
     """Who changed NAME, when, what (old -> new) and why."""
     from formdb.report.library import ingredient_history as history_text
-    from formdb.services.ingredients import ingredient_history
+    from formdb.services.library.ingredients import ingredient_history
 
     with library.read() as session:
         entries = ingredient_history(session, name)
@@ -175,7 +175,7 @@ def import_cmd(app: AppContext, library: Library, file: Path, dry_run: bool, rea
                show_impact: bool) -> None:
     """Import a CSV or XLSX ingredient table, all rows or none."""
     from formdb.report.library import import_summary
-    from formdb.services.ingredients import import_table
+    from formdb.services.library.ingredients import import_table
 
     with library.write() as session:
         report = import_table(session, file, user=app.user, reason=reason, dry_run=dry_run)
@@ -194,7 +194,7 @@ def import_cmd(app: AppContext, library: Library, file: Path, dry_run: bool, rea
 def export_cmd(app: AppContext, library: Library, file: Path, role: str | None,
                include_retired: bool) -> None:
     """Write the library to FILE (.csv or .xlsx) in the columns `import` reads."""
-    from formdb.services.ingredients import export_table
+    from formdb.services.library.ingredients import export_table
 
     with library.read() as session:
         count = export_table(session, file, role=role, include_retired=include_retired)

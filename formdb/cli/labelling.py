@@ -24,6 +24,6 @@ def label_cmd(app: AppContext, library: Library, file: Path, jurisdiction: str, 
     """Print the label's ingredient list of formula FILE: above 1 % by descending weight, then
     the rest, colourants last, allergens above the labelling threshold named."""
     from formdb.report.labels import label_declaration
-    from formdb.services.labelling import label_file
+    from formdb.services.checking.labelling import label_file
 
     click.echo(label_declaration(label_file(library, file, jurisdiction), fmt), nl=False)

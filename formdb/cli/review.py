@@ -1,4 +1,4 @@
-"""``formdb review run|sign|status|report``: parse, call formdb.services.review, render."""
+"""``formdb review run|sign|status|report``: parse, call formdb.services.review.runs, render."""
 
 from __future__ import annotations
 
@@ -27,7 +27,7 @@ def run_cmd(app: AppContext, library: Library, source: str, profile: str) -> Non
     """Check formula FILE (or stored:NAME) and store the run, immutable, with the hash of every
     library record it used."""
     from formdb.report.review_status import run_stored
-    from formdb.services.review import run_review
+    from formdb.services.review.runs import run_review
 
     summary = run_review(library, source, profile, user=app.user)
     click.echo(run_stored(summary), nl=False)
@@ -45,7 +45,7 @@ def sign_cmd(app: AppContext, library: Library, run: str, meaning: str, signer: 
              comment: str | None) -> None:
     """Sign review RUN (its run key): refused if it is stale or superseded."""
     from formdb.report.review_status import run_signed
-    from formdb.services.review import sign_run
+    from formdb.services.review.runs import sign_run
 
     sig = sign_run(library, run, meaning, signer, user=app.user, comment=comment)
     click.echo(run_signed(sig), nl=False)
@@ -58,7 +58,7 @@ def sign_cmd(app: AppContext, library: Library, run: str, meaning: str, signer: 
 def status_cmd(app: AppContext, library: Library, fmt: str) -> None:
     """Every review run: current, stale (what changed, old -> new) or superseded."""
     from formdb.report.review_status import review_status as status_text
-    from formdb.services.review import review_status
+    from formdb.services.review.runs import review_status
 
     click.echo(status_text(review_status(library), fmt), nl=False)
 
@@ -75,7 +75,7 @@ def report_cmd(app: AppContext, library: Library, run: str, fmt: str, out: Path 
     from formdb.report.files import write_report
     from formdb.report.review import render_review
     from formdb.report.review_status import report_written
-    from formdb.services.review import filed_run
+    from formdb.services.review.runs import filed_run
 
     filed = filed_run(library, run)
     text = render_review(filed, fmt)

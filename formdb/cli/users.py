@@ -25,7 +25,7 @@ def user_group() -> None:
 def add_cmd(app: AppContext, library: Library, name: str, roles: tuple[str, ...]) -> None:
     """Add user NAME with --role ROLE ...; only an admin may, once there is one."""
     from formdb.report.admin import user_added
-    from formdb.services.access import add_user
+    from formdb.services.admin.access import add_user
 
     with library.write() as session:
         info = add_user(session, name, list(roles), actor=app.user)
@@ -39,7 +39,7 @@ def add_cmd(app: AppContext, library: Library, name: str, roles: tuple[str, ...]
 def grant_cmd(app: AppContext, library: Library, name: str, role: str) -> None:
     """Give user NAME the role ROLE."""
     from formdb.report.admin import user_granted
-    from formdb.services.access import grant
+    from formdb.services.admin.access import grant
 
     with library.write() as session:
         info = grant(session, name, role, actor=app.user)
@@ -51,7 +51,7 @@ def grant_cmd(app: AppContext, library: Library, name: str, role: str) -> None:
 def list_cmd(app: AppContext, library: Library) -> None:
     """Every user with their roles, and whether the library is still open."""
     from formdb.report.admin import user_list
-    from formdb.services.access import is_open, list_users
+    from formdb.services.admin.access import is_open, list_users
 
     with library.read() as session:
         users = list_users(session)

@@ -57,6 +57,6 @@ class FiledRun:
     profile_version: str
     formdb_version: str
     result: CheckResult
-    label: Any  # formdb.services.labelling.LabelDeclaration, or None when it cannot be made
+    label: Any  # checking.labelling.LabelDeclaration, or None when it cannot be made
     open_items: list[dict[str, Any]]
     records: list[dict[str, Any]]

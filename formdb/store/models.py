@@ -269,7 +269,7 @@ class User(Base):
 
 
 class UserRole(Base):
-    """One duty of one user: admin, editor, formulator or reviewer (formdb.services.access)."""
+    """One duty of one user: admin, editor, formulator or reviewer (services.admin.access)."""
 
     __tablename__ = "user_roles"
 

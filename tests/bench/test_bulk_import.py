@@ -13,7 +13,7 @@ from pathlib import Path
 import pytest
 
 from formdb.bench import library, synthetic
-from formdb.services import ingredients
+from formdb.services.library import ingredients
 from formdb.store.db import open_library, unit_of_work
 from tests.helpers import dump_database, fresh_pg_database
 

@@ -14,7 +14,7 @@ from sqlalchemy.engine import Engine
 
 from formdb.bench import library
 from formdb.schemas.ingredient import name_key
-from formdb.services.checking import iter_check_stored
+from formdb.services.checking.flow import iter_check_stored
 from formdb.store import queries
 from tests.libraries import opened
 

@@ -15,9 +15,9 @@ import pytest
 from sqlalchemy import select
 
 from formdb.bench import library, synthetic
-from formdb.services.checking import iter_check_stored
-from formdb.services.formula_files import content_hash, parse_formula_text
-from formdb.services.formulas import import_formulas
+from formdb.services.checking.flow import iter_check_stored
+from formdb.services.library.formula_files import content_hash, parse_formula_text
+from formdb.services.library.formulas import import_formulas
 from formdb.store.db import open_library, unit_of_work
 from formdb.store.models import ChangeLogEntry, Source, StoredFormula
 from tests.helpers import dump_database

@@ -16,7 +16,7 @@ import pytest
 from formdb.schemas.ingredient import IngredientProperties, IngredientRecord
 from formdb.schemas.reference import Incompatibility
 from formdb.schemas.vocab import Role, Severity
-from formdb.services.blending import library_emulsifiers, rank_pairs
+from formdb.services.checking.blending import library_emulsifiers, rank_pairs
 from formdb.store import queries
 from formdb.store.db import open_library, unit_of_work
 from tests.helpers import run_formdb

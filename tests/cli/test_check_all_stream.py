@@ -8,7 +8,7 @@ import pytest
 from click.testing import CliRunner
 
 from formdb.cli.main import cli
-from formdb.services.demo import demo_formula_paths, run_demo
+from formdb.services.checking.demo import demo_formula_paths, run_demo
 
 
 @pytest.fixture(scope="module")

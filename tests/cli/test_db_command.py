@@ -12,7 +12,7 @@ import pytest
 from alembic.script import ScriptDirectory
 from sqlalchemy import inspect
 
-from formdb.services.ingredients import add_ingredient
+from formdb.services.library.ingredients import add_ingredient
 from formdb.store.db import alembic_config, head_revision, make_engine, unit_of_work
 from tests.helpers import dump_database, fresh_pg_database, pg_base_url, run_formdb
 

@@ -11,7 +11,7 @@ import pytest
 from click.testing import CliRunner
 
 from formdb.cli.main import cli
-from formdb.services.demo import run_demo
+from formdb.services.checking.demo import run_demo
 
 
 @pytest.fixture(scope="module")

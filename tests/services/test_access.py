@@ -11,7 +11,7 @@ from sqlalchemy import select
 
 from formdb.errors import Forbidden
 from formdb.schemas.admin import Action
-from formdb.services.access import add_user, grant, is_open, list_users, require
+from formdb.services.admin.access import add_user, grant, is_open, list_users, require
 from formdb.store.db import make_engine, unit_of_work
 from formdb.store.models import ChangeLogEntry
 from tests.fixtures.tables.library_setup import build_library

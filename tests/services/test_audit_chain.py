@@ -19,7 +19,7 @@ from uuid import uuid4
 import pytest
 from sqlalchemy import select, text, update
 
-from formdb.services.ingredients import add_ingredient, edit_ingredient
+from formdb.services.library.ingredients import add_ingredient, edit_ingredient
 from formdb.store.db import make_engine, unit_of_work
 from formdb.store.models import Base, ChangeLogEntry
 from formdb.store.sealing import GENESIS, SEALED_COLUMNS, AppendOnly, canonical, row_hash, seal

@@ -15,9 +15,9 @@ from pathlib import Path
 import pytest
 from sqlalchemy import select
 
-from formdb.services.formulas import import_formulas
-from formdb.services.impact import impact_of
-from formdb.services.ingredients import edit_ingredient
+from formdb.services.library.formulas import import_formulas
+from formdb.services.library.ingredients import edit_ingredient
+from formdb.services.review.impact import impact_of
 from formdb.store.db import open_library, unit_of_work
 from formdb.store.models import Ingredient, MixtureConstituent
 from tests.helpers import run_formdb

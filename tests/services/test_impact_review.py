@@ -10,8 +10,8 @@ from pathlib import Path
 
 from sqlalchemy import text
 
-from formdb.services.impact import impact_of
-from formdb.services.review import run_review, sign_run
+from formdb.services.review.impact import impact_of
+from formdb.services.review.runs import run_review, sign_run
 from formdb.store.db import make_engine
 from tests.helpers import run_formdb
 from tests.libraries import opened

@@ -16,7 +16,7 @@ from sqlalchemy.orm import Session
 
 from formdb.errors import Conflict, InvalidData, NotFound
 from formdb.schemas.vocab import Role
-from formdb.services.ingredients import (
+from formdb.services.library.ingredients import (
     FieldChange,
     add_ingredient,
     edit_ingredient,
@@ -26,7 +26,7 @@ from formdb.services.ingredients import (
     retire_ingredient,
     show_ingredient,
 )
-from formdb.services.tables import TableProblems
+from formdb.services.library.tables import TableProblems
 from formdb.store.db import make_engine, unit_of_work
 from formdb.store.models import ChangeLogEntry, Ingredient
 from formdb.store.sealing import LibrarySession

@@ -8,13 +8,13 @@ from pathlib import Path
 
 import pytest
 
-from formdb.services.ingredient_fields import (
+from formdb.services.library.ingredient_fields import (
     FieldProblem,
     format_number,
     parse_list_item,
     parse_property,
 )
-from formdb.services.tables import Problem, guard_cell, read_table, unguard_cell
+from formdb.services.library.tables import Problem, guard_cell, read_table, unguard_cell
 
 
 @pytest.mark.parametrize(("prop", "text", "expected"), [

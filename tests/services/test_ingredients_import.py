@@ -14,8 +14,8 @@ from pathlib import Path
 import pytest
 from sqlalchemy import select
 
-from formdb.services.ingredients import FieldChange, export_table, import_table
-from formdb.services.tables import TableProblems
+from formdb.services.library.ingredients import FieldChange, export_table, import_table
+from formdb.services.library.tables import TableProblems
 from formdb.store import queries
 from formdb.store.db import make_engine, unit_of_work
 from formdb.store.models import ChangeLogEntry

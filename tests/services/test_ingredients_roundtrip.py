@@ -15,13 +15,13 @@ from hypothesis import strategies as st
 
 from formdb.schemas.ingredient import PROPERTY_NAMES, IngredientProperties
 from formdb.schemas.vocab import COMPAT_CLASSES, Role
-from formdb.services.ingredient_fields import (
+from formdb.services.library.ingredient_fields import (
     _bounds,
     export_columns,
     format_number,
     property_kind,
 )
-from formdb.services.ingredients import export_table, import_table
+from formdb.services.library.ingredients import export_table, import_table
 from formdb.store.db import make_engine, unit_of_work, upgrade_to_head
 from tests.fixtures.tables.library_setup import SOURCES, add_sources
 

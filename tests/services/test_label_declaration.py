@@ -12,7 +12,7 @@ from pathlib import Path
 import pytest
 
 from formdb.errors import ConfigError
-from formdb.services.labelling import declaration
+from formdb.services.checking.labelling import declaration
 from tests.helpers import run_formdb
 from tests.rules.library import formula, reference
 

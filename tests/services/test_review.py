@@ -228,7 +228,7 @@ def test_a_stored_formula_is_compared_with_its_stored_text(seeded_sqlite_url: st
 
 def test_runs_of_the_same_content_in_one_second_get_their_own_keys(seeded_sqlite_url: str,
                                                                     cream: Path) -> None:
-    from formdb.services.review import run_review
+    from formdb.services.review.runs import run_review
 
     keys = [run_review(opened(seeded_sqlite_url), str(cream), user="ana").run_key for _ in range(3)]
     assert len(set(keys)) == 3

@@ -13,8 +13,8 @@ import pytest
 
 from formdb.errors import InvalidData
 from formdb.resources import seed_data_dir
-from formdb.services.checking import check_files
-from formdb.services.setup import init_library
+from formdb.services.checking.flow import check_files
+from formdb.services.seed.setup import init_library
 from formdb.store.db import open_library, unit_of_work
 from formdb.store.queries import load_reference_data
 from tests.helpers import dump_database

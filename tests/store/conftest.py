@@ -56,7 +56,7 @@ FIXTURE_SEED = Path(__file__).parent / "fixtures" / "seed"
 @pytest.fixture
 def fixture_library_url(library_url: str) -> str:
     """A library on each backend holding the small fixture seed (8 ingredients, 2 limits...)."""
-    from formdb.services.setup import init_library
+    from formdb.services.seed.setup import init_library
 
     init_library(library_url, seed=True, user="larkspur-test", seed_dir=FIXTURE_SEED)
     return library_url

@@ -14,7 +14,7 @@ import time
 from dataclasses import dataclass
 
 from formdb.errors import Conflict
-from formdb.services.ingredients import edit_ingredient, show_ingredient
+from formdb.services.library.ingredients import edit_ingredient, show_ingredient
 from formdb.store.db import make_engine, unit_of_work
 
 STRESS_NAMES = ("Cetyl Alcohol", "Glyceryl Stearate", "Sorbitan Stearate")

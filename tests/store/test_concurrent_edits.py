@@ -18,7 +18,7 @@ from collections import defaultdict
 import pytest
 from sqlalchemy import select
 
-from formdb.services.ingredients import add_ingredient
+from formdb.services.library.ingredients import add_ingredient
 from formdb.store import db as store_db
 from formdb.store.db import make_engine, unit_of_work
 from formdb.store.models import ChangeLogEntry, Ingredient, PropertyValue

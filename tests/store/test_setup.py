@@ -9,7 +9,7 @@ import pytest
 from sqlalchemy import func, select
 
 from formdb.errors import InvalidData, SchemaOutdated
-from formdb.services.setup import init_library
+from formdb.services.seed.setup import init_library
 from formdb.store.db import head_revision, make_engine, sqlite_path, unit_of_work
 from formdb.store.models import ChangeLogEntry, LimitEntry, Source
 from tests.helpers import dump_database

@@ -9,7 +9,7 @@ import pytest
 from alembic.script import ScriptDirectory
 from sqlalchemy import DateTime, String, column, insert, select, table, text
 
-from formdb.services.access import add_user, is_open, list_users
+from formdb.services.admin.access import add_user, is_open, list_users
 from formdb.store.db import alembic_config, downgrade, make_engine, unit_of_work, upgrade
 from tests.helpers import dump_database
 

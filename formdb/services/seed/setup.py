@@ -20,8 +20,9 @@ from sqlalchemy.orm import Session
 from formdb.errors import ConfigError, SchemaOutdated
 from formdb.resources import seed_data_dir
 from formdb.schemas.admin import InitReport, TableCounts
-from formdb.services import seed_safety, seed_tables
-from formdb.services.ingredients import SPECIAL_SOURCES
+from formdb.services.library.ingredients import SPECIAL_SOURCES
+from formdb.services.seed import safety as seed_safety
+from formdb.services.seed import tables as seed_tables
 from formdb.store.db import (
     alembic_config,
     current_revision,
@@ -193,7 +194,7 @@ def _label(folder: Path, file: Path) -> str:
 
 def _import_ingredients(session: Session, file: Path, user: str) -> TableCounts:
     try:
-        from formdb.services.ingredients import import_table
+        from formdb.services.library.ingredients import import_table
     except ImportError as exc:  # pragma: no cover - only while the ingredient service is absent
         raise ConfigError("this formdb cannot import ingredient tables yet.",
                           hint="install a complete formdb") from exc

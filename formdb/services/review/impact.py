@@ -29,9 +29,9 @@ from formdb.schemas.ingredient import IngredientRecord, Provenance, name_key
 from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import CheckResult
 from formdb.schemas.vocab import Evidence
-from formdb.services.checking import FormulaInput, input_from_text, resolve_all
-from formdb.services.ingredient_rows import render_ingredient, validate_cells
-from formdb.services.ingredients import ENTITY, _as_input, _get, _sources
+from formdb.services.checking.flow import FormulaInput, input_from_text, resolve_all
+from formdb.services.library.ingredient_rows import render_ingredient, validate_cells
+from formdb.services.library.ingredients import ENTITY, _as_input, _get, _sources
 from formdb.store import queries
 from formdb.store.formulas import iter_stored_formulas
 from formdb.store.library import Library
@@ -111,7 +111,7 @@ def _swap(formula: ResolvedFormula, reference: ReferenceData, old: IngredientRec
     return formula.model_copy(update={"lines": lines}), swapped
 
 
-# --- review runs (formdb.services.review stores them) -------------------------------------------
+# --- review runs (services.review.runs stores them) ----------------------------------------------
 
 def _table(session: Session, name: str) -> Table | None:
     if name not in inspect(session.connection()).get_table_names():

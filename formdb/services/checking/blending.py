@@ -39,7 +39,7 @@ from formdb.schemas.reference import Incompatibility
 from formdb.schemas.result import CheckResult, EmulsifierFacts, FormulaFacts
 from formdb.schemas.vocab import EmulsionType, Evidence, Role, Solubility
 from formdb.science.hlb import UnreachableHlb, blend_fractions, blend_hlb
-from formdb.services.checking import check_files
+from formdb.services.checking.flow import check_files
 from formdb.store import queries
 from formdb.store.library import Library
 from formdb.store.models import Ingredient, IngredientRole

@@ -19,7 +19,7 @@ from formdb.schemas.labels import LabelDeclaration, LabelEntry
 from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import FactsSettings
 from formdb.schemas.vocab import Role
-from formdb.services.checking import read_inputs, resolve_all
+from formdb.services.checking.flow import read_inputs, resolve_all
 from formdb.store import queries
 from formdb.store.library import Library
 

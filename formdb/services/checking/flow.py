@@ -24,7 +24,11 @@ from formdb.schemas.formula import FormulaFile, ResolvedFormula, ResolvedLine
 from formdb.schemas.ingredient import IngredientRecord, name_key
 from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import CheckResult
-from formdb.services.formula_files import content_hash, parse_formula_text, read_formula_file
+from formdb.services.library.formula_files import (
+    content_hash,
+    parse_formula_text,
+    read_formula_file,
+)
 from formdb.store import queries
 from formdb.store.formulas import iter_stored_formulas
 from formdb.store.library import Library

@@ -13,9 +13,9 @@ from formdb.errors import Conflict, NotFound
 from formdb.schemas.admin import Action
 from formdb.schemas.ingredient import name_key
 from formdb.schemas.stored import FormulaImportReport, StoredFormulaInfo
-from formdb.services.access import require
-from formdb.services.checking import read_inputs, resolve_all
-from formdb.services.formula_files import content_hash
+from formdb.services.admin.access import require
+from formdb.services.checking.flow import read_inputs, resolve_all
+from formdb.services.library.formula_files import content_hash
 from formdb.store.formulas import formula_names, get_formula, iter_stored_formulas
 from formdb.store.library import Library
 from formdb.store.models import ChangeLogEntry, StoredFormula

@@ -29,8 +29,8 @@ from formdb.schemas.ingredient import (
 )
 from formdb.schemas.times import utc
 from formdb.schemas.vocab import Evidence, Role
-from formdb.services.access import require
-from formdb.services.ingredient_fields import (
+from formdb.services.admin.access import require
+from formdb.services.library.ingredient_fields import (
     EDITABLE_FIELDS,
     NAME_COLUMN,
     FieldProblem,
@@ -42,7 +42,7 @@ from formdb.services.ingredient_fields import (
     property_kind,
     split_list,
 )
-from formdb.services.ingredient_rows import (
+from formdb.services.library.ingredient_rows import (
     Cells,
     empty_cells,
     header_labels,
@@ -51,7 +51,13 @@ from formdb.services.ingredient_rows import (
     render_ingredient,
     validate_cells,
 )
-from formdb.services.tables import Problem, TableProblems, raise_problems, read_table, write_table
+from formdb.services.library.tables import (
+    Problem,
+    TableProblems,
+    raise_problems,
+    read_table,
+    write_table,
+)
 from formdb.store import queries
 from formdb.store.models import (
     ChangeLogEntry,

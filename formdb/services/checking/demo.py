@@ -14,10 +14,10 @@ from pathlib import Path
 from formdb.errors import ConfigError
 from formdb.resources import seed_data_dir
 from formdb.schemas.demo import DemoRun
-from formdb.services.checking import check_files
-from formdb.services.formulas import import_formulas
-from formdb.services.report_context import limit_snapshots
-from formdb.services.setup import init_library
+from formdb.services.checking.flow import check_files
+from formdb.services.checking.report_context import limit_snapshots
+from formdb.services.library.formulas import import_formulas
+from formdb.services.seed.setup import init_library
 from formdb.store.library import Library
 
 

@@ -20,7 +20,7 @@ from formdb.schemas.ingredient import (
     name_key,
     normalise_inci,
 )
-from formdb.services.ingredient_fields import (
+from formdb.services.library.ingredient_fields import (
     KNOWN_COLUMNS,
     LIST_FIELDS,
     NAME_COLUMN,
@@ -34,7 +34,7 @@ from formdb.services.ingredient_fields import (
     parse_property,
     split_list,
 )
-from formdb.services.tables import Problem, RawTable
+from formdb.services.library.tables import Problem, RawTable
 
 Cells = dict[str, str]
 # (column, problem) pairs for one row; the caller adds the file and row

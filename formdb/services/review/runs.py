@@ -32,10 +32,10 @@ from formdb.schemas.result import CheckResult
 from formdb.schemas.review import FiledRun, RunState, RunSummary, SignatureInfo
 from formdb.schemas.suggest import close_matches
 from formdb.schemas.times import utc
-from formdb.services.access import require
-from formdb.services.audit import append_sealed
-from formdb.services.checking import FormulaInput, input_from_text, read_inputs, resolve_all
-from formdb.services.formula_files import content_hash
+from formdb.services.admin.access import require
+from formdb.services.checking.flow import FormulaInput, input_from_text, read_inputs, resolve_all
+from formdb.services.library.formula_files import content_hash
+from formdb.services.review.audit import append_sealed
 from formdb.store import queries
 from formdb.store.formulas import get_formula
 from formdb.store.library import Library
@@ -338,7 +338,7 @@ def sign_run(library: Library, key: str, meaning: str, signer: str, *, user: str
 
 
 def filed_run(library: Library, key: str) -> FiledRun:
-    from formdb.services.labelling import declaration
+    from formdb.services.checking.labelling import declaration
 
     with library.read() as session:
         run = _find_run(session, key)

@@ -16,7 +16,7 @@ from sqlalchemy.orm import Session
 
 from formdb.schemas.ingredient import name_key
 from formdb.schemas.vocab import Role, norm_token, parse_choice
-from formdb.services.seed_tables import (
+from formdb.services.seed.tables import (
     Rows,
     SeedProblems,
     _Row,

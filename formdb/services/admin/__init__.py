@@ -1,0 +1,1 @@
+"""Users and roles, database administration, PostgreSQL grants."""

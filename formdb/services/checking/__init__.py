@@ -1,0 +1,1 @@
+"""Checking formulas: the flow of a check, blend plans, labels, the demo."""

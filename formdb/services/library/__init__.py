@@ -1,0 +1,1 @@
+"""The ingredient library: ingredients, sources, stored formulas, table import and export."""

@@ -1,0 +1,1 @@
+"""Review runs and sign-offs, the impact of a library change, the audit chains."""
