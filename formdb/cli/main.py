@@ -34,6 +34,7 @@ COMMANDS: dict[str, str] = {
     "review": "formdb.cli.review:review_group",
     "audit": "formdb.cli.audit:audit_group",
     "impact": "formdb.cli.impact:impact_cmd",
+    "lists": "formdb.cli.lists:lists_group",
 }
 
 

@@ -353,3 +353,60 @@ class ReviewSignature(Base):
     comment: Mapped[str | None] = mapped_column(Text)
     prev_hash: Mapped[str | None] = mapped_column(String(64))
     row_hash: Mapped[str | None] = mapped_column(String(64))
+
+
+class ListSnapshot(Base):
+    """One imported annex export of a regulatory list: its annex, the export's two dates and the
+    file's hash. The newest import of an annex is the one in force (``in_force``)."""
+
+    __tablename__ = "list_snapshots"
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    jurisdiction: Mapped[str] = mapped_column(String(20))
+    annex: Mapped[str] = mapped_column(String(10))
+    file_name: Mapped[str] = mapped_column(String(300))
+    file_created: Mapped[date] = mapped_column(Date)
+    last_update: Mapped[date] = mapped_column(Date)
+    file_hash: Mapped[str] = mapped_column(String(64))
+    entry_count: Mapped[int] = mapped_column(Integer)
+    imported_at: Mapped[datetime] = mapped_column(DateTime(timezone=True))
+    imported_by: Mapped[str] = mapped_column(String(100))
+    in_force: Mapped[bool] = mapped_column(Boolean, default=True, index=True)
+
+
+class ListEntryRow(Base):
+    """One entry of a snapshot: the structured entry as JSON (formdb.schemas.lists.ListEntry)."""
+
+    __tablename__ = "list_entries"
+    __table_args__ = (UniqueConstraint("snapshot_id", "key"),)
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    snapshot_id: Mapped[int] = mapped_column(
+        ForeignKey("list_snapshots.id", ondelete="CASCADE"), index=True)
+    key: Mapped[str] = mapped_column(String(300))
+    ref: Mapped[str] = mapped_column(String(40))
+    names: Mapped[str] = mapped_column(Text)  # INCI names joined by "; "
+    body: Mapped[str] = mapped_column(Text)
+
+
+class ListEntryMatch(Base):
+    """How a library ingredient finds an entry: ``name:<name key>`` or ``cas:<CAS>``, indexed."""
+
+    __tablename__ = "list_entry_matches"
+
+    entry_id: Mapped[int] = mapped_column(
+        ForeignKey("list_entries.id", ondelete="CASCADE"), primary_key=True)
+    match_key: Mapped[str] = mapped_column(String(250), primary_key=True, index=True)
+
+
+class ListIngredient(Base):
+    """An ingredient record created because a list names it (no physical data until added)."""
+
+    __tablename__ = "list_ingredients"
+
+    ingredient_id: Mapped[int] = mapped_column(
+        ForeignKey("ingredients.id", ondelete="CASCADE"), primary_key=True)
+    jurisdiction: Mapped[str] = mapped_column(String(20))
+    annex: Mapped[str] = mapped_column(String(10))
+    entry_key: Mapped[str] = mapped_column(String(300))
+    created_at: Mapped[datetime] = mapped_column(DateTime(timezone=True))

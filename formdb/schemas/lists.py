@@ -1,0 +1,201 @@
+"""Regulatory list entries as structured data: the Commission's annex exports, parsed.
+
+An entry keeps its substance identity (names, every CAS and EC number), its parts (a), (b), (c)
+with the scope each one covers and its maximum, the conditions and the labelling wording. What
+could not be parsed is kept verbatim (``unparsed``) and shown to a reviewer as a condition to
+confirm by hand: nothing of the text is dropped.
+"""
+
+from __future__ import annotations
+
+from datetime import date
+
+from pydantic import BaseModel, ConfigDict
+
+ANNEXES = ("II", "III", "IV", "V", "VI")
+ANNEX_TITLES = {
+    "II": "prohibited substances",
+    "III": "restricted substances",
+    "IV": "allowed colorants",
+    "V": "allowed preservatives",
+    "VI": "allowed UV filters",
+}
+# what a line's ``purpose`` may say; entries restricted to or excluding preservative use compare
+# against "preservative"
+PURPOSES = ("preservative", "uv filter", "colorant", "fragrance", "ph adjuster", "solvent",
+            "active", "emulsifier", "conditioning", "other")
+# the extended allergen list of Regulation (EU) 2023/1545 binds products placed on the Union
+# market from this date (Article 2; from memory of the regulation text)
+ALLERGEN_EXTENSION_PLACING = date(2026, 7, 31)
+ALLERGEN_EXTENSION_AVAILABLE = date(2028, 7, 31)
+ALLERGEN_EXTENSION_ACT = "(EU) 2023/1545"
+
+
+class Scope(BaseModel):
+    """Which products a part covers, from the free text of "Product Type, body parts".
+
+    Positive terms (``categories``, ``areas``, ``products``, ``purposes``) narrow the part;
+    ``other`` is the catch-all "other products" (less the ``excluded_*`` terms); ``not_in`` names
+    forms the part excludes (``spray``). ``text`` is the cell as written; ``unparsed`` the words
+    that matched no term.
+    """
+
+    model_config = ConfigDict(frozen=True)
+
+    text: str = ""
+    categories: tuple[str, ...] = ()
+    areas: tuple[str, ...] = ()
+    products: tuple[str, ...] = ()
+    purposes: tuple[str, ...] = ()
+    other: bool = False
+    excluded_areas: tuple[str, ...] = ()
+    excluded_products: tuple[str, ...] = ()
+    not_in: tuple[str, ...] = ()
+    professional: bool = False
+    unparsed: str = ""
+
+    @property
+    def empty(self) -> bool:
+        return not (self.categories or self.areas or self.products or self.purposes
+                    or self.other or self.excluded_areas or self.excluded_products
+                    or self.not_in)
+
+
+class Part(BaseModel):
+    """One part of an entry: its scope, maximum and conditions."""
+
+    model_config = ConfigDict(frozen=True)
+
+    label: str | None = None  # "a", "b", ... ; None for an entry without parts
+    scope: Scope = Scope()
+    max_percent: float | None = None
+    max_text: str = ""
+    basis: str | None = None  # "as acid", "as free SO2", "of Hg", ... as the text says
+    aggregate: str = "each"  # each | sum
+    further_limits: tuple[str, ...] = ()  # more maxima in the cell (mixtures, professional use)
+    ph_min: float | None = None
+    ph_max: float | None = None
+    conditions: tuple[str, ...] = ()  # conditions that need a person (children, sprays, ...)
+    other: str = ""  # the "Other" text for this part, verbatim
+    labelling: str = ""  # wording of conditions of use and warnings, verbatim
+    unparsed: tuple[str, ...] = ()  # text that became no structure: confirm by hand
+
+    @property
+    def structured(self) -> bool:
+        """True when scope and maximum were parsed without leftovers."""
+        return not self.unparsed and not self.scope.unparsed
+
+    @property
+    def name(self) -> str:
+        return f"part ({self.label})" if self.label else "the entry"
+
+
+class ListEntry(BaseModel):
+    """One entry of an annex as the Commission's export gives it, structured."""
+
+    model_config = ConfigDict(frozen=True)
+
+    jurisdiction: str = "EU"
+    annex: str
+    ref: str  # the reference number as written ("12 a" reads "12a")
+    key: str  # unique in the annex: ref, or ref plus the substance where the export repeats it
+    chemical_name: str = ""
+    inci_names: tuple[str, ...] = ()
+    cas_numbers: tuple[str, ...] = ()
+    ec_numbers: tuple[str, ...] = ()
+    parts: tuple[Part, ...] = ()
+    purpose: str | None = None  # preservative | not-preservative | None
+    allergen: bool = False  # named on the label above 0.001 % leave-on / 0.01 % rinse-off
+    regulation: str = ""
+    update_date: date | None = None
+    cells: dict[str, str] = {}  # every cell of the row, verbatim
+
+    @property
+    def label(self) -> str:
+        return f"{self.jurisdiction} Annex {self.annex}/{self.key}"
+
+    @property
+    def title(self) -> str:
+        names = ", ".join(self.inci_names[:3]) or self.chemical_name[:80]
+        return f"{self.label} ({names})"
+
+    @property
+    def extended_allergen(self) -> bool:
+        """An allergen added by Regulation (EU) 2023/1545 (not among the 2009 entries 45, 67-92)."""
+        return self.allergen and not _original_allergen(self.ref)
+
+
+def _original_allergen(ref: str) -> bool:
+    """The 26 allergens of the 2009 text: Annex III entries 45 and 67 to 92 (from memory of the
+    regulation as adopted)."""
+    digits = "".join(ch for ch in ref if ch.isdigit())
+    return digits.isdigit() and (int(digits) == 45 or 67 <= int(digits) <= 92) and \
+        ref.strip().isdigit()
+
+
+class SnapshotInfo(BaseModel):
+    """An imported annex export: which annex, its two dates, the file's hash."""
+
+    model_config = ConfigDict(frozen=True)
+
+    id: int | None = None
+    jurisdiction: str = "EU"
+    annex: str
+    file_name: str
+    file_created: date
+    last_update: date
+    file_hash: str
+    entries: int
+    imported_at: str | None = None
+    imported_by: str | None = None
+    in_force: bool = True
+
+
+class EntryChange(BaseModel):
+    """One entry added, removed or changed by a newer export (old -> new per cell)."""
+
+    model_config = ConfigDict(frozen=True)
+
+    annex: str
+    key: str
+    kind: str  # added | removed | changed
+    title: str
+    details: tuple[str, ...] = ()
+
+
+class AnnexImport(BaseModel):
+    """What importing one export did (or would do, on a dry run)."""
+
+    model_config = ConfigDict(frozen=True)
+
+    snapshot: SnapshotInfo
+    replaces: SnapshotInfo | None = None
+    parts: int
+    structured_parts: int
+    unparsed: tuple[str, ...] = ()  # "III/2a part (a): text" for every part not structured
+    changes: tuple[EntryChange, ...] = ()
+    ingredients_created: int = 0
+    unchanged: bool = False  # the same file is already in force
+
+    @property
+    def coverage(self) -> float:
+        return self.structured_parts / self.parts if self.parts else 1.0
+
+
+class ListsImport(BaseModel):
+    """The whole import: every annex, and what it touches among stored formulas and runs."""
+
+    model_config = ConfigDict(frozen=True)
+
+    annexes: tuple[AnnexImport, ...]
+    dry_run: bool
+    touched_formulas: tuple[str, ...] = ()
+    stale_runs: tuple[str, ...] = ()
+
+    @property
+    def parts(self) -> int:
+        return sum(a.parts for a in self.annexes)
+
+    @property
+    def structured_parts(self) -> int:
+        return sum(a.structured_parts for a in self.annexes)

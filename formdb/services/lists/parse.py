@@ -1,0 +1,432 @@
+"""Turn the free text of an annex row into structure: identity, parts, scope, maximum, conditions.
+
+The export writes multi-part conditions as "(a) ... (b) ..." inside one cell, several CAS numbers
+per cell, bases such as "(acid)", "calculated as ..." and "of Hg", and product types in free
+text. What the patterns here do not recognise stays verbatim in ``unparsed`` and is shown to a
+reviewer as a condition to confirm by hand.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Mapping
+
+from formdb.errors import InvalidData
+from formdb.schemas.cas import cas_is_valid
+from formdb.schemas.lists import ListEntry, Part, Scope
+from formdb.services.lists.annex_file import REF, parse_day
+
+_NAME_COLUMNS = ("Name of Common Ingredients Glossary",
+                 "Colour index Number / Name of Common Ingredients Glossary")
+PRODUCT = "Product Type, body parts"
+MAXIMUM = "Maximum concentration in ready for use preparation"
+OTHER = "Other"
+WORDING = "Wording of conditions of use and warnings"
+IDENTIFIED = "Identified INGREDIENTS or substances e.g."
+
+_CAS = re.compile(r"(?<![\d-])(\d{2,7}-\d{2}-\d)(?![\d-])")
+_EC = re.compile(r"(?<![\d-])(\d{3}-\d{3}-\d)(?![\d-])")
+# "(a)", "a)", "(b)" at the start of a line or after a space; "(i)" sub-parts are not parts
+_MARKER = re.compile(r"(?:(?<=^)|(?<=[\s.;:]))\(?([a-h])\)(?=[\s(]|$)", re.MULTILINE)
+_PERCENT = re.compile(r"(\d+(?:[.,]\d+)?)\s*(%|ppm)", re.IGNORECASE)
+_SOFT_HYPHEN = "\u00ad"
+
+
+def clean(text: str) -> str:
+    """Soft hyphens out, runs of white space as one space."""
+    return " ".join(text.replace(_SOFT_HYPHEN, "").split())
+
+
+# ----- identity -------------------------------------------------------------------------------
+
+_FOOTNOTE = re.compile(r"\s*(\(\d+\)|\[\d+\]|\*+)\s*$")
+
+
+def _name(text: str) -> str:
+    name = clean(text)
+    while True:
+        stripped = _FOOTNOTE.sub("", name).strip(" ,;.")
+        if stripped == name:
+            return name
+        name = stripped
+
+
+def split_names(glossary: str, identified: str) -> tuple[str, ...]:
+    """Every INCI name the row gives, in order, once each.
+
+    The glossary cell separates names with "/", ";" or ", "; a "/" inside a name (SODIUM/TEA-...,
+    CAPRYLIC/CAPRIC ...) is kept unless the pieces are names the row identifies on their own.
+    The identified cell separates with "," (not inside "1,4-..." where a digit follows).
+    """
+    known = [_name(n) for n in re.split(r",(?!\d)", identified)]
+    known = [n for n in known if n and n != "-"]
+    known_keys = {n.casefold() for n in known}
+    out: list[str] = []
+    for chunk in re.split(r"\s+/\s*|\s*/\s+|;|,\s+|\n", glossary):
+        chunk = _name(chunk)
+        if not chunk or chunk == "-":
+            continue
+        pieces = [_name(p) for p in chunk.split("/")]
+        if len(pieces) > 1 and all(p.casefold() in known_keys for p in pieces if p):
+            out.extend(p for p in pieces if p)
+        else:
+            out.append(chunk)
+    out.extend(known)
+    seen: set[str] = set()
+    unique = []
+    for name in out:
+        if name.casefold() not in seen and len(name) <= 200:
+            seen.add(name.casefold())
+            unique.append(name)
+    return tuple(unique)
+
+
+def cas_numbers(text: str) -> tuple[str, ...]:
+    """Every CAS number written in the cell that passes its check digit."""
+    return tuple(dict.fromkeys(c for c in _CAS.findall(text) if cas_is_valid(c)))
+
+
+def ec_numbers(text: str) -> tuple[str, ...]:
+    return tuple(dict.fromkeys(_EC.findall(text)))
+
+
+def chemical_names(text: str) -> tuple[str, ...]:
+    """Names under which a chemical-name cell can be matched: the INN and the plain name."""
+    name = clean(text)
+    names = [inn.strip() for inn in re.findall(r"([A-Za-z][\w\- ]+?)\s*\(INN\)", name)]
+    plain = re.sub(r"\s*\((INN|see note[^)]*)\)", "", name)
+    plain = re.split(r",? (and|its|their) (its |their )?(salts|esters|ethers)", plain)[0]
+    if plain and len(plain) <= 200:
+        names.append(plain.strip(" ,;"))
+    return tuple(dict.fromkeys(n for n in names if n))
+
+
+# ----- parts ----------------------------------------------------------------------------------
+
+def split_parts(text: str) -> tuple[str, dict[str, str]]:
+    """(text for every part, {label: text}) of a cell written "(a) ... (b) ...".
+
+    A run of markers with nothing between ("(a) (b) (c) Avoid contact...") gives its text to each.
+    """
+    matches = list(_MARKER.finditer(text))
+    if not matches:
+        return text.strip(), {}
+    common = text[:matches[0].start()].strip()
+    parts: dict[str, str] = {}
+    pending: list[str] = []
+    for i, match in enumerate(matches):
+        end = matches[i + 1].start() if i + 1 < len(matches) else len(text)
+        body = text[match.end():end].strip()
+        pending.append(match.group(1))
+        if body:
+            for label in pending:
+                parts[label] = f"{parts[label]}\n{body}" if label in parts else body
+            pending = []
+    for label in pending:
+        parts.setdefault(label, "")
+    return common, parts
+
+
+def _number(text: str) -> float:
+    return float(text.replace(",", "."))
+
+
+_BASIS = (
+    (re.compile(r"\(\s*acid\s*\)|as (the )?acid|expressed as acid", re.I), "as acid"),
+    (re.compile(r"free SO\s*2|as SO\s*2", re.I), "as free SO2"),
+    (re.compile(r"\bof Hg\b|as Hg\b", re.I), "of Hg"),
+    (re.compile(r"calculated as ([\w\- ,()]+?)(?:[.;\n]|$)", re.I), None),
+    (re.compile(r"expressed as ([\w\- ,()]+?)(?:[.;\n]|$)", re.I), None),
+)
+_SUM = re.compile(r"\bsum of\b|\bin total\b|\bindividually or\b|\bcombined\b|\btotal\b", re.I)
+
+
+def parse_maximum(text: str) -> tuple[float | None, str | None, str, tuple[str, ...], bool]:
+    """(max %, basis, aggregate, further limits, parsed) of one part's maximum cell text."""
+    found = _PERCENT.findall(text)
+    basis = None
+    for pattern, name in _BASIS:
+        match = pattern.search(text)
+        if match:
+            basis = name or f"as {clean(match.group(1))}"
+            break
+    aggregate = "sum" if _SUM.search(text) else "each"
+    if not found:
+        return None, basis, aggregate, (), not clean(text)
+    values = [(_number(n) / (10_000 if unit.lower() == "ppm" else 1)) for n, unit in found]
+    further: tuple[str, ...] = ()
+    if len(set(values)) > 1:
+        # later maxima (mixtures, professional use, other forms) are kept for a person to read
+        segments = [clean(s) for s in re.split(r"\n+|(?<=%)\s*(?:and|;)\s*", text) if clean(s)]
+        further = tuple(s for s in segments if _PERCENT.search(s))[1:] or (clean(text),)
+    return values[0], basis, aggregate, further, True
+
+
+# ----- scope ----------------------------------------------------------------------------------
+
+# free-text words -> (kind, term); longest phrases first so "body lotion" wins over "body"
+_TERMS: tuple[tuple[str, str, str], ...] = (
+    (r"rinse[- ]?off", "category", "rinse-off"),
+    (r"leave[- ]?on|non[- ]rinse[- ]off", "category", "leave-on"),
+    (r"body lotions?", "product", "body lotion"),
+    (r"face creams?", "product", "face cream"),
+    (r"hand creams?", "product", "hand cream"),
+    (r"eye ?shadows?", "product", "eye shadow"),
+    (r"mascaras?", "product", "mascara"),
+    (r"eye ?liners?", "product", "eyeliner"),
+    (r"lipsticks?", "product", "lipstick"),
+    (r"roll[- ]on deodorants?", "product", "roll-on deodorant"),
+    (r"deodorants?|anti-?perspirants?", "product", "deodorant"),
+    (r"(?:rinse-off )?anti-? ?dandruff shampoos?", "product", "anti-dandruff shampoo"),
+    (r"shampoos?", "product", "shampoo"),
+    (r"hair lotions?", "product", "hair lotion"),
+    (r"astringent lotions?", "product", "astringent lotion"),
+    (r"tooth (?:whitening|bleaching)(?: or bleaching)?", "product", "tooth whitening"),
+    (r"face make-?up|make-?up remover|eye make-?up", "product", "make-up"),
+    (r"hand wash|hand soaps?", "product", "hand wash"),
+    (r"tooth ?pastes?", "product", "toothpaste"),
+    (r"mouth ?(?:wash|rinse)e?s?", "product", "mouthwash"),
+    (r"shower gels?|body soaps?", "product", "shower gel"),
+    (r"soaps?", "product", "soap"),
+    (r"depilator(?:y|ies)", "product", "depilatory"),
+    (r"(?:non-? ?)oxidati?v?e hair d[ayu]e?s?(?: products?)?|non-oxidising colouring agents",
+     "product", "non-oxidative hair dye"),
+    (r"oxidati?v?e hair d[ayu]e?s?(?: products?)?|oxidising colouring agents|hair dyeing",
+     "product", "oxidative hair dye"),
+    (r"hair d[ayu]e s[ua]b\S*stance|hair d[ayu]es?", "product", "hair dye"),
+    (r"hair (?:waving|straighten\w*)|straighten\w*", "product", "hair straightener"),
+    (r"self[- ]tanning", "product", "self-tanning"),
+    (r"nail (?:hardening|hardener)s?", "product", "nail hardener"),
+    (r"artificial nail systems?", "product", "artificial nail"),
+    (r"(?:fine )?fragrance(?: cream)?|eau de toilette", "product", "fragrance"),
+    (r"colouring eyelashes(?: and eyebrows)?|eyelash waving|intent?ed for colouring", "product",
+     "eyelash product"),
+    (r"hair|head", "area", "hair"),
+    (r"face|facial", "area", "face"),
+    (r"eyes?\b|eyelash\w*|eyebrows?", "area", "eye"),
+    (r"lips?\b", "area", "lip"),
+    (r"oral(?: care)?|teeth|tooth", "area", "oral"),
+    (r"nails?|cuticles?", "area", "nail"),
+    (r"hands?\b", "area", "hand"),
+    (r"foot|feet", "area", "foot"),
+    (r"body|skin", "area", "body"),
+    (r"mucous membranes?", "area", "mucous membrane"),
+    (r"ph[- ]?ad?juster", "purpose", "ph adjuster"),
+    (r"solvents?", "purpose", "solvent"),
+    (r"preservatives?", "purpose", "preservative"),
+    (r"stabili[sz]er", "purpose", "stabiliser"),
+    (r"denaturant", "purpose", "denaturant"),
+    (r"rust inhibitor", "purpose", "rust inhibitor"),
+    (r"fragrance/ ?aromatic compositions?|aromatic compositions?", "purpose", "fragrance"),
+)
+_TERM_RE = [(re.compile(rf"\b(?:{pattern})", re.I), kind, term) for pattern, kind, term in _TERMS]
+_SPRAY = re.compile(r"(?:propell[ae]nt|pump|aerosol)?\s*sprays?|aerosols?", re.I)
+_FILLER = re.compile(
+    r"\b(?:products?|produts|cosmetic|all|for|in|the|of|and|or|with|to|be|used|only|intended|"
+    r"substances?|s[ua]b\S*stances?|ready|use|uses|as|applied|on|a|an|form|forms|general|"
+    r"professional|other|others|except|excluding|exception|not|than|including|care|"
+    r"containing|preparations?|designed|application|types?|loose|powdery?|powders?|"
+    r"raw|materials?|their|following|lotions?|e\.g|non)\b",
+    re.I)
+
+
+def _terms(text: str) -> tuple[dict[str, list[str]], str]:
+    found: dict[str, list[str]] = {"category": [], "product": [], "area": [], "purpose": []}
+    rest = text
+    for pattern, kind, term in _TERM_RE:
+        if pattern.search(rest):
+            if term not in found[kind]:
+                found[kind].append(term)
+            rest = pattern.sub(" ", rest)
+    return found, rest
+
+
+def parse_scope(text: str) -> Scope:
+    """The structured scope of a "Product Type, body parts" text (one part)."""
+    body = clean(text)
+    if not body or body == "-":
+        return Scope(text=body)
+    low = body.casefold()
+    negative = re.search(r"\bnot to be used in\b|\bnot in\b", low)
+    exception = re.search(r"\b(?:except(?:ing|ion)?|excluding|with the exception of|other "
+                          r"than)\b", low)
+    positive_text, excluded_text = body, ""
+    if negative:
+        positive_text, excluded_text = body[:negative.start()], body[negative.end():]
+    elif exception:
+        positive_text, excluded_text = body[:exception.start()], body[exception.end():]
+    not_in: list[str] = []
+    if _SPRAY.search(excluded_text):
+        not_in.append("spray")
+        excluded_text = _SPRAY.sub(" ", excluded_text)
+    if _SPRAY.search(positive_text) and not negative and not exception:
+        positive_text = _SPRAY.sub(" sprayproduct ", positive_text)
+    found, rest = _terms(positive_text)
+    gone, rest_ex = _terms(excluded_text)
+    other = bool(re.search(r"\b(?:other|others|all|any)\b", positive_text, re.I)) \
+        or bool(negative)
+    products = found["product"]
+    if "sprayproduct" in rest.casefold():
+        products.append("spray")
+        rest = re.sub("sprayproduct", " ", rest, flags=re.I)
+    leftover = clean(_FILLER.sub(" ", f"{rest} {rest_ex}").strip(" ,.;:()/-*'\"0123456789"))
+    leftover = re.sub(r"^[\s,.;:()/*'\"-]+|[\s,.;:()/*'\"-]+$", "", leftover)
+    return Scope(
+        text=body, categories=tuple(found["category"]), areas=tuple(found["area"]),
+        products=tuple(products), purposes=tuple(found["purpose"]),
+        other=other,
+        excluded_areas=tuple(gone["area"]),
+        excluded_products=tuple(gone["product"] + gone["category"]),
+        not_in=tuple(not_in), professional="professional" in low,
+        unparsed=leftover if len(leftover) > 2 else "")
+
+
+# ----- conditions -----------------------------------------------------------------------------
+
+_CONDITIONS = (
+    (re.compile(r"children under (3|three)|under (3|three) years", re.I),
+     "children under 3 years"),
+    (re.compile(r"professional use", re.I), "professional use only"),
+    (re.compile(r"spray|aerosol|inhalation|lungs", re.I),
+     "not in sprays / no exposure of the lungs"),
+    (re.compile(r"oral products?", re.I), "oral products"),
+    (re.compile(r"nitrosat", re.I), "not with nitrosating systems"),
+    (re.compile(r"purity|impurit", re.I), "purity requirement"),
+    (re.compile(r"nano", re.I), "nano form requirements"),
+    (re.compile(r"eyes?\b", re.I), "contact with the eyes"),
+    (re.compile(r"from \d{1,2} \w+ \d{4}", re.I), "a dated transition"),
+)
+_PH = re.compile(r"pH\s*(?:(?:from\s*)?(\d+(?:[.,]\d+)?)\s*(?:to|-)\s*|(?:up to|not (?:more|"
+                 r"greater) than|below|<=?|≤|maximum|max\.?)\s*(?:pH)?\s*)"
+                 r"(\d+(?:[.,]\d+)?)|up to pH\s*(\d+(?:[.,]\d+)?)", re.I)
+_NOT_PRESERVATIVE = re.compile(r"other than inhibiting|other than (?:as a )?preservati", re.I)
+_AS_PRESERVATIVE = re.compile(r"\bas (?:a )?preservative\b", re.I)
+_ALLERGEN = re.compile(r"list of ingredients referred to in Article 19", re.I)
+
+
+def conditions_of(text: str) -> tuple[str, ...]:
+    return tuple(dict.fromkeys(name for pattern, name in _CONDITIONS if pattern.search(text)))
+
+
+def ph_limits(text: str) -> tuple[float | None, float | None]:
+    match = _PH.search(text)
+    if not match:
+        return None, None
+    low, high, up_to = match.groups()
+    top = high or up_to
+    return (_number(low) if low else None), (_number(top) if top else None)
+
+
+# ----- the entry ------------------------------------------------------------------------------
+
+def _labels(*cells: dict[str, str]) -> list[str]:
+    return sorted({label for cell in cells for label in cell})
+
+
+def parse_entry(annex: str, row: Mapping[str, str], key: str) -> ListEntry:
+    """One row of the export as a ListEntry (every cell kept verbatim in ``cells``)."""
+    glossary = next((row[c] for c in _NAME_COLUMNS if c in row), "")
+    names = split_names(glossary, row.get(IDENTIFIED, ""))
+    chem = clean(row.get("Chemical name / INN", row.get("Chemical name", "")))
+    if annex == "II" and not names:
+        names = chemical_names(chem)[:1]
+    product = row.get(PRODUCT, "")
+    maximum = row.get(MAXIMUM, "")
+    other = row.get(OTHER, "")
+    if annex == "IV" and not _PERCENT.search(maximum) and clean(maximum):
+        # the Annex IV export gives the field of application under "Maximum concentration" and
+        # the maximum under "Other" (the Regulation's columns g and h as exported)
+        product, maximum, other = maximum, other if _PERCENT.search(other) else "", \
+            "" if _PERCENT.search(other) else other
+    wording = row.get(WORDING, "")
+    parts = _parts(annex, product, maximum, other, wording) if annex != "II" else ()
+    whole = f"{product}\n{other}\n{maximum}"
+    purpose = None
+    if _NOT_PRESERVATIVE.search(whole):
+        purpose = "not-preservative"
+    elif annex == "V" or _AS_PRESERVATIVE.search(product):
+        purpose = "preservative"
+    return ListEntry(
+        annex=annex, ref=clean(row[REF]).replace(" ", ""), key=key, chemical_name=chem,
+        inci_names=names, cas_numbers=cas_numbers(row.get("CAS Number", "")),
+        ec_numbers=ec_numbers(row.get("EC Number", "")), parts=parts, purpose=purpose,
+        allergen=annex == "III" and bool(_ALLERGEN.search(other)),
+        regulation=clean(row.get("Regulation", "")),
+        update_date=parse_day(row.get("Update Date", "")), cells=dict(row))
+
+
+def _parts(annex: str, product: str, maximum: str, other: str, wording: str) -> tuple[Part, ...]:
+    p_common, p_parts = split_parts(product)
+    m_common, m_parts = split_parts(maximum)
+    o_common, o_parts = split_parts(other)
+    w_common, w_parts = split_parts(wording)
+    labels: list[str | None] = [*_labels(p_parts, m_parts)] or [None]
+    out = []
+    for label in labels:
+        scope_text = p_parts.get(label, "") if label else p_common
+        if label and p_common and not p_parts:
+            scope_text = p_common
+        max_text = (m_parts.get(label, "") if label else "") or m_common
+        other_text = "\n".join(t for t in (o_common, o_parts.get(label, "") if label else "")
+                               if t.strip())
+        words = "\n".join(t for t in (w_common, w_parts.get(label, "") if label else "")
+                          if t.strip())
+        out.append(_part(label, scope_text, max_text, other_text, words))
+    return tuple(out)
+
+
+def _part(label: str | None, scope_text: str, max_text: str, other: str,
+          wording: str) -> Part:
+    scope = parse_scope(scope_text)
+    max_percent, basis, aggregate, further, parsed = parse_maximum(max_text)
+    unparsed: list[str] = []
+    if not parsed:
+        unparsed.append(f"maximum: {clean(max_text)}")
+    if scope.unparsed:
+        unparsed.append(f"product type: {scope.text}")
+    ph_min, ph_max = ph_limits(f"{other}\n{max_text}")
+    text = f"{max_text}\n{other}\n{wording}"
+    return Part(label=label, scope=scope, max_percent=max_percent, max_text=clean(max_text),
+                basis=basis, aggregate=aggregate, further_limits=further, ph_min=ph_min,
+                ph_max=ph_max, conditions=conditions_of(text), other=clean(other),
+                labelling=clean(wording), unparsed=tuple(unparsed))
+
+
+def entry_keys(annex: str, rows: list[tuple[int, dict[str, str]]]) -> list[str]:
+    """A key per row, unique in the annex: the reference number, or, where the export repeats a
+    number for another substance (it does: III/196, II/38, ...), the number with the
+    substance's first name (and the amending act when the name repeats too).
+
+    Two rows with the same number, the same substance (a shared name or CAS number) and the same
+    amending act are one entry given twice: InvalidData naming both lines.
+    """
+    refs = [clean(row[REF]).replace(" ", "") for _, row in rows]
+    counts: dict[str, int] = {}
+    for ref in refs:
+        counts[ref] = counts.get(ref, 0) + 1
+    keys: list[str] = []
+    seen: dict[str, list[tuple[int, set[str], str]]] = {}
+    for ref, (line, row) in zip(refs, rows, strict=True):
+        if counts[ref] == 1:
+            keys.append(ref)
+            continue
+        glossary = next((row[c] for c in _NAME_COLUMNS if c in row), "")
+        names = split_names(glossary, row.get(IDENTIFIED, ""))
+        chem = clean(row.get("Chemical name / INN", row.get("Chemical name", "")))
+        identity = {n.casefold() for n in names} | set(cas_numbers(row.get("CAS Number", ""))) \
+            | {chem.casefold()}
+        regulation = clean(row.get("Regulation", ""))
+        for other_line, other_identity, other_regulation in seen.get(ref, []):
+            if identity & other_identity and regulation == other_regulation:
+                raise InvalidData(
+                    f"line {line}, field {REF!r}: duplicate reference number {ref!r} "
+                    f"(line {other_line} gives the same substance under the same act "
+                    f"{regulation or '(none)'})",
+                    hint="an annex export lists each entry once; download the export again")
+        seen.setdefault(ref, []).append((line, identity, regulation))
+        label = names[0] if names else chem[:60]
+        key = f"{ref} [{label}]"
+        if key.casefold() in {k.casefold() for k in keys}:
+            key = f"{ref} [{label}, {regulation}]"
+        keys.append(key)
+    return keys

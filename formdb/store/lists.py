@@ -1,0 +1,114 @@
+"""Reads of the regulatory list snapshots: which exports are in force, and the entries that
+match given ingredients (through the indexed ``list_entry_matches``, never a scan of entries).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable
+
+from sqlalchemy import select
+from sqlalchemy.orm import Session
+
+from formdb.schemas.ingredient import IngredientRecord, name_key
+from formdb.schemas.lists import ListEntry, SnapshotInfo
+from formdb.store.models import ListEntryMatch, ListEntryRow, ListIngredient, ListSnapshot
+
+_CHUNK = 500
+
+
+def name_match(name: str) -> str:
+    return f"name:{name_key(name)}"
+
+
+def cas_match(cas: str) -> str:
+    return f"cas:{cas.strip()}"
+
+
+def record_match_keys(record: IngredientRecord) -> set[str]:
+    """The keys a library ingredient matches by: its INCI name, its synonyms, its CAS numbers."""
+    return {name_match(n) for n in (record.inci_name, *record.synonyms)} | \
+        {cas_match(c) for c in record.cas_numbers}
+
+
+def snapshot_info(row: ListSnapshot) -> SnapshotInfo:
+    return SnapshotInfo(
+        id=row.id, jurisdiction=row.jurisdiction, annex=row.annex, file_name=row.file_name,
+        file_created=row.file_created, last_update=row.last_update, file_hash=row.file_hash,
+        entries=row.entry_count, imported_at=row.imported_at.isoformat(),
+        imported_by=row.imported_by, in_force=row.in_force)
+
+
+def snapshots_in_force(session: Session) -> tuple[SnapshotInfo, ...]:
+    rows = session.scalars(select(ListSnapshot).where(ListSnapshot.in_force.is_(True))
+                           .order_by(ListSnapshot.jurisdiction, ListSnapshot.annex))
+    return tuple(snapshot_info(r) for r in rows)
+
+
+def all_snapshots(session: Session) -> tuple[SnapshotInfo, ...]:
+    rows = session.scalars(select(ListSnapshot).order_by(ListSnapshot.id))
+    return tuple(snapshot_info(r) for r in rows)
+
+
+def snapshot_in_force(session: Session, jurisdiction: str, annex: str) -> ListSnapshot | None:
+    return session.scalars(select(ListSnapshot).where(
+        ListSnapshot.jurisdiction == jurisdiction, ListSnapshot.annex == annex,
+        ListSnapshot.in_force.is_(True)).order_by(ListSnapshot.id.desc())).first()
+
+
+def entries_of(session: Session, snapshot_id: int) -> dict[str, ListEntry]:
+    """Every entry of one snapshot by key."""
+    return {row.key: ListEntry.model_validate_json(row.body) for row in session.scalars(
+        select(ListEntryRow).where(ListEntryRow.snapshot_id == snapshot_id))}
+
+
+def entries_matching(session: Session, keys: Iterable[str]) -> dict[str, list[ListEntry]]:
+    """match key -> entries in force found by it (a few queries per call, whatever the count)."""
+    wanted = sorted(set(keys))
+    hits: dict[int, list[str]] = {}
+    for start in range(0, len(wanted), _CHUNK):
+        chunk = wanted[start:start + _CHUNK]
+        for entry_id, key in session.execute(
+                select(ListEntryMatch.entry_id, ListEntryMatch.match_key)
+                .join(ListEntryRow, ListEntryRow.id == ListEntryMatch.entry_id)
+                .join(ListSnapshot, ListSnapshot.id == ListEntryRow.snapshot_id)
+                .where(ListSnapshot.in_force.is_(True), ListEntryMatch.match_key.in_(chunk))):
+            hits.setdefault(entry_id, []).append(key)
+    bodies: dict[int, ListEntry] = {}
+    ids = sorted(hits)
+    for start in range(0, len(ids), _CHUNK):
+        for entry_id, body in session.execute(
+                select(ListEntryRow.id, ListEntryRow.body)
+                .where(ListEntryRow.id.in_(ids[start:start + _CHUNK]))):
+            bodies[entry_id] = ListEntry.model_validate_json(body)
+    out: dict[str, list[ListEntry]] = {}
+    for entry_id in ids:
+        for key in hits[entry_id]:
+            out.setdefault(key, []).append(bodies[entry_id])
+    return out
+
+
+def entries_for_records(session: Session, records: Iterable[IngredientRecord]
+                        ) -> dict[str, tuple[ListEntry, ...]]:
+    """name_key(INCI name) -> the entries in force that match the ingredient, in annex order."""
+    wanted = {name_key(r.inci_name): (r, record_match_keys(r)) for r in records}
+    found = entries_matching(session, (k for _r, keys in wanted.values() for k in keys))
+    out: dict[str, tuple[ListEntry, ...]] = {}
+    for key, (_record, keys) in wanted.items():
+        entries: dict[tuple[str, str, str], ListEntry] = {}
+        for match in keys:
+            for entry in found.get(match, ()):
+                entries[(entry.jurisdiction, entry.annex, entry.key)] = entry
+        out[key] = tuple(entries[k] for k in sorted(entries, key=_order))
+    return out
+
+
+_ANNEX_ORDER = {"II": 0, "III": 1, "IV": 2, "V": 3, "VI": 4}
+
+
+def _order(key: tuple[str, str, str]) -> tuple[str, int, str]:
+    return key[0], _ANNEX_ORDER.get(key[1], 9), key[2]
+
+
+def list_origin(session: Session, ingredient_id: int) -> ListIngredient | None:
+    """The list entry that created an ingredient record, if one did."""
+    return session.get(ListIngredient, ingredient_id)

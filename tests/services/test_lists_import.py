@@ -1,0 +1,314 @@
+"""Importing the Commission's annex exports (Annexes II-VI of Regulation (EC) No 1223/2009).
+
+The entries are checked against the regulation text as amended, naming each entry and the act
+that amended it (Regulation (EC) No 1223/2009 consolidated; the amending acts named per test,
+recalled from the Official Journal texts, and the same values read in the export itself). The
+real exports are read from ../shared/regulatory/ (never copied into the repository); the tests
+skip with a reason when that folder is absent.
+"""
+
+from __future__ import annotations
+
+import shutil
+from pathlib import Path
+
+import pytest
+
+from formdb.errors import InvalidData
+from formdb.schemas.lists import ListEntry
+from formdb.services.lists.importing import import_lists, read_export
+from formdb.store.library import Library
+from tests.conftest import TEST_USER
+from tests.helpers import dump_database, run_formdb
+
+SHARED = Path(__file__).resolve().parents[3] / "shared" / "regulatory" / \
+    "eu-cosing-annexes-2025-10-31"
+if not SHARED.is_dir():  # a worktree sits one level deeper than the main checkout
+    SHARED = Path("/work/shared/regulatory/eu-cosing-annexes-2025-10-31")
+needs_exports = pytest.mark.skipif(
+    not SHARED.is_dir(), reason="the Commission's annex exports (../shared/regulatory/"
+    "eu-cosing-annexes-2025-10-31) are not on this machine")
+
+
+def export(annex: str) -> Path:
+    return SHARED / f"COSING_Annex_{annex}_v2.txt"
+
+
+_parsed: dict[str, dict[str, list[ListEntry]]] = {}
+
+
+def entries(annex: str) -> dict[str, list[ListEntry]]:
+    if annex not in _parsed:
+        by_ref: dict[str, list[ListEntry]] = {}
+        for entry in read_export(export(annex)).entries:
+            by_ref.setdefault(entry.ref, []).append(entry)
+        _parsed[annex] = by_ref
+    return _parsed[annex]
+
+
+def one(annex: str, ref: str) -> ListEntry:
+    found = entries(annex)[ref]
+    assert len(found) == 1
+    return found[0]
+
+
+# ----- the named sample entries, structured ---------------------------------------------------
+
+@needs_exports
+def test_salicylic_acid_iii_98() -> None:
+    """Annex III/98 as amended by Reg. (EU) 2019/1966 and (EU) 2021/850: rinse-off hair products
+    3.0 %, other products 2.0 % except body lotion, eye shadow, mascara, eyeliner, lipstick and
+    roll-on deodorant (0.5 %); for purposes other than inhibiting micro-organisms."""
+    entry = one("III", "98")
+    assert entry.regulation == "(EU) 2021/850"
+    assert "SALICYLIC ACID" in entry.inci_names and "69-72-7" in entry.cas_numbers
+    assert entry.purpose == "not-preservative"
+    a, b, c = entry.parts
+    assert (a.label, a.max_percent, a.scope.categories, a.scope.areas) == \
+        ("a", 3.0, ("rinse-off",), ("hair",))
+    assert (b.max_percent, b.scope.other) == (2.0, True)
+    assert set(b.scope.excluded_products) == {"body lotion", "eye shadow", "mascara",
+                                              "eyeliner", "lipstick", "roll-on deodorant"}
+    assert c.max_percent == 0.5 and set(c.scope.products) == set(b.scope.excluded_products)
+    assert "children under 3 years" in a.conditions
+    assert all(p.structured for p in entry.parts)
+
+
+@needs_exports
+def test_salicylic_acid_preservative_v_3() -> None:
+    """Annex V/3 (Reg. (EU) 2019/1966): salicylic acid and its salts 0.5 % (acid) as a
+    preservative."""
+    entry = one("V", "3")
+    assert entry.purpose == "preservative"
+    assert entry.parts[0].max_percent == 0.5 and entry.parts[0].basis == "as acid"
+    assert len(entry.cas_numbers) == 7  # acid and six salts, each CAS kept
+
+
+@needs_exports
+def test_cetrimonium_chloride_iii_286() -> None:
+    """Annex III/286 (Reg. (EU) No 866/2014): rinse-off hair 2.5 %, leave-on hair 1.0 %,
+    leave-on face 0.5 %, individually or summed with steartrimonium chloride; non-preservative
+    use. The export's typo "STRARTRIMONIUM" is kept, never corrected silently."""
+    entry = one("III", "286")
+    assert entry.regulation == "(EU) 2014/866"
+    assert entry.inci_names[:2] == ("CETRIMONIUM CHLORIDE", "STRARTRIMONIUM CHLORIDE")
+    assert [(p.label, p.max_percent, p.aggregate) for p in entry.parts] == [
+        ("a", 2.5, "sum"), ("b", 1.0, "sum"), ("c", 0.5, "sum")]
+    assert [(p.scope.categories, p.scope.areas) for p in entry.parts] == [
+        (("rinse-off",), ("hair",)), (("leave-on",), ("hair",)), (("leave-on",), ("face",))]
+    assert entry.purpose == "not-preservative"
+
+
+@needs_exports
+def test_sodium_hydroxide_iii_15a() -> None:
+    """Annex III/15a (Reg. (EU) 2016/622): potassium or sodium hydroxide, (a) nail cuticle
+    solvent 5 %, (b) hair straightener 2 % general / 4.5 % professional, (c) pH adjuster for
+    depilatories up to pH 12.7, (d) other uses as pH adjuster up to pH 11."""
+    entry = one("III", "15a")
+    assert entry.regulation == "(EU) 2016/622"
+    assert "SODIUM HYDROXIDE" in entry.inci_names and "1310-73-2" in entry.cas_numbers
+    parts = {p.label: p for p in entry.parts}
+    assert parts["a"].max_percent == 5.0
+    assert parts["b"].max_percent == 2.0 and parts["b"].further_limits
+    assert parts["c"].ph_max == 12.7 and "ph adjuster" in parts["c"].scope.purposes
+    assert parts["d"].ph_max == 11.0 and "ph adjuster" in parts["d"].scope.purposes
+    # "Callosity softener/remover (entry 15d)" rides in the same cell: kept for a person
+    assert any("Callosity" in u for u in parts["d"].unparsed)
+
+
+@needs_exports
+def test_parabens_v_12a() -> None:
+    """Annex V/12a (Reg. (EU) No 1004/2014): butyl- and propylparaben and their salts 0.14 %
+    (as acid) for the sum; not in leave-on products for the nappy area of children under 3."""
+    entry = one("V", "12a")
+    assert entry.regulation == "(EC) 2014/1004"
+    assert {"PROPYLPARABEN", "BUTYLPARABEN"} <= set(entry.inci_names)
+    part = entry.parts[0]
+    assert (part.max_percent, part.basis, part.aggregate) == (0.14, "as acid", "sum")
+    assert part.further_limits  # the 0.8 % for mixtures with entry 12, kept to read
+    assert "children under 3 years" in part.conditions
+    assert "nappy" in part.labelling
+
+
+@needs_exports
+def test_homosalate_vi_3() -> None:
+    """Annex VI/3 as replaced by Reg. (EU) 2022/2195: homosalate 7.34 % in face products, not in
+    propellant sprays; placing from 1 January 2025, making available from 1 July 2025."""
+    entry = one("VI", "3")
+    part = entry.parts[0]
+    assert part.max_percent == pytest.approx(7.34)
+    assert part.scope.areas == ("face",) and part.scope.not_in == ("spray",)
+    assert "1 January 2025" in part.other and "a dated transition" in part.conditions
+    assert entry.inci_names == ("HOMOSALATE",) and entry.cas_numbers == ("118-56-9",)
+
+
+@needs_exports
+def test_butylphenyl_methylpropional_ii() -> None:
+    """Annex II/1666 (Reg. (EU) 2021/1902): 2-(4-tert-butylbenzyl)propionaldehyde prohibited."""
+    entry = one("II", "1666")
+    assert entry.regulation == "(EU) 2021/1902"
+    assert entry.inci_names == ("BUTYLPHENYL METHYLPROPIONAL",)
+    assert entry.cas_numbers == ("80-54-6",) and entry.ec_numbers == ("201-289-8",)
+
+
+@needs_exports
+def test_linalyl_acetate_iii_allergen() -> None:
+    """Annex III/337, added by Reg. (EU) 2023/1545: linalyl acetate named on the label above
+    0.001 % (leave-on) / 0.01 % (rinse-off); one of the extended allergens."""
+    entry = one("III", "337")
+    assert entry.regulation == "(EU) 2023/1545"
+    assert entry.inci_names[0].casefold() == "linalyl acetate"
+    assert entry.allergen and entry.extended_allergen
+    assert one("III", "67").allergen and not one("III", "67").extended_allergen  # amyl cinnamal
+
+
+@needs_exports
+def test_counts_and_coverage() -> None:
+    """Entry counts as the export's README gives them; more than 90 % of parts structured."""
+    counts = {a: sum(len(v) for v in entries(a).values()) for a in ("II", "III", "IV", "V", "VI")}
+    assert counts == {"II": 1744, "III": 373, "IV": 154, "V": 57, "VI": 34}
+    parts = [p for a in ("III", "IV", "V", "VI") for es in entries(a).values() for e in es
+             for p in e.parts]
+    assert sum(p.structured for p in parts) / len(parts) > 0.90
+    # the export repeats some numbers for different substances: both kept, apart
+    assert len(entries("III")["196"]) == 2
+    assert len({e.key for e in entries("III")["196"]}) == 2
+
+
+# ----- importing into a library ---------------------------------------------------------------
+
+@needs_exports
+@pytest.mark.slow
+def test_import_all_five(library_url: str) -> None:
+    files = [export(a) for a in ("II", "III", "IV", "V", "VI")]
+    with Library.open(library_url) as library:
+        dry = import_lists(library, files, user=TEST_USER, dry_run=True)
+    assert dry.dry_run and dry.structured_parts / dry.parts > 0.9
+    before = dump_database(library_url)
+    with Library.open(library_url) as library:
+        result = import_lists(library, files, user=TEST_USER)
+    assert dump_database(library_url) != before
+    by_annex = {a.snapshot.annex: a for a in result.annexes}
+    assert by_annex["II"].snapshot.entries == 1744
+    assert str(by_annex["III"].snapshot.last_update) == "2025-10-31"
+    assert str(by_annex["III"].snapshot.file_created) == "2025-11-11"
+    assert by_annex["III"].ingredients_created > 0
+    assert [a.ingredients_created for a in dry.annexes] == \
+        [a.ingredients_created for a in result.annexes]
+    # the same files again: nothing changes
+    with Library.open(library_url) as library:
+        again = import_lists(library, files, user=TEST_USER)
+    assert all(a.unchanged for a in again.annexes)
+
+
+def _copy(tmp_path: Path, annex: str, edit: object = None) -> Path:
+    target = tmp_path / f"COSING_Annex_{annex}_v2.txt"
+    text = export(annex).read_text(encoding="utf-8")
+    if callable(edit):
+        text = edit(text)
+    target.write_text(text, encoding="utf-8", newline="")
+    return target
+
+
+@needs_exports
+def test_not_an_annex_export(tmp_path: Path, sqlite_url: str) -> None:
+    bad = tmp_path / "supplier.csv"
+    bad.write_text("inci_name,hlb\nPolysorbate 80,15\n", encoding="utf-8")
+    before = dump_database(sqlite_url)
+    result = run_formdb(["--db", sqlite_url, "lists", "import", str(bad)])
+    assert result.exit_code == 2
+    assert result.stderr.count("Error:") == 1 and "not an annex export" in result.stderr
+    assert str(bad) in result.stderr and "Traceback" not in result.stderr
+    assert dump_database(sqlite_url) == before
+
+
+@needs_exports
+def test_truncated_export(tmp_path: Path, sqlite_url: str) -> None:
+    cut = _copy(tmp_path, "V", lambda t: t[: len(t) // 2])
+    before = dump_database(sqlite_url)
+    good = export("VI")
+    result = run_formdb(["--db", sqlite_url, "lists", "import", str(good), str(cut)])
+    assert result.exit_code == 2 and "truncated" in result.stderr and str(cut) in result.stderr
+    assert "line" in result.stderr
+    assert dump_database(sqlite_url) == before  # the good file is not imported either
+
+
+@needs_exports
+def test_truncated_on_a_row_boundary(tmp_path: Path) -> None:
+    def cut(text: str) -> str:
+        lines = text.splitlines(keepends=True)
+        return "".join(lines[:40]) + lines[40][:25]  # a row cut mid-way, no closing quote/cells
+    with pytest.raises(InvalidData, match="line"):
+        read_export(_copy(tmp_path, "VI", cut))
+
+
+@needs_exports
+def test_duplicate_reference(tmp_path: Path, sqlite_url: str) -> None:
+    def twice(text: str) -> str:
+        start = text.index("\n3,")  # the row of V/3, given a second time at the end
+        end = text.index("\n4,", start)
+        return text + text[start + 1:end + 1]
+    dup = _copy(tmp_path, "V", twice)
+    before = dump_database(sqlite_url)
+    result = run_formdb(["--db", sqlite_url, "lists", "import", str(dup)])
+    assert result.exit_code == 2
+    assert "duplicate reference number '3'" in result.stderr and str(dup) in result.stderr
+    assert dump_database(sqlite_url) == before
+
+
+@needs_exports
+def test_older_over_newer_refused_unless_asked(tmp_path: Path, sqlite_url: str) -> None:
+    older = _copy(tmp_path, "VI", lambda t: t.replace("Last update: 31/10/2025",
+                                                      "Last update: 30/06/2024"))
+    assert run_formdb(["--db", sqlite_url, "lists", "import", str(export("VI"))]).exit_code == 0
+    before = dump_database(sqlite_url)
+    refused = run_formdb(["--db", sqlite_url, "lists", "import", str(older)])
+    assert refused.exit_code == 2 and "older than the one in force" in refused.stderr
+    assert refused.stderr.count("Error:") == 1
+    assert dump_database(sqlite_url) == before
+    asked = run_formdb(["--db", sqlite_url, "lists", "import", "--allow-older", str(older)])
+    assert asked.exit_code == 0, asked.stderr
+    status = run_formdb(["--db", sqlite_url, "lists", "status"])
+    assert "last update 30/06/2024" in status.stdout
+
+
+@needs_exports
+def test_update_names_what_changed(tmp_path: Path, sqlite_url: str) -> None:
+    """A newer export: entries added, removed and changed, each old -> new."""
+    def newer(text: str) -> str:
+        text = text.replace("Last update: 31/10/2025", "Last update: 30/11/2025")
+        text = text.replace('"Face products with the exception of propellent spray products",'
+                            '"7,34 %"', '"Face products with the exception of propellent spray '
+                            'products","6,5 %"')
+        start = text.index("\n4,")  # VI/4 removed
+        end = text.index("\n5,", start)
+        return text[:start] + text[end:]
+    changed = _copy(tmp_path, "VI", newer)
+    assert run_formdb(["--db", sqlite_url, "lists", "import", str(export("VI"))]).exit_code == 0
+    result = run_formdb(["--db", sqlite_url, "lists", "import", str(changed)])
+    assert result.exit_code == 0, result.stderr
+    out = result.stdout
+    assert "entries added 0, removed 1, changed 1" in out
+    assert "removed: EU Annex VI/4" in out
+    assert "changed: EU Annex VI/3 (HOMOSALATE)" in out
+    assert "'7,34 %' -> '6,5 %'" in out
+    show = run_formdb(["--db", sqlite_url, "lists", "show", "VI/3"])
+    assert "max 6.5 %" in show.stdout
+
+
+@needs_exports
+def test_dry_run_writes_nothing(sqlite_url: str) -> None:
+    before = dump_database(sqlite_url)
+    result = run_formdb(["--db", sqlite_url, "lists", "import", "--dry-run", str(export("V"))])
+    assert result.exit_code == 0 and result.stdout.startswith("Dry run")
+    assert "Parse coverage:" in result.stdout
+    assert dump_database(sqlite_url) == before
+
+
+@needs_exports
+def test_dry_run_of_a_copy(tmp_path: Path, sqlite_url: str) -> None:
+    """The file name does not matter; the title lines and the header do."""
+    renamed = tmp_path / "annex-five.csv"
+    shutil.copy(export("V"), renamed)
+    result = run_formdb(["--db", sqlite_url, "lists", "import", "--dry-run", str(renamed)])
+    assert result.exit_code == 0 and "EU Annex V (allowed preservatives)" in result.stdout
