@@ -33,12 +33,14 @@ def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
     emulsifier_percent = sum(e.percent for e in emulsifiers)
     by_no = {ln.line_no: ln.ingredient for ln in formula.lines}
     co_emulsifiers = tuple(lf.inci for lf in lines if is_co_emulsifier_only(by_no[lf.line_no]))
-    blend, blend_covered = hlb.blend(emulsifiers, emulsifier_percent, work)
+    blend, blend_covered, system = hlb.blend(emulsifiers, emulsifier_percent,
+                                             settings.min_blend_hlb_coverage, work)
 
-    kind = emulsion_type(formula, emulsifiers, blend, settings, work)
+    kind = emulsion_type(formula, emulsifiers, blend, blend_covered, settings, work)
     rhlb_ow = hlb.required(formula, lines, EmulsionType.OW, work)
     rhlb_wo = hlb.required(formula, lines, EmulsionType.WO, work)
-    required = hlb.working_required(kind.working, rhlb_ow, rhlb_wo, work)
+    required, coverage = hlb.working_required(kind.working, rhlb_ow, rhlb_wo,
+                                              settings.min_required_hlb_coverage, work)
     tol = settings.hlb_tolerance
     solution = hlb.solve(required, emulsifiers) if required is not None else None
 
@@ -52,7 +54,8 @@ def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
         lines=tuple(lines), emulsifiers=tuple(emulsifiers),
         emulsifier_percent=emulsifier_percent, co_emulsifiers=co_emulsifiers,
         soaps=tuple(s.facts for s in work.soaps), blend_hlb=blend,
-        blend_hlb_covered_percent=blend_covered,
+        blend_hlb_covered_percent=blend_covered, hlb_system=system,
+        required_hlb_coverage=coverage,
         required_hlb_ow=rhlb_ow, required_hlb_wo=rhlb_wo,
         working_type=kind.working, working_type_source=kind.source,
         required_hlb=required,
@@ -61,7 +64,8 @@ def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
         blend_solution=solution,
         water_side_emulsifier_percent=kind.water_side, oil_side_emulsifier_percent=kind.oil_side,
         type_by_bancroft=kind.by_bancroft, type_by_hlb=kind.by_hlb,
-        predicted_type=kind.predicted, types_disagree=kind.disagree, phases=phases.facts,
+        predicted_type=kind.predicted, types_disagree=kind.disagree,
+        type_decision=kind.decision, phases=phases.facts,
         dispersed_phase=phases.dispersed,
         dispersed_fraction=phases.fraction, packing_limit=CLOSE_PACKING,
         random_close_packing=RANDOM_CLOSE_PACKING, interface=interface, creaming=creaming,

@@ -1,17 +1,29 @@
-"""The emulsion type: Bancroft's rule on the emulsifier sides beside the blend HLB's class
-(``science.emulsion_type.predict_type``), and the working type the rest of the facts use (the
-intended type, else the prediction)."""
+"""The emulsion type of the emulsifier system as a whole (``science.emulsion_type``'s decision
+table), its indicators, and the working type the rest of the facts use (the intended type, else
+the decided one).
+
+Three indicators: the blend HLB's class (Griffin members only, given only with enough coverage),
+the soap and ionic members (each favours the side it dissolves on: monovalent soaps and water-
+soluble ionic surfactants O/W, divalent and trivalent soaps W/O) and the solubility split of all
+the members by mass (Bancroft's rule read as a vote; supporting only).
+"""
 
 from __future__ import annotations
 
 from dataclasses import dataclass
 from typing import Literal
 
+from formdb.facts.hlb import IONISED
 from formdb.facts.work import Work
 from formdb.schemas.formula import ResolvedFormula
-from formdb.schemas.result import EmulsifierFacts, FactsSettings
+from formdb.schemas.result import (
+    EmulsifierFacts,
+    FactsSettings,
+    TypeDecision,
+    TypeIndicator,
+)
 from formdb.schemas.vocab import EmulsionType
-from formdb.science.emulsion_type import predict_type
+from formdb.science.emulsion_type import decide_type, predict_type
 
 
 @dataclass(frozen=True)
@@ -24,21 +36,61 @@ class TypeFacts:
     disagree: bool
     working: EmulsionType | None
     source: Literal["intended", "predicted"] | None
+    decision: TypeDecision
+
+
+def is_ionic_member(e: EmulsifierFacts) -> bool:
+    """A soap formed in place, a Davies-scale member, or an ionic member with no HLB."""
+    return e.formed_in_place or e.scale == "davies" or (
+        e.hlb is None and e.ionic_character in IONISED)
+
+
+def _ionic_indicator(emulsifiers: list[EmulsifierFacts]) -> TypeIndicator | None:
+    members = [e for e in emulsifiers if is_ionic_member(e) and e.side is not None]
+    if not members:
+        return None
+    water = sum(e.percent for e in members if e.side == "water")
+    oil = sum(e.percent for e in members if e.side == "oil")
+    favours = (EmulsionType.OW if water > oil else EmulsionType.WO if oil > water else None)
+    words = ", ".join(f"{e.inci} ({'water' if e.side == 'water' else 'oil'}-soluble)"
+                      for e in members)
+    return TypeIndicator(name="soap and ionic", favours=favours, mass_percent=water + oil,
+                         detail=words)
 
 
 def emulsion_type(formula: ResolvedFormula, emulsifiers: list[EmulsifierFacts],
-                  blend: float | None, settings: FactsSettings, work: Work) -> TypeFacts:
+                  blend: float | None, griffin_percent: float, settings: FactsSettings,
+                  work: Work) -> TypeFacts:
     water_side = sum(e.percent for e in emulsifiers if e.side == "water")
     oil_side = sum(e.percent for e in emulsifiers if e.side == "oil")
     prediction = predict_type(water_side, oil_side, blend, margin=settings.bancroft_margin,
                               wo_max=settings.hlb_wo_max, ow_min=settings.hlb_ow_min)
-    predicted = prediction.predicted
+    indicators: list[TypeIndicator] = []
+    if blend is not None:
+        indicators.append(TypeIndicator(
+            name="hlb class", favours=prediction.by_hlb, mass_percent=griffin_percent,
+            detail=f"blend HLB {blend:.2f} (W/O at or below {settings.hlb_wo_max:g}, O/W at "
+                   f"or above {settings.hlb_ow_min:g})"))
+    ionic = _ionic_indicator(emulsifiers)
+    if ionic is not None:
+        indicators.append(ionic)
+    if water_side + oil_side > 0:
+        indicators.append(TypeIndicator(
+            name="solubility split", favours=prediction.bancroft,
+            mass_percent=water_side + oil_side,
+            detail=f"water-soluble {water_side:.4g} % vs oil-soluble {oil_side:.4g} %"))
+    decided = decide_type(prediction.by_hlb, griffin_percent,
+                          ionic.favours if ionic else None, ionic.mass_percent if ionic else 0.0,
+                          prediction.bancroft)
     if emulsifiers and water_side + oil_side > 0 and prediction.bancroft is None:
-        work.note("Bancroft's rule predicts no type: the emulsifier system is split about "
-                  "evenly between water- and oil-soluble members")
+        work.note("the solubility split gives no type: the emulsifier members are split about "
+                  "evenly between water- and oil-soluble")
+    given = {i.favours for i in indicators if i.favours is not None}
     intended = formula.formula.intended_type
-    working = intended or predicted
+    working = intended or decided.predicted
     source: Literal["intended", "predicted"] | None = (
-        "intended" if intended else ("predicted" if predicted else None))
-    return TypeFacts(water_side, oil_side, prediction.bancroft, prediction.by_hlb, predicted,
-                     prediction.disagree, working, source)
+        "intended" if intended else ("predicted" if decided.predicted else None))
+    decision = TypeDecision(predicted=decided.predicted, row=decided.row, strong=decided.strong,
+                            indicators=tuple(indicators))
+    return TypeFacts(water_side, oil_side, prediction.bancroft, prediction.by_hlb,
+                     decided.predicted, len(given) > 1, working, source, decision)

@@ -11,9 +11,17 @@ from __future__ import annotations
 from formdb.facts.phases import is_co_emulsifier_only
 from formdb.facts.work import Work
 from formdb.schemas.formula import ResolvedFormula
-from formdb.schemas.result import BlendSolution, EmulsifierFacts, LineFacts, RequiredHlbFacts
+from formdb.schemas.result import (
+    BlendSolution,
+    EmulsifierFacts,
+    HlbSystemFacts,
+    LineFacts,
+    RequiredHlbFacts,
+)
 from formdb.schemas.vocab import EmulsionType, IonicCharacter, Role, Solubility
-from formdb.science.hlb import UnreachableHlb, blend_fractions, blend_hlb, required_hlb
+from formdb.science.hlb import UnreachableHlb, blend_fractions, blend_hlb, hlb_scale, required_hlb
+
+IONISED = frozenset({IonicCharacter.ANIONIC, IonicCharacter.CATIONIC})
 
 # an ingredient with one of these roles has a required HLB of its own, far from its HLB as an
 # emulsifier (cetyl alcohol: HLB 1, required HLB about 15; science.md section 1), so its HLB
@@ -44,19 +52,66 @@ def emulsifiers(formula: ResolvedFormula, lines: list[LineFacts],
     return [EmulsifierFacts(inci=m[0], percent=m[1], hlb=m[2], solubility=m[3],
                             ionic_character=m[4], share=m[1] / total if total > 0 else 0.0,
                             formed_in_place=m[5], line_no=m[6],
-                            side=m[7])
+                            side=m[7],
+                            scale=None if m[2] is None else hlb_scale(
+                                m[2], m[5] or m[4] in IONISED))
             for m in members]
 
 
-def blend(emulsifiers: list[EmulsifierFacts], emulsifier_percent: float,
-          work: Work) -> tuple[float | None, float]:
-    """The blend HLB of the members with an HLB, and the % it covers."""
-    known = [(e.percent, float(e.hlb)) for e in emulsifiers if e.hlb is not None and e.percent > 0]
-    value = blend_hlb(known) if known else None
-    if value is not None and len(known) < len(emulsifiers):
-        work.note(f"blend HLB covers {sum(m for m, _ in known):.4g} of "
-                  f"{emulsifier_percent:.4g} % emulsifier (the rest has no HLB)")
-    return value, sum(m for m, _ in known)
+def griffin_members(emulsifiers: list[EmulsifierFacts] | tuple[EmulsifierFacts, ...]
+                    ) -> list[EmulsifierFacts]:
+    """The members whose HLB is on Griffin's scale (the only ones a blend HLB averages)."""
+    return [e for e in emulsifiers if e.hlb is not None and e.percent > 0
+            and e.scale == "griffin"]
+
+
+def blend(emulsifiers: list[EmulsifierFacts], emulsifier_percent: float, min_coverage: float,
+          work: Work) -> tuple[float | None, float, HlbSystemFacts | None]:
+    """The blend HLB on Griffin's scale, the % it covers and the system's scale facts.
+
+    Davies-scale members (ionic surfactants, soaps) are not averaged in. The blend HLB is given
+    only when the Griffin members make up at least ``min_coverage`` of the emulsifier system;
+    otherwise it rests on too little of the system to judge by (None, with a note).
+    """
+    if not emulsifiers:
+        return None, 0.0, None
+    griffin = griffin_members(emulsifiers)
+    g_mass = sum(e.percent for e in griffin)
+    d_mass = sum(e.percent for e in emulsifiers if e.hlb is not None and e.scale == "davies")
+    n_mass = sum(e.percent for e in emulsifiers if e.hlb is None)
+    raw = blend_hlb([(e.percent, float(e.hlb or 0.0)) for e in griffin]) if griffin else None
+    coverage = g_mass / emulsifier_percent if emulsifier_percent > 0 else 0.0
+    ionic_mass = sum(e.percent for e in emulsifiers
+                     if e.scale == "davies" or e.formed_in_place
+                     or (e.hlb is None and e.ionic_character in IONISED))
+    led_by = "none" if emulsifier_percent <= 0 else (
+        "ionic" if ionic_mass > g_mass else "nonionic")
+    enough = raw is not None and coverage + 1e-9 >= min_coverage
+    davies = [e.inci for e in emulsifiers if e.scale == "davies"]
+    if enough:
+        assessment = "Griffin balance: the blend HLB of the nonionic members against the " \
+                     "required HLB"
+        if davies:
+            work.note(f"{', '.join(davies)}: HLB on Davies' scale (ionic), not averaged with "
+                      "Griffin's values; the blend HLB is that of the nonionic members")
+    elif led_by == "ionic":
+        assessment = ("led by ionic members (soap or ionic surfactant): no HLB balance; the "
+                      "type is judged by their ionic character and soap valence")
+    else:
+        assessment = (f"no HLB verdict: Griffin-scale values cover {coverage:.0%} of the "
+                      f"emulsifier system, below {min_coverage:.0%}")
+    if raw is not None and not enough:
+        work.note(f"blend HLB {raw:.2f} of {', '.join(e.inci for e in griffin)} covers "
+                  f"{coverage:.0%} of the emulsifier system (at least {min_coverage:.0%} "
+                  "needed): no blend HLB verdict")
+    elif raw is not None and n_mass > 0:
+        work.note(f"blend HLB covers {g_mass:.4g} of {emulsifier_percent:.4g} % emulsifier "
+                  "(the rest has no HLB)")
+    system = HlbSystemFacts(
+        griffin_percent=g_mass, davies_percent=d_mass, no_hlb_percent=n_mass,
+        griffin_value=raw, coverage=coverage, min_coverage=min_coverage,
+        led_by=led_by, assessment=assessment)
+    return (raw if enough else None), g_mass, system
 
 
 def required(formula: ResolvedFormula, lines: list[LineFacts], kind: EmulsionType,
@@ -86,22 +141,36 @@ def required(formula: ResolvedFormula, lines: list[LineFacts], kind: EmulsionTyp
 
 
 def working_required(working: EmulsionType | None, rhlb_ow: RequiredHlbFacts,
-                     rhlb_wo: RequiredHlbFacts, work: Work) -> float | None:
-    """The required HLB for the working type (gaps for the members without one)."""
+                     rhlb_wo: RequiredHlbFacts, min_coverage: float,
+                     work: Work) -> tuple[float | None, float | None]:
+    """The required HLB for the working type and the share of the counted oil phase it rests
+    on; the value is None below ``min_coverage`` (gaps for the members without one)."""
     if working is None:
         work.note("no intended type and no prediction: required HLB, dispersed phase and "
                   "interface are not worked out")
-        return None
+        return None, None
     chosen = rhlb_ow if working == EmulsionType.OW else rhlb_wo
     prop = "required_hlb_ow" if working == EmulsionType.OW else "required_hlb_wo"
+    coverage = (chosen.covered_percent / chosen.members_percent
+                if chosen.members_percent > 0 else None)
+    enough = coverage is not None and coverage + 1e-9 >= min_coverage
+    detail = "" if enough or coverage is None else (
+        f"the values cover {coverage:.0%} of the oil phase, below {min_coverage:.0%}: "
+        "no balance verdict")
     for name in chosen.missing:
-        work.gap(prop, name, f"required HLB ({working.value})")
-    return chosen.value
+        work.gap(prop, name, f"required HLB ({working.value})", detail)
+    if chosen.value is not None and not enough:
+        work.note(f"required HLB ({working.value}) {chosen.value:.2f} rests on "
+                  f"{chosen.covered_percent:.4g} of {chosen.members_percent:.4g} % oil phase "
+                  f"({coverage:.0%}; at least {min_coverage:.0%} needed): no balance verdict "
+                  "and no ratio advice")
+        return None, coverage
+    return chosen.value, coverage
 
 
 def solve(target: float, emulsifiers: list[EmulsifierFacts]) -> BlendSolution | None:
     """The proportions of the present emulsifiers that give ``target`` (or how far they reach)."""
-    known = [e for e in emulsifiers if e.hlb is not None and e.percent > 0]
+    known = griffin_members(emulsifiers)
     if not known:
         return None
     hlbs = tuple(float(e.hlb) for e in known if e.hlb is not None)

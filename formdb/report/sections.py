@@ -20,6 +20,7 @@ from formdb.schemas.result import (
 from formdb.schemas.vocab import EmulsionType
 
 SIDE_WORDS = {"oil": "oil", "water": "water", "none": "neither", None: n.DASH}
+SCALE_WORDS = {"griffin": "Griffin", "davies": "Davies", None: n.DASH}
 
 
 def _phase_letter(line: LineFacts) -> str:
@@ -82,10 +83,11 @@ def _origin(member: EmulsifierFacts) -> str:
 
 
 def _emulsifier_table(facts: FormulaFacts) -> Block:
-    rows = [(e.inci, n.percent(e.percent, ""), n.hlb(e.hlb), n.share(e.share),
-             SIDE_WORDS.get(e.side, n.DASH), _origin(e)) for e in facts.emulsifiers]
-    return table(("Emulsifier", "% w/w", "HLB", "Share of system", "Side (Bancroft)", "Origin"),
-                 rows, "snnnss", "Emulsifier system")
+    rows = [(e.inci, n.percent(e.percent, ""), n.hlb(e.hlb), SCALE_WORDS.get(e.scale, n.DASH),
+             n.share(e.share), SIDE_WORDS.get(e.side, n.DASH), _origin(e))
+            for e in facts.emulsifiers]
+    return table(("Emulsifier", "% w/w", "HLB", "Scale", "Share of system", "Dissolves in",
+                  "Origin"), rows, "snnsnss", "Emulsifier system")
 
 
 def _soap_lines(soap: SoapFacts) -> list[Line]:
@@ -117,24 +119,34 @@ def _required_line(req: RequiredHlbFacts, working: bool) -> Line:
     if not req.missing:
         return Line(label, f"{n.hlb(req.value)} (weight average over the "
                            f"{n.percent(req.members_percent)} of oil phase that counts)")
+    cover = req.covered_percent / req.members_percent
     return Line(label, f"{n.hlb(req.value)} (weight average over "
                        f"{n.percent(req.covered_percent, '')} of "
-                       f"{n.percent(req.members_percent)}; no value for "
-                       f"{', '.join(req.missing)})", flag)
+                       f"{n.percent(req.members_percent)}, {cover:.0%} of the oil phase; no "
+                       f"value for {', '.join(req.missing)})", flag)
 
 
 def _blend_line(facts: FormulaFacts) -> Line:
     if not facts.emulsifiers:
         return Line("Blend HLB", "not worked out: no emulsifier, and no soap formed in the batch",
                     "bad")
+    system = facts.hlb_system
     if facts.blend_hlb is None:
-        return Line("Blend HLB", "not worked out: no emulsifier has an HLB in the library", "warn")
+        if system is None or (system.griffin_value is None and system.led_by != "ionic"):
+            return Line("Blend HLB", "not worked out: no emulsifier has an HLB in the library",
+                        "warn")
+        alone = (f"; the Griffin-scale members alone give {n.hlb(system.griffin_value)}"
+                 if system.griffin_value is not None else "")
+        return Line("Blend HLB", f"not judged: {system.assessment}{alone}",
+                    "" if system.led_by == "ionic" else "warn")
     covered = ""
-    if facts.blend_hlb_covered_percent + 1e-9 < facts.emulsifier_percent:
-        covered = (f"; covers only {n.percent(facts.blend_hlb_covered_percent)} of "
-                   f"{n.percent(facts.emulsifier_percent)}")
-    return Line("Blend HLB", f"{n.hlb(facts.blend_hlb)} (weight average of the emulsifier "
-                             f"system, Griffin's additivity{covered})")
+    if system is not None and system.coverage < 1 - 1e-9:
+        covered = (f"; rests on {n.percent(facts.blend_hlb_covered_percent)} of "
+                   f"{n.percent(facts.emulsifier_percent)} ({system.coverage:.0%} of the system)")
+    davies = [e.inci for e in facts.emulsifiers if e.scale == "davies"]
+    apart = (f"; {', '.join(davies)} on Davies' scale, not averaged in" if davies else "")
+    return Line("Blend HLB", f"{n.hlb(facts.blend_hlb)} (weight average of the Griffin-scale "
+                             f"members, Griffin's additivity{covered}{apart})")
 
 
 def _band_lines(facts: FormulaFacts) -> list[Line]:
@@ -225,36 +237,48 @@ def hlb_section(facts: FormulaFacts) -> Section:
 def _bancroft_line(facts: FormulaFacts) -> Line:
     water, oil = facts.water_side_emulsifier_percent, facts.oil_side_emulsifier_percent
     split = f"water-soluble {n.percent(water)} vs oil-soluble {n.percent(oil)}"
+    label = "Solubility split"
     if water + oil <= 0:
-        return Line("By Bancroft's rule", "no prediction: no emulsifier with a known solubility")
+        return Line(label, "no indication: no emulsifier with a known solubility")
     if facts.type_by_bancroft is None:
-        return Line("By Bancroft's rule", f"no prediction, evenly split ({split})", "warn")
-    return Line("By Bancroft's rule", f"{facts.type_by_bancroft.value}: the continuous phase is "
-                                      f"the one the emulsifiers dissolve in ({split})")
+        return Line(label, f"no indication, evenly split ({split})")
+    return Line(label, f"{facts.type_by_bancroft.value} by mass of the members ({split}); "
+                       "a supporting indicator only")
 
 
 def _hlb_class_line(facts: FormulaFacts) -> Line:
     s = facts.settings
     bounds = f"W/O at or below {s.hlb_wo_max:g}, O/W at or above {s.hlb_ow_min:g}"
     if facts.blend_hlb is None:
-        return Line("By HLB class", "no prediction: no blend HLB")
+        return Line("By HLB class", "no indication: no blend HLB to judge by")
     if facts.type_by_hlb is None:
-        return Line("By HLB class", f"no prediction: blend HLB {n.hlb(facts.blend_hlb)} lies "
+        return Line("By HLB class", f"no indication: blend HLB {n.hlb(facts.blend_hlb)} lies "
                                     f"between the classes ({bounds})", "warn")
     return Line("By HLB class", f"{facts.type_by_hlb.value}: blend HLB "
                                 f"{n.hlb(facts.blend_hlb)} ({bounds})")
 
 
+def _ionic_line(facts: FormulaFacts) -> Line | None:
+    decision = facts.type_decision
+    ionic = next((i for i in decision.indicators if i.name == "soap and ionic"), None) \
+        if decision else None
+    if ionic is None:
+        return None
+    favours = ionic.favours.value if ionic.favours else "no indication (evenly split)"
+    return Line("Soap and ionic", f"{favours}: {ionic.detail}")
+
+
 def _agreement_lines(result: CheckResult) -> list[Line]:
     facts, out = result.facts, []
     if facts.types_disagree:
-        out.append(Line("Agreement", "the two predictions disagree: the type is uncertain; "
-                                     "make a small test batch and check it by dilution", "warn"))
-    elif facts.type_by_bancroft and facts.type_by_hlb:
-        out.append(Line("Agreement", "both predictions agree", "ok"))
+        out.append(Line("Agreement", "the indicators disagree (information, not a fault); "
+                                     "confirm the type on the first batch by dilution"))
+    elif facts.type_decision and len([i for i in facts.type_decision.indicators
+                                      if i.favours is not None]) > 1:
+        out.append(Line("Agreement", "the indicators agree", "ok"))
     intended, predicted = result.intended_type, facts.predicted_type
     if intended and predicted and intended != predicted:
-        out.append(Line("Against intended", f"intended {intended.value} but predicted "
+        out.append(Line("Against intended", f"intended {intended.value} but the system gives "
                                             f"{predicted.value}", "bad"))
     elif intended and predicted:
         out.append(Line("Against intended", f"matches the intended {intended.value}", "ok"))
@@ -263,10 +287,11 @@ def _agreement_lines(result: CheckResult) -> list[Line]:
 
 def prediction_section(result: CheckResult) -> Section:
     facts = result.facts
+    decision = facts.type_decision
     predicted = facts.predicted_type.value if facts.predicted_type else "none"
-    items = [_bancroft_line(facts), _hlb_class_line(facts),
-             Line("Predicted type", f"{predicted} (Bancroft's rule first, HLB class when it "
-                                    "gives none)"),
+    row = f" ({decision.row}{'' if decision.strong else '; weak evidence'})" if decision else ""
+    items = [_hlb_class_line(facts), _ionic_line(facts), _bancroft_line(facts),
+             Line("Decided type", f"{predicted}{row}"),
              *_agreement_lines(result)]
     return Section("Emulsion type", (lines(*items),))
 

@@ -1,73 +1,132 @@
-"""TYP01: the predicted emulsion type against the intended one, and the two predictions."""
+"""TYP01: the emulsion type the emulsifier system gives against the intended one."""
 
 from __future__ import annotations
 
 from collections.abc import Iterable, Mapping
-from typing import Any
+from typing import Any, ClassVar
 
-from formdb.rules.base import Rule
+from formdb.rules.base import Option, Rule
 from formdb.rules.registry import register
 from formdb.schemas.findings import Finding
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.reference import ReferenceData
-from formdb.schemas.result import FormulaFacts
-from formdb.schemas.vocab import Severity
+from formdb.schemas.result import FormulaFacts, TypeIndicator
+from formdb.schemas.vocab import EmulsionType, Severity
 
 
 def _value(kind: object) -> str | None:
     return getattr(kind, "value", None)
 
 
+def _indicator_text(ind: TypeIndicator) -> str:
+    favours = ind.favours.value if ind.favours else "no type"
+    return f"{ind.name}: {favours} ({ind.detail})"
+
+
+def strong_contradiction(facts: FormulaFacts, intended: EmulsionType,
+                         options: Mapping[str, Any]) -> str | None:
+    """Why the evidence against the intended type is strong, or None when it is not."""
+    decision = facts.type_decision
+    if decision is None or decision.predicted is None or decision.predicted == intended:
+        return None
+    blend = facts.blend_hlb
+    by_name = {i.name: i for i in decision.indicators}
+    hlb = by_name.get("hlb class")
+    ionic = by_name.get("soap and ionic")
+    if blend is not None and hlb is not None and hlb.favours == decision.predicted:
+        if intended == EmulsionType.OW and blend < options["strong_wo_below"]:
+            return (f"blend HLB {blend:.2f} is below {options['strong_wo_below']:g}, in "
+                    "Griffin's W/O range")
+        if intended == EmulsionType.WO and blend > options["strong_ow_above"]:
+            return (f"blend HLB {blend:.2f} is above {options['strong_ow_above']:g}: the "
+                    "system is water-soluble")
+    griffin = facts.hlb_system.griffin_percent if facts.hlb_system else 0.0
+    if hlb is None and griffin <= 0 and ionic is not None and ionic.favours == decision.predicted:
+        wanted = "water" if intended == EmulsionType.OW else "oil"
+        on_side = [e for e in facts.emulsifiers if e.side == wanted]
+        if not on_side:
+            kind = "divalent or trivalent soap" if intended == EmulsionType.OW else \
+                "monovalent soap or water-soluble ionic surfactant"
+            return f"the only emulsifiers are {ionic.detail}: a {kind} gives " \
+                   f"{decision.predicted.value}"
+    return None
+
+
 @register
 class EmulsionTypeCheck(Rule):
-    """The emulsion type predicted from the emulsifiers is not the type intended.
+    """The emulsion type the emulsifier system gives is not the type intended.
 
-    Flags: an error when the predicted type (Bancroft's rule, or the blend HLB's class when
-    Bancroft's rule gives none) differs from the formula's intended_type; a warning when
-    Bancroft's rule and the HLB class predict different types.
-    Why: Bancroft (J. Phys. Chem. 17 (1913) 501): the phase the emulsifier system dissolves in
-    becomes the continuous phase. Griffin's HLB classes (below about 7: W/O, above about 8: O/W)
-    say the same from the HLB. A water-soluble system cannot hold a W/O cream; when the two
-    predictions disagree the type depends on process and is not reliable.
-    Fails: intended W/O with Polysorbate 80 as the only emulsifier (water-soluble, HLB 15:
-    predicted O/W).
-    Passes: intended W/O with Oleic Acid neutralised by Magnesium Oxide (a divalent soap,
-    oil-soluble: predicted W/O).
-    Options: none (the HLB class bounds are [facts] hlb_wo_max and hlb_ow_min).
+    Flags: the type decided from the emulsifier system as a whole against the formula's
+    intended_type. An error only on strong evidence: a blend HLB below strong_wo_below (6) for an
+    intended O/W, above strong_ow_above (10) for an intended W/O, or soap/ionic members alone on
+    the wrong side (a divalent soap as the only emulsifier of an O/W). A warning when the
+    decided type differs on weaker evidence. An info naming the indicators when they disagree
+    among themselves (never an error by itself).
+    Decision table (formdb.science.emulsion_type.decide_type): the blend HLB's class (Griffin
+    members only; W/O at or below 6, O/W at or above 8) and the soap/ionic members (monovalent
+    soaps and water-soluble ionic surfactants O/W, divalent and trivalent soaps W/O) decide; when
+    both give a type and agree, or one gives it alone, that type (strong); when they disagree,
+    the one behind more emulsifier mass (weak); when neither gives one, the solubility split of
+    the members by mass (weak); else no prediction.
+    Why: Bancroft (J. Phys. Chem. 17 (1913) 501): the continuous phase is the one the
+    emulsifier system dissolves in. The blend HLB measures the system's solubility better than
+    a vote of member masses: Griffin's O/W pair sorbitan oleate 3 + polysorbate 80 2 (blend 8.58)
+    makes O/W though most of its mass is oil-soluble (Griffin, J. Soc. Cosmet. Chem. 1 (1949)
+    311: W/O emulsifiers about 3-6, O/W about 8-18; HLB above about 10 water-soluble).
+    Fails: intended W/O with Polysorbate 80 as the only emulsifier (HLB 15 > 10: error);
+    intended O/W with Sorbitan Oleate alone (HLB 4.3 < 6: error).
+    Passes: intended O/W with Sorbitan Oleate 3 and Polysorbate 80 2 (blend 8.58: O/W); intended
+    W/O with Oleic Acid and Magnesium Oxide (magnesium oleate, divalent soap: W/O).
+    Options: strong_wo_below (default 6.0) and strong_ow_above (default 10.0): the blend HLBs
+    beyond which a contradiction of the intended type is an error; the class bounds are [facts]
+    hlb_wo_max and hlb_ow_min.
     """
 
     code = "TYP01"
     name = "emulsion-type"
     groups = ("emulsion",)
     default_severity = Severity.ERROR
+    options: ClassVar[dict[str, Option]] = {
+        "strong_wo_below": Option(float, 6.0, "blend HLB below which an intended O/W is "
+                                              "contradicted strongly", minimum=0),
+        "strong_ow_above": Option(float, 10.0, "blend HLB above which an intended W/O is "
+                                               "contradicted strongly", minimum=0),
+    }
 
     def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,
               options: Mapping[str, Any]) -> Iterable[Finding]:
+        decision = facts.type_decision
+        if decision is None:
+            return
         intended = formula.formula.intended_type
-        predicted = facts.predicted_type
+        predicted = decision.predicted
         values: dict[str, float | str | None] = {
             "intended_type": _value(intended), "predicted_type": _value(predicted),
             "type_by_bancroft": _value(facts.type_by_bancroft),
             "type_by_hlb": _value(facts.type_by_hlb), "blend_hlb": facts.blend_hlb,
+            "decided_by": decision.row,
             "water_side_percent": facts.water_side_emulsifier_percent,
             "oil_side_percent": facts.oil_side_emulsifier_percent}
         names = [e.inci for e in facts.emulsifiers]
         if intended is not None and predicted is not None and predicted != intended:
-            basis = "Bancroft's rule" if facts.type_by_bancroft else "the blend HLB's class"
+            why = strong_contradiction(facts, intended, options)
+            want = ("mostly oil-soluble, with a blend HLB below about 6" if intended.value == "W/O"
+                    else "mostly water-soluble, with a blend HLB above about 8")
             yield self.finding(
-                self.default_severity,
-                f"intended {intended.value} but the emulsifier system predicts "
-                f"{predicted.value} (by {basis})",
+                self.default_severity if why else Severity.WARNING,
+                f"intended {intended.value} but the emulsifier system gives {predicted.value} "
+                f"({why or decision.row})",
                 ingredients=names, values=values,
-                advice=(f"for {intended.value} the emulsifier system should be mostly "
-                        f"{'oil' if intended.value == 'W/O' else 'water'}-soluble, with an HLB "
-                        f"{'below about 7' if intended.value == 'W/O' else 'above about 8'}"))
+                advice=f"for {intended.value} the emulsifier system should be {want}; "
+                       + ("change the system" if why else
+                          "the evidence is not decisive: make a small batch and test the type "
+                          "by dilution or conductivity"))
         if facts.types_disagree:
-            assert facts.type_by_bancroft is not None and facts.type_by_hlb is not None
+            given = [i for i in decision.indicators if i.favours is not None]
             yield self.finding(
-                Severity.WARNING,
-                f"Bancroft's rule predicts {facts.type_by_bancroft.value} but the blend HLB "
-                f"{facts.blend_hlb:.2f} favours {facts.type_by_hlb.value}",
+                Severity.INFO,
+                "the type indicators disagree: " + "; ".join(_indicator_text(i) for i in given)
+                + f"; decided: {_value(predicted) or 'none'} ({decision.row})",
                 ingredients=names, values=values,
-                advice="the type will depend on process; check the emulsifiers' solubility "
-                       "and HLB data, or move the system clearly to one side")
+                advice="information, not a fault: the decided type rests on the system as a "
+                       "whole; confirm it on the first batch by dilution or conductivity")

@@ -28,14 +28,24 @@ def solution_text(solution: BlendSolution, formed: set[str]) -> str:
 class HlbBalance(Rule):
     """The emulsifier blend's HLB misses the oil phase's required HLB.
 
-    Flags: a blend HLB (weight average of the emulsifiers' HLB, soap formed in place included)
-    outside the required HLB of the oil phase (weight average of the oils' required HLB for the
-    intended type, or the predicted one) plus or minus the tolerance. The finding gives the
-    proportions of the formula's own emulsifiers that would hit the required HLB, or the range
-    they can reach when they cannot.
+    Flags: a blend HLB (weight average of the nonionic emulsifiers' HLB on Griffin's scale)
+    outside the required HLB of the oil phase (weight average of the oil phase's required HLB
+    for the intended type, or the decided one; co-emulsifiers such as glyceryl stearate, fatty
+    alcohols and fatty acids not neutralised are counted with the oil phase at their own value)
+    plus or minus the tolerance. The finding states the share of the oil phase and of the
+    emulsifier system the numbers rest on, and gives the proportions of the formula's own
+    emulsifiers that would hit the required HLB, or the range they can reach when they cannot.
+    No verdict and no ratio advice when the required HLB covers less than
+    [facts] min_required_hlb_coverage (0.8) of the oil phase or the Griffin members less than
+    min_blend_hlb_coverage (0.8) of the emulsifier system (the data gap is reported instead).
+    An info when the system is led by ionic members (soaps, ionic surfactants on Davies' scale):
+    their values are not averaged with Griffin's, and no HLB balance is judged for them.
     Why: Griffin's method (J. Soc. Cosmet. Chem. 1 (1949) 311): an oil phase is emulsified best
     by an emulsifier blend whose HLB matches its required HLB. Required HLB values are guides,
     not exact targets (Pasquali et al., Int. J. Pharm. 356 (2008) 44), hence the tolerance.
+    Wangpradit et al., OCL 29 (2022) 29, Tables 4-5 count glyceryl monostearate (3.8) and stearic
+    acid (15) in the oil phase. Davies' values (sodium lauryl sulfate 40, soaps 18-20; Davies
+    1957) lie on another scale. The coverage thresholds are a rule of thumb.
     Fails: Paraffinum Liquidum 20 (required HLB 12 for O/W) with Sorbitan Oleate 2.5 and
     Polysorbate 80 2.5: blend HLB 9.65; Sorbitan Oleate 1.40 % + Polysorbate 80 3.60 % would
     give 12.
@@ -55,6 +65,23 @@ class HlbBalance(Rule):
     def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,
               options: Mapping[str, Any]) -> Iterable[Finding]:
         blend, required = facts.blend_hlb, facts.required_hlb
+        system = facts.hlb_system
+        if blend is None and system is not None and system.led_by == "ionic":
+            ionic = [e.inci for e in facts.emulsifiers if e.scale == "davies" or e.formed_in_place
+                     or e.hlb is None]
+            yield self.finding(
+                Severity.INFO,
+                f"no HLB balance judged: the emulsifier system is {system.assessment} "
+                f"(Griffin-scale members {system.griffin_percent:.4g} of "
+                f"{facts.emulsifier_percent:.4g} %)",
+                ingredients=ionic,
+                values={"griffin_percent": system.griffin_percent,
+                        "davies_percent": system.davies_percent,
+                        "blend_hlb_coverage": system.coverage},
+                advice="judge an ionic-led system by its ionic character and soap valence (see "
+                       "the emulsion type); Davies' values are not comparable with a required "
+                       "HLB")
+            return
         if blend is None or required is None:
             return
         tolerance = options["tolerance"]
@@ -63,10 +90,16 @@ class HlbBalance(Rule):
             return
         kind = facts.working_type.value if facts.working_type else "?"
         side = "above" if difference > 0 else "below"
+        oil_cover = facts.required_hlb_coverage
+        blend_cover = system.coverage if system is not None else None
         values: dict[str, float | str | None] = {
             "blend_hlb": blend, "required_hlb": required, "tolerance_hlb": tolerance,
             "hlb_difference": difference, "emulsion_type": kind,
-            "target_low": required - tolerance, "target_high": required + tolerance}
+            "target_low": required - tolerance, "target_high": required + tolerance,
+            "required_hlb_coverage": oil_cover, "blend_hlb_coverage": blend_cover}
+        rests = (f"; resting on {oil_cover:.0%} of the oil phase and {blend_cover:.0%} of the "
+                 "emulsifier system" if oil_cover is not None and blend_cover is not None
+                 else "")
         solution = facts.blend_solution
         formed = {e.inci for e in facts.emulsifiers if e.formed_in_place}
         if solution is not None and solution.reachable and solution.percents is not None:
@@ -91,6 +124,6 @@ class HlbBalance(Rule):
         yield self.finding(
             self.default_severity,
             f"blend HLB {blend:.2f} is {side} the required HLB {required:.2f} ± {tolerance:g} "
-            f"of the oil phase ({kind})",
+            f"of the oil phase ({kind}{rests})",
             ingredients=[e.inci for e in facts.emulsifiers if e.hlb is not None],
             values=values, advice=advice)

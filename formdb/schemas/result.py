@@ -31,7 +31,23 @@ DEFAULT_DROPLET_DIAMETER_UM = 5.0
 # Defaults of the exposure arithmetic (regulatory.md section 2.1). Each is flagged wherever used.
 DEFAULT_BODY_WEIGHT_KG = 60.0  # SCCS NoG default adult body weight (from memory)
 DEFAULT_DERMAL_ABSORPTION_PERCENT = 50.0  # SCCS practice without adequate data (from memory)
-DEFAULT_ORAL_BIOAVAILABILITY_PERCENT = 100.0  # no correction unless a profile or record sets one
+# SCCS Notes of Guidance, 12th revision (SCCS/1647/22), the defaults without data: 50 % oral
+# bioavailability when the PoD is oral and no absorption data exist, 50 % dermal absorption when
+# no adequate study exists (regulatory.md section 2.1; from memory, NoG text not read)
+DEFAULT_ORAL_BIOAVAILABILITY_PERCENT = 50.0
+SCCS_NOG = "SCCS Notes of Guidance, 12th revision (SCCS/1647/22, adopted 15 May 2023)"
+DERMAL_ABSORPTION_DEFAULT_SOURCE = (
+    "SCCS NoG 12th revision (SCCS/1647/22) section 3-3.5, dermal absorption: default without "
+    "adequate data (from memory)")
+ORAL_BIOAVAILABILITY_DEFAULT_SOURCE = (
+    "SCCS NoG 12th revision (SCCS/1647/22) section 3-4, margin of safety: default oral "
+    "absorption without data (from memory)")
+# Coverage thresholds below which there is no HLB verdict (rule of thumb: a value resting on
+# less than four fifths of the phase it describes is not the phase's value).
+DEFAULT_MIN_COVERAGE = 0.8
+# An oil or water phase below this % w/w is a trace (a fragrance, a preservative dissolved or
+# solubilised), not a phase to emulsify (rule of thumb).
+DEFAULT_TRACE_PHASE_PERCENT = 1.0
 DEFAULT_MOS_THRESHOLD = 100.0  # 10 interspecies x 10 intraspecies (SCCS/1575/16 summary)
 
 
@@ -47,7 +63,7 @@ class FactsSettings(_Frozen):
     """
 
     hlb_tolerance: float = Field(1.0, ge=0, le=10)
-    hlb_wo_max: float = Field(7.0, ge=0, le=20)  # Griffin 1949: W/O emulsifiers about 3-6
+    hlb_wo_max: float = Field(6.0, ge=0, le=20)  # Griffin 1949: W/O emulsifiers about 3-6
     hlb_ow_min: float = Field(8.0, ge=0, le=20)  # Griffin 1949: O/W emulsifiers about 8-16/18
     bancroft_margin: float = Field(0.1, ge=0, lt=1)
     droplet_diameter_um: float = Field(DEFAULT_DROPLET_DIAMETER_UM, gt=0, le=10000)
@@ -58,11 +74,14 @@ class FactsSettings(_Frozen):
     body_weight_source: str = "SCCS Notes of Guidance default adult body weight (from memory)"
     default_dermal_absorption_percent: float = Field(DEFAULT_DERMAL_ABSORPTION_PERCENT, ge=0,
                                                      le=100)
-    dermal_absorption_source: str = ("SCCS practice when no adequate data (from memory; other "
-                                     "guidance uses 100 % or 10 %)")
+    dermal_absorption_source: str = DERMAL_ABSORPTION_DEFAULT_SOURCE
     default_oral_bioavailability_percent: float = Field(DEFAULT_ORAL_BIOAVAILABILITY_PERCENT,
                                                         gt=0, le=100)
-    oral_bioavailability_source: str = "no correction: the oral PoD is taken as systemic"
+    oral_bioavailability_source: str = ORAL_BIOAVAILABILITY_DEFAULT_SOURCE
+    # coverage below which the required HLB / blend HLB gives no verdict (fractions by mass)
+    min_required_hlb_coverage: float = Field(DEFAULT_MIN_COVERAGE, ge=0, le=1)
+    min_blend_hlb_coverage: float = Field(DEFAULT_MIN_COVERAGE, ge=0, le=1)
+    trace_phase_percent: float = Field(DEFAULT_TRACE_PHASE_PERCENT, ge=0, le=50)
     # not set in [facts]: the engine copies MOS01's ``threshold`` here (as for hlb_tolerance)
     mos_threshold: float = Field(DEFAULT_MOS_THRESHOLD, gt=0)
     # not set in [facts]: the engine copies ALG01's ``jurisdiction`` here
@@ -97,6 +116,9 @@ class EmulsifierFacts(_Frozen):
     formed_in_place: bool = False
     line_no: int | None = None  # None for soap formed in the batch
     side: Literal["water", "oil"] | None = None  # Bancroft's side (None: not counted)
+    # the HLB scale of the value: Griffin's (nonionics, 0-20) or Davies' group numbers (ionics,
+    # soaps); values of the two scales are never averaged together
+    scale: Literal["griffin", "davies"] | None = None
 
 
 class SoapFacts(_Frozen):
@@ -130,6 +152,63 @@ class RequiredHlbFacts(_Frozen):
     covered_percent: float  # mass of oil-phase ingredients that had a value
     members_percent: float  # mass of all ingredients counted in the oil phase's need
     missing: tuple[str, ...] = ()  # counted ingredients without a value for this type
+
+
+class HlbSystemFacts(_Frozen):
+    """Which HLB scale the blend rests on and how much of the emulsifier system it covers."""
+
+    griffin_percent: float  # emulsifier mass with an HLB on Griffin's scale (averaged)
+    davies_percent: float  # ionic members on Davies' scale (never averaged with Griffin's)
+    no_hlb_percent: float  # members with no HLB in the library
+    griffin_value: float | None  # weight average over the Griffin members, whatever the cover
+    coverage: float  # griffin_percent / the emulsifier system's mass
+    min_coverage: float
+    led_by: Literal["nonionic", "ionic", "none"]
+    assessment: str  # which assessment the system gets, in words
+
+
+class TypeIndicator(_Frozen):
+    """One indicator of the emulsion type and what it rests on."""
+
+    name: Literal["hlb class", "soap and ionic", "solubility split"]
+    favours: EmulsionType | None
+    mass_percent: float  # emulsifier mass behind it
+    detail: str
+
+
+class TypeDecision(_Frozen):
+    """The emulsion type decided from the emulsifier system as a whole (the decision table of
+    ``science.emulsion_type.decide_type``)."""
+
+    predicted: EmulsionType | None
+    row: str  # the decision table's row, in words
+    strong: bool  # True when decisive indicators agree or one decides alone
+    indicators: tuple[TypeIndicator, ...] = ()
+
+
+class KindFacts(_Frozen):
+    """The kind of product: stated with ``kind`` in the formula, else recognised from it."""
+
+    kind: Literal["emulsion", "anhydrous", "surfactant solution", "soap cream", "aqueous gel",
+                  "aqueous solution"]
+    source: Literal["stated", "recognised"]
+    reason: str
+    high_internal_phase: bool = False  # an emulsion whose dispersed phase exceeds the packing
+    trace_oil_percent: float = 0.0  # oil-phase mass below the trace threshold, if ignored
+
+
+class FreeBaseFacts(_Frozen):
+    """A base left free in the batch: after the soaps formed, or with no acid to take it."""
+
+    base: str
+    free_percent: float  # % w/w of the formula
+    strong: bool  # an alkali-metal hydroxide (fully dissociated)
+    water_phase_percent: float  # the water it dissolves in, % w/w of the formula
+    molar_concentration: float | None  # mol/L in the water phase (about 1 g/mL)
+    ph_low: float | None  # the pH range to expect from the free base alone
+    ph_high: float | None
+    acids_present: tuple[str, ...] = ()  # other acids that may take some of it up
+    after_soap: bool = False
 
 
 class BlendSolution(_Frozen):
@@ -289,6 +368,8 @@ class FormulaFacts(_Frozen):
     soaps: tuple[SoapFacts, ...] = ()
     blend_hlb: float | None = None
     blend_hlb_covered_percent: float = 0.0  # emulsifier mass with a known HLB
+    hlb_system: HlbSystemFacts | None = None
+    required_hlb_coverage: float | None = None  # covered / counted oil phase, working type
 
     required_hlb_ow: RequiredHlbFacts
     required_hlb_wo: RequiredHlbFacts
@@ -305,6 +386,9 @@ class FormulaFacts(_Frozen):
     type_by_hlb: EmulsionType | None = None
     predicted_type: EmulsionType | None = None
     types_disagree: bool = False
+    type_decision: TypeDecision | None = None
+    kind: KindFacts | None = None
+    free_bases: tuple[FreeBaseFacts, ...] = ()
 
     phases: PhaseFacts
     dispersed_phase: Literal["oil", "water"] | None = None

@@ -1,10 +1,28 @@
-"""Emulsion type from Bancroft's rule, cross-checked against the blend HLB's class.
+"""Emulsion type from the emulsifier system as a whole (Bancroft's rule, judged the way the trade
+judges it).
 
 Bancroft, "The theory of emulsification, V", J. Phys. Chem. 17 (1913) 501: the continuous phase
-is the one the emulsifier system is more soluble in. The caller sorts each emulsifier (including
-soap formed in the batch) into the water side or the oil side: monovalent soaps (sodium,
-potassium, amine soaps) are water-soluble and count on the water side; divalent and trivalent
-soaps (magnesium, calcium, aluminium) are oil-soluble and count on the oil side.
+is the one the emulsifier *system* is more soluble in. The blend's HLB measures that solubility
+for the system as a whole (Griffin, J. Soc. Cosmet. Chem. 1 (1949) 311: W/O emulsifiers about
+3-6, O/W about 8-16/18), and the valence of a soap decides for soap systems (monovalent sodium,
+potassium and amine soaps are water-soluble: O/W; divalent and trivalent soaps are oil-soluble:
+W/O). A vote of emulsifier mass by solubility (``bancroft_type``) is only a supporting
+indicator: a Griffin O/W pair such as sorbitan oleate 3 + polysorbate 80 2 has most of its mass
+oil-soluble and still makes O/W, because the blend's HLB (8.58) is what the interface sees.
+
+``decide_type`` is the decision table:
+
+| HLB class | soap / ionic | solubility split | decided | strong |
+|-----------|--------------|------------------|---------|--------|
+| T | T or none | any | T | yes |
+| none | T | any | T | yes |
+| T | U (differs) | any | the one behind more emulsifier mass | no |
+| none | none | T | T | no |
+| none | none | none | no prediction | - |
+
+"none" is no indicator: no blend HLB (or one in the gap between the classes), no soap or ionic
+member, an evenly split system. A disagreement is reported as information naming both
+indicators, never as an error by itself.
 """
 
 from __future__ import annotations
@@ -91,3 +109,34 @@ def predict_type(
     bancroft = (bancroft_type(water_soluble_mass, oil_soluble_mass, margin=margin)
                 if placed else None)
     return TypePrediction(bancroft, by_hlb)
+
+
+@dataclass(frozen=True)
+class Decision:
+    """The decided type, the row of the decision table that gave it, and its strength."""
+
+    predicted: EmulsionType | None
+    row: str
+    strong: bool
+
+
+def decide_type(by_hlb: EmulsionType | None, hlb_mass: float,
+                by_ionic: EmulsionType | None, ionic_mass: float,
+                by_split: EmulsionType | None) -> Decision:
+    """The decision table of this module's docstring. Masses (any one unit) are the emulsifier
+    mass behind the HLB class (the Griffin members) and behind the soap/ionic indicator."""
+    if by_hlb is not None and (by_ionic is None or by_ionic == by_hlb):
+        row = ("the blend HLB class and the soap/ionic members agree" if by_ionic is not None
+               else "the blend HLB class decides")
+        return Decision(by_hlb, row, True)
+    if by_hlb is None and by_ionic is not None:
+        return Decision(by_ionic, "the soap/ionic members decide (no HLB class)", True)
+    if by_hlb is not None and by_ionic is not None:
+        if hlb_mass >= ionic_mass:
+            return Decision(by_hlb, "the HLB class and the soap/ionic members disagree; the "
+                                    "nonionic members carry more of the system", False)
+        return Decision(by_ionic, "the HLB class and the soap/ionic members disagree; the "
+                                  "soap/ionic members carry more of the system", False)
+    if by_split is not None:
+        return Decision(by_split, "only the solubility split of the members gives a type", False)
+    return Decision(None, "no indicator gives a type", False)

@@ -15,6 +15,7 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import Literal
 
 from formdb.schemas.vocab import EmulsionType
 from formdb.science.hlb_estimate import (
@@ -31,10 +32,26 @@ from formdb.science.hlb_estimate import (
 from formdb.science.least_change import least_change_fractions
 
 __all__ = [
-    "DAVIES_GROUPS", "EO_MOLAR_MASS", "GRIFFIN_RANGES", "EstimateMethod", "HlbRange",
-    "RequiredHlb", "UnreachableHlb", "blend_fractions", "blend_hlb", "estimate_hlb", "hlb_class",
-    "hlb_davies", "hlb_from_ethoxylate", "hlb_from_hydrophile_mass", "hlb_from_saponification",
-    "oxyethylene_percent", "required_hlb", "two_emulsifier_fractions",
+    "DAVIES_GROUPS",
+    "EO_MOLAR_MASS",
+    "GRIFFIN_RANGES",
+    "GRIFFIN_SCALE_MAX",
+    "EstimateMethod",
+    "HlbRange",
+    "RequiredHlb",
+    "UnreachableHlb",
+    "blend_fractions",
+    "blend_hlb",
+    "estimate_hlb",
+    "hlb_class",
+    "hlb_davies",
+    "hlb_from_ethoxylate",
+    "hlb_from_hydrophile_mass",
+    "hlb_from_saponification",
+    "hlb_scale",
+    "oxyethylene_percent",
+    "required_hlb",
+    "two_emulsifier_fractions",
 ]
 
 _REACH_TOL = 1e-9  # a target this close to an end of the range counts as on it (float noise)
@@ -186,6 +203,21 @@ def blend_fractions(
         return two_emulsifier_fractions(target, hlbs[0], hlbs[1])
     clamped = min(max(target, min(hlbs)), max(hlbs))
     return least_change_fractions(shares, hlbs, clamped)
+
+
+GRIFFIN_SCALE_MAX = 20.0  # Griffin's scale runs 0-20 (20 Mh/M); Davies' reaches 40 (SLS)
+
+
+def hlb_scale(hlb: float, ionised: bool) -> Literal["griffin", "davies"]:
+    """"griffin" or "davies": the scale an HLB value belongs to.
+
+    Griffin's method is for non-ionic surfactants (Griffin, J. Soc. Cosmet. Chem. 5 (1954) 249,
+    "Calculation of HLB values of non-ionic surfactants"); ionic surfactants and soaps get their
+    values from Davies' group numbers (Davies 1957: sodium lauryl sulfate 40, sodium oleate 18),
+    and any value above 20 can only be Davies'. The two scales agree near 7 and drift apart
+    beyond it, so a weight average across them means nothing.
+    """
+    return "davies" if ionised or hlb > GRIFFIN_SCALE_MAX else "griffin"
 
 
 def hlb_class(hlb: float, *, wo_max: float = 7.0, ow_min: float = 8.0) -> EmulsionType | None:

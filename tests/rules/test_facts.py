@@ -159,11 +159,31 @@ def test_required_hlb_of_ocl_2022_f1_and_the_co_emulsifier_note() -> None:
 def test_oil_without_required_hlb_is_named() -> None:
     facts = facts_of([("Water", 70.0), ("Paraffinum Liquidum", 15.0), ("Squalane", 10.0),
                       ("Polysorbate 80", 5.0)], intended_type="O/W")
-    assert facts.required_hlb == pytest.approx(12.0)  # over the mineral oil only
+    assert facts.required_hlb_ow.value == pytest.approx(12.0)  # over the mineral oil only
     assert facts.required_hlb_ow.missing == ("Squalane",)
     assert facts.required_hlb_ow.covered_percent == 15.0
+    # 15 of 25 % of the oil phase (60 %) is below the 80 % coverage threshold (rule of thumb):
+    # no working required HLB, so no balance verdict and no ratio advice, only the gap
+    assert facts.required_hlb_coverage == pytest.approx(0.6)
+    assert facts.required_hlb is None and facts.blend_solution is None
     gap = next(g for g in facts.gaps if g.property == "required_hlb_ow")
     assert gap.ingredients == ("Squalane",) and gap.blocks == "required HLB (O/W)"
+    assert "no balance verdict" in gap.detail
+
+
+def test_required_hlb_above_the_coverage_threshold_is_given() -> None:
+    # 20 of 22 % covered (91 %): the value stands, with its coverage
+    facts = facts_of([("Water", 73.0), ("Paraffinum Liquidum", 20.0), ("Squalane", 2.0),
+                      ("Polysorbate 80", 5.0)], intended_type="O/W")
+    assert facts.required_hlb == pytest.approx(12.0)
+    assert facts.required_hlb_coverage == pytest.approx(20 / 22)
+
+
+def test_coverage_threshold_comes_from_the_settings() -> None:
+    mini = formula("cover", [("Water", 70.0), ("Paraffinum Liquidum", 15.0), ("Squalane", 10.0),
+                             ("Polysorbate 80", 5.0)], intended_type="O/W")
+    loose = compute_facts(mini, reference(), FactsSettings(min_required_hlb_coverage=0.5))
+    assert loose.required_hlb == pytest.approx(12.0)
 
 
 def test_no_emulsifier_and_no_intended_type_leaves_numbers_out() -> None:
@@ -193,9 +213,27 @@ def test_missing_molar_mass_blocks_the_soap() -> None:
 def test_bancroft_and_hlb_class_disagree() -> None:
     facts = facts_of([("Paraffinum Liquidum", 20.0), ("Sorbitan Oleate", 4.0),
                       ("Sodium Lauryl Sulfate", 1.0), ("Water", 75.0)])
-    assert facts.blend_hlb == pytest.approx((4 * 4.3 + 1 * 40) / 5)  # Griffin additivity
-    assert facts.type_by_bancroft.value == "W/O" and facts.type_by_hlb.value == "O/W"
+    # Davies' 40 for SLS is not averaged with Griffin's 4.3: the blend is the nonionic's alone
+    assert facts.blend_hlb == pytest.approx(4.3)
+    assert facts.hlb_system.davies_percent == 1.0 and facts.hlb_system.coverage == 0.8
+    sls = next(e for e in facts.emulsifiers if e.inci == "Sodium Lauryl Sulfate")
+    assert sls.scale == "davies"
+    assert facts.type_by_bancroft.value == "W/O" and facts.type_by_hlb.value == "W/O"
+    ionic = next(i for i in facts.type_decision.indicators if i.name == "soap and ionic")
+    assert ionic.favours.value == "O/W"
     assert facts.types_disagree and facts.predicted_type.value == "W/O"
+    assert not facts.type_decision.strong
+
+
+def test_blend_below_its_coverage_gives_no_hlb() -> None:
+    # sorbitan oleate 2 % (Griffin 4.3) beside SLS 9 % (Davies 40): an ionic-led system; the
+    # Griffin members cover 2/11 of it, so no blend HLB and no HLB class
+    facts = facts_of([("Water", 87.0), ("Sorbitan Oleate", 2.0), ("Sodium Lauryl Sulfate", 9.0),
+                      ("Paraffinum Liquidum", 2.0)])
+    assert facts.blend_hlb is None
+    assert facts.hlb_system.griffin_value == pytest.approx(4.3)
+    assert facts.hlb_system.led_by == "ionic"
+    assert facts.predicted_type.value == "O/W"  # the anionic, water-soluble, decides
 
 
 def test_packing_constants() -> None:
@@ -216,5 +254,5 @@ def test_a_fatty_alcohol_hlb_never_stands_in_for_its_required_hlb() -> None:
              mini.lines[3])
     facts = compute_facts(ResolvedFormula(source=mini.source, formula=mini.formula, lines=lines,
                                           content_hash=mini.content_hash), reference())
-    assert facts.required_hlb == pytest.approx(12.0)  # mineral oil alone
+    assert facts.required_hlb_ow.value == pytest.approx(12.0)  # mineral oil alone
     assert facts.required_hlb_ow.missing == ("Cetyl Alcohol",)
