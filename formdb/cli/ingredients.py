@@ -47,9 +47,10 @@ def ingredient_group() -> None:
     """The shared ingredient library: list, show, add, edit, retire, history, import, export."""
 
 
-_SET = click.option("--set", "sets", multiple=True, metavar="FIELD=VALUE",
-                    help="A field and its value, e.g. hlb=15 or density='0.92 g/cm3' "
-                         "(repeatable; an empty value clears it).")
+_SET = click.option("--set", "sets", multiple=True, metavar="FIELD=VALUE[@SOURCE]",
+                    help="A field and its value, e.g. hlb=15@supplier-x-tds-2025 or "
+                         "density='0.92 g/cm3' (repeatable; an empty value clears it; @KEY "
+                         "gives this value its own source).")
 _SOURCE = click.option("--source", help="Source key of the values given with --set "
                        "(a key of the sources table, or rule-of-thumb / from-memory).")
 
@@ -123,6 +124,29 @@ def edit_cmd(app: AppContext, library: Library, name: str, sets: tuple[str, ...]
         report = edit_ingredient(session, name, _assignments(sets), user=app.user, reason=reason,
                                  source=source, expect_version=expect_version)
     click.echo(record_changes(report, "changed"), nl=False)
+
+
+@ingredient_group.command("verify")
+@click.argument("name")
+@click.option("--value", "values", multiple=True, required=True, metavar="PROPERTY",
+              help="A property whose value the source confirms (repeatable), e.g. hlb.")
+@click.option("--source", required=True, help="Key of the source that confirms the values.")
+@click.option("--note", help="Where in the source (table, page); replaces the values' notes.")
+@click.option("--reason", help="Why (kept in the change log; required for published values).")
+@click.option("--expect-version", type=int,
+              help="The version you read; refused if someone changed it since.")
+@with_library
+def verify_cmd(app: AppContext, library: Library, name: str, values: tuple[str, ...],
+               source: str, note: str | None, reason: str | None,
+               expect_version: int | None) -> None:
+    """Attach a source to values of NAME without retyping them; their grade becomes the
+    source's."""
+    from formdb.services.library.ingredients import verify_ingredient
+
+    with library.write() as session:
+        report = verify_ingredient(session, name, values, source, user=app.user, reason=reason,
+                                   note=note, expect_version=expect_version)
+    click.echo(record_changes(report, "verified"), nl=False)
 
 
 @ingredient_group.command("retire")

@@ -35,6 +35,9 @@ COMMANDS: dict[str, str] = {
     "audit": "formdb.cli.audit:audit_group",
     "impact": "formdb.cli.impact:impact_cmd",
     "lists": "formdb.cli.lists:lists_group",
+    "source": "formdb.cli.evidence:source_group",
+    "toxicology": "formdb.cli.evidence:toxicology_group",
+    "exposure": "formdb.cli.evidence:exposure_group",
 }
 
 

@@ -62,6 +62,44 @@ class Evidence(StrEnum):
     ESTIMATED = "estimated"
     RULE_OF_THUMB = "rule of thumb"
     FROM_MEMORY = "from memory"
+    DEFINITION = "definition"  # true by what the words mean (water is water-soluble)
+    SECONDARY = "secondary copy"  # seen only in someone else's copy: not yet checked at source
+
+
+# Grades a reviewer must still check: EVD01 reports them, and the seed counts them as unverified.
+UNVERIFIED_EVIDENCE: frozenset[Evidence] = frozenset(
+    {Evidence.FROM_MEMORY, Evidence.RULE_OF_THUMB, Evidence.SECONDARY})
+
+
+class SourceKind(StrEnum):
+    """The kinds of evidence the trade cites; each sets the grade of the values citing it."""
+
+    REGULATION = "regulation"
+    PEER_REVIEWED = "peer-reviewed publication"
+    HANDBOOK = "handbook"
+    SUPPLIER_DATA_SHEET = "supplier data sheet"
+    CERTIFICATE_OF_ANALYSIS = "certificate of analysis"
+    MEASUREMENT = "in-house measurement"
+    ESTIMATE = "estimate"
+    SECONDARY_COPY = "secondary copy"
+    FROM_MEMORY = "from memory"
+    RULE_OF_THUMB = "rule of thumb"
+    DEFINITION = "definition"
+
+
+KIND_GRADE: dict[SourceKind, Evidence] = {
+    SourceKind.REGULATION: Evidence.PUBLISHED,
+    SourceKind.PEER_REVIEWED: Evidence.PUBLISHED,
+    SourceKind.HANDBOOK: Evidence.PUBLISHED,
+    SourceKind.SUPPLIER_DATA_SHEET: Evidence.SUPPLIER,
+    SourceKind.CERTIFICATE_OF_ANALYSIS: Evidence.SUPPLIER,
+    SourceKind.MEASUREMENT: Evidence.MEASURED,
+    SourceKind.ESTIMATE: Evidence.ESTIMATED,
+    SourceKind.SECONDARY_COPY: Evidence.SECONDARY,
+    SourceKind.FROM_MEMORY: Evidence.FROM_MEMORY,
+    SourceKind.RULE_OF_THUMB: Evidence.RULE_OF_THUMB,
+    SourceKind.DEFINITION: Evidence.DEFINITION,
+}
 
 
 class Category(StrEnum):

@@ -37,7 +37,10 @@ class Base(DeclarativeBase):
 
 
 class Source(Base):
-    """A citation that values point to; ``evidence`` is the default kind for values citing it."""
+    """A citation that values point to; ``evidence`` is the grade of every value citing it, set
+    by ``kind`` (formdb.schemas.vocab.KIND_GRADE) where the kind is recorded. The detail columns
+    locate the evidence as the trade cites it (handbook edition and table, a supplier's document
+    and lot, a measurement's method, date and analyst); ``checksum`` identifies a cited file."""
 
     __tablename__ = "sources"
 
@@ -47,6 +50,18 @@ class Source(Base):
     url: Mapped[str | None] = mapped_column(Text)
     seen: Mapped[str | None] = mapped_column(String(20))  # found / found-secondary / memory / calc
     note: Mapped[str | None] = mapped_column(Text)
+    kind: Mapped[str | None] = mapped_column(String(30))
+    year: Mapped[int | None] = mapped_column(Integer)
+    edition: Mapped[str | None] = mapped_column(String(40))
+    table_ref: Mapped[str | None] = mapped_column(String(80))
+    page: Mapped[str | None] = mapped_column(String(40))
+    supplier: Mapped[str | None] = mapped_column(String(200))
+    document: Mapped[str | None] = mapped_column(String(200))
+    lot: Mapped[str | None] = mapped_column(String(80))
+    issued: Mapped[date | None] = mapped_column(Date)
+    method: Mapped[str | None] = mapped_column(Text)
+    measured_by: Mapped[str | None] = mapped_column(String(100))
+    checksum: Mapped[str | None] = mapped_column(String(80))
 
 
 class Ingredient(Base):
@@ -244,6 +259,7 @@ class ToxicologyEntry(Base):
     pod_unit: Mapped[str] = mapped_column(String(30))
     route: Mapped[str] = mapped_column(String(20))
     species: Mapped[str] = mapped_column(String(60))
+    duration: Mapped[str | None] = mapped_column(String(60))
     study: Mapped[str] = mapped_column(Text)
     source_key: Mapped[str] = mapped_column(ForeignKey("sources.key"))
     dermal_absorption_percent: Mapped[float | None] = mapped_column(Float)

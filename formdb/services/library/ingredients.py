@@ -28,7 +28,7 @@ from formdb.schemas.ingredient import (
     normalise_inci,
 )
 from formdb.schemas.times import utc
-from formdb.schemas.vocab import Evidence, Role
+from formdb.schemas.vocab import UNVERIFIED_EVIDENCE, Evidence, Role
 from formdb.services.admin.access import require
 from formdb.services.library.ingredient_fields import (
     EDITABLE_FIELDS,
@@ -554,34 +554,50 @@ def _field(name: str) -> str:
     return column
 
 
+VALUE_SOURCE = "@"  # --set hlb=14.9@supplier-x-tds-2025: the value and its own source
+
+
 def _lay(cells: Cells, assignments: Sequence[tuple[str, str]], source: str | None) -> Cells:
-    """``--set field=value`` laid over cells; a new value takes ``--source`` and drops its note."""
+    """``--set field=value`` laid over cells. A property value takes its own source
+    (``value@KEY``), else ``--source``; its note stays unless the command sets it."""
     out = dict(cells)
-    fields = [(_field(f), v.strip()) for f, v in assignments]
-    explicit = {f for f, _v in fields}
-    for column, value in fields:
+    fields = []
+    for f, v in assignments:
+        column, value, own = _field(f), v.strip(), None
+        if column in PROPERTY_NAMES and VALUE_SOURCE in value:
+            value, _sep, own = (part.strip() for part in value.rpartition(VALUE_SOURCE))
+            if not own or not value:
+                raise InvalidData(f"--set {f}={v}: write the value, then @ and its source key "
+                                  "(e.g. hlb=14.9@supplier-x-tds-2025).",
+                                  hint="`formdb source list` shows the source keys")
+        fields.append((column, value, own))
+    explicit = {f for f, _v, _o in fields}
+    for column, value, own in fields:
         out[column] = value
         if column not in PROPERTY_NAMES:
             continue
         if not value:
             out[f"{column}_source"] = out[f"{column}_note"] = ""
             continue
-        if source:
-            out[f"{column}_source"] = source
+        if own or source:
+            out[f"{column}_source"] = own or source or ""
         elif f"{column}_source" not in explicit:
             raise InvalidData(f"--set {column}={value}: a new value needs its source.",
-                              hint="add --source KEY (a key of the sources table, or "
-                                   "rule-of-thumb / from-memory)")
-        if f"{column}_note" not in explicit:
-            out[f"{column}_note"] = ""
+                              hint=f"write {column}={value}@KEY, or add --source KEY (a key of "
+                                   "`formdb source list`, or rule-of-thumb / from-memory)")
     return out
 
 
 def _validated(cells: Cells, sources: Mapping[str, str], label: str) -> IngredientIn:
     item, problems = validate_cells(cells, sources)
     if item is None:
+        about_source = any(c and c.endswith("_source") and "unknown source" in t
+                           for c, t in problems)
+        hint = ("the value is fine: add the source first with `formdb source add KEY --kind ... "
+                "--citation ...`, or cite a key of `formdb source list`" if about_source
+                else "correct the value and try again")
         raise TableProblems([f"{label}, field {c}: {t}" if c else f"{label}: {t}"
-                             for c, t in problems], hint="correct the value and try again")
+                             for c, t in problems], hint=hint)
     return item
 
 
@@ -638,7 +654,7 @@ def _check_version(session: Session, ing: Ingredient, expect_version: int | None
 
 def edit_ingredient(session: Session, name: str, assignments: Sequence[tuple[str, str]], *,
                     user: str, reason: str | None = None, source: str | None = None,
-                    expect_version: int | None = None) -> EditReport:
+                    expect_version: int | None = None, action: str = "edit") -> EditReport:
     """Change fields of one ingredient; a published value changes only with a reason."""
     require(session, user, Action.CHANGE_LIBRARY)
     if not assignments:
@@ -661,9 +677,51 @@ def edit_ingredient(session: Session, name: str, assignments: Sequence[tuple[str
                     f"{prop} of {ing.inci_name!r} is a published value (source {old_source}); "
                     "changing it needs a reason.", hint='add --reason "why the value changes"')
     _ensure_special_sources(session, item.sources.values())
-    _write(session, ing, item, changes, sources, action="edit", user=user, reason=reason,
+    _write(session, ing, item, changes, sources, action=action, user=user, reason=reason,
            now=datetime.now(UTC))
     return EditReport(ing.inci_name, ing.version, changes)
+
+
+def verify_ingredient(session: Session, name: str, properties: Sequence[str], source: str, *,
+                      user: str, reason: str | None = None, note: str | None = None,
+                      expect_version: int | None = None) -> EditReport:
+    """Attach a source to values already in the library, without retyping them: each value
+    now cites ``source`` and takes its grade; the change log records it (action "verify").
+    Only a source that was read can verify: not one graded from memory, a rule of thumb or a
+    secondary copy."""
+    require(session, user, Action.CHANGE_LIBRARY)
+    if not properties:
+        raise InvalidData("name the values to verify.", hint="e.g. --value hlb --value density")
+    grade = _sources(session).get(source)
+    if grade is None:
+        raise NotFound(f"no source {source!r} in the library"
+                       f"{did_you_mean(source, _sources(session)) or '.'}",
+                       hint="add it first with `formdb source add KEY --kind ... --citation ...`")
+    if Evidence(grade) in UNVERIFIED_EVIDENCE:
+        raise InvalidData(f"source {source!r} is graded {grade!r}, which verifies nothing.",
+                          hint="cite the document you read (a regulation, publication, "
+                               "handbook, supplier document, measurement or definition)")
+    ing = _get(session, name)
+    record = _record(session, ing)
+    assignments = []
+    for given in properties:
+        prop = _field(given)
+        if prop not in PROPERTY_NAMES:
+            raise InvalidData(f"--value {given!r} is not a property of an ingredient.",
+                              hint=f"properties are {', '.join(PROPERTY_NAMES)}")
+        if getattr(record.p, prop) is None:
+            raise InvalidData(f"{ing.inci_name!r} has no {prop} value to verify.",
+                              hint=f"give it with `formdb ingredient edit --set {prop}=VALUE@KEY`")
+        assignments.append((f"{prop}_source", source))
+        if note is not None:
+            assignments.append((f"{prop}_note", note))
+    report = edit_ingredient(session, name, assignments, user=user, reason=reason,
+                             expect_version=expect_version, action="verify")
+    grades = [FieldChange(f"{prop}_evidence", record.provenance[prop].evidence.value, grade)
+              for prop in dict.fromkeys(_field(p) for p in properties)
+              if record.provenance[prop].evidence.value != grade]
+    _log(session, ing, grades, action="verify", user=user, reason=reason, at=datetime.now(UTC))
+    return EditReport(report.inci_name, report.version, [*report.changes, *grades])
 
 
 def _set_retired(session: Session, name: str, retired: bool, *, user: str,
@@ -696,5 +754,5 @@ __all__ = [
     "EditReport", "FieldChange", "HistoryEntry", "ImportReport", "IngredientDetail",
     "add_ingredient", "diff_cells", "edit_ingredient", "export_table", "import_table",
     "ingredient_history", "list_ingredients", "restore_ingredient", "retire_ingredient",
-    "show_ingredient",
+    "show_ingredient", "verify_ingredient",
 ]

@@ -20,7 +20,15 @@ from sqlalchemy.orm import Session
 from formdb.errors import InvalidData
 from formdb.schemas.ingredient import name_key, normalise_inci
 from formdb.schemas.suggest import did_you_mean
-from formdb.schemas.vocab import COMPAT_CLASSES, Evidence, Severity, norm_token, parse_choice
+from formdb.schemas.vocab import (
+    COMPAT_CLASSES,
+    KIND_GRADE,
+    Evidence,
+    Severity,
+    SourceKind,
+    norm_token,
+    parse_choice,
+)
 from formdb.store.queries import find_ingredients
 
 Rows = list[dict[str, Any]]
@@ -137,29 +145,91 @@ def _source_check(known: set[str]) -> Callable[[str], list[tuple[str, str]]]:
 
 # --- sources ---------------------------------------------------------------------------------
 
-SOURCE_COLUMNS = ("key", "citation", "evidence", "url", "seen", "note")
+SOURCE_COLUMNS = ("key", "citation", "kind", "evidence", "url", "seen", "note", "year",
+                  "edition", "table_ref", "page", "supplier", "document", "lot", "issued",
+                  "method", "measured_by", "checksum")
+# what each kind of evidence must name so that a reader can find the value again
+KIND_NEEDS: dict[SourceKind, tuple[tuple[str, ...], ...]] = {
+    SourceKind.HANDBOOK: (("edition",), ("table_ref", "page")),
+    SourceKind.PEER_REVIEWED: (("year",),),
+    SourceKind.SUPPLIER_DATA_SHEET: (("supplier",), ("document",), ("issued",)),
+    SourceKind.CERTIFICATE_OF_ANALYSIS: (("supplier",), ("document",), ("lot",), ("issued",)),
+    SourceKind.MEASUREMENT: (("method",), ("issued",), ("measured_by",)),
+}
 
 
 class SourceRow(_Row):
-    key: str = Field(max_length=80, pattern=r"^\S+$")
+    """A source: the kind of evidence sets the grade (``evidence``) of every value citing it; a
+    row that gives only a grade is read as before kinds existed."""
+
+    key: str = Field(max_length=80, pattern=r"^[^\s@]+$")
     citation: str
-    evidence: Evidence
+    kind: SourceKind | None = None
+    evidence: Evidence | None = None
     url: str | None = None
     seen: Literal["found", "found-secondary", "memory", "calc"] | None = None
     note: str | None = None
+    year: int | None = Field(None, ge=1600, le=2100)
+    edition: str | None = Field(None, max_length=40)
+    table_ref: str | None = Field(None, max_length=80)
+    page: str | None = Field(None, max_length=40)
+    supplier: str | None = Field(None, max_length=200)
+    document: str | None = Field(None, max_length=200)
+    lot: str | None = Field(None, max_length=80)
+    issued: date | None = None
+    method: str | None = None
+    measured_by: str | None = Field(None, max_length=100)
+    checksum: str | None = Field(None, pattern=r"^sha256:[0-9a-f]{64}$")
 
     @field_validator("evidence", mode="before")
     @classmethod
     def _evidence(cls, value: Any) -> Any:
         return parse_choice(Evidence, str(value), "evidence")
 
+    @field_validator("kind", mode="before")
+    @classmethod
+    def _kind(cls, value: Any) -> Any:
+        return parse_choice(SourceKind, str(value), "kind")
+
+    @field_validator("year", mode="before")
+    @classmethod
+    def _year(cls, value: Any) -> Any:
+        if isinstance(value, str) and not value.strip().isdigit():
+            raise ValueError(f"{value!r} is not a year")
+        return value
+
+    @model_validator(mode="after")
+    def _grade(self) -> SourceRow:
+        if self.kind is None:
+            if self.evidence is None:
+                raise ValueError(f"kind is empty; a source needs its kind of evidence "
+                                 f"({', '.join(k.value for k in SourceKind)})")
+            return self
+        grade = KIND_GRADE[self.kind]
+        if self.evidence is not None and self.evidence != grade:
+            raise ValueError(f"evidence {self.evidence.value!r} does not fit kind "
+                             f"{self.kind.value!r}, whose values are graded {grade.value!r}")
+        self.evidence = grade
+        for choices in KIND_NEEDS.get(self.kind, ()):
+            if all(getattr(self, c) is None for c in choices):
+                raise ValueError(f"a {self.kind.value} source needs {' or '.join(choices)}")
+        return self
+
 
 def read_sources(file: Path, label: str) -> Rows:
-    rows = read_rows(file, label, SOURCE_COLUMNS, ("key", "citation", "evidence"))
+    rows = read_rows(file, label, SOURCE_COLUMNS, ("key", "citation"))
     parsed, problems = _validate(SourceRow, label, rows, lambda r: r.key, "key")
     if problems:
         raise SeedProblems(problems)
-    return [{**row.model_dump(), "evidence": row.evidence.value} for row in parsed]
+    return [source_values(row) for row in parsed]
+
+
+def source_values(row: SourceRow) -> dict[str, Any]:
+    """The columns of the sources table for one validated row."""
+    values = row.model_dump()
+    values["evidence"] = row.evidence.value if row.evidence else None
+    values["kind"] = row.kind.value if row.kind else None
+    return values
 
 
 # --- limits ----------------------------------------------------------------------------------

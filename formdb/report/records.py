@@ -1,0 +1,81 @@
+"""What the evidence-record commands print (sources, toxicology, exposure, constituents):
+lists, one record, changes, histories. Each function returns the whole text."""
+
+from __future__ import annotations
+
+import csv
+import io
+import json
+from collections.abc import Mapping, Sequence
+from typing import Any
+
+from formdb.report.library import CAUTION, _tables, when
+
+LIST_FORMATS = ("table", "csv", "json")
+
+
+def record_list(rows: Sequence[Mapping[str, str]], columns: Sequence[str], shown: Sequence[str],
+                fmt: str, noun: str, *, width: int | None = None) -> str:
+    """Every record: all columns as CSV or JSON, the ``shown`` ones as a table."""
+    if fmt == "json":
+        return json.dumps([{c: r.get(c, "") for c in columns} for r in rows], indent=2,
+                          ensure_ascii=False) + "\n"
+    if fmt == "csv":
+        buffer = io.StringIO()
+        writer = csv.writer(buffer, lineterminator="\n")
+        writer.writerow(columns)
+        writer.writerows([[r.get(c, "") for c in columns] for r in rows])
+        return buffer.getvalue()
+    from rich.table import Table
+
+    table = Table(*shown)
+    for r in rows:
+        table.add_row(*(r.get(c, "") for c in shown))
+    return _tables(lambda c: c.print(table), width) + f"{len(rows)} {noun}.\n"
+
+
+def record_detail(title: str, cells: Mapping[str, str], columns: Sequence[str], *,
+                  extra: Sequence[str] = (), width: int | None = None) -> str:
+    """One record, a field per line, then any further lines (values citing a source...)."""
+    from rich.table import Table
+
+    table = Table("field", "value")
+    for c in columns:
+        table.add_row(c, cells.get(c, "") or "-")
+    out = title + "\n" + _tables(lambda c: c.print(table), width)
+    if extra:
+        out += "\n".join(extra) + "\n"
+    return out + CAUTION + "\n"
+
+
+def record_changes(report: Any) -> str:
+    """What an add, edit or import did (or, in a dry run, would do), record by record."""
+    would = "would be " if report.dry_run else ""
+    lines = [f"warning: {w}" for w in report.warnings]
+    lines += [f"{would}added {report.entity}: {name}" for name in report.added]
+    for name, changes in report.changed.items():
+        lines.append(f"{would}changed {report.entity}: {name}")
+        lines += [f"  {change.describe()}" for change in changes]
+    if len(report.added) + len(report.changed) + len(report.unchanged) > 1 or report.dry_run:
+        lines.append(f"{len(report.added)} {would}added, {len(report.changed)} {would}changed, "
+                     f"{len(report.unchanged)} left alone"
+                     + (" (dry run: nothing was written)." if report.dry_run else "."))
+    elif report.unchanged:
+        lines.append(f"{report.entity} {report.unchanged[0]}: nothing changed.")
+    return "\n".join(lines) + "\n"
+
+
+def record_history(entries: Sequence[Any], *, width: int | None = None) -> str:
+    from rich.table import Table
+
+    table = Table("when (UTC)", "who", "action", "field", "old", "new", "reason")
+    for e in entries:
+        table.add_row(when(e.at), e.user, e.action, e.field or "", e.old or "", e.new or "",
+                      e.reason or "")
+    return _tables(lambda c: c.print(table), width) + f"{len(entries)} change(s).\n"
+
+
+def identified(path: str, keys: Sequence[str]) -> str:
+    if not keys:
+        return f"{path}: no source records this file's checksum.\n"
+    return f"{path}: the document cited by {', '.join(keys)}.\n"
