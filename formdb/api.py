@@ -14,12 +14,13 @@ transaction, exactly as one command does. The functions return the same pydantic
 A formula is given as a ``Path`` to a TOML file, as TOML text (a ``str``) or as a mapping with
 the keys of the formula file. Bad input raises ``formdb.errors.InvalidData`` (a ``FormdbError``)
 naming the file, row and field, and the library is left as it was. Changes are recorded under
-``user``; without one, the operating-system account that runs the program.
+the identity that was authenticated (``library.user``: the PostgreSQL login, or on SQLite the
+operating-system account); a ``user=`` that names someone else is refused
+(``formdb.store.identity.ClaimRefused``).
 """
 
 from __future__ import annotations
 
-import getpass
 from collections.abc import Iterable, Iterator, Mapping
 from pathlib import Path
 from typing import Any
@@ -34,11 +35,9 @@ FormulaGiven = Path | str | Mapping[str, Any]
 ProfileGiven = Profile | str | None
 
 
-def _os_user() -> str:
-    try:
-        return getpass.getuser()
-    except Exception:  # no login name in some containers
-        return "unknown"
+def _acting(library: Library, user: str | None) -> str:
+    """The authenticated identity; ``user`` only as a check (see the module docstring)."""
+    return library.identify(user)
 
 
 # ----- the library ------------------------------------------------------------------------------
@@ -54,8 +53,10 @@ def create_library(url: str = "formdb.sqlite", *, seed: bool = False,
     """Create (or upgrade) the library at ``url`` and open it; ``seed`` loads the bundled
     ingredient library, limit lists and profiles (what ``formdb init --seed`` does)."""
     from formdb.services.seed.setup import init_library
+    from formdb.store.identity import accept_claim, identify_location
 
-    init_library(url, seed=seed, user=user or _os_user())
+    actual, dialect = identify_location(url)
+    init_library(url, seed=seed, user=accept_claim(actual, user, dialect))
     return Library.open(url)
 
 
@@ -136,7 +137,7 @@ def import_ingredients(library: Library, path: Path, *, user: str | None = None,
     from formdb.services.library.ingredients import import_table
 
     with library.write() as session:
-        return import_table(session, path, user=user or _os_user(), reason=reason,
+        return import_table(session, path, user=_acting(library, user), reason=reason,
                             dry_run=dry_run)
 
 
@@ -147,7 +148,7 @@ def run_review(library: Library, source: Path | str, *, profile: ProfileGiven = 
     """Check a formula file (or ``stored:NAME``) and store an immutable review run."""
     from formdb.services.review.runs import run_review as run
 
-    return run(library, str(source), profile, user=user or _os_user())
+    return run(library, str(source), profile, user=_acting(library, user))
 
 
 def sign_review(library: Library, run_key: str, meaning: str, signer: str, *,
@@ -155,7 +156,7 @@ def sign_review(library: Library, run_key: str, meaning: str, signer: str, *,
     """Sign a current review run (``formdb review sign``)."""
     from formdb.services.review.runs import sign_run
 
-    return sign_run(library, run_key, meaning, signer, user=user or _os_user(), comment=comment)
+    return sign_run(library, run_key, meaning, signer, user=_acting(library, user), comment=comment)
 
 
 def review_status(library: Library) -> list[Any]:

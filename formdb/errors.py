@@ -54,3 +54,7 @@ class SchemaOutdated(ConfigError):
 
 class Forbidden(FormdbError):
     """The user's role does not allow the action."""
+
+
+class Unconfirmed(FormdbError):
+    """A change or destructive command was shown but not confirmed (no ``--yes``)."""

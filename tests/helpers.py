@@ -125,3 +125,39 @@ def run_formdb(args: Sequence[str], env: Mapping[str, str | None] | None = None)
             code = exc.code if isinstance(exc.code, int) else (0 if exc.code is None else 1)
         stdout, stderr = out.getvalue(), err.getvalue()
     return CliResult(code, stdout.decode(), stderr.decode())
+
+
+@contextmanager
+def os_account(name: str) -> Iterator[None]:
+    """Run as if the operating-system account were ``name`` (the identity formdb records on
+    SQLite): what logging in as another person on the same machine would give."""
+    from unittest import mock
+
+    with mock.patch("formdb.store.identity.os_account", return_value=name):
+        yield
+
+
+def run_as(name: str, args: Sequence[str],
+           env: Mapping[str, str | None] | None = None) -> CliResult:
+    """``formdb ARGS`` under the operating-system account ``name`` (SQLite libraries; on
+    PostgreSQL the identity is the URL's login)."""
+    with os_account(name):
+        return run_formdb(args, env)
+
+
+def acting_identity(url: str) -> str:
+    """Who formdb records for a command run against ``url`` here and now."""
+    from formdb.store.identity import identify_location
+
+    return identify_location(url)[0]
+
+
+def recorded_as(url: str, name: str) -> str:
+    """The name formdb records when ``run_as(name, ...)`` acts on ``url``: ``name`` on SQLite
+    (the operating-system account), the URL's own login on PostgreSQL."""
+    return name if make_url(_as_sqlalchemy(url)).get_backend_name() == "sqlite" \
+        else acting_identity(url)
+
+
+def _as_sqlalchemy(url: str) -> str:
+    return url if "://" in url else f"sqlite:///{url}"

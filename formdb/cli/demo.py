@@ -26,8 +26,10 @@ def demo_cmd(app: AppContext, fmt: str, out: Path | None, keep: Path | None) -> 
     from formdb.report.demo import INTRO, demo_report, demo_report_files, demo_summary
     from formdb.report.files import write_report
     from formdb.services.checking.demo import run_demo
+    from formdb.store.identity import accept_claim, os_account
 
-    demo = run_demo(keep=keep, user=app.user)
+    # the demo library is a throwaway SQLite file: the operating-system account acts
+    demo = run_demo(keep=keep, user=accept_claim(os_account(), app.claimed, "sqlite"))
     click.echo(INTRO)
     click.echo(demo_report(demo, fmt))
     if out is not None:

@@ -5,7 +5,6 @@ Sub-commands are imported only when invoked, so ``formdb check`` does not pay fo
 
 from __future__ import annotations
 
-import getpass
 import importlib
 import os
 import sys
@@ -13,11 +12,14 @@ import traceback
 from collections.abc import Callable
 from dataclasses import dataclass
 from functools import wraps
-from typing import Any, TypeVar
+from typing import TYPE_CHECKING, Any, TypeVar
 
 import click
 
 from formdb.errors import FormdbError
+
+if TYPE_CHECKING:
+    from formdb.store.library import Library
 
 # command name -> "module:attribute"; each module holds one click command or group
 COMMANDS: dict[str, str] = {
@@ -43,11 +45,28 @@ COMMANDS: dict[str, str] = {
 
 @dataclass
 class AppContext:
-    """What every command gets: where the library is, who is acting, whether to show tracebacks."""
+    """What every command gets: where the library is, whether to show tracebacks, and who is
+    acting. ``user`` is the authenticated identity (formdb.store.identity), asked at first use
+    from the command's Library or the database; ``claimed`` (``--user``/``FORMDB_USER``) is
+    only ever compared with it."""
 
     db: str
-    user: str
+    claimed: str | None
     debug: bool
+    library: Library | None = None
+    _user: str | None = None
+
+    @property
+    def user(self) -> str:
+        if self._user is None:
+            if self.library is not None:
+                self._user = self.library.identify(self.claimed)
+            else:
+                from formdb.store.identity import accept_claim, identify_location
+
+                actual, dialect = identify_location(self.db)
+                self._user = accept_claim(actual, self.claimed, dialect)
+        return self._user
 
 
 F = TypeVar("F", bound=Callable[..., Any])
@@ -65,16 +84,13 @@ def with_library(command: F) -> F:
         from formdb.store.library import Library
 
         with Library.deferred(app.db) as library:
-            return command(app, library, *args, **kwargs)
+            app.library = library
+            try:
+                return command(app, library, *args, **kwargs)
+            finally:
+                app.library = None
 
     return run  # type: ignore[return-value]
-
-
-def default_user() -> str:
-    try:
-        return getpass.getuser()
-    except Exception:  # no login name in some containers
-        return "unknown"
 
 
 class LazyGroup(click.Group):
@@ -95,13 +111,18 @@ class LazyGroup(click.Group):
               help="Library location: a SQLite file path or a postgresql+psycopg:// URL "
                    "(env FORMDB_DB).")
 @click.option("--user", envvar="FORMDB_USER", default=None,
-              help="Name recorded on every change (env FORMDB_USER; default: login name).")
+              help="Who you are, only as a check: refused unless it is the identity that was "
+                   "authenticated (PostgreSQL: the database login; SQLite: the "
+                   "operating-system account), which is what every change records "
+                   "(env FORMDB_USER).")
 @click.option("--debug", is_flag=True, help="Show a traceback when something goes wrong.")
 @click.version_option(package_name="formdb")
 @click.pass_context
 def cli(ctx: click.Context, db: str, user: str | None, debug: bool) -> None:
     """formdb: the team's ingredient library and a pre-batch checker for emulsion formulas."""
-    ctx.obj = AppContext(db=db, user=user or default_user(), debug=debug)
+    ctx.obj = app = AppContext(db=db, claimed=user, debug=debug)
+    if user is not None and user.strip():
+        _ = app.user  # a claim is checked before anything runs
 
 
 def _sentence(text: str) -> str:

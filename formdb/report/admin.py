@@ -11,6 +11,7 @@ if TYPE_CHECKING:
         BackupReport,
         GrantReport,
         InitReport,
+        Plan,
         RevisionInfo,
         Status,
         UserInfo,
@@ -94,12 +95,16 @@ def db_grants(report: GrantReport, prefix: str) -> str:
     return _text(lines)
 
 
-def user_added(info: UserInfo) -> str:
-    return f"Added user {info.name} with roles: {', '.join(info.roles) or '(none)'}.\n"
-
-
-def user_granted(info: UserInfo) -> str:
-    return f"{info.name} now has roles: {', '.join(info.roles)}.\n"
+def plan_text(plan: Plan) -> str:
+    """What a change or destructive command will do (before ``--yes``) or did."""
+    if not plan.changes:
+        return _text([f"Nothing to do: {plan.action} changes nothing here."])
+    head = (f"Done ({plan.action}):" if plan.done
+            else f"This would {plan.action} and change the following:")
+    lines = [head, *(f"  - {c}" for c in plan.changes)]
+    if not plan.done:
+        lines.append(f"Nothing was changed. Rerun with {plan.confirm_option} to go ahead.")
+    return _text(lines)
 
 
 def user_list(users: Sequence[UserInfo], open_mode: bool) -> str:
@@ -108,5 +113,5 @@ def user_list(users: Sequence[UserInfo], open_mode: bool) -> str:
              for u in users]
     if open_mode:
         lines.append("Open mode: no admin yet, so everyone may do everything. "
-                     "`formdb user add NAME --role admin` closes it.")
+                     "`formdb user add NAME --role admin --yes` closes it.")
     return _text(lines)

@@ -82,6 +82,9 @@ class Action(StrEnum):
     STORE_FORMULAS = "store formulas"
     SIGN_RUNS = "sign runs"
     MANAGE_USERS = "manage users"
+    DOWNGRADE = "downgrade the schema"
+    RESTORE = "restore a backup"
+    RESEED = "seed an existing library"
 
 
 @dataclass(frozen=True)
@@ -89,3 +92,15 @@ class UserInfo:
     name: str
     active: bool
     roles: tuple[str, ...]
+
+
+@dataclass(frozen=True)
+class Plan:
+    """What a change or destructive command will do (``done`` False) or did (True): one line
+    per change, shown before it needs ``--yes``."""
+
+    action: str
+    changes: tuple[str, ...]
+    done: bool
+    confirm_option: str = "--yes"
+    user: UserInfo | None = None

@@ -26,6 +26,7 @@ from sqlalchemy import Engine
 from sqlalchemy.orm import Session
 
 from formdb.store.db import WRITE_LOCK, display_url, open_library, translate_failure
+from formdb.store.identity import accept_claim, identity_of
 from formdb.store.sealing import LibrarySession
 
 READ_SNAPSHOT = {"isolation_level": "REPEATABLE READ", "postgresql_readonly": True}
@@ -45,6 +46,7 @@ class Library:
         self._owns_engine = owns_engine
         self._session: Session | None = None
         self._writing = False
+        self._user: str | None = None
         self.transactions = 0  # outermost units run on this Library (tests count it)
 
     @classmethod
@@ -78,6 +80,18 @@ class Library:
     @property
     def dialect(self) -> str:
         return self.engine.dialect.name
+
+    @property
+    def user(self) -> str:
+        """Who is acting, as authenticated (formdb.store.identity): the PostgreSQL login
+        (``session_user``) or, on SQLite, the operating-system account. Asked once."""
+        if self._user is None:
+            self._user = identity_of(self.engine)
+        return self._user
+
+    def identify(self, claimed: str | None = None) -> str:
+        """The authenticated user; a ``claimed`` name that differs is refused."""
+        return accept_claim(self.user, claimed, self.dialect)
 
     def read(self) -> AbstractContextManager[Session]:
         """A unit that only reads: one consistent snapshot (joins the open unit, if any)."""

@@ -12,7 +12,7 @@ from pathlib import Path
 import pytest
 
 from tests.fixtures.tables.library_setup import build_library
-from tests.helpers import dump_database, run_formdb
+from tests.helpers import dump_database, recorded_as, run_as
 
 
 @pytest.fixture
@@ -21,7 +21,7 @@ def library(library_url: str) -> str:
 
 
 def _formdb(url: str, *args: str, user: str = "ana"):
-    return run_formdb(["--db", url, "--user", user, "ingredient", *args])
+    return run_as(user, ["--db", url, "ingredient", *args])
 
 
 def test_list_formats(library: str) -> None:
@@ -75,14 +75,15 @@ def test_edit_history_and_conflict(library: str) -> None:
     assert late.exit_code == 2
     assert dump_database(library) == before
     lines = late.stderr.strip().splitlines()
+    bea = recorded_as(library, "bea")
     assert len(lines) == 1 and lines[0].startswith("Error: 'Glycerin' was changed since "
-                                                   "version 1 by bea")
+                                                   f"version 1 by {bea}")
     assert "--expect-version 2" in lines[0]
     history = _formdb(library, "history", "glycerol")
     assert history.exit_code == 0
     row = next(line for line in history.stdout.splitlines() if " edit " in line
                and " density " in line)
-    for words in ("bea", "1.26", "1.261", " 2 "):
+    for words in (bea, "1.26", "1.261", " 2 "):
         assert words in row, row
     assert "larkspur-setup" in history.stdout and "import" in history.stdout
 

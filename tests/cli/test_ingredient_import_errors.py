@@ -25,7 +25,7 @@ def library(library_url: str) -> str:
 
 def _import(url: str, path: Path, *extra: str) -> tuple[int, list[str], str]:
     before = dump_database(url)
-    result = run_formdb(["--db", url, "--user", "tester", "ingredient", "import", str(path),
+    result = run_formdb(["--db", url, "ingredient", "import", str(path),
                          *extra])
     assert dump_database(url) == before, "a rejected import changed the library"
     assert "Traceback" not in result.stderr

@@ -98,7 +98,7 @@ def test_findings_grouped_by_severity_most_severe_first() -> None:
 def test_cli_html_escapes_a_formula_name_and_a_library_name(seeded_sqlite_url: str,
                                                             tmp_path: Path) -> None:
     added = run_formdb([
-        "--db", seeded_sqlite_url, "--user", "larkspur-test", "ingredient", "add",
+        "--db", seeded_sqlite_url, "ingredient", "add",
         f"Larkspur {EVIL} Ester", "--set", "hlb=12", "--set", "solubility=water",
         "--set", "density=1.0", "--source", "from-memory", "--synonym", f"syn {EVIL}",
         "--role", "emulsifier", "--reason", "escaping test"])

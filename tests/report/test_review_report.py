@@ -16,7 +16,7 @@ from pathlib import Path
 
 import pytest
 
-from tests.helpers import run_formdb
+from tests.helpers import run_as
 
 ROOT = Path(__file__).parents[2]
 CREAM = ROOT / "tests" / "golden" / "formulas" / "ow-cream.toml"
@@ -24,7 +24,7 @@ CHROMIUM = Path("/usr/bin/chromium")
 
 
 def _formdb(url: str, *args: str, user: str = "ana"):
-    return run_formdb(["--db", url, "--user", user, *args])
+    return run_as(user, ["--db", url, *args])
 
 
 def _signed_run(url: str, formula: Path) -> str:

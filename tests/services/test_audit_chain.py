@@ -280,7 +280,7 @@ def test_insert_only_logins_seal_and_cannot_rewrite(pg_url: str) -> None:
         made = run_formdb(["--db", pg_url, "db", "grant-setup", "--prefix", prefix])
         assert made.exit_code == 0, made.stderr
         editor = _login(pg_url, prefix, "editor")
-        added = run_formdb(["--db", editor, "--user", "larkspur-editor", "ingredient", "add",
+        added = run_formdb(["--db", editor, "ingredient", "add",
                             "Cetyl Alcohol", "--set", "hlb=15.5", "--source", "rule-of-thumb"])
         assert added.exit_code == 0, added.stderr
         assert _verify(pg_url)[0] == 0

@@ -22,7 +22,7 @@ from sqlalchemy import select, text
 
 from formdb.store.db import make_engine, unit_of_work
 from formdb.store.models import ChangeLogEntry, ReviewRun, ReviewSignature
-from tests.helpers import dump_database, run_formdb
+from tests.helpers import dump_database, recorded_as, run_as
 from tests.libraries import opened
 
 CREAM = Path(__file__).parents[1] / "golden" / "formulas" / "ow-cream.toml"
@@ -37,7 +37,7 @@ def cream(tmp_path: Path) -> Path:
 
 
 def _formdb(url: str, *args: str, user: str = "ana"):
-    return run_formdb(["--db", url, "--user", user, *args])
+    return run_as(user, ["--db", url, *args])
 
 
 def _run(url: str, file: Path | str, user: str = "ana") -> str:
@@ -93,7 +93,8 @@ def test_run_report_sign_edit_stale_rerun_sign(seeded_library_url: str, cream: P
 
     state = _status(url)[first]
     assert state["state"] == "stale"
-    assert any(c.startswith("ingredient Glycerin: density '1.26' -> '1.27' by ed")
+    ed = recorded_as(url, "ed")
+    assert any(c.startswith(f"ingredient Glycerin: density '1.26' -> '1.27' by {ed}")
                for c in state["changes"]), state["changes"]
     assert [s["meaning"] for s in state["signatures"]] == ["reviewed"]
     table = _formdb(url, "review", "status")
@@ -112,7 +113,7 @@ def test_run_report_sign_edit_stale_rerun_sign(seeded_library_url: str, cream: P
     assert states[second]["state"] == "current"
     assert [(s["signer"], s["signed_by"], s["meaning"], s["run_hash"])
             for s in states[second]["signatures"]] == [
-        ("Dr. Ana Reviewer", "ana", "approved", _runs(url)[1].run_hash)]
+        ("Dr. Ana Reviewer", recorded_as(url, "ana"), "approved", _runs(url)[1].run_hash)]
     old = _formdb(url, "review", "sign", first, "--meaning", "approved", "--as", "A. R.")
     assert old.exit_code == 2 and f"superseded by run {second}" in old.stderr
 
@@ -163,9 +164,9 @@ def test_changed_reference_rows_are_named_with_old_and_new(seeded_sqlite_url: st
 
 def test_a_non_reviewer_is_refused_and_logged(seeded_sqlite_url: str, cream: Path) -> None:
     url = seeded_sqlite_url
-    assert _formdb(url, "user", "add", "ada", "--role", "admin", user="ada").exit_code == 0
-    assert _formdb(url, "user", "add", "rita", "--role", "reviewer", user="ada").exit_code == 0
-    assert _formdb(url, "user", "add", "bo", "--role", "editor", user="ada").exit_code == 0
+    for name, role in (("ada", "admin"), ("rita", "reviewer"), ("bo", "editor")):
+        added = _formdb(url, "user", "add", name, "--role", role, "--yes", user="ada")
+        assert added.exit_code == 0, added.stderr
     key = _run(url, cream, user="bo")  # storing a run needs no role: it only records a check
     refused = _formdb(url, "review", "sign", key, "--meaning", "approved", "--as", "Bo",
                       user="bo")

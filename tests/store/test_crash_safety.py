@@ -97,7 +97,7 @@ def test_killed_import_leaves_library_as_before(library_url: str, tmp_path: Path
     table = _big_table(tmp_path / "big.csv")
     before = dump_database(library_url)
     wal = _wal_size(library_url)
-    proc = _python("-m", "formdb", "--db", library_url, "--user", "larkspur-victim",
+    proc = _python("-m", "formdb", "--db", library_url,
                    "ingredient", "import", str(table))
     _kill_when(proc, lambda: _has_written(library_url, wal))
     assert dump_database(library_url) == before

@@ -12,7 +12,7 @@ from sqlalchemy import insert
 
 from formdb.store import models
 from formdb.store.db import head_revision, make_engine, sqlite_path
-from tests.helpers import dump_database, run_formdb
+from tests.helpers import dump_database, recorded_as, run_as, run_formdb
 
 
 def _one_error_line(stderr: str) -> str:
@@ -97,19 +97,20 @@ def test_an_older_library_says_run_init_and_init_upgrades_it(
 
 def test_init_seed_twice_changes_nothing(empty_library_url: str) -> None:
     """The bundled seed library, twice, through the command line: the second run is a no-op."""
-    first = run_formdb(["--db", empty_library_url, "--user", "ana", "init", "--seed"])
+    first = run_as("ana", ["--db", empty_library_url, "init", "--seed"])
     assert first.exit_code == 0, first.stderr
     assert "Created the library" in first.stdout
     added = re.search(r"ingredients +(\d+) added, 0 changed, 0 unchanged", first.stdout)
     assert added and int(added.group(1)) >= 90, first.stdout  # DESIGN.md section 4: ~95 names
     before = dump_database(empty_library_url)
 
-    second = run_formdb(["--db", empty_library_url, "--user", "bo", "init", "--seed"])
+    second = run_as("bo", ["--db", empty_library_url, "init", "--seed"])
     assert second.exit_code == 0, second.stderr
     assert "already at revision" in second.stdout and "Nothing changed." in second.stdout
     assert f"ingredients        0 added, 0 changed, {added.group(1)} unchanged" in second.stdout
     assert dump_database(empty_library_url) == before
-    assert "'ana'" in before and "'bo'" not in before  # the first run's user is on the log
+    ana = recorded_as(empty_library_url, "ana")
+    assert f"'{ana}'" in before and "'bo'" not in before  # the first run's user is on the log
 
 
 def test_init_on_postgresql(empty_pg_url: str) -> None:

@@ -67,7 +67,8 @@ def test_users_come_from_the_change_log_up_and_down(empty_library_url: str) -> N
             with unit_of_work(engine) as session:
                 assert [(u.name, u.roles) for u in list_users(session)] == users
                 # the id counter carries on after the migrated users
-                add_user(session, "larkspur-cy", ["reviewer"], actor="larkspur-ana")
+                add_user(session, "larkspur-cy", ["reviewer"], actor="larkspur-ana",
+                         server_login=False)
     finally:
         engine.dispose()
 

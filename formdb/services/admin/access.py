@@ -1,6 +1,8 @@
 """Who may do what: users and their roles are rows of the library, checked here.
 
-- admin: adds users and grants or revokes roles;
+- admin: adds, deactivates and reactivates users, grants and revokes roles, and runs the
+  commands that destroy or overwrite (``db downgrade``, ``db restore``, ``init --seed`` on an
+  existing library);
 - editor: changes the ingredient library (add, edit, retire, restore, import);
 - formulator: stores formulas;
 - reviewer: signs checked runs.
@@ -11,6 +13,12 @@ users. The first admin created closes the library: from then on every guarded ac
 acting user's roles. A refused action raises Forbidden and leaves one ``refused`` row in the
 change log (entity ``access``), committed on its own so the refusal is kept while the action's
 own writes are rolled back.
+
+Who acts is the authenticated identity (formdb.store.identity), never a typed name. On
+PostgreSQL a user is a database login with the group roles of its duties (services.admin.logins),
+so the server refuses what these checks refuse. Every change here is planned first: without
+``confirm`` the functions only return the Plan (nothing is written). Users are never deleted:
+a deactivated user keeps every row of history and cannot log in (PostgreSQL) or act.
 """
 
 from __future__ import annotations
@@ -18,10 +26,12 @@ from __future__ import annotations
 from datetime import UTC, datetime
 
 from sqlalchemy import select
+from sqlalchemy.exc import IntegrityError
 from sqlalchemy.orm import Session, selectinload
 
 from formdb.errors import Conflict, Forbidden, InvalidData, NotFound
-from formdb.schemas.admin import Action, Duty, UserInfo
+from formdb.schemas.admin import Action, Duty, Plan, UserInfo
+from formdb.services.admin import logins
 from formdb.store.models import ChangeLogEntry, User, UserRole
 
 ENTITY = "user"
@@ -32,6 +42,9 @@ NEEDS: dict[Action, Duty] = {
     Action.STORE_FORMULAS: Duty.FORMULATOR,
     Action.SIGN_RUNS: Duty.REVIEWER,
     Action.MANAGE_USERS: Duty.ADMIN,
+    Action.DOWNGRADE: Duty.ADMIN,
+    Action.RESTORE: Duty.ADMIN,
+    Action.RESEED: Duty.ADMIN,
 }
 
 
@@ -50,6 +63,13 @@ def is_open(session: Session) -> bool:
                            .where(UserRole.role == Duty.ADMIN.value, User.active.is_(True))
                            .limit(1))
     return admin is None
+
+
+def admins(session: Session) -> list[str]:
+    """Names of the active admins."""
+    return list(session.scalars(select(User.name).join(UserRole, User.id == UserRole.user_id)
+                                .where(UserRole.role == Duty.ADMIN.value, User.active.is_(True))
+                                .order_by(User.name)))
 
 
 def roles_of(session: Session, user: str) -> set[str]:
@@ -71,14 +91,14 @@ def require(session: Session, user: str, action: Action) -> None:
                                reason=f"needs role {needed.value}"))
     session.commit()
     raise Forbidden(f"{user} may not {action.value}: that needs the role {needed.value}.",
-                    hint=f"ask an admin: formdb user grant {user} {needed.value}")
+                    hint=f"ask an admin: formdb user grant {user} {needed.value} --yes")
 
 
 def _log(session: Session, actor: str, name: str, action: str, field: str | None,
-         new: str | None) -> None:
+         new: str | None, old: str | None = None) -> None:
     session.add(ChangeLogEntry(at=datetime.now(UTC), user=actor, entity=ENTITY,
                                entity_key=name[:200], entity_version=None, action=action,
-                               field=field, old_value=None, new_value=new, reason=None))
+                               field=field, old_value=old, new_value=new, reason=None))
 
 
 def _user(session: Session, name: str) -> User:
@@ -89,36 +109,173 @@ def _user(session: Session, name: str) -> User:
     return found
 
 
-def add_user(session: Session, name: str, roles: list[str], *, actor: str) -> UserInfo:
-    """Add a user with roles; in open mode anyone may (that is how the first admin arrives)."""
+def _info(user: User) -> UserInfo:
+    return UserInfo(user.name, user.active, tuple(sorted(r.role for r in user.roles)))
+
+
+def _check_prefix(prefix: str) -> None:
+    from formdb.services.admin.grants import check_prefix
+
+    check_prefix(prefix)
+
+
+def _server(session: Session, server_login: bool | None) -> bool:
+    return logins.on_server(session) if server_login is None else server_login
+
+
+def add_user(session: Session, name: str, roles: list[str], *, actor: str,
+             confirm: bool = True, prefix: str = "formdb", password: str | None = None,
+             server_login: bool | None = None) -> Plan:
+    """Add a user with roles; in open mode anyone may (that is how the first admin arrives).
+
+    On PostgreSQL (``server_login`` None or True) the user is the database login ``name``:
+    created (or adopted when it exists) and made a member of ``PREFIX_<duty>`` for each role."""
     require(session, actor, Action.MANAGE_USERS)
     name = name.strip()
     if not name or len(name) > 100 or any(not c.isprintable() for c in name):
         raise InvalidData(f"user name {name!r}: give 1-100 printable characters.",
                           hint="use the login name the person works under")
     duties = sorted({parse_duty(r).value for r in roles})
+    server = _server(session, server_login)
+    if server:
+        logins.check_login_name(name)
+        _check_prefix(prefix)
+        logins.require_groups(session, prefix, duties)
     if session.scalar(select(User.id).where(User.name == name)) is not None:
         raise Conflict(f"user {name!r} already exists.",
-                       hint=f"formdb user grant {name} ROLE adds a role")
+                       hint=f"formdb user grant {name} ROLE --yes adds a role")
+    changes = [f"add user {name} with roles {', '.join(duties) or '(none)'}"]
+    if server:
+        verb = ("adopt the existing database login" if logins.login_exists(session, name)
+                else "create the database login")
+        changes.append(f"{verb} {name}"
+                       + (" with a SCRAM password" if password is not None else
+                          " (no password: log in by certificate or as pg_hba.conf says)"))
+        changes += [f"make {name} a member of {logins.group(prefix, d)}" for d in duties]
+        if Duty.ADMIN.value in duties:
+            changes.append(f"give {name} CREATEROLE (to add and change logins)")
+    info = UserInfo(name, True, tuple(duties))
+    if not confirm:
+        return Plan("add user", tuple(changes), False, user=info)
     user = User(name=name, active=True, created_at=datetime.now(UTC), created_by=actor)
     user.roles = [UserRole(role=d) for d in duties]
     session.add(user)
-    session.flush()
+    try:
+        session.flush()
+    except IntegrityError:  # another admin added the same name a moment ago
+        raise Conflict(f"user {name!r} already exists.",
+                       hint=f"formdb user grant {name} ROLE --yes adds a role") from None
+    if server:
+        logins.create_or_adopt(session, name, password)
+        for duty in duties:
+            logins.grant_duty(session, name, prefix, duty)
     _log(session, actor, name, "add", "roles", ", ".join(duties) or None)
-    return UserInfo(name, True, tuple(duties))
+    return Plan("add user", tuple(changes), True, user=info)
 
 
-def grant(session: Session, name: str, role: str, *, actor: str) -> UserInfo:
+def grant(session: Session, name: str, role: str, *, actor: str, confirm: bool = True,
+          prefix: str = "formdb", server_login: bool | None = None) -> Plan:
+    """Give ``name`` the role (and on PostgreSQL the membership of its group role)."""
     require(session, actor, Action.MANAGE_USERS)
     duty = parse_duty(role).value
     user = _user(session, name)
-    if duty not in {r.role for r in user.roles}:
-        user.roles.append(UserRole(role=duty))
-        session.flush()
-        _log(session, actor, name, "grant", "role", duty)
-    return UserInfo(user.name, user.active, tuple(sorted(r.role for r in user.roles)))
+    server = _server(session, server_login)
+    if server:
+        _check_prefix(prefix)
+        logins.require_groups(session, prefix, [duty])
+    if duty in {r.role for r in user.roles}:
+        return Plan("grant a role", (), True, user=_info(user))
+    changes = [f"give {name} the role {duty}"]
+    if not user.active:
+        changes.append(f"({name} is inactive: the role takes effect once reactivated)")
+    if server and user.active:
+        changes.append(f"make {name} a member of {logins.group(prefix, duty)}")
+    if not confirm:
+        return Plan("grant a role", tuple(changes), False, user=_info(user))
+    user.roles.append(UserRole(role=duty))
+    session.flush()
+    if server and user.active:
+        logins.grant_duty(session, name, prefix, duty)
+    _log(session, actor, name, "grant", "role", duty)
+    return Plan("grant a role", tuple(changes), True, user=_info(user))
+
+
+def _refuse_last_admin(session: Session, user: User, what: str) -> None:
+    if user.active and Duty.ADMIN.value in {r.role for r in user.roles} \
+            and admins(session) == [user.name]:
+        raise Forbidden(f"{user.name} is the last active admin: {what} would open the library "
+                        "to everyone (open mode).",
+                        hint="add or grant another admin first")
+
+
+def revoke(session: Session, name: str, role: str, *, actor: str, confirm: bool = True,
+           prefix: str = "formdb", server_login: bool | None = None) -> Plan:
+    """Take a role away from ``name``; the grant and the revocation stay in the change log."""
+    require(session, actor, Action.MANAGE_USERS)
+    duty = parse_duty(role).value
+    user = _user(session, name)
+    held = {r.role for r in user.roles}
+    if duty not in held:
+        raise NotFound(f"{name} does not have the role {duty} (roles: "
+                       f"{', '.join(sorted(held)) or 'none'}).",
+                       hint="`formdb user list` shows every user's roles")
+    if duty == Duty.ADMIN.value:
+        _refuse_last_admin(session, user, "revoking its admin role")
+    server = _server(session, server_login)
+    if server:
+        _check_prefix(prefix)
+    changes = [f"take the role {duty} from {name}"]
+    if server:
+        changes.append(f"revoke {name}'s membership of {logins.group(prefix, duty)}")
+    if not confirm:
+        return Plan("revoke a role", tuple(changes), False, user=_info(user))
+    user.roles = [r for r in user.roles if r.role != duty]
+    session.flush()
+    if server and logins.login_exists(session, name):
+        logins.revoke_duty(session, name, prefix, duty)
+    _log(session, actor, name, "revoke", "role", None, old=duty)
+    return Plan("revoke a role", tuple(changes), True, user=_info(user))
+
+
+def set_active(session: Session, name: str, active: bool, *, actor: str, confirm: bool = True,
+               prefix: str = "formdb", server_login: bool | None = None) -> Plan:
+    """Deactivate (or reactivate) ``name``. A deactivated user keeps every row of history, may
+    not act, and on PostgreSQL cannot log in; reactivating restores the roles it kept."""
+    require(session, actor, Action.MANAGE_USERS)
+    user = _user(session, name)
+    what = "reactivate a user" if active else "deactivate a user"
+    if user.active == active:
+        return Plan(what, (), True, user=_info(user))
+    if not active:
+        _refuse_last_admin(session, user, "deactivating it")
+    server = _server(session, server_login)
+    if server:
+        _check_prefix(prefix)
+    duties = sorted(r.role for r in user.roles)
+    if active:
+        changes = [f"reactivate {name} with the roles it kept: {', '.join(duties) or 'none'}"]
+        if server:
+            changes.append(f"let the login {name} log in again and restore its memberships")
+    else:
+        changes = [f"deactivate {name}: it may no longer act; its history stays"]
+        if server:
+            changes.append(f"make the login {name} NOLOGIN and revoke its memberships "
+                           f"({', '.join(logins.group(prefix, d) for d in duties) or 'none'})")
+    if not confirm:
+        return Plan(what, tuple(changes), False, user=_info(user))
+    user.active = active
+    session.flush()
+    if server:
+        if active:
+            logins.require_groups(session, prefix, duties)
+            logins.enable(session, name, prefix, duties)
+        else:
+            logins.disable(session, name, prefix, duties)
+    _log(session, actor, name, "reactivate" if active else "deactivate", "active",
+         "true" if active else "false", old="false" if active else "true")
+    return Plan(what, tuple(changes), True, user=_info(user))
 
 
 def list_users(session: Session) -> list[UserInfo]:
     users = session.scalars(select(User).options(selectinload(User.roles)).order_by(User.name))
-    return [UserInfo(u.name, u.active, tuple(sorted(r.role for r in u.roles))) for u in users]
+    return [_info(u) for u in users]

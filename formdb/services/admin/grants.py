@@ -39,10 +39,14 @@ def _is_review(table: str) -> bool:
     return table.startswith(("review", "sign"))
 
 
-def grant_setup(url: str, prefix: str = "formdb") -> GrantReport:
+def check_prefix(prefix: str) -> None:
     if not _NAME.match(prefix):
         raise InvalidData(f"--prefix {prefix!r}: use lower-case letters, digits and _ "
                           "(starting with a letter).", hint="for example --prefix formdb")
+
+
+def grant_setup(url: str, prefix: str = "formdb") -> GrantReport:
+    check_prefix(prefix)
     engine = store.open_library(url)
     shown = store.display_url(engine.url)
     try:
