@@ -7,11 +7,15 @@ goes in. The order of the steps is the order of the data gaps and notes in every
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 from formdb.facts import droplets, hlb, phase_volume
+from formdb.facts.acid_base import free_bases
 from formdb.facts.allergen_table import allergen_table
 from formdb.facts.composition import has_mixtures, substances
 from formdb.facts.emulsion_type import emulsion_type
 from formdb.facts.exposure_sheet import exposure_sheet
+from formdb.facts.kind import EMULSION_KINDS, recognise
 from formdb.facts.phases import is_co_emulsifier_only, line_facts
 from formdb.facts.soap import form_soaps
 from formdb.facts.work import Work
@@ -36,15 +40,23 @@ def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
     blend, blend_covered, system = hlb.blend(emulsifiers, emulsifier_percent,
                                              settings.min_blend_hlb_coverage, work)
 
+    product = recognise(formula, lines, emulsifiers, work.water_formed, settings)
     kind = emulsion_type(formula, emulsifiers, blend, blend_covered, settings, work)
+    if product.kind not in EMULSION_KINDS:
+        work.note(f"{product.kind} ({product.reason}): no emulsion type, required HLB, dispersed "
+                  "phase or creaming is worked out")
+        kind = replace(kind, working=None, source=None)
     rhlb_ow = hlb.required(formula, lines, EmulsionType.OW, work)
     rhlb_wo = hlb.required(formula, lines, EmulsionType.WO, work)
-    required, coverage = hlb.working_required(kind.working, rhlb_ow, rhlb_wo,
-                                              settings.min_required_hlb_coverage, work)
+    required, coverage = (hlb.working_required(kind.working, rhlb_ow, rhlb_wo,
+                                               settings.min_required_hlb_coverage, work)
+                          if product.kind in EMULSION_KINDS else (None, None))
     tol = settings.hlb_tolerance
     solution = hlb.solve(required, emulsifiers) if required is not None else None
 
     phases = phase_volume.phase_volumes(lines, kind.working, work)
+    if phases.fraction is not None and phases.fraction > CLOSE_PACKING:
+        product = product.model_copy(update={"high_internal_phase": True})
     interface = droplets.interface(formula, settings, phases, emulsifier_percent)
     creaming = droplets.creaming(formula, settings, phases, work)
 
@@ -65,7 +77,8 @@ def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
         water_side_emulsifier_percent=kind.water_side, oil_side_emulsifier_percent=kind.oil_side,
         type_by_bancroft=kind.by_bancroft, type_by_hlb=kind.by_hlb,
         predicted_type=kind.predicted, types_disagree=kind.disagree,
-        type_decision=kind.decision, phases=phases.facts,
+        type_decision=kind.decision, kind=product, free_bases=free_bases(formula, work),
+        phases=phases.facts,
         dispersed_phase=phases.dispersed,
         dispersed_fraction=phases.fraction, packing_limit=CLOSE_PACKING,
         random_close_packing=RANDOM_CLOSE_PACKING, interface=interface, creaming=creaming,

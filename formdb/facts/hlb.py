@@ -8,7 +8,7 @@ own HLB stand in, as Wangpradit et al., OCL 29 (2022) 29, Table 4 do for glycery
 
 from __future__ import annotations
 
-from formdb.facts.phases import is_co_emulsifier_only
+from formdb.facts.phases import is_co_emulsifier_only, is_hydrocolloid
 from formdb.facts.work import Work
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.result import (
@@ -35,6 +35,7 @@ def emulsifiers(formula: ResolvedFormula, lines: list[LineFacts],
     """The emulsifier lines, then the soap formed in place, each with its share of the system."""
     members: list[tuple[str, float, float | None, Solubility | None, IonicCharacter | None,
                         bool, int | None, str | None]] = []
+    polymers: set[int] = set()
     by_no = {ln.line_no: ln for ln in formula.lines}
     for lf in lines:
         if not lf.emulsifier:
@@ -43,6 +44,8 @@ def emulsifiers(formula: ResolvedFormula, lines: list[LineFacts],
         side = lf.phase if lf.phase != "none" else None
         if ing.p.hlb is None:
             work.gap("hlb", ing.inci_name, "blend HLB")
+        if is_hydrocolloid(ing):
+            polymers.add(lf.line_no)
         members.append((ing.inci_name, lf.percent, ing.p.hlb, ing.p.solubility,
                         ing.p.ionic_character, False, lf.line_no, side))
     members.extend((soap.facts.soap, soap.facts.soap_percent, soap.facts.hlb,
@@ -53,7 +56,7 @@ def emulsifiers(formula: ResolvedFormula, lines: list[LineFacts],
                             ionic_character=m[4], share=m[1] / total if total > 0 else 0.0,
                             formed_in_place=m[5], line_no=m[6],
                             side=m[7],
-                            scale=None if m[2] is None else hlb_scale(
+                            scale=None if m[2] is None or m[6] in polymers else hlb_scale(
                                 m[2], m[5] or m[4] in IONISED))
             for m in members]
 

@@ -33,6 +33,12 @@ def is_emulsifier(ing: IngredientRecord) -> bool:
     return ing.has_role(Role.EMULSIFIER) and not ing.has_role(Role.FATTY_ACID)
 
 
+def is_hydrocolloid(ing: IngredientRecord) -> bool:
+    """A gum or protein that emulsifies and thickens: a polymer, which has no HLB in Griffin's
+    sense (its value is never averaged into a blend) and is never an HLB partner."""
+    return ing.has_role(Role.EMULSIFIER) and ing.has_role(Role.THICKENER)
+
+
 def is_co_emulsifier_only(ing: IngredientRecord) -> bool:
     return ing.has_role(Role.CO_EMULSIFIER) and not is_emulsifier(ing)
 

@@ -93,6 +93,19 @@ def _or_not_stated(value: object) -> str:
     return "not stated" if value is None else str(getattr(value, "value", value))
 
 
+def _kind_text(result: CheckResult) -> str:
+    kind = result.facts.kind
+    if kind is None:
+        return "not recognised"
+    hipe = ", high internal phase" if kind.high_internal_phase else ""
+    return f"{kind.kind}{hipe} ({kind.source}: {kind.reason})"
+
+
+def _is_emulsion(result: CheckResult) -> bool:
+    kind = result.facts.kind
+    return kind is None or kind.kind in ("emulsion", "soap cream")
+
+
 def header_lines(result: CheckResult) -> tuple[Line, ...]:
     facts = result.facts
     return (
@@ -100,6 +113,7 @@ def header_lines(result: CheckResult) -> tuple[Line, ...]:
         Line("Category", result.category.value),
         Line("Product type", _or_not_stated(result.product)),
         Line("Intended type", _or_not_stated(result.intended_type)),
+        Line("Product kind", _kind_text(result)),
         Line("pH", "not stated" if result.ph is None else f"{result.ph:g}"),
         Line("Profile", f"{result.profile.name} (version {result.profile.version})"),
         Line("Total of the lines", n.percent(facts.percent_total)),
@@ -113,10 +127,13 @@ def formula_view(result: CheckResult) -> FormulaView:
     counts = result.severity_counts()
     text, flag = verdict(counts)
     facts = result.facts
+    emulsion = _is_emulsion(result)  # other kinds get only the sections that apply to them
     sections = tuple(s for s in (
-        phases_section(facts), substance_section(facts), hlb_section(facts),
-        prediction_section(result),
-        packing_section(facts), interface_section(facts), exposure_section(facts),
+        phases_section(facts), substance_section(facts),
+        hlb_section(facts) if emulsion else None,
+        prediction_section(result) if emulsion else None,
+        packing_section(facts) if emulsion else None,
+        interface_section(facts) if emulsion else None, exposure_section(facts),
         allergen_section(facts), data_gaps_section(facts)) if s is not None)
     return FormulaView(title=result.formula, header=header_lines(result), verdict=text,
                        verdict_flag=flag, sections=sections,

@@ -59,6 +59,12 @@ class Rule:
     groups: ClassVar[tuple[str, ...]]
     default_severity: ClassVar[Severity]
     options: ClassVar[Mapping[str, Option]] = {}
+    # the product kinds (facts.kind) the rule judges; None: every kind
+    kinds: ClassVar[frozenset[str] | None] = None
+
+    def applies_to(self, facts: FormulaFacts) -> bool:
+        """Whether the rule judges a formula of this kind of product."""
+        return self.kinds is None or facts.kind is None or facts.kind.kind in self.kinds
 
     def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,
               options: Mapping[str, Any]) -> Iterable[Finding]:

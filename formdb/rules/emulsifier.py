@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from collections.abc import Iterable, Mapping
-from typing import Any
+from typing import Any, ClassVar
 
 from formdb.rules.base import Rule
 from formdb.rules.registry import register
@@ -19,7 +19,10 @@ class NoEmulsifier(Rule):
     """Oil and water phases are both present but there is no emulsifier at all.
 
     Flags: a formula with an oil phase and a water phase and no emulsifier: no line with the
-    emulsifier role and no soap formed in the batch from a fatty acid and a base.
+    emulsifier role and no soap formed in the batch from a fatty acid and a base. Judges
+    emulsions only (facts.kind): an oil content below the trace threshold ([facts]
+    trace_phase_percent, 1 %: a perfume or preservative dissolved in water) makes no oil phase,
+    and an anhydrous product has no water phase.
     Why: without an emulsifier the interface created by mixing is not held; the drops coalesce
     and the phases separate within hours. Co-emulsifiers (fatty alcohols, glyceryl stearate)
     thicken and stabilise a film but do not emulsify on their own. A soap made in place
@@ -34,6 +37,7 @@ class NoEmulsifier(Rule):
     name = "no-emulsifier"
     groups = ("emulsion",)
     default_severity = Severity.ERROR
+    kinds: ClassVar[frozenset[str] | None] = frozenset({"emulsion"})
 
     def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,
               options: Mapping[str, Any]) -> Iterable[Finding]:

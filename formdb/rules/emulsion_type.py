@@ -61,7 +61,7 @@ class EmulsionTypeCheck(Rule):
     intended O/W, above strong_ow_above (10) for an intended W/O, or soap/ionic members alone on
     the wrong side (a divalent soap as the only emulsifier of an O/W). A warning when the
     decided type differs on weaker evidence. An info naming the indicators when they disagree
-    among themselves (never an error by itself).
+    among themselves (never an error by itself). Judges emulsions and soap creams (facts.kind).
     Decision table (formdb.science.emulsion_type.decide_type): the blend HLB's class (Griffin
     members only; W/O at or below 6, O/W at or above 8) and the soap/ionic members (monovalent
     soaps and water-soluble ionic surfactants O/W, divalent and trivalent soaps W/O) decide; when
@@ -86,6 +86,7 @@ class EmulsionTypeCheck(Rule):
     name = "emulsion-type"
     groups = ("emulsion",)
     default_severity = Severity.ERROR
+    kinds: ClassVar[frozenset[str] | None] = frozenset({"emulsion", "soap cream"})
     options: ClassVar[dict[str, Option]] = {
         "strong_wo_below": Option(float, 6.0, "blend HLB below which an intended O/W is "
                                               "contradicted strongly", minimum=0),

@@ -1,6 +1,7 @@
 """The engine: one resolved formula, the reference data, a profile -> a CheckResult. Pure.
 
-The facts are worked out once; every enabled rule reads them with the formula and returns its
+The facts are worked out once; every enabled rule that applies to the formula's kind of product
+(``Rule.kinds``) reads them with the formula and returns its
 findings; a profile's severity override for a rule applies to all of that rule's findings.
 """
 
@@ -22,6 +23,8 @@ def check_resolved(formula: ResolvedFormula, reference: ReferenceData, profile: 
     facts = compute_facts(formula, reference, profile.facts_settings(registry))
     findings: list[Finding] = []
     for rule in profile.enabled_rules(registry):
+        if not rule.applies_to(facts):
+            continue
         options = profile.options_for(rule)
         override = profile.severity_for(rule)
         for finding in rule.check(formula, facts, reference, options):

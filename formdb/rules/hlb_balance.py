@@ -40,6 +40,8 @@ class HlbBalance(Rule):
     min_blend_hlb_coverage (0.8) of the emulsifier system (the data gap is reported instead).
     An info when the system is led by ionic members (soaps, ionic surfactants on Davies' scale):
     their values are not averaged with Griffin's, and no HLB balance is judged for them.
+    Judges emulsions only (facts.kind): not soap creams, surfactant solutions, gels or
+    anhydrous products.
     Why: Griffin's method (J. Soc. Cosmet. Chem. 1 (1949) 311): an oil phase is emulsified best
     by an emulsifier blend whose HLB matches its required HLB. Required HLB values are guides,
     not exact targets (Pasquali et al., Int. J. Pharm. 356 (2008) 44), hence the tolerance.
@@ -58,6 +60,7 @@ class HlbBalance(Rule):
     name = "hlb-balance"
     groups = ("emulsion", "hlb")
     default_severity = Severity.WARNING
+    kinds: ClassVar[frozenset[str] | None] = frozenset({"emulsion"})
     options: ClassVar[dict[str, Option]] = {
         "tolerance": Option(float, 1.0, "half-width of the accepted HLB band", minimum=0),
     }

@@ -18,9 +18,12 @@ from formdb.schemas.vocab import Severity
 class Packing(Rule):
     """The dispersed phase fills more volume than spheres can pack into.
 
-    Flags: a warning when the dispersed phase's volume fraction (from the weights and the
-    library's densities) is above pi/sqrt(18) = 0.7405, the densest packing of equal spheres;
-    an info when it is above random close packing, about 0.64.
+    Flags: a dispersed phase whose volume fraction (from the weights and the library's
+    densities) is above pi/sqrt(18) = 0.7405, the densest packing of equal spheres. A high
+    internal phase emulsion whose emulsifier system clearly gives the working type (the type
+    decision is strong and matches) is judged as one: an info on the emulsifier and process it
+    needs. Otherwise a warning that it is likely to invert. An info when the fraction is above
+    random close packing, about 0.64. Judges emulsions and soap creams only (facts.kind).
     Why: equal spheres cannot fill more than 74 % of space (Kepler's conjecture, proved by
     Hales, Ann. Math. 162 (2005) 1065); randomly packed ones about 64 % (Scott & Kilgour,
     J. Phys. D 2 (1969) 863). Beyond these the drops must be polydisperse or squeezed out of
@@ -36,6 +39,7 @@ class Packing(Rule):
     name = "packing"
     groups = ("emulsion",)
     default_severity = Severity.WARNING
+    kinds: ClassVar[frozenset[str] | None] = frozenset({"emulsion", "soap cream"})
     options: ClassVar[dict[str, Option]] = {
         "random_close_info": Option(bool, True, "report fractions above random close packing"),
         "random_close": Option(float, 0.64, "random close packing limit", minimum=0),
@@ -52,7 +56,20 @@ class Packing(Rule):
             "dispersed_fraction": phi, "dispersed_phase": phase,
             "packing_limit": facts.packing_limit, "random_close_packing": options["random_close"]}
         kind = facts.working_type.value if facts.working_type else ""
-        if phi > facts.packing_limit:
+        decision = facts.type_decision
+        designed = (decision is not None and decision.strong
+                    and decision.predicted == facts.working_type)
+        if phi > facts.packing_limit and designed:
+            yield self.finding(
+                Severity.INFO,
+                f"a high internal phase emulsion ({kind}): the dispersed {phase} phase fills "
+                f"{phi:.3f} of the volume, beyond the {facts.packing_limit:.4f} of equal spheres, "
+                "so its drops are polydisperse and deformed",
+                ingredients=names, values=values,
+                advice=(f"it needs an emulsifier system clearly on the {kind.split('/')[-1]} "
+                        "side at a generous level (the interface is large), the internal phase "
+                        "added slowly under steady shear, and a stability check on storage"))
+        elif phi > facts.packing_limit:
             yield self.finding(
                 self.default_severity,
                 f"the dispersed {phase} phase fills {phi:.3f} of the volume, above the "

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import math
-from typing import Any
+from typing import Any, Literal
 
 from pydantic import BaseModel, ConfigDict, Field, field_validator
 
@@ -76,6 +76,9 @@ class FormulaFile(BaseModel):
     category: Category
     product: str | None = Field(None, max_length=100)
     intended_type: EmulsionType | None = None
+    # optional: the kind of product when recognising it from the lines is not wanted
+    kind: Literal["emulsion", "anhydrous", "surfactant solution", "soap cream", "aqueous gel",
+                  "aqueous solution"] | None = None
     ph: float | None = Field(None, ge=0, le=14)
     batch_kg: float | None = Field(None, gt=0, le=1e6)
     process: ProcessConditions = ProcessConditions()

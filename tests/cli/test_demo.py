@@ -84,3 +84,24 @@ def test_light_lotion_misses_its_required_hlb(demo) -> None:
     target = result.facts.required_hlb
     x = (target - 15.0) / (4.3 - 15.0)
     assert solution.fractions[solution.emulsifiers.index("Sorbitan Oleate")] == pytest.approx(x)
+
+
+def test_demo_kinds_are_recognised(demo) -> None:
+    """Each demo formula is judged as the kind of product it is (issue 10): the vanishing cream
+    is a soap cream with no HLB verdict (its soap is on Davies' scale), the body wash a
+    surfactant solution with no emulsion sections, the creams emulsions."""
+    kinds = {code: _by_name(demo, code).facts.kind.kind
+             for code in ("LB-110", "LB-205", "LB-301", "LB-412", "LB-520", "LB-630")}
+    assert kinds == {"LB-110": "emulsion", "LB-205": "emulsion", "LB-301": "soap cream",
+                     "LB-412": "surfactant solution", "LB-520": "emulsion",
+                     "LB-630": "emulsion"}
+    assert "HLB01" not in _codes(_by_name(demo, "LB-301"))
+    assert not {"HLB01", "TYP01", "PAK01", "EMU01"} & _codes(_by_name(demo, "LB-412"))
+
+
+def test_body_lotion_pair_meets_its_oil_phase(demo) -> None:
+    # glyceryl stearate in the oil phase at 3.8 (Wangpradit et al., OCL 29 (2022) 29); the
+    # ceteareth-20 3.0 (15.2) + sorbitan stearate 1.5 (4.7) pair gives (45.6 + 7.05)/4.5 = 11.7
+    result = _by_name(demo, "LB-520")
+    assert result.facts.blend_hlb == pytest.approx(11.7)
+    assert "HLB01" not in _codes(result)

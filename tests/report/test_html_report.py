@@ -80,7 +80,9 @@ def test_chart_marks_blend_and_band() -> None:
 def test_chart_axis_widens_for_ionic_hlb() -> None:
     extra = {"Sulfate Test": {"roles": {Role.EMULSIFIER},
                               "props": {"hlb": 40.0, "solubility": "water"}}}
-    html = render([result(lines=[("Water", 90.0), ("Sulfate Test", 10.0)], extra=extra)],
+    # an emulsion (the chart belongs to the HLB section, which only emulsions get)
+    html = render([result(lines=[("Water", 70.0), ("Isopropyl Myristate", 20.0),
+                                 ("Sulfate Test", 10.0)], extra=extra)],
                   "html")
     svg = html[html.index("<svg"):html.index("</svg>")]
     ticks = re.findall(r'fill="#5b6675">(\d+)</text>', svg)

@@ -156,3 +156,15 @@ def test_extends_loop(tmp_path: Path) -> None:
     write(tmp_path, f'name = "b"\nversion = "1"\nextends = "{tmp_path}/a.toml"\n', "b.toml")
     with pytest.raises(ConfigError, match="loops back"):
         load_profile(tmp_path / "a.toml")
+
+
+@pytest.mark.parametrize("name", ["default", "strict"])
+def test_every_packaged_profile_sets_the_sccs_defaults(name: str) -> None:
+    """SCCS Notes of Guidance, 12th revision (SCCS/1647/22): without data, 50 % oral
+    bioavailability and 50 % dermal absorption (regulatory.md section 2.1, from memory); each
+    profile names the revision and the section."""
+    facts = load_profile(name).facts
+    assert facts.default_oral_bioavailability_percent == 50.0
+    assert facts.default_dermal_absorption_percent == 50.0
+    for source in (facts.oral_bioavailability_source, facts.dermal_absorption_source):
+        assert "SCCS/1647/22" in source and "section" in source and "12th revision" in source

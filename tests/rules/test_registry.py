@@ -11,7 +11,8 @@ from formdb.rules.base import DOC_SECTIONS, Option, Rule, rule_doc
 from formdb.rules.registry import RuleRegistry, default_registry
 from formdb.schemas.vocab import Severity
 
-EXPECTED_CODES = {"BAL01", "EMU01", "HLB01", "TYP01", "PAK01", "ION01", "LIM01", "LIM02",
+EXPECTED_CODES = {"ALK01", "ALK02", "BAL01", "EMU01", "HLB01", "TYP01", "PAK01", "ION01", "LIM01",
+                  "LIM02",
                   "PH01", "USE01", "GAP01", "MOS01", "ALG01", "EVD01"}
 
 

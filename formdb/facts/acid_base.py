@@ -1,0 +1,63 @@
+"""Bases left free in the batch: after the soaps form (what the neutralisation leaves over), or
+with no fatty acid to take them at all.
+
+A strong base is an alkali-metal hydroxide: a base with one cation charge (``cation_valence`` 1)
+that gives one water per equivalent (``neutralisation_water`` 1), i.e. sodium and potassium
+hydroxide; triethanolamine (no water formed) and magnesium oxide (divalent) are weak or
+insoluble and are left to the pH rules. Other acids present (a pH adjuster that is not a base,
+an INCI name ending in "Acid", an anionic polymer such as carbomer) may take some of a free base
+up; their acid equivalents are not in the library, so the free amount is then an upper bound.
+"""
+
+from __future__ import annotations
+
+from formdb.facts.work import Work
+from formdb.schemas.formula import ResolvedFormula
+from formdb.schemas.ingredient import IngredientRecord
+from formdb.schemas.result import FreeBaseFacts
+from formdb.schemas.vocab import Role
+from formdb.science.acid_base import hydroxide_molarity, strong_base_ph
+
+ACID_CLASSES = frozenset({"anionic polymer"})
+
+
+def is_base(ing: IngredientRecord) -> bool:
+    return ing.p.base_equivalents is not None and not ing.has_role(Role.FATTY_ACID)
+
+
+def is_strong_base(ing: IngredientRecord) -> bool:
+    return is_base(ing) and ing.p.cation_valence == 1 and ing.p.neutralisation_water == 1
+
+
+def is_other_acid(ing: IngredientRecord) -> bool:
+    if is_base(ing) or ing.has_role(Role.FATTY_ACID):
+        return False
+    return (ing.has_role(Role.PH_ADJUSTER) or ing.inci_name.casefold().endswith(" acid")
+            or bool(ing.classes & ACID_CLASSES))
+
+
+def free_bases(formula: ResolvedFormula, work: Work) -> tuple[FreeBaseFacts, ...]:
+    """Every strong base with some of it left free, with the pH its free part would give."""
+    acids = tuple(ln.ingredient.inci_name for ln in formula.lines
+                  if is_other_acid(ln.ingredient))
+    water = sum(ln.percent for ln in formula.lines if ln.ingredient.has_role(Role.WATER))
+    water += work.water_formed
+    soaped = {s.facts.base_line_no for s in work.soaps}
+    out = []
+    for ln in formula.lines:
+        ing = ln.ingredient
+        free = work.remaining.get(ln.line_no, 0.0)
+        if not is_strong_base(ing) or free <= 1e-9:
+            continue
+        molarity = low = high = None
+        if ing.p.molar_mass and water > 0:
+            molarity = hydroxide_molarity(free, ing.p.molar_mass, ing.p.base_equivalents or 1.0,
+                                          water)
+            low, high = strong_base_ph(molarity)
+        elif not ing.p.molar_mass:
+            work.gap("molar_mass", ing.inci_name, "free alkali pH")
+        out.append(FreeBaseFacts(
+            base=ing.inci_name, free_percent=free, strong=True, water_phase_percent=water,
+            molar_concentration=molarity, ph_low=low, ph_high=high, acids_present=acids,
+            after_soap=ln.line_no in soaped))
+    return tuple(out)

@@ -1,0 +1,109 @@
+"""ALK01 and ALK02: acid-base chemistry a formulator checks by hand (free alkali, high pH)."""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Mapping
+from typing import Any, ClassVar
+
+from formdb.rules.base import Option, Rule
+from formdb.rules.registry import register
+from formdb.schemas.findings import Finding
+from formdb.schemas.formula import ResolvedFormula
+from formdb.schemas.reference import ReferenceData
+from formdb.schemas.result import FormulaFacts
+from formdb.schemas.vocab import Category, Severity
+
+# rule of thumb until the regulatory-lists issue supplies the legal limit: skin tolerates a
+# leave-on product up to about pH 11 at most (from memory: EU Regulation 1223/2009 Annex III
+# entry 15a limits sodium and potassium hydroxide as pH adjusters to pH 11 in other uses)
+LEAVE_ON_PH_MAX = 11.0
+
+
+@register
+class FreeAlkali(Rule):
+    """A strong base is left free in the batch.
+
+    Flags: sodium or potassium hydroxide (an alkali-metal hydroxide: one cation charge, one water
+    per equivalent) left over after the soaps form, or with no fatty acid to take it at all. The
+    finding states the free amount (% w/w), its concentration in the water phase and the pH to
+    expect from it (14 + log10[OH-] at 25 degC, the ideal value, and half a unit below for
+    activity and buffers). A warning; an info when other acids (citric or lactic acid, carbomer)
+    are present that may take it up (their equivalents are not in the library, so the free
+    amount is an upper bound).
+    Why: a soap batch is made with the base a little short of the acid so no alkali is left;
+    free alkali in a leave-on product irritates skin and eyes and saponifies esters on storage.
+    Stoichiometry as in formdb.science.soap; pH from Kw = 1.0e-14 at 25 degC (any physical
+    chemistry text).
+    Fails: Stearic Acid 15, Sodium Hydroxide 2.5, Water 82.5: 15/284.48 = 0.0527 mol acid takes
+    2.11 g of NaOH, 0.39 % is left free, about 0.12 mol/L, pH about 12.6-13.1.
+    Passes: Stearic Acid 15, Sodium Hydroxide 0.5, Water 84.5 (the acid in excess: no free
+    base).
+    Options: none.
+    """
+
+    code = "ALK01"
+    name = "free-alkali"
+    groups = ("chemistry",)
+    default_severity = Severity.WARNING
+
+    def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,
+              options: Mapping[str, Any]) -> Iterable[Finding]:
+        for base in facts.free_bases:
+            where = ("left over after the soap formed" if base.after_soap
+                     else "with no fatty acid to take it")
+            ph = (f"; in the {base.water_phase_percent:.4g} % water phase that is "
+                  f"{base.molar_concentration:.3g} mol/L, pH about {base.ph_low:.1f} to "
+                  f"{base.ph_high:.1f}" if base.molar_concentration is not None
+                  and base.ph_low is not None and base.ph_high is not None else "")
+            severity = Severity.INFO if base.acids_present else self.default_severity
+            taken = (f"; {', '.join(base.acids_present)} may take some of it up (their acid "
+                     "equivalents are not in the library, so this is an upper bound)"
+                     if base.acids_present else "")
+            yield self.finding(
+                severity,
+                f"{base.base} {base.free_percent:.3g} % is free, {where}{ph}{taken}",
+                ingredients=[base.base],
+                values={"free_percent": base.free_percent, "ph_low": base.ph_low,
+                        "ph_high": base.ph_high, "hydroxide_mol_l": base.molar_concentration},
+                advice=("reduce the base to what the acid takes (or add acid), then measure the "
+                        "pH of the batch; a leave-on product above pH 11 is not acceptable "
+                        "(rule of thumb)"))
+
+
+@register
+class LeaveOnPh(Rule):
+    """A leave-on product whose stated pH is above the rule-of-thumb maximum.
+
+    Flags: a leave-on formula with a stated pH above max_ph (default 11).
+    Why: skin's surface is acid (about pH 4.5-5.5) and a leave-on product far above it
+    irritates. The maximum of 11 is a rule of thumb until the regulatory lists give the legal
+    limit (from memory: EU Regulation 1223/2009 Annex III entry 15a limits sodium and potassium
+    hydroxide used as pH adjusters to pH 11 in other uses; the regulatory-lists issue owns that
+    limit). Rinse-off products (soaps, depilatories) are not judged here.
+    Fails: leave-on, pH 12.8, Water 99.5, Sodium Hydroxide 0.5.
+    Passes: leave-on, pH 5.5; rinse-off at pH 10.
+    Options: max_ph (default 11.0).
+    """
+
+    code = "ALK02"
+    name = "leave-on-ph"
+    groups = ("chemistry",)
+    default_severity = Severity.WARNING
+    options: ClassVar[dict[str, Option]] = {
+        "max_ph": Option(float, LEAVE_ON_PH_MAX, "highest pH of a leave-on product", minimum=0),
+    }
+
+    def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,
+              options: Mapping[str, Any]) -> Iterable[Finding]:
+        body = formula.formula
+        limit = options["max_ph"]
+        if body.category != Category.LEAVE_ON or body.ph is None or body.ph <= limit + 1e-9:
+            return
+        bases = [b.base for b in facts.free_bases]
+        yield self.finding(
+            self.default_severity,
+            f"stated pH {body.ph:g} is above {limit:g} for a leave-on product (rule of thumb "
+            "until the regulatory lists give the legal limit)",
+            ingredients=bases, values={"ph": body.ph, "max_ph": limit},
+            advice="bring the pH down with less base or an acid, or treat the product as "
+                   "rinse-off if that is what it is")
