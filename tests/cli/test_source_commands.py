@@ -15,7 +15,7 @@ from pathlib import Path
 import pytest
 
 from tests.fixtures.tables.library_setup import build_library
-from tests.helpers import dump_database, run_formdb
+from tests.helpers import dump_database, recorded_as, run_as
 
 TDS = ["--kind", "supplier data sheet", "--citation",
        "Invented supplier, technical data sheet for polysorbate 80 (test data)",
@@ -29,7 +29,7 @@ def library(library_url: str) -> str:
 
 
 def _formdb(url: str, *args: str, user: str = "ana"):
-    return run_formdb(["--db", url, "--user", user, *args])
+    return run_as(user, ["--db", url, *args])
 
 
 def _refused(url: str, *args: str, words: str) -> None:
@@ -66,7 +66,7 @@ def test_source_add_show_edit_history(library: str, tmp_path: Path) -> None:
     assert "lot: (none) -> L-0425" in edited.stdout
     history = _formdb(library, "source", "history", "invented-tds-2025").stdout
     assert "supplier sent its sheet" in history and "lot of our drum" in history
-    assert "L-0425" in history and "ana" in history
+    assert "L-0425" in history and recorded_as(library, "ana") in history
     listed = json.loads(_formdb(library, "source", "list", "--format", "json").stdout)
     row = next(r for r in listed if r["key"] == "invented-tds-2025")
     assert row["kind"] == "supplier data sheet" and row["evidence"] == "supplier"
