@@ -40,6 +40,8 @@ COMMANDS: dict[str, str] = {
     "source": "formdb.cli.evidence:source_group",
     "toxicology": "formdb.cli.evidence:toxicology_group",
     "exposure": "formdb.cli.evidence:exposure_group",
+    "batch": "formdb.cli.bench:batch_cmd",
+    "price": "formdb.cli.bench:price_group",
 }
 
 

@@ -15,14 +15,15 @@ if TYPE_CHECKING:
     from formdb.schemas.result import CheckResult
 
 
-def write_report(path: Path, text: str) -> None:
-    """Write the report whole or not at all (a temporary file renamed into place), so a
-    reader never finds half a report."""
+def write_report(path: Path, text: str | bytes) -> None:
+    """Write the report (text, or bytes such as an XLSX workbook) whole or not at all (a
+    temporary file renamed into place), so a reader never finds half a report."""
     folder = path.parent if str(path.parent) else Path(".")
+    data = text.encode("utf-8") if isinstance(text, str) else text
     try:
-        with tempfile.NamedTemporaryFile("w", encoding="utf-8", dir=folder, delete=False,
+        with tempfile.NamedTemporaryFile("wb", dir=folder, delete=False,
                                          prefix=f".{path.name}.", suffix=".part") as handle:
-            handle.write(text)
+            handle.write(data)
         os.replace(handle.name, path)
     except OSError as exc:
         raise InvalidData(f"{path}: the report cannot be written ({exc.strerror or exc})",

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+from enum import StrEnum
 from typing import Any, Literal
 
 from pydantic import BaseModel, ConfigDict, Field, field_validator
@@ -19,6 +20,19 @@ class FormulaLine(BaseModel):
     inci: str = Field(min_length=1, max_length=200)
     percent: float
     phase: str | None = Field(None, max_length=8)
+    note: str | None = Field(None, max_length=500)  # printed on the weigh sheet
+    supplier: str | None = Field(None, max_length=200)  # whose material; picks its price
+    lot: str | None = Field(None, max_length=100)  # the lot weighed, for the batch record
+
+    @field_validator("note", "supplier", "lot")
+    @classmethod
+    def _clean_text(cls, value: str | None) -> str | None:
+        if value is None:
+            return None
+        cleaned = " ".join(value.split())
+        if not cleaned:
+            raise ValueError("is empty (leave the key out instead)")
+        return cleaned
 
     @field_validator("percent", mode="before")
     @classmethod
@@ -49,22 +63,83 @@ class FormulaLine(BaseModel):
     @field_validator("phase")
     @classmethod
     def _clean_phase(cls, value: str | None) -> str | None:
-        if value is None:
-            return None
-        cleaned = value.strip().upper()
-        if not cleaned or not cleaned.isalnum():
-            raise ValueError(f"phase must be a letter such as A, B or C, got {value!r}")
+        return None if value is None else _phase_letter(value)
+
+
+def _phase_letter(value: str) -> str:
+    cleaned = value.strip().upper()
+    if not cleaned or not cleaned.isalnum():
+        raise ValueError(f"phase must be a letter such as A, B or C, got {value!r}")
+    return cleaned
+
+
+class MixingKind(StrEnum):
+    """How a step is stirred: the kinds of mixer a cosmetic bench uses."""
+
+    NONE = "none"
+    HAND = "hand"
+    PADDLE = "paddle"
+    ANCHOR = "anchor"
+    PROPELLER = "propeller"
+    TURBINE = "turbine"
+    HIGH_SHEAR = "high-shear"
+    HOMOGENISER = "homogeniser"
+
+
+class ProcessStep(BaseModel):
+    """One step of the making, in order: the phase(s) it handles, at what temperature, how
+    mixed and for how long. The weigh sheet groups lines by the order phases first appear."""
+
+    model_config = ConfigDict(extra="forbid")
+
+    phases: list[str] = Field(min_length=1, max_length=20)
+    temperature_c: float | None = Field(None, ge=-20, le=150)
+    mixing: MixingKind | None = None
+    speed_rpm: float | None = Field(None, gt=0, le=100000)
+    minutes: float | None = Field(None, gt=0, le=10000)
+    note: str | None = Field(None, max_length=500)
+
+    @field_validator("phases", mode="before")
+    @classmethod
+    def _one_or_many(cls, value: Any) -> Any:
+        return [value] if isinstance(value, str) else value
+
+    @field_validator("phases")
+    @classmethod
+    def _clean_phases(cls, value: list[str]) -> list[str]:
+        cleaned = [_phase_letter(v) for v in value]
+        if len(set(cleaned)) != len(cleaned):
+            raise ValueError("a phase is named twice")
         return cleaned
+
+    @field_validator("temperature_c", "speed_rpm", "minutes", mode="before")
+    @classmethod
+    def _numbers_only(cls, value: Any) -> Any:
+        if value is not None and (isinstance(value, bool) or not isinstance(value, int | float)):
+            raise ValueError(f"must be a number, got {value!r}")
+        return value
 
 
 class ProcessConditions(BaseModel):
-    """Optional process figures that sharpen the interface and creaming estimates."""
+    """Optional process figures that sharpen the interface and creaming estimates, and the
+    ordered steps of the making (``[[process.steps]]``)."""
 
     model_config = ConfigDict(extra="forbid")
 
     droplet_diameter_um: float | None = Field(None, gt=0, le=10000)
     surface_excess_mg_m2: float | None = Field(None, gt=0, le=100)
     temperature_c: float | None = Field(None, ge=-20, le=150)
+    steps: list[ProcessStep] = Field(default_factory=list, max_length=200)
+
+    def emulsifying_temperature_c(self) -> float | None:
+        """The temperature the phases meet at: ``temperature_c`` when given, else that of the
+        first step joining two or more phases, else None."""
+        if self.temperature_c is not None:
+            return self.temperature_c
+        for step in self.steps:
+            if len(step.phases) >= 2 and step.temperature_c is not None:
+                return step.temperature_c
+        return None
 
 
 class FormulaFile(BaseModel):
@@ -90,6 +165,12 @@ class FormulaFile(BaseModel):
         if value is not None and (isinstance(value, bool) or not isinstance(value, int | float)):
             raise ValueError(f"must be a number, got {value!r}")
         return value
+
+    def step_phase_problems(self) -> list[tuple[int, str]]:
+        """(step row from 1, phase) for each step naming a phase no ingredient line has."""
+        used = {line.phase for line in self.ingredients if line.phase}
+        return [(row, phase) for row, step in enumerate(self.process.steps, start=1)
+                for phase in step.phases if phase not in used]
 
 
 class ResolvedLine(BaseModel):

@@ -426,3 +426,20 @@ class ListIngredient(Base):
     annex: Mapped[str] = mapped_column(String(10))
     entry_key: Mapped[str] = mapped_column(String(300))
     created_at: Mapped[datetime] = mapped_column(DateTime(timezone=True))
+
+
+class IngredientPrice(Base):
+    """A quoted price of an ingredient (per kg, currency, supplier, date). Rows are only added:
+    the rows of an ingredient are its price history; a weigh sheet uses the latest quote."""
+
+    __tablename__ = "ingredient_prices"
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    ingredient_id: Mapped[int] = mapped_column(ForeignKey("ingredients.id"), index=True)
+    price_per_kg: Mapped[float] = mapped_column(Float)
+    currency: Mapped[str] = mapped_column(String(3))
+    supplier: Mapped[str] = mapped_column(String(200))
+    quoted_on: Mapped[date] = mapped_column(Date)
+    recorded_at: Mapped[datetime] = mapped_column(DateTime(timezone=True))
+    recorded_by: Mapped[str] = mapped_column(String(100))
+    note: Mapped[str | None] = mapped_column(Text)

@@ -33,6 +33,11 @@ def _where(loc: tuple[int | str, ...]) -> str:
             parts.append(f"ingredients row {int(loc[i + 1]) + 1}")
             i += 2
             continue
+        if item == "process" and loc[i + 1:i + 2] == ("steps",) and i + 2 < len(loc) \
+                and isinstance(loc[i + 2], int):
+            parts.append(f"process.steps row {int(loc[i + 2]) + 1}")
+            i += 3
+            continue
         parts.append(f"key {item}")
         i += 1
     return ", ".join(parts) if parts else "top level"
@@ -60,10 +65,17 @@ def parse_formula_text(text: str, label: str) -> FormulaFile:
         raise InvalidData(f"{label}: not a valid TOML formula file ({exc})",
                           hint="fix the TOML syntax at the line named") from None
     try:
-        return FormulaFile.model_validate(data)
+        formula = FormulaFile.model_validate(data)
     except ValidationError as exc:
         raise InvalidData.of(validation_problems(label, exc),
                              hint="correct the formula file and check again") from None
+    unused = formula.step_phase_problems()
+    if unused:
+        raise InvalidData.of(
+            [f"{label}, process.steps row {row}, key phases: phase {phase!r} has no "
+             "ingredient line" for row, phase in unused],
+            hint="name only phases that ingredient lines use (their phase key)")
+    return formula
 
 
 def read_formula_file(path: Path) -> tuple[FormulaFile, str]:
