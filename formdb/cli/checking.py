@@ -16,6 +16,7 @@ import click
 
 from formdb.cli.main import AppContext, with_library
 from formdb.errors import InvalidData
+from formdb.schemas.vocab import EmulsionType
 
 if TYPE_CHECKING:
     from formdb.store.library import Library
@@ -158,6 +159,9 @@ def _blend_mode(file: Path | None, target: float | None, using: tuple[str, ...],
                    "formula's own total with FILE).")
 @click.option("--top", type=click.IntRange(1, 100), default=10, show_default=True,
               help="How many pairs --search prints.")
+@click.option("--type", "kind", type=click.Choice(("O/W", "W/O")), default=None,
+              help="--search: the emulsion type the pair must suit (default: the formula's "
+                   "type, else the target's HLB class).")
 @click.option("--profile", default="default", show_default=True,
               help="Rule profile for FILE (its HLB tolerance and facts settings).")
 @click.option("--format", "fmt", type=click.Choice(("text", "json")), default="text",
@@ -165,7 +169,7 @@ def _blend_mode(file: Path | None, target: float | None, using: tuple[str, ...],
 @with_library
 def blend_cmd(app: AppContext, library: Library, file: Path | None, target: float | None,
               using: tuple[str, ...], search: bool, total: float | None, top: int,
-              profile: str, fmt: str) -> None:
+              kind: str | None, profile: str, fmt: str) -> None:
     """Emulsifier proportions for a target HLB: named emulsifiers, a formula FILE's own, or a
     --search of the library for compatible pairs."""
     from formdb.report.blend import render_plan, render_search
@@ -185,9 +189,11 @@ def blend_cmd(app: AppContext, library: Library, file: Path | None, target: floa
         elif mode == "search":
             assert target is not None
             given = blending.DEFAULT_TOTAL_PERCENT if total is None else total
-            found = blending.search_pairs(library, target, given, top)
+            found = blending.search_pairs(library, target, given, top,
+                                          kind=EmulsionType(kind) if kind else None)
             click.echo(render_search(found, fmt, color), nl=False)
         else:
             assert file is not None
-            found = blending.search_for_formula(library, file, profile, total, top, target)
+            found = blending.search_for_formula(library, file, profile, total, top, target,
+                                                EmulsionType(kind) if kind else None)
             click.echo(render_search(found, fmt, color), nl=False)

@@ -27,8 +27,12 @@ if TYPE_CHECKING:  # the report layer only reads these records; it does not call
 WIDTH = 100
 BLEND_FORMATS = ("text", "json")
 SEARCH_RANKING = (
-    "Ranked: a lipophilic with a hydrophilic member first (rule of thumb), then the smaller "
-    "distance of the farther HLB from the target, then fewer data gaps, then by name.")
+    "Candidates: weighed-in emulsifiers with an HLB on Griffin's scale (no soaps, gums, "
+    "proteins or ionic surfactants), on the right side for the type (W/O: both lipophilic; O/W: "
+    "the higher member hydrophilic). Ranked: no clash with the formula first, then a lipophilic "
+    "with a hydrophilic member, a sensible proportion (minor member at least 20 %), a usable "
+    "HLB spread (at least 2), the smaller distance of the farther HLB from the target, fewer "
+    "data gaps, then by name (each a rule of thumb).")
 
 
 def _print(*items: RenderableType, color: bool = False) -> str:
@@ -127,6 +131,11 @@ def search_text(search: PairSearch, color: bool = False) -> str:
              f"{search.excluded_incompatible} left out as incompatible, "
              f"{search.excluded_use_range} outside a typical use range; {search.found} pass.")
     items: list[RenderableType] = [Text(head, style="bold"), Text(tally)]
+    if search.emulsion_type:
+        items.append(Text(f"Pairs that suit {search.emulsion_type}."))
+    items += [Text(note) for note in search.notes]
+    if search.excluded_kinds:
+        items.append(Text("Not candidates: " + "; ".join(search.excluded_kinds) + "."))
     if not search.candidates:
         items.append(Text("No pair of library emulsifiers reaches this target within their use "
                           "ranges; try another --total."))
@@ -135,7 +144,10 @@ def search_text(search: PairSearch, color: bool = False) -> str:
                     "Max ΔHLB", "Lipo + hydro", "Gaps"), "nsnsnnsn", keep_first=False)
     for rank, pair in enumerate(search.candidates, start=1):
         table.add_row(*(Text(c) for c in _pair_cells(rank, pair)))
-    items += [Text(f"The best {len(search.candidates)}:"), table, Text(SEARCH_RANKING),
+    why = [Text(f"{rank}. {'; '.join(pair.reasons)}")
+           for rank, pair in enumerate(search.candidates, start=1) if pair.reasons]
+    items += [Text(f"The best {len(search.candidates)}:"), table, Text("Why each ranks there:"),
+              *why, Text(SEARCH_RANKING),
               Text("Max ΔHLB: the farther of the two HLBs from the target. Gaps: library values "
                    "missing for the pair (use range, solubility, ionic character) or an HLB "
                    "recorded as a rule of thumb or from memory; --format json lists them.")]

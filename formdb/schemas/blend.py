@@ -40,10 +40,15 @@ class PairCandidate:
     complementary: bool
     distance: float
     gaps: tuple[str, ...]
+    proportion_ok: bool = True  # the minor member has a sensible share of the blend
+    spread_ok: bool = True  # the two HLBs lie far enough apart for the ratio to tune the blend
+    clashes: tuple[str, ...] = ()  # incompatibilities with the formula's own ingredients
+    reasons: tuple[str, ...] = ()  # why the pair ranks where it does, in words
 
     @property
-    def rank_key(self) -> tuple[bool, float, int, str, str]:
-        return (not self.complementary, round(self.distance, 9), len(self.gaps),
+    def rank_key(self) -> tuple[bool, bool, bool, bool, float, int, str, str]:
+        return (bool(self.clashes), not self.complementary, not self.proportion_ok,
+                not self.spread_ok, round(self.distance, 9), len(self.gaps),
                 self.low.inci, self.high.inci)
 
 
@@ -60,3 +65,5 @@ class PairSearch:
     emulsifiers: int
     formula: str | None = None
     notes: tuple[str, ...] = field(default_factory=tuple)
+    emulsion_type: str | None = None  # the side the candidates must suit (O/W or W/O)
+    excluded_kinds: tuple[str, ...] = ()  # emulsifiers left out as candidates, with why

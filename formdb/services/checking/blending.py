@@ -6,23 +6,34 @@
   squares, that give the target exactly (``formdb.science.hlb.blend_fractions``).
 - ``blend_for_formula``: check a formula file, then solve its own emulsifiers for the required
   HLB of its oil phase (or a given target), starting from the proportions it has.
-- ``search_pairs``: every pair of library emulsifiers (emulsifier role, HLB known, not retired)
-  that reaches the target with both members inside their typical use range at the given total,
-  and that no incompatibility row pairs up. Ranked by, in order:
-    1. a lipophilic member with a hydrophilic one first (rule of thumb: a low-HLB and a high-HLB
+- ``search_pairs``: every pair of candidate emulsifiers that reaches the target with both
+  members inside their typical use range at the given total, and that no incompatibility row
+  pairs up. Candidates are weighed-in emulsifiers with an HLB on Griffin's scale (emulsifier
+  role, not retired): not soaps (they form in the batch from an acid and a base), not gums or
+  proteins (polymers: no HLB in Griffin's sense), not ionic surfactants (Davies' values are not
+  averaged with Griffin's). Only pairs on the right side for the type: for W/O both members
+  lipophilic (a hydrophilic partner pulls toward O/W); for O/W the higher member hydrophilic.
+  The type is the formula's working type, the one given, or the target's Griffin class (W/O at
+  or below 6, O/W at or above 8). Ranked by, in order, each reason shown:
+    1. no clash with the formula's own ingredients (FILE mode; incompatibility rows);
+    2. a lipophilic member with a hydrophilic one (rule of thumb: a low-HLB and a high-HLB
        emulsifier together make a steadier film than either alone); lipophilic means oil-soluble
        in the library, or HLB below 10 when no solubility is recorded (rule of thumb);
-    2. the smaller of the two distances ``max(target - HLB_low, HLB_high - target)``: both
+    3. a sensible proportion: the minor member at least 20 % of the blend (rule of thumb: less
+       is hard to weigh and does little);
+    4. a usable HLB spread: the two HLBs at least 2 apart, so the ratio can tune the blend when
+       the oil phase's need moves (rule of thumb);
+    5. the smaller of the two distances ``max(target - HLB_low, HLB_high - target)``: both
        HLBs close to the target from either side, so a weighing error moves the blend least;
-    3. fewer data gaps (use range ends, solubility, ionic character missing; HLB recorded only
+    6. fewer data gaps (use range ends, solubility, ionic character missing; HLB recorded only
        as a rule of thumb or from memory);
-    4. the names, alphabetically, so the order is stable.
+    7. the names, alphabetically, so the order is stable.
 """
 
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from itertools import combinations
 from pathlib import Path
 
@@ -31,14 +42,14 @@ from sqlalchemy.orm import Session
 
 from formdb.errors import InvalidData
 from formdb.facts.incompatibility import first_incompatibility
-from formdb.facts.phases import is_emulsifier
+from formdb.facts.phases import is_emulsifier, is_hydrocolloid
 from formdb.rules.profiles import Profile
 from formdb.schemas.blend import BlendMember, BlendPlan, PairCandidate, PairSearch
 from formdb.schemas.ingredient import IngredientRecord, name_key
 from formdb.schemas.reference import Incompatibility
 from formdb.schemas.result import CheckResult, EmulsifierFacts, FormulaFacts
-from formdb.schemas.vocab import EmulsionType, Evidence, Role, Solubility
-from formdb.science.hlb import UnreachableHlb, blend_fractions, blend_hlb
+from formdb.schemas.vocab import EmulsionType, Evidence, IonicCharacter, Role, Solubility
+from formdb.science.hlb import UnreachableHlb, blend_fractions, blend_hlb, hlb_class, hlb_scale
 from formdb.services.checking.flow import check_files
 from formdb.store import queries
 from formdb.store.library import Library
@@ -52,6 +63,10 @@ MANY_METHOD = ("least change from equal shares: of the many proportions that giv
 FORMULA_METHOD = ("least change from the formula's present proportions (least squares); two "
                   "emulsifiers by the lever rule")
 WEAK_EVIDENCE = (Evidence.RULE_OF_THUMB, Evidence.FROM_MEMORY)
+MIN_SHARE = 0.2  # rule of thumb: a minor member below a fifth of the blend is hard to weigh
+MIN_SPREAD = 2.0  # rule of thumb: HLBs closer than this leave the ratio nothing to tune
+SOAP_CLASS = "carboxylate soap"
+IONISED = (IonicCharacter.ANIONIC, IonicCharacter.CATIONIC)
 
 
 # ----- resolving names --------------------------------------------------------------------
@@ -261,6 +276,31 @@ def library_emulsifiers(session: Session) -> list[IngredientRecord]:
                   key=lambda r: (r.p.hlb or 0.0, r.inci_name))
 
 
+def not_a_candidate(record: IngredientRecord) -> str | None:
+    """Why an emulsifier is never an HLB partner in a search, or None when it may be one."""
+    if SOAP_CLASS in record.classes:
+        return "a soap (formed in the batch from its acid and base)"
+    if is_hydrocolloid(record):
+        return "a gum or protein (a polymer: no HLB in Griffin's sense)"
+    ionised = record.p.ionic_character in IONISED
+    if hlb_scale(float(record.p.hlb or 0.0), ionised) == "davies":
+        return "an ionic surfactant (its HLB is on Davies' scale)"
+    return None
+
+
+def search_candidates(records: Sequence[IngredientRecord]
+                      ) -> tuple[list[IngredientRecord], tuple[str, ...]]:
+    """The records that may be HLB partners, and the others with why they are left out."""
+    kept, left = [], []
+    for record in records:
+        why = not_a_candidate(record)
+        if why is None:
+            kept.append(record)
+        else:
+            left.append(f"{record.inci_name}: {why}")
+    return kept, tuple(left)
+
+
 def lipophilic(record: IngredientRecord) -> bool:
     sol = record.p.solubility
     if sol is not None:
@@ -299,12 +339,58 @@ class _Tally:
     use_range: int = 0
 
 
+def _on_side(a: IngredientRecord, b: IngredientRecord, kind: EmulsionType | None) -> bool:
+    """Whether the pair (a below b in HLB) suits the type: W/O both lipophilic, O/W the higher
+    member hydrophilic."""
+    if kind == EmulsionType.WO:
+        return lipophilic(a) and lipophilic(b)
+    if kind == EmulsionType.OW:
+        return not lipophilic(b)
+    return True
+
+
+def _clashes(a: IngredientRecord, b: IngredientRecord, formula: Sequence[IngredientRecord],
+             rows: Sequence[Incompatibility]) -> tuple[str, ...]:
+    out = []
+    for member in (a, b):
+        for other in formula:
+            if other.id == member.id:
+                continue
+            row = first_incompatibility(member, other, rows)
+            if row is not None:
+                out.append(f"{member.inci_name} with {other.inci_name} ({row.key})")
+    return tuple(dict.fromkeys(out))
+
+
+def _reasons(pair: PairCandidate, with_formula: bool,
+             kind: EmulsionType | None) -> tuple[str, ...]:
+    """Why the pair ranks where it does, one phrase per criterion of the ranking."""
+    low, high = pair.low, pair.high
+    spread = high.hlb - low.hlb
+    return (
+        ("clashes with the formula: " + "; ".join(pair.clashes)) if pair.clashes
+        else "no clash with the formula's ingredients" if with_formula else "",
+        "a lipophilic with a hydrophilic member" if pair.complementary
+        else "both lipophilic, as a W/O system needs" if kind == EmulsionType.WO
+        else "both members on one side",
+        f"proportion {low.fraction:.0%} : {high.fraction:.0%}"
+        + (" (sensible)" if pair.proportion_ok else f" (minor member below {MIN_SHARE:.0%})"),
+        f"HLB spread {spread:.1f}" + (" (usable)" if pair.spread_ok
+                                      else f" (below {MIN_SPREAD:g}: little to tune)"),
+        f"farther HLB {pair.distance:.2f} from the target",
+        f"{len(pair.gaps)} data gap{'s' if len(pair.gaps) != 1 else ''}")
+
+
 def _candidate(a: IngredientRecord, b: IngredientRecord, target: float, total: float,
-               rows: Sequence[Incompatibility], tally: _Tally) -> PairCandidate | None:
+               rows: Sequence[Incompatibility], tally: _Tally,
+               kind: EmulsionType | None = None,
+               formula: Sequence[IngredientRecord] = ()) -> PairCandidate | None:
     """The pair (a below b in HLB) as a candidate, or None (counted in ``tally``)."""
     ha, hb = float(a.p.hlb or 0.0), float(b.p.hlb or 0.0)
     if not ha < target < hb:
         return None  # a pair must straddle the target; at an end it is one emulsifier
+    if not _on_side(a, b, kind):
+        return None
     tally.considered += 1
     if first_incompatibility(a, b, rows) is not None:
         tally.incompatible += 1
@@ -313,19 +399,26 @@ def _candidate(a: IngredientRecord, b: IngredientRecord, target: float, total: f
     if not (within_use_range(a, xa * total) and within_use_range(b, xb * total)):
         tally.use_range += 1
         return None
-    return PairCandidate(low=_member(a, xa, total), high=_member(b, xb, total),
+    pair = PairCandidate(low=_member(a, xa, total), high=_member(b, xb, total),
                          complementary=lipophilic(a) != lipophilic(b),
                          distance=max(target - ha, hb - target),
-                         gaps=tuple(data_gaps(a) + data_gaps(b)))
+                         gaps=tuple(data_gaps(a) + data_gaps(b)),
+                         proportion_ok=min(xa, xb) + 1e-9 >= MIN_SHARE,
+                         spread_ok=hb - ha + 1e-9 >= MIN_SPREAD,
+                         clashes=_clashes(a, b, formula, rows))
+    reasons = tuple(r for r in _reasons(pair, bool(formula), kind) if r)
+    return replace(pair, reasons=reasons)
 
 
 def rank_pairs(records: Sequence[IngredientRecord], target: float, total: float,
-               rows: Sequence[Incompatibility]) -> tuple[list[PairCandidate], _Tally]:
-    """Every passing pair, best first (the order in the module docstring)."""
+               rows: Sequence[Incompatibility], kind: EmulsionType | None = None,
+               formula: Sequence[IngredientRecord] = ()) -> tuple[list[PairCandidate], _Tally]:
+    """Every passing pair on the right side for ``kind``, best first (the order in the module
+    docstring); ``formula`` holds the formula's own records for the clash check."""
     tally = _Tally()
     ordered = sorted(records, key=lambda r: (r.p.hlb or 0.0, r.inci_name))
     found = [c for a, b in combinations(ordered, 2)
-             if (c := _candidate(a, b, target, total, rows, tally)) is not None]
+             if (c := _candidate(a, b, target, total, rows, tally, kind, formula)) is not None]
     return sorted(found, key=lambda c: c.rank_key), tally
 
 
@@ -335,26 +428,42 @@ def _check_total(total: float) -> None:
                           "100 % w/w")
 
 
+def search_type(target: float, kind: EmulsionType | None) -> EmulsionType | None:
+    """The type the candidates must suit: the one given, else the target's Griffin class."""
+    return kind if kind is not None else hlb_class(target, wo_max=6.0, ow_min=8.0)
+
+
 def search_pairs(library: Library, target: float, total_percent: float = DEFAULT_TOTAL_PERCENT,
                  limit: int = 10, target_from: str = "given with --target",
-                 formula: str | None = None) -> PairSearch:
+                 formula: str | None = None, kind: EmulsionType | None = None,
+                 formula_names: Sequence[str] = ()) -> PairSearch:
     """The best ``limit`` compatible pairs of library emulsifiers that reach ``target``."""
     _check_target(target)
     _check_total(total_percent)
     with library.read() as session:
         records = library_emulsifiers(session)
         rows = queries.load_reference_data(session).incompatibilities
-    ranked, tally = rank_pairs(records, target, total_percent, rows)
+        own = list(dict.fromkeys(
+            r.id for r in queries.find_ingredients(session, formula_names).values()))
+        own_records = list(queries.records_by_id(session, own).values()) if own else []
+    candidates, left_out = search_candidates(records)
+    side = search_type(target, kind)
+    ranked, tally = rank_pairs(candidates, target, total_percent, rows, side, own_records)
+    notes = () if side is not None else (
+        f"target HLB {target:g} lies between Griffin's W/O and O/W classes: no side filter",)
     return PairSearch(target=target, target_from=target_from, total_percent=total_percent,
                       candidates=tuple(ranked[:limit]), found=len(ranked),
                       considered=tally.considered, excluded_incompatible=tally.incompatible,
-                      excluded_use_range=tally.use_range, emulsifiers=len(records),
-                      formula=formula)
+                      excluded_use_range=tally.use_range, emulsifiers=len(candidates),
+                      formula=formula, notes=notes,
+                      emulsion_type=side.value if side is not None else None,
+                      excluded_kinds=left_out)
 
 
 def search_for_formula(library: Library, path: Path, profile: Profile | str | None = None,
                        total_percent: float | None = None, limit: int = 10,
-                       target: float | None = None) -> PairSearch:
+                       target: float | None = None,
+                       kind: EmulsionType | None = None) -> PairSearch:
     """Pairs for a formula's required HLB (or ``target``), at its present emulsifier total
     unless ``total_percent`` is given."""
     result = check_one(library, path, profile)
@@ -364,6 +473,9 @@ def search_for_formula(library: Library, path: Path, profile: Profile | str | No
         goal, goal_from = target, "given with --target"
     total = total_percent
     if total is None:
-        present = result.facts.emulsifier_percent
+        present = sum(e.percent for e in result.facts.emulsifiers
+                      if e.scale == "griffin") or result.facts.emulsifier_percent
         total = present if present > 0 else DEFAULT_TOTAL_PERCENT
-    return search_pairs(library, goal, total, limit, goal_from, result.formula)
+    names = [line.inci for line in result.facts.lines]
+    return search_pairs(library, goal, total, limit, goal_from, result.formula,
+                        kind or result.facts.working_type, names)
