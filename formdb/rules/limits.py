@@ -65,6 +65,8 @@ def applicable_rows(reference: ReferenceData, formula: ResolvedFormula,
     for row in reference.limits:
         if row.jurisdiction.casefold() != jurisdiction.casefold():
             continue
+        if covered(reference, row):
+            continue  # an imported snapshot of this annex is in force: LIM03 applies it
         if row.category.casefold() not in (body.category.value, "any"):
             continue
         if row.product is not None and row.product.strip().casefold() != product:
@@ -75,6 +77,16 @@ def applicable_rows(reference: ReferenceData, formula: ResolvedFormula,
         specific = [r for r in rows if r.product is not None]
         out.extend(specific or rows)
     return out
+
+
+def annex_of(row: LimitRecord) -> str:
+    """The annex a hand-written row belongs to ("V/3" -> "V")."""
+    return row.entry.split("/", 1)[0].strip().upper()
+
+
+def covered(reference: ReferenceData, row: LimitRecord) -> bool:
+    """True when an imported snapshot of the row's annex is in force for its jurisdiction."""
+    return reference.covered_by_lists(row.jurisdiction, annex_of(row))
 
 
 def _record(reference: ReferenceData, formula: ResolvedFormula,

@@ -3,12 +3,14 @@
 from __future__ import annotations
 
 import math
+from datetime import date
 from enum import StrEnum
 from typing import Any, Literal
 
 from pydantic import BaseModel, ConfigDict, Field, field_validator
 
 from formdb.schemas.ingredient import IngredientRecord
+from formdb.schemas.lists import PURPOSES
 from formdb.schemas.vocab import Category, EmulsionType
 
 
@@ -23,6 +25,18 @@ class FormulaLine(BaseModel):
     note: str | None = Field(None, max_length=500)  # printed on the weigh sheet
     supplier: str | None = Field(None, max_length=200)  # whose material; picks its price
     lot: str | None = Field(None, max_length=100)  # the lot weighed, for the batch record
+    # why the line is there, where a regulatory entry depends on it (preservative or not)
+    purpose: str | None = Field(None, max_length=40)
+
+    @field_validator("purpose")
+    @classmethod
+    def _known_purpose(cls, value: str | None) -> str | None:
+        if value is None:
+            return None
+        cleaned = " ".join(value.replace("_", " ").replace("-", " ").split()).casefold()
+        if cleaned not in PURPOSES:
+            raise ValueError(f"purpose must be one of {', '.join(PURPOSES)}, got {value!r}")
+        return cleaned
 
     @field_validator("note", "supplier", "lot")
     @classmethod
@@ -156,6 +170,8 @@ class FormulaFile(BaseModel):
                   "aqueous solution"] | None = None
     ph: float | None = Field(None, ge=0, le=14)
     batch_kg: float | None = Field(None, gt=0, le=1e6)
+    # the day the product is (to be) placed on the market: which allergen list applies
+    placed_on: date | None = None
     process: ProcessConditions = ProcessConditions()
     ingredients: list[FormulaLine] = Field(min_length=1)
 
@@ -183,6 +199,7 @@ class ResolvedLine(BaseModel):
     percent: float
     phase: str | None
     ingredient: IngredientRecord
+    purpose: str | None = None
 
     @property
     def inci(self) -> str:

@@ -9,6 +9,7 @@ from datetime import date
 from pydantic import BaseModel, ConfigDict
 
 from formdb.schemas.ingredient import IngredientRecord
+from formdb.schemas.lists import ListEntry, SnapshotInfo
 from formdb.schemas.vocab import Severity
 
 
@@ -155,3 +156,15 @@ class ReferenceData(BaseModel):
     label_thresholds: tuple[LabelThreshold, ...] = ()
     # declared constituents of mixture ingredients, keyed by name_key of the mixture's INCI name
     constituents: dict[str, tuple[Constituent, ...]] = {}
+    # the regulatory list snapshots in force (imported annex exports)
+    lists: tuple[SnapshotInfo, ...] = ()
+    # the entries in force that match an ingredient (by INCI name, synonym or CAS), keyed by
+    # name_key of the ingredient's INCI name; filled for the formulas being checked
+    list_entries: dict[str, tuple[ListEntry, ...]] = {}
+
+    def covered_by_lists(self, jurisdiction: str, annex: str) -> bool:
+        """True when an imported snapshot of the annex is in force: the seed's hand-written
+        rows for that annex then give way to it (an entry the export no longer lists is no
+        longer law)."""
+        return any(s.jurisdiction.casefold() == jurisdiction.casefold() and s.annex == annex
+                   for s in self.lists)

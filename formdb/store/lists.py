@@ -9,8 +9,10 @@ from collections.abc import Iterable
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
+from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.ingredient import IngredientRecord, name_key
 from formdb.schemas.lists import ListEntry, SnapshotInfo
+from formdb.schemas.reference import ReferenceData
 from formdb.store.models import ListEntryMatch, ListEntryRow, ListIngredient, ListSnapshot
 
 _CHUNK = 500
@@ -112,3 +114,24 @@ def _order(key: tuple[str, str, str]) -> tuple[str, int, str]:
 def list_origin(session: Session, ingredient_id: int) -> ListIngredient | None:
     """The list entry that created an ingredient record, if one did."""
     return session.get(ListIngredient, ingredient_id)
+
+
+def with_list_entries(session: Session, reference: ReferenceData,
+                      formulas: Iterable[ResolvedFormula]) -> ReferenceData:
+    """``reference`` with the entries in force for every ingredient (and declared constituent)
+    of ``formulas`` that it does not hold yet: one indexed lookup per call, none when no list is
+    in force."""
+    if not reference.lists:
+        return reference
+    wanted: dict[str, IngredientRecord] = {}
+    for formula in formulas:
+        for line in formula.lines:
+            record = line.ingredient
+            wanted.setdefault(name_key(record.inci_name), record)
+            for part in reference.constituents.get(name_key(record.inci_name), ()):
+                wanted.setdefault(name_key(part.record.inci_name), part.record)
+    missing = [r for k, r in wanted.items() if k not in reference.list_entries]
+    if not missing:
+        return reference
+    found = entries_for_records(session, missing)
+    return reference.model_copy(update={"list_entries": {**reference.list_entries, **found}})

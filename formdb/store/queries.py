@@ -34,6 +34,7 @@ from formdb.schemas.reference import (
 )
 from formdb.schemas.suggest import close_matches
 from formdb.schemas.vocab import Evidence, Role
+from formdb.store.lists import snapshots_in_force
 from formdb.store.models import (
     ExposureEntry,
     IncompatibilityEntry,
@@ -222,7 +223,8 @@ def load_reference_data(session: Session) -> ReferenceData:
                          soaps=soaps, acids=acids, sources=sources,
                          exposure=exposure_records(session), toxicology=toxicology_records(session),
                          label_thresholds=label_thresholds(session),
-                         constituents=constituents(session))
+                         constituents=constituents(session),
+                         lists=snapshots_in_force(session))
 
 
 def constituents(session: Session) -> dict[str, tuple[Constituent, ...]]:

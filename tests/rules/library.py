@@ -5,6 +5,7 @@ from __future__ import annotations
 import hashlib
 import tomllib
 from collections.abc import Mapping, Sequence
+from datetime import date
 from functools import lru_cache
 from pathlib import Path
 from typing import Any
@@ -16,6 +17,7 @@ from formdb.schemas.ingredient import (
     Provenance,
     name_key,
 )
+from formdb.schemas.lists import ListEntry, SnapshotInfo
 from formdb.schemas.reference import (
     Constituent,
     ExposureRecord,
@@ -80,6 +82,25 @@ def reference() -> ReferenceData:
         constituents=_constituents(raw))
 
 
+@lru_cache(maxsize=1)
+def lists_reference() -> ReferenceData:
+    """reference() with the hand-written list entries of lists.toml in force, matched to the
+    fixture ingredients by INCI name and CAS number (as the import's index does)."""
+    raw = tomllib.loads((HERE / "lists.toml").read_text(encoding="utf-8"))
+    entries = [ListEntry(**row) for row in raw["entry"]]
+    snapshots = tuple(SnapshotInfo(annex=a, file_name="tests/rules/lists.toml",
+                                   file_created=date(2025, 11, 11),
+                                   last_update=date(2025, 10, 31), file_hash="0" * 64, entries=1)
+                      for a in sorted({e.annex for e in entries}))
+    matched: dict[str, tuple[ListEntry, ...]] = {}
+    for record in {id(r): r for r in ingredients().values()}.values():
+        names = {name_key(n) for n in (record.inci_name, *record.synonyms)}
+        hits = tuple(e for e in entries if names & {name_key(n) for n in e.inci_names}
+                     or set(record.cas_numbers) & set(e.cas_numbers))
+        matched[name_key(record.inci_name)] = hits
+    return reference().model_copy(update={"lists": snapshots, "list_entries": matched})
+
+
 def _constituents(raw: Mapping[str, Any]) -> dict[str, tuple[Constituent, ...]]:
     out: dict[str, list[Constituent]] = {}
     for row in raw.get("constituent", ()):
@@ -92,11 +113,12 @@ def formula(name: str, lines: Sequence[tuple[str, float]] | Sequence[Sequence[An
             **fields: Any) -> ResolvedFormula:
     """A resolved mini-formula: ``lines`` are (INCI, %) pairs; ``fields`` go to FormulaFile."""
     body: Mapping[str, Any] = {"category": "leave-on", **fields}
-    file = FormulaFile(name=name, ingredients=[{"inci": n, "percent": p} for n, p in lines],
-                       **body)
+    file = FormulaFile(name=name, ingredients=[
+        {"inci": line[0], "percent": line[1]} | ({"purpose": line[2]} if len(line) > 2 else {})
+        for line in lines], **body)
     resolved = tuple(
         ResolvedLine(line_no=i, given_name=line.inci, percent=line.percent, phase=line.phase,
-                     ingredient=ingredient(line.inci))
+                     ingredient=ingredient(line.inci), purpose=line.purpose)
         for i, line in enumerate(file.ingredients, start=1))
     digest = hashlib.sha256(repr((name, list(lines), sorted(fields.items()))).encode()).hexdigest()
     return ResolvedFormula(source=f"case:{name}", formula=file, lines=resolved,

@@ -22,7 +22,7 @@ from formdb.rules.profiles import Profile, RuleSettings
 from formdb.rules.registry import default_registry
 from formdb.schemas.findings import Finding
 from formdb.schemas.result import CheckResult
-from tests.rules.library import formula, reference
+from tests.rules.library import formula, lists_reference, reference
 
 CASES_DIR = Path(__file__).resolve().parent / "cases"
 
@@ -96,7 +96,9 @@ def run_case(code: str, case: dict[str, Any]) -> CheckResult:
     rules = {code: RuleSettings(options=options)} if options else {}
     profile = Profile(name=f"case {code}", version="0", select=(code,), rules=rules)
     mini = formula(case["name"], case["lines"], **case.get("formula", {}))
-    return check_resolved(mini, reference(), profile)
+    # "lists = true": the hand-written annex entries of lists.toml are in force (LIM03, LIM04)
+    return check_resolved(mini, lists_reference() if case.get("lists") else reference(),
+                          profile)
 
 
 @pytest.mark.parametrize(("code", "case"), _params())

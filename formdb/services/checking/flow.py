@@ -32,6 +32,7 @@ from formdb.services.library.formula_files import (
 from formdb.store import queries
 from formdb.store.formulas import iter_stored_formulas
 from formdb.store.library import Library
+from formdb.store.lists import with_list_entries
 
 
 @dataclass(frozen=True)
@@ -92,7 +93,7 @@ def resolve(item: FormulaInput, found: dict[str, IngredientRecord],
                             f"unknown ingredient {line.inci!r}{hint}")
             continue
         lines.append(ResolvedLine(line_no=number, given_name=line.inci, percent=line.percent,
-                                  phase=line.phase, ingredient=record))
+                                  phase=line.phase, ingredient=record, purpose=line.purpose))
     if problems:
         raise InvalidData.of(problems, hint="add the ingredient to the library "
                              "(`formdb ingredient add`) or correct the name")
@@ -141,6 +142,7 @@ def check_inputs(library: Library, items: list[FormulaInput],
     with library.read() as session:
         reference = queries.load_reference_data(session)
         resolved = resolve_all(session, items)
+        reference = with_list_entries(session, reference, resolved)
     return [check_resolved(formula, reference, chosen) for formula in resolved]
 
 
@@ -171,8 +173,12 @@ def iter_check_stored(library: Library, profile: Profile | str | None = None,
         for stored in iter_stored_formulas(session):
             batch.append(input_from_text(stored.content, f"stored:{stored.name}"))
             if len(batch) >= batch_size:
-                for formula in resolve_all(session, batch, known):
+                formulas = resolve_all(session, batch, known)
+                reference = with_list_entries(session, reference, formulas)
+                for formula in formulas:
                     yield check_resolved(formula, reference, chosen)
                 batch = []
-        for formula in resolve_all(session, batch, known):
+        formulas = resolve_all(session, batch, known)
+        reference = with_list_entries(session, reference, formulas)
+        for formula in formulas:
             yield check_resolved(formula, reference, chosen)

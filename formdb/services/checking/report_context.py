@@ -14,6 +14,7 @@ from sqlalchemy import func, select
 from formdb.rules.profiles import Profile, load_profile
 from formdb.rules.registry import default_registry
 from formdb.store.library import Library
+from formdb.store.lists import snapshots_in_force
 from formdb.store.models import LimitEntry
 
 
@@ -28,7 +29,9 @@ def profile_jurisdictions(profile: Profile) -> set[str]:
 
 def limit_snapshots(library: Library,
                     profile: Profile | str | None = None) -> list[tuple[str, str, date]]:
-    """(jurisdiction, list name, newest list date) of every limit list the profile checks."""
+    """(jurisdiction, list name, newest list date) of every limit list the profile checks: the
+    imported annex exports in force (their "Last update" date), and the seed's hand-written rows
+    of the annexes no export covers."""
     chosen = profile if isinstance(profile, Profile) else load_profile(profile or "default")
     wanted = profile_jurisdictions(chosen)
     with library.read() as session:
@@ -37,5 +40,12 @@ def limit_snapshots(library: Library,
                    func.max(LimitEntry.list_date))
             .group_by(LimitEntry.jurisdiction, LimitEntry.list_name)
             .order_by(LimitEntry.jurisdiction, LimitEntry.list_name)).all()
-    return [(j, name, when) for j, name, when in rows
-            if not wanted or j.casefold() in wanted]
+        imported = snapshots_in_force(session)
+    covered = {(s.jurisdiction.casefold(), s.annex) for s in imported}
+    out = [(s.jurisdiction, f"Regulation (EC) No 1223/2009 Annex {s.annex} (Commission export "
+            f"{s.file_name}, file created {s.file_created:%d/%m/%Y})", s.last_update)
+           for s in imported]
+    seed = " (hand-written seed rows)" if imported else ""
+    out += [(j, f"{name}{seed}", when) for j, name, when in rows
+            if (j.casefold(), name.rsplit(" ", 1)[-1]) not in covered]
+    return [row for row in out if not wanted or row[0].casefold() in wanted]

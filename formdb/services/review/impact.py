@@ -35,6 +35,7 @@ from formdb.services.library.ingredients import ENTITY, _as_input, _get, _source
 from formdb.store import queries
 from formdb.store.formulas import iter_stored_formulas
 from formdb.store.library import Library
+from formdb.store.lists import with_list_entries
 from formdb.store.models import Base, ChangeLogEntry
 
 _BATCH = 200
@@ -251,6 +252,7 @@ def impact_of(library: Library, ingredient: str, *, since: str | None = None,
         latest_run = {} if since is not None else {
             name_key(r["formula_name"]): r for r in runs}
         for _item, formula, via in _using(session, record, reference):
+            reference = with_list_entries(session, reference, [formula])
             report.formulas.append(_compare(formula, reference, chosen, earlier, via,
                                             latest_run.get(name_key(formula.formula.name)),
                                             report))

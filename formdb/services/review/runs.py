@@ -39,6 +39,7 @@ from formdb.services.review.audit import append_sealed
 from formdb.store import queries
 from formdb.store.formulas import get_formula
 from formdb.store.library import Library
+from formdb.store.lists import with_list_entries
 from formdb.store.models import ChangeLogEntry, ReviewRun, ReviewSignature
 
 DEFAULT_PROFILE = "strict"
@@ -93,6 +94,10 @@ def used_records(formula: ResolvedFormula, reference: ReferenceData) -> list[dic
     for key, tox in reference.toxicology.items():
         if key in keys:
             put("toxicology", tox.key, tox.model_dump(mode="json"))
+    for rec in ingredients.values():
+        for entry in reference.list_entries.get(name_key(rec.inci_name), ()):
+            put("list entry", entry.label, {k: v for k, v in entry.cells.items()
+                                            if k != "Update Date"})
     category = formula.formula.category.value
     for threshold in reference.label_thresholds:
         if threshold.category in (category, "any"):
@@ -155,6 +160,7 @@ def run_review(library: Library, source: str, profile: Profile | str | None = No
             label = item.label
         reference = queries.load_reference_data(session)
         resolved = resolve_all(session, [item])[0]
+        reference = with_list_entries(session, reference, [resolved])
         result = check_resolved(resolved, reference, chosen)
         records = used_records(resolved, reference)
         now = datetime.now(UTC)
@@ -232,6 +238,7 @@ def _library_changes(session: Session, run: ReviewRun, reference: ReferenceData)
         resolved = resolve_all(session, [item])[0]
     except InvalidData as exc:
         return [f"the formula no longer resolves in the library: {exc.message}"]
+    reference = with_list_entries(session, reference, [resolved])
     old = {(r["kind"], r["key"]): r for r in json.loads(run.records_json)}
     new = {(r["kind"], r["key"]): r for r in used_records(resolved, reference)}
     changes = []

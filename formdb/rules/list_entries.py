@@ -1,0 +1,364 @@
+"""LIM03 and LIM04: the imported EU annex entries, applied line by line and part by part.
+
+Every line (and every declared constituent of a mixture) is matched to the entries in force by
+INCI name, synonym or CAS number (the index built at import). For each entry the rule says which
+part applies and why (the category, the product, the purpose), then judges the amount against
+that part's maximum. Where the formula does not say enough to choose a part or a purpose, the
+finding names every reading and asks, as a warning; it errs only when every reading fails.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass, field
+from typing import Any, ClassVar
+
+from formdb.rules.base import Rule
+from formdb.rules.registry import register
+from formdb.rules.scoping import line_purpose, parts_for, purpose_fits, why
+from formdb.schemas.findings import Finding
+from formdb.schemas.formula import ResolvedFormula, ResolvedLine
+from formdb.schemas.ingredient import IngredientRecord, name_key
+from formdb.schemas.lists import ListEntry, Part
+from formdb.schemas.reference import ReferenceData
+from formdb.schemas.result import FormulaFacts
+from formdb.schemas.vocab import Severity
+
+_EPS = 1e-9
+OK, OVER, NOT_ALLOWED, OPEN = "within", "over", "not allowed", "to confirm"
+_READINGS = ("preservative", "other")
+
+
+@dataclass
+class Item:
+    """One substance of the formula: a line, or a declared constituent of a mixture line."""
+
+    record: IngredientRecord
+    percent: float
+    line: ResolvedLine
+    label: str
+    entries: tuple[ListEntry, ...] = ()
+
+
+@dataclass
+class Outcome:
+    """An entry judged for one item under one reading of its purpose."""
+
+    entry: ListEntry
+    reading: str | None
+    status: str  # OK | OVER | NOT_ALLOWED | OPEN
+    text: str
+    parts: list[tuple[Part, bool | None, str]] = field(default_factory=list)
+    amount: float = 0.0
+
+
+def items_of(formula: ResolvedFormula, reference: ReferenceData) -> list[Item]:
+    out = []
+    for line in formula.lines:
+        record = line.ingredient
+        parts = reference.constituents.get(name_key(record.inci_name), ())
+        declared = 0.0
+        for part in parts:
+            declared += part.percent
+            out.append(Item(part.record, line.percent * part.percent / 100.0, line,
+                            f"{part.record.inci_name} ({part.percent:g} % of {line.inci}, "
+                            f"line {line.line_no})"))
+        if not parts or declared < 100.0 - 1e-9:
+            share = 1.0 if not parts else (100.0 - declared) / 100.0
+            out.append(Item(record, line.percent * share, line,
+                            f"{line.inci} (line {line.line_no})"))
+    for item in out:
+        item.entries = reference.list_entries.get(name_key(item.record.inci_name), ())
+    return [i for i in out if i.entries]
+
+
+def acid_factor(entry: ListEntry, item: Item, reference: ReferenceData) -> float | None:
+    """M(acid) / M(ingredient) for a part limited "as acid"; 1 for the acid itself; None when a
+    molar mass is missing. The acid is the entry's name with "acid" in it, else the parent acid
+    the seed's hand-written row of the same entry names."""
+    if "acid" in item.record.inci_name.casefold():
+        return 1.0
+    wanted = [n for n in entry.inci_names if "acid" in n.casefold()]
+    wanted += [r.acid_inci for r in reference.limits
+               if r.acid_inci and r.entry.replace(" ", "") == f"{entry.annex}/{entry.ref}"]
+    acids = {name_key(k): v for k, v in reference.acids.items()}
+    for name in wanted:
+        acid = acids.get(name_key(name))
+        mass, acid_mass = item.record.p.molar_mass, acid.p.molar_mass if acid else None
+        if mass and acid_mass:
+            return acid_mass / mass
+    return None
+
+
+def _amount(part: Part, item: Item, members: list[Item], entry: ListEntry,
+            reference: ReferenceData) -> tuple[float, bool]:
+    """(amount on the part's basis, converted): the item, or the group for a "sum" part."""
+    group = members if part.aggregate == "sum" else [item]
+    if part.basis != "as acid":
+        return sum(m.percent for m in group), True
+    factors = [acid_factor(entry, m, reference) for m in group]
+    if any(f is None for f in factors):
+        return sum(m.percent for m in group), False
+    return sum(m.percent * (f or 1.0) for m, f in zip(group, factors, strict=True)), True
+
+
+def _part_verdict(part: Part, amount: float, converted: bool, formula: ResolvedFormula
+                  ) -> tuple[str, str]:
+    """(status, words) of one part against the amount and the formula's pH."""
+    scope = part.scope.text or "all products"
+    words = f"{part.name} ({scope}"
+    if part.max_percent is not None:
+        words += f", max {part.max_percent:g} %" + (f" {part.basis}" if part.basis else "")
+    words += ")"
+    ph = formula.formula.ph
+    basis = f" {part.basis}" if part.basis and converted else ""
+    if part.max_percent is not None and amount > part.max_percent + _EPS:
+        if not converted or (part.basis and part.basis != "as acid"):
+            return OPEN, (f"{words}: {amount:.4g} % as-is is over; {part.basis} it may be less "
+                          "(no molar mass to convert: confirm by hand)")
+        return OVER, f"{words}: {amount:.4g} %{basis} is over"
+    if part.ph_max is not None or part.ph_min is not None:
+        if ph is None:
+            return OPEN, f"{words}: pH limit {_ph(part)}; the formula states no pH"
+        if (part.ph_max is not None and ph > part.ph_max + _EPS) or \
+                (part.ph_min is not None and ph < part.ph_min - _EPS):
+            return OVER, f"{words}: pH {ph:g} is outside {_ph(part)}"
+    rest = " (part of its text is not structured: see LIM04)" if part.unparsed else ""
+    return OK, f"{words}: {amount:.4g} %{basis} is within{rest}"
+
+
+def _ph(part: Part) -> str:
+    if part.ph_min is not None:
+        return f"pH {part.ph_min:g} to {part.ph_max:g}" if part.ph_max is not None \
+            else f"pH at least {part.ph_min:g}"
+    return f"up to pH {part.ph_max:g}"
+
+
+def judge(entry: ListEntry, item: Item, members: list[Item], formula: ResolvedFormula,
+          reading: str | None, reference: ReferenceData) -> Outcome:
+    """One entry for one item under one purpose reading ("other": any purpose but preserving,
+    which says nothing of the purposes a part's scope may name)."""
+    fits = parts_for(entry, formula, None if reading == "other" else reading)
+    candidates = [f for f in fits if f.fits is not False]
+    if not candidates:
+        allowed = "; ".join(f"{f.part.name}: {f.part.scope.text or 'all products'}"
+                            for f in fits)
+        return Outcome(entry, reading, NOT_ALLOWED,
+                       f"the entry covers only {allowed}")
+    parts: list[tuple[Part, bool | None, str]] = []
+    statuses = set()
+    for fit in candidates:
+        amount, converted = _amount(fit.part, item, members, entry, reference)
+        status, words = _part_verdict(fit.part, amount, converted, formula)
+        parts.append((fit.part, fit.fits, words))
+        statuses.add(status)
+    definite = len(candidates) == 1 and candidates[0].fits is True
+    texts = "; ".join(w for _p, _f, w in parts)
+    if definite or len(statuses) == 1:
+        status = statuses.pop()
+        if not definite and status == OK:
+            texts = f"within every part that may apply: {texts}"
+        elif not definite and status == OVER:
+            texts = f"over in every part that may apply: {texts}"
+        return Outcome(entry, reading, status, texts, parts, item.percent)
+    return Outcome(entry, reading, OPEN,
+                   f"the formula does not say which part applies: {texts}", parts, item.percent)
+
+
+@register
+class ListEntryLimits(Rule):
+    """A line against the imported EU annex entries: prohibited, over a maximum, or not allowed.
+
+    Flags: a substance of Annex II (prohibited) at any concentration; an amount over the maximum
+    of the Annex III, IV, V or VI part that applies, or a pH outside its range; a product type
+    the entry does not cover (not allowed). Each finding names the entry, the part and why it
+    applies (category, product, the line's ``purpose``). When the formula does not say enough to
+    choose (no product, no purpose), the finding names every reading and asks (warning); it is
+    an error only when every reading fails. Where an entry applies and is met, an info says so.
+    Why: Regulation (EC) No 1223/2009, Articles 14 and 15 and Annexes II-VI, as the Commission's
+    exports give them (imported with `formdb lists import`; dated snapshots: check the current
+    consolidated text).
+    Fails: a body lotion with 1 % Cetrimonium Chloride declared as a conditioning agent: Annex
+    III/286 covers only rinse-off hair, leave-on hair and leave-on face products.
+    Passes: a face cream with 1.5 % Salicylic Acid, purpose "active": Annex III/98 part (b),
+    other products, 2.0 %; the preservative entry V/3 does not apply.
+    Options: none.
+    """
+
+    code = "LIM03"
+    name = "list-entries"
+    groups = ("regulatory",)
+    default_severity = Severity.ERROR
+    options: ClassVar[dict[str, Any]] = {}
+
+    def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,
+              options: Mapping[str, Any]) -> Iterable[Finding]:
+        if not reference.lists:
+            return
+        items = items_of(formula, reference)
+        members: dict[str, list[Item]] = {}
+        for item in items:
+            for entry in item.entries:
+                members.setdefault(entry.label, []).append(item)
+        for item in items:
+            yield from self._item(item, members, formula, reference)
+
+    def _item(self, item: Item, members: Mapping[str, list[Item]], formula: ResolvedFormula,
+              reference: ReferenceData) -> Iterable[Finding]:
+        purpose, purpose_from = line_purpose(item.line, item.record)
+        restricted = [e for e in item.entries if e.purpose is not None and e.annex != "II"]
+        readings: tuple[str | None, ...] = (purpose,)
+        if purpose is None and restricted:
+            readings = _READINGS
+        because = why(formula, purpose, purpose_from)
+        outcomes: dict[str, list[Outcome]] = {}
+        for entry in item.entries:
+            if entry.annex == "II":
+                yield self._prohibited(entry, item)
+                continue
+            for reading in readings:
+                if purpose_fits(entry, reading) is False:
+                    continue
+                outcomes.setdefault(entry.label, []).append(
+                    judge(entry, item, members[entry.label], formula, reading, reference))
+        bad_in = {r: any(o.status in (OVER, NOT_ALLOWED) for os in outcomes.values()
+                         for o in os if o.reading == r) for r in readings}
+        for entry in item.entries:
+            if entry.annex == "II":
+                continue
+            judged = outcomes.get(entry.label)
+            if not judged:
+                yield self._not_applying(entry, item, purpose, purpose_from)
+                continue
+            yield self._finding(entry, item, judged, readings, bad_in, because, outcomes)
+
+    def _prohibited(self, entry: ListEntry, item: Item) -> Finding:
+        return self.finding(
+            Severity.ERROR,
+            f"{item.label} is prohibited in cosmetic products: {entry.title}, "
+            f"{entry.regulation}; not allowed at any concentration",
+            ingredients=[item.line.inci], values=_values(entry, item),
+            advice=f"remove {item.record.inci_name}")
+
+    def _not_applying(self, entry: ListEntry, item: Item, purpose: str | None,
+                      purpose_from: str) -> Finding:
+        scope = "preservative use only" if entry.purpose == "preservative" else \
+            "uses other than preserving only"
+        return self.finding(
+            Severity.INFO,
+            f"{item.label}: {entry.title} does not apply ({scope}; purpose {purpose!r} from "
+            f"{purpose_from})", ingredients=[item.line.inci], values=_values(entry, item),
+            advice="nothing to do while the line keeps this purpose")
+
+    def _finding(self, entry: ListEntry, item: Item, judged: list[Outcome],
+                 readings: tuple[str | None, ...], bad_in: Mapping[str | None, bool],
+                 because: str, outcomes: Mapping[str, list[Outcome]]) -> Finding:
+        values = _values(entry, item)
+        values["part"] = ", ".join(sorted({p.label or "-" for o in judged for p, _f, _w in
+                                           o.parts})) or None
+        bad = [o for o in judged if o.status in (OVER, NOT_ALLOWED)]
+        if len(readings) > 1:
+            applies_in = {o.reading for o in judged}
+            other = [r for r in readings if r not in applies_in]
+            if bad and all(bad_in[r] for r in readings):
+                severity = Severity.ERROR
+            elif bad or any(o.status == OPEN for o in judged):
+                severity = Severity.WARNING
+            else:
+                severity = Severity.INFO
+            said = "; ".join(f"{_reading(o.reading)}: {o.status}: {o.text}" for o in judged)
+            if other:
+                elsewhere = [lbl for lbl, os in outcomes.items() if lbl != entry.label
+                             and any(o.reading in other for o in os)]
+                said += "; " + "; ".join(
+                    f"{_reading(r)}: this entry does not apply"
+                    + (f" ({', '.join(elsewhere)} does)" if elsewhere else "") for r in other)
+            use = "preservative use" if entry.purpose == "preservative" else \
+                "uses other than preserving"
+            message = (f"{item.label} {item.percent:.4g} %: {entry.title} applies only to {use}"
+                       f" and the formula does not say the line's purpose ({because}). {said}"
+                       if entry.purpose else
+                       f"{item.label} {item.percent:.4g} %: {entry.title} ({because}): {said}")
+            advice = ("declare the line's purpose (purpose = \"preservative\", "
+                                  "\"active\", ...) so the entry that applies can be chosen")
+            if severity is Severity.ERROR:
+                advice = f"every reading fails: reduce or remove {item.record.inci_name}"
+            return self.finding(severity, message, ingredients=[item.line.inci], values=values,
+                                advice=advice)
+        outcome = judged[0]
+        severity = {OK: Severity.INFO, OPEN: Severity.WARNING}.get(outcome.status,
+                                                                   Severity.ERROR)
+        message = f"{item.label} {item.percent:.4g} %: {entry.title}, {outcome.status}: " \
+                  f"{outcome.text} ({because})"
+        advice = "nothing to do: the part that applies is met; keep the product and purpose"
+        if outcome.status == OVER:
+            advice = f"reduce {item.record.inci_name} below the maximum of the part that applies"
+        elif outcome.status == NOT_ALLOWED:
+            advice = f"remove {item.record.inci_name}, or use it in a product the entry covers"
+        elif outcome.status == OPEN:
+            advice = "name the product (product = ...) or the line's purpose, or confirm by hand"
+        return self.finding(severity, message, ingredients=[item.line.inci], values=values,
+                            advice=advice)
+
+
+def _reading(reading: str | None) -> str:
+    return {"preservative": "as a preservative", "other": "for another purpose"}.get(
+        reading or "", f"as {reading}")
+
+
+def _values(entry: ListEntry, item: Item) -> dict[str, float | str | None]:
+    return {"entry": f"{entry.annex}/{entry.key}", "list_name": f"{entry.jurisdiction} Annex "
+            f"{entry.annex}", "regulation": entry.regulation, "percent": item.percent,
+            "matched": item.record.inci_name}
+
+
+@register
+class ListEntryConditions(Rule):
+    """Conditions of an applying annex entry that need a person: label warnings, age limits,
+    sprays, professional use, purity, and every text formdb could not structure.
+
+    Flags: for each line matched to an entry in force whose applying part carries conditions, a
+    labelling wording or unparsed text, one finding listing them to confirm by hand.
+    Why: Regulation (EC) No 1223/2009 Annexes III-VI attach conditions of use and warnings that
+    only a person can check against the product and its label (Art. 19(1)(d)).
+    Fails: a face cream with 1.5 % Salicylic Acid (purpose active): Annex III/98 asks "not to
+    be used for children under 3 years of age" on the label, and no exposure of the lungs.
+    Passes: a formula whose matched entries carry no conditions.
+    Options: none.
+    """
+
+    code = "LIM04"
+    name = "list-conditions"
+    groups = ("regulatory",)
+    default_severity = Severity.WARNING
+    options: ClassVar[dict[str, Any]] = {}
+
+    def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,
+              options: Mapping[str, Any]) -> Iterable[Finding]:
+        if not reference.lists:
+            return
+        for item in items_of(formula, reference):
+            purpose, _from = line_purpose(item.line, item.record)
+            for entry in item.entries:
+                if entry.annex == "II" or purpose_fits(entry, purpose) is False:
+                    continue
+                fits = [f for f in parts_for(entry, formula, purpose) if f.fits is not False]
+                lines = []
+                for fit in fits:
+                    part = fit.part
+                    said = [*part.conditions]
+                    if part.labelling:
+                        said.append(f"label: {part.labelling}")
+                    if part.other:
+                        said.append(f"other: {part.other}")
+                    said.extend(f"also: {x}" for x in part.further_limits)
+                    said.extend(f"not structured: {u}" for u in part.unparsed)
+                    if said:
+                        lines.append(f"{part.name}: {' | '.join(dict.fromkeys(said))}")
+                if lines:
+                    yield self.finding(
+                        self.default_severity,
+                        f"{item.label}: conditions of {entry.title} to confirm by hand: "
+                        + " || ".join(lines),
+                        ingredients=[item.line.inci], values=_values(entry, item),
+                        advice="confirm each condition against the product and its label")
