@@ -42,6 +42,7 @@ COMMANDS: dict[str, str] = {
     "exposure": "formdb.cli.evidence:exposure_group",
     "batch": "formdb.cli.bench:batch_cmd",
     "price": "formdb.cli.bench:price_group",
+    "mixture": "formdb.cli.mixtures:mixture_group",
 }
 
 

@@ -79,3 +79,49 @@ def identified(path: str, keys: Sequence[str]) -> str:
     if not keys:
         return f"{path}: no source records this file's checksum.\n"
     return f"{path}: the document cited by {', '.join(keys)}.\n"
+
+
+def mixture_detail(view: Any, *, width: int | None = None) -> str:
+    """A mixture's constituents, then its HLB and solubility as computed from them and as the
+    library holds them."""
+    from rich.table import Table
+
+    from formdb.schemas.cells import format_number
+
+    table = Table("constituent", "% in the mixture", "HLB", "solubility", "source")
+    for rec, pct, source in view.parts:
+        table.add_row(rec.inci_name, format_number(pct),
+                      "-" if rec.p.hlb is None else format_number(rec.p.hlb),
+                      rec.p.solubility.value if rec.p.solubility else "-", source)
+    lines = [f"{view.name}: {len(view.parts)} constituent(s), "
+             f"{format_number(round(view.declared, 4))} % declared"]
+    out = "\n".join(lines) + "\n" + _tables(lambda c: c.print(table), width)
+    for prop, value, note in (("HLB", view.hlb, view.hlb_note),
+                              ("solubility", view.solubility, view.solubility_note)):
+        shown = "-" if value is None else (format_number(value) if isinstance(value, float)
+                                           else str(value))
+        out += f"computed {prop}: {shown}" + (f" ({note})" if note else "") + "\n"
+    for prop, text in view.stored.items():
+        out += f"library {prop}: {text}\n"
+    return out + CAUTION + "\n"
+
+
+def mixture_list(views: Sequence[Any]) -> str:
+    from formdb.schemas.cells import format_number
+
+    lines = [f"{v.name}: " + "; ".join(f"{format_number(p)} % {r.inci_name}"
+                                       for r, p, _s in v.parts) for v in views]
+    return "\n".join([*lines, f"{len(views)} mixture(s)."]) + "\n"
+
+
+def mixture_changes(report: Any) -> str:
+    would = "would be " if report.dry_run else ""
+    lines = []
+    for name, changes in report.declared.items():
+        lines.append(f"{would}declared {name}:")
+        lines += [f"  {c}" for c in changes]
+    lines += [f"{name}: nothing changed." for name in report.unchanged]
+    lines += [f"computed: {n}" for n in report.notes]
+    if report.dry_run:
+        lines.append("dry run: nothing was written.")
+    return "\n".join(lines) + "\n"

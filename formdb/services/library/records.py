@@ -266,15 +266,22 @@ def record_history(session: Session, kind: RecordKind, key: str) -> list[RecordH
 
 def read_record_table(kind: RecordKind, path: Path) -> list[tuple[int, Cells]]:
     """The rows of a CSV/XLSX table in the kind's columns; unknown or missing columns refused."""
+    return read_columns(path, kind.columns, kind.key_columns)
+
+
+def read_columns(path: Path, columns: Sequence[str], required: Sequence[str],
+                 ) -> list[tuple[int, Cells]]:
+    """The rows of a CSV/XLSX table as cells by column; unknown, repeated or missing columns are
+    problems of the header row."""
     table = read_table(path)
     header = ["_".join(h.replace("-", " ").split()).casefold() for h in table.header]
-    problems = [Problem(table.file, f"unknown column {h!r}{did_you_mean(h, kind.columns)}; the "
-                        f"columns are {', '.join(kind.columns)}", table.header_row, h)
-                for h in header if h and h not in kind.columns]
+    problems = [Problem(table.file, f"unknown column {h!r}{did_you_mean(h, columns)}; the "
+                        f"columns are {', '.join(columns)}", table.header_row, h)
+                for h in header if h and h not in columns]
     problems += [Problem(table.file, f"column {h!r} appears twice", table.header_row, h)
                  for i, h in enumerate(header) if h and h in header[:i]]
     problems += [Problem(table.file, f"the column {c} is missing", table.header_row)
-                 for c in kind.key_columns if c not in header]
+                 for c in required if c not in header]
     raise_problems(problems, hint="fix the file and import it again; nothing was written")
     return [(number, {h: cell for h, cell in zip(header, cells, strict=False) if h})
             for number, cells in table.rows]
