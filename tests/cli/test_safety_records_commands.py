@@ -18,7 +18,7 @@ from tests.helpers import dump_database, run_formdb
 
 
 def _formdb(url: str, *args: str):
-    return run_formdb(["--db", url, "--user", "rev", *args])
+    return run_formdb(["--db", url, *args])
 
 
 def _ok(url: str, *args: str) -> str:
