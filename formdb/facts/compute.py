@@ -21,7 +21,12 @@ from formdb.facts.soap import form_soaps
 from formdb.facts.work import Work
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.reference import ReferenceData
-from formdb.schemas.result import FactsSettings, FormulaFacts, SubstanceFacts
+from formdb.schemas.result import (
+    FactsSettings,
+    FormulaFacts,
+    RequiredHlbFacts,
+    SubstanceFacts,
+)
 from formdb.schemas.vocab import EmulsionType
 from formdb.science.packing import CLOSE_PACKING, RANDOM_CLOSE_PACKING
 
@@ -71,8 +76,10 @@ def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
         required_hlb_ow=rhlb_ow, required_hlb_wo=rhlb_wo,
         working_type=kind.working, working_type_source=kind.source,
         required_hlb=required,
-        target_low=required - tol if required is not None else None,
-        target_high=required + tol if required is not None else None,
+        target_low=(_chosen_low(kind.working, rhlb_ow, required) - tol
+                    if required is not None else None),
+        target_high=(_chosen_high(kind.working, rhlb_ow, required) + tol
+                     if required is not None else None),
         blend_solution=solution,
         water_side_emulsifier_percent=kind.water_side, oil_side_emulsifier_percent=kind.oil_side,
         type_by_bancroft=kind.by_bancroft, type_by_hlb=kind.by_hlb,
@@ -92,3 +99,18 @@ def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
         ) if has_mixtures(formula, reference) else (),
         gaps=work.data_gaps(),
         notes=tuple(work.notes))
+
+
+def _chosen_low(working: EmulsionType | None, rhlb_ow: RequiredHlbFacts,
+                required: float) -> float:
+    """The low end of the required HLB where sources disagree (O/W), else the value."""
+    if working == EmulsionType.OW and rhlb_ow.low is not None:
+        return min(rhlb_ow.low, required)
+    return required
+
+
+def _chosen_high(working: EmulsionType | None, rhlb_ow: RequiredHlbFacts,
+                 required: float) -> float:
+    if working == EmulsionType.OW and rhlb_ow.high is not None:
+        return max(rhlb_ow.high, required)
+    return required

@@ -123,6 +123,9 @@ def required(formula: ResolvedFormula, lines: list[LineFacts], kind: EmulsionTyp
     by_no = {ln.line_no: ln for ln in formula.lines}
     parts: list[tuple[float, float | None]] = []
     names: list[str] = []
+    lows: list[tuple[float, float | None]] = []
+    highs: list[tuple[float, float | None]] = []
+    ranged = False
     for lf in lines:
         if not lf.required_hlb_member:
             continue
@@ -136,11 +139,18 @@ def required(formula: ResolvedFormula, lines: list[LineFacts], kind: EmulsionTyp
                       "glyceryl monostearate)")
         parts.append((lf.remaining_percent, value))
         names.append(ing.inci_name)
+        low = ing.p.required_hlb_ow_low if kind == EmulsionType.OW else None
+        high = ing.p.required_hlb_ow_high if kind == EmulsionType.OW else None
+        ranged = ranged or (value is not None and (low is not None or high is not None))
+        lows.append((lf.remaining_percent, None if value is None else min(value, low or value)))
+        highs.append((lf.remaining_percent, None if value is None else max(value, high or value)))
     result = required_hlb(parts)
+    low_avg = required_hlb(lows).value if ranged else None
+    high_avg = required_hlb(highs).value if ranged else None
     return RequiredHlbFacts(
         emulsion_type=kind, value=result.value, covered_percent=result.covered_mass,
         members_percent=sum(p[0] for p in parts),
-        missing=tuple(names[i] for i in result.missing))
+        missing=tuple(names[i] for i in result.missing), low=low_avg, high=high_avg)
 
 
 def working_required(working: EmulsionType | None, rhlb_ow: RequiredHlbFacts,

@@ -154,8 +154,12 @@ def _band_lines(facts: FormulaFacts) -> list[Line]:
         return []
     tol = facts.settings.hlb_tolerance
     kind = facts.working_type.value if facts.working_type else ""
+    req = facts.required_hlb_ow if facts.working_type == EmulsionType.OW else None
+    span = (f"; sources range {n.hlb(req.low)} to {n.hlb(req.high)}"
+            if req is not None and req.low is not None and req.high is not None else "")
     out = [Line("Target band", f"{n.hlb(facts.target_low)} to {n.hlb(facts.target_high)} "
-                               f"(required {n.hlb(facts.required_hlb)} ± {tol:g}, {kind})")]
+                               f"(required {n.hlb(facts.required_hlb)} ± {tol:g}{span}, "
+                               f"{kind})")]
     blend = facts.blend_hlb
     if blend is None:
         return out

@@ -11,7 +11,7 @@ from formdb.schemas.findings import Finding
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import BlendSolution, FormulaFacts
-from formdb.schemas.vocab import Severity
+from formdb.schemas.vocab import EmulsionType, Severity
 
 
 def solution_text(solution: BlendSolution, formed: set[str]) -> str:
@@ -38,6 +38,9 @@ class HlbBalance(Rule):
     No verdict and no ratio advice when the required HLB covers less than
     [facts] min_required_hlb_coverage (0.8) of the oil phase or the Griffin members less than
     min_blend_hlb_coverage (0.8) of the emulsifier system (the data gap is reported instead).
+    Where sources disagree on an oil's required HLB (O/W; required_hlb_ow_low/high in the
+    library), the band runs from the weight-averaged low end to the high end, plus or minus
+    the tolerance.
     An info when the system is led by ionic members (soaps, ionic surfactants on Davies' scale):
     their values are not averaged with Griffin's, and no HLB balance is judged for them.
     Judges emulsions only (facts.kind): not soap creams, surfactant solutions, gels or
@@ -48,9 +51,9 @@ class HlbBalance(Rule):
     Wangpradit et al., OCL 29 (2022) 29, Tables 4-5 count glyceryl monostearate (3.8) and stearic
     acid (15) in the oil phase. Davies' values (sodium lauryl sulfate 40, soaps 18-20; Davies
     1957) lie on another scale. The coverage thresholds are a rule of thumb.
-    Fails: Paraffinum Liquidum 20 (required HLB 12 for O/W) with Sorbitan Oleate 2.5 and
-    Polysorbate 80 2.5: blend HLB 9.65; Sorbitan Oleate 1.40 % + Polysorbate 80 3.60 % would
-    give 12.
+    Fails: Paraffinum Liquidum 20 (required HLB 12 for O/W; 10-12 across its sources) with
+    Sorbitan Oleate 3.5 and Polysorbate 80 1.5: blend HLB 7.51; Sorbitan Oleate 1.40 % +
+    Polysorbate 80 3.60 % would give 12.
     Passes: the oil phase F1 of Wangpradit et al., OCL 29 (2022) 29 (required HLB 10.33) with
     Polysorbate 80 1.64 and Sorbitan Stearate 1.36: blend HLB 10.33.
     Options: tolerance (HLB units, default 1.0): half-width of the accepted band.
@@ -89,16 +92,22 @@ class HlbBalance(Rule):
             return
         tolerance = options["tolerance"]
         difference = blend - required
-        if abs(difference) <= tolerance + 1e-9:
+        req = (facts.required_hlb_ow if facts.working_type == EmulsionType.OW
+               else facts.required_hlb_wo)
+        low_end = min(req.low, required) if req.low is not None else required
+        high_end = max(req.high, required) if req.high is not None else required
+        if low_end - tolerance - 1e-9 <= blend <= high_end + tolerance + 1e-9:
             return
         kind = facts.working_type.value if facts.working_type else "?"
         side = "above" if difference > 0 else "below"
+        span = (f" (sources range {low_end:.2f}-{high_end:.2f})"
+                if high_end - low_end > 1e-9 else "")
         oil_cover = facts.required_hlb_coverage
         blend_cover = system.coverage if system is not None else None
         values: dict[str, float | str | None] = {
             "blend_hlb": blend, "required_hlb": required, "tolerance_hlb": tolerance,
             "hlb_difference": difference, "emulsion_type": kind,
-            "target_low": required - tolerance, "target_high": required + tolerance,
+            "target_low": low_end - tolerance, "target_high": high_end + tolerance,
             "required_hlb_coverage": oil_cover, "blend_hlb_coverage": blend_cover}
         rests = (f"; resting on {oil_cover:.0%} of the oil phase and {blend_cover:.0%} of the "
                  "emulsifier system" if oil_cover is not None and blend_cover is not None
@@ -126,7 +135,7 @@ class HlbBalance(Rule):
             advice = f"choose emulsifiers whose blend reaches HLB {required:.2f}"
         yield self.finding(
             self.default_severity,
-            f"blend HLB {blend:.2f} is {side} the required HLB {required:.2f} ± {tolerance:g} "
-            f"of the oil phase ({kind}{rests})",
+            f"blend HLB {blend:.2f} is {side} the required HLB {required:.2f}{span} "
+            f"± {tolerance:g} of the oil phase ({kind}{rests})",
             ingredients=[e.inci for e in facts.emulsifiers if e.hlb is not None],
             values=values, advice=advice)

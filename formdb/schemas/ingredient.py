@@ -53,6 +53,12 @@ class IngredientProperties(BaseModel):
     required_hlb_wo: float | None = Field(
         None, ge=0, le=20, json_schema_extra=_unit(""),
         description="HLB an emulsifier system needs to emulsify this oil as water-in-oil")
+    required_hlb_ow_low: float | None = Field(
+        None, ge=0, le=20, json_schema_extra=_unit(""),
+        description="lowest required HLB (O/W) the sources give, where they disagree")
+    required_hlb_ow_high: float | None = Field(
+        None, ge=0, le=20, json_schema_extra=_unit(""),
+        description="highest required HLB (O/W) the sources give, where they disagree")
     solubility: Solubility | None = Field(
         None, description="where it dissolves: water, oil, dispersible (in water), insoluble")
     ionic_character: IonicCharacter | None = Field(
