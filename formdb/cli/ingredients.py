@@ -79,11 +79,15 @@ def list_cmd(app: AppContext, library: Library, role: str | None, fmt: str,
 def show_cmd(app: AppContext, library: Library, name: str) -> None:
     """Every property of NAME with its value, unit, source, evidence and citation."""
     from formdb.report.library import ingredient_detail
+    from formdb.report.lists import ingredient_entries_text
     from formdb.services.library.ingredients import show_ingredient
+    from formdb.services.lists.reading import entries_for_ingredient
 
     with library.read() as session:
         detail = show_ingredient(session, name)
+        origin, entries = entries_for_ingredient(session, name)
     click.echo(ingredient_detail(detail, width=_width()), nl=False)
+    click.echo(ingredient_entries_text(origin, entries), nl=False)
 
 
 @ingredient_group.command("add")

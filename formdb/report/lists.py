@@ -126,3 +126,16 @@ def entry_text(entry: ListEntry) -> str:
         out.append("  prohibited in cosmetic products")
     out.extend(f"  {line}" for p in entry.parts for line in part_lines(p))
     return "\n".join(out) + "\n"
+
+
+def ingredient_entries_text(origin: str | None, entries: Sequence[ListEntry]) -> str:
+    """The regulatory part of ``formdb ingredient show``: where the record came from and every
+    entry in force that names it, with its parts."""
+    out = []
+    if origin:
+        out.append(f"From the lists: {origin}.")
+    if entries:
+        out.append("Regulatory list entries in force (matched by INCI name, synonym or CAS):")
+        for entry in entries:
+            out.extend(f"  {line}" for line in entry_text(entry).rstrip("\n").split("\n"))
+    return ("\n".join(out) + "\n") if out else ""

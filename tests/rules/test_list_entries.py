@@ -201,3 +201,49 @@ def test_every_listed_name_resolves(library: Library) -> None:
     result = api.check(library, formula([("Hydroquinone", 0.1, None),
                                          ("Linalyl Acetate", 0.01, "fragrance")]))
     assert result.formula.startswith("Larkspur")
+
+
+def _alg(library: Library, placed: str | None) -> list[Finding]:
+    extra = f"placed_on = {placed}" if placed else ""
+    text = formula([("Linalyl Acetate", 0.05, "fragrance"), ("Linalool", 0.05, None)],
+                   product="body lotion", extra=extra)
+    return lim(library, text, code="ALG01")
+
+
+def test_allergen_extension_by_placing_date(library: Library) -> None:
+    """Reg. (EU) 2023/1545: linalyl acetate (III/337) must be named above 0.001 % in a leave-on
+    product placed from 31 July 2026; linalool (III/84, 2009 list) always."""
+    before = _alg(library, "2026-03-01")
+    named = [f for f in before if f.message.startswith("must be named")]
+    assert named and named[0].ingredients == ("Linalool",)
+    pending = [f for f in before if "added by Reg. (EU) 2023/1545" in f.message]
+    assert pending and [i.casefold() for i in pending[0].ingredients] == ["linalyl acetate"]
+    assert "31/07/2028" in pending[0].message
+    after = _alg(library, "2026-09-01")
+    named = [f for f in after if f.message.startswith("must be named")]
+    assert {i.casefold() for i in named[0].ingredients} == {"linalool", "linalyl acetate"}
+    assert "2023/1545" in named[0].message
+    assert not [f for f in after if "not yet to be named" in f.message]
+
+
+def test_allergen_list_without_placing_date_is_todays() -> None:
+    from datetime import date
+
+    from formdb.facts.allergen_table import binding
+    from formdb.schemas.lists import ListEntry
+
+    extended = ListEntry(annex="III", ref="337", key="337", allergen=True)
+    assert binding((extended,), date(2026, 7, 31))
+    assert not binding((extended,), date(2026, 7, 30))
+    original = ListEntry(annex="III", ref="84", key="84", allergen=True)
+    assert binding((original,), date(2020, 1, 1))
+
+
+def test_label_names_extended_allergens(library: Library, tmp_path: Path) -> None:
+    from formdb.services.checking.labelling import label_file
+
+    path = tmp_path / "lotion.toml"
+    path.write_text(formula([("Linalyl Acetate", 0.05, "fragrance")], product="body lotion",
+                            extra="placed_on = 2026-09-01"), encoding="utf-8")
+    named = label_file(library, path).allergens_named
+    assert [n.casefold() for n in named] == ["linalyl acetate"]

@@ -312,3 +312,15 @@ def test_dry_run_of_a_copy(tmp_path: Path, sqlite_url: str) -> None:
     shutil.copy(export("V"), renamed)
     result = run_formdb(["--db", sqlite_url, "lists", "import", "--dry-run", str(renamed)])
     assert result.exit_code == 0 and "EU Annex V (allowed preservatives)" in result.stdout
+
+
+@needs_exports
+def test_ingredient_show_lists_the_entries(sqlite_url: str) -> None:
+    assert run_formdb(["--db", sqlite_url, "lists", "import", str(export("II")),
+                       str(export("III"))]).exit_code == 0
+    shown = run_formdb(["--db", sqlite_url, "ingredient", "show", "Hydroquinone"])
+    assert shown.exit_code == 0, shown.stderr
+    assert "From the lists: created from EU Annex" in shown.stdout
+    assert "no physical data" in shown.stdout
+    assert "EU Annex III/14 (HYDROQUINONE)" in shown.stdout
+    assert "Artificial nail systems: max 0.02 %" in shown.stdout

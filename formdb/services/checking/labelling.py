@@ -22,6 +22,7 @@ from formdb.schemas.vocab import Role
 from formdb.services.checking.flow import read_inputs, resolve_all
 from formdb.store import queries
 from formdb.store.library import Library
+from formdb.store.lists import with_list_entries
 
 ORDERED_ABOVE_PERCENT = 1.0
 JURISDICTIONS = ("EU",)
@@ -69,4 +70,5 @@ def label_file(library: Library, path: Path, jurisdiction: str = "EU") -> LabelD
     with library.read() as session:
         reference = queries.load_reference_data(session)
         [resolved] = resolve_all(session, items)
+        reference = with_list_entries(session, reference, [resolved])
     return declaration(resolved, reference, jurisdiction)

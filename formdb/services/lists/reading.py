@@ -3,12 +3,15 @@
 from __future__ import annotations
 
 from sqlalchemy import select
+from sqlalchemy.orm import Session
 
 from formdb.errors import NotFound
+from formdb.schemas.ingredient import name_key
 from formdb.schemas.lists import ANNEXES, ListEntry, SnapshotInfo
 from formdb.schemas.suggest import close_matches
+from formdb.store import queries
 from formdb.store.library import Library
-from formdb.store.lists import snapshots_in_force
+from formdb.store.lists import entries_for_records, list_origin, snapshots_in_force
 from formdb.store.models import ListEntryRow, ListSnapshot
 
 
@@ -35,3 +38,17 @@ def show_entry(library: Library, reference: str) -> list[ListEntry]:
             "`formdb lists status` shows which annexes are in force"
         raise NotFound(f"no entry {annex}/{ref} in the lists in force", hint=hint)
     return found
+
+
+def entries_for_ingredient(session: Session, name: str
+                           ) -> tuple[str | None, tuple[ListEntry, ...]]:
+    """(where the lists created the record, if they did; the entries in force that name the
+    ingredient by INCI name, synonym or CAS) for ``formdb ingredient show``."""
+    record = queries.find_ingredient(session, name)
+    if record is None:
+        return None, ()
+    origin = list_origin(session, record.id) if record.id is not None else None
+    made = None if origin is None else (
+        f"created from {origin.jurisdiction} Annex {origin.annex}/{origin.entry_key} by a list "
+        "import; it holds no physical data until someone adds some")
+    return made, entries_for_records(session, [record]).get(name_key(record.inci_name), ())
