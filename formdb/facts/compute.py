@@ -50,7 +50,8 @@ def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
     if product.kind not in EMULSION_KINDS:
         work.note(f"{product.kind} ({product.reason}): no emulsion type, required HLB, dispersed "
                   "phase or creaming is worked out")
-        kind = replace(kind, working=None, source=None)
+        kind = replace(kind, working=None, source=None, predicted=None, disagree=False,
+                       decision=None)
     rhlb_ow = hlb.required(formula, lines, EmulsionType.OW, work)
     rhlb_wo = hlb.required(formula, lines, EmulsionType.WO, work)
     required, coverage = (hlb.working_required(kind.working, rhlb_ow, rhlb_wo,
@@ -59,7 +60,8 @@ def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
     tol = settings.hlb_tolerance
     solution = hlb.solve(required, emulsifiers) if required is not None else None
 
-    phases = phase_volume.phase_volumes(lines, kind.working, work)
+    phases = phase_volume.phase_volumes(lines, kind.working, work,
+                                        emulsion=product.kind in EMULSION_KINDS)
     if phases.fraction is not None and phases.fraction > CLOSE_PACKING:
         product = product.model_copy(update={"high_internal_phase": True})
     interface = droplets.interface(formula, settings, phases, emulsifier_percent)

@@ -36,7 +36,7 @@ class TypeFacts:
     disagree: bool
     working: EmulsionType | None
     source: Literal["intended", "predicted"] | None
-    decision: TypeDecision
+    decision: TypeDecision | None
 
 
 def is_ionic_member(e: EmulsifierFacts) -> bool:

@@ -6,7 +6,8 @@ thumb: a perfume or a preservative below about 1 % is dissolved or solubilised, 
 
 1. water phase below the trace threshold: **anhydrous** (ointment, balm, oil);
 2. oil content below the trace threshold (oil-phase lines other than emulsifiers):
-   **surfactant solution** when ionic or amphoteric surfactants are present, else **aqueous gel**
+   **surfactant solution** when ionic or amphoteric surfactants or soaps are present (a soap
+   fully neutralised in water is a soap solution or paste), else **aqueous gel**
    with a thickener, else **aqueous solution**;
 3. both phases: **soap cream** when soaps (formed in the batch or weighed in) carry most of the
    emulsifier system; **surfactant solution** when ionic or amphoteric surfactants outweigh the
@@ -67,12 +68,15 @@ def recognise(formula: ResolvedFormula, lines: list[LineFacts],
                          reason=f"water phase {water:.4g} % is below {trace:g} %")
     if oil < trace:
         ignored = oil if oil > 0 else 0.0
-        if surfactant > 0:
+        if surfactant + soap > 0:
             return KindFacts(kind="surfactant solution", source="recognised",
-                             reason=f"ionic or amphoteric surfactants {surfactant:.4g} % in water; "
-                                    f"oil content {oil:.4g} % is a trace (below {trace:g} %)",
+                             reason=f"ionic or amphoteric surfactants and soaps "
+                                    f"{surfactant + soap:.4g} % in water; oil content {oil:.4g} % "
+                                    f"is a trace (below {trace:g} %)",
                              trace_oil_percent=ignored)
-        thick = any(ln.ingredient.has_role(Role.THICKENER) for ln in formula.lines)
+        left = {lf.line_no: lf.remaining_percent for lf in lines}
+        thick = any(ln.ingredient.has_role(Role.THICKENER) and left[ln.line_no] > 0
+                    for ln in formula.lines)
         return KindFacts(kind="aqueous gel" if thick else "aqueous solution",
                          source="recognised",
                          reason=f"oil content {oil:.4g} % is a trace (below {trace:g} %)"

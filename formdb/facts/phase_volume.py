@@ -90,12 +90,14 @@ def _phases(lines: list[LineFacts], work: Work) -> tuple[Phase, Phase, float, li
 
 
 def phase_volumes(lines: list[LineFacts], working: EmulsionType | None,
-                  work: Work) -> PhaseVolumes:
-    """Both phases, and (with a working type) which is dispersed and its volume fraction."""
+                  work: Work, emulsion: bool = True) -> PhaseVolumes:
+    """Both phases, and (with a working type) which is dispersed and its volume fraction.
+    Missing densities are data gaps only for an emulsion (``emulsion``), where they weaken the
+    dispersed fraction; other kinds of product have none."""
     oil, water, other, neither = _phases(lines, work)
     if neither:
         work.note(f"in neither liquid phase: {', '.join(neither)}")
-    for phase in (oil, water):
+    for phase in (oil, water) if emulsion else ():
         for name in phase.missing():
             work.gap("density", name, "dispersed_fraction",
                      "estimated at its phase's mean density")

@@ -228,8 +228,8 @@ def test_bancroft_and_hlb_class_disagree() -> None:
 def test_blend_below_its_coverage_gives_no_hlb() -> None:
     # sorbitan oleate 2 % (Griffin 4.3) beside SLS 9 % (Davies 40): an ionic-led system; the
     # Griffin members cover 2/11 of it, so no blend HLB and no HLB class
-    facts = facts_of([("Water", 87.0), ("Sorbitan Oleate", 2.0), ("Sodium Lauryl Sulfate", 9.0),
-                      ("Paraffinum Liquidum", 2.0)])
+    facts = facts_of([("Water", 69.0), ("Sorbitan Oleate", 2.0), ("Sodium Lauryl Sulfate", 9.0),
+                      ("Paraffinum Liquidum", 20.0)])
     assert facts.blend_hlb is None
     assert facts.hlb_system.griffin_value == pytest.approx(4.3)
     assert facts.hlb_system.led_by == "ionic"
@@ -256,3 +256,12 @@ def test_a_fatty_alcohol_hlb_never_stands_in_for_its_required_hlb() -> None:
                                           content_hash=mini.content_hash), reference())
     assert facts.required_hlb_ow.value == pytest.approx(12.0)  # mineral oil alone
     assert facts.required_hlb_ow.missing == ("Cetyl Alcohol",)
+
+
+def test_a_cleanser_is_a_surfactant_solution_with_no_type() -> None:
+    # the same surfactants with 2 % oil: they outweigh the oil, so no emulsion type is predicted
+    facts = facts_of([("Water", 87.0), ("Sorbitan Oleate", 2.0), ("Sodium Lauryl Sulfate", 9.0),
+                      ("Paraffinum Liquidum", 2.0)])
+    assert facts.kind.kind == "surfactant solution"
+    assert facts.predicted_type is None and facts.type_decision is None
+    assert facts.dispersed_fraction is None and facts.creaming is None
