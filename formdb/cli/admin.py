@@ -14,7 +14,17 @@ from formdb.services.seed.setup import init_library
               help="Also load the bundled seed library (ingredients with sourced values, limits, "
                    "incompatibilities, soap pairs). Safe to repeat: unchanged rows stay as they "
                    "are.")
+@click.option("--yes", is_flag=True,
+              help="With --seed on a library that exists: add what is missing. Without it the "
+                   "command shows what seeding would add and changes nothing (exit 2). Needs the "
+                   "admin role; values the library holds are never replaced.")
 @click.pass_obj
-def init_cmd(app: AppContext, seed: bool) -> None:
+def init_cmd(app: AppContext, seed: bool, yes: bool) -> None:
     """Create the library or upgrade it to the newest schema; running it twice changes nothing."""
-    click.echo(render_init(init_library(app.db, seed=seed, user=app.user)), nl=False)
+    from formdb.errors import Unconfirmed
+
+    report = init_library(app.db, seed=seed, user=app.user, confirm=yes)
+    click.echo(render_init(report), nl=False)
+    if not report.done:
+        raise Unconfirmed("seeding an existing library: nothing was changed without --yes.",
+                          hint="rerun the same command with --yes")

@@ -22,9 +22,16 @@ def _text(lines: Sequence[str]) -> str:
     return "".join(f"{line}\n" for line in lines)
 
 
+_LEFT_SHOWN = 30  # values left alone listed one per line; the rest counted
+
+
 def render_init(report: InitReport) -> str:
-    """``init``: where, which revision, and what seeding added or left alone."""
-    if report.created:
+    """``init``: where, which revision, and what seeding added or left alone (or, unconfirmed
+    on an existing library, would add)."""
+    if not report.done:
+        lines = [f"Seeding the existing library {report.database} would change it (nothing "
+                 "was changed yet):"]
+    elif report.created:
         lines = [f"Created the library {report.database} at revision {report.revision}."]
     elif report.upgraded:
         lines = [f"Upgraded the library {report.database} from revision "
@@ -41,7 +48,15 @@ def render_init(report: InitReport) -> str:
         for table, counts in report.seeded.items():
             lines.append(f"  {table:<{width}}  {counts.added} added, {counts.changed} changed, "
                          f"{counts.unchanged} unchanged")
-    if not report.changed_anything:
+    if report.left_alone:
+        lines.append(f"Left alone ({len(report.left_alone)} values the library holds and the "
+                     "seed would have replaced):")
+        lines += [f"  {line}" for line in report.left_alone[:_LEFT_SHOWN]]
+        if len(report.left_alone) > _LEFT_SHOWN:
+            lines.append(f"  ... and {len(report.left_alone) - _LEFT_SHOWN} more")
+    if not report.done:
+        lines.append("Rerun with --yes to add what is missing (values above stay as they are).")
+    elif not report.changed_anything:
         lines.append("Nothing changed.")
     return _text(lines)
 

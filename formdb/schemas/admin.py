@@ -53,6 +53,8 @@ class InitReport:
     revision: str
     seeded: dict[str, TableCounts] = field(default_factory=dict)
     builtin_sources_added: int = 0
+    left_alone: tuple[str, ...] = ()  # values of an existing library the seed did not replace
+    done: bool = True  # False: an unconfirmed seeding of an existing library, rolled back
 
     @property
     def created(self) -> bool:

@@ -134,3 +134,27 @@ def test_the_last_admin_cannot_be_removed(library: str) -> None:
                            "--yes"]).exit_code == 0
     assert run_as("boss", ["--db", library, "user", "revoke", "boss", "admin",
                            "--yes"]).exit_code == 0
+
+
+def test_seeding_an_existing_library_needs_the_admin_and_yes(library: str) -> None:
+    """Issue 13: `init --seed` by an unknown user put an editor's changes back to the seed."""
+    assert run_as("boss", ["--db", library, "user", "add", "ed", "--role", "editor",
+                           "--yes"]).exit_code == 0
+    assert run_as("ed", ["--db", library, *EDIT]).exit_code == 0
+    before = dump_database(library, exclude_columns=("at",))
+    for who in ("rita", "ed"):
+        refused = run_as(who, ["--db", library, "init", "--seed", "--yes"])
+        assert refused.exit_code == 2
+        assert refused.stderr.startswith(f"Error: {who} may not seed an existing library: that "
+                                         "needs the role admin."), refused.stderr
+    shown = run_as("boss", ["--db", library, "init", "--seed"])
+    assert shown.exit_code == 2, shown.stderr
+    assert "would change it (nothing was changed yet)" in shown.stdout
+    assert "Rerun with --yes" in shown.stdout
+    after = dump_database(library, exclude_columns=("at",))
+    assert after.count("\n") == before.count("\n") + 2  # the two refusals, nothing else
+    done = run_as("boss", ["--db", library, "init", "--seed", "--yes"])
+    assert done.exit_code == 0, done.stderr
+    assert "ingredient Polysorbate 80: hlb kept '14.9' (seed '15')" in done.stdout
+    show = run_formdb(["--db", library, "ingredient", "show", "Polysorbate 80"])
+    assert "14.9" in show.stdout

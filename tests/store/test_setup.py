@@ -63,28 +63,48 @@ def test_seeding_twice_changes_nothing(empty_library_url: str) -> None:
     assert report.seeded["ingredients"].unchanged == 8
 
 
-def test_a_changed_seed_value_is_updated_and_logged(empty_library_url: str,
-                                                    seed_copy: Path) -> None:
+def test_seeding_an_existing_library_never_overwrites_a_value(empty_library_url: str,
+                                                             seed_copy: Path) -> None:
+    """Issue 13: `init --seed` put an editor's changes back to the seed values. On a library
+    that exists the seed adds what is missing and reports every value it left alone."""
     _seed(empty_library_url, seed_copy)
     logged = _count(empty_library_url, ChangeLogEntry)
     limits = seed_copy / "limits.csv"
     limits.write_text(limits.read_text().replace(",34,Benzyl Alcohol,any,,1,", ",34,Benzyl Alcohol,"
                                                  "any,,0.9,"))
+    unconfirmed = init_library(empty_library_url, seed=True, user=USER, seed_dir=seed_copy,
+                               confirm=False)
+    assert unconfirmed.done  # nothing would be added, so nothing needs confirming
     report = _seed(empty_library_url, seed_copy)
-    assert (report.seeded["limits"].changed, report.seeded["limits"].unchanged) == (1, 1)
+    assert (report.seeded["limits"].changed, report.seeded["limits"].unchanged) == (0, 2)
+    assert report.left_alone == (
+        "limit eu-v-34-benzyl-alcohol: max_percent kept '1.0' (seed '0.9')",)
+    assert not report.changed_anything
     engine = make_engine(empty_library_url)
     try:
         with unit_of_work(engine) as session:
             entry = session.get(LimitEntry, "eu-v-34-benzyl-alcohol")
-            assert entry is not None and entry.max_percent == 0.9
-            rows = session.scalars(select(ChangeLogEntry).order_by(ChangeLogEntry.id)).all()
-            assert len(rows) == logged + 1
-            last = rows[-1]
-            assert (last.entity, last.entity_key, last.field, last.old_value, last.new_value,
-                    last.user, last.action) == ("limit", "eu-v-34-benzyl-alcohol",
-                                                "max_percent", "1.0", "0.9", USER, "seed")
+            assert entry is not None and entry.max_percent == 1.0
+            assert _count(empty_library_url, ChangeLogEntry) == logged
+            # an ingredient value the team edited stays; a new seed row is added (confirmed)
+            entry.max_percent = 0.8  # the team's own value, as an edit would leave it
     finally:
         engine.dispose()
+    ingredients = seed_copy / "ingredients.csv"
+    lines = ingredients.read_text().splitlines()
+    header = lines[0].split(",")
+    extra = ["" for _ in header]
+    extra[header.index("inci_name")] = "Larkspur Test Ester"
+    lines.append(",".join(extra))
+    ingredients.write_text("\n".join(lines) + "\n")
+    shown = init_library(empty_library_url, seed=True, user=USER, seed_dir=seed_copy,
+                         confirm=False)
+    assert not shown.done and shown.seeded["ingredients"].added == 1
+    assert _count(empty_library_url, ChangeLogEntry) == logged  # rolled back
+    done = _seed(empty_library_url, seed_copy)
+    assert done.done and done.seeded["ingredients"].added == 1
+    assert done.left_alone == (
+        "limit eu-v-34-benzyl-alcohol: max_percent kept '0.8' (seed '0.9')",)
 
 
 def test_seeding_leaves_the_teams_own_rows_alone(empty_library_url: str) -> None:

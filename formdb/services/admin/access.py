@@ -25,7 +25,7 @@ from __future__ import annotations
 
 from datetime import UTC, datetime
 
-from sqlalchemy import select
+from sqlalchemy import Engine, inspect, select
 from sqlalchemy.exc import IntegrityError
 from sqlalchemy.orm import Session, selectinload
 
@@ -90,8 +90,31 @@ def require(session: Session, user: str, action: Action) -> None:
                                field=action.value[:60], old_value=None, new_value=None,
                                reason=f"needs role {needed.value}"))
     session.commit()
-    raise Forbidden(f"{user} may not {action.value}: that needs the role {needed.value}.",
-                    hint=f"ask an admin: formdb user grant {user} {needed.value} --yes")
+    raise _refusal(user, action)
+
+
+def require_on(engine: Engine, user: str, action: Action) -> None:
+    """``require`` for administration commands that hold an engine at any revision (downgrade,
+    restore, seeding). Before users existed (revision < 0009) the library is open. The refusal
+    is logged only at the newest schema, where the change log has the shape the ORM writes."""
+    from formdb.store.db import current_revision, head_revision, unit_of_work
+
+    if not inspect(engine).has_table(User.__tablename__):
+        return
+    if current_revision(engine) == head_revision():
+        with unit_of_work(engine, write=True) as session:
+            require(session, user, action)
+        return
+    with unit_of_work(engine) as session:
+        if is_open(session) or NEEDS[action].value in roles_of(session, user):
+            return
+    raise _refusal(user, action)
+
+
+def _refusal(user: str, action: Action) -> Forbidden:
+    needed = NEEDS[action]
+    return Forbidden(f"{user} may not {action.value}: that needs the role {needed.value}.",
+                     hint=f"ask an admin: formdb user grant {user} {needed.value} --yes")
 
 
 def _log(session: Session, actor: str, name: str, action: str, field: str | None,

@@ -237,6 +237,31 @@ def overlay(base: Mapping[str, str], row: FileRow) -> Cells:
     return cells
 
 
+def missing_only(base: Mapping[str, str], row: FileRow,
+                 inci: str) -> tuple[FileRow, list[str]]:
+    """The row reduced to the cells that fill a blank of the library (``init --seed`` on an
+    existing library never overwrites a value the team set), and a line for each cell it
+    leaves alone because the library already holds another value."""
+    kept: Cells = {}
+    left: list[str] = []
+    for column, value in row.given.items():
+        if column == NAME_COLUMN or not value:
+            kept[column] = value
+            continue
+        prop = column.removesuffix("_source").removesuffix("_note")
+        stored = base.get(prop, "") if prop in PROPERTY_NAMES else base.get(column, "")
+        if not stored:
+            kept[column] = value
+        elif (column in LIST_FIELDS and _items(value) != _items(stored)) or \
+                (column in PROPERTY_NAMES and not _same_value(prop, value, stored)):
+            left.append(f"{inci}: {column} kept {stored!r} (seed {value!r})")
+    return FileRow(row.row, kept, row.source_columns), left
+
+
+def _items(cell: str) -> set[str]:
+    return {item.strip().casefold() for item in split_list(cell)}
+
+
 def _same_value(prop: str, text: str, stored: str) -> bool:
     """True when two cells mean the same value ('997.05 kg/m3' and '0.99705' do)."""
     if not stored:

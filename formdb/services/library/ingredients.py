@@ -46,6 +46,7 @@ from formdb.services.library.ingredient_rows import (
     Cells,
     empty_cells,
     header_labels,
+    missing_only,
     overlay,
     read_ingredient_rows,
     render_ingredient,
@@ -103,6 +104,7 @@ class ImportReport:
     changed: dict[str, list[FieldChange]] = field(default_factory=dict)
     unchanged: list[str] = field(default_factory=list)
     notes: list[str] = field(default_factory=list)  # per-row remarks that are not problems
+    left_alone: list[str] = field(default_factory=list)  # keep_existing: values not replaced
 
 
 @dataclass(frozen=True)
@@ -362,13 +364,16 @@ def _names_of(given: Mapping[str, str]) -> list[tuple[str, str]]:
 
 
 def import_table(session: Session, path: Path, *, user: str, reason: str | None,
-                 action: str = "import", dry_run: bool = False) -> ImportReport:
+                 action: str = "import", dry_run: bool = False,
+                 keep_existing: bool = False) -> ImportReport:
     """Upsert every row of a CSV/XLSX ingredient table, all or nothing.
 
     Rows match library ingredients by INCI name or synonym (case and spacing ignored); a blank
     cell leaves the library's value alone; a non-blank list cell replaces the list. Every problem
     of every row is collected first and raised together as TableProblems, before anything is
-    written. ``dry_run`` computes the same report and writes nothing.
+    written. ``dry_run`` computes the same report and writes nothing. ``keep_existing``
+    (``init --seed`` on an existing library) only fills what the library lacks and lists in
+    ``left_alone`` every value it did not replace.
     """
     if not dry_run and action != "seed":  # seeding is part of `formdb init`
         require(session, user, Action.CHANGE_LIBRARY)
@@ -409,6 +414,9 @@ def import_table(session: Session, path: Path, *, user: str, reason: str | None,
                         f"ingredient, {owner.inci_name!r} (as {kind}); a name may belong to one "
                         "ingredient only")
         base = _cells(target)
+        if keep_existing and target is not None:
+            row, left = missing_only(base, row, target.inci_name)
+            report.left_alone += left
         cells = overlay(base, row)
         if target is not None:
             cells[NAME_COLUMN] = target.inci_name

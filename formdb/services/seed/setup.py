@@ -4,12 +4,19 @@ Upgrade and seeding run in one transaction: either the library ends at head with
 in place, or it is left exactly as it was (a SQLite file that init created is removed again).
 Seeding upserts by key and compares first, so a second run adds nothing, changes nothing and
 writes no change-log rows. Rows a team added to its own library are never touched.
+
+On a library that already exists, seeding never overwrites a value the team may have changed:
+it adds the rows and fills the values the library lacks, and reports every value it left alone
+(``InitReport.left_alone``). Because that still writes to a shared library, it needs the admin
+role (services.admin.access, once there is an admin) and ``confirm``: unconfirmed, the whole
+upgrade and seeding run and are rolled back, and the report says what they would do.
 """
 
 from __future__ import annotations
 
 import json
 import sqlite3
+from dataclasses import replace
 from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any
@@ -19,7 +26,8 @@ from sqlalchemy.orm import Session
 
 from formdb.errors import ConfigError, SchemaOutdated
 from formdb.resources import seed_data_dir
-from formdb.schemas.admin import InitReport, TableCounts
+from formdb.schemas.admin import Action, InitReport, TableCounts
+from formdb.services.admin.access import require_on
 from formdb.services.library.ingredients import SPECIAL_SOURCES
 from formdb.services.seed import safety as seed_safety
 from formdb.services.seed import tables as seed_tables
@@ -32,6 +40,7 @@ from formdb.store.db import (
     sqlite_path,
     upgraded_unit_of_work,
 )
+from formdb.store.identity import identity_of
 from formdb.store.models import (
     Base,
     ChangeLogEntry,
@@ -60,11 +69,22 @@ BUILTIN_SOURCES: tuple[dict[str, Any], ...] = tuple(
     for key, (evidence, citation) in SPECIAL_SOURCES.items())
 
 
-def init_library(url: str, *, seed: bool, user: str, seed_dir: Path | None = None) -> InitReport:
+class _RollBack(Exception):
+    """Ends an unconfirmed seeding of an existing library: everything is rolled back."""
+
+    def __init__(self, report: InitReport) -> None:
+        super().__init__("unconfirmed")
+        self.report = report
+
+
+def init_library(url: str, *, seed: bool, user: str | None = None,
+                 seed_dir: Path | None = None, confirm: bool = True) -> InitReport:
     """Create or upgrade the library at ``url`` to head; with ``seed``, load the seed tables.
 
-    ``seed_dir`` replaces the bundled ``seed_data/`` (tests, a team's own seed); there a missing
-    file is skipped, while the bundled folder must hold all of ``SEED_FILES``.
+    ``user`` None: the authenticated identity (formdb.store.identity). ``seed_dir`` replaces the
+    bundled ``seed_data/`` (tests, a team's own seed); there a missing file is skipped, while
+    the bundled folder must hold all of ``SEED_FILES``. See the module docstring for seeding a
+    library that exists (admin role, ``confirm``).
     """
     path = sqlite_path(url)
     existed = path is None or path.exists()
@@ -72,11 +92,22 @@ def init_library(url: str, *, seed: bool, user: str, seed_dir: Path | None = Non
     try:
         before = current_revision(engine)
         _refuse_unknown_revision(engine.url, before)
-        with upgraded_unit_of_work(engine) as session:
-            seeded = seed_library(session, user=user, seed_dir=seed_dir) if seed else {}
-            builtins = ensure_builtin_sources(session, user)
-        return InitReport(display_url(engine.url), before, head_revision(), seeded,
-                          builtins.added)
+        user = user if user is not None else identity_of(engine)
+        reseed = seed and before is not None
+        if reseed:
+            require_on(engine, user, Action.RESEED)
+        try:
+            with upgraded_unit_of_work(engine) as session:
+                seeded, left = (seed_library(session, user=user, seed_dir=seed_dir,
+                                             keep_existing=reseed) if seed else ({}, []))
+                builtins = ensure_builtin_sources(session, user)
+                report = InitReport(display_url(engine.url), before, head_revision(), seeded,
+                                    builtins.added, tuple(left), done=True)
+                if reseed and not confirm and report.changed_anything:
+                    raise _RollBack(replace(report, done=False))
+        except _RollBack as unconfirmed:
+            return unconfirmed.report
+        return report
     except BaseException:
         engine.dispose()
         if not existed and path is not None:
@@ -130,9 +161,11 @@ def ensure_builtin_sources(session: Session, user: str) -> TableCounts:
     return TableCounts(added=len(missing), unchanged=len(present))
 
 
-def seed_library(session: Session, *, user: str,
-                 seed_dir: Path | None = None) -> dict[str, TableCounts]:
-    """Upsert every seed table in order (sources first: everything cites them)."""
+def seed_library(session: Session, *, user: str, seed_dir: Path | None = None,
+                 keep_existing: bool = False) -> tuple[dict[str, TableCounts], list[str]]:
+    """Upsert every seed table in order (sources first: everything cites them); with
+    ``keep_existing`` only add rows and fill blank values. Returns the counts per table and
+    the values left alone."""
     bundled = seed_dir is None
     folder = seed_data_dir() if seed_dir is None else seed_dir
     if bundled:
@@ -142,6 +175,12 @@ def seed_library(session: Session, *, user: str,
                               hint="reinstall formdb")
     now = datetime.now(UTC)
     counts: dict[str, TableCounts] = {}
+    left: list[str] = []
+
+    def _upsert(model: type[Base], key_fields: tuple[str, ...], rows: list[dict[str, Any]],
+                entity: str) -> TableCounts:
+        return _upsert_rows(session, model, key_fields, rows, entity, user, now,
+                            left if keep_existing else None)
 
     def present(name: str) -> Path | None:
         file = folder / name
@@ -149,56 +188,56 @@ def seed_library(session: Session, *, user: str,
 
     if file := present("sources.csv"):
         rows = seed_tables.read_sources(file, label=_label(folder, file))
-        counts["sources"] = _upsert(session, Source, ("key",), rows, "source", user, now)
+        counts["sources"] = _upsert(Source, ("key",), rows, "source")
         session.flush()
     if file := present("ingredients.csv"):
-        counts["ingredients"] = _import_ingredients(session, file, user)
+        counts["ingredients"] = _import_ingredients(session, file, user, keep_existing, left)
         session.flush()
     known_sources = set(session.scalars(select(Source.key)))
     if file := present("limits.csv"):
         rows = seed_tables.read_limits(file, _label(folder, file), known_sources)
-        counts["limits"] = _upsert(session, LimitEntry, ("key",), rows, "limit", user, now)
+        counts["limits"] = _upsert(LimitEntry, ("key",), rows, "limit")
     if file := present("incompatibilities.csv"):
         rows = seed_tables.read_incompatibilities(file, _label(folder, file), known_sources,
                                                   session)
-        counts["incompatibilities"] = _upsert(session, IncompatibilityEntry, ("key",), rows,
-                                              "incompatibility", user, now)
+        counts["incompatibilities"] = _upsert(IncompatibilityEntry, ("key",), rows,
+                                              "incompatibility")
     if file := present("soap_pairs.csv"):
         rows = seed_tables.read_soap_pairs(file, _label(folder, file), known_sources, session)
-        counts["soap_pairs"] = _upsert(session, SoapPairEntry, ("acid_inci", "base_inci"), rows,
-                                       "soap pair", user, now)
+        counts["soap_pairs"] = _upsert(SoapPairEntry, ("acid_inci", "base_inci"), rows,
+                                       "soap pair")
     if file := present("exposure.csv"):
         rows = seed_safety.read_exposure(file, _label(folder, file), known_sources)
-        counts["exposure"] = _upsert(session, ExposureEntry, ("product",), rows, "exposure",
-                                     user, now)
+        counts["exposure"] = _upsert(ExposureEntry, ("product",), rows, "exposure")
     if file := present("toxicology.csv"):
         rows = seed_safety.read_toxicology(file, _label(folder, file), known_sources, session)
-        counts["toxicology"] = _upsert(session, ToxicologyEntry, ("key",), rows, "toxicology",
-                                       user, now)
+        counts["toxicology"] = _upsert(ToxicologyEntry, ("key",), rows, "toxicology")
     if file := present("label_thresholds.csv"):
         rows = seed_safety.read_label_thresholds(file, _label(folder, file), known_sources)
-        counts["label_thresholds"] = _upsert(session, LabelThresholdEntry, ("key",), rows,
-                                             "label threshold", user, now)
+        counts["label_thresholds"] = _upsert(LabelThresholdEntry, ("key",), rows,
+                                             "label threshold")
     if file := present("constituents.csv"):
         rows = seed_safety.read_constituents(file, _label(folder, file), known_sources, session)
-        counts["constituents"] = _upsert(session, MixtureConstituent,
-                                         ("mixture_id", "constituent_id"), rows, "constituent",
-                                         user, now)
+        counts["constituents"] = _upsert(MixtureConstituent, ("mixture_id", "constituent_id"),
+                                         rows, "constituent")
     session.flush()
-    return counts
+    return counts, left
 
 
 def _label(folder: Path, file: Path) -> str:
     return f"{folder.name}/{file.name}"
 
 
-def _import_ingredients(session: Session, file: Path, user: str) -> TableCounts:
+def _import_ingredients(session: Session, file: Path, user: str, keep_existing: bool,
+                        left: list[str]) -> TableCounts:
     try:
         from formdb.services.library.ingredients import import_table
     except ImportError as exc:  # pragma: no cover - only while the ingredient service is absent
         raise ConfigError("this formdb cannot import ingredient tables yet.",
                           hint="install a complete formdb") from exc
-    report = import_table(session, file, user=user, reason=SEED_REASON, action="seed")
+    report = import_table(session, file, user=user, reason=SEED_REASON, action="seed",
+                          keep_existing=keep_existing)
+    left += [f"ingredient {line}" for line in report.left_alone]
 
     def count(name: str) -> int:
         value = getattr(report, name, 0)
@@ -207,9 +246,12 @@ def _import_ingredients(session: Session, file: Path, user: str) -> TableCounts:
     return TableCounts(count("added"), count("changed"), count("unchanged"))
 
 
-def _upsert(session: Session, model: type[Base], key_fields: tuple[str, ...],
-            rows: list[dict[str, Any]], entity: str, user: str, now: datetime) -> TableCounts:
-    """Insert new keys, update differing fields (one change-log row each), leave equal rows."""
+def _upsert_rows(session: Session, model: type[Base], key_fields: tuple[str, ...],
+                 rows: list[dict[str, Any]], entity: str, user: str, now: datetime,
+                 left: list[str] | None) -> TableCounts:
+    """Insert new keys, update differing fields (one change-log row each), leave equal rows.
+    With ``left`` (an existing library) only blank fields are filled; every differing value
+    the library holds is kept and described in ``left``."""
     existing = {tuple(getattr(obj, k) for k in key_fields): obj
                 for obj in session.scalars(select(model))}
     added = changed = unchanged = 0
@@ -225,6 +267,12 @@ def _upsert(session: Session, model: type[Base], key_fields: tuple[str, ...],
             continue
         differing = {name: value for name, value in values.items()
                      if getattr(obj, name) != value}
+        if left is not None:
+            left += [f"{entity} {entity_key}: {name} kept {_text(getattr(obj, name))!r} "
+                     f"(seed {_text(value)!r})"
+                     for name, value in differing.items() if getattr(obj, name) is not None]
+            differing = {name: value for name, value in differing.items()
+                         if getattr(obj, name) is None}
         for name, value in differing.items():
             _log(session, now, user, entity, entity_key, "seed", name,
                  _text(getattr(obj, name)), _text(value), SEED_REASON)
