@@ -197,3 +197,15 @@ def test_file_and_using_together_is_a_usage_error(seeded_library_url: str,
     path = _formula(tmp_path, WANGPRADIT_LINES)
     result = _blend(seeded_library_url, str(path), *SPAN80_TWEEN80)
     assert result.exit_code == 2 and "not both" in result.stderr
+
+
+def test_blend_of_a_cleanser_says_it_is_not_an_emulsion(seeded_library_url: str,
+                                                         tmp_path: Path) -> None:
+    # surfactants outweigh the oil: a surfactant solution has no required HLB to solve for
+    path = tmp_path / "wash.toml"
+    path.write_text(formula_toml("Larkspur LB-413 wash", [
+        ("Aqua", 83.0), ("Sodium Laureth Sulfate", 10.0), ("Cocamidopropyl Betaine", 4.0),
+        ("Sorbitan Oleate", 1.0), ("Helianthus Annuus Seed Oil", 2.0)]), encoding="utf-8")
+    result = run_formdb(["--db", seeded_library_url, "blend", str(path)])
+    assert result.exit_code == 2
+    assert "surfactant solution" in result.stderr and "not an emulsion" in result.stderr

@@ -177,6 +177,11 @@ def check_one(library: Library, path: Path, profile: Profile | str | None) -> Ch
 
 def formula_target(facts: FormulaFacts, label: str) -> tuple[float, str]:
     """The required HLB to solve for and where it comes from; InvalidData when there is none."""
+    product = facts.kind
+    if product is not None and product.kind not in ("emulsion", "soap cream"):
+        raise InvalidData(f"{label}: no required HLB to solve for: the formula is a "
+                          f"{product.kind} ({product.reason}), not an emulsion",
+                          hint="give --target, or kind = \"emulsion\" in the formula")
     if facts.working_type is None:
         raise InvalidData(f"{label}: no required HLB to solve for: the formula states no "
                           "intended_type and no type can be predicted",
@@ -185,8 +190,12 @@ def formula_target(facts: FormulaFacts, label: str) -> tuple[float, str]:
     req = facts.required_hlb_ow if kind == EmulsionType.OW else facts.required_hlb_wo
     if facts.required_hlb is None:
         missing = ", ".join(req.missing) or "no oil-phase ingredient counts toward it"
+        cover = facts.required_hlb_coverage
+        short = (f"; the values cover {cover:.0%} of the oil phase, below "
+                 f"{facts.settings.min_required_hlb_coverage:.0%}"
+                 if cover is not None and req.value is not None else "")
         raise InvalidData(f"{label}: no required HLB ({kind.value}) for the oil phase "
-                          f"(no value for: {missing})",
+                          f"(no value for: {missing}{short})",
                           hint="add the oils' required HLB to the library, or give --target")
     how = "intended" if facts.working_type_source == "intended" else "predicted"
     return facts.required_hlb, f"required HLB ({kind.value}, {how}) of the oil phase"
