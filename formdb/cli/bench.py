@@ -11,6 +11,7 @@ import click
 from formdb.cli.main import AppContext, with_library
 
 if TYPE_CHECKING:
+    from formdb.schemas.bench import WeighSheet
     from formdb.store.library import Library
 
 
@@ -90,3 +91,120 @@ def price_list_cmd(app: AppContext, library: Library, inci: str | None) -> None:
     from formdb.services.bench_work.prices import price_history
 
     click.echo(price_table(price_history(library, inci)), nl=False)
+
+
+@click.group("screen")
+def screen_group() -> None:
+    """Screening series: find an oil phase's required HLB at the bench."""
+
+
+@screen_group.command("plan")
+@click.argument("name")
+@click.option("--oil", "oils", multiple=True, metavar="INCI=SHARE",
+              help="A member of the oil phase and its share (repeat; shares are normalised).")
+@click.option("--from-formula", type=click.Path(path_type=Path),
+              help="Take the oil phase of this formula file instead.")
+@click.option("--low", required=True, help="The low-HLB emulsifier of the pair.")
+@click.option("--high", required=True, help="The high-HLB emulsifier of the pair.")
+@click.option("--from-hlb", "start", type=float, default=6.0, show_default=True)
+@click.option("--to-hlb", "stop", type=float, default=16.0, show_default=True)
+@click.option("--step", type=float, default=1.0, show_default=True)
+@click.option("--oil-percent", type=float, default=20.0, show_default=True,
+              help="% of oil phase in each emulsion.")
+@click.option("--emulsifier-percent", type=float, default=5.0, show_default=True,
+              help="% of the emulsifier pair in each emulsion.")
+@click.option("--batch-g", type=float, default=100.0, show_default=True,
+              help="Grams of each emulsion (its weigh sheet).")
+@click.option("--type", "emulsion_type", type=click.Choice(["O/W", "W/O"]), default="O/W",
+              show_default=True)
+@click.option("--sheets", type=click.Path(path_type=Path),
+              help="Write each blend's weigh sheet (HTML) into this folder.")
+@with_library
+def screen_plan_cmd(app: AppContext, library: Library, name: str, oils: tuple[str, ...],
+                    from_formula: Path | None, low: str, high: str, start: float, stop: float,
+                    step: float, oil_percent: float, emulsifier_percent: float, batch_g: float,
+                    emulsion_type: str, sheets: Path | None) -> None:
+    """Plan and store screening series NAME: one emulsion per HLB step, each weighable."""
+    from formdb.report.screening import series_text
+    from formdb.schemas.vocab import EmulsionType
+    from formdb.services.bench_work.screening import parse_oil, plan_series
+
+    series = plan_series(
+        library, name, user=app.user, oils=[parse_oil(o) for o in oils],
+        formula=from_formula, low=low, high=high, start=start, stop=stop, step=step,
+        oil_percent=oil_percent, emulsifier_percent=emulsifier_percent, batch_g=batch_g,
+        emulsion_type=EmulsionType(emulsion_type))
+    click.echo(series_text(series), nl=False)
+    if sheets is not None:
+        _write_sheets(series.sheets, sheets)
+
+
+def _write_sheets(sheets: tuple[WeighSheet, ...], folder: Path) -> None:
+    from formdb.errors import InvalidData
+    from formdb.report.files import write_report
+    from formdb.report.weigh_sheet import render_html
+
+    if not folder.is_dir():
+        raise InvalidData(f"--sheets {folder}: not a folder (create it first)")
+    for number, sheet in enumerate(sheets, start=1):
+        write_report(folder / f"blend-{number:02d}.html", render_html(sheet))
+    click.echo(f"{len(sheets)} weigh sheets written to {folder}")
+
+
+@screen_group.command("show")
+@click.argument("name")
+@click.option("--sheets", type=click.Path(path_type=Path),
+              help="Write each blend's weigh sheet (HTML) into this folder.")
+@with_library
+def screen_show_cmd(app: AppContext, library: Library, name: str, sheets: Path | None) -> None:
+    """Print series NAME: its blends and what was observed of each."""
+    from formdb.report.screening import series_text
+    from formdb.services.bench_work.screening import show_series
+
+    series = show_series(library, name, with_sheets=sheets is not None)
+    click.echo(series_text(series), nl=False)
+    if sheets is not None:
+        _write_sheets(series.sheets, sheets)
+
+
+@screen_group.command("record")
+@click.argument("name")
+@click.option("--blend", type=int, required=True, help="The blend's number in the series.")
+@click.option("--stability", type=float, help="Stability score, 0 (broken) to 10 (unchanged).")
+@click.option("--separation-percent", type=float,
+              help="Cream or serum layer, % of the sample's height.")
+@click.option("--droplet-um", type=float, help="Mean droplet diameter, µm.")
+@click.option("--after-hours", type=float, help="Hours since the emulsion was made.")
+@click.option("--note", help="What else was seen.")
+@with_library
+def screen_record_cmd(app: AppContext, library: Library, name: str, blend: int,
+                      stability: float | None, separation_percent: float | None,
+                      droplet_um: float | None, after_hours: float | None,
+                      note: str | None) -> None:
+    """Record what the lab saw of one blend of series NAME (earlier records stay)."""
+    from formdb.services.bench_work.screening import record_observations
+
+    values = {k: v for k, v in (("stability", stability),
+                                ("separation_percent", separation_percent),
+                                ("droplet_um", droplet_um)) if v is not None}
+    record_observations(library, name, blend, values, user=app.user, after_hours=after_hours,
+                        note=note)
+    click.echo(f"recorded blend {blend} of {name}: "
+               + ", ".join(f"{k} {v:g}" for k, v in values.items()))
+
+
+@screen_group.command("fit")
+@click.argument("name")
+@click.option("--measure", type=click.Choice(["stability", "separation_percent", "droplet_um"]),
+              default="stability", show_default=True)
+@click.option("--store", is_flag=True,
+              help="Keep the fitted value in the library as an in-house measurement.")
+@with_library
+def screen_fit_cmd(app: AppContext, library: Library, name: str, measure: str,
+                   store: bool) -> None:
+    """Fit the required HLB of series NAME's oil phase (refused without a clear optimum)."""
+    from formdb.report.screening import fit_text
+    from formdb.services.bench_work.screening import fit_series
+
+    fit = fit_series(library, name, measure=measure, store=store, user=app.user)
+    click.echo(fit_text(name, fit, store), nl=False)

@@ -43,6 +43,7 @@ COMMANDS: dict[str, str] = {
     "batch": "formdb.cli.bench:batch_cmd",
     "price": "formdb.cli.bench:price_group",
     "mixture": "formdb.cli.mixtures:mixture_group",
+    "screen": "formdb.cli.bench:screen_group",
 }
 
 

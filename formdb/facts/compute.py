@@ -16,6 +16,7 @@ from formdb.facts.composition import has_mixtures, substances
 from formdb.facts.emulsion_type import emulsion_type
 from formdb.facts.exposure_sheet import exposure_sheet
 from formdb.facts.kind import EMULSION_KINDS, recognise
+from formdb.facts.measured_rhlb import apply_measured
 from formdb.facts.phases import is_co_emulsifier_only, line_facts
 from formdb.facts.soap import form_soaps
 from formdb.facts.work import Work
@@ -52,8 +53,11 @@ def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
                   "phase or creaming is worked out")
         kind = replace(kind, working=None, source=None, predicted=None, disagree=False,
                        decision=None)
-    rhlb_ow = hlb.required(formula, lines, EmulsionType.OW, work)
-    rhlb_wo = hlb.required(formula, lines, EmulsionType.WO, work)
+    measured = reference.measured_required_hlb
+    rhlb_ow = apply_measured(hlb.required(formula, lines, EmulsionType.OW, work), formula,
+                             lines, measured, work)
+    rhlb_wo = apply_measured(hlb.required(formula, lines, EmulsionType.WO, work), formula,
+                             lines, measured, work)
     required, coverage = (hlb.working_required(kind.working, rhlb_ow, rhlb_wo,
                                                settings.min_required_hlb_coverage, work)
                           if product.kind in EMULSION_KINDS else (None, None))

@@ -116,6 +116,10 @@ def _required_line(req: RequiredHlbFacts, working: bool) -> Line:
     if req.value is None:
         return Line(label, f"not worked out: no value in the library for "
                            f"{', '.join(req.missing)}", flag)
+    if req.measured_source is not None:
+        return Line(label, f"{n.hlb(req.value)} ± {n.hlb(req.measured_uncertainty)} (measured "
+                           f"in-house for this oil phase: source {req.measured_source}, graded "
+                           "measured)")
     if not req.missing:
         return Line(label, f"{n.hlb(req.value)} (weight average over the "
                            f"{n.percent(req.members_percent)} of oil phase that counts)")

@@ -8,6 +8,7 @@ from datetime import date
 
 from pydantic import BaseModel, ConfigDict
 
+from formdb.schemas.bench import MeasuredRequiredHlb
 from formdb.schemas.ingredient import IngredientRecord
 from formdb.schemas.lists import ListEntry, SnapshotInfo
 from formdb.schemas.vocab import Severity
@@ -149,6 +150,8 @@ class ReferenceData(BaseModel):
     # their molar mass converts a salt's % to % as acid
     acids: dict[str, IngredientRecord] = {}
     sources: dict[str, str] = {}  # key -> citation
+    # in-house required HLB of oil phases, fitted to screening series (formdb screen fit --store)
+    measured_required_hlb: tuple[MeasuredRequiredHlb, ...] = ()
     # exposure per product type, keyed by the product name folded to lower case
     exposure: dict[str, ExposureRecord] = {}
     # toxicology records keyed by name_key of the substance's INCI name

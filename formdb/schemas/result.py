@@ -156,6 +156,10 @@ class RequiredHlbFacts(_Frozen):
     # (a member without a range counts at its value); None when no member has a range
     low: float | None = None
     high: float | None = None
+    # an in-house measurement of this very oil phase replaces the weight average: its source key
+    # and expanded uncertainty (formdb.facts.measured_rhlb)
+    measured_source: str | None = None
+    measured_uncertainty: float | None = None
 
 
 class HlbSystemFacts(_Frozen):

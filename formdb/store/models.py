@@ -443,3 +443,84 @@ class IngredientPrice(Base):
     recorded_at: Mapped[datetime] = mapped_column(DateTime(timezone=True))
     recorded_by: Mapped[str] = mapped_column(String(100))
     note: Mapped[str | None] = mapped_column(Text)
+
+
+class ScreeningSeries(Base):
+    """A planned screening series: an oil phase emulsified with a pair of emulsifiers whose
+    blend HLB steps across a range (one ``ScreeningBlend`` a step)."""
+
+    __tablename__ = "screening_series"
+    __table_args__ = (UniqueConstraint("name_key"),)
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    name: Mapped[str] = mapped_column(String(200))
+    name_key: Mapped[str] = mapped_column(String(200))
+    emulsion_type: Mapped[str] = mapped_column(String(3))
+    oil_phase: Mapped[str] = mapped_column(Text)  # JSON [[inci, fraction], ...]
+    oil_percent: Mapped[float] = mapped_column(Float)
+    emulsifier_percent: Mapped[float] = mapped_column(Float)
+    low_inci: Mapped[str] = mapped_column(String(200))
+    high_inci: Mapped[str] = mapped_column(String(200))
+    low_hlb: Mapped[float] = mapped_column(Float)
+    high_hlb: Mapped[float] = mapped_column(Float)
+    water_inci: Mapped[str] = mapped_column(String(200))
+    batch_g: Mapped[float] = mapped_column(Float)
+    created_at: Mapped[datetime] = mapped_column(DateTime(timezone=True))
+    created_by: Mapped[str] = mapped_column(String(100))
+
+    blends: Mapped[list[ScreeningBlendRow]] = relationship(
+        cascade="all, delete-orphan", order_by="ScreeningBlendRow.number")
+
+
+class ScreeningBlendRow(Base):
+    """One emulsion of a series: its blend HLB and the % of each emulsifier in it."""
+
+    __tablename__ = "screening_blends"
+    __table_args__ = (UniqueConstraint("series_id", "number"),)
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    series_id: Mapped[int] = mapped_column(ForeignKey("screening_series.id", ondelete="CASCADE"),
+                                           index=True)
+    number: Mapped[int] = mapped_column(Integer)
+    hlb: Mapped[float] = mapped_column(Float)
+    low_percent: Mapped[float] = mapped_column(Float)
+    high_percent: Mapped[float] = mapped_column(Float)
+
+    observations: Mapped[list[ScreeningObservation]] = relationship(
+        cascade="all, delete-orphan", order_by="ScreeningObservation.id")
+
+
+class ScreeningObservation(Base):
+    """What the lab saw of one blend: a measure (stability score, separated layer, droplet
+    size) and its value. Rows are only added; the latest of a measure counts."""
+
+    __tablename__ = "screening_observations"
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    blend_id: Mapped[int] = mapped_column(ForeignKey("screening_blends.id", ondelete="CASCADE"),
+                                          index=True)
+    measure: Mapped[str] = mapped_column(String(40))
+    value: Mapped[float] = mapped_column(Float)
+    after_hours: Mapped[float | None] = mapped_column(Float)
+    observed_at: Mapped[datetime] = mapped_column(DateTime(timezone=True))
+    observed_by: Mapped[str] = mapped_column(String(100))
+    note: Mapped[str | None] = mapped_column(Text)
+
+
+class OilPhaseMeasurement(Base):
+    """An in-house required HLB of an oil phase (its members and their shares), fitted to a
+    screening series; the check uses it for a formula whose oil phase matches."""
+
+    __tablename__ = "oil_phase_measurements"
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    series_id: Mapped[int] = mapped_column(ForeignKey("screening_series.id"), index=True)
+    emulsion_type: Mapped[str] = mapped_column(String(3))
+    oil_phase: Mapped[str] = mapped_column(Text)  # JSON [[inci, fraction], ...]
+    required_hlb: Mapped[float] = mapped_column(Float)
+    uncertainty: Mapped[float] = mapped_column(Float)  # expanded, about 95 %
+    measure: Mapped[str] = mapped_column(String(40))
+    method: Mapped[str] = mapped_column(Text)
+    source_key: Mapped[str] = mapped_column(ForeignKey("sources.key"))
+    measured_at: Mapped[datetime] = mapped_column(DateTime(timezone=True))
+    measured_by: Mapped[str] = mapped_column(String(100))

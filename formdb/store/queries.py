@@ -15,6 +15,7 @@ from sqlalchemy import select
 from sqlalchemy.orm import Session, selectinload
 
 from formdb.errors import InvalidData
+from formdb.schemas.bench import MeasuredRequiredHlb
 from formdb.schemas.ingredient import (
     PROPERTY_NAMES,
     IngredientProperties,
@@ -43,6 +44,8 @@ from formdb.store.models import (
     LabelThresholdEntry,
     LimitEntry,
     MixtureConstituent,
+    OilPhaseMeasurement,
+    ScreeningSeries,
     SoapPairEntry,
     Source,
     ToxicologyEntry,
@@ -224,7 +227,24 @@ def load_reference_data(session: Session) -> ReferenceData:
                          exposure=exposure_records(session), toxicology=toxicology_records(session),
                          label_thresholds=label_thresholds(session),
                          constituents=constituents(session),
-                         lists=snapshots_in_force(session))
+                         lists=snapshots_in_force(session),
+                         measured_required_hlb=measured_required_hlb(session))
+
+
+def measured_required_hlb(session: Session) -> tuple[MeasuredRequiredHlb, ...]:
+    """The in-house required HLB of oil phases (newest first), each with its source."""
+    import json
+
+    rows = session.execute(
+        select(OilPhaseMeasurement, ScreeningSeries.name, Source.citation)
+        .join(ScreeningSeries, OilPhaseMeasurement.series_id == ScreeningSeries.id)
+        .join(Source, OilPhaseMeasurement.source_key == Source.key)
+        .order_by(OilPhaseMeasurement.measured_at.desc(), OilPhaseMeasurement.id.desc())).all()
+    return tuple(MeasuredRequiredHlb(
+        emulsion_type=m.emulsion_type,
+        oils=tuple((str(n), float(f)) for n, f in json.loads(m.oil_phase)),
+        value=m.required_hlb, uncertainty=m.uncertainty, series=series, source_key=m.source_key,
+        citation=citation) for m, series, citation in rows)
 
 
 def constituents(session: Session) -> dict[str, tuple[Constituent, ...]]:

@@ -1,0 +1,40 @@
+"""A screening series as text: the plan (blends, HLB, emulsifier %), the observations, a fit."""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from formdb.schemas.bench import ScreeningFit, ScreeningSeries
+
+
+def series_text(series: ScreeningSeries) -> str:
+    oils = ", ".join(f"{name} {share * 100:.4g} %" for name, share in series.oils)
+    out = [f"Screening series: {series.name} ({series.emulsion_type}), planned by "
+           f"{series.created_by} on {series.created_at:%Y-%m-%d}",
+           f"Oil phase at {series.oil_percent:g} % of each emulsion: {oils}",
+           f"Emulsifier pair at {series.emulsifier_percent:g} %: {series.low_emulsifier} "
+           f"(HLB {series.low_hlb:g}) with {series.high_emulsifier} (HLB {series.high_hlb:g}); "
+           f"water ({series.water_inci}) to 100 %; {series.batch_g:g} g of each",
+           "",
+           f"{'blend':>5}  {'HLB':>6}  {series.low_emulsifier[:22]:>22} %  "
+           f"{series.high_emulsifier[:22]:>22} %  observations"]
+    for b in series.blends:
+        seen = ", ".join(f"{m} {v:g}" for m, v in b.observations.items()) or "-"
+        out.append(f"{b.number:>5}  {b.hlb:>6.2f}  {b.low_percent:>24.3f}  "
+                   f"{b.high_percent:>24.3f}  {seen}")
+    return "\n".join(out) + "\n"
+
+
+def fit_text(series_name: str, fit: ScreeningFit, stored: bool) -> str:
+    lines = [f"Required HLB of the oil phase of {series_name!r}: {fit.required_hlb:.2f} "
+             f"± {fit.uncertainty:.2f} (about 95 %), from {fit.measure} of blends "
+             f"{', '.join(str(n) for n in fit.used_blends)}",
+             f"Method: {fit.method}.",
+             f"After: {fit.source}.",
+             "A required HLB is a guideline, not an exact target (Pasquali et al., Int. J. "
+             "Pharm. 356 (2008) 44)."]
+    if stored:
+        lines.append("Stored in the library as an in-house measurement (graded measured); the "
+                     "check uses it for formulas with this oil phase.")
+    return "\n".join(lines) + "\n"

@@ -1,0 +1,164 @@
+"""``formdb screen``: plan a series for an oil phase, record observations, fit and store the
+required HLB, and the next check uses it with its source.
+
+The observations are invented for the test (a stability peak placed at HLB 11.2); the fit's
+statistics are checked against known optima in tests/science/test_screening_fit.py. The pair's
+proportions follow the lever rule with the seed's HLB values (sorbitan stearate 4.7,
+polysorbate 60 14.9; Griffin 1954, science.md section 1).
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from pathlib import Path
+
+import pytest
+
+from tests.helpers import dump_database, run_formdb
+
+SERIES = "Larkspur mineral oil/IPM 70:30"
+PLAN = ["screen", "plan", SERIES, "--oil", "Paraffinum Liquidum=70",
+        "--oil", "Isopropyl Myristate=30", "--low", "Sorbitan Stearate",
+        "--high", "Polysorbate 60", "--from-hlb", "6", "--to-hlb", "14", "--step", "1",
+        "--batch-g", "200"]
+LOTION = """name = "Larkspur light lotion, draft 1"
+category = "leave-on"
+intended_type = "O/W"
+
+[[ingredients]]
+inci = "Aqua"
+percent = 75.0
+phase = "A"
+
+[[ingredients]]
+inci = "Paraffinum Liquidum"
+percent = {oil}
+phase = "B"
+
+[[ingredients]]
+inci = "Isopropyl Myristate"
+percent = {ipm}
+phase = "B"
+
+[[ingredients]]
+inci = "Sorbitan Stearate"
+percent = 1.9
+phase = "B"
+
+[[ingredients]]
+inci = "Polysorbate 60"
+percent = 3.1
+phase = "B"
+"""
+
+
+def _run(url: str, *args: str):
+    return run_formdb(["--db", url, *args])
+
+
+def _record_peak(url: str, peak: float = 11.2) -> None:
+    for number in range(1, 10):
+        hlb = 5 + number
+        score = round(1 + 8 * math.exp(-((hlb - peak) ** 2) / (2 * 2.2 ** 2)), 1)
+        result = _run(url, "screen", "record", SERIES, "--blend", str(number),
+                      "--stability", str(score), "--after-hours", "24")
+        assert result.exit_code == 0, result.stderr
+
+
+def test_plan_stores_the_series_with_lever_rule_blends_and_sheets(
+        seeded_library_url: str, tmp_path: Path) -> None:
+    result = _run(seeded_library_url, *PLAN, "--sheets", str(tmp_path))
+    assert result.exit_code == 0, result.stderr
+    assert "9 weigh sheets written" in result.stdout
+    # HLB 10 from 4.7 and 14.9: (14.9 - 10) / 10.2 = 48.04 % of 5 % = 2.402 % sorbitan stearate
+    assert "10.00                     2.402                     2.598" in result.stdout
+    sheets = sorted(p.name for p in tmp_path.glob("blend-*.html"))
+    assert len(sheets) == 9
+    page = (tmp_path / "blend-05.html").read_text(encoding="utf-8")
+    assert "blend 05 (HLB 10)" in page and "Weighed by:" in page
+    shown = _run(seeded_library_url, "screen", "show", SERIES)
+    assert shown.exit_code == 0 and "Isopropyl Myristate 30 %" in shown.stdout
+    again = _run(seeded_library_url, *PLAN)
+    assert again.exit_code == 2 and "exists" in again.stderr
+
+
+def test_fit_is_refused_without_a_clear_optimum(seeded_library_url: str) -> None:
+    url = seeded_library_url
+    assert _run(url, *PLAN).exit_code == 0
+    for number in range(1, 10):
+        assert _run(url, "screen", "record", SERIES, "--blend", str(number),
+                    "--stability", "7").exit_code == 0
+    before = dump_database(url)
+    result = _run(url, "screen", "fit", SERIES, "--store")
+    assert result.exit_code == 2
+    assert "no required HLB fitted: every observed blend scores the same" in result.stderr
+    assert dump_database(url) == before
+
+
+def test_stored_fit_is_used_by_the_next_check_with_its_source(seeded_library_url: str,
+                                                               tmp_path: Path) -> None:
+    url = seeded_library_url
+    assert _run(url, *PLAN).exit_code == 0
+    _record_peak(url)
+    lotion = tmp_path / "lotion.toml"
+    lotion.write_text(LOTION.format(oil=14.0, ipm=6.0), encoding="utf-8")
+    before = json.loads(_run(url, "check", str(lotion), "--format", "json").stdout)
+    fitted = _run(url, "screen", "fit", SERIES, "--store")
+    assert fitted.exit_code == 0, fitted.stderr
+    assert "Stored in the library as an in-house measurement" in fitted.stdout
+    after = json.loads(_run(url, "check", str(lotion), "--format", "json").stdout)
+    assert before["required_hlb"] != after["required_hlb"]
+    assert after["required_hlb"] == pytest.approx(11.2, abs=0.3)
+    text = _run(url, "check", str(lotion)).stdout
+    assert "measured in-house for this oil phase" in text
+    assert "screen-larkspur-mineral-oil-ipm-70-30-1" in text
+    # the source is a library record: kind in-house measurement, graded measured, observations
+    source = _run(url, "source", "show", "screen-larkspur-mineral-oil-ipm-70-30-1")
+    assert source.exit_code == 0, source.stderr
+    assert "measured" in source.stdout and "blend 6 HLB 11" in source.stdout
+    # another oil phase (mineral oil alone) keeps the weight average
+    other = tmp_path / "other.toml"
+    other.write_text(LOTION.format(oil=10.0, ipm=10.0), encoding="utf-8")
+    result = json.loads(_run(url, "check", str(other), "--format", "json").stdout)
+    assert "measured in-house" not in _run(url, "check", str(other)).stdout
+    assert result["required_hlb"] is not None
+
+
+@pytest.mark.parametrize(("args", "message"), [
+    (["--blend", "12", "--stability", "5"], "--blend 12: series"),
+    (["--blend", "1", "--stability", "11"], "--stability 11: must be from 0 to 10"),
+    (["--blend", "1"], "give at least one observation"),
+    (["--blend", "1", "--droplet-um", "-2"], "--droplet-um -2"),
+])
+def test_bad_observations_are_refused(seeded_library_url: str, args: list[str],
+                                      message: str) -> None:
+    assert _run(seeded_library_url, *PLAN).exit_code == 0
+    before = dump_database(seeded_library_url)
+    result = _run(seeded_library_url, "screen", "record", SERIES, *args)
+    assert result.exit_code == 2 and message in result.stderr
+    assert result.stderr.count("Error:") == 1
+    assert dump_database(seeded_library_url) == before
+
+
+@pytest.mark.parametrize(("change", "message"), [
+    (["--to-hlb", "16"], "goes beyond what Sorbitan Stearate and Polysorbate 60 reach"),
+    (["--low", "Polysorbate 60", "--high", "Sorbitan Stearate"], "must have a lower HLB"),
+    (["--step", "0"], "the step must be above 0"),
+    (["--oil-percent", "95"], "--oil-percent 95"),
+    (["--oil", "Unobtainium=5"], "--oil 'Unobtainium'"),
+    (["--oil", "Squalane"], "write INCI=SHARE"),
+])
+def test_bad_plans_are_refused(seeded_library_url: str, change: list[str],
+                               message: str) -> None:
+    args = list(PLAN)
+    for i in range(0, len(change), 2):
+        option = change[i]
+        if option in args and option != "--oil":
+            args[args.index(option) + 1] = change[i + 1]
+        else:
+            args += change[i:i + 2]
+    before = dump_database(seeded_library_url)
+    result = _run(seeded_library_url, *args)
+    assert result.exit_code == 2 and message in result.stderr, result.stderr
+    assert dump_database(seeded_library_url) == before
