@@ -41,6 +41,8 @@ SHOW_TARGET = 1.3  # one ingredient show NAME process
 # import time beyond the floor's: the room each start-up target leaves (the work comes on top)
 STARTUP_IMPORT_TARGET = STARTUP_TARGET - 1
 SHOW_IMPORT_TARGET = SHOW_TARGET - 1
+LISTS_TARGET_S = 20.0  # the five annex exports into an empty library (issue 11)
+LISTS_ENV = "FORMDB_BENCH_LISTS"  # a folder holding the Commission's COSING_Annex_*.txt exports
 MEMORY_TARGET_MB = 300.0
 MEMORY_GROWTH_TARGET = 0.20
 EXPONENT_BAND = (0.9, 1.1)  # "about 1.0"
@@ -236,11 +238,12 @@ def _make_library(libs: SqliteLibraries | PostgresLibraries, sizes: Sizes, say: 
 
 
 def _check_series(libs: SqliteLibraries | PostgresLibraries, sizes: Sizes, base: str,
-                  say: Progress, result: BackendResult) -> None:
+                  say: Progress, result: BackendResult) -> dict[int, str]:
     plan = library.LibraryPlan(sizes.ingredients, 0, sizes.seed)
     timings: list[tuple[int, float]] = []
     peaks: dict[int, float] = {}
     previous, previous_n = base, 0
+    made: dict[int, str] = {}
     main_n = sizes.formulas[-2] if len(sizes.formulas) > 1 else sizes.formulas[-1]
     for n in sizes.formulas:
         say(f"{n:,} formulas: generating")
@@ -273,6 +276,7 @@ def _check_series(libs: SqliteLibraries | PostgresLibraries, sizes: Sizes, base:
             figure.met = figure.ratio is not None and figure.ratio <= CHECK_TARGET
         result.figures.append(figure)
         previous, previous_n = current, n
+        made[n] = current
     high_n = sizes.formulas[-1]
     for n in sorted({main_n, high_n}):
         result.figures.append(Figure(
@@ -292,6 +296,65 @@ def _check_series(libs: SqliteLibraries | PostgresLibraries, sizes: Sizes, base:
             EXPONENT_BAND[0] <= exponent <= EXPONENT_BAND[1],
             f"between the two largest sizes alone: {last:.3f} (the fixed cost of opening the "
             "library and building its records weighs on the smallest size)"))
+    return made
+
+
+def lists_folder() -> Path | None:
+    """Where the annex exports are: $FORMDB_BENCH_LISTS, else ../shared/regulatory/... beside
+    the working folder or the checkout; None when none holds the five files."""
+    here = Path(__file__).resolve()
+    candidates = [Path(os.environ[LISTS_ENV])] if os.environ.get(LISTS_ENV) else []
+    relative = Path("shared") / "regulatory" / "eu-cosing-annexes-2025-10-31"
+    candidates += [parent / relative for parent in (Path.cwd().parent, *here.parents)]
+    for folder in candidates:
+        if all((folder / f"COSING_Annex_{a}_v2.txt").is_file()
+               for a in ("II", "III", "IV", "V", "VI")):
+            return folder
+    return None
+
+
+def _lists_figures(libs: SqliteLibraries | PostgresLibraries, sizes: Sizes,
+                   checked: dict[int, str], say: Progress, result: BackendResult) -> None:
+    """The five annex exports into an empty library (<= 20 s), and check --all at the main size
+    with them loaded (the check target, against the same floor)."""
+    folder = lists_folder()
+    if folder is None:
+        result.notes.append(f"lists figures skipped: no annex exports found (set {LISTS_ENV} "
+                            "to the folder of COSING_Annex_II_v2.txt ... VI)")
+        return
+    files = [str(folder / f"COSING_Annex_{a}_v2.txt") for a in ("II", "III", "IV", "V", "VI")]
+    say("lists: the five annex exports into an empty library, in its own process")
+    empty = libs.new("listsempty")
+    init_library(empty, seed=False, user=library.BENCH_USER)
+    run = _worker("lists", empty, *files)
+    say("lists: floor (csv.reader of the five files)")
+    floor, rows = _best_floor(lambda: floors.csv_floor(files), sizes.floor_repeats)
+    result.figures.append(Figure(
+        f"lists import, the five annex exports ({run['entries']:,} entries) into an empty "
+        "library", run["seconds"], "s", floor.seconds, f"csv.reader of the files ({rows:,} rows)",
+        f"<= {LISTS_TARGET_S:g} s", run["seconds"] <= LISTS_TARGET_S,
+        f"{run['structured_parts']:,} of {run['parts']:,} parts structured; "
+        f"{run['ingredients_created']:,} ingredient records created; peak "
+        f"{run['peak_mb']:.0f} MB", run["cpu_seconds"], floor.cpu_seconds))
+    main_n = sizes.formulas[-2] if len(sizes.formulas) > 1 else sizes.formulas[-1]
+    if main_n not in checked:
+        return
+    say(f"lists: check --all, {main_n:,} formulas with the lists loaded")
+    loaded = libs.copy(checked[main_n], f"f{main_n}lists")
+    _worker("lists", loaded, *files)
+    if isinstance(libs, SqliteLibraries):
+        library.checkpoint(loaded)
+    check = _best([_worker("check", loaded) for _ in range(sizes.check_repeats)])
+    check_floor, (_n, lines) = _best_floor(lambda: _floor_parts(floors.check_floor(loaded)),
+                                           sizes.floor_repeats)
+    figure = Figure(
+        f"check --all, {main_n:,} formulas ({lines:,} lines), lists loaded", check["seconds"],
+        "s", check_floor.seconds, "plain driver read + tomllib + property tuples",
+        f"<= {CHECK_TARGET:g}x", None,
+        f"{check['seconds'] / main_n * 1000:.2f} ms per formula; peak {check['peak_mb']:.0f} MB",
+        check["cpu_seconds"], check_floor.cpu_seconds)
+    figure.met = figure.ratio is not None and figure.ratio <= CHECK_TARGET
+    result.figures.append(figure)
 
 
 def _floor_parts(measured: tuple[floors.Timing, int, int]) -> tuple[floors.Timing,
@@ -399,7 +462,8 @@ def measure_backend(libs: SqliteLibraries | PostgresLibraries, sizes: Sizes,
     if isinstance(libs, PostgresLibraries):
         result.notes.append(f"server: {_server_version(libs.base_url)}")
     seed_only, base = _make_library(libs, sizes, say, result)
-    _check_series(libs, sizes, base, say, result)
+    checked = _check_series(libs, sizes, base, say, result)
+    _lists_figures(libs, sizes, checked, say, result)
     _import_figure(libs, sizes, seed_only, work, say, result)
     _startup_figures(base, sizes, work, say, result)
     result.notes.append(f"load average at end: {_load()}")

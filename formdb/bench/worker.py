@@ -56,6 +56,17 @@ def import_csv(url: str, csv_path: str) -> dict[str, Any]:
     return {"added": len(report.added), "changed": len(report.changed)}
 
 
+def import_lists(url: str, files: list[str]) -> dict[str, Any]:
+    from formdb.services.lists.importing import import_lists as run_import
+    from formdb.store.library import Library
+
+    with Library.open(url) as library:
+        result = run_import(library, [Path(f) for f in files], user="formdb-bench")
+    return {"entries": sum(a.snapshot.entries for a in result.annexes),
+            "parts": result.parts, "structured_parts": result.structured_parts,
+            "ingredients_created": sum(a.ingredients_created for a in result.annexes)}
+
+
 def _profiled(work: Callable[[], dict[str, Any]], top: int) -> tuple[dict[str, Any], str]:
     profiler = cProfile.Profile()
     result = profiler.runcall(work)
@@ -67,20 +78,24 @@ def _profiled(work: Callable[[], dict[str, Any]], top: int) -> tuple[dict[str, A
 
 def main(argv: list[str] | None = None) -> None:
     parser = argparse.ArgumentParser(prog="python -m formdb.bench.worker")
-    parser.add_argument("task", choices=("check", "import"))
+    parser.add_argument("task", choices=("check", "import", "lists"))
     parser.add_argument("url")
-    parser.add_argument("csv", nargs="?")
+    parser.add_argument("csv", nargs="*", help="the CSV to import; the annex exports for lists")
     parser.add_argument("--profile", type=int, default=0)
     args = parser.parse_args(argv)
     # the libraries a task needs are imported before the clock starts
     import formdb.services.checking.flow
     if args.task == "import":
-        import formdb.services.library.ingredients  # noqa: F401
+        import formdb.services.library.ingredients
+    if args.task == "lists":
+        import formdb.services.lists.importing  # noqa: F401
 
     def work() -> dict[str, Any]:
         if args.task == "check":
             return check_all(args.url)
-        return import_csv(args.url, args.csv)
+        if args.task == "lists":
+            return import_lists(args.url, args.csv)
+        return import_csv(args.url, args.csv[0])
 
     started, cpu = time.perf_counter(), time.process_time()
     if args.profile:

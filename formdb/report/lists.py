@@ -58,6 +58,9 @@ def import_text(result: ListsImport, *, show_unparsed: int = 40) -> str:
         out.append("")
         out.append(f"Stored formulas touched by the changes: {len(result.touched_formulas)}")
         out.extend(f"  {t}" for t in result.touched_formulas)
+        if result.formula_changes:
+            out.append("Their findings, re-checked before and after (default profile):")
+            out.extend(f"  {line}" for c in result.formula_changes for line in c.split("\n"))
         out.append(f"Signed review runs now stale: {len(result.stale_runs)}")
         out.extend(f"  {s}" for s in result.stale_runs)
         if result.stale_runs:

@@ -191,6 +191,8 @@ class ListsImport(BaseModel):
     dry_run: bool
     touched_formulas: tuple[str, ...] = ()
     stale_runs: tuple[str, ...] = ()
+    # stored formulas re-checked before and after (default profile): what their findings did
+    formula_changes: tuple[str, ...] = ()
 
     @property
     def parts(self) -> int:

@@ -324,3 +324,57 @@ def test_ingredient_show_lists_the_entries(sqlite_url: str) -> None:
     assert "no physical data" in shown.stdout
     assert "EU Annex III/14 (HYDROQUINONE)" in shown.stdout
     assert "Artificial nail systems: max 0.02 %" in shown.stdout
+
+
+HOMOSALATE_CREAM = """name = "Larkspur sun day cream"
+category = "leave-on"
+product = "face cream"
+
+[[ingredients]]
+inci = "Aqua"
+percent = 93.0
+
+[[ingredients]]
+inci = "Homosalate"
+percent = 7.0
+purpose = "uv filter"
+"""
+
+
+def _newer_vi(text: str) -> str:
+    """Annex VI as a later export might give it: VI/3 (homosalate) lowered to 6.5 %."""
+    text = text.replace("Last update: 31/10/2025", "Last update: 30/11/2025")
+    return text.replace('"Face products with the exception of propellent spray products",'
+                        '"7,34 %"', '"Face products with the exception of propellent spray '
+                        'products","6,5 %"')
+
+
+@needs_exports
+def test_update_makes_signed_runs_stale_and_names_the_entry(tmp_path: Path,
+                                                            seeded_sqlite_url: str) -> None:
+    from formdb.services.review.runs import review_status, run_review, sign_run
+
+    cream = tmp_path / "sun-cream.toml"
+    cream.write_text(HOMOSALATE_CREAM, encoding="utf-8")
+    with Library.open(seeded_sqlite_url) as library:
+        import_lists(library, [export("VI")], user=TEST_USER)
+        run = run_review(library, str(cream), user=TEST_USER)
+        sign_run(library, run.run_key, "approved", "A. Reviewer", user=TEST_USER)
+    stored = run_formdb(["--db", seeded_sqlite_url, "formula", "import", str(cream)])
+    assert stored.exit_code == 0, stored.stderr
+    newer = _copy(tmp_path, "VI", _newer_vi)
+    with Library.open(seeded_sqlite_url) as library:
+        dry = import_lists(library, [newer], user=TEST_USER, dry_run=True)
+        assert dry.stale_runs and dry.touched_formulas  # the dry run says it too
+        result = import_lists(library, [newer], user=TEST_USER)
+        assert result.touched_formulas == ("Larkspur sun day cream: EU Annex VI/3",)
+        # the stored formula re-checked: 7 % homosalate was within 7.34 %, is over 6.5 %
+        [moved] = result.formula_changes
+        assert moved.startswith("Larkspur sun day cream: errors 0 -> 1")
+        assert "new: LIM03 error" in moved and dry.formula_changes == result.formula_changes
+        assert result.stale_runs == (f"run {run.run_key} (Larkspur sun day cream): "
+                                     "EU Annex VI/3",)
+        [state] = [s for s in review_status(library) if s.run_key == run.run_key]
+    assert state.state == "stale"
+    assert any(c.startswith("list entry EU Annex VI/3:") and "'7,34 %' -> '6,5 %'" in c
+               for c in state.changes), state.changes

@@ -36,6 +36,7 @@ from formdb.store.lists import (
     record_match_keys,
     snapshot_in_force,
     snapshot_info,
+    with_list_entries,
 )
 from formdb.store.models import (
     ChangeLogEntry,
@@ -151,17 +152,65 @@ def import_lists(library: Library, paths: Sequence[Path], *, user: str, dry_run:
             raise InvalidData.of(refusals, hint="import the newer export, or pass --allow-older "
                                  "to put an older one in force on purpose; nothing was imported")
         created = _new_ingredients(session, [p for p in plans if not p.unchanged])
-        touched, stale = _impact(session, [c for p in plans for c in p.changes if p.current],
-                                 plans)
+        touched, stale, texts = _impact(session, [c for p in plans for c in p.changes
+                                                  if p.current], plans)
+        before = _findings(session, texts)
         results = [plan.report(created.get(plan.export.file.annex, [])) for plan in plans]
-        if not dry_run:
-            now = datetime.now(UTC)
-            for plan in plans:
-                if not plan.unchanged:
-                    _write(session, plan, user, now)
-            _write_ingredients(session, created, user, now)
+        # a dry run writes inside a savepoint and rolls it back: it reports exactly what the
+        # import would do, re-checks included, and leaves the library as it was
+        savepoint = session.begin_nested() if dry_run else None
+        now = datetime.now(UTC)
+        for plan in plans:
+            if not plan.unchanged:
+                _write(session, plan, user, now)
+        _write_ingredients(session, created, user, now)
+        session.flush()
+        moved = _compare(before, _findings(session, texts))
+        if savepoint is not None:
+            savepoint.rollback()
         return ListsImport(annexes=tuple(results), dry_run=dry_run,
-                           touched_formulas=tuple(touched), stale_runs=tuple(stale))
+                           touched_formulas=tuple(touched), stale_runs=tuple(stale),
+                           formula_changes=tuple(moved))
+
+
+def _findings(session: Session, texts: dict[str, str]) -> dict[str, list[tuple[str, str, str]]]:
+    """(rule, severity, message) of every finding of each stored formula, default profile."""
+    from formdb.rules.engine import check_resolved
+    from formdb.rules.profiles import load_profile
+    from formdb.services.checking.flow import input_from_text, resolve_all
+
+    if not texts:
+        return {}
+    profile = load_profile("default")
+    reference = queries.load_reference_data(session)
+    out = {}
+    for name, text in texts.items():
+        try:
+            resolved = resolve_all(session, [input_from_text(text, f"stored:{name}")])[0]
+        except InvalidData:
+            continue  # a stored formula that no longer resolves: review status says so
+        reference = with_list_entries(session, reference, [resolved])
+        result = check_resolved(resolved, reference, profile)
+        out[name] = [(f.rule, f.severity.value, f.message) for f in result.findings]
+    return out
+
+
+def _compare(before: dict[str, list[tuple[str, str, str]]],
+             after: dict[str, list[tuple[str, str, str]]]) -> list[str]:
+    """Per stored formula whose findings moved: errors before -> after, findings new and gone."""
+    out = []
+    for name in sorted(set(before) | set(after)):
+        old, new = before.get(name, []), after.get(name, [])
+        added = [f for f in new if f not in old]
+        gone = [f for f in old if f not in new]
+        if not added and not gone:
+            continue
+        errors = (sum(f[1] == "error" for f in old), sum(f[1] == "error" for f in new))
+        said = [f"{name}: errors {errors[0]} -> {errors[1]}"]
+        said += [f"  new: {r} {sev}: {msg}" for r, sev, msg in added]
+        said += [f"  gone: {r} {sev}: {msg}" for r, sev, msg in gone]
+        out.append("\n".join(said))
+    return out
 
 
 class _Plan:
@@ -328,10 +377,11 @@ def _formula_names(text: str) -> set[str]:
 
 
 def _impact(session: Session, changes: Sequence[EntryChange], plans: Sequence[_Plan]
-            ) -> tuple[list[str], list[str]]:
-    """(stored formulas, signed review runs) that name a substance of a changed entry."""
+            ) -> tuple[list[str], list[str], dict[str, str]]:
+    """(stored formulas, signed review runs) that name a substance of a changed entry, and the
+    text of each such stored formula (to re-check it before and after)."""
     if not changes:
-        return [], []
+        return [], [], {}
     by_key: dict[tuple[str, str], set[str]] = {}
     for plan in plans:
         old = entries_of(session, plan.current.id) if plan.current is not None else {}
@@ -366,4 +416,5 @@ def _impact(session: Session, changes: Sequence[EntryChange], plans: Sequence[_P
     touched = [f"{name}: {', '.join(e)}" for name, text in formulas if (e := entries_named(text))]
     stale = [f"run {r.run_key} ({r.formula_name}): {', '.join(e)}" for r in runs
              if (e := entries_named(r.formula_text))]
-    return touched, stale
+    texts = {name: text for name, text in formulas if entries_named(text)}
+    return touched, stale, texts
