@@ -21,7 +21,7 @@ operating-system account); a ``user=`` that names someone else is refused
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Iterator, Mapping
+from collections.abc import Iterable, Iterator, Mapping, Sequence
 from pathlib import Path
 from typing import Any
 
@@ -151,16 +151,23 @@ def run_review(library: Library, source: Path | str, *, profile: ProfileGiven = 
     return run(library, str(source), profile, user=_acting(library, user))
 
 
-def sign_review(library: Library, run_key: str, meaning: str, signer: str, *,
-                user: str | None = None, comment: str | None = None) -> Any:
-    """Sign a current review run (``formdb review sign``)."""
+def sign_review(library: Library, run_key: str, meaning: str, *, signing_key: Any,
+                user: str | None = None, reason: str | None = None,
+                justifications: Sequence[str] = ()) -> Any:
+    """Sign a current, signable review run with the signer's Ed25519 private key
+    (``formdb review sign``; load the key with ``formdb.services.review.keys
+    .load_private_key``). "approved" with open items needs a justification for each
+    (``"N=why"`` or ``"RULE=why"``); "rejected" needs a reason."""
     from formdb.services.review.runs import sign_run
 
-    return sign_run(library, run_key, meaning, signer, user=_acting(library, user), comment=comment)
+    return sign_run(library, run_key, meaning, user=_acting(library, user),
+                    signing_key=signing_key, reason=reason,
+                    justifications=list(justifications))
 
 
-def review_status(library: Library) -> list[Any]:
-    """Every review run with its state (current, stale, superseded) and signatures."""
+def review_status(library: Library) -> Any:
+    """Every review run with its state (current, stale, superseded), kind (signable or draft)
+    and signatures, each verified; the chain problems found and the review policy."""
     from formdb.services.review.runs import review_status as status
 
     return status(library)

@@ -44,6 +44,7 @@ COMMANDS: dict[str, str] = {
     "price": "formdb.cli.bench:price_group",
     "mixture": "formdb.cli.mixtures:mixture_group",
     "screen": "formdb.cli.bench:screen_group",
+    "key": "formdb.cli.keys:key_group",
 }
 
 

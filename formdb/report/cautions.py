@@ -41,8 +41,9 @@ GUIDELINES = (
     "(2008) 44); every number rests on library values whose sources the library records, and "
     "values marked rule of thumb or from memory are weaker still.")
 NO_DATES = (
-    "the dates of the lists were not supplied with this report, so check the list dates in the "
-    "library (seed_data/limits.csv, column list_date) before relying on any limit")
+    "the dates of the lists were not supplied with this report, so check the date of each "
+    "limit list in the library (every limit record carries its list date) before relying on "
+    "any limit")
 
 
 def _dates_from_findings(results: Iterable[CheckResult]) -> list[ListSnapshot]:

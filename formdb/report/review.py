@@ -1,23 +1,73 @@
 """The filed report of a review run (``formdb review report``): HTML for printing, or JSON.
 
 Both come from one plain-data document (``review_document``), so the two say the same thing.
-The HTML is one standalone file, autoescaped by Jinja2, laid out for A4 printing.
+The HTML is one standalone file, autoescaped by Jinja2, laid out for A4 printing: every page
+carries "page x of y" with the run key and the formula name, table headers repeat on each
+page, a heading never ends a page, and the signatures stay together
+(tests/report/test_review_print.py prints it with Chromium and reads the PDF back). The report
+shows what it verified: BROKEN beside a run whose record no longer matches its hashes, INVALID
+beside a signature that does not verify against the signer's enrolled key, and the head of
+every hash chain, to keep with the filed copy.
 """
 
 from __future__ import annotations
 
 import json
+from dataclasses import asdict
 from typing import Any
 
+from markupsafe import Markup
+
+from formdb.report.blocks import Section
 from formdb.report.cautions import ListSnapshot, cautions
 from formdb.report.html import environment
-from formdb.schemas.result import round_value
+from formdb.report.review_status import waived
+from formdb.report.sections import hlb_section, packing_section, prediction_section
+from formdb.report.view import finding_groups
+from formdb.schemas.result import CheckResult, round_value
 
 NOT_A_SUBSTITUTE = (
     "A filed review record does not replace the qualified safety assessor, nor the ethics "
     "committee that must approve a trial on people; it records what the screening found on the "
     "date shown, against the library as it stood then.")
 TEMPLATE = "review.html.j2"
+
+
+# the rules whose advice belongs to each science section ("What to do")
+SECTION_RULES = {"HLB balance": ("HLB01", "EMU01"), "Emulsion type": ("TYP01",),
+                 "Dispersed phase": ("PAK01",)}
+
+
+def css_string(text: str) -> Markup:
+    """``text`` as a quoted CSS string for the page footer: every character but letters,
+    digits and a few marks written as a CSS escape, so nothing in it can end the string or the
+    style element."""
+    safe = " -.,:;()"
+    body = "".join(c if (c.isalnum() and c.isascii()) or c in safe else f"\\{ord(c):06x}"
+                   for c in text)
+    return Markup(f'"{body}"')
+
+
+def _section(section: Section, result: CheckResult) -> dict[str, Any]:
+    """A report section as plain data, with the advice of its rules' findings."""
+    codes = SECTION_RULES.get(section.title, ())
+    advice = [{"rule": f.rule, "severity": f.severity.value, "message": f.message,
+               "advice": f.advice or ""} for f in result.findings if f.rule in codes]
+    return {"title": section.title,
+            "blocks": [{"kind": b.kind, **({"lines": [asdict(i) for i in b.items]}
+                                           if b.kind == "lines" else {}),
+                        **({"headers": list(b.headers), "rows": [list(r) for r in b.rows],
+                            "numeric": list(b.numeric), "title": b.title}
+                           if b.kind == "table" else {}),
+                        **({"notes": list(b.items), "title": b.title}
+                           if b.kind == "notes" else {})} for b in section.blocks],
+            "what_to_do": advice}
+
+
+def _science(result: CheckResult) -> list[dict[str, Any]]:
+    facts = result.facts
+    return [_section(s, result) for s in (hlb_section(facts), prediction_section(result),
+                                          packing_section(facts))]
 
 
 def _num(key: str, value: Any) -> Any:
@@ -66,16 +116,22 @@ def review_document(filed: Any) -> dict[str, Any]:
     result, state, facts = filed.result, filed.state, filed.result.facts
     exposure = facts.exposure
     allergens = facts.allergens
+    policy = filed.policy or {}
     return {
         "header": {"run_key": state.run_key, "run_hash": state.run_hash,
                    "formula": result.formula, "formula_hash": filed.formula_hash,
                    "formula_source": state.source, "library_hash": filed.library_hash,
                    "profile": filed.profile_name, "profile_version": filed.profile_version,
-                   "formdb_version": filed.formdb_version, "created_at": state.created_at,
-                   "created_by": state.created_by, "state": state.state,
-                   "superseded_by": state.superseded_by, "changes": state.changes,
-                   "category": result.category.value, "product": result.product},
+                   "profile_hash": state.profile_hash, "profile_origin": state.profile_origin,
+                   "kind": state.kind, "formdb_version": filed.formdb_version,
+                   "created_at": state.created_at, "created_by": state.created_by,
+                   "state": state.state, "superseded_by": state.superseded_by,
+                   "changes": state.changes, "category": result.category.value,
+                   "product": result.product, "verified": state.verified,
+                   "broken": state.broken},
+        "policy": policy,
         "verdict": "open items" if filed.open_items else "ready for trial",
+        "science": _science(result),
         "substances": [{"inci": s.inci, "percent": _num("percent", s.percent),
                         "sources": list(s.sources)} for s in facts.substances]
         or [{"inci": ln.inci, "percent": _num("percent", ln.percent),
@@ -112,12 +168,18 @@ def review_document(filed: Any) -> dict[str, Any]:
         "compatibility": [{"rule": f.rule, "severity": f.severity.value, "message": f.message,
                            "advice": f.advice} for f in result.findings
                           if f.rule in ("ION01", "PH01")],
-        "findings": [{"rule": f.rule, "severity": f.severity.value, "message": f.message}
-                     for f in result.findings],
-        "open_items": filed.open_items,
-        "signatures": [{"signer": s.signer, "signed_by": s.signed_by, "meaning": s.meaning,
-                        "signed_at": s.signed_at, "comment": s.comment,
-                        "run_hash": s.run_hash} for s in state.signatures],
+        "findings": [{"rule": f.rule, "severity": f.severity.value, "message": f.message,
+                      "advice": f.advice or ""} for f in result.findings],
+        "finding_counts": {g.severity: len(g.items) for g in finding_groups(result.findings)},
+        "open_items": [{"item": n, **item} for n, item in enumerate(filed.open_items, 1)],
+        "signatures": [{"number": s.number, "signer": s.signer, "signed_by": s.signed_by,
+                        "meaning": s.meaning, "signed_at": s.signed_at, "reason": s.comment,
+                        "waivers": s.waivers, "waived": waived(s.waivers), "key_id": s.key_id,
+                        "run_hash": s.run_hash,
+                        "check": s.check, "valid": s.valid, "superseded_by": s.superseded_by}
+                       for s in state.signatures],
+        "chain_heads": [{"chain": table, "head_row": head_id, "head_hash": head_hash,
+                         "intact": intact} for table, head_id, head_hash, intact in filed.heads],
         "cautions": [*cautions([result], _snapshots(filed)), NOT_A_SUBSTITUTE],
     }
 
@@ -126,4 +188,5 @@ def render_review(filed: Any, fmt: str) -> str:
     doc = review_document(filed)
     if fmt == "json":
         return json.dumps(doc, indent=2, ensure_ascii=False) + "\n"
-    return environment().get_template(TEMPLATE).render(doc=doc)
+    footer = css_string(f"Review record {doc['header']['run_key']} - {doc['header']['formula']}")
+    return environment().get_template(TEMPLATE).render(doc=doc, footer=footer)

@@ -19,6 +19,8 @@ Any unknown key, rule, group or option is a ConfigError with a "did you mean" hi
 
 from __future__ import annotations
 
+import hashlib
+import json
 import tomllib
 from collections.abc import Mapping
 from pathlib import Path
@@ -83,6 +85,24 @@ class Profile(BaseModel):
             for option, value in settings.options.items():
                 _parse_option(rule, option, value, f"{where}, [rules.{code}]")
         return self
+
+    @property
+    def content_hash(self) -> str:
+        """SHA-256 of what the profile does (every setting after ``extends`` is resolved, not
+        where it came from): two profiles with this hash check a formula the same way."""
+        text = json.dumps(self.model_dump(mode="json", exclude={"path"}), sort_keys=True,
+                          separators=(",", ":"), ensure_ascii=False)
+        return hashlib.sha256(text.encode("utf-8")).hexdigest()
+
+    @property
+    def origin(self) -> str:
+        """"packaged" for a profile shipped with formdb, else "file PATH"."""
+        if self.path is None:
+            return "given in code"
+        path = Path(self.path)
+        if path.parent.resolve() == profiles_dir().resolve():
+            return "packaged"
+        return f"file {path.resolve()}"
 
     def _settings(self, rule: Rule) -> RuleSettings | None:
         for code, settings in self.rules.items():
@@ -312,4 +332,10 @@ def _rule_tables(table: Any, label: str) -> dict[str, RuleSettings]:
 def load_profile(spec: str | Path | None = None) -> Profile:
     """A packaged profile by name ("default", "strict") or a profile file by path."""
     data, path = _raw(spec or "default", ())
+    packaged = path.parent.resolve() == profiles_dir().resolve()
+    claimed = str(data.get("name", "")).strip()
+    if not packaged and claimed.casefold() in {n.casefold() for n in known_profiles()}:
+        raise ConfigError(f"profile {path}, key name: {claimed!r} is the name of a packaged "
+                          "profile; a profile file must have a name of its own",
+                          hint="rename it, e.g. name = \"" + claimed + "-local\"")
     return profile_from_mapping(data, str(path))

@@ -351,6 +351,12 @@ class ReviewRun(Base):
     supersedes_run_id: Mapped[int | None] = mapped_column(ForeignKey("review_runs.id"))
     prev_hash: Mapped[str | None] = mapped_column(String(64))
     row_hash: Mapped[str | None] = mapped_column(String(64))
+    # since 0013 (None on older runs): the profile by content hash and origin, the review
+    # policy in force, and whether the run may be signed under it (else a draft)
+    profile_hash: Mapped[str | None] = mapped_column(String(64))
+    profile_origin: Mapped[str | None] = mapped_column(Text)
+    policy_json: Mapped[str | None] = mapped_column(Text)
+    signable: Mapped[bool | None] = mapped_column(Boolean)
 
 
 class ReviewSignature(Base):
@@ -366,7 +372,47 @@ class ReviewSignature(Base):
     signed_by: Mapped[str] = mapped_column(String(100))
     meaning: Mapped[str] = mapped_column(String(20))  # approved | reviewed | rejected
     signed_at: Mapped[datetime] = mapped_column(DateTime(timezone=True))
-    comment: Mapped[str | None] = mapped_column(Text)
+    comment: Mapped[str | None] = mapped_column(Text)  # the reason given
+    prev_hash: Mapped[str | None] = mapped_column(String(64))
+    row_hash: Mapped[str | None] = mapped_column(String(64))
+    # since 0013: the justification of each open item an approval waives, and the signer's
+    # Ed25519 signature (key id, base64) over run hash, meaning, reasons, signer and time
+    waivers_json: Mapped[str | None] = mapped_column(Text)
+    key_id: Mapped[str | None] = mapped_column(String(32))
+    signature: Mapped[str | None] = mapped_column(String(100))
+
+
+class PolicyVersion(Base):
+    """The review policy an admin set, one row per setting (append-only, sealed): the newest
+    row is in force. ``policy_json`` names the signable profile by content hash, the role each
+    meaning needs and whether an author may approve their own run."""
+
+    __tablename__ = "policy_versions"
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    set_at: Mapped[datetime] = mapped_column(DateTime(timezone=True))
+    set_by: Mapped[str] = mapped_column(String(100))
+    policy_json: Mapped[str] = mapped_column(Text)
+    policy_hash: Mapped[str] = mapped_column(String(64))
+    prev_hash: Mapped[str | None] = mapped_column(String(64))
+    row_hash: Mapped[str | None] = mapped_column(String(64))
+
+
+class KeyEnrolment(Base):
+    """A signer's public key enrolled by an admin, or its revocation (append-only, sealed).
+    Revoked keys stay here, so signatures made before the revocation still verify."""
+
+    __tablename__ = "key_enrolments"
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    at: Mapped[datetime] = mapped_column(DateTime(timezone=True))
+    by_user: Mapped[str] = mapped_column(String(100))
+    action: Mapped[str] = mapped_column(String(10))  # enrol | revoke
+    login: Mapped[str] = mapped_column(String(100), index=True)
+    printed_name: Mapped[str] = mapped_column(String(200))
+    key_id: Mapped[str] = mapped_column(String(32), index=True)
+    public_key: Mapped[str] = mapped_column(String(100))
+    reason: Mapped[str | None] = mapped_column(Text)
     prev_hash: Mapped[str | None] = mapped_column(String(64))
     row_hash: Mapped[str | None] = mapped_column(String(64))
 

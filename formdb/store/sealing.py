@@ -47,9 +47,20 @@ SEALED_COLUMNS: dict[str, tuple[str, ...]] = {
                     "formula_hash", "formula_text", "library_hash", "records_json",
                     "profile_name", "profile_version", "formdb_version", "created_at",
                     "created_by", "findings_json", "result_json", "supersedes_run_id",
-                    "prev_hash"),
+                    "prev_hash", "profile_hash", "profile_origin", "policy_json", "signable"),
     "review_signatures": ("id", "run_id", "run_hash", "signer", "signed_by", "meaning",
-                          "signed_at", "comment", "prev_hash"),
+                          "signed_at", "comment", "prev_hash", "waivers_json", "key_id",
+                          "signature"),
+    "policy_versions": ("id", "set_at", "set_by", "policy_json", "policy_hash", "prev_hash"),
+    "key_enrolments": ("id", "at", "by_user", "action", "login", "printed_name", "key_id",
+                       "public_key", "reason", "prev_hash"),
+}
+# Columns added to a sealed table after its rows were first sealed: the canonical form lists
+# them only when they hold a value, so older rows (None there) keep the hash they were sealed
+# with, and a value set or cleared later with plain SQL still breaks the row's hash.
+ADDED_LATER: dict[str, frozenset[str]] = {
+    "review_runs": frozenset({"profile_hash", "profile_origin", "policy_json", "signable"}),
+    "review_signatures": frozenset({"waivers_json", "key_id", "signature"}),
 }
 _WRITE_LOCK_ID = 0x666462_6C6F67  # pg_advisory_xact_lock key shared by every formdb writer
 _LOCKED = "formdb_sealing_locked_tx"
@@ -86,7 +97,9 @@ def utc(value: datetime) -> datetime:
 
 def canonical(table: str, values: Mapping[str, Any]) -> str:
     """The row as one text: [[column, value-as-text], ...] in SEALED_COLUMNS order, as JSON."""
-    pairs = [[column, as_text(values.get(column))] for column in SEALED_COLUMNS[table]]
+    later = ADDED_LATER.get(table, frozenset())
+    pairs = [[column, as_text(values.get(column))] for column in SEALED_COLUMNS[table]
+             if column not in later or values.get(column) is not None]
     return json.dumps(pairs, ensure_ascii=False, separators=(",", ":"))
 
 
@@ -234,5 +247,6 @@ event.listen(LibrarySession, "before_flush", _before_flush)
 event.listen(LibrarySession, "do_orm_execute", _on_execute)
 
 
-__all__ = ["GENESIS", "SEALED_COLUMNS", "AppendOnly", "LibrarySession", "append_rows", "as_text",
-           "canonical", "chain_head", "lock_for_write", "row_hash", "seal", "utc"]
+__all__ = ["ADDED_LATER", "GENESIS", "SEALED_COLUMNS", "AppendOnly", "LibrarySession",
+           "append_rows", "as_text", "canonical", "chain_head", "lock_for_write", "row_hash",
+           "seal", "utc"]

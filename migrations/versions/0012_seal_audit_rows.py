@@ -41,7 +41,9 @@ def _column(name: str) -> sa.ColumnClause[Any]:
 
 
 def _seal_table(bind: sa.Connection, name: str) -> None:
-    table = sa.table(name, *(_column(c) for c in (*SEALED_COLUMNS[name], "row_hash")))
+    present = {c["name"] for c in sa.inspect(bind).get_columns(name)}  # later columns not yet
+    table = sa.table(name, *(_column(c) for c in (*SEALED_COLUMNS[name], "row_hash")
+                             if c in present))
     head = GENESIS
     updates: list[dict[str, Any]] = []
     rows = bind.execute(sa.select(table).order_by(table.c.id)).mappings().all()

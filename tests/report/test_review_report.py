@@ -17,6 +17,7 @@ from pathlib import Path
 import pytest
 
 from tests.helpers import run_as
+from tests.signing import Person, new_signer, sign
 
 ROOT = Path(__file__).parents[2]
 CREAM = ROOT / "tests" / "golden" / "formulas" / "ow-cream.toml"
@@ -28,11 +29,17 @@ def _formdb(url: str, *args: str, user: str = "ana"):
 
 
 def _signed_run(url: str, formula: Path) -> str:
+    """A run made by ana and approved by rita (SQLite: both are operating-system accounts),
+    every open item justified by its rule."""
     done = _formdb(url, "review", "run", str(formula))
     assert done.exit_code == 0, done.stderr
     key = done.stdout.split()[1].rstrip(":")
-    assert _formdb(url, "review", "sign", key, "--meaning", "approved", "--as",
-                   "Dr. Ana Reviewer").exit_code == 0
+    rita = new_signer(Person("rita", url, "rita"), formula.parent, "Dr. Rita Reviewer")
+    items = json.loads(_formdb(url, "review", "report", key, "--format", "json").stdout)
+    justify = [arg for rule in sorted({i["rule"] for i in items["open_items"]})
+               for arg in ("--justify", f"{rule}=accepted for the first lab batch")]
+    signed = sign(rita, key, "approved", *justify)
+    assert signed.exit_code == 0, signed.stderr
     return key
 
 
@@ -43,9 +50,10 @@ def test_json_report_has_every_section(seeded_sqlite_url: str, tmp_path: Path) -
     shown = _formdb(seeded_sqlite_url, "review", "report", key, "--format", "json")
     assert shown.exit_code == 0, shown.stderr
     doc = json.loads(shown.stdout)
-    assert list(doc) == ["header", "verdict", "substances", "label", "limits", "allergens",
-                         "margin_of_safety", "compatibility", "findings", "open_items",
-                         "signatures", "cautions"]
+    assert list(doc) == ["header", "policy", "verdict", "science", "substances", "label",
+                         "limits", "allergens", "margin_of_safety", "compatibility", "findings",
+                         "finding_counts", "open_items", "signatures", "chain_heads",
+                         "cautions"]
     head = doc["header"]
     assert head["run_key"] == key and head["run_hash"].startswith(key)
     assert (head["profile"], head["state"]) == ("strict", "current")
@@ -58,8 +66,21 @@ def test_json_report_has_every_section(seeded_sqlite_url: str, tmp_path: Path) -
     assert doc["label"]["text"].startswith("Aqua, Caprylic/Capric Triglyceride")
     assert doc["verdict"] == "open items"  # strict: the missing NOAELs are errors (MOS01)
     assert any(item["rule"] == "MOS01" for item in doc["open_items"])
-    assert [(s["signer"], s["meaning"]) for s in doc["signatures"]] == [
-        ("Dr. Ana Reviewer", "approved")]
+    assert [(s["signer"], s["meaning"], s["check"]) for s in doc["signatures"]] == [
+        ("Dr. Rita Reviewer", "approved", "valid")]
+    [signature] = doc["signatures"]  # every open item is waived, in writing, in the report
+    assert [w["item"] for w in signature["waivers"]] == [o["item"] for o in doc["open_items"]]
+    assert {w["justification"] for w in signature["waivers"]} == {
+        "accepted for the first lab batch"}
+    assert (head["profile_origin"], head["kind"], head["verified"]) == (
+        "packaged", "signable", True)
+    assert len(head["profile_hash"]) == 64
+    assert [s["title"] for s in doc["science"]] == ["HLB balance", "Emulsion type",
+                                                    "Dispersed phase"]
+    assert {c["chain"] for c in doc["chain_heads"]} >= {"change_log", "review_runs",
+                                                        "review_signatures"}
+    assert all(c["intact"] for c in doc["chain_heads"])
+    assert not any("seed_data" in c or ".csv" in c for c in doc["cautions"])
     assert any("ethics committee" in c for c in doc["cautions"])
     assert any("not a safety assessment" in c for c in doc["cautions"])
 
@@ -77,7 +98,10 @@ def test_html_escapes_a_script_in_the_formula_name(seeded_sqlite_url: str,
     page = out.read_text(encoding="utf-8")
     assert "<script" not in page
     assert "&lt;script&gt;alert(1)&lt;/script&gt; cream" in page
-    assert "Dr. Ana Reviewer" in page and "@page" in page
+    assert "Dr. Rita Reviewer" in page and "@page" in page
+    # the footer's CSS string carries the formula name escaped: nothing in it ends the string
+    footer = page[page.index("@bottom-left"):page.index("@bottom-right")]
+    assert "<" not in footer and "\\00003c" in footer
 
 
 @pytest.mark.skipif(not CHROMIUM.exists(), reason="no /usr/bin/chromium")

@@ -16,11 +16,13 @@ from formdb.store.db import make_engine
 from tests.helpers import run_formdb
 from tests.libraries import opened
 from tests.services.test_impact import _edit, _formulas
+from tests.signing import enrolled_key
 
 
 def _signed_run(url: str, formula: str) -> str:
     summary = run_review(opened(url), f"stored:{formula}", user="larkspur-reviewer")
-    sign_run(opened(url), summary.run_key, "reviewed", "A. Reviewer", user="larkspur-reviewer")
+    key = enrolled_key(url, "larkspur-reviewer", "A. Reviewer")
+    sign_run(opened(url), summary.run_key, "reviewed", user="larkspur-reviewer", signing_key=key)
     return summary.run_key
 
 

@@ -24,6 +24,9 @@ from formdb.store.db import make_engine, unit_of_work
 from formdb.store.models import ChangeLogEntry, ReviewRun, ReviewSignature
 from tests.helpers import dump_database, recorded_as, run_as
 from tests.libraries import opened
+from tests.signing import act, new_signer, people, sign
+
+__all__ = ["people"]  # the fixture, imported for its tests
 
 CREAM = Path(__file__).parents[1] / "golden" / "formulas" / "ow-cream.toml"
 NAME = "Larkspur LB-G01 day cream"
@@ -50,7 +53,7 @@ def _run(url: str, file: Path | str, user: str = "ana") -> str:
 def _status(url: str) -> dict[str, dict]:
     shown = _formdb(url, "review", "status", "--format", "json")
     assert shown.exit_code == 0, shown.stderr
-    return {s["run_key"]: s for s in json.loads(shown.stdout)}
+    return {s["run_key"]: s for s in json.loads(shown.stdout)["runs"]}
 
 
 def _runs(url: str) -> list[ReviewRun]:
@@ -64,9 +67,25 @@ def _runs(url: str) -> list[ReviewRun]:
         engine.dispose()
 
 
-def test_run_report_sign_edit_stale_rerun_sign(seeded_library_url: str, cream: Path) -> None:
+def _justify_all(url: str, key: str) -> list[str]:
+    """One --justify per rule code of the run's open items."""
+    report = _formdb(url, "review", "report", key, "--format", "json")
+    rules = sorted({item["rule"] for item in json.loads(report.stdout)["open_items"]})
+    return [arg for rule in rules for arg in ("--justify", f"{rule}=accepted for the trial")]
+
+
+def test_run_report_sign_edit_stale_rerun_sign(seeded_library_url: str, cream: Path,
+                                               tmp_path: Path, people) -> None:
     url = seeded_library_url
-    first = _run(url, cream)
+    ana = new_signer(people(url, "ana"), tmp_path, "Dr. Ana Reviewer")
+    rita = new_signer(people(url, "rita"), tmp_path, "Rita Reviewer")
+
+    def run_as_ana() -> str:
+        done = act(ana.person, "review", "run", str(cream))
+        assert done.exit_code == 0, done.stderr
+        return done.stdout.split()[1].rstrip(":")
+
+    first = run_as_ana()
     [run] = _runs(url)
     assert run.run_key == first and run.run_hash.startswith(first) and len(run.run_hash) == 64
     assert run.profile_name == "strict" and run.formula_name == NAME
@@ -84,8 +103,8 @@ def test_run_report_sign_edit_stale_rerun_sign(seeded_library_url: str, cream: P
     assert report.exit_code == 0, report.stderr
     assert json.loads(report.stdout)["header"]["state"] == "current"
 
-    signed = _formdb(url, "review", "sign", first, "--meaning", "reviewed", "--as",
-                     "Dr. Ana Reviewer", "--comment", "first look")
+    signed = sign(ana, first, "reviewed", "--as", "Dr. Ana Reviewer", "--comment",
+                  "first look")
     assert signed.exit_code == 0, signed.stderr
     edit = _formdb(url, "ingredient", "edit", "Glycerin", "--set", "density=1.27",
                    "--source", "rule-of-thumb", "--reason", "remeasured", user="ed")
@@ -100,30 +119,31 @@ def test_run_report_sign_edit_stale_rerun_sign(seeded_library_url: str, cream: P
     table = _formdb(url, "review", "status")
     assert f"{first}  stale" in table.stdout and "density '1.26' -> '1.27'" in table.stdout
 
-    refused = _formdb(url, "review", "sign", first, "--meaning", "approved", "--as", "A. R.")
+    refused = sign(rita, first, "approved", *_justify_all(url, first))
     assert refused.exit_code == 2 and "Traceback" not in refused.stderr
     assert refused.stderr.startswith(f"Error: run {first} is stale: ingredient Glycerin: density")
 
-    second = _run(url, cream)
+    second = run_as_ana()
     assert second != first
-    assert _formdb(url, "review", "sign", second, "--meaning", "approved", "--as",
-                   "Dr. Ana Reviewer").exit_code == 0
+    assert sign(rita, second, "approved", *_justify_all(url, second)).exit_code == 0
     states = _status(url)
     assert states[first]["state"] == "superseded" and states[first]["superseded_by"] == second
     assert states[second]["state"] == "current"
     assert [(s["signer"], s["signed_by"], s["meaning"], s["run_hash"])
             for s in states[second]["signatures"]] == [
-        ("Dr. Ana Reviewer", recorded_as(url, "ana"), "approved", _runs(url)[1].run_hash)]
-    old = _formdb(url, "review", "sign", first, "--meaning", "approved", "--as", "A. R.")
+        ("Rita Reviewer", rita.login, "approved", _runs(url)[1].run_hash)]
+    assert all(s["valid"] for s in states[second]["signatures"])
+    old = sign(rita, first, "approved", *_justify_all(url, first))
     assert old.exit_code == 2 and f"superseded by run {second}" in old.stderr
 
 
-def test_a_run_that_does_not_exist_is_refused(seeded_sqlite_url: str, cream: Path) -> None:
+def test_a_run_that_does_not_exist_is_refused(seeded_sqlite_url: str, cream: Path,
+                                              tmp_path: Path, people) -> None:
+    rita = new_signer(people(seeded_sqlite_url, "rita"), tmp_path, "Rita Reviewer")
     key = _run(seeded_sqlite_url, cream)
     before = dump_database(seeded_sqlite_url)
     typo = key[:-1] + ("0" if key[-1] != "0" else "1")
-    refused = _formdb(seeded_sqlite_url, "review", "sign", typo, "--meaning", "approved",
-                      "--as", "A. Reviewer")
+    refused = sign(rita, typo, "reviewed")
     assert refused.exit_code == 2 and "Traceback" not in refused.stderr
     assert refused.stderr.startswith(f"Error: no review run '{typo}'.")
     assert f"did you mean {key}?" in refused.stderr
@@ -131,15 +151,16 @@ def test_a_run_that_does_not_exist_is_refused(seeded_sqlite_url: str, cream: Pat
 
 
 def test_a_formula_file_changed_on_disk_makes_the_run_stale(seeded_sqlite_url: str,
-                                                             cream: Path) -> None:
+                                                             cream: Path, tmp_path: Path,
+                                                             people) -> None:
+    rita = new_signer(people(seeded_sqlite_url, "rita"), tmp_path, "Rita Reviewer")
     key = _run(seeded_sqlite_url, cream)
     cream.write_text(cream.read_text(encoding="utf-8").replace("percent = 72.4",
                                                                "percent = 72.3"),
                      encoding="utf-8")
     [change] = _status(seeded_sqlite_url)[key]["changes"]
     assert change.startswith(f"formula file {cream.resolve()} changed since the run")
-    refused = _formdb(seeded_sqlite_url, "review", "sign", key, "--meaning", "approved",
-                      "--as", "A. Reviewer")
+    refused = sign(rita, key, "reviewed")
     assert refused.exit_code == 2 and "changed since the run" in refused.stderr
 
 
@@ -162,31 +183,36 @@ def test_changed_reference_rows_are_named_with_old_and_new(seeded_sqlite_url: st
         "toxicology phenoxyethanol-noael-rat-oral: pod_value 357.0 -> 300.0"]
 
 
-def test_a_non_reviewer_is_refused_and_logged(seeded_sqlite_url: str, cream: Path) -> None:
+def test_a_non_reviewer_is_refused_and_logged(seeded_sqlite_url: str, cream: Path,
+                                              tmp_path: Path, people) -> None:
     url = seeded_sqlite_url
     for name, role in (("ada", "admin"), ("rita", "reviewer"), ("bo", "editor")):
         added = _formdb(url, "user", "add", name, "--role", role, "--yes", user="ada")
         assert added.exit_code == 0, added.stderr
+    ada = people(url, "ada")
+    bo = new_signer(people(url, "bo"), tmp_path, "Bo Editor", admin=ada)
+    rita = new_signer(people(url, "rita"), tmp_path, "Rita Reviewer", admin=ada)
     key = _run(url, cream, user="bo")  # storing a run needs no role: it only records a check
-    refused = _formdb(url, "review", "sign", key, "--meaning", "approved", "--as", "Bo",
-                      user="bo")
+    refused = sign(bo, key, "approved")
     assert refused.exit_code == 2
-    assert refused.stderr.startswith("Error: bo may not sign runs: that needs the role reviewer.")
+    assert refused.stderr.startswith(
+        "Error: bo may not sign runs approved: that needs the role reviewer.")
     engine = make_engine(url)
     try:
         with unit_of_work(engine) as session:
             assert session.scalars(select(ReviewSignature)).all() == []
             logged = session.scalars(select(ChangeLogEntry).where(
                 ChangeLogEntry.action == "refused")).all()
-            assert [(e.user, e.field) for e in logged] == [("bo", "sign runs")]
+            assert [(e.user, e.field) for e in logged] == [("bo", "sign runs approved")]
     finally:
         engine.dispose()
-    allowed = _formdb(url, "review", "sign", key, "--meaning", "approved", "--as",
-                      "Rita Reviewer", user="rita")
+    allowed = sign(rita, key, "approved", *_justify_all(url, key))
     assert allowed.exit_code == 0, allowed.stderr
 
 
-def test_bad_input_writes_nothing(seeded_sqlite_url: str, tmp_path: Path, cream: Path) -> None:
+def test_bad_input_writes_nothing(seeded_sqlite_url: str, tmp_path: Path, cream: Path,
+                                  people) -> None:
+    rita = new_signer(people(seeded_sqlite_url, "rita"), tmp_path, "Rita Reviewer")
     before = dump_database(seeded_sqlite_url)
     wrong = tmp_path / "wrong.toml"
     wrong.write_text(cream.read_text(encoding="utf-8").replace('"Glycerin"', '"Glycerine X"'),
@@ -199,11 +225,11 @@ def test_bad_input_writes_nothing(seeded_sqlite_url: str, tmp_path: Path, cream:
     key = _run(seeded_sqlite_url, cream)
     after_run = dump_database(seeded_sqlite_url)
     assert after_run != before
-    meaning = _formdb(seeded_sqlite_url, "review", "sign", key, "--meaning", "ok", "--as", "X")
+    meaning = sign(rita, key, "ok")
     assert meaning.exit_code == 2
-    blank = _formdb(seeded_sqlite_url, "review", "sign", key, "--meaning", "approved",
-                    "--as", " ")
-    assert blank.exit_code == 2 and "printed name" in blank.stderr
+    other = sign(rita, key, "reviewed", "--as", "Dr. Head of QA")
+    assert other.exit_code == 2
+    assert "your key is enrolled under the name 'Rita Reviewer'" in other.stderr
     assert dump_database(seeded_sqlite_url) == after_run
 
 

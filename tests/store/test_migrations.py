@@ -226,7 +226,8 @@ def test_data_at_head_survives_a_step_down_and_back(empty_library_url: str) -> N
     before = dump_database(url, tables=kept, exclude_columns=added)
 
     _migrate(url, "downgrade", "-1")
-    assert dump_database(url, tables=kept) == before
+    # (excluding the added columns of a sealed table leaves its seals out of both dumps)
+    assert dump_database(url, tables=kept, exclude_columns=added) == before
     _migrate(url, "upgrade")
     assert dump_database(url, tables=kept, exclude_columns=added) == before
     assert schema_snapshot(url) == schema_at_head

@@ -9,7 +9,8 @@ Creates (or refreshes) one NOLOGIN role per duty, named ``PREFIX_reader``, ``PRE
 - formulator: reader + write ``formulas``;
 - reviewer: reader + write the review and sign-off tables (names starting ``review`` or
   ``sign``);
-- admin: reader + write ``users`` and ``user_roles``;
+- admin: reader + write ``users`` and ``user_roles``, and append to the signing keys and
+  review policy (``key_enrolments``, ``policy_versions``);
 and every writer may append to ``change_log`` (insert only: history is never rewritten); the
 review runs and signatures are insert-only too (they are hash-chained like the log, see
 formdb.store.sealing).
@@ -28,9 +29,10 @@ from formdb.schemas.admin import GrantReport
 from formdb.store import db as store
 
 FORMULA_TABLES = frozenset({"formulas"})
-ADMIN_TABLES = frozenset({"users", "user_roles"})
+ADMIN_TABLES = frozenset({"users", "user_roles", "key_enrolments", "policy_versions"})
 LOG_TABLE = "change_log"
-APPEND_ONLY = frozenset({"review_runs", "review_signatures"})  # and LOG_TABLE
+APPEND_ONLY = frozenset({"review_runs", "review_signatures", "key_enrolments",
+                         "policy_versions"})  # and LOG_TABLE
 NOT_LIBRARY = FORMULA_TABLES | ADMIN_TABLES | {LOG_TABLE, "alembic_version"}
 _NAME = re.compile(r"^[a-z][a-z0-9_]{0,40}$")
 

@@ -97,12 +97,37 @@ def verify_table(session: Session, table: str) -> ChainReport:
     return report
 
 
+def verify_signatures(session: Session, report: ChainReport) -> None:
+    """Check every signature against the key enrolled for its signer (Ed25519): a row written
+    or edited without the signer's private key is a problem even when its seal is intact."""
+    from formdb.services.review import keys
+    from formdb.store.models import ReviewRun, ReviewSignature
+
+    enrolled = keys.enrolments(session)
+    hashes = {int(i): str(h) for i, h in
+              session.execute(select(ReviewRun.id, ReviewRun.run_hash)).all()}
+    for sig in session.scalars(select(ReviewSignature).order_by(ReviewSignature.id)):
+        check = keys.check_signature(sig, hashes.get(sig.run_id, ""), enrolled)
+        if check != "valid":
+            detail = f"signature {sig.id} ({sig.meaning} by {sig.signer}) is {check}"
+            if len(report.problems) < _MAX_PROBLEMS:
+                report.problems.append(ChainProblem(report.table, sig.id, "invalid-signature",
+                                                    detail))
+            else:
+                report.more_problems += 1
+
+
 def verify_chains(library: Library, tables: list[str] | None = None) -> AuditReport:
-    """Verify every sealed table present in the library (or the ones named)."""
+    """Verify every sealed table present in the library (or the ones named), and every
+    signature against the enrolled keys."""
     with library.read() as session:
         present = set(inspect(session.connection()).get_table_names())
         wanted = [t for t in (tables or list(SEALED_COLUMNS)) if t in present]
-        return AuditReport([verify_table(session, t) for t in wanted])
+        chains = [verify_table(session, t) for t in wanted]
+        for chain in chains:
+            if chain.table == "review_signatures" and "key_enrolments" in present:
+                verify_signatures(session, chain)
+        return AuditReport(chains)
 
 
 __all__ = ["AuditReport", "ChainProblem", "ChainReport", "append_sealed", "canonical",

@@ -4,38 +4,56 @@ A run keeps the formula text as checked, the hash of every library record the ch
 (ingredients by name, version and values; the limits, exposure row, toxicology rows, label
 thresholds and mixture constituents relevant to the formula) and the whole result. A run is never
 updated: a newer run of the same formula name supersedes it, and its state is worked out when
-asked: stale when the formula or any record used changed since, naming what changed. A sign-off
-binds a printed name, the login, the UTC time and its meaning to the run hash (21 CFR 11.50 and
-11.70: the signature shows who, when and what it means, and is linked to its record).
+asked: stale when the formula or any record used changed since, naming what changed.
+
+Every run records its profile by content hash and origin and the review policy in force
+(services.review.policy); a run under another profile than the policy's is a draft, which is
+never signed and never supersedes a signable run. A sign-off is the signer's Ed25519 signature
+(services.review.keys) over the run hash, the meaning, the reasons, the signer and the UTC time
+(21 CFR 11.50 and 11.70: the signature shows who, when and what it means, and is linked to its
+record). "approved" needs no open item, or a written justification for each; "rejected" needs a
+reason; an author approves their own run only if the policy allows it; a later signature by the
+same person supersedes their earlier one, which stays shown. Status and the filed report verify
+what they show: the run's hash and seal, and every signature against the enrolled keys.
 """
 
 from __future__ import annotations
 
 import hashlib
 import json
+from dataclasses import replace
 from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any
 
-from sqlalchemy import select
+from cryptography.hazmat.primitives.asymmetric.ed25519 import Ed25519PrivateKey
+from sqlalchemy import inspect, or_, select
 from sqlalchemy.orm import Session
 
 from formdb import __version__
-from formdb.errors import Conflict, InvalidData, NotFound
+from formdb.errors import Conflict, Forbidden, InvalidData, NotFound
 from formdb.rules.engine import check_resolved
 from formdb.rules.profiles import Profile, load_profile
-from formdb.schemas.admin import Action
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.ingredient import IngredientRecord, name_key
 from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import CheckResult
-from formdb.schemas.review import FiledRun, RunState, RunSummary, SignatureInfo
+from formdb.schemas.review import (
+    FiledRun,
+    Policy,
+    ReviewStatus,
+    RunState,
+    RunSummary,
+    SignatureInfo,
+)
 from formdb.schemas.suggest import close_matches
 from formdb.schemas.times import utc
-from formdb.services.admin.access import require
+from formdb.services.admin.access import is_open, roles_of
 from formdb.services.checking.flow import FormulaInput, input_from_text, read_inputs, resolve_all
 from formdb.services.library.formula_files import content_hash
-from formdb.services.review.audit import append_sealed
+from formdb.services.review import keys
+from formdb.services.review.audit import append_sealed, verify_table
+from formdb.services.review.policy import MEANINGS, current_policy, policy_json
 from formdb.store import queries
 from formdb.store.formulas import get_formula
 from formdb.store.library import Library
@@ -43,8 +61,8 @@ from formdb.store.lists import with_list_entries
 from formdb.store.models import ChangeLogEntry, ReviewRun, ReviewSignature
 
 DEFAULT_PROFILE = "strict"
-MEANINGS = ("approved", "reviewed", "rejected")
 STORED = "stored:"
+SHOWN_CHAINS = ("review_runs", "review_signatures", "key_enrolments", "policy_versions")
 
 
 def _digest(value: Any) -> str:
@@ -147,6 +165,29 @@ def stored_result(result_json: str) -> CheckResult:
     return CheckResult.model_validate({k: data[k] for k in RESULT_KEYS if k in data})
 
 
+def _run_content(run: ReviewRun, supersedes_hash: str | None) -> dict[str, Any]:
+    """What the run hash covers, rebuilt from the stored columns (older runs lack the profile
+    hash, origin and policy, and their hash never covered them)."""
+    content = {"formula_name": run.formula_name, "formula_source": run.formula_source,
+               "formula_hash": run.formula_hash, "library_hash": run.library_hash,
+               "profile": [run.profile_name, run.profile_version],
+               "formdb_version": run.formdb_version,
+               "created_at": utc(run.created_at).isoformat(), "created_by": run.created_by,
+               "findings": json.loads(run.findings_json), "supersedes": supersedes_hash}
+    if run.profile_hash is not None:
+        content.update({"profile_hash": run.profile_hash, "profile_origin": run.profile_origin,
+                        "policy": run.policy_json, "signable": run.signable})
+    return content
+
+
+def _latest(session: Session, name: str, signable: bool) -> ReviewRun | None:
+    """The newest run of ``name`` of the same kind: a draft never supersedes a signable run."""
+    kind = (or_(ReviewRun.signable.is_(True), ReviewRun.signable.is_(None)) if signable
+            else ReviewRun.signable.is_(False))
+    return session.scalars(select(ReviewRun).where(ReviewRun.formula_name == name, kind)
+                           .order_by(ReviewRun.id.desc())).first()
+
+
 def run_review(library: Library, source: str, profile: Profile | str | None = None, *,
                user: str) -> RunSummary:
     """``formdb review run``: check ``source`` (a path or stored:NAME) and store the run."""
@@ -158,6 +199,8 @@ def run_review(library: Library, source: str, profile: Profile | str | None = No
         if source.startswith(STORED):
             item = _read(source, session)
             label = item.label
+        policy = current_policy(session)
+        signable = chosen.content_hash == policy.profile_hash
         reference = queries.load_reference_data(session)
         resolved = resolve_all(session, [item])[0]
         reference = with_list_entries(session, reference, [resolved])
@@ -165,31 +208,30 @@ def run_review(library: Library, source: str, profile: Profile | str | None = No
         records = used_records(resolved, reference)
         now = datetime.now(UTC)
         findings = [f.model_dump(mode="json") for f in result.findings]
-        before = session.scalars(select(ReviewRun).where(
-            ReviewRun.formula_name == resolved.name).order_by(ReviewRun.id.desc())).first()
-        content = {"formula_name": resolved.name, "formula_source": label,
-                   "formula_hash": content_hash(item.text), "library_hash":
-                   library_hash(records), "profile": [chosen.name, chosen.version],
-                   "formdb_version": __version__, "created_at": now.isoformat(),
-                   "created_by": user, "findings": findings,
-                   "supersedes": before.run_hash if before else None}
-        run_hash = _digest(content)
+        before = _latest(session, resolved.name, signable)
         run = ReviewRun(
-            run_key=run_hash[:12], run_hash=run_hash, formula_name=resolved.name,
-            formula_source=label, formula_hash=content["formula_hash"],
-            formula_text=item.text, library_hash=content["library_hash"],
+            run_key="", run_hash="", formula_name=resolved.name,
+            formula_source=label, formula_hash=content_hash(item.text),
+            formula_text=item.text, library_hash=library_hash(records),
             records_json=json.dumps(records, sort_keys=True, ensure_ascii=False),
             profile_name=chosen.name, profile_version=chosen.version,
             formdb_version=__version__, created_at=now, created_by=user,
             findings_json=json.dumps(findings, sort_keys=True, ensure_ascii=False),
             result_json=json.dumps(result.to_contract_json(), ensure_ascii=False),
-            supersedes_run_id=before.id if before else None)
+            supersedes_run_id=before.id if before else None,
+            profile_hash=chosen.content_hash, profile_origin=chosen.origin,
+            policy_json=policy_json(policy), signable=signable)
+        run_hash = _digest(_run_content(run, before.run_hash if before else None))
+        run.run_key, run.run_hash = run_hash[:12], run_hash
         append_sealed(session, run)
         counts = result.severity_counts()
         return RunSummary(run.run_key, run_hash, resolved.name,
                           verdict(result, chosen.name), counts["error"], counts["warning"],
                           len(open_items(result, chosen.name)), len(records),
-                          before.run_key if before else None)
+                          before.run_key if before else None, signable,
+                          f"{chosen.name} {chosen.version}", chosen.content_hash,
+                          chosen.origin, f"{policy.profile_name} {policy.profile_version} "
+                          f"({policy.profile_hash[:12]})")
 
 
 # ----- state --------------------------------------------------------------------------------
@@ -259,11 +301,55 @@ def _library_changes(session: Session, run: ReviewRun, reference: ReferenceData)
     return changes
 
 
+def _kind(run: ReviewRun) -> str:
+    return "legacy" if run.signable is None else ("signable" if run.signable else "draft")
+
+
+class _Checks:
+    """What the shown records are verified against, read once per snapshot: each sealed
+    chain's problems by row id, and the enrolled keys."""
+
+    def __init__(self, session: Session) -> None:
+        present = set(inspect(session.connection()).get_table_names())
+        self.chains = [verify_table(session, t) for t in SHOWN_CHAINS if t in present]
+        self.rows = {(p.table, p.row_id): p.detail for c in self.chains for p in c.problems}
+        self.enrolments = keys.enrolments(session) if "key_enrolments" in present else []
+        self.hashes = {int(i): str(h) for i, h in
+                       session.execute(select(ReviewRun.id, ReviewRun.run_hash)).all()}
+
+    def problems(self) -> list[str]:
+        return [f"{c.table}: {p.detail}" for c in self.chains for p in c.problems]
+
+
+def _run_broken(run: ReviewRun, checks: _Checks) -> list[str]:
+    broken = []
+    seal = checks.rows.get(("review_runs", run.id))
+    if seal:
+        broken.append(f"seal: {seal}")
+    before = checks.hashes.get(run.supersedes_run_id) if run.supersedes_run_id else None
+    if _digest(_run_content(run, before)) != run.run_hash or run.run_key != run.run_hash[:12]:
+        broken.append("the run's content no longer matches its run hash")
+    if content_hash(run.formula_text) != run.formula_hash:
+        broken.append("the stored formula text no longer matches its formula hash")
+    return broken
+
+
+def _signature(sig: ReviewSignature, run: ReviewRun, checks: _Checks) -> SignatureInfo:
+    check = keys.check_signature(sig, run.run_hash, checks.enrolments)
+    seal = checks.rows.get(("review_signatures", sig.id))
+    if seal and check == "valid":
+        check = f"INVALID: {seal}"
+    waivers = json.loads(sig.waivers_json) if sig.waivers_json else []
+    return SignatureInfo(sig.signer, sig.signed_by, sig.meaning, _stamp(sig.signed_at),
+                         sig.comment, sig.run_hash, sig.id, sig.key_id, waivers, check)
+
+
 def _state(session: Session, run: ReviewRun, newer: dict[int, ReviewRun],
-           reference: ReferenceData) -> RunState:
+           reference: ReferenceData, checks: _Checks) -> RunState:
     state = RunState(run.run_key, run.run_hash, run.formula_name, run.formula_source,
                      f"{run.profile_name} {run.profile_version}", _stamp(run.created_at),
-                     run.created_by)
+                     run.created_by, kind=_kind(run), profile_hash=run.profile_hash,
+                     profile_origin=run.profile_origin, broken=_run_broken(run, checks))
     if run.id in newer:
         state.state, state.superseded_by = "superseded", newer[run.id].run_key
     else:
@@ -273,8 +359,12 @@ def _state(session: Session, run: ReviewRun, newer: dict[int, ReviewRun],
             state.state = "stale"
     sigs = session.scalars(select(ReviewSignature).where(ReviewSignature.run_id == run.id)
                            .order_by(ReviewSignature.id)).all()
-    state.signatures = [SignatureInfo(s.signer, s.signed_by, s.meaning, _stamp(s.signed_at),
-                                      s.comment, s.run_hash) for s in sigs]
+    shown = [_signature(s, run, checks) for s in sigs]
+    latest: dict[str, int] = {}
+    for info in shown:  # a later signature by the same person supersedes the earlier one
+        latest[info.signed_by] = info.number
+    state.signatures = [replace(info, superseded_by=latest[info.signed_by])
+                        if latest[info.signed_by] != info.number else info for info in shown]
     return state
 
 
@@ -298,32 +388,95 @@ def _find_run(session: Session, key: str) -> ReviewRun:
     raise NotFound(f"no review run {key!r}.", hint=hint)
 
 
-def review_status(library: Library) -> list[RunState]:
-    """``formdb review status``: every run with its state and its signatures, oldest first."""
+def review_status(library: Library) -> ReviewStatus:
+    """``formdb review status``: every run with its state and signatures, oldest first, each
+    verified (run hash, seal, signatures), and the policy in force."""
     with library.read() as session:
         reference = queries.load_reference_data(session)
         newer = _newer(session)
+        checks = _Checks(session)
         runs = session.scalars(select(ReviewRun).order_by(ReviewRun.id)).all()
-        return [_state(session, run, newer, reference) for run in runs]
+        return ReviewStatus([_state(session, run, newer, reference, checks) for run in runs],
+                            checks.problems(), current_policy(session))
 
 
 # ----- sign ---------------------------------------------------------------------------------
 
-def sign_run(library: Library, key: str, meaning: str, signer: str, *, user: str,
-             comment: str | None = None) -> SignatureInfo:
-    """``formdb review sign``: a reviewer's sign-off on a current run (refused otherwise)."""
+def _refuse(session: Session, user: str, what: str, role: str) -> None:
+    """Refuse a signature for want of a role, and keep the refusal in the change log."""
+    session.rollback()
+    session.add(ChangeLogEntry(at=datetime.now(UTC), user=user, entity="access",
+                               entity_key=user[:200], entity_version=None, action="refused",
+                               field=what[:60], old_value=None, new_value=None,
+                               reason=f"needs role {role}"))
+    session.commit()
+    raise Forbidden(f"{user} may not {what}: that needs the role {role}.",
+                    hint=f"ask an admin: formdb user grant {user} {role} --yes")
+
+
+def waivers_for(items: list[dict[str, Any]], justifications: list[str]) -> list[dict[str, Any]]:
+    """Each open item with its written justification (``N=TEXT`` by the item's number, or
+    ``RULE=TEXT`` for every item of that rule, an item's own number winning); every open item
+    must have one."""
+    given: dict[int, str] = {}
+    by_number = sorted(justifications, key=lambda pair: pair.partition("=")[0].strip().isdigit())
+    for pair in by_number:  # rule-wide first, so an item's own justification wins
+        target, sep, why = pair.partition("=")
+        target, why = target.strip(), why.strip()
+        if not sep or not why:
+            raise InvalidData(f"--justify {pair!r}: give ITEM=TEXT, ITEM being an open item's "
+                              "number or rule code.", hint="for example --justify "
+                              "3='NOAEL from the supplier dossier, filed'")
+        if target.isdigit():
+            numbers = [int(target)] if 1 <= int(target) <= len(items) else []
+        else:
+            numbers = [n for n, item in enumerate(items, 1)
+                       if item["rule"].casefold() == target.casefold()]
+        if not numbers:
+            raise InvalidData(f"--justify {target}: no open item {target} on this run "
+                              f"(it has {len(items)}).",
+                              hint="`formdb review report RUN` lists the open items")
+        for number in numbers:
+            given[number] = why
+    missing = [f"{n} ({item['rule']})" for n, item in enumerate(items, 1) if n not in given]
+    if missing:
+        raise InvalidData(f"approved with {len(items)} open item(s): no justification for item "
+                          f"{', '.join(missing)}.", hint="justify each with --justify N=TEXT, "
+                          "or sign 'reviewed' or 'rejected'")
+    return [{"item": n, "rule": item["rule"], "severity": item["severity"],
+             "message": item["message"], "justification": given[n]}
+            for n, item in enumerate(items, 1)]
+
+
+def sign_run(library: Library, key: str, meaning: str, *, user: str,
+             signing_key: Ed25519PrivateKey, reason: str | None = None,
+             justifications: list[str] | None = None,
+             printed_name: str | None = None) -> SignatureInfo:
+    """``formdb review sign``: a signer's Ed25519 signature on a current, signable run."""
     meaning = meaning.strip().lower()
     if meaning not in MEANINGS:
         raise InvalidData(f"--meaning {meaning!r}: give one of {', '.join(MEANINGS)}.",
                           hint="the meaning is part of the signature (21 CFR 11.50)")
-    signer = signer.strip()
-    if not signer or len(signer) > 200 or any(not c.isprintable() for c in signer):
-        raise InvalidData(f"--as {signer!r}: give the signer's printed name (1-200 printable "
-                          "characters).", hint="for example --as 'Dr. A. Reviewer'")
+    reason = (reason or "").strip() or None
+    if meaning == "rejected" and reason is None:
+        raise InvalidData("--meaning rejected needs --reason: say why the run is rejected.",
+                          hint="the reason is signed and printed with the signature")
+    if justifications and meaning != "approved":
+        raise InvalidData("--justify goes with --meaning approved (it waives open items).",
+                          hint="give the reason with --reason")
     with library.write() as session:
-        require(session, user, Action.SIGN_RUNS)
+        policy = current_policy(session)
+        role = policy.roles[meaning]
+        if not is_open(session) and role not in roles_of(session, user):
+            _refuse(session, user, f"sign runs {meaning}", role)
         run = _find_run(session, key)
-        state = _state(session, run, _newer(session), queries.load_reference_data(session))
+        _signable(run, policy)
+        checks = _Checks(session)
+        state = _state(session, run, _newer(session), queries.load_reference_data(session),
+                       checks)
+        if state.broken:
+            raise Conflict(f"run {run.run_key} does not verify ({state.broken[0]}); it cannot "
+                           "be signed.", hint="formdb audit verify shows what was altered")
         if state.state == "superseded":
             raise Conflict(f"run {run.run_key} is superseded by run {state.superseded_by}; "
                            "sign the newer run.", hint=f"formdb review sign "
@@ -333,24 +486,59 @@ def sign_run(library: Library, key: str, meaning: str, signer: str, *, user: str
                            + (f" (and {len(state.changes) - 1} more change(s))"
                               if len(state.changes) > 1 else ""),
                            hint="run the review again: formdb review run FILE")
+        if meaning == "approved" and run.created_by == user and not policy.author_may_approve:
+            raise Forbidden(f"{user} made run {run.run_key} and may not approve it: the review "
+                            "policy asks for another person's approval.",
+                            hint="another reviewer signs 'approved'; you may sign 'reviewed'")
+        items = open_items(stored_result(run.result_json), run.profile_name)
+        waivers = (waivers_for(items, justifications or [])
+                   if meaning == "approved" and items else [])
         now = datetime.now(UTC).replace(microsecond=0)
-        sig = ReviewSignature(run_id=run.id, run_hash=run.run_hash, signer=signer,
-                              signed_by=user, meaning=meaning, signed_at=now,
-                              comment=comment)
+        enrol = keys.signing_enrolment(session, user, signing_key, now)
+        if printed_name is not None and printed_name.strip() != enrol.printed_name:
+            raise InvalidData(f"--as {printed_name.strip()!r}: your key is enrolled under the "
+                              f"name {enrol.printed_name!r}.", hint="leave out --as; the "
+                              "printed name comes from your enrolled key")
+        signed = keys.signed_text(run_hash=run.run_hash, meaning=meaning, reason=reason,
+                                  waivers=waivers, login=user, printed_name=enrol.printed_name,
+                                  key_id=enrol.key_id, signed_at=now)
+        sig = ReviewSignature(run_id=run.id, run_hash=run.run_hash, signer=enrol.printed_name,
+                              signed_by=user, meaning=meaning, signed_at=now, comment=reason,
+                              waivers_json=json.dumps(waivers, ensure_ascii=False)
+                              if waivers else None, key_id=enrol.key_id,
+                              signature=keys.sign_bytes(signing_key, signed))
         append_sealed(session, sig)
-        return SignatureInfo(signer, user, meaning, _stamp(now), comment, run.run_hash)
+        earlier = [s.number for s in state.signatures if s.signed_by == user]
+        return SignatureInfo(enrol.printed_name, user, meaning, _stamp(now), reason,
+                             run.run_hash, sig.id, enrol.key_id, waivers, "valid",
+                             supersedes=earlier[-1] if earlier else None)
+
+
+def _signable(run: ReviewRun, policy: Policy) -> None:
+    """Refuse a draft, or a run whose profile is not the one the policy in force names."""
+    if run.profile_hash == policy.profile_hash:
+        return
+    what = ("a draft" if run.signable is False else
+            "no longer signable" if run.signable else "from before the review policy")
+    raise Conflict(f"run {run.run_key} is {what}: its profile {run.profile_name} "
+                   f"{run.profile_version} ({(run.profile_hash or 'no hash')[:12]}) is not the "
+                   f"profile the review policy names ({policy.profile_name} "
+                   f"{policy.profile_version}, {policy.profile_hash[:12]}).",
+                   hint=f"run the review with --profile {policy.profile_name}")
 
 
 # ----- report -------------------------------------------------------------------------------
 
 
 def filed_run(library: Library, key: str) -> FiledRun:
+    """What ``formdb review report`` files: the run, verified, with the chain heads now."""
     from formdb.services.checking.labelling import declaration
 
     with library.read() as session:
         run = _find_run(session, key)
         reference = queries.load_reference_data(session)
-        state = _state(session, run, _newer(session), reference)
+        checks = _Checks(session)
+        state = _state(session, run, _newer(session), reference, checks)
         result = stored_result(run.result_json)
         try:
             resolved = resolve_all(session, [input_from_text(run.formula_text,
@@ -359,6 +547,11 @@ def filed_run(library: Library, key: str) -> FiledRun:
                                 .label_jurisdiction)
         except InvalidData:
             label = None
+        heads = [(c.table, c.head_id, c.head_hash, c.intact) for c in checks.chains]
+        change_log = verify_table(session, "change_log")
+        heads.insert(0, ("change_log", change_log.head_id, change_log.head_hash,
+                         change_log.intact))
         return FiledRun(state, run.formula_hash, run.library_hash, run.profile_name,
                         run.profile_version, run.formdb_version, result, label,
-                        open_items(result, run.profile_name), json.loads(run.records_json))
+                        open_items(result, run.profile_name), json.loads(run.records_json),
+                        json.loads(run.policy_json) if run.policy_json else None, heads)
