@@ -19,6 +19,7 @@ from formdb.facts.kind import EMULSION_KINDS, recognise
 from formdb.facts.measured_rhlb import apply_measured
 from formdb.facts.phases import is_co_emulsifier_only, line_facts
 from formdb.facts.soap import form_soaps
+from formdb.facts.temperature import hld_facts
 from formdb.facts.work import Work
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.reference import ReferenceData
@@ -103,6 +104,8 @@ def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
             for item in sorted(substances(formula, reference).values(),
                                key=lambda i: (-i.percent, i.record.inci_name))
         ) if has_mixtures(formula, reference) else (),
+        hld=(hld_facts(formula, lines, emulsifiers) if product.kind in EMULSION_KINDS
+             else None),
         gaps=work.data_gaps(),
         notes=tuple(work.notes))
 

@@ -304,6 +304,33 @@ def prediction_section(result: CheckResult) -> Section:
     return Section("Emulsion type", (lines(*items),))
 
 
+def hld_section(facts: FormulaFacts) -> Section | None:
+    """Salager's HLD at the process temperature and, for ethoxylated nonionics, the PIT."""
+    h = facts.hld
+    if h is None:
+        return None
+    at = f"{n.plain(h.temperature_c)} °C ({h.temperature_from})"
+    if h.status != "computed":
+        return Section("Temperature and HLD", (lines(
+            Line("Temperature", at),
+            Line("HLD", f"not enough data: {h.reason}"),
+            Line("Constants", h.constants)),))
+    favours = h.favours.value if h.favours else "neither (optimum, HLD = 0)"
+    items = [Line("Temperature", at),
+             Line("Oil EACN", f"{n.plain(h.eacn or 0)} (weight average of the oils)"),
+             Line("Surfactant Cc", f"{n.plain(h.cc or 0)} ({h.form}, weight average)"),
+             Line("Salinity", f"{n.plain(h.salinity_g_100ml or 0)} g NaCl per 100 g water "
+                              "phase"),
+             Line("HLD", f"{(h.hld or 0):+.2f} at {n.plain(h.temperature_c)} °C, "
+                         f"{(h.hld_25c or 0):+.2f} at 25 °C: favours {favours} "
+                         "(HLD < 0 O/W, > 0 W/O)"),
+             Line("Phase inversion", (f"about {n.plain(h.pit_c)} °C (the nonionic HLD crosses 0;"
+                                      " O/W below, W/O above)") if h.pit_c is not None else
+                  "not estimated (only for ethoxylated nonionic systems)"),
+             Line("Constants", h.constants)]
+    return Section("Temperature and HLD", (lines(*items),))
+
+
 # ----- packing ----------------------------------------------------------------------------
 
 def _packing_verdict(facts: FormulaFacts) -> Line | None:

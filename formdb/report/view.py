@@ -16,6 +16,7 @@ from formdb.report.safety import allergen_section, exposure_section, substance_s
 from formdb.report.sections import (
     data_gaps_section,
     hlb_section,
+    hld_section,
     interface_section,
     packing_section,
     phases_section,
@@ -132,6 +133,7 @@ def formula_view(result: CheckResult) -> FormulaView:
         phases_section(facts), substance_section(facts),
         hlb_section(facts) if emulsion else None,
         prediction_section(result) if emulsion else None,
+        hld_section(facts) if emulsion else None,
         packing_section(facts) if emulsion else None,
         interface_section(facts) if emulsion else None, exposure_section(facts),
         allergen_section(facts), data_gaps_section(facts)) if s is not None)

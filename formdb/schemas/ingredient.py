@@ -92,6 +92,16 @@ class IngredientProperties(BaseModel):
     viscosity_mpas: float | None = Field(
         None, gt=0, le=1e7, json_schema_extra=_unit("mPa·s"),
         description="viscosity at about 25 °C")
+    eacn: float | None = Field(
+        None, ge=-20, le=60, json_schema_extra=_unit(""),
+        description="equivalent alkane carbon number of an oil (HLD; n-alkanes: their carbon "
+                    "number)")
+    hld_cc: float | None = Field(
+        None, ge=-10, le=10, json_schema_extra=_unit(""),
+        description="characteristic curvature Cc of a surfactant (HLD; > 0 lipophilic)")
+    ethoxylated: bool | None = Field(
+        None, description="a nonionic with polyoxyethylene chains: its HLD rises with "
+                          "temperature, so it has a phase inversion temperature")
 
     @model_validator(mode="after")
     def _ranges_are_ordered(self) -> IngredientProperties:

@@ -362,6 +362,28 @@ class DataGap(_Frozen):
     detail: str = ""
 
 
+class HldFacts(_Frozen):
+    """Salager's HLD of the formula at its process temperature: a third, temperature-aware type
+    indicator, and for ethoxylated nonionics the phase inversion temperature
+    (formdb.facts.temperature). ``status`` says whether the data were there."""
+
+    status: Literal["computed", "not enough data"]
+    reason: str | None = None  # why not, when status is "not enough data"
+    form: Literal["nonionic", "ionic"] | None = None
+    temperature_c: float = 25.0
+    temperature_from: str = "no process temperature: 25 °C"
+    eacn: float | None = None  # of the oil phase, weight average
+    cc: float | None = None  # of the surfactant system, weight average
+    salinity_g_100ml: float | None = None  # sodium chloride per 100 g of the water phase
+    hld: float | None = None  # at temperature_c
+    hld_25c: float | None = None
+    favours: EmulsionType | None = None  # HLD < 0: O/W; > 0: W/O
+    pit_c: float | None = None  # where the nonionic HLD crosses zero
+    missing: tuple[str, ...] = ()  # lines without the value the HLD needs
+    constants: str = ("K 0.17, c_T 0.06 /K, b 0.13 per g/100 mL, a_T 0.01 /K: from memory "
+                      "(science.md section 6)")
+
+
 class FormulaFacts(_Frozen):
     """The numbers a chemist works out by hand, once per formula, shown by every report."""
 
@@ -410,6 +432,7 @@ class FormulaFacts(_Frozen):
     # substance-level composition; empty unless a line is a mixture with declared constituents
     substances: tuple[SubstanceFacts, ...] = ()
 
+    hld: HldFacts | None = None  # the temperature-aware type indicator
     gaps: tuple[DataGap, ...] = ()
     notes: tuple[str, ...] = ()
 

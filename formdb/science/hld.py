@@ -11,10 +11,14 @@ constants are per kelvin of difference from 25 deg C), EACN the oil's equivalent
 number (n-alkanes: their carbon number, by definition), f(A)/phi(A) the alcohol (co-solvent) term.
 
 Every default constant below is FROM MEMORY (K 0.17, a_T 0.01 /K, c_T 0.06 /K, b 0.13 per
-g/100 mL) and so are the Cc values; verify them before relying on a result.
+g/100 mL) and so are the Cc values; verify them before relying on a result. Checked against
+references/science.md section 6 (2026-12-04): it lists the same values and marks every one
+MEMORY (the open-access sources it found, Salager et al., Cosmetics 7 (2020) 57 and Acosta 2020,
+were not legible for the constants), so they stay marked from memory here.
 
-Kept for the lab-workflow issue (issue 16, with the process temperature); not yet wired into the
-facts or any command, only its tests call it.
+The check uses them through formdb.facts.temperature: the HLD at the process temperature as a
+third type indicator, and for ethoxylated nonionics the phase inversion temperature (PIT), the
+temperature at which the nonionic HLD crosses zero.
 """
 
 from __future__ import annotations
@@ -98,3 +102,33 @@ def hld_type(hld: float, *, band: float = 0.0) -> EmulsionType | None:
     if hld > band:
         return EmulsionType.WO
     return None
+
+
+def pit_nonionic(
+    salinity_g_100ml: float,
+    eacn: float,
+    cc: float,
+    *,
+    alcohol_term: float = 0.0,
+    k: float = K_OIL,
+    b: float = B_SALT_NONIONIC,
+    c_t: float = C_T_NONIONIC,
+) -> float:
+    """The temperature (deg C) at which the nonionic HLD is zero: the phase inversion
+    temperature, 25 + (K EACN + phi(A) - b S - Cc) / c_T. Below it the system is O/W (HLD < 0),
+    above it W/O."""
+    if _finite("c_t", c_t) <= 0:
+        raise ValueError(f"c_t must be > 0 for a phase inversion temperature, got {c_t}")
+    if not math.isfinite(salinity_g_100ml) or salinity_g_100ml < 0:
+        raise ValueError(f"salinity_g_100ml must be >= 0, got {salinity_g_100ml}")
+    return 25.0 + (_finite("k", k) * _finite("eacn", eacn) + _finite("alcohol_term", alcohol_term)
+                   - _finite("b", b) * salinity_g_100ml - _finite("cc", cc)) / c_t
+
+
+def linear_mix(parts: list[tuple[float, float]]) -> float:
+    """Weight-averaged value of (mass, value) parts: the linear mixing rule for EACN and Cc
+    (science.md section 6: commonly applied by weight for simplicity; from memory)."""
+    total = sum(m for m, _ in parts)
+    if not parts or total <= 0:
+        raise ValueError("no mass to average over")
+    return sum(m * _finite("value", v) for m, v in parts) / total
