@@ -15,6 +15,7 @@ force today applies.
 from __future__ import annotations
 
 from datetime import date
+from functools import lru_cache
 
 from formdb.facts.composition import substances
 from formdb.schemas.formula import ResolvedFormula
@@ -30,10 +31,17 @@ def placing_date(formula: ResolvedFormula) -> date:
     return formula.formula.placed_on or date.today()
 
 
+@lru_cache(maxsize=1 << 14)
+def _key(inci: str) -> str:
+    return name_key(inci)
+
+
 def allergen_entries(record: IngredientRecord, reference: ReferenceData,
                      jurisdiction: str) -> tuple[ListEntry, ...]:
     """The imported Annex III allergen entries that name the substance."""
-    return tuple(e for e in reference.list_entries.get(name_key(record.inci_name), ())
+    if not reference.list_entries:
+        return ()
+    return tuple(e for e in reference.list_entries.get(_key(record.inci_name), ())
                  if e.allergen and e.jurisdiction.casefold() == jurisdiction.casefold())
 
 

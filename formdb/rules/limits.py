@@ -62,10 +62,11 @@ def applicable_rows(reference: ReferenceData, formula: ResolvedFormula,
     body = formula.formula
     product = (body.product or "").strip().casefold()
     groups: dict[tuple[str, str], list[LimitRecord]] = {}
+    annexes = covered_annexes(reference)
     for row in reference.limits:
         if row.jurisdiction.casefold() != jurisdiction.casefold():
             continue
-        if covered(reference, row):
+        if annexes and covered(reference, row, annexes):
             continue  # an imported snapshot of this annex is in force: LIM03 applies it
         if row.category.casefold() not in (body.category.value, "any"):
             continue
@@ -79,14 +80,28 @@ def applicable_rows(reference: ReferenceData, formula: ResolvedFormula,
     return out
 
 
+@lru_cache(maxsize=1 << 10)
+def _annex(entry: str) -> str:
+    return entry.split("/", 1)[0].strip().upper()
+
+
 def annex_of(row: LimitRecord) -> str:
     """The annex a hand-written row belongs to ("V/3" -> "V")."""
-    return row.entry.split("/", 1)[0].strip().upper()
+    return _annex(row.entry)
 
 
-def covered(reference: ReferenceData, row: LimitRecord) -> bool:
+def covered_annexes(reference: ReferenceData) -> frozenset[tuple[str, str]]:
+    """(jurisdiction folded, annex) of every imported snapshot in force."""
+    return frozenset((s.jurisdiction.casefold(), s.annex) for s in reference.lists)
+
+
+def covered(reference: ReferenceData, row: LimitRecord,
+            annexes: frozenset[tuple[str, str]] | None = None) -> bool:
     """True when an imported snapshot of the row's annex is in force for its jurisdiction."""
-    return reference.covered_by_lists(row.jurisdiction, annex_of(row))
+    if not reference.lists:
+        return False
+    annexes = covered_annexes(reference) if annexes is None else annexes
+    return (row.jurisdiction.casefold(), annex_of(row)) in annexes
 
 
 def _record(reference: ReferenceData, formula: ResolvedFormula,

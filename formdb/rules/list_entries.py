@@ -11,6 +11,7 @@ from __future__ import annotations
 
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
+from functools import lru_cache
 from typing import Any, ClassVar
 
 from formdb.rules.base import Rule
@@ -52,11 +53,31 @@ class Outcome:
     amount: float = 0.0
 
 
+# the items of the last formula asked about (LIM03 and LIM04 ask once each per formula)
+_last: list[tuple[ResolvedFormula, ReferenceData, list[Item]]] = []
+
+
 def items_of(formula: ResolvedFormula, reference: ReferenceData) -> list[Item]:
+    """The formula's substances that an entry in force names (memoised for the last formula)."""
+    if _last and _last[0][0] is formula and _last[0][1] is reference:
+        return _last[0][2]
+    items = _items(formula, reference)
+    _last[:] = [(formula, reference, items)]
+    return items
+
+
+@lru_cache(maxsize=1 << 14)
+def _key(inci: str) -> str:
+    return name_key(inci)
+
+
+def _items(formula: ResolvedFormula, reference: ReferenceData) -> list[Item]:
+    if not reference.list_entries:
+        return []
     out = []
     for line in formula.lines:
         record = line.ingredient
-        parts = reference.constituents.get(name_key(record.inci_name), ())
+        parts = reference.constituents.get(_key(record.inci_name), ())
         declared = 0.0
         for part in parts:
             declared += part.percent
@@ -68,7 +89,7 @@ def items_of(formula: ResolvedFormula, reference: ReferenceData) -> list[Item]:
             out.append(Item(record, line.percent * share, line,
                             f"{line.inci} (line {line.line_no})"))
     for item in out:
-        item.entries = reference.list_entries.get(name_key(item.record.inci_name), ())
+        item.entries = reference.list_entries.get(_key(item.record.inci_name), ())
     return [i for i in out if i.entries]
 
 
@@ -233,6 +254,14 @@ class ListEntryLimits(Rule):
             yield self._finding(entry, item, judged, readings, bad_in, because, outcomes)
 
     def _prohibited(self, entry: ListEntry, item: Item) -> Finding:
+        if entry.exception:
+            return self.finding(
+                Severity.WARNING,
+                f"{item.label} is prohibited in cosmetic products {entry.exception}: "
+                f"{entry.title}, {entry.regulation}; confirm by hand that the exception holds",
+                ingredients=[item.line.inci], values=_values(entry, item),
+                advice=f"keep the supplier's evidence that {item.record.inci_name} meets the "
+                       "exception (e.g. its full refining history), or remove it")
         return self.finding(
             Severity.ERROR,
             f"{item.label} is prohibited in cosmetic products: {entry.title}, "

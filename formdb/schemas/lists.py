@@ -106,6 +106,9 @@ class ListEntry(BaseModel):
     parts: tuple[Part, ...] = ()
     purpose: str | None = None  # preservative | not-preservative | None
     allergen: bool = False  # named on the label above 0.001 % leave-on / 0.01 % rinse-off
+    # an Annex II entry that prohibits the substance only "except if ..." (petroleum and coal
+    # tar substances whose refining history clears them): the exception, verbatim
+    exception: str = ""
     regulation: str = ""
     update_date: date | None = None
     cells: dict[str, str] = {}  # every cell of the row, verbatim

@@ -247,3 +247,12 @@ def test_label_names_extended_allergens(library: Library, tmp_path: Path) -> Non
                             extra="placed_on = 2026-09-01"), encoding="utf-8")
     named = label_file(library, path).allergens_named
     assert [n.casefold() for n in named] == ["linalyl acetate"]
+
+
+def test_conditional_prohibition_asks(library: Library) -> None:
+    """Annex II/904: petrolatum is prohibited "except if the full refining history is known and
+    it can be shown that the substance from which it is produced is not a carcinogen" (the CMR
+    note of Regulation (EC) No 1223/2009 as adopted): a person confirms, no error."""
+    found = lim(library, formula([("Petrolatum", 10.0, None)], product="hand cream"))
+    ii = by_entry(found, "II/904")
+    assert ii.severity.value == "warning" and "except if the full refining history" in ii.message

@@ -221,7 +221,10 @@ class _Plan:
         self.export = export
         self.current = current
         self.refusals = refusals
-        self.unchanged = current is not None and current.file_hash == export.file.file_hash
+        # the same file, parsed as before: nothing to do (a file parsed differently by a newer
+        # formdb is written again, so its entries carry what the parser now understands)
+        self.unchanged = current is not None and current.file_hash == export.file.file_hash \
+            and old == {e.key: e for e in export.entries}
         self.changes = [] if self.unchanged else _diff(old, export.entries, export.file.annex)
 
     def report(self, created: list[tuple[str, ListEntry]]) -> AnnexImport:
@@ -247,8 +250,7 @@ def _plan(session: Session, export: ParsedExport, allow_older: bool) -> _Plan:
                 f"{file.path}: Annex {file.annex} export of {file.last_update:%d/%m/%Y} is older "
                 f"than the one in force ({current.file_name}, last update "
                 f"{current.last_update:%d/%m/%Y}); refused")
-        if current.file_hash != file.file_hash:
-            old = entries_of(session, current.id)
+        old = entries_of(session, current.id)
     return _Plan(export, current, old, refusals)
 
 

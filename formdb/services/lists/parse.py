@@ -301,6 +301,7 @@ _PH = re.compile(r"pH\s*(?:(?:from\s*)?(\d+(?:[.,]\d+)?)\s*(?:to|-)\s*|(?:up to|
                  r"(\d+(?:[.,]\d+)?)|up to pH\s*(\d+(?:[.,]\d+)?)", re.I)
 _NOT_PRESERVATIVE = re.compile(r"other than inhibiting|other than (?:as a )?preservati", re.I)
 _AS_PRESERVATIVE = re.compile(r"\bas (?:a )?preservative\b", re.I)
+_EXCEPT = re.compile(r"\b(?:except|unless|with the exception of)\b", re.I)
 _ALLERGEN = re.compile(r"list of ingredients referred to in Article 19", re.I)
 
 
@@ -346,8 +347,12 @@ def parse_entry(annex: str, row: Mapping[str, str], key: str) -> ListEntry:
         purpose = "not-preservative"
     elif annex == "V" or _AS_PRESERVATIVE.search(product):
         purpose = "preservative"
+    exception = ""
+    if annex == "II" and (found := _EXCEPT.search(chem)):
+        exception = chem[found.start():]
     return ListEntry(
         annex=annex, ref=clean(row[REF]).replace(" ", ""), key=key, chemical_name=chem,
+        exception=exception,
         inci_names=names, cas_numbers=cas_numbers(row.get("CAS Number", "")),
         ec_numbers=ec_numbers(row.get("EC Number", "")), parts=parts, purpose=purpose,
         allergen=annex == "III" and bool(_ALLERGEN.search(other)),
