@@ -4,12 +4,14 @@ problem found (text or JSON); the first break gets a line of its own for stderr.
 from __future__ import annotations
 
 import json
-from typing import TYPE_CHECKING
+from pathlib import Path
+from typing import TYPE_CHECKING, Any
 
 if TYPE_CHECKING:
     from formdb.schemas.audit import AuditReport
 
-KEEP_HEADS = ("Keep the head hashes with a filed report: a chain alone cannot show that its "
+KEEP_HEADS = ("Keep the head hashes with a filed report (`formdb audit anchor FILE` writes them "
+              "with a digest of every library record): a chain alone cannot show that its "
               "newest rows were removed.")
 
 
@@ -21,7 +23,12 @@ def audit_verify(report: AuditReport, fmt: str) -> str:
                         "head": {"id": c.head_id, "hash": c.head_hash},
                         "problems": [{"row": p.row_id, "kind": p.kind, "detail": p.detail}
                                      for p in c.problems],
-                        "more_problems": c.more_problems} for c in report.chains]},
+                        "more_problems": c.more_problems} for c in report.chains],
+            "anchor": None if report.anchor is None else {
+                "file": report.anchor,
+                "problems": [{"table": p.table, "row": p.row_id, "kind": p.kind,
+                              "detail": p.detail} for p in report.anchor_problems],
+                "changed_logged": report.anchor_notes}},
             indent=2, ensure_ascii=False) + "\n"
     lines: list[str] = []
     for chain in report.chains:
@@ -33,6 +40,11 @@ def audit_verify(report: AuditReport, fmt: str) -> str:
                   for problem in chain.problems]
         if chain.more_problems:
             lines.append(f"  ... and {chain.more_problems} more problems")
+    if report.anchor is not None:
+        state = "BROKEN" if report.anchor_problems else "nothing removed or changed around formdb"
+        lines.append(f"Against anchor {report.anchor}: {state}")
+        lines += [f"  {p.detail}" for p in report.anchor_problems]
+        lines += [f"  {note}" for note in report.anchor_notes]
     lines.append(KEEP_HEADS)
     return "\n".join(lines) + "\n"
 
@@ -43,3 +55,17 @@ def first_break(report: AuditReport) -> str | None:
     if first is None:
         return None
     return f"First break: {first.table} row {first.row_id}: {first.detail}.\n"
+
+
+def anchor_text(anchor: dict[str, Any]) -> str:
+    """The anchor file's text (JSON, one record per line for a readable diff)."""
+    return json.dumps(anchor, indent=1, sort_keys=True, ensure_ascii=False) + "\n"
+
+
+def anchor_written(anchor: dict[str, Any], out: Path) -> str:
+    records = sum(len(v) for v in anchor["records"].values())
+    heads = "; ".join(f"{table} row {head['head_id']}" for table, head in anchor["chains"].items()
+                      if head["head_id"] is not None)
+    return (f"Anchor written to {out}: heads {heads}; {records} library records digested. "
+            "Keep it with the filed report, outside the library; check it with "
+            f"`formdb audit verify --anchor {out}`.\n")

@@ -9,7 +9,8 @@ from dataclasses import dataclass, field
 class ChainProblem:
     table: str
     row_id: int
-    kind: str  # altered | removed | inserted | unsealed | broken-link
+    kind: str  # altered | removed | inserted | unsealed | broken-link | invalid-signature |
+    #            removed-since-anchor | rewritten-since-anchor | unlogged-change
     detail: str
 
 
@@ -30,11 +31,15 @@ class ChainReport:
 @dataclass(frozen=True)
 class AuditReport:
     chains: list[ChainReport]
+    anchor: str | None = None  # "FILE (made at ...)" when verified against an anchor
+    anchor_problems: list[ChainProblem] = field(default_factory=list)
+    anchor_notes: list[str] = field(default_factory=list)  # records changed, logged
 
     @property
     def intact(self) -> bool:
-        return all(c.intact for c in self.chains)
+        return all(c.intact for c in self.chains) and not self.anchor_problems
 
     @property
     def first_problem(self) -> ChainProblem | None:
-        return next((p for c in self.chains for p in c.problems), None)
+        return next((p for c in self.chains for p in c.problems),
+                    self.anchor_problems[0] if self.anchor_problems else None)

@@ -16,6 +16,7 @@ get INSERT only on the change log (``formdb db grant-setup``).
 from __future__ import annotations
 
 from collections import deque
+from pathlib import Path
 from typing import Any
 
 from sqlalchemy import inspect, select
@@ -117,17 +118,46 @@ def verify_signatures(session: Session, report: ChainReport) -> None:
                 report.more_problems += 1
 
 
-def verify_chains(library: Library, tables: list[str] | None = None) -> AuditReport:
-    """Verify every sealed table present in the library (or the ones named), and every
-    signature against the enrolled keys."""
+def _chains(session: Session, tables: list[str] | None) -> list[ChainReport]:
+    present = set(inspect(session.connection()).get_table_names())
+    wanted = [t for t in (tables or list(SEALED_COLUMNS)) if t in present]
+    chains = [verify_table(session, t) for t in wanted]
+    for chain in chains:
+        if chain.table == "review_signatures" and "key_enrolments" in present:
+            verify_signatures(session, chain)
+    return chains
+
+
+def verify_chains(library: Library, tables: list[str] | None = None,
+                  anchor: Path | None = None) -> AuditReport:
+    """Verify every sealed table present in the library (or the ones named), every signature
+    against the enrolled keys, and, given an anchor file, what changed since it."""
+    from formdb.services.review import anchors
+
+    kept = anchors.read_anchor(anchor) if anchor is not None else None
     with library.read() as session:
-        present = set(inspect(session.connection()).get_table_names())
-        wanted = [t for t in (tables or list(SEALED_COLUMNS)) if t in present]
-        chains = [verify_table(session, t) for t in wanted]
-        for chain in chains:
-            if chain.table == "review_signatures" and "key_enrolments" in present:
-                verify_signatures(session, chain)
-        return AuditReport(chains)
+        chains = _chains(session, tables)
+        if kept is None:
+            return AuditReport(chains)
+        problems, notes = anchors.check_anchor(session, kept, {c.table: c for c in chains})
+        return AuditReport(chains, f"{anchor} (made {anchors.anchor_time(kept)} by "
+                                   f"{kept.get('made_by', '?')})", problems, notes)
+
+
+def write_anchor(library: Library, *, user: str) -> dict[str, Any]:
+    """``formdb audit anchor``: the heads and record digests to keep outside the library. The
+    chains are verified first: anchoring a broken chain would vouch for it."""
+    from formdb.errors import Conflict
+    from formdb.services.review import anchors
+
+    with library.read() as session:
+        chains = _chains(session, None)
+        broken = next((p for c in chains for p in c.problems), None)
+        if broken is not None:
+            raise Conflict(f"{broken.table} row {broken.row_id}: {broken.detail}; an anchor "
+                           "would vouch for a broken chain.", hint="formdb audit verify")
+        return anchors.make_anchor(session, chains, user=user,
+                                   database=library.url)
 
 
 __all__ = ["AuditReport", "ChainProblem", "ChainReport", "append_sealed", "canonical",
