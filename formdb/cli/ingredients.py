@@ -51,6 +51,10 @@ _SET = click.option("--set", "sets", multiple=True, metavar="FIELD=VALUE[@SOURCE
                     help="A field and its value, e.g. hlb=15@supplier-x-tds-2025 or "
                          "density='0.92 g/cm3' (repeatable; an empty value clears it; @KEY "
                          "gives this value its own source).")
+_ACCEPT = click.option("--accept-unusual", "accept_unusual", is_flag=True,
+                       help="Write values the plausibility checks find unusual (HLB against "
+                            "solubility, required HLB, density, use range above the legal "
+                            "maximum, CAS or look-alike name of another substance).")
 _SOURCE = click.option("--source", help="Source key of the values given with --set "
                        "(a key of the sources table, or rule-of-thumb / from-memory).")
 
@@ -98,16 +102,18 @@ def show_cmd(app: AppContext, library: Library, name: str) -> None:
 @click.option("--cas", "cas", multiple=True, help="A CAS number (repeatable).")
 @click.option("--role", "roles", multiple=True, help="A role such as emulsifier (repeatable).")
 @click.option("--reason", help="Why it is added (kept in the change log).")
+@_ACCEPT
 @with_library
 def add_cmd(app: AppContext, library: Library, name: str, sets: tuple[str, ...], source: str | None,
             synonyms: tuple[str, ...], cas: tuple[str, ...], roles: tuple[str, ...],
-            reason: str | None) -> None:
+            reason: str | None, accept_unusual: bool) -> None:
     """Add ingredient NAME (its INCI name) to the library."""
     from formdb.services.library.ingredients import add_ingredient
 
     with library.write() as session:
         report = add_ingredient(session, name, _assignments(sets), user=app.user, source=source,
-                                synonyms=synonyms, cas=cas, roles=roles, reason=reason)
+                                synonyms=synonyms, cas=cas, roles=roles, reason=reason,
+                                confirm=accept_unusual)
     click.echo(record_changes(report, "added"), nl=False)
 
 
@@ -118,15 +124,18 @@ def add_cmd(app: AppContext, library: Library, name: str, sets: tuple[str, ...],
 @click.option("--reason", help="Why it changes (required for published values).")
 @click.option("--expect-version", type=int,
               help="The version you read; refused if someone changed it since.")
+@_ACCEPT
 @with_library
 def edit_cmd(app: AppContext, library: Library, name: str, sets: tuple[str, ...],
-             source: str | None, reason: str | None, expect_version: int | None) -> None:
+             source: str | None, reason: str | None, expect_version: int | None,
+             accept_unusual: bool) -> None:
     """Change fields of ingredient NAME: --set hlb=15 --source KEY --reason '...'."""
     from formdb.services.library.ingredients import edit_ingredient
 
     with library.write() as session:
         report = edit_ingredient(session, name, _assignments(sets), user=app.user, reason=reason,
-                                 source=source, expect_version=expect_version)
+                                 source=source, expect_version=expect_version,
+                                 confirm=accept_unusual)
     click.echo(record_changes(report, "changed"), nl=False)
 
 
@@ -198,15 +207,17 @@ def history_cmd(app: AppContext, library: Library, name: str) -> None:
 @click.option("--reason", help="Why the table is imported (kept in the change log).")
 @click.option("--impact", "show_impact", is_flag=True,
               help="Then re-check the stored formulas and signed runs the changed rows touch.")
+@_ACCEPT
 @with_library
 def import_cmd(app: AppContext, library: Library, file: Path, dry_run: bool, reason: str | None,
-               show_impact: bool) -> None:
+               show_impact: bool, accept_unusual: bool) -> None:
     """Import a CSV or XLSX ingredient table, all rows or none."""
     from formdb.report.library import import_summary
     from formdb.services.library.ingredients import import_table
 
     with library.write() as session:
-        report = import_table(session, file, user=app.user, reason=reason, dry_run=dry_run)
+        report = import_table(session, file, user=app.user, reason=reason, dry_run=dry_run,
+                              confirm=accept_unusual)
     click.echo(import_summary(report), nl=False)
     if show_impact and report.changed and not dry_run:
         from formdb.cli.impact import show_impacts

@@ -106,8 +106,10 @@ def record_changes(report: Any, verb: str) -> str:
     name, changes, version = report.inci_name, report.changes, report.version
     if not changes:
         return f"{name}: nothing changed (version {version}).\n"
+    accepted = getattr(report, "accepted", ())
     return "".join([f"{verb} {name} (now version {version}):\n",
-                    *(f"  {change.describe()}\n" for change in changes)])
+                    *(f"  {change.describe()}\n" for change in changes),
+                    *(f"accepted: {line}\n" for line in accepted)])
 
 
 def import_summary(report: Any) -> str:

@@ -112,6 +112,7 @@ class EditReport:
     inci_name: str
     version: int
     changes: list[FieldChange]
+    accepted: tuple[str, ...] = ()  # unusual values the user confirmed (--accept-unusual)
 
 
 @dataclass(frozen=True)
@@ -365,7 +366,7 @@ def _names_of(given: Mapping[str, str]) -> list[tuple[str, str]]:
 
 def import_table(session: Session, path: Path, *, user: str, reason: str | None,
                  action: str = "import", dry_run: bool = False,
-                 keep_existing: bool = False) -> ImportReport:
+                 keep_existing: bool = False, confirm: bool | None = None) -> ImportReport:
     """Upsert every row of a CSV/XLSX ingredient table, all or nothing.
 
     Rows match library ingredients by INCI name or synonym (case and spacing ignored); a blank
@@ -379,6 +380,7 @@ def import_table(session: Session, path: Path, *, user: str, reason: str | None,
         require(session, user, Action.CHANGE_LIBRARY)
     table = read_table(path)
     rows, problems = read_ingredient_rows(table)
+    unusual: list[tuple[int, Ingredient | None, IngredientIn, list[FieldChange]]] = []
     labels = header_labels(table)
     sources = _sources(session)
     owners = _owners(session, (name_key(n) for r in rows for _c, n in _names_of(r.given)))
@@ -434,11 +436,15 @@ def import_table(session: Session, path: Path, *, user: str, reason: str | None,
             problem(row.row, located, text)
         if item is not None:
             plans.append((target, item, diff_cells(base, render_ingredient(item))))
+            if confirm is not None and plans[-1][2]:
+                unusual.append((row.row, target, item, plans[-1][2]))
     if not rows:
         report.notes.append("the file has a header but no data rows; nothing to import")
     position = {label: i for i, label in enumerate(table.header)}
     problems.sort(key=lambda p: (p.row or 0, position.get(p.column or "", len(position))))
     raise_problems(problems, hint="fix the file and import it again; nothing was written")
+    if unusual:
+        report.notes += _unusual_rows(session, str(path), unusual, bool(confirm))
 
     for target, item, changes in plans:
         if target is None:
@@ -465,6 +471,47 @@ def import_table(session: Session, path: Path, *, user: str, reason: str | None,
     _insert_new(session, new_run, sources, action=action, user=user, reason=why, now=now)
     session.flush()
     return report
+
+
+def _unusual_rows(session: Session, file: str,
+                  rows: Sequence[tuple[int, Ingredient | None, IngredientIn, list[FieldChange]]],
+                  confirm: bool) -> list[str]:
+    """Plausibility warnings of the rows that change something; refused unless confirmed."""
+    from formdb.services.library.plausibility import ACCEPT_OPTION, NameIndex, warnings_for
+
+    names = NameIndex(session)
+    lines = []
+    for number, target, item, changes in rows:
+        found = warnings_for(session, item, own_id=target.id if target else None,
+                             fields=[c.field for c in changes], names=names)
+        lines += [f"{file}, row {number}, column {w.field}: unusual value: {w.text}"
+                  for w in found]
+    if lines and not confirm:
+        raise TableProblems(lines, hint=f"if the values are right, import again with "
+                                        f"{ACCEPT_OPTION}; nothing was written")
+    return [f"accepted: {line}" for line in lines]
+
+
+def _check_unusual(session: Session, item: IngredientIn, label: str, *, own_id: int | None,
+                   fields: Sequence[str] | None, confirm: bool | None) -> tuple[str, ...]:
+    """Refuse unusual values unless confirmed; the confirmed ones are returned for the record."""
+    if confirm is None:
+        return ()
+    from formdb.services.library.plausibility import ACCEPT_OPTION, describe, warnings_for
+
+    lines = describe(label, warnings_for(session, item, own_id=own_id, fields=fields))
+    if lines and not confirm:
+        raise TableProblems(lines, hint=f"if the values are right, repeat with {ACCEPT_OPTION}; "
+                                        "nothing was written")
+    return tuple(lines)
+
+
+def _with_accepted(reason: str | None, accepted: Sequence[str]) -> str | None:
+    if not accepted:
+        return reason
+    note = "unusual value(s) confirmed: " + "; ".join(a.split(": unusual value: ", 1)[-1]
+                                                        for a in accepted)
+    return f"{reason}; {note}" if reason else note
 
 
 def _insert_new(session: Session, batch: Sequence[tuple[IngredientIn, list[FieldChange]]],
@@ -622,7 +669,7 @@ def _check_names_free(session: Session, item: IngredientIn, own: Ingredient | No
 def add_ingredient(session: Session, name: str, assignments: Sequence[tuple[str, str]] = (), *,
                    user: str, source: str | None = None, synonyms: Sequence[str] = (),
                    cas: Sequence[str] = (), roles: Sequence[str] = (),
-                   reason: str | None = None) -> EditReport:
+                   reason: str | None = None, confirm: bool | None = None) -> EditReport:
     """Add a new ingredient; its name and synonyms must be new to the library."""
     require(session, user, Action.CHANGE_LIBRARY)
     cells = empty_cells()
@@ -635,10 +682,12 @@ def add_ingredient(session: Session, name: str, assignments: Sequence[tuple[str,
     item = _validated(cells, sources, f"add {normalise_inci(name)!r}")
     _check_names_free(session, item, None)
     changes = diff_cells(empty_cells(), render_ingredient(item))
+    accepted = _check_unusual(session, item, f"add {item.inci_name!r}", own_id=None,
+                              fields=None, confirm=confirm)
     _ensure_special_sources(session, item.sources.values())
-    ing = _write(session, None, item, changes, sources, action="add", user=user, reason=reason,
-                 now=datetime.now(UTC))
-    return EditReport(ing.inci_name, ing.version, changes)
+    ing = _write(session, None, item, changes, sources, action="add", user=user,
+                 reason=_with_accepted(reason, accepted), now=datetime.now(UTC))
+    return EditReport(ing.inci_name, ing.version, changes, accepted)
 
 
 def _check_version(session: Session, ing: Ingredient, expect_version: int | None) -> None:
@@ -662,7 +711,8 @@ def _check_version(session: Session, ing: Ingredient, expect_version: int | None
 
 def edit_ingredient(session: Session, name: str, assignments: Sequence[tuple[str, str]], *,
                     user: str, reason: str | None = None, source: str | None = None,
-                    expect_version: int | None = None, action: str = "edit") -> EditReport:
+                    expect_version: int | None = None, action: str = "edit",
+                    confirm: bool | None = None) -> EditReport:
     """Change fields of one ingredient; a published value changes only with a reason."""
     require(session, user, Action.CHANGE_LIBRARY)
     if not assignments:
@@ -684,10 +734,12 @@ def edit_ingredient(session: Session, name: str, assignments: Sequence[tuple[str
                 raise InvalidData(
                     f"{prop} of {ing.inci_name!r} is a published value (source {old_source}); "
                     "changing it needs a reason.", hint='add --reason "why the value changes"')
+    accepted = _check_unusual(session, item, f"edit {ing.inci_name!r}", own_id=ing.id,
+                              fields=[c.field for c in changes], confirm=confirm)
     _ensure_special_sources(session, item.sources.values())
-    _write(session, ing, item, changes, sources, action=action, user=user, reason=reason,
-           now=datetime.now(UTC))
-    return EditReport(ing.inci_name, ing.version, changes)
+    _write(session, ing, item, changes, sources, action=action, user=user,
+           reason=_with_accepted(reason, accepted), now=datetime.now(UTC))
+    return EditReport(ing.inci_name, ing.version, changes, accepted)
 
 
 def verify_ingredient(session: Session, name: str, properties: Sequence[str], source: str, *,
