@@ -40,3 +40,30 @@ def demo_cmd(app: AppContext, fmt: str, out: Path | None, keep: Path | None) -> 
             written.append(out / name)
         click.echo(f"Reports written: {', '.join(str(p) for p in written)}")
     click.echo(demo_summary(demo))
+    _bench(demo.library, app, out)
+
+
+def _bench(library_path: Path, app: AppContext, out: Path | None) -> None:
+    """From a formula to a 20 kg weigh sheet; from a screening series to a stored required HLB
+    that the next check uses."""
+    from formdb.report.files import write_report
+    from formdb.report.screening import bench_demo_text, fit_text, series_text
+    from formdb.report.weigh_sheet import render_html, render_text
+    from formdb.resources import seed_data_dir
+    from formdb.services.bench_work.demo import run_bench_demo
+    from formdb.store.identity import accept_claim, os_account
+    from formdb.store.library import Library
+
+    with Library.open(str(library_path)) as library:
+        bench = run_bench_demo(library, seed_data_dir() / "demo",
+                               user=accept_claim(os_account(), app.claimed, "sqlite"))
+    measured = bench.after.facts.required_hlb_ow
+    click.echo(bench_demo_text(
+        render_text(bench.sheet), series_text(bench.series),
+        fit_text(bench.series.name, bench.fit, stored=True), bench.after.formula,
+        bench.before.facts.required_hlb, bench.after.facts.required_hlb,
+        measured.measured_source if measured else None))
+    if out is not None:
+        target = out / "weigh-sheet-LB-110-20kg.html"
+        write_report(target, render_html(bench.sheet))
+        click.echo(f"Weigh sheet written: {target}")

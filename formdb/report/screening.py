@@ -38,3 +38,15 @@ def fit_text(series_name: str, fit: ScreeningFit, stored: bool) -> str:
         lines.append("Stored in the library as an in-house measurement (graded measured); the "
                      "check uses it for formulas with this oil phase.")
     return "\n".join(lines) + "\n"
+
+
+def bench_demo_text(sheet_text: str, series_text_: str, fit_text_: str, lotion: str,
+                    before: float | None, after: float | None, source: str | None) -> str:
+    """The demo's bench part: the weigh sheet, the series, the fit and the re-check."""
+    was = "none" if before is None else f"{before:.2f} (weight average of library values)"
+    now = "none" if after is None else f"{after:.2f}"
+    return "\n".join([
+        "", "From formula to bench (invented prices and observations of the demo lab):", "",
+        sheet_text, series_text_, fit_text_,
+        f"{lotion}: required HLB {was} before the series; {now} after it "
+        f"(source {source or 'none'}, graded measured), used by the check.", ""])
