@@ -141,11 +141,13 @@ def test_the_text_and_html_reports_show_the_sheet(seeded_sqlite_url: str,
     [result] = check_files(opened(seeded_sqlite_url), [path], "default")
     text = render_text([result])
     assert "EXPOSURE AND MARGIN OF SAFETY" in text
-    assert "MoS = PoD_sys / SED = 357 / 0.616 = 579.5: at least 100" in text
+    # PoD_sys = 357 x 50/100 = 178.5 (the SCCS NoG default oral bioavailability without data,
+    # 50 %; regulatory.md section 2.1, from memory); MoS = 178.5 / 0.616 = 289.8
+    assert "MoS = PoD_sys / SED = 178.5 / 0.616 = 289.8: at least 100" in text
     assert "Defaults used" in text
     page = render_html([result])
     assert "Exposure and margin of safety" in page
-    assert "357 / 0.616 = 579.5" in page
+    assert "178.5 / 0.616 = 289.8" in page
     assert "<b>LB-S01</b>" not in page and "&lt;b&gt;LB-S01&lt;/b&gt;" in page
 
 
