@@ -7,7 +7,7 @@ from pathlib import Path
 import click
 
 from formdb.cli.main import AppContext
-from formdb.errors import FormdbError
+from formdb.errors import FormdbError, Unconfirmed
 from formdb.report import admin as report
 from formdb.services.admin import database
 
@@ -46,11 +46,25 @@ def upgrade_cmd(app: AppContext, revision: str) -> None:
 
 @db_group.command("downgrade")
 @click.argument("revision")
+@click.option("--yes", is_flag=True,
+              help="Make the downgrade. Without it the command shows what would be removed "
+                   "(rehearsed and rolled back) and changes nothing (exit 2).")
+@click.option("--backup", "backup_to", type=click.Path(path_type=Path, dir_okay=False),
+              default=None, help="Write a full backup (PATH.zip) before stepping down.")
+@click.option("--discard-sealed-history", is_flag=True,
+              help="Allow a downgrade that destroys sealed audit records (needs --backup).")
 @click.pass_obj
-def downgrade_cmd(app: AppContext, revision: str) -> None:
-    """Step the schema down to REVISION ("base" removes every table); back up first."""
-    before, after = database.move(app.db, revision, down=True)
-    click.echo(report.db_moved(before, after, down=True), nl=False)
+def downgrade_cmd(app: AppContext, revision: str, yes: bool, backup_to: Path | None,
+                  discard_sealed_history: bool) -> None:
+    """Step the schema down to REVISION ("base" removes every table). Admin only; shows what
+    goes and needs --yes; refused while it would destroy sealed audit records."""
+    plan = database.downgrade(app.db, revision, user=app.user, confirm=yes,
+                              discard_sealed_history=discard_sealed_history,
+                              backup_to=backup_to)
+    click.echo(report.plan_text(plan), nl=False)
+    if not plan.done:
+        raise Unconfirmed("db downgrade: nothing was changed without --yes.",
+                          hint="rerun the same command with --yes")
 
 
 @db_group.command("backup")
@@ -63,10 +77,21 @@ def backup_cmd(app: AppContext, path: Path) -> None:
 
 @db_group.command("restore")
 @click.argument("path", type=click.Path(path_type=Path, dir_okay=False))
+@click.option("--yes", is_flag=True,
+              help="Keep the restored rows. Without it the restore runs, is rolled back, and "
+                   "the command shows what it would restore (exit 2).")
+@click.option("--accept-broken-chains", is_flag=True,
+              help="Restore a backup whose audit chains do not verify, as it is.")
 @click.pass_obj
-def restore_cmd(app: AppContext, path: Path) -> None:
-    """Fill an empty database (--db) from a backup PATH, all rows or none."""
-    click.echo(report.db_restored(database.restore(app.db, path)), nl=False)
+def restore_cmd(app: AppContext, path: Path, yes: bool, accept_broken_chains: bool) -> None:
+    """Fill an empty database (--db) from a backup PATH, all rows or none. Only an admin of
+    the library in the backup may; its audit chains are verified first."""
+    plan = database.restore(app.db, path, user=app.user, confirm=yes,
+                            accept_broken_chains=accept_broken_chains)
+    click.echo(report.plan_text(plan), nl=False)
+    if not plan.done:
+        raise Unconfirmed("db restore: nothing was restored without --yes.",
+                          hint="rerun the same command with --yes")
 
 
 @db_group.command("grant-setup")

@@ -144,6 +144,16 @@ def error_lines(exc: FormdbError) -> list[str]:
     return lines
 
 
+def _database_refusal(exc: Exception) -> FormdbError | None:
+    from sqlalchemy.exc import DBAPIError
+
+    if not isinstance(exc, DBAPIError):
+        return None
+    from formdb.store.db import translate_failure
+
+    return translate_failure(exc, None)
+
+
 def _wants_debug(argv: list[str]) -> bool:
     return "--debug" in argv or os.environ.get("FORMDB_DEBUG") == "1"
 
@@ -171,6 +181,13 @@ def main(argv: list[str] | None = None) -> None:
         click.echo("Error: interrupted.", err=True)
         sys.exit(2)
     except Exception as exc:  # a bug: still one line unless --debug
+        refused = _database_refusal(exc)
+        if refused is not None:  # a server's refusal outside a unit of work (db commands)
+            if _wants_debug(args):
+                traceback.print_exc()
+            for line in error_lines(refused):
+                click.echo(line, err=True)
+            sys.exit(refused.exit_code)
         if _wants_debug(args):
             traceback.print_exc()
         click.echo(f"Error: internal problem ({type(exc).__name__}: {exc}). "

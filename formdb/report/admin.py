@@ -97,11 +97,6 @@ def db_backed_up(report: BackupReport) -> str:
             f"{report.path}.\n")
 
 
-def db_restored(report: BackupReport) -> str:
-    return (f"Restored {sum(report.tables.values())} rows in {len(report.tables)} tables "
-            f"into {report.database} (revision {report.revision}).\n")
-
-
 def db_grants(report: GrantReport, prefix: str) -> str:
     """``db grant-setup``: the reader role, then each duty's role and the tables it writes."""
     lines = [f"Roles on {report.database}: {prefix}_reader (reads every table)."]

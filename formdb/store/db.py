@@ -280,6 +280,42 @@ def _migrate(engine: Engine, direction: str, revision: str,
         run(alembic_config(conn, script_location), revision)
 
 
+class _Rehearsed(Exception):
+    """Rolls back a rehearsed migration."""
+
+
+TableShape = dict[str, tuple[tuple[str, ...], int]]  # table -> (columns, rows)
+
+
+def table_shapes(conn: Connection) -> TableShape:
+    """Every table with its columns and row count, as one connection sees them."""
+    found: TableShape = {}
+    inspector = inspect(conn)
+    for name in inspector.get_table_names():
+        columns = tuple(c["name"] for c in inspector.get_columns(name))
+        rows = conn.execute(text(f'SELECT count(*) FROM "{name}"')).scalar_one()
+        found[name] = (columns, int(rows))
+    return found
+
+
+def rehearse(engine: Engine, direction: str, revision: str) -> tuple[TableShape, TableShape]:
+    """Run a migration in a transaction that is always rolled back: the tables before and
+    after, so a destructive command can show exactly what it would remove."""
+    from alembic import command
+
+    run = command.upgrade if direction == "upgrade" else command.downgrade
+    shapes: list[TableShape] = []
+    try:
+        with _migration_connection(engine) as conn:
+            shapes.append(table_shapes(conn))
+            run(alembic_config(conn), revision)
+            shapes.append(table_shapes(conn))
+            raise _Rehearsed
+    except _Rehearsed:
+        pass
+    return shapes[0], shapes[1]
+
+
 def upgrade_to_head(engine: Engine, script_location: Path | None = None) -> str:
     """Create or upgrade the schema to the newest revision; returns that revision."""
     _migrate(engine, "upgrade", "head", script_location)
@@ -328,12 +364,66 @@ def open_library(url: str) -> Engine:
 
 # --- unit of work -------------------------------------------------------------------------------
 
-def translate_failure(exc: BaseException, engine: Engine) -> FormdbError | None:
+# tables written by one duty only (services.admin.grants); every other table is the editor's
+_DUTY_OF_TABLE = {"formulas": "formulator", "users": "admin", "user_roles": "admin"}
+_DENIED = re.compile(r"permission denied for (table|relation|sequence|function|schema) "
+                     r"\"?([A-Za-z0-9_.]+)")
+
+
+def duty_for_table(table: str) -> str:
+    """The formdb duty whose database role writes ``table`` (see ``db grant-setup``)."""
+    if table.startswith(("review", "sign")):
+        return "reviewer"
+    return _DUTY_OF_TABLE.get(table, "editor")
+
+
+def _sqlstate(exc: BaseException) -> str | None:
+    orig = getattr(exc, "orig", None)
+    return getattr(orig, "sqlstate", None) or getattr(orig, "pgcode", None)
+
+
+def refusal_of(exc: BaseException) -> FormdbError | None:
+    """A server refusal as one clean line: a privilege error names the duty's role, a unique
+    violation (two people adding the same record at once) is a Conflict. Never the SQL, the
+    parameters or the formula text."""
+    from formdb.errors import Forbidden
+
+    state = _sqlstate(exc)
+    if state == "42501":  # insufficient_privilege
+        orig = getattr(exc, "orig", None)
+        found = _DENIED.search(str(orig or ""))
+        kind, thing = found.groups() if found else ("object", "?")
+        if kind in ("table", "relation"):
+            duty = duty_for_table(thing.split(".")[-1])
+            need = (f"that needs the role {duty} (its database role, e.g. formdb_{duty}, "
+                    "from `formdb db grant-setup`)")
+        else:
+            need = "that needs the admin role (or a formdb server function)"
+        return Forbidden(f"the database refused your login permission on {kind} {thing}: {need}.",
+                         hint="ask an admin: formdb user grant LOGIN ROLE --yes; nothing was "
+                              "changed")
+    if state == "23505":  # unique_violation
+        diag = getattr(getattr(exc, "orig", None), "diag", None)
+        table = getattr(diag, "table_name", None) or "the library"
+        return Conflict(f"someone else added the same record to {table} at the same moment; "
+                        "names there are unique.", hint="nothing was changed; look it up and "
+                        "repeat your change if it is still needed")
+    return None
+
+
+def translate_failure(exc: BaseException, engine: Engine | None) -> FormdbError | None:
     """The FormdbError a database failure that is not a bug stands for, or None."""
     if isinstance(exc, StaleDataError):
         return Conflict("someone else changed this record while you were working on it.",
                         hint="read it again and repeat your change")
-    if isinstance(exc, OperationalError):
+    refused = refusal_of(exc)
+    if refused is not None:
+        return refused
+    if isinstance(exc, OperationalError) and engine is None:
+        reason = " ".join(str(exc.orig or exc).split()).rstrip(".")
+        return ConfigError(f"the library could not be used: {reason}.",
+                           hint="try again; nothing was changed")
+    if isinstance(exc, OperationalError) and engine is not None:
         reason = " ".join(str(exc.orig or exc).split()).rstrip(".")
         return ConfigError(f"the library {display_url(engine.url)} could not be written: "
                            f"{reason}.", hint="try again; nothing was changed")

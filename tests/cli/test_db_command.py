@@ -49,7 +49,10 @@ def test_upgrade_current_downgrade_history(empty_library_url: str) -> None:
     hist = run_formdb([*db, "history"])
     assert hist.exit_code == 0
     assert f"{head}" in hist.stdout and "(current, head)" in hist.stdout
-    down = run_formdb([*db, "downgrade", "base"])
+    shown = run_formdb([*db, "downgrade", "base"])
+    assert shown.exit_code == 2 and "remove table ingredients (0 rows)" in shown.stdout
+    assert "ingredients" in _tables(empty_library_url)  # rehearsed and rolled back
+    down = run_formdb([*db, "downgrade", "base", "--yes"])
     assert down.exit_code == 0, down.stderr
     assert _tables(empty_library_url) <= {"alembic_version"}
     bad = run_formdb([*db, "downgrade", "no-such-rev"])
@@ -75,7 +78,7 @@ def test_zip_backup_restores_every_row(seeded_library_url: str, tmp_path: Path) 
     assert made.exit_code == 0, made.stderr
     assert zipfile.is_zipfile(archive)
     with _empty_target(seeded_library_url, tmp_path) as target:
-        back = run_formdb(["--db", target, "db", "restore", str(archive)])
+        back = run_formdb(["--db", target, "db", "restore", str(archive), "--yes"])
         assert back.exit_code == 0, back.stderr
         assert dump_database(target) == dump_database(seeded_library_url)
         # the id counters moved past the restored rows: the library takes new ingredients
@@ -88,7 +91,7 @@ def test_zip_backup_restores_every_row(seeded_library_url: str, tmp_path: Path) 
             engine.dispose()
         # restore fills empty databases only; the restored one is refused and left alone
         before = dump_database(target)
-        again = run_formdb(["--db", target, "db", "restore", str(archive)])
+        again = run_formdb(["--db", target, "db", "restore", str(archive), "--yes"])
         assert again.exit_code == 2 and "already holds data" in again.stderr
         assert dump_database(target) == before
 
@@ -98,7 +101,7 @@ def test_sqlite_copy_backup_round_trips(seeded_sqlite_url: str, tmp_path: Path) 
     made = run_formdb(["--db", seeded_sqlite_url, "db", "backup", str(copy)])
     assert made.exit_code == 0, made.stderr
     target = f"sqlite:///{tmp_path / 'restored.sqlite'}"
-    back = run_formdb(["--db", target, "db", "restore", str(copy)])
+    back = run_formdb(["--db", target, "db", "restore", str(copy), "--yes"])
     assert back.exit_code == 0, back.stderr
     assert dump_database(target) == dump_database(seeded_sqlite_url)
     refused = run_formdb(["--db", seeded_sqlite_url, "db", "backup", str(copy)])
@@ -113,11 +116,11 @@ def test_damaged_archive_restores_nothing(library_url: str, tmp_path: Path) -> N
     with _empty_target(library_url, tmp_path) as target:
         engine = make_engine(target)
         engine.dispose()
-        result = run_formdb(["--db", target, "db", "restore", str(archive)])
+        result = run_formdb(["--db", target, "db", "restore", str(archive), "--yes"])
         assert result.exit_code == 2
         assert result.stderr.startswith("Error: ") and "Traceback" not in result.stderr
         assert _tables(target) == set()  # not even the schema stayed behind
     garbage = tmp_path / "garbage.zip"
     garbage.write_bytes(b"PK\x03\x04 not really")
-    bad = run_formdb(["--db", library_url, "db", "restore", str(garbage)])
+    bad = run_formdb(["--db", library_url, "db", "restore", str(garbage), "--yes"])
     assert bad.exit_code == 2 and "Traceback" not in bad.stderr

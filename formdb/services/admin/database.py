@@ -19,11 +19,24 @@ from datetime import date, datetime
 from pathlib import Path
 from typing import Any
 
-from sqlalchemy import Connection, Date, DateTime, Engine, MetaData, func, insert, select, text
+from sqlalchemy import (
+    Connection,
+    Date,
+    DateTime,
+    Engine,
+    MetaData,
+    func,
+    insert,
+    inspect,
+    select,
+    text,
+)
 
-from formdb.errors import ConfigError, InvalidData
-from formdb.schemas.admin import BackupReport, RevisionInfo, Status
+from formdb.errors import ConfigError, Forbidden, InvalidData
+from formdb.schemas.admin import Action, BackupReport, Plan, RevisionInfo, Status
+from formdb.services.admin.access import require_on
 from formdb.store import db as store
+from formdb.store.sealing import SEALED_COLUMNS
 
 BACKUP_FORMAT = "formdb-backup-1"
 _BATCH = 1000
@@ -70,21 +83,124 @@ def _check_target(revision: str) -> None:
 
 
 def move(url: str, revision: str, *, down: bool) -> tuple[str | None, str | None]:
-    """Upgrade (or downgrade) the library to ``revision`` in one transaction; (before, after)."""
+    """Upgrade the library to ``revision`` in one transaction; (before, after). Downgrades
+    go through :func:`downgrade` (admin role, plan, confirmation)."""
+    if down:
+        raise ValueError("a downgrade goes through database.downgrade")
     _check_target(revision)
     engine = _engine(url)
     try:
         before = store.current_revision(engine)
-        if down:
-            if before is None:
-                raise ConfigError(f"{store.display_url(engine.url)} has no formdb schema to "
-                                  "step down from.", hint="nothing was changed")
-            store.downgrade(engine, revision)
-        else:
-            store.upgrade(engine, revision)
+        if before != revision:
+            verify_before_upgrade(engine)
+        store.upgrade(engine, revision)
         return before, store.current_revision(engine)
     finally:
         engine.dispose()
+
+
+def verify_before_upgrade(engine: Engine) -> None:
+    """Recompute the audit chains before an upgrade and stop if one is broken, so no
+    migration ever seals (launders) rows that were altered. Tables whose columns are not yet
+    those of the newest canonical form are left to the migration that converts them (it must
+    keep their hashes, as 0012 and the change-log migrations do)."""
+    from formdb.services.review.audit import verify_table
+    from formdb.store.sealing import LibrarySession
+
+    with engine.connect() as conn:
+        inspector = inspect(conn)
+        present = set(inspector.get_table_names())
+        wanted = [t for t in SEALED_COLUMNS if t in present and
+                  {*SEALED_COLUMNS[t], "row_hash"} <= {c["name"] for c in
+                                                     inspector.get_columns(t)}]
+        if not wanted:
+            return
+        with LibrarySession(bind=conn) as session:
+            reports = [verify_table(session, t) for t in wanted]
+    broken = [p for r in reports for p in r.problems if p.kind != "unsealed"]
+    if broken:
+        raise ConfigError(
+            f"the audit trail of {store.display_url(engine.url)} is broken ({broken[0].detail} "
+            f"in {broken[0].table}): the upgrade stopped, so no migration seals altered rows.",
+            hint="run `formdb audit verify`, and restore the last good backup")
+
+
+def _sealed_rows(shape: store.TableShape, engine: Engine) -> dict[str, int]:
+    """Rows of each sealed table that carry a seal (the change log may hold unsealed rows)."""
+    counts: dict[str, int] = {}
+    with engine.connect() as conn:
+        for table in SEALED_COLUMNS:
+            if table not in shape:
+                continue
+            columns, rows = shape[table]
+            if "row_hash" in columns:
+                rows = int(conn.execute(text(
+                    f'SELECT count(*) FROM "{table}" WHERE row_hash IS NOT NULL')).scalar_one())
+            if rows:
+                counts[table] = rows
+    return counts
+
+
+def downgrade(url: str, revision: str, *, user: str, confirm: bool,
+              discard_sealed_history: bool = False, backup_to: Path | None = None) -> Plan:
+    """Step the schema down to ``revision``: admin only, planned first, confirmed.
+
+    The plan comes from rehearsing the downgrade in a transaction that is rolled back, so it
+    names every table and column that would go with its row count. A downgrade that would
+    remove sealed audit rows (the change log's seals, review runs, signatures) is refused
+    while they exist, unless ``discard_sealed_history`` is given together with ``backup_to``:
+    then a full backup is written first, and the downgrade runs only once it is complete."""
+    _check_target(revision)
+    engine = _engine(url)
+    try:
+        before = store.current_revision(engine)
+        shown = store.display_url(engine.url)
+        if before is None:
+            raise ConfigError(f"{shown} has no formdb schema to step down from.",
+                              hint="nothing was changed")
+        require_on(engine, user, Action.DOWNGRADE)
+        old, new = store.rehearse(engine, "downgrade", revision)
+        changes = _shape_changes(old, new)
+        sealed = _sealed_rows(old, engine)
+        lost = {t: n for t, n in sealed.items()
+                if t not in new or "row_hash" not in new[t][0] or new[t][1] < old[t][1]}
+        if lost:
+            what = ", ".join(f"{n} sealed rows of {t}" for t, n in lost.items())
+            if not (discard_sealed_history and backup_to is not None):
+                raise Forbidden(
+                    f"downgrading {shown} to {revision} would destroy {what}: refused while "
+                    "sealed audit records exist.",
+                    hint="if the history must go, an admin adds --discard-sealed-history "
+                         "--backup PATH.zip (the backup is written first)")
+            changes.insert(0, f"discard {what} (written to {backup_to} first)")
+        elif backup_to is not None:
+            changes.insert(0, f"back up the library to {backup_to} first")
+        action = f"downgrade {shown} from {before} to {revision}"
+        if not confirm:
+            return Plan(action, tuple(changes), False)
+        if backup_to is not None:
+            backup(url, backup_to)
+        store.downgrade(engine, revision)
+        return Plan(action, tuple(changes), True)
+    finally:
+        engine.dispose()
+
+
+def _shape_changes(old: store.TableShape, new: store.TableShape) -> list[str]:
+    lines: list[str] = []
+    for table, (columns, rows) in sorted(old.items()):
+        if table == "alembic_version":
+            continue
+        if table not in new:
+            lines.append(f"remove table {table} ({rows} rows)")
+            continue
+        gone = [c for c in columns if c not in new[table][0]]
+        if gone:
+            lines.append(f"remove from {table} the columns {', '.join(gone)} ({rows} rows)")
+        if new[table][1] != rows:
+            lines.append(f"{table}: {rows} rows -> {new[table][1]}")
+    lines += [f"create table {table}" for table in sorted(set(new) - set(old))]
+    return lines or ["change the recorded revision only (no table or column goes)"]
 
 
 # --- backup -------------------------------------------------------------------------------------
@@ -234,46 +350,128 @@ def _reset_sequences(conn: Connection, meta: MetaData) -> None:
                                   f'FROM "{table.name}"), 0) + 1, false)'), {"s": seq})
 
 
-def restore(url: str, path: Path) -> BackupReport:
-    """Fill an empty database from a backup made by :func:`backup`, all or nothing."""
+class _RollBack(Exception):
+    """Ends an unconfirmed restore: every loaded row is rolled back."""
+
+
+def _audit_restored(conn: Connection) -> list[str]:
+    """Problems of the restored chains (first per table), ready to show; [] when intact.
+    A table whose columns are not those of this formdb's canonical form is named as not
+    verifiable."""
+    from formdb.services.review.audit import verify_table
+    from formdb.store.sealing import LibrarySession
+
+    inspector = inspect(conn)
+    found: list[str] = []
+    with LibrarySession(bind=conn) as session:
+        for table in SEALED_COLUMNS:
+            if table not in inspector.get_table_names():
+                continue
+            columns = {c["name"] for c in inspector.get_columns(table)}
+            if not {*SEALED_COLUMNS[table], "row_hash"} <= columns:
+                continue  # an older form: its migration keeps the hashes (see upgrade)
+            report = verify_table(session, table)
+            if report.problems:
+                more = len(report.problems) - 1 + report.more_problems
+                found.append(f"{table}: {report.problems[0].detail}"
+                             + (f" (and {more} more problems)" if more else ""))
+    return found
+
+
+def _restorer_may(conn: Connection, user: str) -> None:
+    """Only an admin of the library in the archive (or anyone, if it is still open) may
+    restore it: the archive's users decide, as the target database is empty."""
+    from formdb.services.admin.access import is_open, roles_of
+    from formdb.store.sealing import LibrarySession
+
+    if "users" not in inspect(conn).get_table_names():
+        return
+    with LibrarySession(bind=conn) as session:
+        if is_open(session) or "admin" in roles_of(session, user):
+            return
+    raise Forbidden(f"{user} may not restore a backup: that needs the role admin (in the "
+                    "library the backup holds).",
+                    hint="ask one of the backup's admins to restore it")
+
+
+def restore(url: str, path: Path, *, user: str, confirm: bool = True,
+            accept_broken_chains: bool = False) -> Plan:
+    """Fill an empty database from a backup made by :func:`backup`, all or nothing.
+
+    Admin only (of the library in the archive); the chains of the change log and review
+    records are verified before anything is kept, and a broken or forged archive is refused
+    unless ``accept_broken_chains``. Unconfirmed, the whole restore runs and is rolled back,
+    and the plan says what it would restore."""
     if not path.is_file():
         raise ConfigError(f"no backup file {path}.", hint="give the file `formdb db backup` wrote")
     if not zipfile.is_zipfile(path):
-        return _restore_sqlite_copy(url, path)
+        return _restore_sqlite_copy(url, path, user=user, confirm=confirm,
+                                    accept_broken_chains=accept_broken_chains)
     engine = store.make_engine(url)
     shown = store.display_url(engine.url)
+    plan: Plan | None = None
     try:
         with zipfile.ZipFile(path) as archive:
             manifest = _read_manifest(archive, path)
             revision = manifest["revision"]
             _check_target(revision)
             counts: dict[str, int] = {}
-            with engine.connect() as conn, conn.begin():
-                current = _refuse_non_empty(conn, shown)
-                if current is None:
-                    from alembic import command
+            try:
+                with engine.connect() as conn, conn.begin():
+                    current = _refuse_non_empty(conn, shown)
+                    if current is None:
+                        from alembic import command
 
-                    command.upgrade(store.alembic_config(conn), revision)
-                elif current != revision:
-                    raise ConfigError(f"{shown} is at revision {current}; the backup is at "
-                                      f"{revision}.", hint="restore into a new, empty database")
-                meta = MetaData()
-                meta.reflect(conn)
-                for name in manifest["tables"]:
-                    if name == "alembic_version":
-                        continue
-                    if name not in meta.tables:
-                        raise InvalidData(f"{path}: table {name} is not in the schema at "
-                                          f"revision {revision}.", hint="nothing was restored")
-                    counts[name] = _load_table(conn, meta, name, archive, path)
-                if engine.dialect.name == "postgresql":
-                    _reset_sequences(conn, meta)
-            return BackupReport(shown, path, revision, counts)
+                        command.upgrade(store.alembic_config(conn), revision)
+                    elif current != revision:
+                        raise ConfigError(f"{shown} is at revision {current}; the backup is at "
+                                          f"{revision}.",
+                                          hint="restore into a new, empty database")
+                    meta = MetaData()
+                    meta.reflect(conn)
+                    for name in manifest["tables"]:
+                        if name == "alembic_version":
+                            continue
+                        if name not in meta.tables:
+                            raise InvalidData(f"{path}: table {name} is not in the schema at "
+                                              f"revision {revision}.",
+                                              hint="nothing was restored")
+                        counts[name] = _load_table(conn, meta, name, archive, path)
+                    if engine.dialect.name == "postgresql":
+                        _reset_sequences(conn, meta)
+                    plan = _restore_plan(conn, shown, path, revision, counts, user, confirm,
+                                         accept_broken_chains)
+                    if not plan.done:
+                        raise _RollBack
+            except _RollBack:
+                pass
+            assert plan is not None
+            return plan
     except zipfile.BadZipFile as exc:
         raise InvalidData(f"{path}: the archive is damaged ({exc}).",
                           hint="nothing was restored") from exc
     finally:
         engine.dispose()
+
+
+def _restore_plan(conn: Connection, shown: str, path: Path, revision: str | None,
+                  counts: dict[str, int], user: str, confirm: bool,
+                  accept_broken_chains: bool) -> Plan:
+    """Check who restores and the chains of what was loaded; the plan (done = confirm)."""
+    _restorer_may(conn, user)
+    broken = _audit_restored(conn)
+    if broken and not accept_broken_chains:
+        raise InvalidData.of(
+            [f"{path}: the audit trail in the backup is broken or forged: {line}"
+             for line in broken],
+            hint="nothing was restored; restore an earlier backup, or add "
+                 "--accept-broken-chains to restore it as it is (audit verify will report it)")
+    changes = [f"restore {sum(counts.values())} rows in {len(counts)} tables at revision "
+               f"{revision} into {shown}"]
+    changes += [f"{table}: {rows} rows" for table, rows in counts.items() if rows]
+    changes += ([f"audit chains broken, restored as they are: {line}" for line in broken]
+                or ["audit chains verified: intact"])
+    return Plan(f"restore {path.name}", tuple(changes), confirm)
 
 
 def _load_table(conn: Connection, meta: MetaData, name: str, archive: zipfile.ZipFile,
@@ -298,7 +496,8 @@ def _load_table(conn: Connection, meta: MetaData, name: str, archive: zipfile.Zi
     return n
 
 
-def _restore_sqlite_copy(url: str, path: Path) -> BackupReport:
+def _restore_sqlite_copy(url: str, path: Path, *, user: str, confirm: bool,
+                         accept_broken_chains: bool) -> Plan:
     target = store.sqlite_path(url)
     if target is None:
         raise ConfigError(f"{path} is a SQLite copy; it restores into a SQLite library only.",
@@ -317,6 +516,25 @@ def _restore_sqlite_copy(url: str, path: Path) -> BackupReport:
             _refuse_non_empty(conn, shown)
     finally:
         engine.dispose()
+    # check the copy read-only, through its own engine on a throwaway duplicate (opening a
+    # SQLite file with formdb's settings may write its journal mode)
+    import shutil
+    import tempfile
+
+    with tempfile.TemporaryDirectory() as scratch:
+        probe = Path(scratch) / "probe.sqlite"
+        shutil.copyfile(path, probe)
+        source = store.make_engine(str(probe), must_exist=True)
+        try:
+            with source.connect() as conn:
+                counts = {name: rows for name, (_c, rows) in store.table_shapes(conn).items()
+                          if name != "alembic_version"}
+                plan = _restore_plan(conn, shown, path, revision, counts, user, confirm,
+                                     accept_broken_chains)
+        finally:
+            source.dispose()
+    if not plan.done:
+        return plan
     src = sqlite3.connect(f"file:{path}?mode=ro", uri=True)
     dst = sqlite3.connect(target)
     try:
@@ -324,4 +542,4 @@ def _restore_sqlite_copy(url: str, path: Path) -> BackupReport:
     finally:
         src.close()
         dst.close()
-    return BackupReport(shown, path, revision, _counts(url))
+    return plan

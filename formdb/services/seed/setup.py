@@ -28,6 +28,7 @@ from formdb.errors import ConfigError, SchemaOutdated
 from formdb.resources import seed_data_dir
 from formdb.schemas.admin import Action, InitReport, TableCounts
 from formdb.services.admin.access import require_on
+from formdb.services.admin.database import verify_before_upgrade
 from formdb.services.library.ingredients import SPECIAL_SOURCES
 from formdb.services.seed import safety as seed_safety
 from formdb.services.seed import tables as seed_tables
@@ -96,6 +97,8 @@ def init_library(url: str, *, seed: bool, user: str | None = None,
         reseed = seed and before is not None
         if reseed:
             require_on(engine, user, Action.RESEED)
+        if before is not None and before != head_revision():
+            verify_before_upgrade(engine)
         try:
             with upgraded_unit_of_work(engine) as session:
                 seeded, left = (seed_library(session, user=user, seed_dir=seed_dir,
