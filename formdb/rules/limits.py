@@ -16,6 +16,7 @@ from typing import Any, ClassVar
 from formdb.facts.composition import substance_formula
 from formdb.rules.base import Option, Rule
 from formdb.rules.registry import register
+from formdb.rules.scoping import line_purpose
 from formdb.schemas.findings import Finding
 from formdb.schemas.formula import ResolvedFormula, ResolvedLine
 from formdb.schemas.ingredient import IngredientRecord, name_key
@@ -144,6 +145,26 @@ def _amount(row: LimitRecord, line: ResolvedLine, reference: ReferenceData,
     return _Amount(line, acid_mass / salt_mass)
 
 
+def purpose_fits(row_purpose: str, purpose: str | None) -> bool | None:
+    """Whether a row bound to preservative (or any other) use applies to ``purpose``."""
+    if purpose is None:
+        return None
+    return (purpose == "preservative") == (row_purpose == "preservative")
+
+
+def _as_reading(finding: Finding, row: LimitRecord) -> Finding:
+    """A finding of a row bound to one use, for a line whose purpose the formula does not say:
+    a warning that names the reading, not an error."""
+    if finding.severity is not Severity.ERROR:
+        return finding
+    reading = "if used as a preservative" if row.purpose == "preservative" else \
+        "if used for a purpose other than preserving"
+    return finding.model_copy(update={
+        "severity": Severity.WARNING, "message": f"{reading}: {finding.message}",
+        "advice": f"declare the line's purpose (purpose = \"preservative\" or another); "
+                  f"{finding.advice}"})
+
+
 def _scope(row: LimitRecord) -> str:
     if row.product:
         return row.product
@@ -202,16 +223,24 @@ class ConcentrationLimit(Rule):
         formula = substance_formula(formula, reference)  # limits apply to constituents too
         for row in applicable_rows(reference, formula, jurisdiction):
             present = lines_in(row, formula)
+            undecided: set[str] = set()
+            if row.purpose:  # the row binds one use: lines declared for another one are out
+                fits = {ln.inci: purpose_fits(row.purpose, line_purpose(ln, ln.ingredient)[0])
+                        for ln in present}
+                present = [ln for ln in present if fits[ln.inci] is not False]
+                undecided = {name for name, fit in fits.items() if fit is None}
             if not present:
                 continue
             amounts = [_amount(row, ln, reference, formula) for ln in present]
             if row.max_percent <= 0:
-                yield self._forbidden(row, present, formula)
+                found: Iterable[Finding] = [self._forbidden(row, present, formula)]
             elif row.aggregate == "sum":
-                yield from self._sum(row, amounts)
+                found = self._sum(row, amounts)
             else:
-                for amount in amounts:
-                    yield from self._each(row, amount)
+                found = [f for amount in amounts for f in self._each(row, amount)]
+            for finding in found:
+                yield _as_reading(finding, row) if undecided & set(finding.ingredients) \
+                    else finding
 
     def _forbidden(self, row: LimitRecord, present: list[ResolvedLine],
                    formula: ResolvedFormula) -> Finding:

@@ -40,6 +40,8 @@ class LimitRecord(BaseModel):
     conditions: str | None = None
     source: str
     list_date: date
+    # preservative: binds preservative use only; not-preservative: binds every other use
+    purpose: str | None = None
 
 
 class Incompatibility(BaseModel):

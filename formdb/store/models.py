@@ -186,6 +186,7 @@ class LimitEntry(Base):
     conditions: Mapped[str | None] = mapped_column(Text)
     source_key: Mapped[str] = mapped_column(ForeignKey("sources.key"))
     list_date: Mapped[date] = mapped_column(Date)
+    purpose: Mapped[str | None] = mapped_column(String(20))  # preservative | not-preservative
 
 
 class IncompatibilityEntry(Base):

@@ -192,7 +192,7 @@ def limit_record(row: LimitEntry) -> LimitRecord:
         ingredients=split_list(row.ingredients), category=row.category, product=row.product,
         max_percent=row.max_percent, aggregate=row.aggregate, basis=row.basis,
         acid_inci=row.acid_inci, excludes=split_list(row.excludes), conditions=row.conditions,
-        source=row.source_key, list_date=row.list_date)
+        source=row.source_key, list_date=row.list_date, purpose=row.purpose)
 
 
 def incompatibility_record(row: IncompatibilityEntry) -> Incompatibility:

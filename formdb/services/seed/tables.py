@@ -236,7 +236,7 @@ def source_values(row: SourceRow) -> dict[str, Any]:
 
 LIMIT_COLUMNS = ("key", "jurisdiction", "list_name", "entry", "ingredients", "category",
                  "product", "max_percent", "aggregate", "basis", "acid_inci", "excludes",
-                 "conditions", "source", "list_date")
+                 "conditions", "source", "list_date", "purpose")
 LIMIT_REQUIRED = ("key", "jurisdiction", "list_name", "entry", "ingredients", "category",
                   "max_percent", "source", "list_date")
 
@@ -261,6 +261,8 @@ class LimitRow(_Row):
     aggregate: Literal["each", "sum"] = "each"
     basis: Literal["as-is", "as-acid"] = "as-is"
     acid_inci: str | None = Field(None, max_length=200)
+    # preservative: the row binds preservative use only; not-preservative: any other use
+    purpose: Literal["preservative", "not-preservative"] | None = None
     excludes: tuple[str, ...] = ()
     conditions: str | None = None
     source: str
@@ -308,7 +310,8 @@ def read_limits(file: Path, label: str, known_sources: set[str]) -> Rows:
             "aggregate": row.aggregate, "basis": row.basis,
             "acid_inci": normalise_inci(row.acid_inci) if row.acid_inci else None,
             "excludes": "; ".join(row.excludes) or None, "conditions": row.conditions,
-            "source_key": row.source, "list_date": row.list_date} for row in parsed)
+            "source_key": row.source, "list_date": row.list_date, "purpose": row.purpose}
+        for row in parsed)
     return out
 
 

@@ -1,0 +1,36 @@
+"""LIM01 on the seed's hand-written rows (no export imported): rows bound to preservative use
+(Annex V) or to other uses ("for purposes other than inhibiting the development of
+micro-organisms", Annex III/98 salicylic acid, Reg. (EU) 2019/1966; III/286 cetrimonium chloride,
+Reg. (EU) No 866/2014) apply by the line's purpose."""
+
+from __future__ import annotations
+
+from formdb import api
+from formdb.schemas.findings import Finding
+from tests.libraries import opened
+
+
+def _lim01(url: str, purpose: str | None, percent: float = 1.5) -> list[Finding]:
+    said = f'\npurpose = "{purpose}"' if purpose else ""
+    text = (f'name = "Larkspur clarifying cream"\ncategory = "leave-on"\nproduct = "face cream"\n\n'
+            f'[[ingredients]]\ninci = "Aqua"\npercent = {100 - percent}\n\n'
+            f'[[ingredients]]\ninci = "Salicylic Acid"\npercent = {percent}{said}\n')
+    return [f for f in api.check(opened(url), text).findings if f.rule == "LIM01"]
+
+
+def test_keratolytic_use_is_judged_by_iii_98(seeded_sqlite_url: str) -> None:
+    """1.5 % salicylic acid as an active in a face cream: III/98 'other products' 2.0 % holds;
+    the preservative entry V/3 (0.5 %) does not apply."""
+    assert _lim01(seeded_sqlite_url, "active") == []
+
+
+def test_preservative_use_is_judged_by_v_3(seeded_sqlite_url: str) -> None:
+    [finding] = _lim01(seeded_sqlite_url, "preservative")
+    assert finding.severity.value == "error" and finding.values["entry"] == "V/3"
+
+
+def test_undeclared_purpose_names_the_reading(seeded_sqlite_url: str) -> None:
+    [finding] = _lim01(seeded_sqlite_url, None)
+    assert finding.severity.value == "warning"
+    assert finding.message.startswith("if used as a preservative:")
+    assert "purpose" in (finding.advice or "")
