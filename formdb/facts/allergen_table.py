@@ -73,9 +73,13 @@ def allergen_table(formula: ResolvedFormula, reference: ReferenceData,
                   for name, total, sources in totals.values())
     entry = row.entry
     if extended:
-        entry = (f"{entry}, extended by Reg. {ALLERGEN_EXTENSION_ACT} (placing from "
-                 f"{ALLERGEN_EXTENSION_PLACING:%d/%m/%Y}; the formula's placing date "
-                 f"{placed:%d/%m/%Y})")
+        if ALLERGEN_EXTENSION_ACT not in entry:
+            entry += f", extended by Reg. {ALLERGEN_EXTENSION_ACT}"
+        else:
+            entry = entry.replace(ALLERGEN_EXTENSION_ACT, f"extended by Reg. "
+                                  f"{ALLERGEN_EXTENSION_ACT}")
+        entry += (f" (the added allergens bind products placed from "
+                  f"{ALLERGEN_EXTENSION_PLACING:%d/%m/%Y}; placing date {placed:%d/%m/%Y})")
     return AllergenFacts(
         jurisdiction=row.jurisdiction, category=category, threshold_percent=row.threshold_percent,
         entry=entry, list_name=row.list_name, label_rule=row.label_rule, source=row.source,
