@@ -83,9 +83,9 @@ def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
         required_hlb_ow=rhlb_ow, required_hlb_wo=rhlb_wo,
         working_type=kind.working, working_type_source=kind.source,
         required_hlb=required,
-        target_low=(_chosen_low(kind.working, rhlb_ow, required) - tol
+        target_low=(_chosen_low(kind.working, rhlb_ow, rhlb_wo, required) - tol
                     if required is not None else None),
-        target_high=(_chosen_high(kind.working, rhlb_ow, required) + tol
+        target_high=(_chosen_high(kind.working, rhlb_ow, rhlb_wo, required) + tol
                      if required is not None else None),
         blend_solution=solution,
         water_side_emulsifier_percent=kind.water_side, oil_side_emulsifier_percent=kind.oil_side,
@@ -110,16 +110,19 @@ def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
         notes=tuple(work.notes))
 
 
+def _chosen(working: EmulsionType | None, rhlb_ow: RequiredHlbFacts,
+            rhlb_wo: RequiredHlbFacts) -> RequiredHlbFacts | None:
+    return rhlb_ow if working == EmulsionType.OW else rhlb_wo if working else None
+
+
 def _chosen_low(working: EmulsionType | None, rhlb_ow: RequiredHlbFacts,
-                required: float) -> float:
-    """The low end of the required HLB where sources disagree (O/W), else the value."""
-    if working == EmulsionType.OW and rhlb_ow.low is not None:
-        return min(rhlb_ow.low, required)
-    return required
+                rhlb_wo: RequiredHlbFacts, required: float) -> float:
+    """The low end of the required HLB where sources disagree, else the value."""
+    chosen = _chosen(working, rhlb_ow, rhlb_wo)
+    return min(chosen.low, required) if chosen and chosen.low is not None else required
 
 
 def _chosen_high(working: EmulsionType | None, rhlb_ow: RequiredHlbFacts,
-                 required: float) -> float:
-    if working == EmulsionType.OW and rhlb_ow.high is not None:
-        return max(rhlb_ow.high, required)
-    return required
+                 rhlb_wo: RequiredHlbFacts, required: float) -> float:
+    chosen = _chosen(working, rhlb_ow, rhlb_wo)
+    return max(chosen.high, required) if chosen and chosen.high is not None else required

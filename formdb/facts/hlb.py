@@ -139,8 +139,9 @@ def required(formula: ResolvedFormula, lines: list[LineFacts], kind: EmulsionTyp
                       "glyceryl monostearate)")
         parts.append((lf.remaining_percent, value))
         names.append(ing.inci_name)
-        low = ing.p.required_hlb_ow_low if kind == EmulsionType.OW else None
-        high = ing.p.required_hlb_ow_high if kind == EmulsionType.OW else None
+        low, high = ((ing.p.required_hlb_ow_low, ing.p.required_hlb_ow_high)
+                     if kind == EmulsionType.OW else
+                     (ing.p.required_hlb_wo_low, ing.p.required_hlb_wo_high))
         ranged = ranged or (value is not None and (low is not None or high is not None))
         lows.append((lf.remaining_percent, None if value is None else min(value, low or value)))
         highs.append((lf.remaining_percent, None if value is None else max(value, high or value)))

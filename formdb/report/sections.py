@@ -158,7 +158,8 @@ def _band_lines(facts: FormulaFacts) -> list[Line]:
         return []
     tol = facts.settings.hlb_tolerance
     kind = facts.working_type.value if facts.working_type else ""
-    req = facts.required_hlb_ow if facts.working_type == EmulsionType.OW else None
+    req = (facts.required_hlb_ow if facts.working_type == EmulsionType.OW
+           else facts.required_hlb_wo)
     span = (f"; sources range {n.hlb(req.low)} to {n.hlb(req.high)}"
             if req is not None and req.low is not None and req.high is not None else "")
     out = [Line("Target band", f"{n.hlb(facts.target_low)} to {n.hlb(facts.target_high)} "

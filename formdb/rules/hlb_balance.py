@@ -38,9 +38,9 @@ class HlbBalance(Rule):
     No verdict and no ratio advice when the required HLB covers less than
     [facts] min_required_hlb_coverage (0.8) of the oil phase or the Griffin members less than
     min_blend_hlb_coverage (0.8) of the emulsifier system (the data gap is reported instead).
-    Where sources disagree on an oil's required HLB (O/W; required_hlb_ow_low/high in the
-    library), the band runs from the weight-averaged low end to the high end, plus or minus
-    the tolerance.
+    Where sources disagree on an oil's required HLB (required_hlb_ow_low/high and
+    required_hlb_wo_low/high in the library), the band runs from the weight-averaged low end
+    to the high end, plus or minus the tolerance.
     An info when the system is led by ionic members (soaps, ionic surfactants on Davies' scale):
     their values are not averaged with Griffin's, and no HLB balance is judged for them.
     Judges emulsions only (facts.kind): not soap creams, surfactant solutions, gels or

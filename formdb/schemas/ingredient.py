@@ -59,6 +59,12 @@ class IngredientProperties(BaseModel):
     required_hlb_ow_high: float | None = Field(
         None, ge=0, le=20, json_schema_extra=_unit(""),
         description="highest required HLB (O/W) the sources give, where they disagree")
+    required_hlb_wo_low: float | None = Field(
+        None, ge=0, le=20, json_schema_extra=_unit(""),
+        description="lowest required HLB (W/O) the sources give, where they disagree")
+    required_hlb_wo_high: float | None = Field(
+        None, ge=0, le=20, json_schema_extra=_unit(""),
+        description="highest required HLB (W/O) the sources give, where they disagree")
     solubility: Solubility | None = Field(
         None, description="where it dissolves: water, oil, dispersible (in water), insoluble")
     ionic_character: IonicCharacter | None = Field(

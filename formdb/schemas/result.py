@@ -152,7 +152,7 @@ class RequiredHlbFacts(_Frozen):
     covered_percent: float  # mass of oil-phase ingredients that had a value
     members_percent: float  # mass of all ingredients counted in the oil phase's need
     missing: tuple[str, ...] = ()  # counted ingredients without a value for this type
-    # where sources disagree (O/W): the weight average of each member's lowest and highest value
+    # where sources disagree: the weight average of each member's lowest and highest value
     # (a member without a range counts at its value); None when no member has a range
     low: float | None = None
     high: float | None = None

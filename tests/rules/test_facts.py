@@ -265,3 +265,20 @@ def test_a_cleanser_is_a_surfactant_solution_with_no_type() -> None:
     assert facts.kind.kind == "surfactant solution"
     assert facts.predicted_type is None and facts.type_decision is None
     assert facts.dispersed_fraction is None and facts.creaming is None
+
+
+def test_a_wo_range_widens_the_wo_band() -> None:
+    # mineral oil W/O: 4 in a supplier booklet, 5-6 in some tables (science.md section 4); a
+    # hand-made record with that range, sorbitan oleate alone (4.3) as a W/O emulsifier
+    mini = formula("wo range", [("Water", 40.0), ("Paraffinum Liquidum", 55.0),
+                                ("Sorbitan Oleate", 5.0)], intended_type="W/O")
+    oil = mini.lines[1]
+    ranged = oil.ingredient.model_copy(update={"properties": oil.ingredient.properties.model_copy(
+        update={"required_hlb_wo_low": 4.0, "required_hlb_wo_high": 6.0})})
+    lines = (mini.lines[0], ResolvedLine(**{**oil.model_dump(), "ingredient": ranged}),
+             mini.lines[2])
+    facts = compute_facts(ResolvedFormula(source=mini.source, formula=mini.formula, lines=lines,
+                                          content_hash=mini.content_hash), reference())
+    assert facts.required_hlb_wo.low == pytest.approx(4.0)
+    assert facts.required_hlb_wo.high == pytest.approx(6.0)
+    assert facts.target_high == pytest.approx(6.0 + facts.settings.hlb_tolerance)
