@@ -34,3 +34,19 @@ def test_undeclared_purpose_names_the_reading(seeded_sqlite_url: str) -> None:
     assert finding.severity.value == "warning"
     assert finding.message.startswith("if used as a preservative:")
     assert "purpose" in (finding.advice or "")
+
+
+def test_cetrimonium_chloride_in_body_lotion_on_the_seed(seeded_sqlite_url: str) -> None:
+    """III/286 (Reg. (EU) No 866/2014) does not cover body lotion: 1 % conditioning use is not
+    allowed; with no purpose declared the finding names the reading (a warning)."""
+    def lim01(purpose: str | None) -> list[Finding]:
+        said = f'\npurpose = "{purpose}"' if purpose else ""
+        text = ('name = "Larkspur conditioning lotion"\ncategory = "leave-on"\n'
+                'product = "body lotion"\n\n[[ingredients]]\ninci = "Aqua"\npercent = 99.0\n\n'
+                f'[[ingredients]]\ninci = "Cetrimonium Chloride"\npercent = 1.0{said}\n')
+        return [f for f in api.check(opened(seeded_sqlite_url), text).findings
+                if f.rule == "LIM01" and f.values["entry"] == "III/286"]
+    [declared] = lim01("conditioning")
+    assert declared.severity.value == "error" and "not allowed in body lotion" in declared.message
+    [unsaid] = lim01(None)
+    assert unsaid.severity.value == "warning"

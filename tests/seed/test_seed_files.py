@@ -32,7 +32,7 @@ INGREDIENT_FIXED = ["inci_name", "synonyms", "cas", "roles", "classes"]
 ROW_COUNTS = {
     "sources.csv": 50,
     "ingredients.csv": 111,
-    "limits.csv": 36,
+    "limits.csv": 52,
     "incompatibilities.csv": 15,
     "soap_pairs.csv": 8,
 }
