@@ -41,8 +41,11 @@ def grams(value: float, resolution: float) -> str:
 
 
 def signed(value: float, resolution: float) -> str:
+    """A rounding with its sign; one that shows as zero at this precision reads ±0."""
     text = grams(abs(value), resolution / 10)
-    return ("+" if value > 0 else "−" if value < 0 else "±") + text
+    if float(text.replace(",", "")) == 0:
+        return "±" + text
+    return ("+" if value > 0 else "−") + text
 
 
 def step_words(step: StepView) -> str:

@@ -77,3 +77,4 @@ def test_rounding_stays_within_half_a_step_and_reads_whole_steps(mass: float) ->
     step = w.balance.resolution_g
     assert abs(w.weighed_g - mass) <= step / 2 + 1e-9
     assert math.isclose(w.weighed_g / step, round(w.weighed_g / step), abs_tol=1e-6)
+
