@@ -16,7 +16,8 @@ if TYPE_CHECKING:
 
 
 @click.command("batch")
-@click.argument("file", type=click.Path(path_type=Path))
+@click.argument("file", type=click.Path(path_type=Path), required=False)
+@click.option("--stored", help="Use the formula stored in the library under this name.")
 @click.option("--kg", "batch_kg", type=float, help="Batch size in kg (default: the file's "
               "batch_kg).")
 @click.option("--evaporation-percent", type=float, default=0.0, show_default=True,
@@ -28,11 +29,13 @@ if TYPE_CHECKING:
               help="Output format (default: from --out's extension, else text).")
 @click.option("--out", type=click.Path(path_type=Path), help="Write the sheet to this file.")
 @with_library
-def batch_cmd(app: AppContext, library: Library, file: Path, batch_kg: float | None,
+def batch_cmd(app: AppContext, library: Library, file: Path | None, stored: str | None,
+              batch_kg: float | None,
               evaporation_percent: float, balances: tuple[str, ...], fmt: str | None,
               out: Path | None) -> None:
-    """A weigh sheet for a batch of formula FILE: lines scaled, rounded per balance, grouped
-    by phase in process order, the total checked, the cost from the library's prices."""
+    """A weigh sheet for a batch of formula FILE (or --stored NAME): lines scaled, rounded per
+    balance, grouped by phase in process order, the total checked, the cost from the
+    library's prices."""
     from formdb.errors import InvalidData
     from formdb.report.files import write_report
     from formdb.report.weigh_sheet import format_for, render_sheet
@@ -44,7 +47,7 @@ def batch_cmd(app: AppContext, library: Library, file: Path, batch_kg: float | N
         raise InvalidData("--format xlsx needs --out FILE.xlsx (a workbook is not text)")
     bench = tuple(parse_balance(b) for b in balances) or DEFAULT_BALANCES
     sheet = weigh_sheet_for_file(library, file, batch_kg, balances=bench,
-                                 evaporation_percent=evaporation_percent)
+                                 evaporation_percent=evaporation_percent, stored=stored)
     rendered = render_sheet(sheet, chosen)
     if out is None:
         assert isinstance(rendered, str)

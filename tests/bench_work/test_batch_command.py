@@ -170,3 +170,17 @@ def test_bad_prices_are_refused_and_nothing_is_written(seeded_library_url: str,
     assert result.exit_code == 2 and message in result.stderr
     assert result.stderr.count("Error:") == 1
     assert dump_database(seeded_library_url) == before
+
+
+def test_a_stored_formula_gets_its_sheet_too(seeded_library_url: str) -> None:
+    url = seeded_library_url
+    assert run_formdb(["--db", url, "formula", "import", str(CREAM)]).exit_code == 0
+    stored = run_formdb(["--db", url, "batch", "--stored", "Larkspur bench cream, draft 4",
+                         "--format", "csv"])
+    assert stored.exit_code == 0, stored.stderr
+    from_file = _batch(url, "--format", "csv")  # the file's own batch_kg, 20
+    assert stored.stdout == from_file.stdout
+    neither = run_formdb(["--db", url, "batch"])
+    assert neither.exit_code == 2 and "give a formula FILE or --stored NAME" in neither.stderr
+    unknown = run_formdb(["--db", url, "batch", "--stored", "No such cream"])
+    assert unknown.exit_code == 2 and "no stored formula named" in unknown.stderr

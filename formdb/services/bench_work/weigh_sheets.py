@@ -27,7 +27,7 @@ from formdb.schemas.formula import FormulaLine, ProcessStep, ResolvedFormula, Re
 from formdb.schemas.reference import ReferenceData
 from formdb.schemas.vocab import Role
 from formdb.science.weighing import DEFAULT_BALANCES, Balance, rounding_bound_g, weigh
-from formdb.services.checking.flow import read_inputs, resolve_all
+from formdb.services.checking.flow import input_from_text, read_inputs, resolve_all
 from formdb.store import queries
 from formdb.store.library import Library
 
@@ -179,18 +179,26 @@ def build_sheet(formula: ResolvedFormula, reference: ReferenceData, batch_kg: fl
         made_at=made_at or datetime.now(UTC), notes=tuple(notes))
 
 
-def weigh_sheet_for_file(library: Library, path: Path, batch_kg: float | None, *,
+def weigh_sheet_for_file(library: Library, path: Path | None, batch_kg: float | None, *,
                          balances: tuple[Balance, ...] = DEFAULT_BALANCES,
-                         evaporation_percent: float = 0.0) -> WeighSheet:
-    """Read the formula file, resolve it in the library, load prices, build the sheet. The
-    batch size comes from ``batch_kg`` or else the file's ``batch_kg``."""
+                         evaporation_percent: float = 0.0,
+                         stored: str | None = None) -> WeighSheet:
+    """Read the formula file (or the stored formula named ``stored``), resolve it in the
+    library, load prices, build the sheet. The batch size comes from ``batch_kg`` or else the
+    formula's ``batch_kg``. One read unit: the formula, its ingredients and prices agree."""
     from formdb.services.bench_work.prices import prices_for
+    from formdb.services.library.formulas import formula_text
 
-    item = read_inputs([path])[0]
-    size = batch_kg if batch_kg is not None else item.formula.batch_kg
-    if size is None:
-        raise InvalidData(f"{path}: no batch size (give --kg, or batch_kg in the file)")
+    if (path is None) == (stored is None):
+        raise InvalidData("give a formula FILE or --stored NAME (one of them)")
+    item = read_inputs([path])[0] if path is not None else None  # a bad file before the library
     with library.read() as session:
+        if item is None:
+            item = input_from_text(formula_text(library, str(stored)), f"stored:{stored}")
+        size = batch_kg if batch_kg is not None else item.formula.batch_kg
+        if size is None:
+            raise InvalidData(f"{item.label}: no batch size (give --kg, or batch_kg in the "
+                              "formula)")
         reference = queries.load_reference_data(session)
         formula = resolve_all(session, [item])[0]
         prices = prices_for(session, {line.inci for line in formula.lines})
