@@ -353,13 +353,16 @@ def _newer_vi(text: str) -> str:
 def test_update_makes_signed_runs_stale_and_names_the_entry(tmp_path: Path,
                                                             seeded_sqlite_url: str) -> None:
     from formdb.services.review.runs import review_status, run_review, sign_run
+    from tests.signing import enrolled_key
 
     cream = tmp_path / "sun-cream.toml"
     cream.write_text(HOMOSALATE_CREAM, encoding="utf-8")
     with Library.open(seeded_sqlite_url) as library:
         import_lists(library, [export("VI")], user=TEST_USER)
         run = run_review(library, str(cream), user=TEST_USER)
-        sign_run(library, run.run_key, "approved", "A. Reviewer", user=TEST_USER)
+    key = enrolled_key(seeded_sqlite_url, "larkspur-reviewer", "A. Reviewer")
+    with Library.open(seeded_sqlite_url) as library:
+        sign_run(library, run.run_key, "reviewed", user="larkspur-reviewer", signing_key=key)
     stored = run_formdb(["--db", seeded_sqlite_url, "formula", "import", str(cream)])
     assert stored.exit_code == 0, stored.stderr
     newer = _copy(tmp_path, "VI", _newer_vi)
@@ -374,7 +377,7 @@ def test_update_makes_signed_runs_stale_and_names_the_entry(tmp_path: Path,
         assert "new: LIM03 error" in moved and dry.formula_changes == result.formula_changes
         assert result.stale_runs == (f"run {run.run_key} (Larkspur sun day cream): "
                                      "EU Annex VI/3",)
-        [state] = [s for s in review_status(library) if s.run_key == run.run_key]
+        [state] = [s for s in review_status(library).runs if s.run_key == run.run_key]
     assert state.state == "stale"
     assert any(c.startswith("list entry EU Annex VI/3:") and "'7,34 %' -> '6,5 %'" in c
                for c in state.changes), state.changes

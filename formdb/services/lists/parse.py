@@ -329,8 +329,8 @@ def parse_entry(annex: str, row: Mapping[str, str], key: str) -> ListEntry:
     glossary = next((row[c] for c in _NAME_COLUMNS if c in row), "")
     names = split_names(glossary, row.get(IDENTIFIED, ""))
     chem = clean(row.get("Chemical name / INN", row.get("Chemical name", "")))
-    if annex == "II" and not names:
-        names = chemical_names(chem)[:1]
+    if not names and chem.casefold() != "moved or deleted":
+        names = tuple(_name(n) for n in chemical_names(chem)[:1])  # no INCI name: the chemical one
     product = row.get(PRODUCT, "")
     maximum = row.get(MAXIMUM, "")
     other = row.get(OTHER, "")
