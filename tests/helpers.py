@@ -43,7 +43,8 @@ def dump_database(url: str, exclude_columns: Collection[str] = (),
                 if tables is not None and name not in tables:
                     continue
                 table = meta.tables[name]
-                left_out = set(exclude_columns)
+                # the server's keyed seal differs per database (its own key): never compared
+                left_out = {*exclude_columns, "server_seal"}
                 if left_out & set(SEALED_COLUMNS.get(name, ())):  # the seals cover every column
                     left_out |= {"prev_hash", "row_hash"}
                 cols = [c for c in table.columns if c.name not in left_out]
@@ -101,6 +102,8 @@ def fresh_pg_schema(base_url: str) -> Iterator[str]:
         finally:
             with admin.connect() as conn:
                 conn.execute(text(f'DROP SCHEMA IF EXISTS "{name}" CASCADE'))
+                # the server-seal key's own schema (migration 0019_server_seals)
+                conn.execute(text(f'DROP SCHEMA IF EXISTS "{name}__seal" CASCADE'))
     finally:
         admin.dispose()
 

@@ -164,6 +164,7 @@ class ChangeLogEntry(Base):
     reason: Mapped[str | None] = mapped_column(Text)
     prev_hash: Mapped[str | None] = mapped_column(String(64))  # hash chain (formdb audit verify)
     row_hash: Mapped[str | None] = mapped_column(String(64))
+    server_seal: Mapped[str | None] = mapped_column(String(64))  # see sealing.NOT_CANONICAL
 
 
 class LimitEntry(Base):
@@ -352,6 +353,7 @@ class ReviewRun(Base):
     supersedes_run_id: Mapped[int | None] = mapped_column(ForeignKey("review_runs.id"))
     prev_hash: Mapped[str | None] = mapped_column(String(64))
     row_hash: Mapped[str | None] = mapped_column(String(64))
+    server_seal: Mapped[str | None] = mapped_column(String(64))  # see sealing.NOT_CANONICAL
     # since 0013 (None on older runs): the profile by content hash and origin, the review
     # policy in force, and whether the run may be signed under it (else a draft)
     profile_hash: Mapped[str | None] = mapped_column(String(64))
@@ -376,6 +378,7 @@ class ReviewSignature(Base):
     comment: Mapped[str | None] = mapped_column(Text)  # the reason given
     prev_hash: Mapped[str | None] = mapped_column(String(64))
     row_hash: Mapped[str | None] = mapped_column(String(64))
+    server_seal: Mapped[str | None] = mapped_column(String(64))  # see sealing.NOT_CANONICAL
     # since 0013: the justification of each open item an approval waives, and the signer's
     # Ed25519 signature (key id, base64) over run hash, meaning, reasons, signer and time
     waivers_json: Mapped[str | None] = mapped_column(Text)
@@ -397,6 +400,7 @@ class PolicyVersion(Base):
     policy_hash: Mapped[str] = mapped_column(String(64))
     prev_hash: Mapped[str | None] = mapped_column(String(64))
     row_hash: Mapped[str | None] = mapped_column(String(64))
+    server_seal: Mapped[str | None] = mapped_column(String(64))  # see sealing.NOT_CANONICAL
 
 
 class KeyEnrolment(Base):
@@ -416,6 +420,7 @@ class KeyEnrolment(Base):
     reason: Mapped[str | None] = mapped_column(Text)
     prev_hash: Mapped[str | None] = mapped_column(String(64))
     row_hash: Mapped[str | None] = mapped_column(String(64))
+    server_seal: Mapped[str | None] = mapped_column(String(64))  # see sealing.NOT_CANONICAL
 
 
 class ListSnapshot(Base):

@@ -62,6 +62,10 @@ ADDED_LATER: dict[str, frozenset[str]] = {
     "review_runs": frozenset({"profile_hash", "profile_origin", "policy_json", "signable"}),
     "review_signatures": frozenset({"waivers_json", "key_id", "signature"}),
 }
+# Columns a sealed table has beside its canonical ones: its own hash, and on PostgreSQL the
+# server's keyed seal (migration 0019: a trigger computes it with a key writer logins cannot
+# read; formdb never writes it). Neither is part of the canonical form.
+NOT_CANONICAL = ("row_hash", "server_seal")
 _WRITE_LOCK_ID = 0x666462_6C6F67  # pg_advisory_xact_lock key shared by every formdb writer
 _LOCKED = "formdb_sealing_locked_tx"
 _APPENDING = "formdb_sealed_append"  # execution option set only by append_rows

@@ -19,7 +19,7 @@ from collections import deque
 from pathlib import Path
 from typing import Any
 
-from sqlalchemy import inspect, select
+from sqlalchemy import inspect, select, text
 from sqlalchemy.orm import Session
 
 from formdb.schemas.audit import AuditReport, ChainProblem, ChainReport
@@ -95,7 +95,28 @@ def verify_table(session: Session, table: str) -> ChainReport:
         prev_id, prev_stored = row_id, stored or ""
     report.head_id = prev_id
     report.head_hash = prev_stored if prev_id is not None else None
+    for row_id in _server_seal_failures(session, table):
+        problem(row_id, "server-seal", f"row {row_id} does not carry the server's seal: it was "
+                "rewritten, or removed and put back, by someone without the server's key")
     return report
+
+
+def _server_seal_failures(session: Session, table: str) -> list[int]:
+    """On PostgreSQL (migration 0019), the rows whose keyed seal the server does not confirm;
+    elsewhere, or before that migration, none."""
+    connection = session.connection()
+    if connection.dialect.name != "postgresql":
+        return []
+    checker = connection.execute(text(
+        "SELECT to_regprocedure(current_schema() || "
+        "'.formdb_seal_ok(text, bigint, text, text, text)')")).scalar()
+    if checker is None:
+        return []
+    rows = connection.execute(text(
+        f"SELECT id FROM (SELECT id, row_hash, server_seal, lag(server_seal) OVER (ORDER BY id) "
+        f'AS before FROM "{table}") s WHERE NOT formdb_seal_ok(:t, id, row_hash, before, '
+        "server_seal) ORDER BY id"), {"t": table}).scalars().all()
+    return [int(r) for r in rows]
 
 
 def verify_signatures(session: Session, report: ChainReport) -> None:
