@@ -1,4 +1,5 @@
-"""EVD01: a number the check relies on is not verified (from memory, or a rule of thumb)."""
+"""EVD01: a number the check relies on is not verified (from memory, a rule of thumb, or seen
+only in a secondary copy)."""
 
 from __future__ import annotations
 
@@ -36,8 +37,10 @@ class UnverifiedValue(Rule):
     plausible it looks (regulatory.md: every default and unverified value must be shown).
     Fails: Polysorbate 80 whose solubility is recorded "from memory".
     Passes: Polysorbate 80 whose HLB 15.0 cites HPE6 Table IX (published).
-    Options: from_memory_severity (default "info"; the strict profile makes it "error") and
-    rule_of_thumb_severity (default "info"; strict: "warning"); "off" silences one kind.
+    Options: from_memory_severity (default "info"; the strict profile makes it "error"),
+    rule_of_thumb_severity (default "info"; strict: "warning") and secondary_severity for values
+    seen only in someone else's copy of the source (default "info"; strict: "warning"); "off"
+    silences one kind.
     """
 
     code = "EVD01"
@@ -49,12 +52,15 @@ class UnverifiedValue(Rule):
                                        _SEVERITIES),
         "rule_of_thumb_severity": Option(str, "info", "severity of rule-of-thumb values",
                                          _SEVERITIES),
+        "secondary_severity": Option(str, "info", "severity of values seen only in a "
+                                     "secondary copy", _SEVERITIES),
     }
 
     def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,
               options: Mapping[str, Any]) -> Iterable[Finding]:
         kinds = ((Evidence.FROM_MEMORY, options["from_memory_severity"]),
-                 (Evidence.RULE_OF_THUMB, options["rule_of_thumb_severity"]))
+                 (Evidence.RULE_OF_THUMB, options["rule_of_thumb_severity"]),
+                 (Evidence.SECONDARY, options["secondary_severity"]))
         seen: set[int] = set()
         for ln in formula.lines:
             ing = ln.ingredient

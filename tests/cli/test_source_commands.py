@@ -195,3 +195,30 @@ def test_verify_attaches_a_source_without_retyping(library: str) -> None:
              "--source", "invented-tds-2025", words="not a field")
     _refused(library, "ingredient", "verify", "Glycerin", "--value", prop, "--source", "nope",
              words="no source 'nope'")
+
+
+def test_reseeding_regrades_values_of_a_downgraded_source(seeded_library_url: str) -> None:
+    """A library seeded before a source was downgraded (HPE6 tables seen only in a
+    reproduction: secondary copy) gets the new grade on its values at the next init --seed."""
+    from sqlalchemy import text
+
+    from formdb.store.db import make_engine
+
+    engine = make_engine(seeded_library_url)
+    try:
+        with engine.begin() as conn:
+            conn.execute(text("UPDATE property_values SET evidence = 'published' "
+                              "WHERE source_key = 'hpe6'"))
+            conn.execute(text("UPDATE sources SET evidence = 'published', kind = NULL "
+                              "WHERE key = 'hpe6'"))
+    finally:
+        engine.dispose()
+    result = run_as("ana", ["--db", seeded_library_url, "init", "--seed", "--yes"])
+    assert result.exit_code == 0, result.stderr
+    listed = json.loads(run_as("ana", ["--db", seeded_library_url, "ingredient", "list",
+                                       "--format", "json"]).stdout)
+    grades = {p["evidence"] for r in listed for p in r["provenance"].values()
+              if p["source"] == "hpe6"}
+    assert grades == {"secondary copy"}
+    log = dump_database(seeded_library_url, tables=["change_log"])
+    assert "'grade'" in log and "'secondary copy'" in log

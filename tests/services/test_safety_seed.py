@@ -44,7 +44,7 @@ def test_the_bundled_library_holds_the_exposure_table_and_records(
             reference = load_reference_data(session)
     finally:
         engine.dispose()
-    assert len(reference.exposure) == 13
+    assert len(reference.exposure) == 19  # 13 seen second-hand, 6 sun care and eye make-up recalled
     lotion = reference.exposure["body lotion"]
     assert (lotion.exposure_mg_kg_bw_day, lotion.retention_factor) == (123.20, 1.0)
     assert reference.exposure["hair conditioner"].amount_mg_kg_bw_day is None  # Table 3B: none

@@ -20,7 +20,7 @@ from sqlalchemy.orm import Session, selectinload
 
 from formdb.errors import InvalidData
 from formdb.schemas.ingredient import name_key
-from formdb.schemas.vocab import norm_token
+from formdb.schemas.vocab import KIND_GRADE, SourceKind, norm_token
 from formdb.services.library.records import (
     Cells,
     RecordKind,
@@ -140,9 +140,28 @@ def citing_values(session: Session, key: str) -> list[str]:
             *(f"  {name}: {prop} ({grade})" for name, prop, grade in rows)]
 
 
+def _grade_sources(session: Session, *, user: str, reason: str | None) -> None:
+    """A source's grade is the one its kind sets (a kind filled in later wins over an older
+    grade); each correction is logged on the source."""
+    now = datetime.now(UTC)
+    for source in session.scalars(select(Source).where(Source.kind.is_not(None))):
+        try:
+            grade = KIND_GRADE[SourceKind(source.kind or "")].value
+        except ValueError:
+            continue
+        if source.evidence != grade:
+            session.add(ChangeLogEntry(
+                at=now, user=user, entity="source", entity_key=source.key, entity_version=None,
+                action="grade", field="evidence", old_value=source.evidence, new_value=grade,
+                reason=reason or f"the grade of kind {source.kind!r}"))
+            source.evidence = grade
+    session.flush()
+
+
 def sync_value_grades(session: Session, *, user: str, reason: str | None = None) -> int:
     """Give every value the grade of the source it cites; log and version each ingredient whose
     values move. Returns the number of values changed."""
+    _grade_sources(session, user=user, reason=reason)
     grades = dict(session.execute(select(Source.key, Source.evidence)).all())
     stale = list(session.execute(
         select(PropertyValue.ingredient_id, PropertyValue.property, PropertyValue.source_key,

@@ -196,6 +196,10 @@ def seed_library(session: Session, *, user: str, seed_dir: Path | None = None,
     if file := present("ingredients.csv"):
         counts["ingredients"] = _import_ingredients(session, file, user, keep_existing, left)
         session.flush()
+    # values take the grade of the source they cite (a source this seed regrades moves them)
+    from formdb.services.library.evidence import sync_value_grades
+
+    sync_value_grades(session, user=user, reason=SEED_REASON)
     known_sources = set(session.scalars(select(Source.key)))
     if file := present("limits.csv"):
         rows = seed_tables.read_limits(file, _label(folder, file), known_sources)

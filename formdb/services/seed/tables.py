@@ -151,7 +151,6 @@ SOURCE_COLUMNS = ("key", "citation", "kind", "evidence", "url", "seen", "note", 
 # what each kind of evidence must name so that a reader can find the value again
 KIND_NEEDS: dict[SourceKind, tuple[tuple[str, ...], ...]] = {
     SourceKind.HANDBOOK: (("edition",), ("table_ref", "page")),
-    SourceKind.PEER_REVIEWED: (("year",),),
     SourceKind.SUPPLIER_DATA_SHEET: (("supplier",), ("document",), ("issued",)),
     SourceKind.CERTIFICATE_OF_ANALYSIS: (("supplier",), ("document",), ("lot",), ("issued",)),
     SourceKind.MEASUREMENT: (("method",), ("issued",), ("measured_by",)),
