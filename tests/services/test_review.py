@@ -175,12 +175,27 @@ def test_changed_reference_rows_are_named_with_old_and_new(seeded_sqlite_url: st
         conn.execute(text("UPDATE exposure SET retention_factor = 0.5 "
                           "WHERE product = 'face cream'"))
     engine.dispose()
-    state = _status(seeded_sqlite_url)[key]
+    shown = _formdb(seeded_sqlite_url, "review", "status", "--format", "json")
+    # changed with plain SQL, so nothing in the change log: the status says BROKEN, exit 1
+    assert shown.exit_code == 1 and "does not verify" in shown.stderr
+    state = {s["run_key"]: s for s in json.loads(shown.stdout)["runs"]}[key]
     assert state["state"] == "stale"
     assert state["changes"] == [
         "exposure face cream: retention_factor 1.0 -> 0.5",
         "limit eu-v-29: max_percent 1.0 -> 0.5",
         "toxicology phenoxyethanol-noael-rat-oral: pod_value 357.0 -> 300.0"]
+    assert state["broken"] == [
+        f"{what} changed since the run with no change-log entry: changed around formdb"
+        for what in ("exposure face cream", "limit eu-v-29",
+                     "toxicology phenoxyethanol-noael-rat-oral")]
+    # the same kind of change through formdb is logged: stale, but nothing broken
+    other = _run(seeded_sqlite_url, cream)
+    edit = _formdb(seeded_sqlite_url, "toxicology", "edit", "phenoxyethanol-noael-rat-oral",
+                   "--set", "pod_value=320", "--reason", "dossier update")
+    assert edit.exit_code == 0, edit.stderr
+    logged = {s["run_key"]: s for s in json.loads(_formdb(
+        seeded_sqlite_url, "review", "status", "--format", "json").stdout)["runs"]}[other]
+    assert logged["state"] == "stale" and logged["broken"] == []
 
 
 def test_a_non_reviewer_is_refused_and_logged(seeded_sqlite_url: str, cream: Path,

@@ -301,6 +301,39 @@ def _library_changes(session: Session, run: ReviewRun, reference: ReferenceData)
     return changes
 
 
+# the change-log entities that record a change of each kind of record a run uses
+LOGGED_AS: dict[str, tuple[str, ...]] = {
+    "ingredient": ("ingredient", "mixture"), "constituent": ("mixture", "constituent"),
+    "limit": ("limit", "list", "list entry"), "exposure": ("exposure",),
+    "toxicology": ("toxicology",), "label threshold": ("label threshold",)}
+
+
+def _unlogged_changes(session: Session, run: ReviewRun, changes: list[str]) -> list[str]:
+    """Records a run used that changed since it with no change-log entry for them: changed
+    around formdb (plain SQL, a file edit), which the status and the report call BROKEN."""
+    changed = [c.split(":", 1)[0] for c in changes if not c.startswith("the ")]
+    if not changed:
+        return []
+    log = session.execute(select(ChangeLogEntry.entity, ChangeLogEntry.entity_key).where(
+        ChangeLogEntry.at >= run.created_at)).all()
+    out = []
+    for what in changed:
+        kind = next((k for k in sorted(LOGGED_AS, key=len, reverse=True)
+                     if what.startswith(k + " ")), None)
+        if kind is None:
+            continue
+        name = what[len(kind) + 1:]
+        owner = name.split(" > ", 1)[0]
+        entities = LOGGED_AS[kind]
+        logged = any(entity in entities and (key in (name, owner) or key.startswith(owner)
+                                             or entity.startswith("list"))
+                     for entity, key in log)
+        if not logged:
+            out.append(f"{kind} {name} changed since the run with no change-log entry: "
+                       "changed around formdb")
+    return out
+
+
 def _kind(run: ReviewRun) -> str:
     return "legacy" if run.signable is None else ("signable" if run.signable else "draft")
 
@@ -353,8 +386,9 @@ def _state(session: Session, run: ReviewRun, newer: dict[int, ReviewRun],
     if run.id in newer:
         state.state, state.superseded_by = "superseded", newer[run.id].run_key
     else:
-        state.changes = _formula_changes(session, run) + _library_changes(session, run,
-                                                                          reference)
+        library = _library_changes(session, run, reference)
+        state.changes = _formula_changes(session, run) + library
+        state.broken += _unlogged_changes(session, run, library)
         if state.changes:
             state.state = "stale"
     sigs = session.scalars(select(ReviewSignature).where(ReviewSignature.run_id == run.id)
