@@ -389,6 +389,10 @@ def refusal_of(exc: BaseException) -> FormdbError | None:
     from formdb.errors import Forbidden
 
     state = _sqlstate(exc)
+    if state == "42501" and "formdb: " in str(getattr(exc, "orig", "")):
+        said = str(getattr(exc, "orig", "")).split("formdb: ", 1)[1].splitlines()[0]
+        return Forbidden(f"the database refused: {said}.",
+                         hint="nothing was changed; ask an admin for the role")
     if state == "42501":  # insufficient_privilege
         orig = getattr(exc, "orig", None)
         found = _DENIED.search(str(orig or ""))

@@ -576,3 +576,21 @@ class OilPhaseMeasurement(Base):
     source_key: Mapped[str] = mapped_column(ForeignKey("sources.key"))
     measured_at: Mapped[datetime] = mapped_column(DateTime(timezone=True))
     measured_by: Mapped[str] = mapped_column(String(100))
+
+
+class ServerChange(Base):
+    """A change to a library table as the PostgreSQL server saw it: which login (session_user),
+    when (the server's clock), which table, and the rows before and after as JSON. Written only
+    by the statement triggers `formdb db grant-setup` installs (services.admin.server), so plain
+    SQL is recorded as well as formdb's own writes; no login but the owner may write it. Empty
+    on SQLite, which has no server to vouch for anything."""
+
+    __tablename__ = "server_change_log"
+
+    id: Mapped[int] = mapped_column(Integer, primary_key=True)
+    at: Mapped[datetime] = mapped_column(DateTime(timezone=True))
+    login: Mapped[str] = mapped_column(String(100), index=True)
+    table_name: Mapped[str] = mapped_column(String(63), index=True)
+    operation: Mapped[str] = mapped_column(String(10))  # insert | update | delete
+    old_rows: Mapped[str | None] = mapped_column(Text)  # JSON array of the rows before
+    new_rows: Mapped[str | None] = mapped_column(Text)  # JSON array of the rows after

@@ -169,6 +169,39 @@ def _seal_rows(session: Session, table: str, rows: list[dict[str, Any]]) -> None
 
 # --- the hooks -----------------------------------------------------------------------------------
 
+# --- the server's append function (PostgreSQL, installed by `formdb db grant-setup`) -------------
+
+SERVER_APPEND = "formdb_append"  # formdb_append(table text, rows jsonb): see services.admin.server
+_SERVER_KNOWN = "formdb_server_append_known"
+
+
+def server_appends(session: Session) -> bool:
+    """True when sealed rows must go through the server's append function: on PostgreSQL once
+    ``db grant-setup`` installed it, writers have no INSERT right on the sealed tables; the
+    function checks the caller's duty and the triggers that the rows name the login."""
+    if session.get_bind().dialect.name != "postgresql":
+        return False
+    known = session.info.get(_SERVER_KNOWN)
+    if known is None:
+        known = bool(session.connection().execute(text(
+            f"SELECT to_regprocedure('{SERVER_APPEND}(text, jsonb)') IS NOT NULL")).scalar())
+        session.info[_SERVER_KNOWN] = known
+    return known
+
+
+def _jsonable(value: Any) -> Any:
+    if isinstance(value, datetime | date):
+        return value.isoformat()
+    return value
+
+
+def _append_on_server(session: Session, table: str, rows: Sequence[Mapping[str, Any]]) -> None:
+    payload = json.dumps([{k: _jsonable(v) for k, v in row.items()} for row in rows],
+                         ensure_ascii=False)
+    session.connection().execute(text(f"SELECT {SERVER_APPEND}(:t, CAST(:rows AS jsonb))"),
+                                 {"t": table, "rows": payload})
+
+
 def append_rows(session: Session, table: Table, rows: Sequence[dict[str, Any]]) -> None:
     """Insert ``rows`` (plain dicts, in chain order) into a sealed table, sealed onto its chain."""
     if table.name not in SEALED_COLUMNS:
@@ -178,6 +211,9 @@ def append_rows(session: Session, table: Table, rows: Sequence[dict[str, Any]]) 
     session.flush()  # pending ORM rows first, so ids and links follow the call order
     sealed = [dict(row) for row in rows]
     _seal_rows(session, table.name, sealed)
+    if server_appends(session):
+        _append_on_server(session, table.name, sealed)
+        return
     session.execute(insert(table), sealed, execution_options={_APPENDING: True})
 
 
@@ -197,6 +233,18 @@ def _orm_values(obj: Any, table: str) -> dict[str, Any]:
         if value is None and default is not None and getattr(default, "is_scalar", False):
             value = default.arg
         values[name] = value
+    return values
+
+
+def _all_values(obj: Any) -> dict[str, Any]:
+    """Every column of the instance (unsealed ones too), as the INSERT would write them."""
+    values: dict[str, Any] = {}
+    for column in type(obj).__table__.columns:
+        value = getattr(obj, column.key, None)
+        default = column.default
+        if value is None and default is not None and getattr(default, "is_scalar", False):
+            value = default.arg
+        values[column.name] = value
     return values
 
 
@@ -226,6 +274,11 @@ def _before_flush(session: Session, _flush: UOWTransaction, _instances: Iterable
             for name, value in row.items():
                 if name == "row_hash" or name in SEALED_COLUMNS[table]:
                     setattr(obj, name, value)
+        if server_appends(session):  # the server inserts them; the objects keep their values
+            _append_on_server(session, table, [{**_all_values(o), **r}
+                                               for o, r in zip(objs, rows, strict=True)])
+            for obj in objs:
+                session.expunge(obj)
 
 
 def _on_execute(state: ORMExecuteState) -> None:

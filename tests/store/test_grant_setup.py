@@ -1,6 +1,6 @@
 """``formdb db grant-setup`` on the real PostgreSQL server: with real logins, a reviewer's
-login cannot update ingredients, an editor's can but cannot write users or formulas, nor file or
-sign a review run (a reviewer's login can). The
+login cannot update ingredients, an editor's can but cannot write users or formulas; no login
+inserts into the change log or the review records directly. The
 roles are created with a prefix private to the test and dropped afterwards."""
 
 from __future__ import annotations
@@ -75,8 +75,9 @@ def test_database_roles_mirror_duties(pg_url: str, prefix: str) -> None:
     assert not _try(reviewer, update)
     assert not _try(reviewer, "UPDATE ingredients SET retired = true")
     assert _try(editor, update)
-    assert _try(editor, "INSERT INTO change_log (at, \"user\", entity, entity_key, action) "
-                        "VALUES (now(), 'ed', 'ingredient', 'x', 'edit')")
+    # issue 13: writers lost direct INSERT on the log (rows arrive through formdb_append)
+    assert not _try(editor, "INSERT INTO change_log (at, \"user\", entity, entity_key, action) "
+                            "VALUES (now(), 'ed', 'ingredient', 'x', 'edit')")
     assert not _try(editor, "DELETE FROM change_log")  # history is append-only
     assert not _try(editor, "INSERT INTO user_roles (user_id, role) VALUES (1, 'admin')")
     assert not _try(editor, "UPDATE formulas SET name = 'x'")
@@ -89,8 +90,10 @@ def test_database_roles_mirror_duties(pg_url: str, prefix: str) -> None:
     sign = ("INSERT INTO review_signatures (run_id, run_hash, signer, signed_by, meaning, "
             "signed_at) SELECT id, run_hash, 'R. Reviewer', '{who}', 'approved', now() "
             "FROM review_runs")
-    assert _try(reviewer, run.format(k="aaaaaaaaaaaa"))
-    assert _try(reviewer, sign.format(who="rv"))
+    # review records too: no login inserts them directly any more (tests/store/test_logins.py
+    # files and signs through the server function)
+    assert not _try(reviewer, run.format(k="aaaaaaaaaaaa"))
+    assert not _try(reviewer, sign.format(who="rv"))
     assert not _try(editor, run.format(k="bbbbbbbbbbbb"))
     assert not _try(editor, sign.format(who="ed"))
 

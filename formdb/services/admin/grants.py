@@ -11,9 +11,12 @@ Creates (or refreshes) one NOLOGIN role per duty, named ``PREFIX_reader``, ``PRE
   ``sign``);
 - admin: reader + write ``users`` and ``user_roles``, and append to the signing keys and
   review policy (``key_enrolments``, ``policy_versions``);
-and every writer may append to ``change_log`` (insert only: history is never rewritten); the
-review runs and signatures are insert-only too (they are hash-chained like the log, see
-formdb.store.sealing).
+No duty may INSERT, UPDATE or DELETE the sealed tables (``change_log``, review runs and
+signatures, key enrolments, policy versions) nor ``server_change_log``: rows reach the sealed
+tables only through the server function ``formdb_append``, which checks the caller's duty,
+and a trigger checks that each row names the login that writes it; statement triggers record
+every change to the library tables, plain SQL included, with ``session_user``
+(formdb.store.server_audit).
 A person's login gets a duty with ``GRANT PREFIX_editor TO their_login``. Run it again after
 ``formdb db upgrade`` so new tables are covered. All in one transaction.
 """
@@ -27,13 +30,14 @@ from sqlalchemy import inspect, text
 from formdb.errors import ConfigError, InvalidData
 from formdb.schemas.admin import GrantReport
 from formdb.store import db as store
+from formdb.store.sealing import SEALED_COLUMNS
+from formdb.store.server_audit import CHANGE_TABLE, install
 
 FORMULA_TABLES = frozenset({"formulas"})
 ADMIN_TABLES = frozenset({"users", "user_roles", "key_enrolments", "policy_versions"})
 LOG_TABLE = "change_log"
-APPEND_ONLY = frozenset({"review_runs", "review_signatures", "key_enrolments",
-                         "policy_versions"})  # and LOG_TABLE
-NOT_LIBRARY = FORMULA_TABLES | ADMIN_TABLES | {LOG_TABLE, "alembic_version"}
+SERVER_WRITTEN = frozenset({*SEALED_COLUMNS, CHANGE_TABLE})  # via functions and triggers only
+NOT_LIBRARY = FORMULA_TABLES | ADMIN_TABLES | SERVER_WRITTEN | {"alembic_version"}
 _NAME = re.compile(r"^[a-z][a-z0-9_]{0,40}$")
 
 
@@ -62,8 +66,8 @@ def grant_setup(url: str, prefix: str = "formdb") -> GrantReport:
             writes = {
                 "editor": [t for t in tables if t not in NOT_LIBRARY and not _is_review(t)],
                 "formulator": [t for t in tables if t in FORMULA_TABLES],
-                "reviewer": [t for t in tables if _is_review(t)],
-                "admin": [t for t in tables if t in ADMIN_TABLES],
+                "reviewer": [t for t in tables if _is_review(t) and t not in SERVER_WRITTEN],
+                "admin": [t for t in tables if t in ADMIN_TABLES and t not in SERVER_WRITTEN],
             }
             roles = [f"{prefix}_{d}" for d in ("reader", *writes)]
             for role in roles:
@@ -78,10 +82,11 @@ def grant_setup(url: str, prefix: str = "formdb") -> GrantReport:
             for duty, owned in writes.items():
                 role = f"{prefix}_{duty}"
                 for table in owned:
-                    rights = "INSERT" if table in APPEND_ONLY else "INSERT, UPDATE, DELETE"
-                    conn.execute(text(f'GRANT {rights} ON "{schema}"."{table}" TO "{role}"'))
-                conn.execute(text(f'GRANT INSERT ON "{schema}"."{LOG_TABLE}" TO "{role}"'))
+                    if table not in SERVER_WRITTEN:
+                        conn.execute(text(f'GRANT INSERT, UPDATE, DELETE ON '
+                                          f'"{schema}"."{table}" TO "{role}"'))
                 conn.execute(text(f'GRANT USAGE ON ALL SEQUENCES IN SCHEMA "{schema}" TO "{role}"'))
+            install(conn, schema, prefix, [f"{prefix}_{d}" for d in writes])
         return GrantReport(shown, {f"{prefix}_{d}": t for d, t in writes.items()})
     finally:
         engine.dispose()

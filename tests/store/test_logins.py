@@ -1,0 +1,268 @@
+"""Issue 13's attacks rerun on a real PostgreSQL server with real login roles, one per duty
+(created by `formdb user add`, members of the `db grant-setup` group roles). Logins, group
+roles and the test's prefix are private to each test and dropped afterwards; the test server
+trusts local connections, so a URL naming a login logs in as it (SCRAM and certificates are
+the server's business: see the README's team section)."""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+from collections.abc import Iterator
+from uuid import uuid4
+
+import pytest
+from sqlalchemy import create_engine, text
+from sqlalchemy.engine import make_url
+from sqlalchemy.exc import DBAPIError
+
+from tests.fixtures.tables.library_setup import build_library
+from tests.helpers import dump_database, run_formdb
+
+pytestmark = [pytest.mark.slow, pytest.mark.postgres]
+
+EDIT = ["ingredient", "edit", "Polysorbate 80", "--set", "hlb=14.9", "--source",
+        "rule-of-thumb", "--reason", "login test (made-up value)"]
+
+
+class Team:
+    """A library with grant-setup roles and one login per duty, made through the CLI."""
+
+    def __init__(self, url: str, prefix: str) -> None:
+        self.url, self.prefix = url, prefix
+
+    def login(self, who: str) -> str:
+        return f"{self.prefix}_{who}"
+
+    def as_(self, who: str) -> str:
+        return make_url(self.url).set(username=self.login(who)).render_as_string(
+            hide_password=False)
+
+    def formdb(self, who: str, *args: str):  # type: ignore[no-untyped-def]
+        return run_formdb(["--db", self.as_(who), *args])
+
+    def sql(self, who: str, statement: str, **params: object) -> None:
+        engine = create_engine(self.as_(who))
+        try:
+            with engine.begin() as conn:
+                conn.execute(text(statement), params)
+        finally:
+            engine.dispose()
+
+    def refused(self, who: str, statement: str, **params: object) -> str:
+        """The server's refusal of ``statement`` by ``who`` (the test fails if it runs)."""
+        try:
+            self.sql(who, statement, **params)
+        except DBAPIError as exc:
+            return str(exc.orig)
+        raise AssertionError(f"{who} was allowed: {statement}")
+
+
+@pytest.fixture
+def team(pg_url: str) -> Iterator[Team]:
+    prefix = f"fdbl_{uuid4().hex[:8]}"
+    url = build_library(pg_url)
+    made = run_formdb(["--db", url, "db", "grant-setup", "--prefix", prefix])
+    assert made.exit_code == 0, made.stderr
+    t = Team(url, prefix)
+    try:
+        for who, role in (("boss", "admin"), ("ed", "editor"), ("fay", "formulator"),
+                          ("rita", "reviewer")):
+            acting = url if who == "boss" else t.as_("boss")  # the first admin, then boss
+            added = run_formdb(["--db", acting, "user", "add", t.login(who), "--role", role,
+                                "--prefix", prefix, "--yes"])
+            assert added.exit_code == 0, added.stderr
+        yield t
+    finally:
+        _drop_roles(pg_url, prefix)
+
+
+def _drop_roles(pg_url: str, prefix: str) -> None:
+    admin = create_engine(pg_url, isolation_level="AUTOCOMMIT")
+    try:
+        with admin.connect() as conn:
+            roles = conn.execute(text("SELECT rolname FROM pg_roles WHERE rolname LIKE :p"),
+                                 {"p": f"{prefix}%"}).scalars().all()
+            for role in roles:
+                conn.execute(text(f'DROP OWNED BY "{role}"'))
+            for role in roles:
+                conn.execute(text(f'DROP ROLE "{role}"'))
+    finally:
+        admin.dispose()
+
+
+def _rows(url: str, sql: str) -> list[tuple[object, ...]]:
+    engine = create_engine(url)
+    try:
+        with engine.connect() as conn:
+            return [tuple(r) for r in conn.execute(text(sql))]
+    finally:
+        engine.dispose()
+
+
+def test_user_add_makes_a_login_with_its_duty_and_the_login_is_recorded(team: Team) -> None:
+    members = _rows(team.url, f"""SELECT m.rolname, g.rolname FROM pg_auth_members a
+        JOIN pg_roles m ON m.oid = a.member JOIN pg_roles g ON g.oid = a.roleid
+        WHERE m.rolname LIKE '{team.prefix}\\_%' ORDER BY 1, 2""")
+    assert (team.login("ed"), f"{team.prefix}_editor") in members
+    assert (team.login("rita"), f"{team.prefix}_reviewer") in members
+    assert _rows(team.url, f"SELECT rolcanlogin, rolcreaterole FROM pg_roles WHERE rolname = "
+                           f"'{team.login('boss')}'") == [(True, True)]
+    edited = team.formdb("ed", *EDIT)
+    assert edited.exit_code == 0, edited.stderr
+    assert (team.login("ed"),) in _rows(
+        team.url, "SELECT \"user\" FROM change_log WHERE entity = 'ingredient' AND action = "
+                  "'edit'")
+
+
+def test_a_claimed_name_is_refused_and_a_non_admin_cannot_add_users(team: Team) -> None:
+    before = dump_database(team.url, exclude_columns=("at",))
+    claimed = team.formdb("fay", "--user", team.login("boss"), "user", "add", "mallory",
+                          "--role", "admin", "--prefix", team.prefix, "--yes")
+    assert claimed.exit_code == 2
+    assert claimed.stderr.startswith(f"Error: you are {team.login('fay')} (the database "
+                                     f"login), not {team.login('boss')}:")
+    no_admin = team.formdb("fay", "user", "add", f"{team.prefix}_mallory", "--role", "admin",
+                           "--prefix", team.prefix, "--yes")
+    assert no_admin.exit_code == 2
+    assert f"{team.login('fay')} may not manage users: that needs the role admin" in \
+        no_admin.stderr
+    # nor behind formdb's back: the login may not create roles on the server
+    assert "permission denied" in team.refused("fay", f'CREATE ROLE "{team.prefix}_m2" LOGIN')
+    after = dump_database(team.url, exclude_columns=("at",))
+    assert after.replace("'refused'", "").count("\n") == before.count("\n") + 1
+    assert not _rows(team.url, f"SELECT 1 FROM pg_roles WHERE rolname LIKE "
+                               f"'{team.prefix}\\_m%'")
+
+
+def test_nobody_writes_the_log_or_review_records_in_another_name(team: Team) -> None:
+    """Issue 13: a formulator login added a correctly hashed log row naming another user; a
+    reviewer login inserted an 'approved by Dr. Head of QA' signature with plain SQL."""
+    insert_log = ("INSERT INTO change_log (id, at, \"user\", entity, entity_key, action, "
+                  "field, reason) VALUES (9999, now(), :named, 'ingredient', 'Glycerin', 'edit', "
+                  "'hlb', 'forged')")
+    assert "permission denied" in team.refused("fay", insert_log, named=team.login("boss"))
+    forged = json.dumps([{"id": 9999, "at": "2026-12-04T10:00:00+00:00",
+                          "user": team.login("boss"), "entity": "ingredient",
+                          "entity_key": "Glycerin", "action": "edit", "reason": "forged"}])
+    said = team.refused("fay", "SELECT formdb_append('change_log', CAST(:r AS jsonb))", r=forged)
+    assert f"must name the login that writes it ({team.login('fay')})" in said
+    # a forged sign-off by plain SQL, then through the server function
+    run_id = 1
+    sign_sql = ("INSERT INTO review_signatures (id, run_id, run_hash, signer, signed_by, "
+                "meaning, signed_at) VALUES (9999, :run, 'h', 'Dr. Head of QA', :named, "
+                "'approved', now())")
+    assert "permission denied" in team.refused("rita", sign_sql, run=run_id,
+                                               named=team.login("rita"))
+    signature = json.dumps([{"id": 9999, "run_id": run_id, "run_hash": "h",
+                             "signer": "Dr. Head of QA", "signed_by": "head.of.qa",
+                             "meaning": "approved", "signed_at": "2026-12-04T10:00:00+00:00"}])
+    said = team.refused("rita", "SELECT formdb_append('review_signatures', CAST(:r AS jsonb))",
+                        r=signature)
+    assert "must name the login" in said
+    said = team.refused("ed", "SELECT formdb_append('review_signatures', CAST(:r AS jsonb))",
+                        r=signature)
+    assert "signing a run needs the role reviewer" in said
+    assert _rows(team.url, "SELECT count(*) FROM review_signatures") == [(0,)]
+
+
+def test_plain_sql_changes_are_logged_by_the_server_with_the_login(team: Team) -> None:
+    """Issue 13: an editor login changed ingredient values with plain SQL, and nothing logged
+    it. The server's statement triggers record it with session_user."""
+    team.sql("ed", "UPDATE property_values SET value_num = 19 WHERE property = 'hlb'")
+    logged = _rows(team.url, "SELECT login, operation, old_rows, new_rows FROM "
+                             "server_change_log WHERE table_name = 'property_values' "
+                             "AND operation = 'update'")
+    assert len(logged) == 1
+    login, _op, old, new = logged[0]
+    assert login == team.login("ed")
+    assert all(r["value_num"] == 19 for r in json.loads(str(new)))
+    assert all(r["value_num"] != 19 for r in json.loads(str(old)))
+    # formdb's own writes are recorded by the server too, under the login
+    assert team.formdb("ed", *EDIT).exit_code == 0
+    assert (team.login("ed"),) in _rows(
+        team.url, "SELECT DISTINCT login FROM server_change_log WHERE table_name = "
+                  "'ingredients'")
+    # and nobody but the owner writes the server's record
+    assert "permission denied" in team.refused("ed", "DELETE FROM server_change_log")
+    assert "permission denied" in team.refused(
+        "boss", "INSERT INTO server_change_log (at, login, table_name, operation) VALUES "
+                "(now(), 'x', 'y', 'insert')")
+
+
+def test_a_server_refusal_is_one_line_naming_the_role(pg_url: str) -> None:
+    """In an open library (no formdb admin yet) formdb lets everyone act, and the server's
+    grants decide: its privilege error is one line naming the duty, exit 2, no SQL."""
+    prefix = f"fdbl_{uuid4().hex[:8]}"
+    url = build_library(pg_url)
+    try:
+        assert run_formdb(["--db", url, "db", "grant-setup", "--prefix", prefix]).exit_code == 0
+        login = f"{prefix}_stranger"
+        admin = create_engine(url, isolation_level="AUTOCOMMIT")
+        with admin.connect() as conn:
+            conn.execute(text(f'CREATE ROLE "{login}" LOGIN IN ROLE "{prefix}_reviewer"'))
+        admin.dispose()
+        as_login = make_url(url).set(username=login).render_as_string(hide_password=False)
+        refused = run_formdb(["--db", as_login, *EDIT])
+        assert refused.exit_code == 2
+        lines = refused.stderr.strip().splitlines()
+        assert len(lines) == 1, refused.stderr
+        assert lines[0].startswith("Error: the database refused your login permission on "
+                                   "table "), lines[0]
+        assert "that needs the role editor" in lines[0]
+        for leak in ("UPDATE", "INSERT", "SELECT", "Polysorbate", "internal problem"):
+            assert leak not in refused.stderr
+    finally:
+        _drop_roles(pg_url, prefix)
+
+
+def test_deactivated_login_cannot_log_in_and_stays_in_history(team: Team) -> None:
+    assert team.formdb("ed", *EDIT).exit_code == 0
+    done = team.formdb("boss", "user", "deactivate", team.login("ed"), "--prefix", team.prefix,
+                       "--yes")
+    assert done.exit_code == 0, done.stderr
+    assert _rows(team.url, f"SELECT rolcanlogin FROM pg_roles WHERE rolname = "
+                           f"'{team.login('ed')}'") == [(False,)]
+    gone = team.formdb("ed", "ingredient", "list")
+    assert gone.exit_code == 2 and "cannot open database" in gone.stderr
+    assert (team.login("ed"),) in _rows(team.url, "SELECT DISTINCT \"user\" FROM change_log")
+    revoked = team.formdb("boss", "user", "revoke", team.login("rita"), "reviewer",
+                          "--prefix", team.prefix, "--yes")
+    assert revoked.exit_code == 0, revoked.stderr
+    assert not _rows(team.url, f"""SELECT 1 FROM pg_auth_members a
+        JOIN pg_roles m ON m.oid = a.member JOIN pg_roles g ON g.oid = a.roleid
+        WHERE m.rolname = '{team.login('rita')}' AND g.rolname = '{team.prefix}_reviewer'""")
+
+
+def test_only_the_admin_login_downgrades(team: Team) -> None:
+    refused = team.formdb("ed", "db", "downgrade", "base", "--yes")
+    assert refused.exit_code == 2
+    assert f"{team.login('ed')} may not downgrade the schema: that needs the role admin" in \
+        refused.stderr
+
+
+_ADD = """
+import sys
+from formdb.cli.main import main
+sys.argv = ["formdb", "--db", sys.argv[1], "ingredient", "add", "Larkspur Race Ester",
+            "--set", "hlb=9", "--source", "rule-of-thumb"]
+main()
+"""
+
+
+def test_six_concurrent_first_adds_end_in_one_success_and_clean_conflicts(team: Team) -> None:
+    """Issue 13: 20 of 108 concurrent first adds of one name ended in an internal error."""
+    for round_ in range(3):
+        name = f"Larkspur Race Ester {round_}"
+        procs = [subprocess.Popen([sys.executable, "-c", _ADD.replace("Larkspur Race Ester",
+                                                                      name), team.as_("ed")],
+                                  stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+                 for _ in range(6)]
+        results = [(p.wait(timeout=120), p.stderr.read() if p.stderr else "") for p in procs]
+        assert sum(1 for code, _e in results if code == 0) == 1, results
+        for code, err in results:
+            if code != 0:
+                assert code == 2 and "internal problem" not in err, err
+                assert len(err.strip().splitlines()) == 1, err
+                assert "already" in err or "same record" in err or "same moment" in err, err
