@@ -1,5 +1,5 @@
 """What the PostgreSQL server itself enforces and records (installed by ``formdb db
-grant-setup``, refreshed each time it runs; removed by migration 0018's downgrade).
+grant-setup``, refreshed each time it runs; removed by migration 0020's downgrade).
 
 - ``formdb_server_change()``: statement triggers (AFTER INSERT / UPDATE / DELETE, with
   transition tables) on every library table write one row of ``server_change_log`` per
@@ -148,7 +148,7 @@ def install(conn: Connection, schema: str, prefix: str, groups: list[str]) -> li
 
 
 def remove_server_objects(conn: Connection) -> None:
-    """Drop every trigger and function :func:`install` made (a downgrade below 0018)."""
+    """Drop every trigger and function :func:`install` made (a downgrade below 0020)."""
     for table in inspect(conn).get_table_names():
         for suffix, _event, _ref in _TRIGGERS:
             conn.execute(text(f'DROP TRIGGER IF EXISTS formdb_changes_{suffix} ON "{table}"'))

@@ -1,8 +1,8 @@
 """The server's own record of changes to library tables (PostgreSQL: written by triggers that
 `formdb db grant-setup` installs, with session_user; see formdb.services.admin.server).
 
-Revision ID: 0018_server_change_log
-Revises: 0017_signoff_policy_keys
+Revision ID: 0020_server_change_log
+Revises: 0019_server_seals
 Created: 2026-12-04
 """
 
@@ -13,8 +13,8 @@ from collections.abc import Sequence
 import sqlalchemy as sa
 from alembic import op
 
-revision: str = "0018_server_change_log"
-down_revision: str | None = "0017_signoff_policy_keys"
+revision: str = "0020_server_change_log"
+down_revision: str | None = "0019_server_seals"
 branch_labels: str | Sequence[str] | None = None
 depends_on: str | Sequence[str] | None = None
 
