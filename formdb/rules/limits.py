@@ -152,6 +152,21 @@ def purpose_fits(row_purpose: str, purpose: str | None) -> bool | None:
     return (purpose == "preservative") == (row_purpose == "preservative")
 
 
+def _purpose(line: ResolvedLine, reference: ReferenceData, jurisdiction: str) -> str | None:
+    """The line's purpose; when it says none, the one use its rows bind if they bind only one
+    (rows for preservative use and for other uses both: None, the formula must say)."""
+    purpose = line_purpose(line, line.ingredient)[0]
+    if purpose is not None:
+        return purpose
+    keys = _keys(line.ingredient)
+    kinds = {r.purpose for r in reference.limits if r.purpose
+             and r.jurisdiction.casefold() == jurisdiction.casefold()
+             and not keys.isdisjoint(_name_keys(r.ingredients))}
+    if len(kinds) == 1:
+        return "preservative" if kinds == {"preservative"} else "other"
+    return None
+
+
 def _as_reading(finding: Finding, row: LimitRecord) -> Finding:
     """A finding of a row bound to one use, for a line whose purpose the formula does not say:
     a warning that names the reading, not an error."""
@@ -225,7 +240,7 @@ class ConcentrationLimit(Rule):
             present = lines_in(row, formula)
             undecided: set[str] = set()
             if row.purpose:  # the row binds one use: lines declared for another one are out
-                fits = {ln.inci: purpose_fits(row.purpose, line_purpose(ln, ln.ingredient)[0])
+                fits = {ln.inci: purpose_fits(row.purpose, _purpose(ln, reference, jurisdiction))
                         for ln in present}
                 present = [ln for ln in present if fits[ln.inci] is not False]
                 undecided = {name for name, fit in fits.items() if fit is None}

@@ -227,11 +227,18 @@ class ListEntryLimits(Rule):
     def _item(self, item: Item, members: Mapping[str, list[Item]], formula: ResolvedFormula,
               reference: ReferenceData) -> Iterable[Finding]:
         purpose, purpose_from = line_purpose(item.line, item.record)
-        restricted = [e for e in item.entries if e.purpose is not None and e.annex != "II"]
+        kinds = {e.purpose for e in item.entries if e.purpose is not None and e.annex != "II"}
         readings: tuple[str | None, ...] = (purpose,)
-        if purpose is None and restricted:
+        if purpose is None and len(kinds) > 1:
+            # entries for preservative use and for other uses both name it: name both readings
             readings = _READINGS
-        because = why(formula, purpose, purpose_from)
+        elif purpose is None and kinds:
+            # only one kind of entry names it: that entry is the reading (a lone Annex V entry
+            # binds the substance, whatever else it may do)
+            readings = ("preservative" if kinds == {"preservative"} else "other",)
+            purpose_from = "the only kind of entry that names it"
+        because = why(formula, purpose or (readings[0] if len(readings) == 1 else None),
+                      purpose_from)
         outcomes: dict[str, list[Outcome]] = {}
         for entry in item.entries:
             if entry.annex == "II":

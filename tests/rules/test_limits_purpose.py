@@ -38,7 +38,9 @@ def test_undeclared_purpose_names_the_reading(seeded_sqlite_url: str) -> None:
 
 def test_cetrimonium_chloride_in_body_lotion_on_the_seed(seeded_sqlite_url: str) -> None:
     """III/286 (Reg. (EU) No 866/2014) does not cover body lotion: 1 % conditioning use is not
-    allowed; with no purpose declared the finding names the reading (a warning)."""
+    allowed. The seed holds no preservative row for it (Annex V/44 is not seeded), so with no
+    purpose declared the one kind of row that names it applies; declared a preservative, the
+    row does not apply."""
     def lim01(purpose: str | None) -> list[Finding]:
         said = f'\npurpose = "{purpose}"' if purpose else ""
         text = ('name = "Larkspur conditioning lotion"\ncategory = "leave-on"\n'
@@ -49,4 +51,5 @@ def test_cetrimonium_chloride_in_body_lotion_on_the_seed(seeded_sqlite_url: str)
     [declared] = lim01("conditioning")
     assert declared.severity.value == "error" and "not allowed in body lotion" in declared.message
     [unsaid] = lim01(None)
-    assert unsaid.severity.value == "warning"
+    assert unsaid.severity.value == "error"
+    assert lim01("preservative") == []

@@ -26,7 +26,13 @@ from formdb.schemas.ingredient import name_key
 from formdb.schemas.lists import AnnexImport, EntryChange, ListEntry, ListsImport, SnapshotInfo
 from formdb.services.admin.access import require
 from formdb.services.lists.annex_file import HINT, AnnexFile, read_annex_file
-from formdb.services.lists.parse import chemical_names, clean, entry_keys, parse_entry
+from formdb.services.lists.parse import (
+    chemical_names,
+    clean,
+    entry_keys,
+    is_mixture,
+    parse_entry,
+)
 from formdb.store import queries
 from formdb.store.library import Library
 from formdb.store.lists import (
@@ -80,7 +86,10 @@ def entry_match_keys(entry: ListEntry) -> set[str]:
     """The keys an entry is found by: each INCI name, the chemical name's plain forms, each CAS."""
     keys = {name_match(n) for n in entry.inci_names}
     keys |= {name_match(n) for n in chemical_names(entry.chemical_name)}
-    keys |= {cas_match(c) for c in entry.cas_numbers}
+    if not (entry.inci_names and all(is_mixture(n) for n in entry.inci_names)):
+        # a mixture's entry (V/39 "... AND ...") lists its components' CAS numbers too: those
+        # would match a component used alone, so a mixture is found by its name only
+        keys |= {cas_match(c) for c in entry.cas_numbers}
     return {k for k in keys if len(k) <= 250 and k not in ("name:", "cas:")}
 
 

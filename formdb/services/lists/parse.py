@@ -51,6 +51,14 @@ def _name(text: str) -> str:
         name = stripped
 
 
+_AND = re.compile(r"\s+\(?and\)?\s+", re.I)
+
+
+def is_mixture(name: str) -> bool:
+    """An INCI name of a mixture, "A (AND) B" or "A AND B"."""
+    return bool(_AND.search(name))
+
+
 def split_names(glossary: str, identified: str) -> tuple[str, ...]:
     """Every INCI name the row gives, in order, once each.
 
@@ -71,7 +79,11 @@ def split_names(glossary: str, identified: str) -> tuple[str, ...]:
             out.extend(p for p in pieces if p)
         else:
             out.append(chunk)
-    out.extend(known)
+    # a mixture's INCI name ("A (AND) B"): its components named alone elsewhere in the row are
+    # parts of the mixture, not entries of their own (V/39 is not methylisothiazolinone alone)
+    parts = {p.casefold() for n in out if _AND.search(n) for p in _AND.split(n)}
+    own = {n.casefold() for n in out}
+    out.extend(n for n in known if n.casefold() in own or n.casefold() not in parts)
     seen: set[str] = set()
     unique = []
     for name in out:
