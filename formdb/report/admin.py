@@ -100,8 +100,11 @@ def db_backed_up(report: BackupReport) -> str:
 def db_grants(report: GrantReport, prefix: str) -> str:
     """``db grant-setup``: the reader role, then each duty's role and the tables it writes."""
     lines = [f"Roles on {report.database}: {prefix}_reader (reads every table)."]
-    lines += [f"  {role}: writes {', '.join(tables) or '(no table yet)'}; appends to change_log"
+    lines += [f"  {role}: writes {', '.join(tables) or '(no table yet)'}"
               for role, tables in report.roles.items()]
+    lines.append("Sealed tables (change log, review records, keys, policy) are appended only "
+                 "through formdb_append, rows naming the login; server_change_log records "
+                 "every change to the library tables with the login.")
     return _text(lines)
 
 

@@ -266,3 +266,21 @@ def test_six_concurrent_first_adds_end_in_one_success_and_clean_conflicts(team: 
                 assert code == 2 and "internal problem" not in err, err
                 assert len(err.strip().splitlines()) == 1, err
                 assert "already" in err or "same record" in err or "same moment" in err, err
+
+
+def test_a_password_is_stored_as_a_scram_verifier(team: Team) -> None:
+    from click.testing import CliRunner
+
+    from formdb.cli.main import main
+
+    login = f"{team.prefix}_pat"
+    with CliRunner().isolation(input="correct horse battery staple\n") as (out, err, _):
+        try:
+            main(["--db", team.as_("boss"), "user", "add", login, "--role", "formulator",
+                  "--password-stdin", "--prefix", team.prefix, "--yes"])
+        except SystemExit as exc:
+            assert exc.code in (0, None), err.getvalue()
+        assert "with a SCRAM password" in out.getvalue().decode()
+    [(stored,)] = _rows(team.url, f"SELECT rolpassword FROM pg_authid WHERE rolname = '{login}'")
+    assert str(stored).startswith("SCRAM-SHA-256$4096:")
+    assert "battery" not in str(stored)

@@ -67,8 +67,9 @@ def create_or_adopt(session: Session, name: str, password: str | None) -> bool:
     else:
         session.execute(text(f'ALTER ROLE "{name}" LOGIN'))
     if password is not None:
-        verifier = _verifier(session, name, password)
-        session.execute(text(f"ALTER ROLE \"{name}\" PASSWORD '{verifier}'"))
+        verifier = _verifier(session, name, password)  # base64 and $ : = only, no quote
+        # driver-level: the verifier's colons must not be read as bind parameters
+        session.connection().exec_driver_sql(f"ALTER ROLE \"{name}\" PASSWORD '{verifier}'")
     return made
 
 
