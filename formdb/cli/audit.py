@@ -56,3 +56,22 @@ def anchor_cmd(app: AppContext, library: Library, out: Path) -> None:
     made = write_anchor(library, user=app.user)
     write_report(out, anchor_text(made))
     click.echo(anchor_written(made, out), nl=False)
+
+
+@audit_group.command("changes")
+@click.option("--table", default=None, help="Only changes to this table (e.g. property_values).")
+@click.option("--login", default=None, help="Only changes made by this database login.")
+@click.option("--limit", type=click.IntRange(1, 100_000), default=50, show_default=True,
+              help="How many of the newest changes to show.")
+@click.option("--format", "fmt", type=click.Choice(["text", "json"]), default="text",
+              show_default=True, help="Output format (json includes the rows before and after).")
+@with_library
+def changes_cmd(app: AppContext, library: Library, table: str | None, login: str | None,
+                limit: int, fmt: str) -> None:
+    """The server's record of changes (PostgreSQL): every change to a library table, plain
+    SQL included, with the database login that made it, newest first."""
+    from formdb.report.audit import server_changes_text
+    from formdb.services.review.server_changes import server_changes
+
+    records = server_changes(library, table=table, login=login, limit=limit)
+    click.echo(server_changes_text(records, library.dialect, fmt), nl=False)

@@ -7,8 +7,10 @@ import json
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
+from formdb.schemas.times import utc
+
 if TYPE_CHECKING:
-    from formdb.schemas.audit import AuditReport
+    from formdb.schemas.audit import AuditReport, ServerChangeRecord
 
 KEEP_HEADS = ("Keep the head hashes with a filed report (`formdb audit anchor FILE` writes them "
               "with a digest of every library record): a chain alone cannot show that its "
@@ -69,3 +71,22 @@ def anchor_written(anchor: dict[str, Any], out: Path) -> str:
     return (f"Anchor written to {out}: heads {heads}; {records} library records digested. "
             "Keep it with the filed report, outside the library; check it with "
             f"`formdb audit verify --anchor {out}`.\n")
+
+
+def server_changes_text(records: list[ServerChangeRecord], dialect: str, fmt: str) -> str:
+    """``audit changes``: who changed which table, as the server saw it."""
+    if fmt == "json":
+        return json.dumps([{"id": r.id, "at": utc(r.at).isoformat(), "login": r.login,
+                            "table": r.table, "operation": r.operation, "rows": r.rows,
+                            "old_rows": json.loads(r.old_rows) if r.old_rows else None,
+                            "new_rows": json.loads(r.new_rows) if r.new_rows else None}
+                           for r in records], indent=1, ensure_ascii=False) + "\n"
+    if dialect != "postgresql":
+        return ("This is a SQLite library: there is no server to record changes. formdb's own "
+                "change log is `formdb ingredient history`; `formdb audit verify` checks it.\n")
+    if not records:
+        return ("No change recorded by the server (run `formdb db grant-setup` to install its "
+                "triggers).\n")
+    lines = [f"{utc(r.at):%Y-%m-%d %H:%M:%S} UTC  {r.login:<20} {r.operation:<6} {r.table} "
+             f"({r.rows} row{'s' if r.rows != 1 else ''})" for r in records]
+    return "".join(f"{line}\n" for line in lines)

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from datetime import datetime
 
 
 @dataclass(frozen=True)
@@ -43,3 +44,17 @@ class AuditReport:
     def first_problem(self) -> ChainProblem | None:
         return next((p for c in self.chains for p in c.problems),
                     self.anchor_problems[0] if self.anchor_problems else None)
+
+
+@dataclass(frozen=True)
+class ServerChangeRecord:
+    """One statement's change as the PostgreSQL server recorded it (server_change_log)."""
+
+    id: int
+    at: datetime
+    login: str
+    table: str
+    operation: str
+    rows: int  # rows the statement touched
+    old_rows: str | None  # JSON arrays, as stored
+    new_rows: str | None

@@ -158,3 +158,23 @@ def test_seeding_an_existing_library_needs_the_admin_and_yes(library: str) -> No
     assert "ingredient Polysorbate 80: hlb kept '14.9' (seed '15')" in done.stdout
     show = run_formdb(["--db", library, "ingredient", "show", "Polysorbate 80"])
     assert "14.9" in show.stdout
+
+
+def test_the_api_refuses_a_user_who_is_not_you(library: str, tmp_path) -> None:  # type: ignore[no-untyped-def]
+    from formdb import api
+    from formdb.store.identity import ClaimRefused
+
+    table = tmp_path / "one.csv"
+    table.write_text("inci_name,hlb,hlb_source\nLarkspur Api Ester,9,rule-of-thumb\n",
+                     encoding="utf-8")
+    library_obj = api.open_library(library)
+    try:
+        with pytest.raises(ClaimRefused, match="not boss"):
+            api.import_ingredients(library_obj, table, user="boss")
+    finally:
+        library_obj.close()
+
+
+def test_audit_changes_on_sqlite_says_there_is_no_server(library: str) -> None:
+    shown = run_formdb(["--db", library, "audit", "changes"])
+    assert shown.exit_code == 0 and "there is no server" in shown.stdout

@@ -179,6 +179,12 @@ def test_plain_sql_changes_are_logged_by_the_server_with_the_login(team: Team) -
     assert login == team.login("ed")
     assert all(r["value_num"] == 19 for r in json.loads(str(new)))
     assert all(r["value_num"] != 19 for r in json.loads(str(old)))
+    listed = team.formdb("boss", "audit", "changes", "--table", "property_values")
+    assert listed.exit_code == 0, listed.stderr
+    assert f"{team.login('ed')}" in listed.stdout and "update property_values" in listed.stdout
+    as_json = json.loads(team.formdb("boss", "audit", "changes", "--login", team.login("ed"),
+                                     "--format", "json").stdout)
+    assert as_json[0]["operation"] == "update" and as_json[0]["new_rows"][0]["value_num"] == 19
     # formdb's own writes are recorded by the server too, under the login
     assert team.formdb("ed", *EDIT).exit_code == 0
     assert (team.login("ed"),) in _rows(
