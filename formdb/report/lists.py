@@ -7,7 +7,14 @@ import json
 from collections.abc import Sequence
 from typing import Any
 
-from formdb.schemas.lists import ANNEX_TITLES, ListEntry, ListsImport, Part, SnapshotInfo
+from formdb.schemas.lists import (
+    ANNEX_TITLES,
+    ANNEXES,
+    ListEntry,
+    ListsImport,
+    Part,
+    SnapshotInfo,
+)
 
 CAUTION = ("Lists are dated snapshots of the Commission's exports: defer to the current "
            "consolidated Regulation (EC) No 1223/2009, local codes and a qualified safety "
@@ -82,6 +89,10 @@ def snapshots_text(snapshots: Sequence[SnapshotInfo]) -> str:
                 "rows. Import the Commission's exports with `formdb lists import`.\n")
     out = ["Lists in force:"]
     out.extend(f"  {_snap(s)}; imported {s.imported_at} by {s.imported_by}" for s in snapshots)
+    missing = [a for a in ANNEXES if not any(s.annex == a for s in snapshots)]
+    if missing:
+        out.append(f"No export imported for Annex {', '.join(missing)}: the seed's hand-written "
+                   "rows (seed_data/limits.csv) apply there, where it has any.")
     out.append("")
     out.append(CAUTION)
     return "\n".join(out) + "\n"

@@ -381,3 +381,19 @@ def test_update_makes_signed_runs_stale_and_names_the_entry(tmp_path: Path,
     assert state.state == "stale"
     assert any(c.startswith("list entry EU Annex VI/3:") and "'7,34 %' -> '6,5 %'" in c
                for c in state.changes), state.changes
+
+
+@needs_exports
+def test_status_and_show_as_a_reviewer_reads_them(sqlite_url: str) -> None:
+    none = run_formdb(["--db", sqlite_url, "lists", "status"])
+    assert none.exit_code == 0 and "No list snapshot is in force" in none.stdout
+    assert run_formdb(["--db", sqlite_url, "lists", "import", str(export("V"))]).exit_code == 0
+    status = run_formdb(["--db", sqlite_url, "lists", "status"])
+    assert "EU Annex V (allowed preservatives): COSING_Annex_V_v2.txt, last update 31/10/2025" \
+        in status.stdout
+    assert "No export imported for Annex II, III, IV, VI" in status.stdout
+    shown = run_formdb(["--db", sqlite_url, "lists", "show", "V/12a"])
+    assert shown.exit_code == 0 and "max 0.14 % (as acid, sum of the group)" in shown.stdout
+    missing = run_formdb(["--db", sqlite_url, "lists", "show", "V/999"])
+    assert missing.exit_code == 2 and missing.stderr.count("Error:") == 1
+    assert "no entry V/999" in missing.stderr
