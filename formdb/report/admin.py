@@ -113,7 +113,7 @@ def plan_text(plan: Plan) -> str:
     if not plan.changes:
         return _text([f"Nothing to do: {plan.action} changes nothing here."])
     head = (f"Done ({plan.action}):" if plan.done
-            else f"This would {plan.action} and change the following:")
+            else f"Planned, not done yet ({plan.action}):")
     lines = [head, *(f"  - {c}" for c in plan.changes)]
     if not plan.done:
         lines.append(f"Nothing was changed. Rerun with {plan.confirm_option} to go ahead.")

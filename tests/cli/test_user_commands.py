@@ -75,7 +75,7 @@ def test_only_an_admin_changes_users_and_every_change_needs_yes(library: str) ->
     # the admin without --yes: the plan, exit 2, nothing written
     plan = run_as("boss", ["--db", library, "user", "add", "ed", "--role", "editor"])
     assert plan.exit_code == 2
-    assert "This would add user and change the following:" in plan.stdout
+    assert "Planned, not done yet (add user):" in plan.stdout
     assert "add user ed with roles editor" in plan.stdout
     assert "Rerun with --yes" in plan.stdout and "nothing was changed" in plan.stderr
     assert len(plan.stderr.strip().splitlines()) == 1
