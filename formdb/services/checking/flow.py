@@ -7,17 +7,14 @@ never touch it.
 
 from __future__ import annotations
 
-import csv
 from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass
-from functools import lru_cache
 from pathlib import Path
 from typing import Any
 
 from sqlalchemy.orm import Session
 
 from formdb.errors import InvalidData
-from formdb.resources import seed_data_dir
 from formdb.rules.engine import check_resolved
 from formdb.rules.profiles import Profile, load_profile
 from formdb.schemas.formula import FormulaFile, ResolvedFormula, ResolvedLine
@@ -44,22 +41,23 @@ class FormulaInput:
     label: str
 
 
-@lru_cache(maxsize=1)
-def known_product_types() -> tuple[str, ...]:
-    """Product types of the bundled exposure table (SCCS Notes of Guidance, Table 3A/3B)."""
-    with open(seed_data_dir() / "exposure.csv", newline="", encoding="utf-8") as handle:
-        return tuple(row["product"] for row in csv.DictReader(handle))
+def library_product_types(session: Session) -> tuple[str, ...]:
+    """Product types of the library's exposure table (the seed's SCCS Notes of Guidance rows
+    and every row the team added with `formdb exposure add`)."""
+    from sqlalchemy import select
+
+    from formdb.store.models import ExposureEntry
+
+    return tuple(session.scalars(select(ExposureEntry.product).order_by(ExposureEntry.product)))
 
 
-def _check_product(formula: FormulaFile, label: str) -> None:
+def _product_problem(formula: FormulaFile, label: str, known: tuple[str, ...]) -> str | None:
     if formula.product is None:
-        return
-    known = known_product_types()
-    if formula.product.strip().casefold() not in {p.casefold() for p in known}:
-        raise InvalidData(
-            f"{label}, key product: {formula.product!r} is not a known product type "
-            f"(known: {', '.join(known)})",
-            hint="use one of the product types listed, or leave product out")
+        return None
+    if formula.product.strip().casefold() in {p.casefold() for p in known}:
+        return None
+    return (f"{label}, key product: {formula.product!r} is not a known product type "
+            f"(known: {', '.join(known)}; `formdb exposure add` adds one)")
 
 
 def read_inputs(paths: Iterable[Path]) -> list[FormulaInput]:
@@ -67,7 +65,6 @@ def read_inputs(paths: Iterable[Path]) -> list[FormulaInput]:
     problems of every file are reported together."""
     def read(path: Path) -> FormulaInput:
         formula, text = read_formula_file(path)
-        _check_product(formula, str(path))
         return FormulaInput(formula, text, str(path))
 
     return _every_item(read, paths)
@@ -75,14 +72,18 @@ def read_inputs(paths: Iterable[Path]) -> list[FormulaInput]:
 
 def input_from_text(text: str, label: str) -> FormulaInput:
     formula = parse_formula_text(text, label)
-    _check_product(formula, label)
     return FormulaInput(formula, text, label)
 
 
 def resolve(item: FormulaInput, found: dict[str, IngredientRecord],
-            session: Session) -> ResolvedFormula:
-    """Attach library ingredients to every line; unknown names are one input error each."""
+            session: Session, products: tuple[str, ...] | None = None) -> ResolvedFormula:
+    """Attach library ingredients to every line; unknown names are one input error each, and
+    so is a product type the library's exposure table lacks."""
     problems = []
+    if item.formula.product is not None:
+        known = products if products is not None else library_product_types(session)
+        if problem := _product_problem(item.formula, item.label, known):
+            problems.append(problem)
     lines = []
     for number, line in enumerate(item.formula.ingredients, start=1):
         record = found.get(name_key(line.inci))
@@ -95,8 +96,9 @@ def resolve(item: FormulaInput, found: dict[str, IngredientRecord],
         lines.append(ResolvedLine(line_no=number, given_name=line.inci, percent=line.percent,
                                   phase=line.phase, ingredient=record, purpose=line.purpose))
     if problems:
-        raise InvalidData.of(problems, hint="add the ingredient to the library "
-                             "(`formdb ingredient add`) or correct the name")
+        raise InvalidData.of(problems, hint="add the ingredient (`formdb ingredient add`) or "
+                             "product type (`formdb exposure add`) to the library, or correct "
+                             "the name")
     return ResolvedFormula(source=item.label, formula=item.formula, lines=tuple(lines),
                            content_hash=content_hash(item.text))
 
@@ -117,7 +119,9 @@ def resolve_all(session: Session, items: list[FormulaInput],
         if wanted:
             known.update(queries.find_ingredients(session, wanted))
         found = known
-    return _every_item(lambda item: resolve(item, found, session), items)
+    products = (library_product_types(session)
+                if any(item.formula.product is not None for item in items) else ())
+    return _every_item(lambda item: resolve(item, found, session, products), items)
 
 
 def _every_item(step: Callable[[Any], Any], items: Iterable[Any]) -> list[Any]:
