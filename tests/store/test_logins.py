@@ -290,3 +290,27 @@ def test_a_password_is_stored_as_a_scram_verifier(team: Team) -> None:
     [(stored,)] = _rows(team.url, f"SELECT rolpassword FROM pg_authid WHERE rolname = '{login}'")
     assert str(stored).startswith("SCRAM-SHA-256$4096:")
     assert "battery" not in str(stored)
+
+
+def test_seeding_and_claims_on_the_server(team: Team) -> None:
+    """Issue 13: `init --seed` by a user without the admin role; FORMDB_USER naming the admin."""
+    before = dump_database(team.url, exclude_columns=("at",))
+    for who in ("fay", "ed"):
+        refused = team.formdb(who, "init", "--seed", "--yes")
+        assert refused.exit_code == 2
+        assert f"{team.login(who)} may not seed an existing library: that needs the role " \
+               "admin" in refused.stderr
+    by_env = run_formdb(["--db", team.as_("fay"), "user", "list"],
+                        env={"FORMDB_USER": team.login("boss")})
+    assert by_env.exit_code == 2 and f"not {team.login('boss')}" in by_env.stderr
+    after = dump_database(team.url, exclude_columns=("at",))
+    assert after.count("'refused'") == before.count("'refused'") + 2
+    # the admin duty alone does not write library tables: the server says which role it needs
+    server = team.formdb("boss", "init", "--seed", "--yes")
+    assert server.exit_code == 2 and "that needs the role editor" in server.stderr
+    assert team.formdb("boss", "user", "grant", team.login("boss"), "editor", "--prefix",
+                       team.prefix, "--yes").exit_code == 0
+    shown = team.formdb("boss", "init", "--seed")
+    assert shown.exit_code == 2 and "would change it" in shown.stdout
+    done = team.formdb("boss", "init", "--seed", "--yes")
+    assert done.exit_code == 0, done.stderr
