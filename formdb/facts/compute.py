@@ -48,7 +48,8 @@ def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
                                              settings.min_blend_hlb_coverage, work)
 
     product = recognise(formula, lines, emulsifiers, work.water_formed, settings)
-    kind = emulsion_type(formula, emulsifiers, blend, blend_covered, settings, work)
+    hld = hld_facts(formula, lines, emulsifiers) if product.kind in EMULSION_KINDS else None
+    kind = emulsion_type(formula, emulsifiers, blend, blend_covered, settings, work, hld)
     if product.kind not in EMULSION_KINDS:
         work.note(f"{product.kind} ({product.reason}): no emulsion type, required HLB, dispersed "
                   "phase or creaming is worked out")
@@ -104,8 +105,7 @@ def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
             for item in sorted(substances(formula, reference).values(),
                                key=lambda i: (-i.percent, i.record.inci_name))
         ) if has_mixtures(formula, reference) else (),
-        hld=(hld_facts(formula, lines, emulsifiers) if product.kind in EMULSION_KINDS
-             else None),
+        hld=hld,
         gaps=work.data_gaps(),
         notes=tuple(work.notes))
 

@@ -2,10 +2,12 @@
 table), its indicators, and the working type the rest of the facts use (the intended type, else
 the decided one).
 
-Three indicators: the blend HLB's class (Griffin members only, given only with enough coverage),
+Four indicators: the blend HLB's class (Griffin members only, given only with enough coverage),
 the soap and ionic members (each favours the side it dissolves on: monovalent soaps and water-
-soluble ionic surfactants O/W, divalent and trivalent soaps W/O) and the solubility split of all
-the members by mass (Bancroft's rule read as a vote; supporting only).
+soluble ionic surfactants O/W, divalent and trivalent soaps W/O), Salager's HLD at 25 °C where
+the library holds its data (``facts.temperature``; supporting, with the temperature of making
+and the phase inversion temperature named) and the solubility split of all the members by mass
+(Bancroft's rule read as a vote; supporting only).
 """
 
 from __future__ import annotations
@@ -19,11 +21,13 @@ from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.result import (
     EmulsifierFacts,
     FactsSettings,
+    HldFacts,
     TypeDecision,
     TypeIndicator,
 )
 from formdb.schemas.vocab import EmulsionType
 from formdb.science.emulsion_type import decide_type, predict_type
+from formdb.science.hld import hld_type
 
 
 @dataclass(frozen=True)
@@ -58,9 +62,31 @@ def _ionic_indicator(emulsifiers: list[EmulsifierFacts]) -> TypeIndicator | None
                          detail=words)
 
 
+def _hld_indicator(hld: HldFacts, emulsifier_percent: float,
+                   band: float) -> TypeIndicator:
+    """The HLD read at 25 °C (the product as kept), naming the temperature of making and a
+    phase inversion crossed on cooling; "not enough data" (no type) where the HLD is missing."""
+    if hld.status != "computed" or hld.hld_25c is None or hld.hld is None:
+        return TypeIndicator(name="hld", favours=None, mass_percent=0.0,
+                             detail=f"not enough data: {hld.reason}")
+    favours = hld_type(hld.hld_25c, band=band)
+    parts = [f"HLD {hld.hld_25c:+.2f} at 25 °C"]
+    if abs(hld.temperature_c - 25.0) > 1e-9:
+        parts.append(f"{hld.hld:+.2f} at the {hld.temperature_c:g} °C of making")
+    pit = hld.pit_c
+    if pit is not None:
+        crossed = min(25.0, hld.temperature_c) < pit < max(25.0, hld.temperature_c)
+        parts.append(f"phase inversion about {pit:.0f} °C"
+                     + (", crossed on cooling" if crossed else ""))
+    if favours is None:
+        parts.append(f"within ±{band:g} of 0: either type can form")
+    return TypeIndicator(name="hld", favours=favours, mass_percent=emulsifier_percent,
+                         detail="; ".join(parts))
+
+
 def emulsion_type(formula: ResolvedFormula, emulsifiers: list[EmulsifierFacts],
                   blend: float | None, griffin_percent: float, settings: FactsSettings,
-                  work: Work) -> TypeFacts:
+                  work: Work, hld: HldFacts | None = None) -> TypeFacts:
     water_side = sum(e.percent for e in emulsifiers if e.side == "water")
     oil_side = sum(e.percent for e in emulsifiers if e.side == "oil")
     prediction = predict_type(water_side, oil_side, blend, margin=settings.bancroft_margin,
@@ -74,6 +100,12 @@ def emulsion_type(formula: ResolvedFormula, emulsifiers: list[EmulsifierFacts],
     ionic = _ionic_indicator(emulsifiers)
     if ionic is not None:
         indicators.append(ionic)
+    by_hld = None
+    if hld is not None:
+        hld_indicator = _hld_indicator(hld, sum(e.percent for e in emulsifiers),
+                                       settings.hld_band)
+        by_hld = hld_indicator.favours
+        indicators.append(hld_indicator)
     if water_side + oil_side > 0:
         indicators.append(TypeIndicator(
             name="solubility split", favours=prediction.bancroft,
@@ -81,7 +113,7 @@ def emulsion_type(formula: ResolvedFormula, emulsifiers: list[EmulsifierFacts],
             detail=f"water-soluble {water_side:.4g} % vs oil-soluble {oil_side:.4g} %"))
     decided = decide_type(prediction.by_hlb, griffin_percent,
                           ionic.favours if ionic else None, ionic.mass_percent if ionic else 0.0,
-                          prediction.bancroft)
+                          prediction.bancroft, by_hld)
     if emulsifiers and water_side + oil_side > 0 and prediction.bancroft is None:
         work.note("the solubility split gives no type: the emulsifier members are split about "
                   "evenly between water- and oil-soluble")

@@ -277,6 +277,20 @@ def _ionic_line(facts: FormulaFacts) -> Line | None:
     return Line("Soap and ionic", f"{favours}: {ionic.detail}")
 
 
+def _hld_line(facts: FormulaFacts) -> Line | None:
+    decision = facts.type_decision
+    hld = next((i for i in decision.indicators if i.name == "hld"), None) if decision else None
+    if hld is None:
+        return None
+    if hld.favours is None and hld.mass_percent <= 0:
+        return Line("By HLD", "not enough data (the Temperature and HLD section names what "
+                              "is missing)")
+    if hld.favours is None:
+        return Line("By HLD", f"no indication: {hld.detail}")
+    return Line("By HLD", f"{hld.favours.value}: {hld.detail}; a supporting indicator (its "
+                          "constants are from memory)")
+
+
 def _agreement_lines(result: CheckResult) -> list[Line]:
     facts, out = result.facts, []
     if facts.types_disagree:
@@ -299,7 +313,7 @@ def prediction_section(result: CheckResult) -> Section:
     decision = facts.type_decision
     predicted = facts.predicted_type.value if facts.predicted_type else "none"
     row = f" ({decision.row}{'' if decision.strong else '; weak evidence'})" if decision else ""
-    items = [_hlb_class_line(facts), _ionic_line(facts), _bancroft_line(facts),
+    items = [_hlb_class_line(facts), _ionic_line(facts), _hld_line(facts), _bancroft_line(facts),
              Line("Decided type", f"{predicted}{row}"),
              *_agreement_lines(result)]
     return Section("Emulsion type", (lines(*items),))

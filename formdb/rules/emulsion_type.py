@@ -62,17 +62,31 @@ class EmulsionTypeCheck(Rule):
     the wrong side (a divalent soap as the only emulsifier of an O/W). A warning when the
     decided type differs on weaker evidence. An info naming the indicators when they disagree
     among themselves (never an error by itself). Judges emulsions and soap creams (facts.kind).
-    Decision table (formdb.science.emulsion_type.decide_type): the blend HLB's class (Griffin
-    members only; W/O at or below 6, O/W at or above 8) and the soap/ionic members (monovalent
-    soaps and water-soluble ionic surfactants O/W, divalent and trivalent soaps W/O) decide; when
-    both give a type and agree, or one gives it alone, that type (strong); when they disagree,
-    the one behind more emulsifier mass (weak); when neither gives one, the solubility split of
-    the members by mass (weak); else no prediction.
+    Decision table (formdb.science.emulsion_type.decide_type), first row that applies:
+      HLB class | soap/ionic   | HLD at 25 °C | solubility split | decided            | strong
+      T         | T or none    | any          | any              | T                  | yes
+      none      | T            | any          | any              | T                  | yes
+      T         | U (differs)  | any          | any              | more emulsifier mass | no
+      none      | none         | T            | any              | T                  | no
+      none      | none         | none         | T                | T                  | no
+      none      | none         | none         | none             | no prediction      | -
+    The HLB class is the blend's (Griffin members only; W/O at or below 6, O/W at or above 8);
+    soap/ionic: monovalent soaps and water-soluble ionic surfactants O/W, divalent and trivalent
+    soaps W/O; HLD: Salager's HLD at 25 °C where the library holds the oils' EACN, the
+    emulsifiers' Cc (and, for ionics, the salinity), O/W below -0.5, W/O above +0.5 ([facts]
+    hld_band), naming the HLD at the temperature of making and a phase inversion temperature
+    crossed on cooling; "not enough data" (no type) where the data are missing. An indicator
+    that differs from the decided type is named in the info finding.
     Why: Bancroft (J. Phys. Chem. 17 (1913) 501): the continuous phase is the one the
     emulsifier system dissolves in. The blend HLB measures the system's solubility better than
     a vote of member masses: Griffin's O/W pair sorbitan oleate 3 + polysorbate 80 2 (blend 8.58)
     makes O/W though most of its mass is oil-soluble (Griffin, J. Soc. Cosmet. Chem. 1 (1949)
-    311: W/O emulsifiers about 3-6, O/W about 8-18; HLB above about 10 water-soluble).
+    311: W/O emulsifiers about 3-6, O/W about 8-18; HLB above about 10 water-soluble). The HLD
+    (Bourrel, Salager, Schechter, Wade, J. Colloid Interface Sci. 75 (1980) 451: HLD < 0 O/W,
+    > 0 W/O) is read at 25 °C because a temperature change inverts the emulsion where the HLD
+    crosses 0 (transitional inversion; the PIT method): the product keeps the type of its
+    storage temperature; it supports only, its constants being from memory (HLD01 judges the
+    temperature of making).
     Fails: intended W/O with Polysorbate 80 as the only emulsifier (HLB 15 > 10: error);
     intended O/W with Sorbitan Oleate alone (HLB 4.3 < 6: error).
     Passes: intended O/W with Sorbitan Oleate 3 and Polysorbate 80 2 (blend 8.58: O/W); intended

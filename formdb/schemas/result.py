@@ -66,6 +66,9 @@ class FactsSettings(_Frozen):
     hlb_wo_max: float = Field(6.0, ge=0, le=20)  # Griffin 1949: W/O emulsifiers about 3-6
     hlb_ow_min: float = Field(8.0, ge=0, le=20)  # Griffin 1949: O/W emulsifiers about 8-16/18
     bancroft_margin: float = Field(0.1, ge=0, lt=1)
+    # HLD within this of 0 gives no type indicator (near the optimum either type can form, and
+    # the HLD constants are from memory); the same default as HLD01's band
+    hld_band: float = Field(0.5, ge=0, le=5)
     droplet_diameter_um: float = Field(DEFAULT_DROPLET_DIAMETER_UM, gt=0, le=10000)
     droplet_diameter_source: str = "rule of thumb: creams and lotions mostly have 1-10 um drops"
     surface_excess_mg_m2: float = Field(DEFAULT_SURFACE_EXCESS_MG_M2, gt=0, le=100)
@@ -178,7 +181,7 @@ class HlbSystemFacts(_Frozen):
 class TypeIndicator(_Frozen):
     """One indicator of the emulsion type and what it rests on."""
 
-    name: Literal["hlb class", "soap and ionic", "solubility split"]
+    name: Literal["hlb class", "soap and ionic", "hld", "solubility split"]
     favours: EmulsionType | None
     mass_percent: float  # emulsifier mass behind it
     detail: str

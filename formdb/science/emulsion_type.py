@@ -12,17 +12,28 @@ oil-soluble and still makes O/W, because the blend's HLB (8.58) is what the inte
 
 ``decide_type`` is the decision table:
 
-| HLB class | soap / ionic | solubility split | decided | strong |
-|-----------|--------------|------------------|---------|--------|
-| T | T or none | any | T | yes |
-| none | T | any | T | yes |
-| T | U (differs) | any | the one behind more emulsifier mass | no |
-| none | none | T | T | no |
-| none | none | none | no prediction | - |
+| HLB class | soap / ionic | HLD (at 25 °C) | solubility split | decided | strong |
+|-----------|--------------|----------------|------------------|---------|--------|
+| T | T or none | any | any | T | yes |
+| none | T | any | any | T | yes |
+| T | U (differs) | any | any | the one behind more emulsifier mass | no |
+| none | none | T | any | T | no |
+| none | none | none | T | T | no |
+| none | none | none | none | no prediction | - |
 
 "none" is no indicator: no blend HLB (or one in the gap between the classes), no soap or ionic
-member, an evenly split system. A disagreement is reported as information naming both
-indicators, never as an error by itself.
+member, no HLD (the library lacks the EACN, Cc or salinity, or the HLD lies within the band
+around 0 where either type can form), an evenly split system. A disagreement is reported as
+information naming the indicators, never as an error by itself.
+
+The HLD (Salager; Bourrel, Salager, Schechter, Wade, J. Colloid Interface Sci. 75 (1980) 451:
+HLD < 0 O/W, > 0 W/O) is the third indicator. It is read at 25 °C, the temperature the product
+is kept and used at: a change of temperature inverts an emulsion where the HLD crosses 0 (the
+transitional inversion of Salager's formulation-composition map, which the PIT method uses), so
+an ethoxylated system made above its phase inversion temperature is W/O while hot and O/W once
+cooled. The HLD at the temperature of making is rule HLD01's concern. It supports and breaks no
+tie between the HLB class and the soaps: its constants are from memory, and it is worked out
+only for all-nonionic or all-ionic systems.
 """
 
 from __future__ import annotations
@@ -122,7 +133,8 @@ class Decision:
 
 def decide_type(by_hlb: EmulsionType | None, hlb_mass: float,
                 by_ionic: EmulsionType | None, ionic_mass: float,
-                by_split: EmulsionType | None) -> Decision:
+                by_split: EmulsionType | None,
+                by_hld: EmulsionType | None = None) -> Decision:
     """The decision table of this module's docstring. Masses (any one unit) are the emulsifier
     mass behind the HLB class (the Griffin members) and behind the soap/ionic indicator."""
     if by_hlb is not None and (by_ionic is None or by_ionic == by_hlb):
@@ -137,6 +149,9 @@ def decide_type(by_hlb: EmulsionType | None, hlb_mass: float,
                                     "nonionic members carry more of the system", False)
         return Decision(by_ionic, "the HLB class and the soap/ionic members disagree; the "
                                   "soap/ionic members carry more of the system", False)
+    if by_hld is not None:
+        return Decision(by_hld, "only the HLD at 25 °C gives a type (no HLB class or soap)",
+                        False)
     if by_split is not None:
         return Decision(by_split, "only the solubility split of the members gives a type", False)
     return Decision(None, "no indicator gives a type", False)

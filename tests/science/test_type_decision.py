@@ -40,3 +40,14 @@ def test_hlb_scale() -> None:
     assert hlb_scale(15.0, ionised=False) == "griffin"  # polysorbate 80
     assert hlb_scale(18.0, ionised=True) == "davies"  # sodium oleate (Davies 1957)
     assert hlb_scale(40.0, ionised=False) == "davies"  # beyond Griffin's 20: Davies' only
+
+
+def test_hld_supports_and_decides_only_without_hlb_class_or_soap() -> None:
+    # Salager's HLD (HLD < 0 O/W, > 0 W/O) is the third indicator: it never overrides the HLB
+    # class or the soap/ionic members, and it comes before the solubility split
+    assert decide_type(OW, 5.0, None, 0.0, OW, WO).predicted == OW
+    assert decide_type(None, 0.0, OW, 5.0, None, WO).predicted == OW
+    assert decide_type(WO, 4.0, OW, 1.0, None, OW).predicted == WO
+    decision = decide_type(None, 0.0, None, 0.0, OW, WO)
+    assert decision.predicted == WO and not decision.strong
+    assert "HLD" in decision.row
