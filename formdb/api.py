@@ -22,11 +22,13 @@ operating-system account); a ``user=`` that names someone else is refused
 from __future__ import annotations
 
 from collections.abc import Iterable, Iterator, Mapping, Sequence
+from datetime import date
 from pathlib import Path
 from typing import Any
 
 from formdb.errors import InvalidData
 from formdb.rules.profiles import Profile, load_profile
+from formdb.schemas.bench import PriceRecord, ScreeningFit, ScreeningSeries, WeighSheet
 from formdb.schemas.ingredient import IngredientRecord
 from formdb.schemas.result import CheckResult
 from formdb.store.library import Library
@@ -141,6 +143,103 @@ def import_ingredients(library: Library, path: Path, *, user: str | None = None,
                             dry_run=dry_run)
 
 
+# ----- the bench: weigh sheets, prices, screening series ----------------------------------------
+
+def weigh_sheet(library: Library, formula: FormulaGiven | None = None, *,
+                stored: str | None = None, batch_kg: float | None = None,
+                evaporation_percent: float = 0.0,
+                balances: Sequence[tuple[float, float]] | None = None,
+                label: str | None = None) -> WeighSheet:
+    """The weigh sheet of a batch (``formdb batch``): a formula (as for ``check``) or the
+    stored formula named ``stored``, every line scaled to ``batch_kg`` (else the formula's
+    ``batch_kg``), rounded to the balance that weighs it (``balances``: (resolution g,
+    capacity g) pairs, default the bench of the README), grouped by phase in process order,
+    with the total checked and the cost from the library's prices. Render it as the command
+    does with ``formdb.report.weigh_sheet.render_sheet(sheet, "text" | "csv" | "xlsx" |
+    "html")``."""
+    from formdb.science.weighing import DEFAULT_BALANCES, Balance
+    from formdb.services.bench_work.weigh_sheets import weigh_sheet_for_input
+
+    try:
+        bench = DEFAULT_BALANCES if balances is None else tuple(
+            Balance(resolution_g=r, capacity_g=c) for r, c in balances)
+    except ValueError as exc:
+        raise InvalidData(f"balances: {exc}") from None
+    item = None if formula is None else _as_input(formula, label)
+    return weigh_sheet_for_input(library, item, batch_kg, balances=bench,
+                                 evaporation_percent=evaporation_percent, stored=stored)
+
+
+def add_price(library: Library, inci: str, price_per_kg: float, currency: str, supplier: str,
+              *, quoted_on: date | None = None, note: str | None = None,
+              user: str | None = None) -> PriceRecord:
+    """Record a price quote (``formdb price add``); earlier quotes stay as the history."""
+    from formdb.services.bench_work.prices import add_price as add
+
+    return add(library, inci, price_per_kg, currency, supplier, user=_acting(library, user),
+               quoted_on=quoted_on, note=note)
+
+
+def prices(library: Library, inci: str | None = None) -> list[PriceRecord]:
+    """Every quote of one ingredient, or of all, oldest first (``formdb price list``)."""
+    from formdb.services.bench_work.prices import price_history
+
+    return price_history(library, inci)
+
+
+def plan_screening(library: Library, name: str, *, low: str, high: str,
+                   oils: Sequence[tuple[str, float]] = (), formula: Path | None = None,
+                   from_hlb: float = 6.0, to_hlb: float = 16.0, step: float = 1.0,
+                   oil_percent: float = 20.0, emulsifier_percent: float = 5.0,
+                   batch_g: float = 100.0, emulsion_type: str = "O/W",
+                   user: str | None = None) -> ScreeningSeries:
+    """Plan and store a screening series (``formdb screen plan``): the oil phase given as
+    (INCI, share) pairs or taken from a formula file, emulsified with the pair ``low``/``high``
+    at blend HLBs from ``from_hlb`` to ``to_hlb``; each blend with its weigh sheet
+    (``series.sheets``)."""
+    from formdb.schemas.vocab import EmulsionType
+    from formdb.services.bench_work.screening import plan_series
+
+    return plan_series(library, name, user=_acting(library, user), oils=list(oils),
+                       formula=formula, low=low, high=high, start=from_hlb, stop=to_hlb,
+                       step=step, oil_percent=oil_percent,
+                       emulsifier_percent=emulsifier_percent, batch_g=batch_g,
+                       emulsion_type=EmulsionType(emulsion_type))
+
+
+def screening_series(library: Library, name: str, *,
+                     with_sheets: bool = False) -> ScreeningSeries:
+    """A stored series: its blends and what was observed of each (``formdb screen show``)."""
+    from formdb.services.bench_work.screening import show_series
+
+    return show_series(library, name, with_sheets=with_sheets)
+
+
+def record_screening(library: Library, name: str, blend: int, *,
+                     stability: float | None = None, separation_percent: float | None = None,
+                     droplet_um: float | None = None, after_hours: float | None = None,
+                     note: str | None = None, user: str | None = None) -> ScreeningSeries:
+    """Record what the lab saw of one blend (``formdb screen record``); returns the series."""
+    from formdb.services.bench_work.screening import record_observations
+
+    values = {k: v for k, v in (("stability", stability),
+                                ("separation_percent", separation_percent),
+                                ("droplet_um", droplet_um)) if v is not None}
+    return record_observations(library, name, blend, values, user=_acting(library, user),
+                               after_hours=after_hours, note=note)
+
+
+def fit_screening(library: Library, name: str, *, measure: str = "stability",
+                  store: bool = False, user: str | None = None) -> ScreeningFit:
+    """The required HLB fitted to a series with its uncertainty (``formdb screen fit``);
+    ``store`` keeps it as an in-house measurement that the next check uses. Raises
+    ``InvalidData`` saying why when the series has no clear optimum."""
+    from formdb.services.bench_work.screening import fit_series
+
+    return fit_series(library, name, measure=measure, store=store,
+                      user=_acting(library, user))
+
+
 # ----- the review flow --------------------------------------------------------------------------
 
 def run_review(library: Library, source: Path | str, *, profile: ProfileGiven = None,
@@ -180,6 +279,7 @@ def filed_review(library: Library, run_key: str) -> Any:
     return filed_run(library, run_key)
 
 
-__all__ = ["Library", "check", "check_many", "check_stored", "create_library", "filed_review",
-           "import_ingredients", "list_ingredients", "open_library", "review_status",
-           "run_review", "show_ingredient", "sign_review"]
+__all__ = ["Library", "add_price", "check", "check_many", "check_stored", "create_library",
+           "filed_review", "fit_screening", "import_ingredients", "list_ingredients",
+           "open_library", "plan_screening", "prices", "record_screening", "review_status",
+           "run_review", "screening_series", "show_ingredient", "sign_review", "weigh_sheet"]

@@ -27,7 +27,7 @@ from formdb.schemas.formula import FormulaLine, ProcessStep, ResolvedFormula, Re
 from formdb.schemas.reference import ReferenceData
 from formdb.schemas.vocab import Role
 from formdb.science.weighing import DEFAULT_BALANCES, Balance, rounding_bound_g, weigh
-from formdb.services.checking.flow import input_from_text, read_inputs, resolve_all
+from formdb.services.checking.flow import FormulaInput, input_from_text, read_inputs, resolve_all
 from formdb.store import queries
 from formdb.store.library import Library
 
@@ -186,12 +186,24 @@ def weigh_sheet_for_file(library: Library, path: Path | None, batch_kg: float | 
     """Read the formula file (or the stored formula named ``stored``), resolve it in the
     library, load prices, build the sheet. The batch size comes from ``batch_kg`` or else the
     formula's ``batch_kg``. One read unit: the formula, its ingredients and prices agree."""
-    from formdb.services.bench_work.prices import prices_for
-    from formdb.services.library.formulas import formula_text
-
     if (path is None) == (stored is None):
         raise InvalidData("give a formula FILE or --stored NAME (one of them)")
     item = read_inputs([path])[0] if path is not None else None  # a bad file before the library
+    return weigh_sheet_for_input(library, item, batch_kg, balances=balances,
+                                 evaporation_percent=evaporation_percent, stored=stored)
+
+
+def weigh_sheet_for_input(library: Library, item: FormulaInput | None, batch_kg: float | None,
+                          *, balances: tuple[Balance, ...] = DEFAULT_BALANCES,
+                          evaporation_percent: float = 0.0,
+                          stored: str | None = None) -> WeighSheet:
+    """The sheet of a formula already read (``item``, e.g. from text), or else of the stored
+    formula named ``stored``; as ``weigh_sheet_for_file``."""
+    from formdb.services.bench_work.prices import prices_for
+    from formdb.services.library.formulas import formula_text
+
+    if (item is None) == (stored is None):
+        raise InvalidData("give a formula or the name of a stored formula (one of them)")
     with library.read() as session:
         if item is None:
             item = input_from_text(formula_text(library, str(stored)), f"stored:{stored}")
