@@ -11,7 +11,7 @@ from formdb.schemas.findings import Finding
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import FormulaFacts
-from formdb.schemas.vocab import Severity
+from formdb.schemas.vocab import Role, Severity
 
 _SEVERITIES = tuple(s.value for s in Severity)
 
@@ -21,15 +21,22 @@ class UseRange(Rule):
     """An ingredient is used below or above its typical use range.
 
     Flags: a line whose % is below the library's use_min_percent (info by default) or above its
-    use_max_percent (warning by default).
+    use_max_percent (warning by default). A trace, below trace_fraction (a tenth) of the range's
+    low end, is not judged against the range: it is there for another purpose (a note of scent,
+    a carry-over, an antioxidant for one raw material), not as a weak dose. The exception is a
+    preservative: a trace of one cannot preserve, and is more often a slipped decimal point, so
+    it is still reported.
     Why: typical use ranges summarise where an ingredient does its job without side effects:
     too little of a thickener or preservative does nothing, too much of a surfactant irritates
     or an emulsifier makes the cream soapy. A range is experience, not a limit of law (see
-    LIM01 for those).
-    Fails: Xanthan Gum 3 % (typical 0.1-1 %).
-    Passes: Xanthan Gum 0.5 %.
+    LIM01 for those). The trace threshold, a tenth of the low end, is a rule of thumb: a
+    formulator who weighs in a tenth of the working dose does not mean it to do that work.
+    Fails: Xanthan Gum 3 % (typical 0.1-1 %); Phenoxyethanol 0.005 % (typical 0.5-1 %: a trace
+    preservative).
+    Passes: Xanthan Gum 0.5 %; Parfum 0.0011 % (typical 0.1-1 %: a trace, not a weak dose).
     Options: below_severity (default "info") and above_severity (default "warning"): the
-    severity of each side.
+    severity of each side; trace_fraction (default 0.1): below this fraction of the range's low
+    end a line is a trace and not judged (0 judges every line).
     """
 
     code = "USE01"
@@ -39,6 +46,9 @@ class UseRange(Rule):
     options: ClassVar[dict[str, Option]] = {
         "below_severity": Option(str, "info", "severity below the use range", _SEVERITIES),
         "above_severity": Option(str, "warning", "severity above the use range", _SEVERITIES),
+        "trace_fraction": Option(float, 0.1, "below this fraction of the range's low end a "
+                                             "line is a trace, not judged (preservatives "
+                                             "still are)", minimum=0),
     }
 
     def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,
@@ -56,6 +66,21 @@ class UseRange(Rule):
                     advice=f"reduce {ln.inci} to {high:g} % or less, or record why more is "
                            "needed")
             elif low is not None and ln.percent < low - 1e-9:
+                trace = ln.percent < options["trace_fraction"] * low - 1e-12
+                preservative = ln.ingredient.has_role(Role.PRESERVATIVE)
+                if trace and not preservative:
+                    continue
+                if trace:
+                    yield self.finding(
+                        Severity(options["below_severity"]),
+                        f"{ln.inci} {ln.percent:g} % is a trace of a preservative (under "
+                        f"{options['trace_fraction']:g} x the low end of its typical use range, "
+                        f"{span}): it cannot preserve at this level",
+                        ingredients=[ln.inci], values=values,
+                        advice=f"check the decimal point; if {ln.inci} is meant to preserve, "
+                               f"use {low:g} % or more, else remove it or record why it is "
+                               "there")
+                    continue
                 yield self.finding(
                     Severity(options["below_severity"]),
                     f"{ln.inci} {ln.percent:g} % is below its typical use range ({span})",
