@@ -57,7 +57,9 @@ def _phase_lines(facts: FormulaFacts) -> list[Line]:
     return out
 
 
-def phases_section(facts: FormulaFacts) -> Section:
+def phases_section(facts: FormulaFacts, *, with_hlb: bool = True) -> Section:
+    """The phases table. ``with_hlb``: the report shows the HLB balance, where the soaps formed
+    in the batch are worked out; other kinds of product get that working here."""
     with_left = any(abs(ln.remaining_percent - ln.percent) > 1e-9 for ln in facts.lines)
     headers: tuple[str, ...] = ("Line", "INCI name", "% w/w", "Phase", "Side", "Density g/mL",
                                 "Placed by")
@@ -67,10 +69,12 @@ def phases_section(facts: FormulaFacts) -> Section:
         align = "nsnnssns"
     rows = [_line_row(ln, with_left) for ln in facts.lines]
     blocks: list[Block] = [table(headers, rows, align)]
+    where = "see the HLB balance" if with_hlb else "worked out below"
     if with_left:
-        blocks.append(Notes(("'Stays' is what remains of the line after soap forms in the "
-                             "batch (see the HLB balance).",)))
-    blocks.append(lines(*_phase_lines(facts)))
+        blocks.append(Notes((f"'Stays' is what remains of the line after soap forms in the "
+                             f"batch ({where}).",)))
+    soaps = [] if with_hlb else [line for soap in facts.soaps for line in _soap_lines(soap)]
+    blocks.append(lines(*_phase_lines(facts), *soaps))
     return Section("Phases", tuple(blocks))
 
 

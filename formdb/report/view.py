@@ -130,7 +130,7 @@ def formula_view(result: CheckResult) -> FormulaView:
     facts = result.facts
     emulsion = _is_emulsion(result)  # other kinds get only the sections that apply to them
     sections = tuple(s for s in (
-        phases_section(facts), substance_section(facts),
+        phases_section(facts, with_hlb=emulsion), substance_section(facts),
         hlb_section(facts) if emulsion else None,
         prediction_section(result) if emulsion else None,
         hld_section(facts) if emulsion else None,

@@ -91,3 +91,22 @@ def test_several_formulas_then_the_cautions_once() -> None:
     text = render([result(name="First"), result(name="Second")], "text")
     assert text.index("First") < text.index("Second") < text.index("Cautions")
     assert text.count("Cautions") == 1
+
+
+def test_a_soap_in_a_kind_without_the_hlb_balance_is_worked_out_in_the_phases() -> None:
+    # a liquid soap stated as a surfactant solution: no HLB balance section, so the phases note
+    # must not send the reader there; the soap's working (same stoichiometry as above) is shown
+    extra = {
+        "Stearic Acid": {"roles": {Role.FATTY_ACID, Role.EMULSIFIER}, "props": {
+            "solubility": "oil", "density": 0.94, "molar_mass": 284.48, "required_hlb_ow": 15}},
+        "Sodium Hydroxide": {"roles": {Role.PH_ADJUSTER}, "props": {
+            "solubility": "water", "density": 2.13, "molar_mass": 39.997,
+            "base_equivalents": 1, "cation_valence": 1, "neutralisation_water": 1}},
+    }
+    text = render([result(lines=[("Water", 84.0), ("Stearic Acid", 15.0),
+                                 ("Sodium Hydroxide", 1.0)], extra=extra,
+                          kind="surfactant solution")], "text")
+    flat = " ".join(text.split())
+    assert "HLB BALANCE" not in text and "see the HLB balance" not in flat
+    assert "after soap forms in the batch (worked out below)" in flat
+    assert "Soap formed in the batch" in flat and "Stearic Acid 7.89 % w/w" in flat
