@@ -334,18 +334,26 @@ def hld_section(facts: FormulaFacts) -> Section | None:
             Line("Temperature", at),
             Line("HLD", f"not enough data: {h.reason}"),
             Line("Constants", h.constants)),))
-    favours = h.favours.value if h.favours else "neither (optimum, HLD = 0)"
+    band = facts.settings.hld_band
+
+    def reading(value: float | None) -> str:
+        if value is None:
+            return n.DASH
+        side = ("O/W" if value < -band else "W/O" if value > band
+                else f"near the optimum, within ±{band:g}: either type")
+        return f"{value:+.2f} ({side})"
+
     items = [Line("Temperature", at),
              Line("Oil EACN", f"{n.plain(h.eacn or 0)} (weight average of the oils)"),
              Line("Surfactant Cc", f"{n.plain(h.cc or 0)} ({h.form}, weight average)"),
              Line("Salinity", f"{n.plain(h.salinity_g_100ml or 0)} g NaCl per 100 g water "
                               "phase"),
-             Line("HLD", f"{(h.hld or 0):+.2f} at {n.plain(h.temperature_c)} °C, "
-                         f"{(h.hld_25c or 0):+.2f} at 25 °C: favours {favours} "
-                         "(HLD < 0 O/W, > 0 W/O)"),
+             Line("HLD", (f"{reading(h.hld)} at {n.plain(h.temperature_c)} °C, "
+                          if abs(h.temperature_c - 25.0) > 1e-9 else "")
+                  + f"{reading(h.hld_25c)} at 25 °C (HLD < 0 favours O/W, > 0 W/O)"),
              Line("Phase inversion", (f"about {n.plain(h.pit_c)} °C (the nonionic HLD crosses 0;"
                                       " O/W below, W/O above)") if h.pit_c is not None else
-                  "not estimated (only for ethoxylated nonionic systems)"),
+                  "not estimated (only when every emulsifier is an ethoxylated nonionic)"),
              Line("Constants", h.constants)]
     return Section("Temperature and HLD", (lines(*items),))
 

@@ -110,3 +110,25 @@ def test_a_soap_in_a_kind_without_the_hlb_balance_is_worked_out_in_the_phases() 
     assert "HLB BALANCE" not in text and "see the HLB balance" not in flat
     assert "after soap forms in the batch (worked out below)" in flat
     assert "Soap formed in the batch" in flat and "Stearic Acid 7.89 % w/w" in flat
+
+
+def test_the_hld_is_read_at_both_temperatures_and_as_the_third_type_indicator() -> None:
+    # HLD by hand with science.md section 6's memory constants (as tests/rules/cases/HLD01.toml):
+    # hexadecane EACN 16 (definition), a hypothetical Cc -0.2 for the ethoxylate:
+    # 25 °C: -0.17 x 16 - 0.2 = -2.92 (O/W); 85 °C: -2.92 + 0.06 x 60 = +0.68 (W/O);
+    # PIT = 25 + 2.92 / 0.06 = 73.7 °C, crossed on cooling
+    extra = {
+        "Hexadecane": {"roles": {Role.OIL}, "props": {"solubility": "oil", "eacn": 16,
+                                                      "density": 0.77}},
+        "Laureth-4": {"roles": {Role.EMULSIFIER}, "props": {
+            "solubility": "water", "ionic_character": "nonionic", "hlb": 9.7, "hld_cc": -0.2,
+            "ethoxylated": True}},
+    }
+    text = render([result(lines=[("Water", 75.0), ("Hexadecane", 20.0), ("Laureth-4", 5.0)],
+                          extra=extra, intended_type="O/W",
+                          process={"temperature_c": 85})], "text")
+    flat = " ".join(text.split())
+    assert "+0.68 (W/O) at 85 °C, -2.92 (O/W) at 25 °C" in flat
+    assert "By HLD O/W: HLD -2.92 at 25 °C; +0.68 at the 85 °C of making; phase inversion " \
+           "about 74 °C, crossed on cooling" in flat
+    assert "the indicators agree" in flat
