@@ -14,7 +14,7 @@ from sqlalchemy import MetaData, create_engine, func, select, text
 from sqlalchemy.engine import make_url
 
 from formdb.store.db import make_engine
-from formdb.store.sealing import SEALED_COLUMNS
+from formdb.store.sealing import FORMS, SEALED_COLUMNS
 
 PG_ENV = "FORMDB_TEST_PG_URL"
 
@@ -26,7 +26,8 @@ def pg_base_url() -> str | None:
 
 def dump_database(url: str, exclude_columns: Collection[str] = (),
                   tables: Collection[str] | None = None) -> str:
-    """Every table's columns and rows as text, tables by name, rows fully ordered.
+    """Every table's columns and rows as text, tables and columns by name (a column a downgrade
+    puts back comes last in its table), rows fully ordered.
 
     Two dumps are equal exactly when the library holds the same rows (the alembic revision
     included). ``exclude_columns`` leaves out columns such as timestamps where a test re-creates
@@ -45,9 +46,12 @@ def dump_database(url: str, exclude_columns: Collection[str] = (),
                 table = meta.tables[name]
                 # the server's keyed seal differs per database (its own key): never compared
                 left_out = {*exclude_columns, "server_seal"}
-                if left_out & set(SEALED_COLUMNS.get(name, ())):  # the seals cover every column
+                sealed = set(SEALED_COLUMNS.get(name, ())).union(
+                    *FORMS.get(name, {}).values())
+                if left_out & sealed:  # the seals cover every column
                     left_out |= {"prev_hash", "row_hash"}
-                cols = [c for c in table.columns if c.name not in left_out]
+                cols = sorted((c for c in table.columns if c.name not in left_out),
+                              key=lambda c: c.name)
                 lines.append(f"== {name} ({', '.join(c.name for c in cols)})")
                 if not cols:
                     count = conn.execute(select(func.count()).select_from(table)).scalar_one()

@@ -8,7 +8,6 @@ version 1, and one ``add`` change-log row (``tests/bench`` compares the two).
 
 from __future__ import annotations
 
-import json
 import tempfile
 from collections.abc import Iterator
 from contextlib import contextmanager
@@ -26,6 +25,7 @@ from formdb.errors import ConfigError
 from formdb.schemas.ingredient import name_key
 from formdb.services.library.formula_files import content_hash, parse_formula_text
 from formdb.services.seed.setup import init_library
+from formdb.store.change_log import log_entry, log_values
 from formdb.store.db import open_library, sqlite_path, unit_of_work
 from formdb.store.models import ChangeLogEntry, Source, StoredFormula
 from formdb.store.sealing import append_rows
@@ -56,11 +56,12 @@ def add_source(session: Session, user: str) -> None:
     if session.get(Source, synthetic.SOURCE_KEY) is not None:
         return
     session.add(Source(**synthetic.SOURCE_ROW))
-    session.add(ChangeLogEntry(
+    session.add(log_entry(
         at=datetime.now(UTC), user=user, entity="source", entity_key=synthetic.SOURCE_KEY,
-        entity_version=None, action="add", field=None, old_value=None,
-        new_value=json.dumps({k: v for k, v in synthetic.SOURCE_ROW.items() if v is not None},
-                             sort_keys=True), reason="benchmark data"))
+        entity_version=None, action="add",
+        changes=[{"field": k, "old": None, "new": v} for k, v in synthetic.SOURCE_ROW.items()
+                 if v is not None],
+        reason="benchmark data"))
 
 
 def add_ingredients(url: str, plan: LibraryPlan, user: str = BENCH_USER) -> int:
@@ -105,9 +106,10 @@ def stored_rows(index: int, text: str, now: datetime, user: str,
     row = {"name": formula.name, "name_key": name_key(formula.name), "content": text,
            "content_hash": digest, "version": 1, "created_at": now, "updated_at": now,
            "updated_by": user}
-    log = {"at": now, "user": user, "entity": "formula", "entity_key": formula.name,
-           "entity_version": 1, "action": "add", "field": "content_hash", "old_value": None,
-           "new_value": digest, "reason": f"imported from {label}"}
+    log = log_values(at=now, user=user, entity="formula", entity_key=formula.name,
+                     entity_version=1, action="add",
+                     changes=[{"field": "content_hash", "old": None, "new": digest}],
+                     reason=f"imported from {label}")
     return row, log
 
 

@@ -94,11 +94,31 @@ def ingredient_detail(detail: Any, *, width: int | None = None) -> str:
 def ingredient_history(entries: Sequence[Any], *, width: int | None = None) -> str:
     from rich.table import Table
 
+    from formdb.schemas.change_log import value_text
+
     table = Table("when (UTC)", "who", "action", "version", "field", "old", "new", "reason")
     for e in entries:
-        table.add_row(when(e.at), e.user, e.action, "" if e.version is None else str(e.version),
-                      e.field or "", e.old or "", e.new or "", e.reason or "")
+        head = [when(e.at), e.user, e.action, "" if e.version is None else str(e.version)]
+        rows = [(field, value_text(old) if old not in (None, []) else "",
+                 value_text(new) if new not in (None, []) else "")
+                for field, old, new in _history_rows(e.changes)] or [("", "", "")]
+        for number, (field, old, new) in enumerate(rows):
+            table.add_row(*(head if number == 0 else [""] * 4), field, old, new,
+                          (e.reason or "") if number == 0 else "")
     return _tables(lambda c: c.print(table), width) + f"{len(entries)} change(s).\n"
+
+
+def _history_rows(changes: Sequence[Any]) -> list[tuple[str, Any, Any]]:
+    """(field, old, new) per changed part of each field: the value, then its source and note."""
+    rows = []
+    for change in changes:
+        given = change.model_fields_set
+        if given & {"old", "new"}:
+            rows.append((change.field, change.old, change.new))
+        rows += [(f"{change.field} {part}", getattr(change, f"old_{part}"),
+                  getattr(change, f"new_{part}")) for part in ("source", "note", "evidence")
+                 if given & {f"old_{part}", f"new_{part}"}]
+    return rows
 
 
 def record_changes(report: Any, verb: str) -> str:

@@ -147,7 +147,10 @@ class PropertyValue(Base):
 
 
 class ChangeLogEntry(Base):
-    """Every add, edit, retire and import: who, when (UTC), field, old and new value, why."""
+    """One change of one record (add, edit, retire, import, seed...): who, when (UTC), which
+    record at which version, why; what changed is ``payload``, typed JSON described in
+    formdb.schemas.change_log. ``form`` is the canonical form the row was sealed in
+    (formdb.store.sealing.FORMS): 1 for rows migrated from the per-column log, 2 since."""
 
     __tablename__ = "change_log"
 
@@ -158,9 +161,8 @@ class ChangeLogEntry(Base):
     entity_key: Mapped[str] = mapped_column(String(200), index=True)
     entity_version: Mapped[int | None] = mapped_column(Integer)
     action: Mapped[str] = mapped_column(String(20))  # add | edit | retire | restore | import | seed
-    field: Mapped[str | None] = mapped_column(String(60))
-    old_value: Mapped[str | None] = mapped_column(Text)
-    new_value: Mapped[str | None] = mapped_column(Text)
+    form: Mapped[int] = mapped_column(Integer, default=2)
+    payload: Mapped[str] = mapped_column(Text)
     reason: Mapped[str | None] = mapped_column(Text)
     prev_hash: Mapped[str | None] = mapped_column(String(64))  # hash chain (formdb audit verify)
     row_hash: Mapped[str | None] = mapped_column(String(64))

@@ -3,7 +3,10 @@
 Each sealed table is its own chain ordered by id. A row's ``row_hash`` is
 ``sha256(prev_hash + canonical(row))``, where ``canonical`` is every column except ``row_hash``
 in a fixed order, each value as text (timestamps in ISO 8601 UTC), and ``prev_hash`` is the
-``row_hash`` of the row before it (``GENESIS`` for the first row). Editing, removing or slipping
+``row_hash`` of the row before it (``GENESIS`` for the first row). A table whose covered columns
+changed keeps every old form (``FORMS``): a row's ``form`` column says which one it was sealed in
+(the change log's form 1 is the per-column log before migration 0021; its rows carry that text
+in their payload's "sealed" part). Editing, removing or slipping
 in a row with plain SQL then breaks the chain, which ``formdb audit verify`` reports.
 
 Sealing happens on formdb's own session class, ``LibrarySession`` (every unit of work of a
@@ -42,7 +45,7 @@ GENESIS = "0" * 64  # prev_hash of the first row of every chain
 # model column is neither listed nor row_hash, so that choice is made knowingly).
 SEALED_COLUMNS: dict[str, tuple[str, ...]] = {
     "change_log": ("id", "at", "user", "entity", "entity_key", "entity_version", "action",
-                   "field", "old_value", "new_value", "reason", "prev_hash"),
+                   "form", "payload", "reason", "prev_hash"),
     "review_runs": ("id", "run_key", "run_hash", "formula_name", "formula_source",
                     "formula_hash", "formula_text", "library_hash", "records_json",
                     "profile_name", "profile_version", "formdb_version", "created_at",
@@ -66,6 +69,16 @@ ADDED_LATER: dict[str, frozenset[str]] = {
 # server's keyed seal (migration 0019: a trigger computes it with a key writer logins cannot
 # read; formdb never writes it). Neither is part of the canonical form.
 NOT_CANONICAL = ("row_hash", "server_seal")
+
+# Canonical forms per table, by the row's ``form`` column (tables without one have form 1 only).
+# Form 1 of the change log is the per-column log of before migration 0021: its rows keep the hash
+# computed over that text, which they carry in their payload's "sealed" part.
+FORMS: dict[str, dict[int, tuple[str, ...]]] = {
+    "change_log": {
+        1: ("id", "at", "user", "entity", "entity_key", "entity_version", "action", "field",
+            "old_value", "new_value", "reason", "prev_hash"),
+        2: SEALED_COLUMNS["change_log"]},
+}
 _WRITE_LOCK_ID = 0x666462_6C6F67  # pg_advisory_xact_lock key shared by every formdb writer
 _LOCKED = "formdb_sealing_locked_tx"
 _APPENDING = "formdb_sealed_append"  # execution option set only by append_rows
@@ -100,11 +113,29 @@ def utc(value: datetime) -> datetime:
 
 
 def canonical(table: str, values: Mapping[str, Any]) -> str:
-    """The row as one text: [[column, value-as-text], ...] in SEALED_COLUMNS order, as JSON."""
+    """The row as one text: [[column, value-as-text], ...] in the order of its form's columns
+    (SEALED_COLUMNS for rows written now, FORMS for older forms), as JSON; a column of
+    ADDED_LATER is listed only when it holds a value."""
+    columns = SEALED_COLUMNS[table]
+    form = values.get("form")
+    if table in FORMS and form is not None and form != max(FORMS[table]):
+        columns = FORMS[table].get(form if isinstance(form, int) else -1, ())
+        if not columns:
+            return json.dumps([["form", as_text(form)]])  # no such form: never matches a hash
+        values = {**values, **_sealed_text(values.get("payload"))}
     later = ADDED_LATER.get(table, frozenset())
-    pairs = [[column, as_text(values.get(column))] for column in SEALED_COLUMNS[table]
+    pairs = [[column, as_text(values.get(column))] for column in columns
              if column not in later or values.get(column) is not None]
     return json.dumps(pairs, ensure_ascii=False, separators=(",", ":"))
+
+
+def _sealed_text(payload: Any) -> dict[str, Any]:
+    """The old columns a form-1 change-log row was sealed with (its payload's "sealed" part)."""
+    try:
+        sealed = json.loads(payload).get("sealed") if isinstance(payload, str) else None
+    except (ValueError, AttributeError):
+        sealed = None
+    return sealed if isinstance(sealed, dict) else {}
 
 
 def row_hash(prev_hash: str, canonical_text: str) -> str:
@@ -117,7 +148,10 @@ def seal(table: str, rows: Sequence[dict[str, Any]], first_id: int | Sequence[in
     the first one to ``prev_hash``; returns the last row's hash (the new head)."""
     ids = (list(range(first_id, first_id + len(rows))) if isinstance(first_id, int)
            else list(first_id))
+    current = max(FORMS[table]) if table in FORMS else None
     for row, row_id in zip(rows, ids, strict=True):
+        if current is not None and row.get("form") is None:
+            row["form"] = current
         for key, value in row.items():
             if isinstance(value, datetime):
                 row[key] = utc(value)
@@ -304,6 +338,6 @@ event.listen(LibrarySession, "before_flush", _before_flush)
 event.listen(LibrarySession, "do_orm_execute", _on_execute)
 
 
-__all__ = ["ADDED_LATER", "GENESIS", "SEALED_COLUMNS", "AppendOnly", "LibrarySession",
+__all__ = ["ADDED_LATER", "FORMS", "GENESIS", "SEALED_COLUMNS", "AppendOnly", "LibrarySession",
            "append_rows", "as_text", "canonical", "chain_head", "lock_for_write", "row_hash",
            "seal", "utc"]

@@ -52,12 +52,12 @@ def _import(url: str, table: Path) -> ingredients.ImportReport:
         engine.dispose()
 
 
-def _one_at_a_time(session: object, batch: Sequence[tuple[object, list[object]]],
-                   evidence: Mapping[str, str], *, action: str, user: str, reason: str | None,
-                   now: datetime) -> None:
-    for item, changes in batch:
-        ingredients._write(session, None, item, changes, evidence,  # type: ignore[arg-type]
-                           action=action, user=user, reason=reason, now=now)
+def _one_at_a_time(session: object, batch: Sequence[object], evidence: Mapping[str, str], *,
+                   action: str, user: str, reason: str | None, now: datetime,
+                   via: str | None) -> None:
+    for item in batch:
+        ingredients._write(session, None, item, None, evidence,  # type: ignore[arg-type]
+                           action=action, user=user, reason=reason, now=now, via=via)
 
 
 @pytest.fixture(params=["sqlite", pytest.param("postgresql", marks=pytest.mark.postgres)])

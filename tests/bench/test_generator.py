@@ -155,8 +155,8 @@ def _formula_rows(url: str) -> list[tuple[object, ...]]:
             formulas = [(f.name, f.name_key, f.content, f.content_hash, f.version, f.updated_by)
                          for f in session.scalars(select(StoredFormula)
                                                   .order_by(StoredFormula.name_key))]
-            logs = [(e.user, e.entity, e.entity_key, e.entity_version, e.action, e.field,
-                     e.old_value, e.new_value, e.reason)
+            logs = [(e.user, e.entity, e.entity_key, e.entity_version, e.action, e.form,
+                     e.payload, e.reason)
                     for e in session.scalars(select(ChangeLogEntry)
                                              .where(ChangeLogEntry.entity == "formula")
                                              .order_by(ChangeLogEntry.entity_key))]

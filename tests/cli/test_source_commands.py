@@ -221,4 +221,4 @@ def test_reseeding_regrades_values_of_a_downgraded_source(seeded_library_url: st
               if p["source"] == "hpe6"}
     assert grades == {"secondary copy"}
     log = dump_database(seeded_library_url, tables=["change_log"])
-    assert "'grade'" in log and "'secondary copy'" in log
+    assert "'grade'" in log and '"new_evidence":"secondary copy"' in log

@@ -9,6 +9,7 @@ from __future__ import annotations
 import pytest
 from sqlalchemy import select
 
+from formdb.schemas.change_log import read_payload
 from formdb.store.db import make_engine, unit_of_work
 from formdb.store.identity import os_account
 from formdb.store.models import ChangeLogEntry, User
@@ -27,11 +28,17 @@ def library(sqlite_url: str) -> str:
     return url
 
 
+def _field(payload: str) -> str | None:
+    """The field an entry changed (the action a refusal attempted)."""
+    read = read_payload(payload)
+    return read.attempted or (read.changes[0].field if read.changes else None)
+
+
 def _log(url: str, entity: str = "user") -> list[tuple[str, str, str, str | None]]:
     engine = make_engine(url)
     try:
         with unit_of_work(engine) as session:
-            return [(e.user, e.entity_key, e.action, e.field) for e in session.scalars(
+            return [(e.user, e.entity_key, e.action, _field(e.payload)) for e in session.scalars(
                 select(ChangeLogEntry).where(ChangeLogEntry.entity == entity)
                 .order_by(ChangeLogEntry.id))]
     finally:

@@ -13,6 +13,7 @@ from sqlalchemy import select
 
 from formdb.errors import Forbidden
 from formdb.schemas.admin import Action
+from formdb.schemas.change_log import read_payload
 from formdb.services.admin.access import add_user, grant, is_open, list_users, require
 from formdb.store.db import make_engine, unit_of_work
 from formdb.store.models import ChangeLogEntry
@@ -83,7 +84,7 @@ def test_roles_decide_and_refusals_are_logged(sqlite_library: str) -> None:
     assert stranger.exit_code == 2 and "eve may not change the library" in stranger.stderr
 
     logged = _refusals(library)
-    assert [(e.user, e.field) for e in logged] == [
+    assert [(e.user, read_payload(e.payload).attempted) for e in logged] == [
         ("bo", "change the library"), ("bo", "manage users"), ("eve", "change the library")]
     # apart from the three refusal rows the library is exactly as it was
     assert dump_database(library, exclude_columns=()).count("refused") == 3

@@ -20,6 +20,7 @@ import pytest
 from sqlalchemy import select, text, update
 
 from formdb.services.library.ingredients import add_ingredient, edit_ingredient
+from formdb.store.change_log import FORM, payload_text
 from formdb.store.db import make_engine, unit_of_work
 from formdb.store.models import Base, ChangeLogEntry
 from formdb.store.sealing import GENESIS, SEALED_COLUMNS, AppendOnly, canonical, row_hash, seal
@@ -41,7 +42,8 @@ def _entry(**over: Any) -> dict[str, Any]:
     row: dict[str, Any] = {
         "at": datetime(2026, 3, 1, 9, 30, 0, 125000, tzinfo=UTC), "user": "larkspur-lab",
         "entity": "ingredient", "entity_key": "Cetyl Alcohol", "entity_version": 2,
-        "action": "edit", "field": "hlb", "old_value": "1", "new_value": "15.5",
+        "action": "edit", "form": FORM,
+        "payload": payload_text([{"field": "hlb", "old": 1.0, "new": 15.5}]),
         "reason": "supplier sheet"}
     row.update(over)
     return row
@@ -77,7 +79,7 @@ def test_every_column_but_row_hash_is_sealed() -> None:
 
 
 def test_seal_links_rows_and_any_change_shows() -> None:
-    rows = [_entry(new_value=str(v)) for v in (10, 11, 12)]
+    rows = [_entry(payload=payload_text([{"field": "hlb", "new": v}])) for v in (10, 11, 12)]
     head = seal("change_log", rows, 5, GENESIS)
     assert [r["id"] for r in rows] == [5, 6, 7]
     assert rows[0]["prev_hash"] == GENESIS
@@ -157,7 +159,8 @@ def test_seeded_library_is_one_intact_chain(seeded_library_url: str) -> None:
 def test_plain_sql_edit_is_found(library_url: str) -> None:
     _stock(library_url)
     target = _rows(library_url)[3]
-    _sql(library_url, "UPDATE change_log SET new_value = :v WHERE id = :i", v="99", i=target.id)
+    _sql(library_url, "UPDATE change_log SET payload = replace(payload, '4', '9') WHERE id = :i",
+         i=target.id)
     code, log, err = _verify(library_url)
     assert code == 1 and not log["intact"]
     first = log["problems"][0]
@@ -187,9 +190,13 @@ def test_deleting_the_first_row_is_found(library_url: str) -> None:
 
 
 _INSERT = ("INSERT INTO change_log (id, at, \"user\", entity, entity_key, entity_version, action, "
-           "field, old_value, new_value, reason, prev_hash, row_hash) VALUES (:id, :at, :user, "
-           ":entity, :entity_key, :entity_version, :action, :field, :old_value, :new_value, "
+           "form, payload, reason, prev_hash, row_hash) VALUES (:id, :at, :user, "
+           ":entity, :entity_key, :entity_version, :action, :form, :payload, "
            ":reason, :prev_hash, :row_hash)")
+
+
+def _says(text: str) -> str:
+    return payload_text([{"field": "hlb_note", "old": None, "new": text}])
 
 
 def _insert(url: str, row: dict[str, Any]) -> None:
@@ -204,7 +211,7 @@ def test_forged_rows_are_found(library_url: str) -> None:
     rows = _rows(library_url)
     head = rows[-1]
     # a forged row appended with plain SQL: no hash, or a made-up one
-    _insert(library_url, {**_entry(new_value="forged"), "id": head.id + 1,
+    _insert(library_url, {**_entry(payload=_says("forged")), "id": head.id + 1,
                           "prev_hash": head.row_hash, "row_hash": None})
     code, log, _err = _verify(library_url)
     assert code == 1
@@ -220,13 +227,13 @@ def test_row_slipped_into_a_gap_is_found(library_url: str) -> None:
     _stock(library_url)
     head = _rows(library_url)[-1]
     # a sealed row after a gap in ids (PostgreSQL spends the ids of rolled-back writes): intact
-    later = {**_entry(new_value="later"), "at": datetime.now(UTC)}
+    later = {**_entry(payload=_says("later")), "at": datetime.now(UTC)}
     seal("change_log", [later], head.id + 3, head.row_hash or "")
     _insert(library_url, later)
     code, log, _err = _verify(library_url)
     assert code == 0, log
     # a forger fills the gap with a well-formed sealed row linked to the row before: found
-    forged = {**_entry(new_value="slipped in"), "at": datetime.now(UTC)}
+    forged = {**_entry(payload=_says("slipped in")), "at": datetime.now(UTC)}
     seal("change_log", [forged], head.id + 1, head.row_hash or "")
     _insert(library_url, forged)
     code, log, _err = _verify(library_url)
@@ -241,7 +248,7 @@ def test_session_refuses_to_change_sealed_rows(library_url: str) -> None:
     try:
         with pytest.raises(AppendOnly), unit_of_work(engine, write=True) as session:
             row = session.scalars(select(ChangeLogEntry).limit(1)).one()
-            row.new_value = "rewritten"
+            row.payload = "rewritten"
             session.flush()
         with pytest.raises(AppendOnly), unit_of_work(engine, write=True) as session:
             session.execute(update(ChangeLogEntry).values(reason="rewritten"))

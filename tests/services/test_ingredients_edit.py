@@ -71,11 +71,13 @@ def test_edit_changes_value_bumps_version_and_logs_each_field(library: str) -> N
         history = ingredient_history(session, "Sorbitan Oleate")
         detail = show_ingredient(session, "Sorbitan Oleate")
     edits = [h for h in history if h.action == "edit"]
-    assert [(h.user, h.version, h.field, h.old, h.new, h.reason) for h in edits] == [
-        ("ana", 2, "hlb", "4.3", "4.4", "bench check, lot 7"),
-        ("ana", 2, "hlb_source", "griffin-1954", "larkspur-bench", "bench check, lot 7"),
-        ("ana", 2, "density", None, "0.99", "bench check, lot 7"),
-        ("ana", 2, "density_source", None, "larkspur-bench", "bench check, lot 7")]
+    # one entry for the one change, its fields as data: numbers as numbers, sources beside them
+    assert [(h.user, h.version, h.reason) for h in edits] == [("ana", 2, "bench check, lot 7")]
+    assert [c.model_dump(exclude_unset=True) for c in edits[0].changes] == [
+        {"field": "hlb", "old": 4.3, "new": 4.4, "old_source": "griffin-1954",
+         "new_source": "larkspur-bench"},
+        {"field": "density", "old": None, "new": 0.99, "old_source": None,
+         "new_source": "larkspur-bench"}]
     assert {h.user for h in history if h.action == "import"} == {SETUP_USER}
     assert detail.record.p.hlb == 4.4
     assert detail.record.provenance["hlb"].evidence.value == "measured"
@@ -205,7 +207,10 @@ def test_add_then_duplicate_add(library: str) -> None:
     assert FieldChange("inci_name", "", "Polysorbate 20") in report.changes
     assert FieldChange("hlb", "", "16.7") in report.changes
     with _session(library) as session:
-        assert [h.action for h in ingredient_history(session, "polysorbate 20")] == ["add"] * 6
+        added = ingredient_history(session, "polysorbate 20")
+    assert [h.action for h in added] == ["add"]
+    assert [c.field for c in added[0].changes] == ["inci_name", "synonyms", "cas", "roles", "hlb"]
+    assert added[0].changes[3].new == ["emulsifier"] and added[0].changes[4].new == 16.7
     error = _unchanged(library, Conflict, add_ingredient, "polysorbate  20", user="ana")
     assert "already belongs to the library's 'Polysorbate 20'" in str(error)
 

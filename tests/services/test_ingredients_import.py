@@ -9,11 +9,13 @@ and 0.890 mPa·s at 25 °C (CRC Handbook).
 from __future__ import annotations
 
 import csv
+import json
 from pathlib import Path
 
 import pytest
 from sqlalchemy import select
 
+from formdb.schemas.change_log import ChangePayload
 from formdb.services.library.ingredients import FieldChange, export_table, import_table
 from formdb.services.library.tables import TableProblems
 from formdb.store import queries
@@ -124,7 +126,7 @@ def test_blank_cells_leave_values_alone(library: str, tmp_path: Path) -> None:
     assert report.unchanged == ["Polysorbate 80"]
 
 
-def test_import_writes_one_log_row_per_field(library: str, tmp_path: Path) -> None:
+def test_import_writes_one_typed_log_entry_per_change(library: str, tmp_path: Path) -> None:
     path = _table(tmp_path, "inci_name,hlb,hlb_source,density,density_source\n"
                             "Sorbitan Oleate,4.3,griffin-1954,0.99,from-memory\n"
                             "Polysorbate 20,16.7,hpe6,,\n")
@@ -136,15 +138,19 @@ def test_import_writes_one_log_row_per_field(library: str, tmp_path: Path) -> No
                                    .order_by(ChangeLogEntry.id)).all()
     finally:
         engine.dispose()
-    logged = [(r.entity_key, r.action, r.entity_version, r.field, r.old_value, r.new_value)
+    logged = [(r.entity_key, r.action, r.entity_version, r.form, json.loads(r.payload))
               for r in rows]
     assert logged == [
-        ("Sorbitan Oleate", "import", 2, "density", None, "0.99"),
-        ("Sorbitan Oleate", "import", 2, "density_source", None, "from-memory"),
-        ("Polysorbate 20", "import", 1, "inci_name", None, "Polysorbate 20"),
-        ("Polysorbate 20", "import", 1, "hlb", None, "16.7"),
-        ("Polysorbate 20", "import", 1, "hlb_source", None, "hpe6"),
+        ("Sorbitan Oleate", "import", 2, 2, {"v": 1, "via": "supplier.csv", "changes": [
+            {"field": "density", "old": None, "new": 0.99, "old_source": None,
+             "new_source": "from-memory"}]}),
+        ("Polysorbate 20", "import", 1, 2, {"v": 1, "via": "supplier.csv", "changes": [
+            {"field": "inci_name", "old": None, "new": "Polysorbate 20"},
+            {"field": "hlb", "old": None, "new": 16.7, "old_source": None,
+             "new_source": "hpe6"}]}),
     ]
+    for row in rows:  # every payload reads as the documented shape
+        ChangePayload.model_validate_json(row.payload)
     assert {r.reason for r in rows} == {"imported from supplier.csv"}
     assert all(r.entity == "ingredient" for r in rows)
     assert all(r.at is not None for r in rows)

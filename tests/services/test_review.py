@@ -20,6 +20,7 @@ from pathlib import Path
 import pytest
 from sqlalchemy import select, text
 
+from formdb.schemas.change_log import read_payload
 from formdb.store.db import make_engine, unit_of_work
 from formdb.store.models import ChangeLogEntry, ReviewRun, ReviewSignature
 from tests.helpers import dump_database, recorded_as, run_as
@@ -113,11 +114,12 @@ def test_run_report_sign_edit_stale_rerun_sign(seeded_library_url: str, cream: P
     state = _status(url)[first]
     assert state["state"] == "stale"
     ed = recorded_as(url, "ed")
-    assert any(c.startswith(f"ingredient Glycerin: density '1.26' -> '1.27' by {ed}")
+    assert any(c.startswith("ingredient Glycerin: density 1.26 -> 1.27, source 'from-memory' -> "
+                            f"'rule-of-thumb' by {ed}")
                for c in state["changes"]), state["changes"]
     assert [s["meaning"] for s in state["signatures"]] == ["reviewed"]
     table = _formdb(url, "review", "status")
-    assert f"{first}  stale" in table.stdout and "density '1.26' -> '1.27'" in table.stdout
+    assert f"{first}  stale" in table.stdout and "density 1.26 -> 1.27" in table.stdout
 
     refused = sign(rita, first, "approved", *_justify_all(url, first))
     assert refused.exit_code == 2 and "Traceback" not in refused.stderr
@@ -218,7 +220,8 @@ def test_a_non_reviewer_is_refused_and_logged(seeded_sqlite_url: str, cream: Pat
             assert session.scalars(select(ReviewSignature)).all() == []
             logged = session.scalars(select(ChangeLogEntry).where(
                 ChangeLogEntry.action == "refused")).all()
-            assert [(e.user, e.field) for e in logged] == [("bo", "sign runs approved")]
+            assert [(e.user, read_payload(e.payload).attempted) for e in logged] == [
+                ("bo", "sign runs approved")]
     finally:
         engine.dispose()
     allowed = sign(rita, key, "approved", *_justify_all(url, key))

@@ -13,13 +13,14 @@ import multiprocessing
 import re
 import sqlite3
 import time
-from collections import defaultdict
+from typing import Any
 
 import pytest
 from sqlalchemy import select
 
 from formdb.services.library.ingredients import add_ingredient
 from formdb.store import db as store_db
+from formdb.store.change_log import changes_of
 from formdb.store.db import make_engine, unit_of_work
 from formdb.store.models import ChangeLogEntry, Ingredient, PropertyValue
 from tests.helpers import dump_database, run_formdb
@@ -69,6 +70,11 @@ def _state(url: str) -> dict[str, tuple[int, float | None, str | None]]:
         engine.dispose()
 
 
+def _hlb(entry: ChangeLogEntry) -> dict[str, Any]:
+    """The hlb change of one entry (its value and note parts, as data)."""
+    return next(c for c in changes_of(entry.payload) if c["field"] == "hlb")
+
+
 def _log(url: str) -> list[ChangeLogEntry]:
     engine = make_engine(url)
     try:
@@ -92,16 +98,18 @@ def test_concurrent_editors_lose_nothing(library_url: str) -> None:
     assert accepted and refused, "the rounds should both succeed and collide"
 
     log = _log(library_url)
-    by_edit: dict[tuple[str, int], dict[str, ChangeLogEntry]] = defaultdict(dict)
+    by_edit: dict[tuple[str, int], ChangeLogEntry] = {}
     for entry in log:
         assert entry.entity_version is not None
-        by_edit[(entry.entity_key, entry.entity_version)][entry.field or ""] = entry
-    # every accepted edit is in the log, both of its fields, under its own version and user
+        assert (entry.entity_key, entry.entity_version) not in by_edit  # one entry per change
+        by_edit[(entry.entity_key, entry.entity_version)] = entry
+    # every accepted edit is in the log, its value and note, under its own version and user
     for a in accepted:
-        fields = by_edit[(a.name, a.accepted_version or 0)]
-        assert float(fields["hlb"].new_value or "nan") == float(a.value)
-        assert fields["hlb"].user == user_of(a.worker)
-        assert fields["hlb_note"].new_value == f"w{a.worker} r{a.round}"
+        entry = by_edit[(a.name, a.accepted_version or 0)]
+        hlb = _hlb(entry)
+        assert float(hlb["new"]) == float(a.value)
+        assert entry.user == user_of(a.worker)
+        assert hlb["new_note"] == f"w{a.worker} r{a.round}"
         assert a.accepted_version == a.read_version + 1
     # no lost update: the log holds nothing but the accepted edits, one per version
     assert len(by_edit) == len(accepted)
@@ -113,14 +121,15 @@ def test_concurrent_editors_lose_nothing(library_url: str) -> None:
         # the final state is the log replayed: the last version's values, value and note together
         value, note = START_HLB[name], None
         for v in versions:
-            value = by_edit[(name, v)]["hlb"].new_value or ""
-            note = by_edit[(name, v)]["hlb_note"].new_value
+            hlb = _hlb(by_edit[(name, v)])
+            value = hlb.get("new", value)
+            note = hlb.get("new_note", note)
         assert final[name][1] == float(value)
         assert final[name][2] == note
     # every refusal names a change made by someone else after the version it read
     for a in refused:
         assert a.conflict is not None
-        later = {e["hlb"].user for (n, v), e in by_edit.items()
+        later = {e.user for (n, v), e in by_edit.items()
                  if n == a.name and v > a.read_version}
         named = set(re.findall(r"larkspur-editor-\d+", a.conflict))
         assert named and named <= later and user_of(a.worker) not in named, a.conflict

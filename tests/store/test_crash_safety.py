@@ -19,6 +19,7 @@ from pathlib import Path
 import pytest
 from sqlalchemy import text
 
+from formdb.store.change_log import changes_of
 from formdb.store.db import make_engine, sqlite_path
 from tests.helpers import dump_database
 from tests.store.edit_workers import STRESS_NAMES
@@ -129,5 +130,6 @@ def test_killed_edit_loop_stops_at_its_last_commit(library_url: str) -> None:
     # every commit the loop announced is there; nothing beyond whole edits; state = log replayed
     assert set(committed) <= set(versions)
     assert versions == list(range(2, version + 1))
-    last = {e.field: e.new_value for e in edits if e.entity_version == version}
-    assert float(last["hlb"] or "nan") == value and last["hlb_note"] == note
+    last = [c for e in edits if e.entity_version == version for c in changes_of(e.payload)
+            if c["field"] == "hlb"]
+    assert len(last) == 1 and float(last[0]["new"]) == value and last[0]["new_note"] == note

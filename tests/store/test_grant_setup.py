@@ -76,8 +76,9 @@ def test_database_roles_mirror_duties(pg_url: str, prefix: str) -> None:
     assert not _try(reviewer, "UPDATE ingredients SET retired = true")
     assert _try(editor, update)
     # issue 13: writers lost direct INSERT on the log (rows arrive through formdb_append)
-    assert not _try(editor, "INSERT INTO change_log (at, \"user\", entity, entity_key, action) "
-                            "VALUES (now(), 'ed', 'ingredient', 'x', 'edit')")
+    assert not _try(editor, "INSERT INTO change_log (at, \"user\", entity, entity_key, action, "
+                            "form, payload) VALUES (now(), 'ed', 'ingredient', 'x', 'edit', 2, "
+                            "'{}')")
     assert not _try(editor, "DELETE FROM change_log")  # history is append-only
     assert not _try(editor, "INSERT INTO user_roles (user_id, role) VALUES (1, 'admin')")
     assert not _try(editor, "UPDATE formulas SET name = 'x'")

@@ -140,8 +140,8 @@ def test_nobody_writes_the_log_or_review_records_in_another_name(team: Team) -> 
     """Issue 13: a formulator login added a correctly hashed log row naming another user; a
     reviewer login inserted an 'approved by Dr. Head of QA' signature with plain SQL."""
     insert_log = ("INSERT INTO change_log (id, at, \"user\", entity, entity_key, action, "
-                  "field, reason) VALUES (9999, now(), :named, 'ingredient', 'Glycerin', 'edit', "
-                  "'hlb', 'forged')")
+                  "form, payload, reason) VALUES (9999, now(), :named, 'ingredient', 'Glycerin', "
+                  "'edit', 2, '{}', 'forged')")
     assert "permission denied" in team.refused("fay", insert_log, named=team.login("boss"))
     forged = json.dumps([{"id": 9999, "at": "2026-12-04T10:00:00+00:00",
                           "user": team.login("boss"), "entity": "ingredient",

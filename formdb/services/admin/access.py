@@ -32,7 +32,8 @@ from sqlalchemy.orm import Session, selectinload
 from formdb.errors import Conflict, Forbidden, InvalidData, NotFound
 from formdb.schemas.admin import Action, Duty, Plan, UserInfo
 from formdb.services.admin import logins
-from formdb.store.models import ChangeLogEntry, User, UserRole
+from formdb.store.change_log import log_entry
+from formdb.store.models import User, UserRole
 
 ENTITY = "user"
 
@@ -85,10 +86,9 @@ def require(session: Session, user: str, action: Action) -> None:
     if needed.value in roles_of(session, user):
         return
     session.rollback()  # nothing of the refused action is kept; the refusal is
-    session.add(ChangeLogEntry(at=datetime.now(UTC), user=user, entity="access",
-                               entity_key=user[:200], entity_version=None, action="refused",
-                               field=action.value[:60], old_value=None, new_value=None,
-                               reason=f"needs role {needed.value}"))
+    session.add(log_entry(at=datetime.now(UTC), user=user, entity="access", entity_key=user,
+                          entity_version=None, action="refused", attempted=action.value,
+                          reason=f"needs role {needed.value}"))
     session.commit()
     raise _refusal(user, action)
 
@@ -117,11 +117,12 @@ def _refusal(user: str, action: Action) -> Forbidden:
                      hint=f"ask an admin: formdb user grant {user} {needed.value} --yes")
 
 
-def _log(session: Session, actor: str, name: str, action: str, field: str | None,
-         new: str | None, old: str | None = None) -> None:
-    session.add(ChangeLogEntry(at=datetime.now(UTC), user=actor, entity=ENTITY,
-                               entity_key=name[:200], entity_version=None, action=action,
-                               field=field, old_value=old, new_value=new, reason=None))
+def _log(session: Session, actor: str, name: str, action: str, field: str,
+         new: str | bool | list[str] | None, old: str | bool | None = None) -> None:
+    """One change-log entry for one change of a user (its field as data)."""
+    change = {"field": field, "old": old, "new": new}
+    session.add(log_entry(at=datetime.now(UTC), user=actor, entity=ENTITY, entity_key=name,
+                          entity_version=None, action=action, changes=[change], reason=None))
 
 
 def _user(session: Session, name: str) -> User:
@@ -192,7 +193,7 @@ def add_user(session: Session, name: str, roles: list[str], *, actor: str,
         logins.create_or_adopt(session, name, password)
         for duty in duties:
             logins.grant_duty(session, name, prefix, duty)
-    _log(session, actor, name, "add", "roles", ", ".join(duties) or None)
+    _log(session, actor, name, "add", "roles", list(duties))
     return Plan("add user", tuple(changes), True, user=info)
 
 
@@ -294,8 +295,8 @@ def set_active(session: Session, name: str, active: bool, *, actor: str, confirm
             logins.enable(session, name, prefix, duties)
         else:
             logins.disable(session, name, prefix, duties)
-    _log(session, actor, name, "reactivate" if active else "deactivate", "active",
-         "true" if active else "false", old="false" if active else "true")
+    _log(session, actor, name, "reactivate" if active else "deactivate", "active", active,
+         old=not active)
     return Plan(what, tuple(changes), True, user=_info(user))
 
 

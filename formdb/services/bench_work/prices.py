@@ -19,8 +19,9 @@ from formdb.schemas.admin import Action
 from formdb.schemas.bench import PriceRecord
 from formdb.services.admin.access import require
 from formdb.store import queries
+from formdb.store.change_log import log_entry
 from formdb.store.library import Library
-from formdb.store.models import ChangeLogEntry, Ingredient, IngredientPrice
+from formdb.store.models import Ingredient, IngredientPrice
 
 _CURRENCY = re.compile(r"[A-Z]{3}")
 MAX_PRICE_PER_KG = 1e7
@@ -69,11 +70,12 @@ def add_price(library: Library, inci: str, price_per_kg: float, currency: str, s
                               recorded_at=now, recorded_by=user, note=note)
         session.add(row)
         session.flush()
-        session.add(ChangeLogEntry(
+        session.add(log_entry(
             at=now, user=user, entity="price", entity_key=record.inci_name,
-            entity_version=None, action="add", field="price_per_kg", old_value=None,
-            new_value=f"{price_per_kg:g} {code}/kg from {name}, quoted {row.quoted_on}",
-            reason=note or "price quote recorded"))
+            entity_version=None, action="add", reason=note or "price quote recorded",
+            changes=[{"field": f, "old": None, "new": v} for f, v in (
+                ("price_per_kg", price_per_kg), ("currency", code), ("supplier", name),
+                ("quoted_on", row.quoted_on))]))
         return _record(row, record.inci_name)
 
 

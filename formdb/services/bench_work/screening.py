@@ -35,9 +35,9 @@ from formdb.services.admin.access import require
 from formdb.services.bench_work.weigh_sheets import build_sheet
 from formdb.services.checking.flow import input_from_text, read_inputs, resolve_all
 from formdb.store import queries
+from formdb.store.change_log import log_entry
 from formdb.store.library import Library
 from formdb.store.models import (
-    ChangeLogEntry,
     OilPhaseMeasurement,
     ScreeningBlendRow,
     ScreeningObservation,
@@ -234,11 +234,12 @@ def plan_series(library: Library, name: str, *, user: str,
                                                 high_percent=x_high * emulsifier_percent))
         session.add(row)
         session.flush()
-        session.add(ChangeLogEntry(
-            at=row.created_at, user=user, entity="screening", entity_key=label[:200],
-            entity_version=None, action="add", field="blends", old_value=None,
-            new_value=f"{len(hlbs)} blends, HLB {hlbs[0]:g} to {hlbs[-1]:g}",
-            reason="screening series planned"))
+        session.add(log_entry(
+            at=row.created_at, user=user, entity="screening", entity_key=label,
+            entity_version=None, action="add", reason="screening series planned",
+            changes=[{"field": "blends", "old": None, "new": len(hlbs)},
+                     {"field": "hlb_from", "old": None, "new": hlbs[0]},
+                     {"field": "hlb_to", "old": None, "new": hlbs[-1]}]))
         series = _series_record(row)
         return replace(series, sheets=_sheets(session, series))
 
@@ -345,8 +346,10 @@ def _store_fit(session: Session, row: SeriesRow, series: ScreeningSeries, fit: S
         oil_phase=row.oil_phase, required_hlb=fit.required_hlb, uncertainty=fit.uncertainty,
         measure=fit.measure, method=fit.method, source_key=key, measured_at=now,
         measured_by=user))
-    session.add(ChangeLogEntry(
-        at=now, user=user, entity="screening", entity_key=series.name[:200],
-        entity_version=None, action="add", field="required_hlb", old_value=None,
-        new_value=f"{fit.required_hlb:.2f} ± {fit.uncertainty:.2f} ({series.emulsion_type})",
-        reason=f"fitted to the series' {fit.measure}; source {key}"))
+    session.add(log_entry(
+        at=now, user=user, entity="screening", entity_key=series.name, entity_version=None,
+        action="add", reason=f"fitted to the series' {fit.measure}; source {key}",
+        changes=[{"field": "required_hlb", "old": None, "new": fit.required_hlb,
+                  "new_source": key},
+                 {"field": "uncertainty", "old": None, "new": fit.uncertainty},
+                 {"field": "emulsion_type", "old": None, "new": series.emulsion_type}]))

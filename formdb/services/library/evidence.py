@@ -37,9 +37,9 @@ from formdb.services.seed.safety import (
     _consistency,
 )
 from formdb.services.seed.tables import SOURCE_COLUMNS, SourceRow, source_values
+from formdb.store.change_log import log_entry
 from formdb.store.models import (
     Base,
-    ChangeLogEntry,
     ExposureEntry,
     Ingredient,
     PropertyValue,
@@ -150,10 +150,10 @@ def _grade_sources(session: Session, *, user: str, reason: str | None) -> None:
         except ValueError:
             continue
         if source.evidence != grade:
-            session.add(ChangeLogEntry(
+            session.add(log_entry(
                 at=now, user=user, entity="source", entity_key=source.key, entity_version=None,
-                action="grade", field="evidence", old_value=source.evidence, new_value=grade,
-                reason=reason or f"the grade of kind {source.kind!r}"))
+                action="grade", reason=reason or f"the grade of kind {source.kind!r}",
+                changes=[{"field": "evidence", "old": source.evidence, "new": grade}]))
             source.evidence = grade
     session.flush()
 
@@ -184,12 +184,12 @@ def sync_value_grades(session: Session, *, user: str, reason: str | None = None)
                 changed += 1
         ing.updated_at, ing.updated_by = now, user
         session.flush()
-        for prop, (old, new) in sorted(by_prop.items()):
-            session.add(ChangeLogEntry(
-                at=now, user=user, entity="ingredient", entity_key=ing.inci_name,
-                entity_version=ing.version, action="grade", field=f"{prop}_evidence",
-                old_value=old, new_value=new,
-                reason=reason or "the grade of the source it cites changed"))
+        session.add(log_entry(
+            at=now, user=user, entity="ingredient", entity_key=ing.inci_name,
+            entity_version=ing.version, action="grade",
+            changes=[{"field": prop, "old_evidence": old, "new_evidence": new}
+                     for prop, (old, new) in sorted(by_prop.items())],
+            reason=reason or "the grade of the source it cites changed"))
     session.flush()
     return changed
 

@@ -16,9 +16,10 @@ from formdb.schemas.stored import FormulaImportReport, StoredFormulaInfo
 from formdb.services.admin.access import require
 from formdb.services.checking.flow import read_inputs, resolve_all
 from formdb.services.library.formula_files import content_hash
+from formdb.store.change_log import log_entry
 from formdb.store.formulas import formula_names, get_formula, iter_stored_formulas
 from formdb.store.library import Library
-from formdb.store.models import ChangeLogEntry, StoredFormula
+from formdb.store.models import StoredFormula
 
 
 def import_formulas(library: Library, paths: list[Path], *, user: str,
@@ -59,10 +60,10 @@ def import_formulas(library: Library, paths: list[Path], *, user: str,
                 session.flush()
                 changed.append(item.formula.name)
                 action = "edit"
-            session.add(ChangeLogEntry(
+            session.add(log_entry(
                 at=now, user=user, entity="formula", entity_key=row.name,
-                entity_version=row.version, action=action, field="content_hash",
-                old_value=old, new_value=digest,
+                entity_version=row.version, action=action,
+                changes=[{"field": "content_hash", "old": old, "new": digest}],
                 reason=reason or f"imported from {item.label}"))
     return FormulaImportReport(added, changed, unchanged)
 

@@ -2,8 +2,9 @@
 
 Every function takes the caller's session (one unit of work per command, see
 ``formdb.store.db.unit_of_work``) and writes nothing until every input is known to be good, so a
-rejected import or edit leaves the library exactly as it was. Each change writes one change-log
-row per field, and bumps the ingredient's version (its optimistic lock).
+rejected import or edit leaves the library exactly as it was. Each change of an ingredient writes
+one change-log entry with its field changes as typed data (services.library.ingredient_log) and
+bumps the ingredient's version (its optimistic lock).
 """
 
 from __future__ import annotations
@@ -20,6 +21,7 @@ from sqlalchemy.orm.exc import StaleDataError
 
 from formdb.errors import Conflict, InvalidData, NotFound
 from formdb.schemas.admin import Action
+from formdb.schemas.change_log import LoggedChange, read_payload
 from formdb.schemas.ingredient import (
     PROPERTY_NAMES,
     IngredientIn,
@@ -42,6 +44,7 @@ from formdb.services.library.ingredient_fields import (
     property_kind,
     split_list,
 )
+from formdb.services.library.ingredient_log import Fields, fields_of, typed_changes
 from formdb.services.library.ingredient_rows import (
     Cells,
     empty_cells,
@@ -60,6 +63,7 @@ from formdb.services.library.tables import (
     write_table,
 )
 from formdb.store import queries
+from formdb.store.change_log import log_entry, log_values
 from formdb.store.models import (
     ChangeLogEntry,
     Ingredient,
@@ -117,14 +121,15 @@ class EditReport:
 
 @dataclass(frozen=True)
 class HistoryEntry:
+    """One change-log entry of an ingredient: one change of the record, its fields as data."""
+
     at: datetime
     user: str
     action: str
     version: int | None
-    field: str | None
-    old: str | None
-    new: str | None
+    changes: tuple[LoggedChange, ...]
     reason: str | None
+    via: str | None = None
 
 
 @dataclass(frozen=True)
@@ -236,8 +241,12 @@ def ingredient_history(session: Session, name: str) -> list[HistoryEntry]:
         select(ChangeLogEntry)
         .where(ChangeLogEntry.entity == ENTITY, ChangeLogEntry.entity_key == ing.inci_name)
         .order_by(ChangeLogEntry.at, ChangeLogEntry.id))
-    return [HistoryEntry(r.at, r.user, r.action, r.entity_version, r.field, r.old_value,
-                         r.new_value, r.reason) for r in rows]
+    entries = []
+    for r in rows:
+        payload = read_payload(r.payload)
+        entries.append(HistoryEntry(r.at, r.user, r.action, r.entity_version, payload.changes,
+                                    r.reason, payload.via))
+    return entries
 
 
 # --- writing ---------------------------------------------------------------------------------
@@ -310,13 +319,12 @@ def _sync(rows: list[Any], attr: str, want: set[str], make: Callable[[str], Any]
     rows.extend(make(v) for v in sorted(want - have))
 
 
-def _log(session: Session, ing: Ingredient, changes: Sequence[FieldChange], *, action: str,
-         user: str, reason: str | None, at: datetime) -> None:
-    for change in changes:
-        session.add(ChangeLogEntry(
-            at=at, user=user, entity=ENTITY, entity_key=ing.inci_name,
-            entity_version=ing.version, action=action, field=change.field,
-            old_value=change.old or None, new_value=change.new or None, reason=reason))
+def _log(session: Session, ing: Ingredient, changes: Sequence[Mapping[str, Any]], *, action: str,
+         user: str, reason: str | None, at: datetime, via: str | None = None) -> None:
+    """One change-log entry for one change of ``ing`` (at its new version)."""
+    session.add(log_entry(at=at, user=user, entity=ENTITY, entity_key=ing.inci_name,
+                          entity_version=ing.version, action=action, changes=changes,
+                          reason=reason, via=via))
 
 
 def _flush(session: Session, names: Sequence[str]) -> None:
@@ -340,9 +348,19 @@ def _when(at: datetime) -> str:
     return utc(at).strftime("%Y-%m-%d %H:%M:%S UTC")
 
 
-def _write(session: Session, ing: Ingredient | None, item: IngredientIn,
-           changes: Sequence[FieldChange], evidence: Mapping[str, str], *, action: str,
-           user: str, reason: str | None, now: datetime) -> Ingredient:
+def _write(session: Session, ing: Ingredient | None, item: IngredientIn, before: Fields | None,
+           evidence: Mapping[str, str], *, action: str, user: str, reason: str | None,
+           now: datetime, via: str | None = None,
+           grades: Mapping[str, tuple[str, str]] | None = None) -> Ingredient:
+    """Store ``item`` as ``ing`` (None: a new ingredient), logging what differs from ``before``
+    (the ingredient's fields as they were) and the evidence grades that moved with it."""
+    changes = typed_changes(before, fields_of(item))
+    for prop, (old, new) in (grades or {}).items():
+        held = next((c for c in changes if c["field"] == prop), None)
+        if held is None:
+            held = {"field": prop}
+            changes.append(held)
+        held["old_evidence"], held["new_evidence"] = old, new
     if ing is None:
         ing = Ingredient(inci_name=item.inci_name, retired=False, created_at=now, updated_at=now,
                          updated_by=user)
@@ -352,7 +370,7 @@ def _write(session: Session, ing: Ingredient | None, item: IngredientIn,
     _apply(ing, item, evidence)
     ing.updated_at, ing.updated_by = now, user  # an UPDATE of the row: the version moves on
     _flush(session, [ing.inci_name])
-    _log(session, ing, changes, action=action, user=user, reason=reason, at=now)
+    _log(session, ing, changes, action=action, user=user, reason=reason, at=now, via=via)
     return ing
 
 
@@ -387,7 +405,8 @@ def import_table(session: Session, path: Path, *, user: str, reason: str | None,
     report = ImportReport(str(path), dry_run)
     first_use: dict[str, tuple[int, str]] = {}
     described: dict[int, int] = {}
-    plans: list[tuple[Ingredient | None, IngredientIn, list[FieldChange]]] = []
+    # (library ingredient or None, the row validated, its changes as cells, its fields before)
+    plans: list[tuple[Ingredient | None, IngredientIn, list[FieldChange], Fields | None]] = []
 
     def problem(row: int, column: str | None, text: str) -> None:
         problems.append(Problem(table.file, text, row, labels.get(column, column)
@@ -415,7 +434,8 @@ def import_table(session: Session, path: Path, *, user: str, reason: str | None,
                 problem(row.row, column, f"{n!r} already belongs to another library "
                         f"ingredient, {owner.inci_name!r} (as {kind}); a name may belong to one "
                         "ingredient only")
-        base = _cells(target)
+        before = None if target is None else _as_input(queries.record_from_row(target, {}))
+        base = empty_cells() if before is None else render_ingredient(before)
         if keep_existing and target is not None:
             row, left = missing_only(base, row, target.inci_name)
             report.left_alone += left
@@ -435,9 +455,14 @@ def import_table(session: Session, path: Path, *, user: str, reason: str | None,
         for located, text in cell_problems:
             problem(row.row, located, text)
         if item is not None:
-            plans.append((target, item, diff_cells(base, render_ingredient(item))))
-            if confirm is not None and plans[-1][2]:
-                unusual.append((row.row, target, item, plans[-1][2]))
+            # the cell changes: the report's (and the plausibility check's) view of the row;
+            # a new row needs them only for that check, so a plain import skips them
+            changes = ([] if target is None and confirm is None
+                       else diff_cells(base, render_ingredient(item)))
+            plans.append((target, item, changes,
+                           None if before is None else fields_of(before)))
+            if confirm is not None and changes:
+                unusual.append((row.row, target, item, changes))
     if not rows:
         report.notes.append("the file has a header but no data rows; nothing to import")
     position = {label: i for i, label in enumerate(table.header)}
@@ -446,7 +471,7 @@ def import_table(session: Session, path: Path, *, user: str, reason: str | None,
     if unusual:
         report.notes += _unusual_rows(session, str(path), unusual, bool(confirm))
 
-    for target, item, changes in plans:
+    for target, item, changes, _before in plans:
         if target is None:
             report.added.append(item.inci_name)
         elif changes:
@@ -456,19 +481,23 @@ def import_table(session: Session, path: Path, *, user: str, reason: str | None,
     if dry_run:
         return report
     now = datetime.now(UTC)
-    _ensure_special_sources(session, (s for _t, item, _c in plans for s in item.sources.values()))
+    _ensure_special_sources(session, (s for _t, item, _c, _b in plans
+                                      for s in item.sources.values()))
     why = reason or f"imported from {path.name}"
-    new_run: list[tuple[IngredientIn, list[FieldChange]]] = []
-    for target, item, changes in plans:
-        if target is None and changes:
-            new_run.append((item, changes))
+    via = path.name
+    new_run: list[IngredientIn] = []
+    for target, item, changes, fields_before in plans:
+        if target is None:
+            new_run.append(item)
             continue
-        _insert_new(session, new_run, sources, action=action, user=user, reason=why, now=now)
+        _insert_new(session, new_run, sources, action=action, user=user, reason=why, now=now,
+                    via=via)
         new_run = []
         if changes:
-            _write(session, target, item, changes, sources, action=action, user=user,
-                   reason=why, now=now)
-    _insert_new(session, new_run, sources, action=action, user=user, reason=why, now=now)
+            _write(session, target, item, fields_before, sources, action=action, user=user,
+                   reason=why, now=now, via=via)
+    _insert_new(session, new_run, sources, action=action, user=user, reason=why, now=now,
+                via=via)
     session.flush()
     return report
 
@@ -514,9 +543,9 @@ def _with_accepted(reason: str | None, accepted: Sequence[str]) -> str | None:
     return f"{reason}; {note}" if reason else note
 
 
-def _insert_new(session: Session, batch: Sequence[tuple[IngredientIn, list[FieldChange]]],
-                evidence: Mapping[str, str], *, action: str, user: str, reason: str | None,
-                now: datetime) -> None:
+def _insert_new(session: Session, batch: Sequence[IngredientIn], evidence: Mapping[str, str],
+                *, action: str, user: str, reason: str | None, now: datetime,
+                via: str | None) -> None:
     """Add new ingredients in bulk: the rows ``_write`` would store one by one (same order, so
     the same ids), one statement per table instead of a flush per ingredient. A new ingredient
     has no version to conflict with, so nothing of ``_flush``'s conflict check is lost."""
@@ -525,23 +554,23 @@ def _insert_new(session: Session, batch: Sequence[tuple[IngredientIn, list[Field
     session.flush()  # earlier updates first, as the row order has them
     for start in range(0, len(batch), _BULK_CHUNK):  # bounded memory for very large tables
         _insert_chunk(session, batch[start:start + _BULK_CHUNK], evidence, action=action,
-                      user=user, reason=reason, now=now)
+                      user=user, reason=reason, now=now, via=via)
 
 
-def _insert_chunk(session: Session, batch: Sequence[tuple[IngredientIn, list[FieldChange]]],
-                  evidence: Mapping[str, str], *, action: str, user: str, reason: str | None,
-                  now: datetime) -> None:
+def _insert_chunk(session: Session, batch: Sequence[IngredientIn], evidence: Mapping[str, str],
+                  *, action: str, user: str, reason: str | None, now: datetime,
+                  via: str | None) -> None:
     # Core statements on the tables: one executemany per table (the ORM's bulk path would
     # split the rows by which columns are None)
     table = cast(Table, Ingredient.__table__)
     ids = list(session.scalars(
         insert(table).returning(table.c.id, sort_by_parameter_order=True),
         [{"inci_name": item.inci_name, "retired": False, "version": 1, "created_at": now,
-          "updated_at": now, "updated_by": user} for item, _changes in batch]))
+          "updated_at": now, "updated_by": user} for item in batch]))
     rows: dict[type, list[dict[str, object]]] = {
         IngredientName: [], IngredientCas: [], IngredientRole: [], IngredientClass: [],
         PropertyValue: [], ChangeLogEntry: []}
-    for ingredient_id, (item, changes) in zip(ids, batch, strict=True):
+    for ingredient_id, item in zip(ids, batch, strict=True):
         own = {"ingredient_id": ingredient_id}
         rows[IngredientName].append({**own, "name": item.inci_name,
                                      "name_key": name_key(item.inci_name), "is_primary": True})
@@ -560,11 +589,9 @@ def _insert_chunk(session: Session, batch: Sequence[tuple[IngredientIn, list[Fie
                                         "value_text": text, "source_key": source,
                                         "evidence": evidence[source],
                                         "note": item.notes.get(prop)})
-        rows[ChangeLogEntry] += [
-            {"at": now, "user": user, "entity": ENTITY, "entity_key": item.inci_name,
-             "entity_version": 1, "action": action, "field": change.field,
-             "old_value": change.old or None, "new_value": change.new or None, "reason": reason}
-            for change in changes]
+        rows[ChangeLogEntry].append(log_values(
+            at=now, user=user, entity=ENTITY, entity_key=item.inci_name, entity_version=1,
+            action=action, changes=typed_changes(None, fields_of(item)), reason=reason, via=via))
     log = rows.pop(ChangeLogEntry)
     for model, values in rows.items():
         if values:
@@ -685,7 +712,7 @@ def add_ingredient(session: Session, name: str, assignments: Sequence[tuple[str,
     accepted = _check_unusual(session, item, f"add {item.inci_name!r}", own_id=None,
                               fields=None, confirm=confirm)
     _ensure_special_sources(session, item.sources.values())
-    ing = _write(session, None, item, changes, sources, action="add", user=user,
+    ing = _write(session, None, item, None, sources, action="add", user=user,
                  reason=_with_accepted(reason, accepted), now=datetime.now(UTC))
     return EditReport(ing.inci_name, ing.version, changes, accepted)
 
@@ -712,14 +739,17 @@ def _check_version(session: Session, ing: Ingredient, expect_version: int | None
 def edit_ingredient(session: Session, name: str, assignments: Sequence[tuple[str, str]], *,
                     user: str, reason: str | None = None, source: str | None = None,
                     expect_version: int | None = None, action: str = "edit",
-                    confirm: bool | None = None) -> EditReport:
-    """Change fields of one ingredient; a published value changes only with a reason."""
+                    confirm: bool | None = None,
+                    grades: Mapping[str, tuple[str, str]] | None = None) -> EditReport:
+    """Change fields of one ingredient; a published value changes only with a reason.
+    ``grades`` (from verify): property -> (old, new) evidence grade, logged with the change."""
     require(session, user, Action.CHANGE_LIBRARY)
     if not assignments:
         raise InvalidData("nothing to change.", hint="give at least one --set field=value")
     ing = _get(session, name)
     _check_version(session, ing, expect_version)
-    base = _cells(ing)
+    before = _as_input(queries.record_from_row(ing, {}))
+    base = render_ingredient(before)
     sources = _sources(session)
     item = _validated(_lay(base, assignments, source), sources, f"edit {ing.inci_name!r}")
     _check_names_free(session, item, ing)
@@ -737,8 +767,8 @@ def edit_ingredient(session: Session, name: str, assignments: Sequence[tuple[str
     accepted = _check_unusual(session, item, f"edit {ing.inci_name!r}", own_id=ing.id,
                               fields=[c.field for c in changes], confirm=confirm)
     _ensure_special_sources(session, item.sources.values())
-    _write(session, ing, item, changes, sources, action=action, user=user,
-           reason=_with_accepted(reason, accepted), now=datetime.now(UTC))
+    _write(session, ing, item, fields_of(before), sources, action=action, user=user,
+           reason=_with_accepted(reason, accepted), now=datetime.now(UTC), grades=grades)
     return EditReport(ing.inci_name, ing.version, changes, accepted)
 
 
@@ -775,12 +805,12 @@ def verify_ingredient(session: Session, name: str, properties: Sequence[str], so
         assignments.append((f"{prop}_source", source))
         if note is not None:
             assignments.append((f"{prop}_note", note))
+    moved = {prop: (record.provenance[prop].evidence.value, grade)
+             for prop in dict.fromkeys(_field(p) for p in properties)
+             if record.provenance[prop].evidence.value != grade}
     report = edit_ingredient(session, name, assignments, user=user, reason=reason,
-                             expect_version=expect_version, action="verify")
-    grades = [FieldChange(f"{prop}_evidence", record.provenance[prop].evidence.value, grade)
-              for prop in dict.fromkeys(_field(p) for p in properties)
-              if record.provenance[prop].evidence.value != grade]
-    _log(session, ing, grades, action="verify", user=user, reason=reason, at=datetime.now(UTC))
+                             expect_version=expect_version, action="verify", grades=moved)
+    grades = [FieldChange(f"{prop}_evidence", old, new) for prop, (old, new) in moved.items()]
     return EditReport(report.inci_name, report.version, [*report.changes, *grades])
 
 
@@ -796,8 +826,8 @@ def _set_retired(session: Session, name: str, retired: bool, *, user: str,
     now = datetime.now(UTC)
     ing.retired, ing.updated_at, ing.updated_by = retired, now, user
     _flush(session, [ing.inci_name])
-    _log(session, ing, [change], action="retire" if retired else "restore", user=user,
-         reason=reason, at=now)
+    _log(session, ing, [{"field": "retired", "old": not retired, "new": retired}],
+         action="retire" if retired else "restore", user=user, reason=reason, at=now)
     return EditReport(ing.inci_name, ing.version, [change])
 
 

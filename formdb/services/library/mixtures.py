@@ -30,6 +30,7 @@ from formdb.science.hlb import blend_hlb
 from formdb.services.admin.access import require
 from formdb.services.library.records import read_columns, unknown_key
 from formdb.services.library.tables import Problem, raise_problems, write_table
+from formdb.store.change_log import changes_of, log_entry
 from formdb.store.models import ChangeLogEntry, MixtureConstituent, Source
 from formdb.store.queries import find_ingredients, records_by_id
 
@@ -199,13 +200,14 @@ def _write(session: Session, plans: Mapping[int, list[tuple[int, Part]]], report
             after = new.get(cid)
             if before == after:
                 continue
-            lines.append((cid, _text(before), _text(after)))
+            lines.append((cid, before, after))
         mixture = names[mixture_id]
         if not lines:
             report.unchanged.append(mixture)
             continue
-        report.declared[mixture] = [f"{names.get(cid, cid)}: {b or '(none)'} -> {a or '(none)'}"
-                                    for cid, b, a in lines]
+        report.declared[mixture] = [
+            f"{names.get(cid, cid)}: {_text(b) or '(none)'} -> {_text(a) or '(none)'}"
+            for cid, b, a in lines]
         if report.dry_run:
             continue
         session.execute(delete(MixtureConstituent).where(
@@ -213,11 +215,12 @@ def _write(session: Session, plans: Mapping[int, list[tuple[int, Part]]], report
         session.add_all(MixtureConstituent(mixture_id=mixture_id, constituent_id=cid,
                                            percent=p.percent, source_key=p.source)
                         for cid, p in parts)
-        for cid, old_text, new_text in lines:
-            session.add(ChangeLogEntry(
-                at=now, user=user, entity=ENTITY, entity_key=mixture[:200], entity_version=None,
-                action=action, field=names.get(cid, str(cid))[:60], old_value=old_text or None,
-                new_value=new_text or None, reason=reason))
+        # one entry per mixture: each constituent whose share moved, % and source as data
+        session.add(log_entry(
+            at=now, user=user, entity=ENTITY, entity_key=mixture, entity_version=None,
+            action=action, reason=reason, changes=[
+                {"field": names.get(cid, str(cid)), "old": b and b[0], "new": a and a[0],
+                 "old_source": b and b[1], "new_source": a and a[1]} for cid, b, a in lines]))
     session.flush()
     if not report.dry_run:
         for mixture_id in plans:
@@ -372,8 +375,13 @@ def mixture_history(session: Session, name: str) -> list[Any]:
     rows = session.scalars(select(ChangeLogEntry).where(
         ChangeLogEntry.entity == ENTITY, ChangeLogEntry.entity_key == view.name)
         .order_by(ChangeLogEntry.at, ChangeLogEntry.id))
-    return [RecordHistoryEntry(r.at, r.user, r.action, r.field, r.old_value, r.new_value,
-                               r.reason) for r in rows]
+    def share(change: dict[str, Any], side: str) -> str | None:
+        percent, source = change.get(side), change.get(f"{side}_source")
+        return None if percent is None else _text((percent, source or ""))
+
+    return [RecordHistoryEntry(r.at, r.user, r.action, change.get("field"),
+                               share(change, "old"), share(change, "new"), r.reason)
+            for r in rows for change in changes_of(r.payload) or [{}]]
 
 
 def export_mixtures(session: Session, path: Path) -> int:

@@ -23,9 +23,11 @@ from sqlalchemy.orm import Session
 from formdb.errors import Conflict, InvalidData, NotFound
 from formdb.schemas.admin import Action
 from formdb.schemas.cells import format_number
+from formdb.schemas.change_log import value_text
 from formdb.schemas.suggest import did_you_mean
 from formdb.services.admin.access import require
 from formdb.services.library.tables import Problem, raise_problems, read_table, write_table
+from formdb.store.change_log import changes_of, log_entry
 from formdb.store.models import Base, ChangeLogEntry
 
 Cells = dict[str, str]
@@ -134,13 +136,21 @@ def _stored(session: Session, kind: RecordKind, key: tuple[Any, ...]) -> Base | 
     return session.get(kind.model, key)
 
 
-def _log(session: Session, kind: RecordKind, name: str, changes: Sequence[CellChange], *,
-         action: str, user: str, reason: str | None, at: datetime) -> None:
+def _log(session: Session, kind: RecordKind, name: str, changes: Sequence[CellChange],
+         held: Base | None, values: Mapping[str, Any], *, action: str, user: str,
+         reason: str | None, at: datetime) -> None:
+    """One change-log entry for the record: each changed column's old and new value as data
+    (the stored values; a column the table spells differently keeps its cell text)."""
+    typed = []
     for change in changes:
-        session.add(ChangeLogEntry(
-            at=at, user=user, entity=kind.entity, entity_key=name[:200], entity_version=None,
-            action=action, field=change.field, old_value=change.old or None,
-            new_value=change.new or None, reason=reason))
+        if change.field in values:
+            old = getattr(held, change.field, None) if held is not None else None
+            typed.append({"field": change.field, "old": old, "new": values[change.field]})
+        else:
+            typed.append({"field": change.field, "old": change.old or None,
+                          "new": change.new or None})
+    session.add(log_entry(at=at, user=user, entity=kind.entity, entity_key=name,
+                          entity_version=None, action=action, changes=typed, reason=reason))
 
 
 def _diff(kind: RecordKind, old: Mapping[str, str], new: Mapping[str, str]) -> list[CellChange]:
@@ -172,14 +182,14 @@ def _apply(session: Session, kind: RecordKind, plans: Sequence[tuple[int, tuple[
     if report.dry_run:
         return
     for held, values, name, changes in writes:
+        _log(session, kind, name, changes, held, values,  # before held takes the new values
+             action="add" if held is None and action == "edit" else action, user=user,
+             reason=reason, at=now)
         if held is None:
             session.add(kind.model(**values))
-            verb = "add" if action == "edit" else action
         else:
             for column, value in values.items():
                 setattr(held, column, value)
-            verb = action
-        _log(session, kind, name, changes, action=verb, user=user, reason=reason, at=now)
     session.flush()
     if writes and kind.after_write is not None:
         kind.after_write(session, user)
@@ -260,8 +270,24 @@ def record_history(session: Session, kind: RecordKind, key: str) -> list[RecordH
         .order_by(ChangeLogEntry.at, ChangeLogEntry.id)))
     if not rows:
         _get(session, kind, key)  # the NotFound with suggestions
-    return [RecordHistoryEntry(r.at, r.user, r.action, r.field, r.old_value, r.new_value,
-                               r.reason) for r in rows]
+    return history_entries(rows)
+
+
+def history_entries(rows: Sequence[ChangeLogEntry]) -> list[RecordHistoryEntry]:
+    """One line per changed field of each entry (an entry without changes: one line)."""
+    return [RecordHistoryEntry(r.at, r.user, r.action, change.get("field"),
+                               _text(change, "old"), _text(change, "new"), r.reason)
+            for r in rows for change in changes_of(r.payload) or [{}]]
+
+
+def _text(change: Mapping[str, Any], side: str) -> str | None:
+    if side not in change and f"{side}_source" not in change:
+        return None
+    text = value_text(change.get(side)) if side in change else ""
+    if f"{side}_source" in change:
+        text = f"{text} ({value_text(change[f'{side}_source'])})".strip()
+    return None if text in ("(none)", "") else text
+
 
 
 def read_record_table(kind: RecordKind, path: Path) -> list[tuple[int, Cells]]:

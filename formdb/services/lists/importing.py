@@ -34,6 +34,7 @@ from formdb.services.lists.parse import (
     parse_entry,
 )
 from formdb.store import queries
+from formdb.store.change_log import log_values
 from formdb.store.library import Library
 from formdb.store.lists import (
     cas_match,
@@ -293,20 +294,19 @@ def _write(session: Session, plan: _Plan, user: str, now: datetime) -> None:
         session.execute(insert(ListEntryMatch.__table__), matches[start:start + 5000])  # type: ignore[arg-type]
     label = f"{JURISDICTION} Annex {file.annex}"
     old = plan.current
-    log: list[dict[str, Any]] = [{
-        "at": now, "user": user, "entity": "list", "entity_key": label, "entity_version": None,
-        "action": "import", "field": "snapshot",
-        "old_value": None if old is None else
-        f"{old.file_name}, last update {old.last_update:%d/%m/%Y}, sha256 {old.file_hash}",
-        "new_value": f"{file.name}, last update {file.last_update:%d/%m/%Y}, sha256 "
-                     f"{file.file_hash}, {len(entries)} entries",
-        "reason": f"list import of {file.name}"}]
-    log.extend({"at": now, "user": user, "entity": "list entry",
-                "entity_key": f"{label}/{change.key}"[:200], "entity_version": None,
-                "action": change.kind, "field": None,
-                "old_value": None, "new_value": "\n".join(change.details) or None,
-                "reason": f"list import of {file.name}"}
-               for change in (plan.changes if old is not None else ()))
+    moved = [("file", None if old is None else old.file_name, file.name),
+                ("last_update", None if old is None else old.last_update, file.last_update),
+                ("file_hash", None if old is None else old.file_hash, file.file_hash)]
+    log: list[dict[str, Any]] = [log_values(
+        at=now, user=user, entity="list", entity_key=label, entity_version=None,
+        action="import", reason=f"list import of {file.name}", via=file.name,
+        changes=[*({"field": f, "old": o, "new": n} for f, o, n in moved if o != n),
+                 {"field": "entries", "old": None, "new": len(entries)}])]
+    log.extend(log_values(
+        at=now, user=user, entity="list entry", entity_key=f"{label}/{change.key}",
+        entity_version=None, action=change.kind, reason=f"list import of {file.name}",
+        via=file.name, changes=[{"field": "details", "old": None, "new": list(change.details)}])
+        for change in (plan.changes if old is not None else ()))
     append_rows(session, cast(Table, ChangeLogEntry.__table__), log)
 
 
@@ -365,10 +365,12 @@ def _write_ingredients(session: Session, created: dict[str, list[tuple[str, List
             cas.extend({"ingredient_id": ingredient_id, "cas": c} for c in sorted(set(numbers)))
             origin.append({"ingredient_id": ingredient_id, "jurisdiction": entry.jurisdiction,
                            "annex": entry.annex, "entry_key": entry.key, "created_at": now})
-            log.append({"at": now, "user": user, "entity": "ingredient", "entity_key": name,
-                        "entity_version": 1, "action": "add", "field": "inci_name",
-                        "old_value": None, "new_value": name,
-                        "reason": f"named by {entry.label} (list import; no physical data)"})
+            log.append(log_values(
+                at=now, user=user, entity="ingredient", entity_key=name, entity_version=1,
+                action="add", reason=f"named by {entry.label} (list import; no physical data)",
+                changes=[{"field": "inci_name", "old": None, "new": name},
+                         *([{"field": "cas", "old": [], "new": sorted(set(numbers))}]
+                           if numbers else [])]))
         session.execute(insert(IngredientName.__table__), names)  # type: ignore[arg-type]
         if cas:
             session.execute(insert(IngredientCas.__table__), cas)  # type: ignore[arg-type]

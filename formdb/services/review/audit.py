@@ -15,6 +15,7 @@ get INSERT only on the change log (``formdb db grant-setup``).
 
 from __future__ import annotations
 
+import json
 from collections import deque
 from pathlib import Path
 from typing import Any
@@ -23,6 +24,7 @@ from sqlalchemy import inspect, select, text
 from sqlalchemy.orm import Session
 
 from formdb.schemas.audit import AuditReport, ChainProblem, ChainReport
+from formdb.store.change_log import LEGACY_FORM, legacy_payload
 from formdb.store.library import Library
 from formdb.store.models import Base
 from formdb.store.sealing import GENESIS, SEALED_COLUMNS, canonical, row_hash, seal
@@ -73,6 +75,9 @@ def verify_table(session: Session, table: str) -> ChainReport:
         elif row_hash(linked or "", canonical(table, dict(row))) != stored:
             problem(row_id, "altered", f"row {row_id} was altered: its content no longer "
                     f"matches its hash {_short(stored)}")
+        elif table == "change_log" and row["form"] == LEGACY_FORM and not _typed_matches(row):
+            problem(row_id, "altered", f"row {row_id} was altered: its typed changes no longer "
+                    "say what its sealed text says")
         if linked != prev_stored:
             earlier = next((i for i, h in recent if h == linked and i != prev_id), None)
             if prev_id is None:
@@ -117,6 +122,18 @@ def _server_seal_failures(session: Session, table: str) -> list[int]:
         f'AS before FROM "{table}") s WHERE NOT formdb_seal_ok(:t, id, row_hash, before, '
         "server_seal) ORDER BY id"), {"t": table}).scalars().all()
     return [int(r) for r in rows]
+
+def _typed_matches(row: Any) -> bool:
+    """A migrated (form 1) entry's typed payload is what its sealed text converts to: the hash
+    covers that text only, so the typed part is checked against it."""
+    try:
+        payload = json.loads(row["payload"])
+        sealed = payload["sealed"]
+        expected = legacy_payload(row["entity"], row["action"], sealed["field"],
+                                  sealed["old_value"], sealed["new_value"])
+    except (ValueError, KeyError, TypeError):
+        return False
+    return bool(json.loads(expected) == payload)
 
 
 def verify_signatures(session: Session, report: ChainReport) -> None:

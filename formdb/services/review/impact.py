@@ -7,7 +7,7 @@ baseline, chosen per formula:
   profile, so like is compared with like);
 - otherwise the same check with the ingredient as it was before its most recent change (or, with
   ``since``, as it was at that version or at the version a named review run used), rebuilt from
-  the change log's old values.
+  the change log's typed entries (services.library.ingredient_log), no table cell parsed.
 Signed review runs that used an older version of the ingredient are listed as stale.
 """
 
@@ -23,16 +23,17 @@ from sqlalchemy.orm import Session
 from formdb.errors import InvalidData, NotFound
 from formdb.rules.engine import check_resolved
 from formdb.rules.profiles import Profile, load_profile
+from formdb.schemas.change_log import describe_change
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.impact import FindingKey, FormulaImpact, ImpactReport, LibraryChange, StaleRun
-from formdb.schemas.ingredient import IngredientRecord, Provenance, name_key
+from formdb.schemas.ingredient import IngredientRecord, name_key
 from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import CheckResult
-from formdb.schemas.vocab import Evidence
 from formdb.services.checking.flow import FormulaInput, input_from_text, resolve_all
-from formdb.services.library.ingredient_rows import render_ingredient, validate_cells
-from formdb.services.library.ingredients import ENTITY, _as_input, _get, _sources
+from formdb.services.library.ingredient_log import fields_of, record_from_fields, undo
+from formdb.services.library.ingredients import ENTITY, _get, _sources
 from formdb.store import queries
+from formdb.store.change_log import changes_of
 from formdb.store.formulas import iter_stored_formulas
 from formdb.store.library import Library
 from formdb.store.lists import with_list_entries
@@ -71,28 +72,15 @@ def _log_since(session: Session, inci: str, version: int) -> list[ChangeLogEntry
 
 def earlier_record(session: Session, record: IngredientRecord, version: int) -> IngredientRecord:
     """The ingredient as it was at ``version``: every logged change after it undone, newest
-    first (each log row holds the field's text before and after, in the import columns)."""
-    cells = render_ingredient(_as_input(record))
-    retired = record.retired
+    first (each entry holds the old and new parts of the fields it changed, as data)."""
+    fields = fields_of(record)
     for row in _log_since(session, record.inci_name, version):
-        if row.field == "retired":
-            retired = row.old_value == "yes"
-        elif row.field in cells:
-            cells[row.field] = row.old_value or ""
+        undo(fields, changes_of(row.payload))
     sources = _sources(session)
-    item, problems = validate_cells(cells, sources)
-    if item is None:
-        raise InvalidData(f"{record.inci_name!r} version {version} cannot be rebuilt from the "
-                          f"change log ({problems[0][1] if problems else 'unreadable'}).",
-                          hint="compare with a later version (--since)")
-    citations = queries.citations_for(session, item.sources.values())
-    provenance = {p: Provenance(source=s, evidence=Evidence(sources[s]),
-                                citation=citations.get(s), note=item.notes.get(p))
-                  for p, s in item.sources.items()}
-    return IngredientRecord(
-        id=record.id, inci_name=item.inci_name, version=version, retired=retired,
-        synonyms=item.synonyms, cas_numbers=item.cas_numbers, roles=frozenset(item.roles),
-        classes=frozenset(item.classes), properties=item.properties, provenance=provenance)
+    cited = [s for _v, s, _n in fields.values() if s is not None]
+    return record_from_fields(fields, ingredient_id=record.id, version=version,
+                              evidence=sources,
+                              citations=queries.citations_for(session, cited))
 
 
 def _swap(formula: ResolvedFormula, reference: ReferenceData, old: IngredientRecord,
@@ -232,7 +220,7 @@ def _latest_change(session: Session, target: IngredientRecord) -> LibraryChange 
     if not rows:
         return None
     return LibraryChange(target.version, rows[0].at, rows[0].user, tuple(
-        f"{r.field}: {r.old_value or '(none)'} -> {r.new_value or '(none)'}" for r in rows))
+        describe_change(change) for r in rows for change in changes_of(r.payload)))
 
 
 def impact_of(library: Library, ingredient: str, *, since: str | None = None,

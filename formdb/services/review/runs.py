@@ -55,6 +55,7 @@ from formdb.services.review import keys
 from formdb.services.review.audit import append_sealed, verify_table
 from formdb.services.review.policy import MEANINGS, current_policy, policy_json
 from formdb.store import queries
+from formdb.store.change_log import changes_of, log_entry
 from formdb.store.formulas import get_formula
 from formdb.store.library import Library
 from formdb.store.lists import with_list_entries
@@ -270,8 +271,18 @@ def _ingredient_changes(session: Session, name: str, version: int | None) -> lis
         ChangeLogEntry.entity == "ingredient", ChangeLogEntry.entity_key == name,
         ChangeLogEntry.entity_version > (version or 0))
         .order_by(ChangeLogEntry.id)).all()
-    return [f"{r.field or r.action} {r.old_value!r} -> {r.new_value!r} by {r.user} at "
-            f"{_stamp(r.at)}" for r in rows]
+    return [f"{_change_text(change) if change else r.action} by {r.user} at {_stamp(r.at)}"
+            for r in rows for change in (changes_of(r.payload) or [{}])]
+
+
+def _change_text(change: dict[str, Any]) -> str:
+    """One logged field change as 'field old -> new' (its source and note when they moved)."""
+    parts = [f"{change.get('field')} {change.get('old')!r} -> {change.get('new')!r}"
+             if "old" in change or "new" in change else str(change.get("field"))]
+    parts += [f"{part} {change.get('old_' + part)!r} -> {change.get('new_' + part)!r}"
+              for part in ("source", "note", "evidence")
+              if f"new_{part}" in change or f"old_{part}" in change]
+    return ", ".join(parts)
 
 
 def _library_changes(session: Session, run: ReviewRun, reference: ReferenceData) -> list[str]:
@@ -439,10 +450,9 @@ def review_status(library: Library) -> ReviewStatus:
 def _refuse(session: Session, user: str, what: str, role: str) -> None:
     """Refuse a signature for want of a role, and keep the refusal in the change log."""
     session.rollback()
-    session.add(ChangeLogEntry(at=datetime.now(UTC), user=user, entity="access",
-                               entity_key=user[:200], entity_version=None, action="refused",
-                               field=what[:60], old_value=None, new_value=None,
-                               reason=f"needs role {role}"))
+    session.add(log_entry(at=datetime.now(UTC), user=user, entity="access", entity_key=user,
+                          entity_version=None, action="refused", attempted=what,
+                          reason=f"needs role {role}"))
     session.commit()
     raise Forbidden(f"{user} may not {what}: that needs the role {role}.",
                     hint=f"ask an admin: formdb user grant {user} {role} --yes")

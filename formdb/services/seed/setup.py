@@ -14,7 +14,6 @@ upgrade and seeding run and are rolled back, and the report says what they would
 
 from __future__ import annotations
 
-import json
 import sqlite3
 from dataclasses import replace
 from datetime import UTC, datetime
@@ -32,6 +31,7 @@ from formdb.services.admin.database import verify_before_upgrade
 from formdb.services.library.ingredients import SPECIAL_SOURCES
 from formdb.services.seed import safety as seed_safety
 from formdb.services.seed import tables as seed_tables
+from formdb.store.change_log import log_entry
 from formdb.store.db import (
     alembic_config,
     current_revision,
@@ -44,7 +44,6 @@ from formdb.store.db import (
 from formdb.store.identity import identity_of
 from formdb.store.models import (
     Base,
-    ChangeLogEntry,
     ExposureEntry,
     IncompatibilityEntry,
     LabelThresholdEntry,
@@ -159,8 +158,8 @@ def ensure_builtin_sources(session: Session, user: str) -> TableCounts:
     now = datetime.now(UTC)
     for values in missing:
         session.add(Source(**values))
-        _log(session, now, user, "source", values["key"], "add", None, None,
-             _summary(values), "built-in source")
+        _log(session, now, user, "source", values["key"], "add", _added(values),
+             "built-in source")
     return TableCounts(added=len(missing), unchanged=len(present))
 
 
@@ -268,8 +267,7 @@ def _upsert_rows(session: Session, model: type[Base], key_fields: tuple[str, ...
         obj = existing.get(key)
         if obj is None:
             session.add(model(**values))
-            _log(session, now, user, entity, entity_key, "seed", None, None, _summary(values),
-                 SEED_REASON)
+            _log(session, now, user, entity, entity_key, "seed", _added(values), SEED_REASON)
             added += 1
             continue
         differing = {name: value for name, value in values.items()
@@ -280,9 +278,11 @@ def _upsert_rows(session: Session, model: type[Base], key_fields: tuple[str, ...
                      for name, value in differing.items() if getattr(obj, name) is not None]
             differing = {name: value for name, value in differing.items()
                          if getattr(obj, name) is None}
+        if differing:
+            _log(session, now, user, entity, entity_key, "seed",
+                 [{"field": name, "old": getattr(obj, name), "new": value}
+                  for name, value in differing.items()], SEED_REASON)
         for name, value in differing.items():
-            _log(session, now, user, entity, entity_key, "seed", name,
-                 _text(getattr(obj, name)), _text(value), SEED_REASON)
             setattr(obj, name, value)
         changed += bool(differing)
         unchanged += not differing
@@ -293,13 +293,14 @@ def _text(value: Any) -> str | None:
     return None if value is None else str(value)
 
 
-def _summary(values: dict[str, Any]) -> str:
-    return json.dumps({k: v for k, v in values.items() if v is not None}, default=str,
-                      ensure_ascii=False, sort_keys=True)
+def _added(values: dict[str, Any]) -> list[dict[str, Any]]:
+    """A new row's values as change-log changes (from nothing)."""
+    return [{"field": name, "old": None, "new": value} for name, value in values.items()
+            if value is not None]
 
 
 def _log(session: Session, now: datetime, user: str, entity: str, entity_key: str, action: str,
-         field_name: str | None, old: str | None, new: str | None, reason: str) -> None:
-    session.add(ChangeLogEntry(at=now, user=user, entity=entity, entity_key=entity_key[:200],
-                               entity_version=None, action=action, field=field_name,
-                               old_value=old, new_value=new, reason=reason))
+         changes: list[dict[str, Any]], reason: str) -> None:
+    """One change-log entry per row added or changed (its changed columns as data)."""
+    session.add(log_entry(at=now, user=user, entity=entity, entity_key=entity_key,
+                          entity_version=None, action=action, changes=changes, reason=reason))
