@@ -83,8 +83,13 @@ def total_words(sheet: WeighSheet) -> str:
 
 
 def cost_words(sheet: WeighSheet) -> list[str]:
+    total = sheet.weighed_total_g
     lines = [f"Cost: {c.batch_cost:,.2f} {c.currency} a batch, {c.per_kg:,.2f} {c.currency}/kg "
-             f"(prices cover {grams(c.priced_g, 0.01)} g)" for c in sheet.costs]
+             + (f"(prices cover {grams(c.priced_g, 0.01)} g)" if c.priced_g >= total - 1e-6
+                else f"(prices cover only {grams(c.priced_g, 0.01)} of the "
+                     f"{grams(total, 0.01)} g weighed: the lines without a price are not in "
+                     "it)")
+             for c in sheet.costs]
     if len(sheet.costs) > 1:
         lines.append("Prices are in more than one currency: the costs are not added up.")
     if sheet.unpriced:

@@ -103,6 +103,8 @@ def test_prices_cost_the_batch_and_keep_their_history(seeded_library_url: str) -
     text = _batch(url, "--kg", "20").stdout
     # 2.4 kg x 2.80 + 14.46 kg x 0.02 = 6.72 + 0.2892 = 7.0092 EUR; per kg / 20
     assert "Cost: 7.01 EUR a batch, 0.35 EUR/kg" in text
+    # 2.4 + 14.46 = 16.86 kg of the 20 kg carry a price: the cost says it is incomplete
+    assert "prices cover only 16,860.00 of the 20,000.00 g weighed" in " ".join(text.split())
     assert "No price in the library for: Glycerin" in text
 
 
