@@ -36,7 +36,7 @@ def hld_facts(formula: ResolvedFormula, lines: list[LineFacts],
     """The HLD fact of one formula (pure: the resolved formula and the facts so far)."""
     process = formula.formula.process.emulsifying_temperature_c()
     temperature = 25.0 if process is None else process
-    source = ("no process temperature: 25 °C" if process is None
+    source = ("no process temperature given: room temperature assumed" if process is None
               else "process temperature" if formula.formula.process.temperature_c is not None
               else "the process step that joins the phases")
     by_no = {ln.line_no: ln.ingredient for ln in formula.lines}

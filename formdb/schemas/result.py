@@ -374,7 +374,7 @@ class HldFacts(_Frozen):
     reason: str | None = None  # why not, when status is "not enough data"
     form: Literal["nonionic", "ionic"] | None = None
     temperature_c: float = 25.0
-    temperature_from: str = "no process temperature: 25 °C"
+    temperature_from: str = "no process temperature given: room temperature assumed"
     eacn: float | None = None  # of the oil phase, weight average
     cc: float | None = None  # of the surfactant system, weight average
     salinity_g_100ml: float | None = None  # sodium chloride per 100 g of the water phase
@@ -383,8 +383,8 @@ class HldFacts(_Frozen):
     favours: EmulsionType | None = None  # HLD < 0: O/W; > 0: W/O
     pit_c: float | None = None  # where the nonionic HLD crosses zero
     missing: tuple[str, ...] = ()  # lines without the value the HLD needs
-    constants: str = ("K 0.17, c_T 0.06 /K, b 0.13 per g/100 mL, a_T 0.01 /K: from memory "
-                      "(science.md section 6)")
+    constants: str = ("K 0.17, c_T 0.06 /K, b 0.13 per g/100 mL, a_T 0.01 /K: from memory, not "
+                      "yet checked against the published papers (Salager; Bourrel et al. 1980)")
 
 
 class FormulaFacts(_Frozen):

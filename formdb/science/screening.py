@@ -95,8 +95,9 @@ def fit_optimum(hlbs: Sequence[float], scores: Sequence[float], *,
     points = sorted((float(h), float(s) if higher_is_better else -float(s))
                     for h, s in zip(hlbs, scores, strict=True))
     if len(points) < MIN_POINTS + 1:
-        raise NoClearOptimum(f"only {len(points)} blends are observed; a fit needs at least "
-                             f"{MIN_POINTS + 1}")
+        seen = "1 blend is" if len(points) == 1 else f"{len(points)} blends are"
+        raise NoClearOptimum(f"only {seen} observed; a fit needs at least {MIN_POINTS + 1} "
+                             "(record the others with formdb screen record)")
     x = [p[0] for p in points]
     y = [p[1] for p in points]
     if max(y) - min(y) <= 1e-12 * max(1.0, abs(max(y))):
