@@ -35,7 +35,7 @@ from formdb.services.seed.setup import init_library
 from formdb.store.db import open_library, unit_of_work
 
 CHECK_TARGET = 5.0
-IMPORT_TARGET = 2.0
+IMPORT_TARGET = 5.0  # issue 9: the import of 50,000 rows at most 5x its floor
 STARTUP_TARGET = 1.5  # one check FILE process
 SHOW_TARGET = 1.3  # one ingredient show NAME process
 # import time beyond the floor's: the room each start-up target leaves (the work comes on top)
