@@ -25,7 +25,9 @@ class UseRange(Rule):
     low end, is not judged against the range: it is there for another purpose (a note of scent,
     a carry-over, an antioxidant for one raw material), not as a weak dose. The exception is a
     preservative: a trace of one cannot preserve, and is more often a slipped decimal point, so
-    it is still reported.
+    it is still reported. A line that forms a soap in the batch (a fatty acid with its base) is
+    judged by what stays free, and only against the top of the range: the rest became the soap
+    on purpose (15 % oleic acid neutralised to sodium oleate is a soap base, not too much oil).
     Why: typical use ranges summarise where an ingredient does its job without side effects:
     too little of a thickener or preservative does nothing, too much of a surfactant irritates
     or an emulsifier makes the cream soapy. A range is experience, not a limit of law (see
@@ -53,11 +55,25 @@ class UseRange(Rule):
 
     def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,
               options: Mapping[str, Any]) -> Iterable[Finding]:
+        stays = {lf.line_no: lf.remaining_percent for lf in facts.lines}
         for ln in formula.lines:
             low, high = ln.ingredient.p.use_min_percent, ln.ingredient.p.use_max_percent
+            left = stays.get(ln.line_no, ln.percent)
+            soap = abs(left - ln.percent) > 1e-9  # part of the line forms a soap in the batch
             values: dict[str, float | str | None] = {
                 "percent": ln.percent, "use_min_percent": low, "use_max_percent": high}
             span = f"{low if low is not None else 0:g}-{high if high is not None else 100:g} %"
+            if soap:
+                values["free_percent"] = left
+                if high is not None and left > high + 1e-9:
+                    yield self.finding(
+                        Severity(options["above_severity"]),
+                        f"{ln.inci}: {left:.3g} % is left free after the soap forms, above its "
+                        f"typical use range ({span})",
+                        ingredients=[ln.inci], values=values,
+                        advice=f"neutralise more of {ln.inci} or weigh in less, or record why "
+                               "that much stays free")
+                continue
             if high is not None and ln.percent > high + 1e-9:
                 yield self.finding(
                     Severity(options["above_severity"]),
