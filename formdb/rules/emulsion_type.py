@@ -63,13 +63,13 @@ class EmulsionTypeCheck(Rule):
     decided type differs on weaker evidence. An info naming the indicators when they disagree
     among themselves (never an error by itself). Judges emulsions and soap creams (facts.kind).
     Decision table (formdb.science.emulsion_type.decide_type), first row that applies:
-      HLB class | soap/ionic   | HLD at 25 °C | solubility split | decided            | strong
-      T         | T or none    | any          | any              | T                  | yes
-      none      | T            | any          | any              | T                  | yes
-      T         | U (differs)  | any          | any              | more emulsifier mass | no
-      none      | none         | T            | any              | T                  | no
-      none      | none         | none         | T                | T                  | no
-      none      | none         | none         | none             | no prediction      | -
+      HLB class | soap/ionic  | HLD at 25 °C | solubility split | decided              | strong
+      T         | T or none   | any          | any              | T                    | yes
+      none      | T           | any          | any              | T                    | yes
+      T         | U (differs) | any          | any              | more emulsifier mass | no
+      none      | none        | T            | any              | T                    | no
+      none      | none        | none         | T                | T                    | no
+      none      | none        | none         | none             | no prediction        | -
     The HLB class is the blend's (Griffin members only; W/O at or below 6, O/W at or above 8);
     soap/ionic: monovalent soaps and water-soluble ionic surfactants O/W, divalent and trivalent
     soaps W/O; HLD: Salager's HLD at 25 °C where the library holds the oils' EACN, the
