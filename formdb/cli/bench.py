@@ -8,7 +8,7 @@ from typing import TYPE_CHECKING
 
 import click
 
-from formdb.cli.main import AppContext, with_library
+from formdb.cli.main import AppContext, force_option, library_files, with_library
 
 if TYPE_CHECKING:
     from formdb.schemas.bench import WeighSheet
@@ -28,20 +28,24 @@ if TYPE_CHECKING:
 @click.option("--format", "fmt", type=click.Choice(["text", "csv", "xlsx", "html"]),
               help="Output format (default: from --out's extension, else text).")
 @click.option("--out", type=click.Path(path_type=Path), help="Write the sheet to this file.")
+@force_option
 @with_library
 def batch_cmd(app: AppContext, library: Library, file: Path | None, stored: str | None,
               batch_kg: float | None,
               evaporation_percent: float, balances: tuple[str, ...], fmt: str | None,
-              out: Path | None) -> None:
+              out: Path | None, force: bool) -> None:
     """A weigh sheet for a batch of formula FILE (or --stored NAME): lines scaled, rounded per
     balance, grouped by phase in process order, the total checked, the cost from the
     library's prices."""
     from formdb.errors import InvalidData
-    from formdb.report.files import write_report
+    from formdb.report.files import check_output, write_report
     from formdb.report.weigh_sheet import format_for, render_sheet
     from formdb.science.weighing import DEFAULT_BALANCES
     from formdb.services.bench_work.weigh_sheets import parse_balance, weigh_sheet_for_file
 
+    inputs = [*([file] if file is not None else []), *library_files(app)]
+    if out is not None:
+        check_output(out, force=force, inputs=inputs)
     chosen = format_for(str(out) if out else None, fmt)
     if chosen == "xlsx" and out is None:
         raise InvalidData("--format xlsx needs --out FILE.xlsx (a workbook is not text)")
@@ -53,7 +57,7 @@ def batch_cmd(app: AppContext, library: Library, file: Path | None, stored: str 
         assert isinstance(rendered, str)
         click.echo(rendered, nl=False)
         return
-    write_report(out, rendered)
+    write_report(out, rendered, force=force, inputs=inputs)
     click.echo(f"weigh sheet for {sheet.batch_g / 1000:g} kg of {sheet.formula} written to {out}")
 
 

@@ -14,11 +14,11 @@ from typing import TYPE_CHECKING, Any, TypeVar
 
 import click
 
-from formdb.cli.main import AppContext, with_library
-from formdb.errors import InvalidData
+from formdb.cli.main import AppContext, Number, force_option, library_files, with_library
 from formdb.schemas.vocab import EmulsionType
 
 if TYPE_CHECKING:
+    from formdb.report.stream import Tally
     from formdb.store.library import Library
 
 F = TypeVar("F", bound=Callable[..., Any])
@@ -40,15 +40,16 @@ def _wants_color(out: Path | None, fmt: str) -> bool:
               show_default=True, help="Report format.")
 @click.option("--out", type=click.Path(path_type=Path, dir_okay=False),
               help="Write the report to this file and print a one-line summary.")
+@force_option
 @with_library
 def check_cmd(app: AppContext, library: Library, files: tuple[Path, ...], all_stored: bool,
-              profile: str, fmt: str, out: Path | None) -> None:
+              profile: str, fmt: str, out: Path | None, force: bool) -> None:
     """Check formula FILES (TOML) against the library.
 
     Exit 0: no error finding; 1: at least one; 2: the input could not be checked.
     """
     from formdb.report import ListSnapshot, render
-    from formdb.report.files import summary_line, write_report
+    from formdb.report.files import check_output, summary_line, write_report
     from formdb.rules.profiles import load_profile
     from formdb.services.checking.flow import check_inputs, iter_check_stored, read_inputs
     from formdb.services.checking.report_context import limit_snapshots
@@ -56,12 +57,16 @@ def check_cmd(app: AppContext, library: Library, files: tuple[Path, ...], all_st
     ctx = click.get_current_context()
     if not files and not all_stored:
         raise click.UsageError("give one or more formula FILEs, or --all")
+    inputs = [*files, Path(profile), *library_files(app)]
+    if out is not None:
+        check_output(out, force=force, inputs=inputs)
     items = read_inputs(files)
     chosen = load_profile(profile)
     with library.read():  # the list dates and every finding from one state of the library
         snapshots = [ListSnapshot(*row) for row in limit_snapshots(library, chosen)]
         if fmt == "jsonl" or (all_stored and fmt != "html"):
-            failing = _stream(library, items, chosen, all_stored, fmt, out, snapshots)
+            failing = _stream(library, items, chosen, all_stored, fmt, out, snapshots,
+                              force, inputs)
             ctx.exit(1 if failing else 0)
         results = check_inputs(library, items, chosen) if items else []
         if all_stored:
@@ -69,9 +74,15 @@ def check_cmd(app: AppContext, library: Library, files: tuple[Path, ...], all_st
     if not results:
         click.echo("No stored formulas to check: `formdb formula import FILE` stores one.")
         return
-    report = render(results, fmt, snapshots=snapshots, color=_wants_color(out, fmt))
+    color = _wants_color(out, fmt)
+    report = render(results, fmt, snapshots=snapshots, color=color)
+    if color:  # the data was escaped before the colours went in (report.text)
+        from formdb.report.terminal import raw_stdout
+
+        click.echo(report, nl=False, file=raw_stdout(sys.stdout), color=True)
+        ctx.exit(1 if any(r.has_errors for r in results) else 0)
     if out is not None:
-        write_report(out, report)
+        write_report(out, report, force=force, inputs=inputs)
         click.echo(summary_line(results, out))
     else:
         click.echo(report, nl=False)
@@ -79,12 +90,11 @@ def check_cmd(app: AppContext, library: Library, files: tuple[Path, ...], all_st
 
 
 def _stream(library: Library, items: list[Any], profile: Any, all_stored: bool, fmt: str,
-            out: Path | None, snapshots: list[Any]) -> int:
+            out: Path | None, snapshots: list[Any], force: bool, inputs: list[Path]) -> int:
     """Write each result as it is checked (``--all`` over thousands of formulas, or jsonl);
     a progress bar on stderr when it is a terminal. Returns how many formulas have errors."""
     import itertools
 
-    from formdb.report.stream import StreamReport
     from formdb.services.checking.flow import check_inputs, count_stored, iter_check_stored
 
     results = itertools.chain(check_inputs(library, items, profile) if items else [],
@@ -93,36 +103,40 @@ def _stream(library: Library, items: list[Any], profile: Any, all_stored: bool, 
     if total == 0:
         click.echo("No stored formulas to check: `formdb formula import FILE` stores one.")
         return 0
-    target = out.with_name(f".{out.name}.part") if out is not None else None
-    try:
-        # closed in the finally below; stdout is not ours to close
-        handle = open(target, "w", encoding="utf-8") if target else sys.stdout  # noqa: SIM115
-    except OSError as exc:
-        raise InvalidData(f"{out}: the report cannot be written ({exc.strerror or exc})",
-                          hint="choose a folder you can write to") from None
-    try:
-        report = StreamReport(handle, "text" if fmt == "text" else fmt, snapshots)
-        for result in _with_progress(results, total):
-            report.write(result)
-        tally = report.close()
-    finally:
-        if target:
-            handle.close()
-        else:
-            handle.flush()
-    if target is not None and out is not None:
-        os.replace(target, out)
-        click.echo(f"{tally.line()}; report written to {out}")
+    if out is None:
+        tally = _write_stream(sys.stdout, results, total, fmt, snapshots)
+        sys.stdout.flush()
+        return tally.failing
+    from formdb.report.files import output_file, written_line
+
+    with output_file(out, force=force, inputs=inputs) as target, \
+            open(target, "x", encoding="utf-8") as handle:
+        tally = _write_stream(handle, results, total, fmt, snapshots)
+    click.echo(written_line(tally, out))
     return tally.failing
+
+
+def _write_stream(handle: Any, results: Any, total: int, fmt: str,
+                  snapshots: list[Any]) -> Tally:
+    from formdb.report.stream import StreamReport
+
+    report = StreamReport(handle, "text" if fmt == "text" else fmt, snapshots)
+    for result in _with_progress(results, total):
+        report.write(result)
+    return report.close()
 
 
 def _with_progress(results: Any, total: int) -> Any:
     if not sys.stderr.isatty():
         yield from results
         return
+    from rich.console import Console
     from rich.progress import Progress
 
-    with Progress(transient=True, console=None) as progress:
+    from formdb.report.terminal import raw_stdout
+
+    # the bar's own cursor movements go to the terminal as they are (no data in them)
+    with Progress(transient=True, console=Console(file=raw_stdout(sys.stderr))) as progress:
         task = progress.add_task("checking", total=total)
         for result in results:
             yield result
@@ -149,12 +163,12 @@ def _blend_mode(file: Path | None, target: float | None, using: tuple[str, ...],
 
 @click.command("blend")
 @click.argument("file", required=False, type=click.Path(path_type=Path))
-@click.option("--target", type=float, help="The HLB the blend must have.")
+@click.option("--target", type=Number(float, 0, 60), help="The HLB the blend must have.")
 @click.option("--using", multiple=True, metavar="INCI",
               help="An emulsifier of the blend (INCI name or synonym); repeat for each.")
 @click.option("--search", is_flag=True,
               help="Rank compatible pairs from the whole library that reach the target.")
-@click.option("--total", type=float, default=None,
+@click.option("--total", type=Number(float, 1e-6, 100), default=None,
               help="Emulsifier total in % w/w for the proportions (--search: default 5, or the "
                    "formula's own total with FILE).")
 @click.option("--top", type=click.IntRange(1, 100), default=10, show_default=True,

@@ -2,11 +2,12 @@
 
 from __future__ import annotations
 
+import dataclasses
 from pathlib import Path
 
 import click
 
-from formdb.cli.main import AppContext
+from formdb.cli.main import AppContext, force_option, library_files
 from formdb.errors import FormdbError, Unconfirmed
 from formdb.report import admin as report
 from formdb.services.admin import database
@@ -69,10 +70,15 @@ def downgrade_cmd(app: AppContext, revision: str, yes: bool, backup_to: Path | N
 
 @db_group.command("backup")
 @click.argument("path", type=click.Path(path_type=Path, dir_okay=False))
+@force_option
 @click.pass_obj
-def backup_cmd(app: AppContext, path: Path) -> None:
+def backup_cmd(app: AppContext, path: Path, force: bool) -> None:
     """Copy the whole library to PATH: a SQLite file, or PATH.zip (portable, any backend)."""
-    click.echo(report.db_backed_up(database.backup(app.db, path)), nl=False)
+    from formdb.report.files import output_file
+
+    with output_file(path, force=force, inputs=library_files(app)) as partial:
+        made = database.backup(app.db, partial)
+    click.echo(report.db_backed_up(dataclasses.replace(made, path=path)), nl=False)
 
 
 @db_group.command("restore")

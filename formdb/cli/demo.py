@@ -6,7 +6,7 @@ from pathlib import Path
 
 import click
 
-from formdb.cli.main import AppContext
+from formdb.cli.main import AppContext, force_option
 
 
 @click.command("demo")
@@ -16,15 +16,17 @@ from formdb.cli.main import AppContext
               help="Also write each formula's report into this folder.")
 @click.option("--keep", type=click.Path(path_type=Path), default=None,
               help="Keep the demo library at this SQLite path instead of a temporary file.")
+@force_option
 @click.pass_obj
-def demo_cmd(app: AppContext, fmt: str, out: Path | None, keep: Path | None) -> None:
+def demo_cmd(app: AppContext, fmt: str, out: Path | None, keep: Path | None,
+             force: bool) -> None:
     """Build a throwaway library from the seed data and check the demo lab's formulas.
 
     The formulas belong to Larkspur Bench Laboratories, an invented lab; the findings are real
     output of the checker on the bundled seed library. Always exits 0.
     """
     from formdb.report.demo import INTRO, demo_report, demo_report_files, demo_summary
-    from formdb.report.files import write_report
+    from formdb.report.files import check_output, write_report
     from formdb.services.checking.demo import run_demo
     from formdb.store.identity import accept_claim, os_account
 
@@ -35,8 +37,11 @@ def demo_cmd(app: AppContext, fmt: str, out: Path | None, keep: Path | None) -> 
     if out is not None:
         out.mkdir(parents=True, exist_ok=True)
         written = []
-        for name, text in demo_report_files(demo, fmt).items():
-            write_report(out / name, text)
+        files = demo_report_files(demo, fmt)
+        for name in files:  # every name refused or accepted before the first is written
+            check_output(out / name, force=force)
+        for name, text in files.items():
+            write_report(out / name, text, force=force)
             written.append(out / name)
         click.echo(f"Reports written: {', '.join(str(p) for p in written)}")
     click.echo(demo_summary(demo))

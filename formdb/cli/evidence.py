@@ -12,7 +12,7 @@ from typing import TYPE_CHECKING, Any, TypeVar
 
 import click
 
-from formdb.cli.main import AppContext, with_library
+from formdb.cli.main import AppContext, force_option, library_files, with_library
 
 if TYPE_CHECKING:
     from formdb.services.library.records import RecordKind
@@ -189,13 +189,16 @@ def _group(entity: str) -> click.Group:
 
     @group.command("export")
     @click.argument("file", type=click.Path(path_type=Path))
+    @force_option
     @with_library
-    def export_cmd(app: AppContext, library: Library, file: Path) -> None:
+    def export_cmd(app: AppContext, library: Library, file: Path, force: bool) -> None:
         """Write every record to FILE (.csv or .xlsx) in the columns `import` reads."""
+        from formdb.report.files import output_file
         from formdb.services.library.records import export_records
 
-        with library.read() as session:
-            count = export_records(session, kind(), file)
+        with output_file(file, force=force, inputs=library_files(app)) as partial, \
+                library.read() as session:
+            count = export_records(session, kind(), partial)
         click.echo(f"wrote {count} {noun} to {file}")
 
     if is_source:

@@ -7,11 +7,10 @@ from typing import TYPE_CHECKING
 
 import click
 
-from formdb.cli.main import AppContext, with_library
+from formdb.cli.main import AppContext, force_option, library_files, with_library
 
 if TYPE_CHECKING:
     from formdb.store.library import Library
-from formdb.errors import InvalidData
 
 
 @click.group("formula")
@@ -60,14 +59,14 @@ def show_cmd(app: AppContext, library: Library, name: str) -> None:
 @formula_group.command("export")
 @click.argument("name")
 @click.argument("file", type=click.Path(path_type=Path))
+@force_option
 @with_library
-def export_cmd(app: AppContext, library: Library, name: str, file: Path) -> None:
+def export_cmd(app: AppContext, library: Library, name: str, file: Path, force: bool) -> None:
     """Write a stored formula to FILE (TOML, byte for byte as imported)."""
+    from formdb.report.files import check_output, write_output
     from formdb.services.library.formulas import formula_text
 
+    check_output(file, force=force, inputs=library_files(app))
     text = formula_text(library, name)
-    try:
-        file.write_text(text, encoding="utf-8")
-    except OSError as exc:
-        raise InvalidData(f"{file}: cannot be written ({exc.strerror or exc})") from None
+    write_output(file, text, force=force, inputs=library_files(app))
     click.echo(f"wrote {file}")

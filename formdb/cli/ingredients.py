@@ -14,7 +14,7 @@ from typing import TYPE_CHECKING
 
 import click
 
-from formdb.cli.main import AppContext, with_library
+from formdb.cli.main import AppContext, Number, force_option, library_files, with_library
 from formdb.report.library import record_changes
 
 if TYPE_CHECKING:
@@ -122,7 +122,7 @@ def add_cmd(app: AppContext, library: Library, name: str, sets: tuple[str, ...],
 @_SET
 @_SOURCE
 @click.option("--reason", help="Why it changes (required for published values).")
-@click.option("--expect-version", type=int,
+@click.option("--expect-version", type=Number(int, 1, 2**31 - 1),
               help="The version you read; refused if someone changed it since.")
 @_ACCEPT
 @with_library
@@ -229,12 +229,15 @@ def import_cmd(app: AppContext, library: Library, file: Path, dry_run: bool, rea
 @click.argument("file", type=click.Path(path_type=Path))
 @click.option("--role", help="Only ingredients with this role.")
 @click.option("--include-retired", is_flag=True, help="Also export retired ingredients.")
+@force_option
 @with_library
 def export_cmd(app: AppContext, library: Library, file: Path, role: str | None,
-               include_retired: bool) -> None:
+               include_retired: bool, force: bool) -> None:
     """Write the library to FILE (.csv or .xlsx) in the columns `import` reads."""
+    from formdb.report.files import output_file
     from formdb.services.library.ingredients import export_table
 
-    with library.read() as session:
-        count = export_table(session, file, role=role, include_retired=include_retired)
+    with output_file(file, force=force, inputs=library_files(app)) as partial, \
+            library.read() as session:
+        count = export_table(session, partial, role=role, include_retired=include_retired)
     click.echo(f"wrote {count} ingredient(s) to {file}")

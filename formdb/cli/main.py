@@ -6,12 +6,14 @@ Sub-commands are imported only when invoked, so ``formdb check`` does not pay fo
 from __future__ import annotations
 
 import importlib
+import math
 import os
 import sys
 import traceback
 from collections.abc import Callable
 from dataclasses import dataclass
 from functools import wraps
+from pathlib import Path
 from typing import TYPE_CHECKING, Any, TypeVar
 
 import click
@@ -76,6 +78,16 @@ class AppContext:
 
 F = TypeVar("F", bound=Callable[..., Any])
 
+# Exit codes of every command. check keeps its contract (0 clean, 1 error findings, 2 bad
+# input); a bug in formdb is none of these, so a script or CI can tell it from a typo:
+# 70 is EX_SOFTWARE of BSD sysexits.h ("internal software error").
+EXIT_BAD_INPUT = 2
+EXIT_INTERNAL = 70
+EXIT_CODES_HELP = (
+    "Exit codes: 0 done (check: no error finding); 1 check found at least one error; 2 bad "
+    f"input, refused with one Error: line and nothing changed; {EXIT_INTERNAL} an internal "
+    "error in formdb (a bug: rerun with --debug and report the traceback).")
+
 
 def with_library(command: F) -> F:
     """Give the command the AppContext and the Library (opened at its first use, closed at the
@@ -98,6 +110,48 @@ def with_library(command: F) -> F:
     return run  # type: ignore[return-value]
 
 
+force_option = click.option(
+    "--force", is_flag=True,
+    help="Replace the output file if it already exists (never a file the command reads).")
+
+
+class Number(click.ParamType[Any]):
+    """A number option: ASCII digits only (int() and float() also take Arabic-Indic or
+    fullwidth digits), finite, and within its realistic range."""
+
+    def __init__(self, kind: type[int] | type[float], low: float, high: float) -> None:
+        self.kind, self.low, self.high = kind, low, high
+        self.name = "integer" if kind is int else "number"
+
+    def convert(self, value: Any, param: click.Parameter | None,
+                ctx: click.Context | None) -> Any:
+        if isinstance(value, int | float) and not isinstance(value, bool):
+            number: float = value
+        else:
+            text = str(value).strip()
+            if not text.isascii():
+                self.fail(f"{value!r} is not a number written in ASCII digits", param, ctx)
+            try:
+                number = self.kind(text)
+            except ValueError:
+                self.fail(f"{value!r} is not a{'n integer' if self.kind is int else ' number'}",
+                          param, ctx)
+        if not math.isfinite(number) or not self.low <= number <= self.high:
+            self.fail(f"{value!r} is not between {self.low:g} and {self.high:g}", param, ctx)
+        return number
+
+
+def library_files(app: AppContext) -> list[Path]:
+    """The SQLite library behind ``--db`` (a file no command may write its output over)."""
+    from formdb.store.db import sqlite_path
+
+    try:
+        path = sqlite_path(app.db)
+    except Exception:  # an unparsable URL is reported when the library is opened
+        return []
+    return [path] if path is not None else []
+
+
 class LazyGroup(click.Group):
     def list_commands(self, ctx: click.Context) -> list[str]:
         return sorted(COMMANDS)
@@ -111,7 +165,8 @@ class LazyGroup(click.Group):
         return command
 
 
-@click.group(cls=LazyGroup, context_settings={"help_option_names": ["-h", "--help"]})
+@click.group(cls=LazyGroup, context_settings={"help_option_names": ["-h", "--help"]},
+             epilog=EXIT_CODES_HELP)
 @click.option("--db", envvar="FORMDB_DB", default="formdb.sqlite", show_default=True,
               help="Library location: a SQLite file path or a postgresql+psycopg:// URL "
                    "(env FORMDB_DB).")
@@ -159,8 +214,23 @@ def _wants_debug(argv: list[str]) -> bool:
 
 
 def main(argv: list[str] | None = None) -> None:
-    """Entry point: run the command; turn a FormdbError into one ``Error:`` line and exit 2."""
+    """Entry point: run the command; turn a FormdbError into one ``Error:`` line and exit 2,
+    and anything else (a bug) into one line and exit ``EXIT_INTERNAL``."""
     args = sys.argv[1:] if argv is None else argv
+    from formdb.report.terminal import SafeOutput
+
+    saved = sys.stdout, sys.stderr
+    # no control sequence from the data reaches the terminal (report.terminal)
+    sys.stdout, sys.stderr = SafeOutput(saved[0]), SafeOutput(saved[1])
+    try:
+        _run(args)
+    finally:
+        sys.stdout.flush()
+        sys.stderr.flush()
+        sys.stdout, sys.stderr = saved
+
+
+def _run(args: list[str]) -> None:
     try:
         code = cli.main(args=args, prog_name="formdb", standalone_mode=False)
     except FormdbError as exc:
@@ -192,5 +262,5 @@ def main(argv: list[str] | None = None) -> None:
             traceback.print_exc()
         click.echo(f"Error: internal problem ({type(exc).__name__}: {exc}). "
                    "Next: rerun with --debug and report the traceback.", err=True)
-        sys.exit(2)
+        sys.exit(EXIT_INTERNAL)
     sys.exit(code if isinstance(code, int) else 0)

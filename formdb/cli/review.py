@@ -7,7 +7,7 @@ from typing import TYPE_CHECKING
 
 import click
 
-from formdb.cli.main import AppContext, with_library
+from formdb.cli.main import AppContext, force_option, library_files, with_library
 
 if TYPE_CHECKING:
     from formdb.store.library import Library
@@ -126,21 +126,25 @@ def policy_set_cmd(app: AppContext, library: Library, profile: str, roles: tuple
               show_default=True)
 @click.option("--out", type=click.Path(path_type=Path, dir_okay=False),
               help="Write the report to this file.")
+@force_option
 @with_library
-def report_cmd(app: AppContext, library: Library, run: str, fmt: str, out: Path | None) -> None:
+def report_cmd(app: AppContext, library: Library, run: str, fmt: str, out: Path | None,
+               force: bool) -> None:
     """The filed report of review RUN: HTML (printable) or JSON. Exit 1 when the run or a
     signature on it does not verify (the report says BROKEN or INVALID beside it)."""
-    from formdb.report.files import write_report
+    from formdb.report.files import check_output, write_report
     from formdb.report.review import render_review
     from formdb.report.review_status import report_written
     from formdb.services.review.runs import filed_run
 
+    if out is not None:
+        check_output(out, force=force, inputs=library_files(app))
     filed = filed_run(library, run)
     text = render_review(filed, fmt)
     if out is None:
         click.echo(text, nl=False)
     else:
-        write_report(out, text)
+        write_report(out, text, force=force, inputs=library_files(app))
         click.echo(report_written(filed, out), nl=False)
     if not filed.state.verified:
         click.echo(f"Error: run {filed.state.run_key} does not verify (BROKEN or INVALID in "

@@ -64,8 +64,12 @@ class HlbChart:
     empty_message: str = ""
 
 
+AXIS_CAP = 60.0  # Davies' numbers reach about 40; anything beyond is drawn at the edge
+
+
 def axis_max(values: list[float]) -> float:
-    top = max([20.0, *values]) if values else 20.0
+    finite = [v for v in values if math.isfinite(v)]
+    top = min(max([20.0, *finite]), AXIS_CAP)
     return 20.0 if top <= 20 else float(math.ceil(top / 5.0) * 5)
 
 

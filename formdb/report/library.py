@@ -10,6 +10,7 @@ from collections.abc import Sequence
 from datetime import datetime
 from typing import TYPE_CHECKING, Any
 
+from formdb.schemas.cells import guard_cell
 from formdb.schemas.times import utc
 
 if TYPE_CHECKING:
@@ -55,7 +56,7 @@ def ingredient_list(records: Sequence[IngredientRecord], fmt: str, *,
         buffer = io.StringIO()
         writer = csv.writer(buffer, lineterminator="\n")
         writer.writerow(_LIST_COLUMNS)
-        writer.writerows(rows)
+        writer.writerows([guard_cell(cell) for cell in row] for row in rows)
         return buffer.getvalue()
     from rich.table import Table
 

@@ -20,6 +20,7 @@ from rich.text import Text
 from formdb.report.blocks import Block, Lines, Notes, Section
 from formdb.report.blocks import Table as TableBlock
 from formdb.report.cautions import ListSnapshot, cautions
+from formdb.report.terminal import safe_fields, terminal_safe
 from formdb.report.view import FindingGroup, FormulaView, formula_view
 from formdb.schemas.result import CheckResult
 
@@ -130,7 +131,10 @@ def render_text(results: Sequence[CheckResult], *,
     """The text report of every result, then the cautions once."""
     console = _console(color)
     for result in results:
-        console.print(formula_renderable(formula_view(result)))
-    console.print(cautions_renderable(cautions(results, snapshots)))
+        view = formula_view(result)
+        # coloured output bypasses the terminal filter (its colours are wanted): escape first
+        console.print(formula_renderable(safe_fields(view) if color else view))
+    notes = cautions(results, snapshots)
+    console.print(cautions_renderable([terminal_safe(n) for n in notes] if color else notes))
     output = console.file.getvalue()  # type: ignore[attr-defined]
     return "\n".join(line.rstrip() for line in output.splitlines()) + "\n"

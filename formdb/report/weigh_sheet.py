@@ -20,6 +20,7 @@ from rich.text import Text
 
 from formdb.errors import ConfigError
 from formdb.report.cautions import DEFER, SCREENING
+from formdb.schemas.cells import guard_cell
 
 if TYPE_CHECKING:  # the report layer reads these records only
     from formdb.schemas.bench import PhaseGroup, StepView, WeighLine, WeighSheet
@@ -163,12 +164,17 @@ def _rows(sheet: WeighSheet) -> list[list[object]]:
     return rows
 
 
+def _guarded(row: list[object]) -> list[object]:
+    """Text cells that a spreadsheet would run as formulas get an apostrophe (schemas.cells)."""
+    return [guard_cell(c) if isinstance(c, str) else c for c in row]
+
+
 def render_csv(sheet: WeighSheet) -> str:
     """One row a line to weigh, with empty weighed-by and checked-by columns to fill in."""
     out = StringIO()
     writer = csv.writer(out, lineterminator="\n")
     writer.writerow(CSV_COLUMNS)
-    writer.writerows(_rows(sheet))
+    writer.writerows(_guarded(row) for row in _rows(sheet))
     return out.getvalue()
 
 
@@ -182,17 +188,17 @@ def render_xlsx(sheet: WeighSheet) -> bytes:
     book.remove(book.worksheets[1])
     ws.title = "weigh sheet"
     for line in _heading(sheet):
-        ws.append([line])
+        ws.append(_guarded([line]))
     ws.append([])
     ws.append(list(CSV_COLUMNS))
     for cell in ws[ws.max_row]:
         cell.font = Font(bold=True)
     for row in _rows(sheet):
-        ws.append(row)
+        ws.append(_guarded(row))
     ws.append([])
     for line in [total_words(sheet), *cost_words(sheet), *("Note: " + n for n in sheet.notes),
                  "Weighed by:", "Checked by:", SCREENING]:
-        ws.append([line])
+        ws.append(_guarded([line]))
     buffer = BytesIO()
     book.save(buffer)
     return buffer.getvalue()

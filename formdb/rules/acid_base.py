@@ -90,7 +90,8 @@ class LeaveOnPh(Rule):
     groups = ("chemistry",)
     default_severity = Severity.WARNING
     options: ClassVar[dict[str, Option]] = {
-        "max_ph": Option(float, LEAVE_ON_PH_MAX, "highest pH of a leave-on product", minimum=0),
+        "max_ph": Option(float, LEAVE_ON_PH_MAX, "highest pH of a leave-on product", minimum=0,
+                         maximum=14),
     }
 
     def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,

@@ -32,7 +32,8 @@ class PercentTotal(Rule):
     groups = ("composition",)
     default_severity = Severity.ERROR
     options: ClassVar[dict[str, Option]] = {
-        "tolerance": Option(float, 0.1, "allowed difference from 100 % w/w", minimum=0),
+        "tolerance": Option(float, 0.1, "allowed difference from 100 % w/w", minimum=0,
+                            maximum=100),
     }
 
     def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,

@@ -8,6 +8,7 @@ test enforces: a one-line summary, then the sections ``Flags:``, ``Why:``, ``Fai
 from __future__ import annotations
 
 import inspect
+import math
 import re
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass
@@ -33,6 +34,8 @@ class Option:
     description: str
     choices: tuple[str, ...] | None = None
     minimum: float | None = None
+    maximum: float | None = None  # every number option has a realistic range
+    # (tests/rules/test_option_bounds.py checks every registered number option has both)
 
     def parse(self, value: Any, where: str) -> Any:
         """The value checked against the option's type; ValueError naming ``where`` otherwise."""
@@ -46,8 +49,12 @@ class Option:
         if self.choices is not None and str(value) not in self.choices:
             raise ValueError(f"{where}: {value!r} is not one of {', '.join(self.choices)}"
                              f"{did_you_mean(str(value), self.choices)}")
+        if isinstance(value, float) and not math.isfinite(value):
+            raise ValueError(f"{where}: must be a finite number, got {value!r}")
         if self.minimum is not None and isinstance(value, int | float) and value < self.minimum:
             raise ValueError(f"{where}: must be at least {self.minimum}, got {value!r}")
+        if self.maximum is not None and isinstance(value, int | float) and value > self.maximum:
+            raise ValueError(f"{where}: must be at most {self.maximum}, got {value!r}")
         return value
 
 

@@ -103,9 +103,10 @@ class EmulsionTypeCheck(Rule):
     kinds: ClassVar[frozenset[str] | None] = frozenset({"emulsion", "soap cream"})
     options: ClassVar[dict[str, Option]] = {
         "strong_wo_below": Option(float, 6.0, "blend HLB below which an intended O/W is "
-                                              "contradicted strongly", minimum=0),
+                                              "contradicted strongly", minimum=0, maximum=60),
         "strong_ow_above": Option(float, 10.0, "blend HLB above which an intended W/O is "
-                                               "contradicted strongly", minimum=0),
+                                               "contradicted strongly", minimum=0,
+                            maximum=60),
     }
 
     def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,

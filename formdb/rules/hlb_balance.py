@@ -65,7 +65,8 @@ class HlbBalance(Rule):
     default_severity = Severity.WARNING
     kinds: ClassVar[frozenset[str] | None] = frozenset({"emulsion"})
     options: ClassVar[dict[str, Option]] = {
-        "tolerance": Option(float, 1.0, "half-width of the accepted HLB band", minimum=0),
+        "tolerance": Option(float, 1.0, "half-width of the accepted HLB band", minimum=0,
+                            maximum=10),
     }
 
     def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,

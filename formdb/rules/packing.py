@@ -42,7 +42,8 @@ class Packing(Rule):
     kinds: ClassVar[frozenset[str] | None] = frozenset({"emulsion", "soap cream"})
     options: ClassVar[dict[str, Option]] = {
         "random_close_info": Option(bool, True, "report fractions above random close packing"),
-        "random_close": Option(float, 0.64, "random close packing limit", minimum=0),
+        "random_close": Option(float, 0.64, "random close packing limit",
+                               minimum=0.01, maximum=1),
     }
 
     def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,

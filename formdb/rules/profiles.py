@@ -32,6 +32,7 @@ from formdb.errors import ConfigError
 from formdb.resources import seed_data_dir
 from formdb.rules.base import Rule
 from formdb.rules.registry import RuleRegistry, default_registry
+from formdb.schemas.bounds import MAX_TOML_BYTES, TomlTooLarge, load_toml
 from formdb.schemas.result import FactsSettings
 from formdb.schemas.suggest import did_you_mean
 from formdb.schemas.vocab import Severity
@@ -148,7 +149,9 @@ class Profile(BaseModel):
         label_rule = registry.find("ALG01")
         if label_rule is not None:
             update["label_jurisdiction"] = str(self.options_for(label_rule)["jurisdiction"])
-        return self.facts.model_copy(update=update) if update else self.facts
+        # validated, not copied: a rule option must keep the bounds the facts declare
+        return (FactsSettings.model_validate({**self.facts.model_dump(), **update})
+                if update else self.facts)
 
 
 def _check_selector(registry: RuleRegistry, word: str, where: str) -> None:
@@ -208,9 +211,14 @@ def _locate(spec: str | Path) -> Path:
 
 def _read(path: Path) -> dict[str, Any]:
     try:
-        return tomllib.loads(path.read_text(encoding="utf-8"))
+        if path.stat().st_size > MAX_TOML_BYTES:
+            raise ConfigError(f"profile {path}: {path.stat().st_size:,} bytes is more than a "
+                              f"profile file formdb reads ({MAX_TOML_BYTES:,})")
+        return load_toml(path.read_text(encoding="utf-8"))
     except tomllib.TOMLDecodeError as exc:
         raise ConfigError(f"profile {path}: not valid TOML ({exc})") from None
+    except TomlTooLarge as exc:
+        raise ConfigError(f"profile {path}: {exc}") from None
     except (OSError, UnicodeDecodeError) as exc:
         raise ConfigError(f"profile {path}: cannot be read ({exc})") from None
 

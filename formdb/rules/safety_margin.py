@@ -46,7 +46,7 @@ class SafetyMargin(Rule):
     default_severity = Severity.ERROR
     options: ClassVar[dict[str, Option]] = {
         "threshold": Option(float, DEFAULT_MOS_THRESHOLD, "lowest acceptable margin of safety",
-                            minimum=1.0),
+                            minimum=1.0, maximum=100_000),
         "missing_severity": Option(str, "warning", "severity for a preservative, UV filter or "
                                    "active without a point of departure", choices=SEVERITIES),
     }

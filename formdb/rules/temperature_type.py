@@ -41,7 +41,8 @@ class TemperatureType(Rule):
     default_severity = Severity.WARNING
     kinds: ClassVar[frozenset[str] | None] = frozenset({"emulsion", "soap cream"})
     options: ClassVar[dict[str, Option]] = {
-        "band": Option(float, 0.5, "HLD within this of 0 is not judged", minimum=0),
+        "band": Option(float, 0.5, "HLD within this of 0 is not judged", minimum=0,
+                       maximum=5),  # the facts' hld_band holds at most 5
         "pit_info": Option(bool, True, "report a phase inversion crossed on cooling"),
     }
 

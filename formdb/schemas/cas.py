@@ -9,13 +9,15 @@ from __future__ import annotations
 
 import re
 
-_CAS_RE = re.compile(r"^(\d{2,7})-(\d{2})-(\d)$")
+# ASCII digits only (re.ASCII: Python's \d would take Arabic-Indic or fullwidth digits too);
+# the first group never starts with 0, so 0000-00-0 and padded forms are not CAS numbers
+_CAS_RE = re.compile(r"([1-9]\d{1,6})-(\d{2})-(\d)", re.ASCII)
 
 
 def cas_check_digit(cas: str) -> int | None:
     """The check digit a CAS number of the right shape should end with; None for another shape.
     Surrounding spaces are ignored."""
-    match = _CAS_RE.match(cas.strip())
+    match = _CAS_RE.fullmatch(cas.strip())
     if not match:
         return None
     digits = (match.group(1) + match.group(2))[::-1]

@@ -8,6 +8,23 @@ from __future__ import annotations
 from enum import StrEnum
 from typing import Any
 
+# A cell that starts with one of these runs as a formula when a spreadsheet opens the file
+# (OWASP, "CSV Injection"); every CSV or XLSX formdb writes prefixes such a text cell with an
+# apostrophe, and import strips it.
+FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+
+
+def guard_cell(text: str) -> str:
+    """Make a cell safe to open in a spreadsheet: a leading formula character gets an apostrophe."""
+    return "'" + text if text.startswith(FORMULA_STARTS) else text
+
+
+def unguard_cell(text: str) -> str:
+    """Undo ``guard_cell`` so that an exported table reads back exactly as it was."""
+    if text.startswith("'") and text[1:].startswith(FORMULA_STARTS):
+        return text[1:]
+    return text
+
 
 def format_number(value: float) -> str:
     """The shortest text that reads back as exactly ``value`` (12.0 -> '12')."""

@@ -9,6 +9,7 @@ from typing import Any, Literal
 
 from pydantic import BaseModel, ConfigDict, Field, field_validator
 
+from formdb.schemas.bounds import MAX_FORMULA_LINES
 from formdb.schemas.ingredient import IngredientRecord
 from formdb.schemas.lists import PURPOSES
 from formdb.schemas.vocab import Category, EmulsionType
@@ -82,7 +83,7 @@ class FormulaLine(BaseModel):
 
 def _phase_letter(value: str) -> str:
     cleaned = value.strip().upper()
-    if not cleaned or not cleaned.isalnum():
+    if not cleaned or not cleaned.isascii() or not cleaned.isalnum():
         raise ValueError(f"phase must be a letter such as A, B or C, got {value!r}")
     return cleaned
 
@@ -140,8 +141,8 @@ class ProcessConditions(BaseModel):
 
     model_config = ConfigDict(extra="forbid")
 
-    droplet_diameter_um: float | None = Field(None, gt=0, le=10000)
-    surface_excess_mg_m2: float | None = Field(None, gt=0, le=100)
+    droplet_diameter_um: float | None = Field(None, ge=0.001, le=10000)
+    surface_excess_mg_m2: float | None = Field(None, ge=0.01, le=100)
     temperature_c: float | None = Field(None, ge=-20, le=150)
     steps: list[ProcessStep] = Field(default_factory=list, max_length=200)
 
@@ -173,7 +174,7 @@ class FormulaFile(BaseModel):
     # the day the product is (to be) placed on the market: which allergen list applies
     placed_on: date | None = None
     process: ProcessConditions = ProcessConditions()
-    ingredients: list[FormulaLine] = Field(min_length=1)
+    ingredients: list[FormulaLine] = Field(min_length=1, max_length=MAX_FORMULA_LINES)
 
     @field_validator("ph", "batch_kg", mode="before")
     @classmethod

@@ -7,13 +7,16 @@ property as a row of ``property_values``, so no migration is needed for a new on
 
 from __future__ import annotations
 
+import unicodedata
 from collections.abc import Mapping
 from functools import lru_cache
 from typing import Any
 
 from pydantic import BaseModel, ConfigDict, Field, field_validator, model_validator
 
+from formdb.schemas.bounds import MAX_NAME_CHARS
 from formdb.schemas.cas import cas_is_valid
+from formdb.schemas.names import clean_name
 from formdb.schemas.vocab import (
     Evidence,
     IonicCharacter,
@@ -25,8 +28,8 @@ from formdb.schemas.vocab import (
 
 
 def normalise_inci(name: str) -> str:
-    """The display form of an INCI name: trimmed, inner whitespace collapsed."""
-    return " ".join(str(name).split())
+    """The display form of an INCI name: NFC, trimmed, inner whitespace collapsed."""
+    return " ".join(unicodedata.normalize("NFC", str(name)).split())
 
 
 @lru_cache(maxsize=1 << 16)  # rules compare names per line and per limit row: memoised
@@ -159,7 +162,7 @@ class IngredientIn(BaseModel):
     @field_validator("inci_name")
     @classmethod
     def _clean_name(cls, value: str) -> str:
-        cleaned = normalise_inci(value)
+        cleaned = clean_name(value, "inci_name")
         if not cleaned:
             raise ValueError("inci_name is empty")
         if len(cleaned) > 200:
@@ -169,8 +172,12 @@ class IngredientIn(BaseModel):
     @field_validator("synonyms")
     @classmethod
     def _clean_synonyms(cls, value: tuple[str, ...]) -> tuple[str, ...]:
-        cleaned = tuple(dict.fromkeys(normalise_inci(s) for s in value if normalise_inci(s)))
-        return cleaned
+        names = [clean_name(s, "synonyms") for s in value]
+        for name in names:
+            if len(name) > MAX_NAME_CHARS:
+                raise ValueError(f"synonyms: {name[:40]!r}... is longer than {MAX_NAME_CHARS} "
+                                 "characters")
+        return tuple(dict.fromkeys(n for n in names if n))
 
     @field_validator("cas_numbers")
     @classmethod
@@ -182,7 +189,8 @@ class IngredientIn(BaseModel):
                 continue
             if not cas_is_valid(cas):
                 raise ValueError(f"cas: {cas!r} is not a valid CAS number "
-                                 "(wrong shape or check digit)")
+                                 "(ASCII digits NNNNNNN-NN-N, no leading zero, right check "
+                                 "digit)")
             out.append(cas)
         return tuple(dict.fromkeys(out))
 

@@ -69,24 +69,24 @@ class FactsSettings(_Frozen):
     # HLD within this of 0 gives no type indicator (near the optimum either type can form, and
     # the HLD constants are from memory); the same default as HLD01's band
     hld_band: float = Field(0.5, ge=0, le=5)
-    droplet_diameter_um: float = Field(DEFAULT_DROPLET_DIAMETER_UM, gt=0, le=10000)
+    droplet_diameter_um: float = Field(DEFAULT_DROPLET_DIAMETER_UM, ge=0.001, le=10000)
     droplet_diameter_source: str = "rule of thumb: creams and lotions mostly have 1-10 um drops"
-    surface_excess_mg_m2: float = Field(DEFAULT_SURFACE_EXCESS_MG_M2, gt=0, le=100)
+    surface_excess_mg_m2: float = Field(DEFAULT_SURFACE_EXCESS_MG_M2, ge=0.01, le=100)
     surface_excess_source: str = DEFAULT_SURFACE_EXCESS_SOURCE
-    body_weight_kg: float = Field(DEFAULT_BODY_WEIGHT_KG, gt=0, le=500)
+    body_weight_kg: float = Field(DEFAULT_BODY_WEIGHT_KG, ge=0.5, le=500)
     body_weight_source: str = "SCCS Notes of Guidance default adult body weight (from memory)"
     default_dermal_absorption_percent: float = Field(DEFAULT_DERMAL_ABSORPTION_PERCENT, ge=0,
                                                      le=100)
     dermal_absorption_source: str = DERMAL_ABSORPTION_DEFAULT_SOURCE
     default_oral_bioavailability_percent: float = Field(DEFAULT_ORAL_BIOAVAILABILITY_PERCENT,
-                                                        gt=0, le=100)
+                                                        ge=0.01, le=100)
     oral_bioavailability_source: str = ORAL_BIOAVAILABILITY_DEFAULT_SOURCE
     # coverage below which the required HLB / blend HLB gives no verdict (fractions by mass)
     min_required_hlb_coverage: float = Field(DEFAULT_MIN_COVERAGE, ge=0, le=1)
     min_blend_hlb_coverage: float = Field(DEFAULT_MIN_COVERAGE, ge=0, le=1)
     trace_phase_percent: float = Field(DEFAULT_TRACE_PHASE_PERCENT, ge=0, le=50)
     # not set in [facts]: the engine copies MOS01's ``threshold`` here (as for hlb_tolerance)
-    mos_threshold: float = Field(DEFAULT_MOS_THRESHOLD, gt=0)
+    mos_threshold: float = Field(DEFAULT_MOS_THRESHOLD, ge=1, le=100_000)
     # not set in [facts]: the engine copies ALG01's ``jurisdiction`` here
     label_jurisdiction: str = "EU"
 

@@ -21,19 +21,20 @@ from typing import Any
 
 from sqlalchemy import (
     Connection,
-    Date,
-    DateTime,
     Engine,
     MetaData,
+    Table,
     func,
     insert,
     inspect,
     select,
     text,
 )
+from sqlalchemy.exc import DBAPIError, StatementError
 
 from formdb.errors import ConfigError, Forbidden, InvalidData
 from formdb.schemas.admin import Action, BackupReport, Plan, RevisionInfo, Status
+from formdb.services.admin import archive as archive_check
 from formdb.services.admin.access import require_on
 from formdb.store import db as store
 from formdb.store.sealing import SEALED_COLUMNS
@@ -70,6 +71,19 @@ def history(url: str | None) -> list[RevisionInfo]:
     return [RevisionInfo(r.revision, r.down_revision, (r.doc or "").strip().splitlines()[0]
                          if r.doc else "", r.revision == current, r.revision == head)
             for r in revs]
+
+
+def _is_known(revision: str) -> bool:
+    return revision in _known()
+
+
+def _upgrade_scratch(url: str, revision: str) -> None:
+    """A scratch SQLite library at ``revision`` (the reference a SQLite copy is held to)."""
+    engine = store.make_engine(url)
+    try:
+        store.upgrade(engine, revision)
+    finally:
+        engine.dispose()
 
 
 def _check_target(revision: str) -> None:
@@ -296,18 +310,6 @@ def _backup_zip(engine: Engine, shown: str, path: Path) -> BackupReport:
 
 # --- restore ------------------------------------------------------------------------------------
 
-def _read_manifest(archive: zipfile.ZipFile, path: Path) -> dict[str, Any]:
-    try:
-        manifest = json.loads(archive.read("manifest.json"))
-    except (KeyError, ValueError) as exc:
-        raise InvalidData(f"{path}: not a formdb backup (no readable manifest.json).",
-                          hint="give a file written by `formdb db backup`") from exc
-    if manifest.get("format") != BACKUP_FORMAT:
-        raise InvalidData(f"{path}: backup format {manifest.get('format')!r} is not "
-                          f"{BACKUP_FORMAT!r}.", hint="restore it with the formdb that wrote it")
-    return dict(manifest)
-
-
 def _refuse_non_empty(conn: Connection, shown: str) -> str | None:
     meta = MetaData()
     meta.reflect(conn)
@@ -321,22 +323,6 @@ def _refuse_non_empty(conn: Connection, shown: str) -> str | None:
                                    "restore into it")
     return conn.execute(text("SELECT version_num FROM alembic_version")).scalar() \
         if "alembic_version" in meta.tables else None
-
-
-def _convert(meta: MetaData, name: str, row: dict[str, Any]) -> dict[str, Any]:
-    table = meta.tables[name]
-    out = {}
-    for key, value in row.items():
-        col = table.columns.get(key)
-        if col is None:
-            raise InvalidData(f"backup table {name} has a column {key!r} the database lacks.",
-                              hint="nothing was restored")
-        if isinstance(value, str) and isinstance(col.type, DateTime):
-            value = datetime.fromisoformat(value)
-        elif isinstance(value, str) and isinstance(col.type, Date):
-            value = date.fromisoformat(value)
-        out[key] = value
-    return out
 
 
 def _reset_sequences(conn: Connection, meta: MetaData) -> None:
@@ -412,9 +398,8 @@ def restore(url: str, path: Path, *, user: str, confirm: bool = True,
     plan: Plan | None = None
     try:
         with zipfile.ZipFile(path) as archive:
-            manifest = _read_manifest(archive, path)
-            revision = manifest["revision"]
-            _check_target(revision)
+            manifest = archive_check.read_manifest(archive, path, BACKUP_FORMAT, _is_known)
+            revision = manifest.revision
             counts: dict[str, int] = {}
             try:
                 with engine.connect() as conn, conn.begin():
@@ -429,14 +414,12 @@ def restore(url: str, path: Path, *, user: str, confirm: bool = True,
                                           hint="restore into a new, empty database")
                     meta = MetaData()
                     meta.reflect(conn)
-                    for name in manifest["tables"]:
+                    archive_check.check_tables(manifest, meta, path)
+                    for name in manifest.tables:
                         if name == "alembic_version":
                             continue
-                        if name not in meta.tables:
-                            raise InvalidData(f"{path}: table {name} is not in the schema at "
-                                              f"revision {revision}.",
-                                              hint="nothing was restored")
-                        counts[name] = _load_table(conn, meta, name, archive, path)
+                        counts[name] = _load_table(conn, meta.tables[name], manifest, archive,
+                                                   path)
                     if engine.dialect.name == "postgresql":
                         _reset_sequences(conn, meta)
                     plan = _restore_plan(conn, shown, path, revision, counts, user, confirm,
@@ -474,24 +457,30 @@ def _restore_plan(conn: Connection, shown: str, path: Path, revision: str | None
     return Plan(f"restore {path.name}", tuple(changes), confirm)
 
 
-def _load_table(conn: Connection, meta: MetaData, name: str, archive: zipfile.ZipFile,
-                path: Path) -> int:
+def _load_table(conn: Connection, table: Table, manifest: archive_check.Manifest,
+                archive: zipfile.ZipFile, path: Path) -> int:
+    """Insert one table's rows in batches; a row the database refuses (a type, a constraint)
+    is the archive's fault: one line naming the table, and the transaction rolls back."""
     batch: list[dict[str, Any]] = []
     n = 0
-    with archive.open(f"tables/{name}.jsonl") as lines:
-        for number, raw in enumerate(lines, start=1):
-            try:
-                row = json.loads(raw)
-            except ValueError as exc:
-                raise InvalidData(f"{path}: tables/{name}.jsonl line {number} is not JSON.",
-                                  hint="nothing was restored") from exc
-            batch.append(_convert(meta, name, row))
-            if len(batch) >= _BATCH:
-                conn.execute(insert(meta.tables[name]), batch)
-                n += len(batch)
-                batch = []
+
+    def flush() -> None:
+        try:
+            with conn.begin_nested():
+                conn.execute(insert(table), batch)
+        except (DBAPIError, StatementError) as exc:
+            reason = str(getattr(exc, "orig", exc)).splitlines()[0][:160]
+            raise InvalidData(f"{path}: tables/{table.name}.jsonl holds rows the table refuses "
+                              f"({reason}).", hint="nothing was restored") from None
+
+    for row in archive_check.table_rows(archive, manifest, table, path):
+        batch.append(row)
+        if len(batch) >= _BATCH:
+            flush()
+            n += len(batch)
+            batch = []
     if batch:
-        conn.execute(insert(meta.tables[name]), batch)
+        flush()
         n += len(batch)
     return n
 
@@ -502,13 +491,7 @@ def _restore_sqlite_copy(url: str, path: Path, *, user: str, confirm: bool,
     if target is None:
         raise ConfigError(f"{path} is a SQLite copy; it restores into a SQLite library only.",
                           hint="back the library up to a .zip to move it to PostgreSQL")
-    try:
-        with sqlite3.connect(f"file:{path}?mode=ro", uri=True) as src:
-            revision = src.execute("SELECT version_num FROM alembic_version").fetchone()[0]
-    except (sqlite3.Error, TypeError) as exc:
-        raise InvalidData(f"{path}: not a formdb SQLite backup ({exc}).",
-                          hint="give a file written by `formdb db backup`") from exc
-    _check_target(revision)
+    revision = archive_check.check_sqlite_copy(path, _is_known, _upgrade_scratch)
     engine = store.make_engine(url)
     shown = store.display_url(engine.url)
     try:

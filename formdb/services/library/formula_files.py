@@ -13,9 +13,10 @@ from pathlib import Path
 from pydantic import ValidationError
 
 from formdb.errors import InvalidData
+from formdb.schemas.bounds import MAX_TOML_BYTES, TomlTooLarge, load_toml
 from formdb.schemas.formula import FormulaFile
 
-MAX_FORMULA_BYTES = 5_000_000
+MAX_FORMULA_BYTES = MAX_TOML_BYTES
 
 
 def content_hash(text: str) -> str:
@@ -60,10 +61,13 @@ def validation_problems(label: str, exc: ValidationError) -> list[str]:
 def parse_formula_text(text: str, label: str) -> FormulaFile:
     """Validate TOML text into a FormulaFile; ``label`` (a path) starts every error line."""
     try:
-        data = tomllib.loads(text)
+        data = load_toml(text)
     except tomllib.TOMLDecodeError as exc:
         raise InvalidData(f"{label}: not a valid TOML formula file ({exc})",
                           hint="fix the TOML syntax at the line named") from None
+    except TomlTooLarge as exc:
+        raise InvalidData(f"{label}: {exc}", hint="a formula file is a flat TOML table with "
+                          "[[ingredients]] entries, as in the README") from None
     try:
         formula = FormulaFile.model_validate(data)
     except ValidationError as exc:

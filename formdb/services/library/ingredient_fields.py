@@ -32,7 +32,9 @@ LIST_SEPARATOR = ";"
 
 # canonical unit text -> the pint expression it means; units absent here take plain numbers only
 _PINT_UNITS = {"g/mL": "g/mL", "% w/w": "percent", "g/mol": "g/mol", "mPa·s": "mPa*s"}
-_NUMBER_AND_UNIT = re.compile(r"^([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*)$")
+# ASCII digits only: Python's \d and float() also take Arabic-Indic or fullwidth digits
+_NUMBER_AND_UNIT = re.compile(r"^([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*)$",
+                              re.ASCII)
 _TRUE = {"yes", "y", "true", "t", "1"}
 _FALSE = {"no", "n", "false", "f", "0"}
 
@@ -161,7 +163,7 @@ def _convert(prop: str, text: str, number: float, unit_text: str) -> float:
 
 
 def _parse_number(prop: str, text: str) -> float:
-    if re.match(r"^[-+]?\d+,\d+", text):
+    if re.match(r"^[-+]?\d+,\d+", text, re.ASCII):
         raise FieldProblem(f"{text!r} is not a number (write a decimal point, not a comma); "
                            f"{prop} takes a number {range_text(prop)}")
     match = _NUMBER_AND_UNIT.match(text)

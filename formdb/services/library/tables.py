@@ -15,10 +15,14 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from formdb.errors import InvalidData
+from formdb.schemas.bounds import (
+    MAX_CELL_CHARS,
+    MAX_TABLE_BYTES,
+    MAX_TABLE_ROWS,
+    MAX_XLSX_UNPACKED_BYTES,
+)
+from formdb.schemas.cells import guard_cell, unguard_cell
 
-# A cell that starts with one of these runs as a formula when a spreadsheet opens the file
-# (OWASP, "CSV Injection"); export prefixes such cells with an apostrophe and import strips it.
-FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
 TABLE_SUFFIXES = {".csv": "csv", ".xlsx": "xlsx"}
 
 _MAGIC = {
@@ -77,18 +81,6 @@ class RawTable:
     rows: list[tuple[int, list[str]]] = field(default_factory=list)
 
 
-def guard_cell(text: str) -> str:
-    """Make a cell safe to open in a spreadsheet: a leading formula character gets an apostrophe."""
-    return "'" + text if text.startswith(FORMULA_STARTS) else text
-
-
-def unguard_cell(text: str) -> str:
-    """Undo ``guard_cell`` so that an exported table reads back exactly as it was."""
-    if text.startswith("'") and text[1:].startswith(FORMULA_STARTS):
-        return text[1:]
-    return text
-
-
 def _sniff(path: Path, head: bytes) -> str:
     """'csv' or 'xlsx' from the content; raise TableProblems when it is neither."""
     name = str(path)
@@ -121,43 +113,83 @@ def _decode(path: Path, raw: bytes) -> str:
 
 
 def _read_csv(path: Path, raw: bytes) -> list[list[str]]:
-    import pandas as pd  # here, not at import: read-only commands never load it
-
+    """Every record of a CSV text. Lines may end in LF, CRLF or a lone CR (old Mac files): the
+    csv module splits them itself (``newline=""``), inside quotes too."""
     text = _decode(path, raw)
     first = next((line for line in text.splitlines() if line.strip()), "")
     try:
         delimiter = csv.Sniffer().sniff(first, delimiters=",;\t").delimiter
     except csv.Error:
         delimiter = ","
-    # The widest record sets the column count, so ragged rows are read (and reported), not fatal.
-    width = max((len(r) for r in csv.reader(io.StringIO(text), delimiter=delimiter)), default=1)
+    reader = csv.reader(io.StringIO(text, newline=""), delimiter=delimiter, strict=True)
+    records: list[list[str]] = []
     try:
-        frame = pd.read_csv(
-            path, header=None, names=range(width), dtype=str, keep_default_na=False,
-            skip_blank_lines=False, sep=delimiter, encoding="utf-8-sig", engine="python")
-    except (pd.errors.ParserError, csv.Error) as exc:  # e.g. a quote that never closes
-        raise_problems([Problem(str(path), f"not a readable CSV table ({exc}); check for a "
-                                "quote that is opened and never closed")])
-        raise  # pragma: no cover - raise_problems always raises here
-    return frame.fillna("").values.tolist()
+        for record in reader:
+            records.append(record)
+            if len(records) > MAX_TABLE_ROWS + 1:
+                raise_problems([Problem(str(path), f"more than {MAX_TABLE_ROWS:,} rows; split "
+                                        "the table into smaller files")])
+    except csv.Error as exc:  # a quote that never closes, a cell beyond the csv module's limit
+        what = ("a cell is longer than formdb reads" if "field larger" in str(exc)
+                else f"not a readable CSV table ({exc}); check for a quote that is opened and "
+                     "never closed")
+        raise_problems([Problem(str(path), what, row=reader.line_num or None)])
+    # The widest record sets the column count, so ragged rows are read (and reported), not fatal.
+    width = max((len(r) for r in records), default=1)
+    return [r + [""] * (width - len(r)) for r in records]
 
 
 def _read_xlsx(path: Path) -> list[list[str]]:
+    """The first sheet's cells. The archive is looked at first (entries, unpacked size), so a
+    ZIP that unpacks to gigabytes is refused before openpyxl inflates it."""
     import pandas as pd
 
+    name = str(path)
+    try:
+        with zipfile.ZipFile(path) as archive:
+            entries = archive.infolist()
+            unpacked = sum(info.file_size for info in entries)
+            names = {info.filename for info in entries}
+    except (zipfile.BadZipFile, OSError, ValueError) as exc:
+        raise_problems([Problem(name, f"not a readable XLSX workbook ({exc})")])
+        raise  # pragma: no cover
+    if "xl/workbook.xml" not in names:
+        raise_problems([Problem(name, "not a readable XLSX workbook: the archive holds no "
+                                "xl/workbook.xml; save the table from a spreadsheet as .xlsx")])
+    if unpacked > MAX_XLSX_UNPACKED_BYTES or len(entries) > 10_000:
+        raise_problems([Problem(name, f"the workbook unpacks to {unpacked:,} bytes in "
+                                f"{len(entries):,} parts, more than formdb reads "
+                                f"({MAX_XLSX_UNPACKED_BYTES:,} bytes)")])
     try:
         frame = pd.read_excel(path, sheet_name=0, header=None, dtype=str, keep_default_na=False,
                               engine="openpyxl")
-    except (zipfile.BadZipFile, KeyError, ValueError, OSError) as exc:
-        raise_problems([Problem(str(path), f"not a readable XLSX workbook ({exc})")])
+    except Exception as exc:  # any failure of the parser means an unreadable workbook
+        raise_problems([Problem(name, f"not a readable XLSX workbook ({type(exc).__name__}: "
+                                f"{str(exc)[:200]})")])
         raise  # pragma: no cover
-    return frame.fillna("").values.tolist()
+    return [["" if c is None else str(c) for c in row] for row in frame.fillna("").values]
+
+
+def _bounded(name: str, cells: list[list[str]]) -> None:
+    """Refuse a table beyond the bounds (rows, characters in a cell), naming the first cell."""
+    if len(cells) > MAX_TABLE_ROWS + 1:
+        raise_problems([Problem(name, f"more than {MAX_TABLE_ROWS:,} rows; split the table "
+                                "into smaller files")])
+    for number, row in enumerate(cells, start=1):
+        for column, cell in enumerate(row, start=1):
+            if len(cell) > MAX_CELL_CHARS:
+                raise_problems([Problem(name, f"the cell holds {len(cell):,} characters, more "
+                                        f"than {MAX_CELL_CHARS:,}", row=number,
+                                        column=str(column))])
 
 
 def read_table(path: Path) -> RawTable:
     """Read a CSV or XLSX table: the first non-blank row is the header; cells are stripped text."""
     name = str(path)
     try:
+        if path.stat().st_size > MAX_TABLE_BYTES:
+            raise_problems([Problem(name, f"{path.stat().st_size:,} bytes is more than an "
+                                    f"import table formdb reads ({MAX_TABLE_BYTES:,})")])
         raw = path.read_bytes()
     except FileNotFoundError:
         raise_problems([Problem(name, "no such file")])
@@ -168,6 +200,7 @@ def read_table(path: Path) -> RawTable:
                                 "per record")])
     kind = _sniff(path, raw[:4096])
     cells = _read_csv(path, raw) if kind == "csv" else _read_xlsx(path)
+    _bounded(name, cells)
     numbered = [(i + 1, [unguard_cell(str(c).strip()) for c in row]) for i, row in enumerate(cells)]
     numbered = [(n, row) for n, row in numbered if any(row)]
     if not numbered:

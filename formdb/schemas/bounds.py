@@ -1,0 +1,56 @@
+"""How much formdb reads: the bounds on every input, in one place, and a TOML reader that keeps
+to them.
+
+Each bound sits far above anything a real file holds and well below what would make a command
+hang or exhaust memory; an input beyond one is refused with one line naming the bound.
+"""
+
+from __future__ import annotations
+
+import tomllib
+from typing import Any
+
+MAX_TOML_BYTES = 5_000_000  # a formula or profile file; the longest real ones are a few KB
+MAX_TOML_NESTING = 16  # tables and arrays inside each other; formulas and profiles use 3
+MAX_FORMULA_LINES = 1_000  # [[ingredients]] entries; a real formula has tens
+MAX_TABLE_BYTES = 200_000_000  # an import table (CSV or XLSX)
+MAX_XLSX_UNPACKED_BYTES = 500_000_000  # a workbook's parts, unpacked (a ZIP bomb is not read)
+MAX_TABLE_ROWS = 200_000  # data rows of an import table (the benchmark imports 50,000)
+MAX_CELL_CHARS = 32_767  # one cell: the most a spreadsheet cell holds (Excel's limit)
+MAX_NAME_CHARS = 200  # an INCI name or synonym (the column holds 200)
+
+
+class TomlTooLarge(ValueError):
+    """A TOML text beyond the bounds (size or nesting); the message says which."""
+
+
+def _depth(value: Any, level: int = 0) -> int:
+    """The nesting of tables and arrays, iteratively (a recursive walk would itself overflow)."""
+    deepest = level
+    stack: list[tuple[Any, int]] = [(value, level)]
+    while stack:
+        item, depth = stack.pop()
+        deepest = max(deepest, depth)
+        if deepest > MAX_TOML_NESTING:
+            return deepest
+        if isinstance(item, dict):
+            stack.extend((v, depth + 1) for v in item.values())
+        elif isinstance(item, list):
+            stack.extend((v, depth + 1) for v in item)
+    return deepest
+
+
+def load_toml(text: str) -> dict[str, Any]:
+    """``tomllib.loads`` within the bounds: TomlTooLarge for a text too long or nested too deep
+    (tomllib recurses once per level, so a deep enough nesting exhausts the stack);
+    TOMLDecodeError as usual for bad syntax."""
+    if len(text) > MAX_TOML_BYTES:
+        raise TomlTooLarge(f"{len(text):,} characters is more than a TOML file formdb reads "
+                           f"({MAX_TOML_BYTES:,})")
+    try:
+        data = tomllib.loads(text)
+    except RecursionError:
+        data = None
+    if data is None or _depth(data) > MAX_TOML_NESTING:
+        raise TomlTooLarge(f"arrays or tables are nested deeper than {MAX_TOML_NESTING} levels")
+    return data

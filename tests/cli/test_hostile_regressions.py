@@ -1,0 +1,477 @@
+"""Every hostile input of issue 15 that once ended in an internal problem, a hang, a clobbered
+file or a look-alike ingredient, kept as a regression test, on both backends where the library
+is involved. The names and values are made up for the test (Larkspur Bench Laboratories)."""
+
+from __future__ import annotations
+
+import csv
+import json
+import os
+import sqlite3
+import stat
+import unicodedata
+import zipfile
+from collections.abc import Iterator
+from pathlib import Path
+
+import pytest
+from sqlalchemy import inspect
+
+from formdb.cli.main import EXIT_INTERNAL
+from formdb.store.db import make_engine
+from tests.helpers import CliResult, dump_database, fresh_pg_database, pg_base_url, run_formdb
+
+EMULSIFIERS = ["Sorbitan Laurate", "Sorbitan Stearate", "Sorbitan Oleate", "Sorbitan Sesquioleate",
+               "Sorbitan Trioleate", "Polysorbate 20", "Polysorbate 60", "Polysorbate 80",
+               "Glyceryl Stearate", "PEG-100 Stearate", "Steareth-2", "Steareth-20", "Ceteth-20",
+               "Laureth-4", "Ceteareth-20", "PEG-40 Hydrogenated Castor Oil",
+               "Polyglyceryl-3 Diisostearate", "Lecithin"]
+
+
+def _refused(result: CliResult, *fragments: str) -> None:
+    """Exit 2 with one ``Error:`` line (naming what went wrong), never an internal problem."""
+    assert result.exit_code == 2, result
+    lines = [line for line in result.stderr.splitlines() if line.strip()]
+    assert lines and all(line.startswith("Error: ") for line in lines), result.stderr
+    assert "internal problem" not in result.stderr
+    for fragment in fragments:
+        assert fragment in result.stderr, result.stderr
+
+
+def _formula(path: Path, lines: list[tuple[str, float]], extra: str = "") -> Path:
+    body = ['name = "Larkspur hostile cream"', 'category = "leave-on"', extra]
+    for inci, percent in lines:
+        body += ["[[ingredients]]", f'inci = "{inci}"', f"percent = {percent}"]
+    path.write_text("\n".join(body) + "\n", encoding="utf-8")
+    return path
+
+
+# --- internal errors have their own exit code ---------------------------------------------------
+
+def test_an_internal_error_exits_70_not_2(sqlite_url: str, monkeypatch: pytest.MonkeyPatch
+                                           ) -> None:
+    import formdb.services.library.ingredients as ingredients
+
+    def broken(*_args: object, **_kwargs: object) -> None:
+        raise RuntimeError("a planted bug")
+
+    monkeypatch.setattr(ingredients, "list_ingredients", broken)
+    result = run_formdb(["--db", sqlite_url, "ingredient", "list"])
+    assert result.exit_code == EXIT_INTERNAL == 70
+    assert result.stderr.startswith("Error: internal problem (RuntimeError: a planted bug)")
+
+
+def test_exit_codes_are_in_the_help() -> None:
+    result = run_formdb(["--help"])
+    assert result.exit_code == 0
+    text = " ".join(result.stdout.split())
+    assert "2 bad input" in text and "70 an internal error" in text
+
+
+# --- the solver and formulas ---------------------------------------------------------------------
+
+def test_eighteen_emulsifiers_are_solved(seeded_library_url: str, tmp_path: Path) -> None:
+    share = 18 / len(EMULSIFIERS)
+    path = _formula(tmp_path / "many.toml", [("Aqua", 70), ("Paraffinum Liquidum", 12),
+                                              *((e, share) for e in EMULSIFIERS)],
+                    'intended_type = "O/W"')
+    checked = run_formdb(["--db", seeded_library_url, "check", str(path), "--format", "json"])
+    assert checked.exit_code in (0, 1), checked.stderr
+    blended = run_formdb(["--db", seeded_library_url, "blend", str(path)])
+    assert blended.exit_code == 0, blended.stderr
+
+
+def test_one_ingredient_on_two_lines_over_100_with_a_product(seeded_library_url: str,
+                                                             tmp_path: Path) -> None:
+    path = _formula(tmp_path / "twice.toml", [("Aqua", 80), ("Aqua", 30)],
+                    'product = "hand cream"')
+    for fmt in ("text", "json", "html"):
+        result = run_formdb(["--db", seeded_library_url, "check", str(path), "--profile",
+                             "strict", "--format", fmt])
+        assert result.exit_code == 1, result  # the total is off: an error finding, not a crash
+
+
+def test_deeply_nested_toml_is_refused(sqlite_url: str, tmp_path: Path) -> None:
+    path = tmp_path / "nested.toml"
+    path.write_text('name = "x"\ncategory = "leave-on"\nx = ' + "[" * 5000 + "]" * 5000 + "\n",
+                    encoding="utf-8")
+    _refused(run_formdb(["--db", sqlite_url, "check", str(path)]), "nested deeper than 16")
+    profile = tmp_path / "nested-profile.toml"
+    profile.write_text('name = "n"\nselect = ' + "[" * 3000 + "]" * 3000 + "\n", encoding="utf-8")
+    formula = _formula(tmp_path / "ok.toml", [("Aqua", 100)])
+    _refused(run_formdb(["--db", sqlite_url, "check", str(formula), "--profile", str(profile)]),
+             "nested deeper")
+
+
+def test_a_formula_of_too_many_lines_is_refused(sqlite_url: str, tmp_path: Path) -> None:
+    path = _formula(tmp_path / "long.toml", [("Aqua", 0.05)] * 1001)
+    _refused(run_formdb(["--db", sqlite_url, "check", str(path)]), "ingredients")
+
+
+@pytest.mark.parametrize(("rule", "key", "value", "says"), [
+    ("HLB01", "tolerance", "1e12", "at most 10"),
+    ("HLB01", "tolerance", "nan", "finite"),
+    ("BAL01", "tolerance", "inf", "finite"),
+    ("MOS01", "threshold", "1e-300", "at least 1"),
+    ("PAK01", "random_close", "5e-324", "at least 0.01"),
+])
+def test_profile_values_are_finite_and_in_range(sqlite_url: str, tmp_path: Path, rule: str,
+                                                key: str, value: str, says: str) -> None:
+    profile = tmp_path / "p.toml"
+    profile.write_text(f'name = "p"\nversion = "1"\nextends = "default"\n[rules.{rule}]\n'
+                       f"{key} = {value}\n", encoding="utf-8")
+    formula = _formula(tmp_path / "f.toml", [("Aqua", 100)])
+    _refused(run_formdb(["--db", sqlite_url, "check", str(formula), "--profile", str(profile)]),
+             f"[rules.{rule}], option {key}", says)
+
+
+@pytest.mark.parametrize(("key", "value"), [("droplet_diameter_um", "5e-324"),
+                                            ("surface_excess_mg_m2", "1e-300"),
+                                            ("body_weight_kg", "nan")])
+def test_profile_facts_are_in_range(sqlite_url: str, tmp_path: Path, key: str,
+                                    value: str) -> None:
+    profile = tmp_path / "p.toml"
+    profile.write_text(f'name = "p"\nversion = "1"\nextends = "default"\n[facts]\n'
+                       f"{key} = {value}\n", encoding="utf-8")
+    formula = _formula(tmp_path / "f.toml", [("Aqua", 100)])
+    _refused(run_formdb(["--db", sqlite_url, "check", str(formula), "--profile", str(profile)]),
+             f"[facts] key {key}")
+
+
+# --- tables ----------------------------------------------------------------------------------
+
+def test_old_mac_line_endings_import(library_url: str, tmp_path: Path) -> None:
+    path = tmp_path / "mac.csv"
+    path.write_bytes(b"inci_name,roles,hlb,source\rLarkspur Mac Ester,emulsifier,5,"
+                     b"rule-of-thumb\r")
+    result = run_formdb(["--db", library_url, "ingredient", "import", str(path)])
+    assert result.exit_code == 0, result.stderr
+    shown = run_formdb(["--db", library_url, "ingredient", "show", "Larkspur Mac Ester"])
+    assert shown.exit_code == 0 and "rule-of-thumb" in shown.stdout
+
+
+@pytest.mark.parametrize("size", [40_000, 140_000])
+def test_a_huge_cell_is_refused_with_its_row(library_url: str, tmp_path: Path, size: int) -> None:
+    path = tmp_path / "big.csv"
+    path.write_text(f"inci_name,roles,hlb,source\nLarkspur Big {'x' * size},emollient,5,"
+                    "rule-of-thumb\n", encoding="utf-8")
+    before = dump_database(library_url)
+    _refused(run_formdb(["--db", library_url, "ingredient", "import", str(path)]),
+             str(path), "row 2")
+    assert dump_database(library_url) == before
+
+
+def test_expect_version_beyond_64_bits_is_refused(seeded_library_url: str) -> None:
+    before = dump_database(seeded_library_url)
+    result = run_formdb(["--db", seeded_library_url, "ingredient", "edit", "Cetyl Alcohol",
+                         "--set", "hlb=5", "--source", "rule-of-thumb", "--reason", "test",
+                         "--expect-version", "9" * 25])
+    assert result.exit_code == 2 and "--expect-version" in result.stderr
+    assert "internal problem" not in result.stderr
+    assert dump_database(seeded_library_url) == before
+
+
+# --- names and numbers -----------------------------------------------------------------------
+
+@pytest.mark.parametrize(("name", "says"), [
+    ("Gly\u200bcerin Larkspur", "U+200B"),
+    ("Larkspur \u202eretsE", "U+202E"),
+    ("Larkspur\x1b[31m Ester", "U+001B"),
+    ("Larkspur\x07Ester", "U+0007"),
+])
+def test_invisible_characters_are_refused(library_url: str, name: str, says: str) -> None:
+    before = dump_database(library_url)
+    _refused(run_formdb(["--db", library_url, "ingredient", "add", name]), says)
+    assert dump_database(library_url) == before
+
+
+@pytest.mark.parametrize("lookalike", ["Glуcerin",  # Cyrillic u (U+0443) for y
+                                       "glycerin.", "GLY-CERIN", "Ｇｌｙｃｅｒｉｎ",
+                                       "Glycérin"])
+def test_a_lookalike_of_an_existing_name_is_refused(seeded_library_url: str,
+                                                    lookalike: str) -> None:
+    before = dump_database(seeded_library_url)
+    _refused(run_formdb(["--db", seeded_library_url, "ingredient", "add", lookalike]),
+             "'Glycerin'")
+    assert dump_database(seeded_library_url) == before
+
+
+def test_a_lookalike_in_an_import_is_refused(seeded_library_url: str, tmp_path: Path) -> None:
+    path = tmp_path / "alike.csv"
+    path.write_text("inci_name,synonyms,roles\nLarkspur Ester,Polysorbate-20,emollient\n",
+                    encoding="utf-8")
+    before = dump_database(seeded_library_url)
+    result = run_formdb(["--db", seeded_library_url, "ingredient", "import", str(path)])
+    _refused(result, "row 2, column synonyms", "'Polysorbate 20'", "--accept-unusual")
+    assert dump_database(seeded_library_url) == before
+
+
+def test_names_are_stored_nfc(library_url: str) -> None:
+    decomposed = unicodedata.normalize("NFD", "Larkspur Oléate")
+    assert decomposed != "Larkspur Oléate"
+    assert run_formdb(["--db", library_url, "ingredient", "add", decomposed]).exit_code == 0
+    listed = run_formdb(["--db", library_url, "ingredient", "list", "--format", "json"])
+    assert "Larkspur Oléate" in listed.stdout  # the composed form
+    found = run_formdb(["--db", library_url, "ingredient", "show", "Larkspur Oléate"])
+    assert found.exit_code == 0
+
+
+@pytest.mark.parametrize("digits", ["١٢", "１２", "۱۲"])  # Arabic-Indic, fullwidth, Persian 12
+def test_numbers_take_ascii_digits_only(library_url: str, tmp_path: Path, digits: str) -> None:
+    before = dump_database(library_url)
+    _refused(run_formdb(["--db", library_url, "ingredient", "add", "Larkspur Digits",
+                         "--set", f"hlb={digits}", "--source", "rule-of-thumb"]), "not a number")
+    path = tmp_path / "digits.csv"
+    path.write_text(f"inci_name,hlb,source\nLarkspur Digits,{digits},rule-of-thumb\n",
+                    encoding="utf-8")
+    _refused(run_formdb(["--db", library_url, "ingredient", "import", str(path)]), "row 2")
+    blended = run_formdb(["--db", library_url, "blend", "--target", digits, "--using", "a",
+                          "--using", "b"])
+    assert blended.exit_code == 2 and "ASCII digits" in blended.stderr
+    assert dump_database(library_url) == before
+
+
+@pytest.mark.parametrize("cas", ["0000-00-0", "00-00-0", "٧٧٣٢-١٨-٥", "07732-18-5",
+                                 "7732-18-4"])
+def test_cas_numbers_must_be_real(library_url: str, cas: str) -> None:
+    _refused(run_formdb(["--db", library_url, "ingredient", "add", "Larkspur Cas",
+                         "--cas", cas]), "cas")
+
+
+def test_a_real_cas_number_is_accepted(library_url: str) -> None:
+    # water, 7732-18-5: 8*1+1*2+2*3+3*4+7*5+7*6 = 105, check digit 5 (CAS Registry's rule)
+    assert run_formdb(["--db", library_url, "ingredient", "add", "Larkspur Water",
+                       "--cas", "7732-18-5"]).exit_code == 0
+
+
+# --- output safety ---------------------------------------------------------------------------
+
+def test_list_csv_guards_formulas_and_terminal_output_escapes(library_url: str) -> None:
+    added = run_formdb(["--db", library_url, "ingredient", "add", "=HYPERLINK(1)",
+                        "--reason", "made\x1b]0;owned\x07 up"])
+    assert added.exit_code == 0, added.stderr
+    listed = run_formdb(["--db", library_url, "ingredient", "list", "--format", "csv"])
+    cells = [c for row in csv.reader(listed.stdout.splitlines()) for c in row]
+    assert "'=HYPERLINK(1)" in cells
+    assert not [c for c in cells if c.startswith(("=", "+", "-", "@"))]
+    history = run_formdb(["--db", library_url, "ingredient", "history", "=HYPERLINK(1)"])
+    assert history.exit_code == 0
+    assert "\x1b" not in history.stdout and "\x07" not in history.stdout
+    assert "\\u001b" in history.stdout or "\\u0007" in history.stdout
+
+
+# --- output files ----------------------------------------------------------------------------
+
+def test_out_refuses_an_existing_file_without_force(seeded_sqlite_url: str,
+                                                    tmp_path: Path) -> None:
+    formula = _formula(tmp_path / "f.toml", [("Aqua", 95), ("Glycerin", 5)])
+    out = tmp_path / "report.html"
+    out.write_text("keep me", encoding="utf-8")
+    args = ["--db", seeded_sqlite_url, "check", str(formula), "--format", "html", "--out",
+            str(out)]
+    _refused(run_formdb(args), "already exists", "--force")
+    assert out.read_text(encoding="utf-8") == "keep me"
+    assert run_formdb([*args, "--force"]).exit_code == 0
+    assert out.read_text(encoding="utf-8").startswith("<!")
+    assert [p.name for p in tmp_path.iterdir() if ".part" in p.name] == []
+
+
+def test_an_input_is_never_the_output(seeded_sqlite_url: str, tmp_path: Path) -> None:
+    formula = _formula(tmp_path / "f.toml", [("Aqua", 95), ("Glycerin", 5)])
+    text = formula.read_text(encoding="utf-8")
+    for out in (formula, tmp_path / "." / "f.toml"):
+        result = run_formdb(["--db", seeded_sqlite_url, "check", str(formula), "--format",
+                             "html", "--out", str(out), "--force"])
+        _refused(result, "a file the command reads")
+    assert formula.read_text(encoding="utf-8") == text
+    library = seeded_sqlite_url.removeprefix("sqlite:///")
+    before = Path(library).read_bytes()
+    for command in (["ingredient", "export", library, "--force"],
+                    ["db", "backup", library, "--force"]):
+        _refused(run_formdb(["--db", seeded_sqlite_url, *command]), "a file the command reads")
+    assert Path(library).read_bytes() == before
+
+
+def test_symlinks_are_not_followed(seeded_sqlite_url: str, tmp_path: Path) -> None:
+    target = tmp_path / "elsewhere.csv"
+    target.write_text("precious", encoding="utf-8")
+    link = tmp_path / "export.csv"
+    link.symlink_to(target)
+    for extra in ([], ["--force"]):
+        result = run_formdb(["--db", seeded_sqlite_url, "ingredient", "export", str(link),
+                             *extra])
+        _refused(result, "symbolic link")
+    assert target.read_text(encoding="utf-8") == "precious" and link.is_symlink()
+
+
+@pytest.mark.parametrize("umask", [0o022, 0o002, 0o077])
+def test_files_follow_the_umask(seeded_sqlite_url: str, tmp_path: Path, umask: int) -> None:
+    formula = _formula(tmp_path / "f.toml", [("Aqua", 95), ("Glycerin", 5)])
+    old = os.umask(umask)
+    try:
+        outputs = {
+            "report.json": ["check", str(formula), "--format", "json", "--out"],
+            "export.csv": ["ingredient", "export"],
+            "export.xlsx": ["ingredient", "export"],
+            "backup.zip": ["db", "backup"],
+        }
+        for name, command in outputs.items():
+            result = run_formdb(["--db", seeded_sqlite_url, *command, str(tmp_path / name)])
+            assert result.exit_code in (0, 1), (name, result.stderr)
+            mode = stat.S_IMODE((tmp_path / name).stat().st_mode)
+            assert mode == 0o666 & ~umask, (name, oct(mode))
+    finally:
+        os.umask(old)
+
+
+def test_a_failed_export_leaves_nothing(seeded_sqlite_url: str, tmp_path: Path,
+                                        monkeypatch: pytest.MonkeyPatch) -> None:
+    import pandas as pd
+
+    def fail_half_way(self: pd.DataFrame, path: Path, **_kwargs: object) -> None:
+        Path(path).write_bytes(b"PK\x03\x04 half a workbook")
+        raise OSError(28, "No space left on device")
+
+    monkeypatch.setattr(pd.DataFrame, "to_excel", fail_half_way)
+    folder = tmp_path / "exports"
+    folder.mkdir()
+    _refused(run_formdb(["--db", seeded_sqlite_url, "ingredient", "export",
+                         str(folder / "library.xlsx")]), "No space left on device")
+    assert list(folder.iterdir()) == []  # no workbook, whole or partial, and no temporary file
+
+
+# --- restores ------------------------------------------------------------------------------
+
+def _parts(archive: Path) -> dict[str, bytes]:
+    with zipfile.ZipFile(archive) as z:
+        return {name: z.read(name) for name in z.namelist()}
+
+
+def _rezip(path: Path, parts: dict[str, bytes]) -> Path:
+    with zipfile.ZipFile(path, "w") as z:
+        for name, data in parts.items():
+            z.writestr(name, data)
+    return path
+
+
+def _manifest(parts: dict[str, bytes]) -> dict[str, object]:
+    data = json.loads(parts["manifest.json"])
+    assert isinstance(data, dict)
+    return data
+
+
+def _empty_like(url: str, tmp_path: Path, name: str) -> Iterator[str]:
+    if url.startswith("sqlite"):
+        yield f"sqlite:///{tmp_path / name}"
+        return
+    base = pg_base_url()
+    assert base is not None
+    with fresh_pg_database(base) as fresh:
+        yield fresh
+
+
+def _broken_archives(parts: dict[str, bytes]) -> dict[str, tuple[dict[str, bytes], str]]:
+    """name -> (archive parts, what the refusal says)."""
+    manifest = _manifest(parts)
+    tables = dict(manifest["tables"])  # type: ignore[call-overload]
+    no_revision = {k: v for k, v in manifest.items() if k != "revision"}
+    lines = parts["tables/ingredients.jsonl"].decode().splitlines()
+    duplicated = "\n".join([*lines, lines[0]]) + "\n"
+    wrong_type = json.loads(lines[0])
+    wrong_type["id"] = "not a number"
+    unknown_table = {**tables, "planted": 0}
+    return {
+        "no revision": ({**parts, "manifest.json": json.dumps(no_revision).encode()},
+                        "names no schema revision"),
+        "unknown revision": ({**parts, "manifest.json": json.dumps(
+            {**manifest, "revision": "9999"}).encode()}, "not one this formdb knows"),
+        "manifest a list": ({**parts, "manifest.json": b"[1, 2]"}, "not a JSON object"),
+        "tables a list": ({**parts, "manifest.json": json.dumps(
+            {**manifest, "tables": list(tables)}).encode()}, "row count"),
+        "missing table file": ({k: v for k, v in parts.items()
+                                if k != "tables/ingredients.jsonl"}, "lacks"),
+        "unlisted table": ({**parts, "manifest.json": json.dumps(
+            {**manifest, "tables": {k: v for k, v in tables.items() if k != "sources"}}
+        ).encode()}, "does not list"),
+        "planted table": ({**parts, "tables/planted.jsonl": b"", "manifest.json": json.dumps(
+            {**manifest, "tables": unknown_table}).encode()}, "not in formdb's schema"),
+        "duplicate ids": ({**parts, "tables/ingredients.jsonl": duplicated.encode()},
+                          "repeats the id"),
+        "wrong count": ({**parts, "manifest.json": json.dumps(
+            {**manifest, "tables": {**tables, "ingredients": tables["ingredients"] + 1}}
+        ).encode()}, "the manifest says"),
+        "a row of a list": ({**parts, "tables/ingredients.jsonl": b"[1, 2]\n"},
+                            "not a JSON object"),
+        "a foreign column": ({**parts, "tables/ingredients.jsonl": (json.dumps(
+            {**json.loads(lines[0]), "is_admin": True}) + "\n").encode()}, "'is_admin'"),
+        "a wrong type": ({**parts, "tables/ingredients.jsonl": (
+            "\n".join([json.dumps(wrong_type), *lines[1:]]) + "\n").encode()}, "ingredients"),
+        "a bad date": ({**parts, "tables/ingredients.jsonl": (json.dumps(
+            {**json.loads(lines[0]), "updated_at": "yesterday"}) + "\n").encode()},
+                       "not a date"),
+        "deep json": ({**parts, "tables/sources.jsonl": b"[" * 100_000 + b"\n"}, "not JSON"),
+    }
+
+
+def test_a_damaged_archive_is_refused_before_anything_is_written(seeded_library_url: str,
+                                                                 tmp_path: Path) -> None:
+    good = tmp_path / "good.zip"
+    assert run_formdb(["--db", seeded_library_url, "db", "backup", str(good)]).exit_code == 0
+    parts = _parts(good)
+    for name, (broken, says) in _broken_archives(parts).items():
+        path = _rezip(tmp_path / f"{name.replace(' ', '-')}.zip", broken)
+        for target in _empty_like(seeded_library_url, tmp_path, f"{name}.sqlite"):
+            result = run_formdb(["--db", target, "db", "restore", str(path), "--yes"])
+            if name == "a wrong type" and target.startswith("sqlite"):
+                continue  # SQLite stores any value in any column: nothing to refuse there
+            _refused(result, says)
+            engine = make_engine(target)
+            try:
+                assert inspect(engine).get_table_names() == [], name  # not even the schema
+            finally:
+                engine.dispose()
+
+
+def _sqlite_copy(seeded_sqlite_url: str, tmp_path: Path, sql: str) -> Path:
+    copy = tmp_path / "copy.sqlite"
+    copy.unlink(missing_ok=True)
+    assert run_formdb(["--db", seeded_sqlite_url, "db", "backup", str(copy)]).exit_code == 0
+    conn = sqlite3.connect(copy)
+    try:
+        conn.executescript(sql)
+    finally:
+        conn.close()
+    return copy
+
+
+@pytest.mark.parametrize(("sql", "says"), [
+    ("CREATE TRIGGER planted AFTER INSERT ON ingredients BEGIN "
+     "UPDATE ingredients SET retired = 1; END;", "trigger 'planted'"),
+    ("CREATE VIEW planted AS SELECT * FROM ingredients;", "view 'planted'"),
+    ("CREATE TABLE planted (x);", "table 'planted'"),
+    ("CREATE INDEX planted ON ingredients (retired);", "index 'planted'"),
+    ("ALTER TABLE ingredients ADD COLUMN planted TEXT;", "table ingredients has the columns"),
+    ("DELETE FROM alembic_version;", "no schema revision"),
+])
+def test_a_sqlite_copy_carries_nothing_foreign(seeded_sqlite_url: str, tmp_path: Path,
+                                               sql: str, says: str) -> None:
+    copy = _sqlite_copy(seeded_sqlite_url, tmp_path, sql)
+    target = tmp_path / "restored.sqlite"
+    _refused(run_formdb(["--db", f"sqlite:///{target}", "db", "restore", str(copy), "--yes"]),
+             says)
+    assert not target.exists() or target.stat().st_size == 0 or _no_tables(target)
+
+
+def _no_tables(path: Path) -> bool:
+    conn = sqlite3.connect(path)
+    try:
+        return conn.execute("SELECT count(*) FROM sqlite_master").fetchone()[0] == 0
+    finally:
+        conn.close()
+
+
+def test_a_clean_sqlite_copy_still_restores(seeded_sqlite_url: str, tmp_path: Path) -> None:
+    copy = _sqlite_copy(seeded_sqlite_url, tmp_path, "")
+    target = f"sqlite:///{tmp_path / 'restored.sqlite'}"
+    assert run_formdb(["--db", target, "db", "restore", str(copy), "--yes"]).exit_code == 0
+    assert dump_database(target) == dump_database(seeded_sqlite_url)
