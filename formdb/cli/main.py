@@ -136,7 +136,9 @@ class Number(click.ParamType[Any]):
             except ValueError:
                 self.fail(f"{value!r} is not a{'n integer' if self.kind is int else ' number'}",
                           param, ctx)
-        if not math.isfinite(number) or not self.low <= number <= self.high:
+        # an int is compared as it is (math.isfinite would overflow on a 400-digit one)
+        finite = isinstance(number, int) or math.isfinite(number)
+        if not finite or not self.low <= number <= self.high:
             self.fail(f"{value!r} is not between {self.low:g} and {self.high:g}", param, ctx)
         return number
 

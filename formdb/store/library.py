@@ -9,7 +9,8 @@ command reports comes from one state of the library:
   ONLY (every statement sees the snapshot of the first); on SQLite a deferred read transaction
   in WAL mode sees the file as it was at its first read.
 - ``write()``: one transaction, committed when the outermost unit ends, rolled back on any
-  exception. On SQLite the write lock is taken at BEGIN so writers queue instead of failing.
+  exception. The write lock is taken at BEGIN (SQLite: BEGIN IMMEDIATE; PostgreSQL: formdb's
+  advisory writer lock) so writers queue instead of failing, the same way on both backends.
 
 A write inside a read is refused (a bug, not bad input): a command that writes opens a write
 unit at the top. The sealing hooks of the audit trail live on ``LibrarySession``, formdb's own
@@ -27,7 +28,7 @@ from sqlalchemy.orm import Session
 
 from formdb.store.db import WRITE_LOCK, display_url, open_library, translate_failure
 from formdb.store.identity import accept_claim, identity_of
-from formdb.store.sealing import LibrarySession
+from formdb.store.sealing import LibrarySession, lock_for_write
 
 READ_SNAPSHOT = {"isolation_level": "REPEATABLE READ", "postgresql_readonly": True}
 
@@ -122,6 +123,12 @@ class Library:
         self._session, self._writing = session, write or not snapshot
         self.transactions += 1
         try:
+            if write:
+                # PostgreSQL: the writers' lock at BEGIN, as SQLite's BEGIN IMMEDIATE takes its
+                # write lock, so both backends queue writers the same way and a write reads the
+                # newest committed rows: a blind edit applies to the current version on both
+                # (never a conflict), an edit with --expect-version conflicts on both
+                lock_for_write(session)
             yield session
             session.commit()
         except BaseException as exc:

@@ -161,11 +161,12 @@ def test_a_huge_cell_is_refused_with_its_row(library_url: str, tmp_path: Path, s
     assert dump_database(library_url) == before
 
 
-def test_expect_version_beyond_64_bits_is_refused(seeded_library_url: str) -> None:
+@pytest.mark.parametrize("digits", [25, 400])  # 400: found by the fuzz suite (OverflowError)
+def test_expect_version_beyond_64_bits_is_refused(seeded_library_url: str, digits: int) -> None:
     before = dump_database(seeded_library_url)
     result = run_formdb(["--db", seeded_library_url, "ingredient", "edit", "Cetyl Alcohol",
                          "--set", "hlb=5", "--source", "rule-of-thumb", "--reason", "test",
-                         "--expect-version", "9" * 25])
+                         "--expect-version", "9" * digits])
     assert result.exit_code == 2 and "--expect-version" in result.stderr
     assert "internal problem" not in result.stderr
     assert dump_database(seeded_library_url) == before
@@ -475,3 +476,50 @@ def test_a_clean_sqlite_copy_still_restores(seeded_sqlite_url: str, tmp_path: Pa
     target = f"sqlite:///{tmp_path / 'restored.sqlite'}"
     assert run_formdb(["--db", target, "db", "restore", str(copy), "--yes"]).exit_code == 0
     assert dump_database(target) == dump_database(seeded_sqlite_url)
+
+
+# --- blind edits: the same on both backends --------------------------------------------------
+
+def _version_and_hlb(url: str, name: str) -> tuple[int, str]:
+    shown = run_formdb(["--db", url, "ingredient", "list", "--format", "json"])
+    record = next(r for r in json.loads(shown.stdout) if r["inci_name"] == name)
+    return int(record["version"]), str(record["properties"]["hlb"])
+
+
+def test_blind_edits_queue_and_apply_on_both_backends(seeded_library_url: str) -> None:
+    """A blind edit (no --expect-version) made while another writer holds the library waits
+    for it and then applies to the version that writer left; an edit that names an old
+    version is a conflict. Before, PostgreSQL refused most blind edits under contention and
+    SQLite none."""
+    import threading
+    import time
+
+    from formdb.services.library.ingredients import edit_ingredient
+    from formdb.store.library import Library
+
+    name = "Cetyl Alcohol"
+    start, _ = _version_and_hlb(seeded_library_url, name)
+    holding, released = threading.Event(), threading.Event()
+
+    def other_writer() -> None:
+        with Library.deferred(seeded_library_url) as library, library.write() as session:
+            edit_ingredient(session, name, [("hlb", "5")], user="larkspur-other",
+                            source="rule-of-thumb", reason="first writer")
+            holding.set()
+            time.sleep(1.5)  # the blind edit below starts while this transaction is open
+        released.set()
+
+    thread = threading.Thread(target=other_writer)
+    thread.start()
+    assert holding.wait(30)
+    blind = run_formdb(["--db", seeded_library_url, "ingredient", "edit", name, "--set",
+                        "hlb=6", "--source", "rule-of-thumb", "--reason", "second, blind"])
+    thread.join()
+    assert released.is_set()
+    assert blind.exit_code == 0, blind.stderr  # waited, then applied: no conflict
+    assert _version_and_hlb(seeded_library_url, name) == (start + 2, "6.0")
+    stale = run_formdb(["--db", seeded_library_url, "ingredient", "edit", name, "--set",
+                        "hlb=7", "--source", "rule-of-thumb", "--reason", "stale",
+                        "--expect-version", str(start + 1)])
+    _refused(stale, f"version {start + 1}")
+    assert _version_and_hlb(seeded_library_url, name) == (start + 2, "6.0")
