@@ -50,7 +50,7 @@ class UseRange(Rule):
         "above_severity": Option(str, "warning", "severity above the use range", _SEVERITIES),
         "trace_fraction": Option(float, 0.1, "below this fraction of the range's low end a "
                                              "line is a trace, not judged (preservatives "
-                                             "still are)", minimum=0),
+                                             "still are)", minimum=0, maximum=1),
     }
 
     def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,
