@@ -32,7 +32,9 @@ def import_cmd(app: AppContext, library: Library, files: tuple[Path, ...], dry_r
                allow_older: bool, all_unparsed: bool, fmt: str) -> None:
     """Import annex exports (COSING_Annex_II_v2.txt ... VI), all of them or none. A newer export
     replaces the one in force and lists what changed, old -> new, and the stored formulas and
-    signed review runs it touches."""
+    signed review runs it touches. A reference number the export repeats for another substance,
+    or for the same one under another amending act, is kept as its own entry; the same number for
+    the same substance under the same act (a file concatenated or damaged) is refused."""
     from formdb.report.lists import import_json, import_text
     from formdb.services.lists.importing import import_lists
 

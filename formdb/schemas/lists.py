@@ -118,6 +118,21 @@ class ListEntry(BaseModel):
         return f"{self.jurisdiction} Annex {self.annex}/{self.key}"
 
     @property
+    def moved(self) -> bool:
+        """A number the Commission keeps for an entry moved or deleted: it names nothing."""
+        return self.chemical_name.casefold() == "moved or deleted" and not self.inci_names
+
+    @property
+    def record_names(self) -> tuple[str, ...]:
+        """The names a formula uses for what the entry names: its INCI (or chemical) names, or,
+        where it gives none short enough to be a name (a class such as "radioactive substances",
+        a petroleum stream or a reaction mass described in 200+ characters), its reference form
+        ("EU Annex II/293"): stable across exports, short, and unmistakably the entry itself."""
+        if self.inci_names or self.moved:
+            return self.inci_names
+        return (self.label,)
+
+    @property
     def title(self) -> str:
         names = ", ".join(self.inci_names[:3]) or self.chemical_name[:80]
         return f"{self.label} ({names})"

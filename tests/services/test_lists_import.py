@@ -15,9 +15,12 @@ from pathlib import Path
 import pytest
 
 from formdb.errors import InvalidData
+from formdb.schemas.ingredient import name_key
 from formdb.schemas.lists import ListEntry
-from formdb.services.lists.importing import import_lists, read_export
+from formdb.services.lists.importing import entry_match_keys, import_lists, read_export
+from formdb.store import queries
 from formdb.store.library import Library
+from formdb.store.lists import record_match_keys
 from tests.conftest import TEST_USER
 from tests.helpers import dump_database, run_formdb
 
@@ -257,6 +260,37 @@ def test_duplicate_reference(tmp_path: Path, sqlite_url: str) -> None:
 
 
 @needs_exports
+def test_real_repeated_numbers_accepted() -> None:
+    """The exports of 31/10/2025 repeat numbers: II/38 for three coal-tar substances, III/196 for
+    HC Blue No. 11 (Reg. (EC) 2013/344) and Lippia citriodora absolute (Reg. (EU) 2023/1545), and
+    III/16, 250 and 253 for the same substance under two acts. Every row is kept, apart."""
+    repeated = {(a, ref): len(es) for a in ("II", "III", "IV", "V", "VI")
+                for ref, es in entries(a).items() if len(es) > 1}
+    assert repeated == {("II", "38"): 3, **{("III", r): 2 for r in (
+        "9", "16", "196", "200", "208", "250", "251", "253", "269")}}
+    for annex, ref in repeated:
+        keys = [e.key for e in entries(annex)[ref]]
+        assert len(set(keys)) == len(keys) and all(k.startswith(f"{ref} [") for k in keys)
+    assert {e.regulation for e in entries("III")["16"]} == {"(EC) 2013/344", "(EU) 2013/658"}
+
+
+@needs_exports
+def test_concatenated_rows_refused(tmp_path: Path, sqlite_url: str) -> None:
+    """The rows of Annex VI given twice (a file concatenated by hand): the same number, substance
+    and act twice is refused, naming the first repeated line; nothing imported."""
+    def doubled(text: str) -> str:
+        start = text.index("\n2,")  # the first entry row, after the title lines and header
+        return text + text[start + 1:]
+    dup = _copy(tmp_path, "VI", doubled)
+    before = dump_database(sqlite_url)
+    result = run_formdb(["--db", sqlite_url, "lists", "import", str(dup)])
+    assert result.exit_code == 2 and result.stderr.count("Error:") == 1
+    assert "duplicate reference number '2'" in result.stderr and str(dup) in result.stderr
+    assert "same substance under the same act" in result.stderr
+    assert dump_database(sqlite_url) == before
+
+
+@needs_exports
 def test_older_over_newer_refused_unless_asked(tmp_path: Path, sqlite_url: str) -> None:
     older = _copy(tmp_path, "VI", lambda t: t.replace("Last update: 31/10/2025",
                                                       "Last update: 30/06/2024"))
@@ -397,3 +431,49 @@ def test_status_and_show_as_a_reviewer_reads_them(sqlite_url: str) -> None:
     missing = run_formdb(["--db", sqlite_url, "lists", "show", "V/999"])
     assert missing.exit_code == 2 and missing.stderr.count("Error:") == 1
     assert "no entry V/999" in missing.stderr
+
+
+# ----- every entry can be named in a formula --------------------------------------------------
+
+@needs_exports
+@pytest.mark.slow
+def test_every_entry_is_nameable(tmp_path: Path, library_url: str) -> None:
+    """Issue 11's 'a formula can name any substance the lists name', counted against the real
+    exports: every entry that is not a number kept for a moved or deleted entry resolves, by one
+    of its names, to an ingredient record whose match keys find that entry. An entry that gives
+    no name of 200 characters or fewer (a class such as II/293 radioactive substances, a
+    petroleum or reaction-mass description) is named by its reference form "EU Annex II/293"."""
+    files = [export(a) for a in ("II", "III", "IV", "V", "VI")]
+    with Library.open(library_url) as library:
+        import_lists(library, files, user=TEST_USER)
+    every = [e for a in ("II", "III", "IV", "V", "VI") for es in entries(a).values() for e in es]
+    moved = [e for e in every if e.moved]
+    by_reference = [e for e in every if not e.moved and not e.inci_names]
+    # counts read in the exports of 31/10/2025: 2,362 entries, 22 of them "Moved or deleted"
+    assert (len(every), len(moved)) == (2362, 22)
+    assert len(by_reference) == 29  # 28 in Annex II, III/271 (a dye mixture in 259 characters)
+    assert sum(e.annex == "II" for e in by_reference) == 28
+    assert "EU Annex II/293" in {e.record_names[0] for e in by_reference}
+    unnamed = []
+    with Library.open(library_url) as library, library.read() as session:
+        found = queries.find_ingredients(session, {n for e in every for n in e.record_names})
+        for entry in every:
+            if entry.moved:
+                assert entry.record_names == ()
+                continue
+            records = [found.get(name_key(n)) for n in entry.record_names]
+            if not any(r is not None and record_match_keys(r) & entry_match_keys(entry)
+                       for r in records):
+                unnamed.append(entry.label)
+    assert unnamed == []
+    assert len(every) - len(moved) == 2340
+
+    # a formula names a class entry by its reference form and the check reports the entry
+    formula = tmp_path / "radio.toml"
+    formula.write_text('name = "Larkspur test lotion"\ncategory = "leave-on"\n\n'
+                       '[[ingredients]]\ninci = "eu annex ii/293"\npercent = 100.0\n',
+                       encoding="utf-8")
+    checked = run_formdb(["--db", library_url, "check", str(formula)])
+    assert checked.exit_code != 2, checked.stderr
+    assert "LIM03" in checked.stdout and "EU Annex II/293" in checked.stdout
+    assert "Radioactive substances" in checked.stdout

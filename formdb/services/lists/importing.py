@@ -4,7 +4,13 @@ All or nothing: every file is read and parsed, every refusal found, before anyth
 A newer export replaces the snapshot in force for its annex and says what changed, entry by
 entry (old -> new per cell), then which stored formulas and signed review runs the changed
 entries touch. Every substance an entry names gets an ingredient record (marked as coming from
-the lists, no physical data) so a formula can name it.
+the lists, no physical data) so a formula can name it; an entry with no name short enough to be
+one (a class, a 200+ character description) gets one named by its reference ("EU Annex II/293").
+
+Reference numbers (``parse.entry_keys``): the Commission's exports repeat some numbers for other
+substances (III/196, II/38) and for the same substance under a later act (III/16, III/253); each
+row stays its own entry. The same number for the same substance (a shared name or CAS number)
+under the same act is one entry given twice, a concatenated or damaged file: refused.
 """
 
 from __future__ import annotations
@@ -85,7 +91,7 @@ def read_export(path: Path) -> ParsedExport:
 
 def entry_match_keys(entry: ListEntry) -> set[str]:
     """The keys an entry is found by: each INCI name, the chemical name's plain forms, each CAS."""
-    keys = {name_match(n) for n in entry.inci_names}
+    keys = {name_match(n) for n in entry.record_names}
     keys |= {name_match(n) for n in chemical_names(entry.chemical_name)}
     if not (entry.inci_names and all(is_mixture(n) for n in entry.inci_names)):
         # a mixture's entry (V/39 "... AND ...") lists its components' CAS numbers too: those
@@ -316,7 +322,7 @@ def _new_ingredients(session: Session, plans: Sequence[_Plan]
     wanted: dict[str, tuple[str, ListEntry]] = {}
     for plan in plans:
         for entry in plan.export.entries:
-            for name in entry.inci_names:
+            for name in entry.record_names:
                 wanted.setdefault(name_key(name), (name, entry))
     known: set[str] = set()
     keys = sorted(wanted)
@@ -335,7 +341,7 @@ def _new_ingredients(session: Session, plans: Sequence[_Plan]
 def _cas_for(name: str, entry: ListEntry) -> list[str]:
     """The CAS numbers of one name of an entry: paired by position when the entry gives one per
     name, all of them when it names one substance, none when it cannot tell."""
-    names, numbers = entry.inci_names, entry.cas_numbers
+    names, numbers = entry.record_names, entry.cas_numbers
     if len(names) == 1:
         return list(numbers)
     if len(names) == len(numbers):
