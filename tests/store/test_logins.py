@@ -314,3 +314,19 @@ def test_seeding_and_claims_on_the_server(team: Team) -> None:
     assert shown.exit_code == 2 and "would change it" in shown.stdout
     done = team.formdb("boss", "init", "--seed", "--yes")
     assert done.exit_code == 0, done.stderr
+
+
+def test_a_login_made_by_the_database_administrator_is_adopted(team: Team) -> None:
+    """Certificate logins are often made by whoever runs the server: `user add` adopts the
+    role that exists instead of failing, and gives it its duty."""
+    login = f"{team.prefix}_cert"
+    team.sql("boss", f'CREATE ROLE "{login}" NOLOGIN')
+    plan = team.formdb("boss", "user", "add", login, "--role", "reviewer", "--prefix",
+                       team.prefix)
+    assert plan.exit_code == 2 and f"adopt the existing database login {login}" in plan.stdout
+    assert "(no password: log in by certificate" in plan.stdout
+    done = team.formdb("boss", "user", "add", login, "--role", "reviewer", "--prefix",
+                       team.prefix, "--yes")
+    assert done.exit_code == 0, done.stderr
+    assert _rows(team.url, f"SELECT rolcanlogin FROM pg_roles WHERE rolname = '{login}'") == \
+        [(True,)]
