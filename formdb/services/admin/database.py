@@ -115,28 +115,62 @@ def move(url: str, revision: str, *, down: bool) -> tuple[str | None, str | None
 
 def verify_before_upgrade(engine: Engine) -> None:
     """Recompute the audit chains before an upgrade and stop if one is broken, so no
-    migration ever seals (launders) rows that were altered. Tables whose columns are not yet
-    those of the newest canonical form are left to the migration that converts them (it must
-    keep their hashes, as 0012 and the change-log migrations do)."""
-    from formdb.services.review.audit import verify_table
-    from formdb.store.sealing import LibrarySession
-
+    migration ever converts or seals (launders) rows that were altered. Each table is read as
+    it is at the library's revision: its rows are hashed in the canonical form their columns
+    belong to (an older form of ``sealing.FORMS``, or the newest without the columns added
+    since, which ``ADDED_LATER`` leaves out while empty)."""
     with engine.connect() as conn:
-        inspector = inspect(conn)
-        present = set(inspector.get_table_names())
-        wanted = [t for t in SEALED_COLUMNS if t in present and
-                  {*SEALED_COLUMNS[t], "row_hash"} <= {c["name"] for c in
-                                                     inspector.get_columns(t)}]
-        if not wanted:
-            return
-        with LibrarySession(bind=conn) as session:
-            reports = [verify_table(session, t) for t in wanted]
-    broken = [p for r in reports for p in r.problems if p.kind != "unsealed"]
-    if broken:
-        raise ConfigError(
-            f"the audit trail of {store.display_url(engine.url)} is broken ({broken[0].detail} "
-            f"in {broken[0].table}): the upgrade stopped, so no migration seals altered rows.",
-            hint="run `formdb audit verify`, and restore the last good backup")
+        present = set(inspect(conn).get_table_names())
+        for table in SEALED_COLUMNS:
+            if table in present:
+                problem = _first_break(conn, table)
+                if problem is not None:
+                    raise ConfigError(
+                        f"the audit trail of {store.display_url(engine.url)} is broken "
+                        f"({problem} in {table}): the upgrade stopped, so no migration seals "
+                        "altered rows.",
+                        hint="run `formdb audit verify`, and restore the last good backup")
+
+
+def _form_of(table: str, columns: set[str]) -> int | None:
+    """The canonical form a table's columns belong to: None for the newest (or a table
+    without forms), an older form's number when its columns are those present."""
+    from formdb.store.sealing import FORMS
+
+    if {*SEALED_COLUMNS[table]} <= columns or table not in FORMS:
+        return None
+    older = [n for n, cols in FORMS[table].items() if set(cols) <= columns]
+    return max(older) if older else None
+
+
+def _first_break(conn: Connection, table: str) -> str | None:
+    """The first altered or unlinked sealed row of ``table`` as it stands, or None."""
+    from formdb.store.sealing import GENESIS, canonical, row_hash
+
+    reflected = Table(table, MetaData(), autoload_with=conn)
+    columns = {c.name for c in reflected.columns}
+    if "row_hash" not in columns or "prev_hash" not in columns:
+        return None
+    form = _form_of(table, columns)
+    previous: str | None = None
+    stmt = select(reflected).order_by(reflected.c.id).execution_options(yield_per=1000)
+    for row in conn.execute(stmt).mappings():
+        values = dict(row)
+        stored = values.get("row_hash")
+        if stored is None:  # unsealed: `audit verify` reports it; never sealed here
+            previous = None
+            continue
+        if form is not None:
+            values["form"] = form
+        if row_hash(values.get("prev_hash") or "", canonical(table, values)) != stored:
+            return f"row {values['id']} was altered"
+        if previous is not None and values.get("prev_hash") != previous:
+            return f"row {values['id']} does not link to the row before it"
+        if previous is None and values.get("prev_hash") not in (GENESIS, None) \
+                and values["id"] == 1:
+            return f"row {values['id']} does not start the chain"
+        previous = stored
+    return None
 
 
 def _sealed_rows(shape: store.TableShape, engine: Engine) -> dict[str, int]:
