@@ -124,6 +124,11 @@ def test_mixture_declared_from_the_cli_and_a_table(seeded_library_url: str,
     assert stored["properties"]["hlb"] == 11.3
     assert stored["provenance"]["hlb"]["source"] == "calc-constituents"
     assert "50 % (bench-2026)" in _ok(url, "mixture", "history", blend)
+    # a constituent's new HLB carries through to the blend: 0.5 x 3.8 + 0.5 x 18.0 = 10.9
+    _ok(url, "ingredient", "edit", "PEG-100 Stearate", "--set", "hlb=18.0@bench-2026",
+        "--reason", "bench figure")
+    rec = json.loads(_ok(url, "ingredient", "list", "--format", "json"))
+    assert next(r for r in rec if r["inci_name"] == blend)["properties"]["hlb"] == 10.9
 
     table = tmp_path / "mixtures.csv"
     _ok(url, "mixture", "export", str(table))

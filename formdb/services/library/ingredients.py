@@ -769,6 +769,10 @@ def edit_ingredient(session: Session, name: str, assignments: Sequence[tuple[str
     _ensure_special_sources(session, item.sources.values())
     _write(session, ing, item, fields_of(before), sources, action=action, user=user,
            reason=_with_accepted(reason, accepted), now=datetime.now(UTC), grades=grades)
+    if {c.field for c in changes} & {"hlb", "solubility"}:
+        from formdb.services.library.mixtures import refresh_blends_of
+
+        refresh_blends_of(session, ing.id, user=user)  # blends computed from this one follow
     return EditReport(ing.inci_name, ing.version, changes, accepted)
 
 

@@ -338,6 +338,17 @@ def _store_computed(session: Session, mixture: str, *, user: str) -> list[str]:
     return notes
 
 
+def refresh_blends_of(session: Session, constituent_id: int, *, user: str) -> list[str]:
+    """Recompute the stored HLB and solubility of every blend that declares this constituent
+    (after its own value changed); a blend holding another source's value is left alone."""
+    ids = sorted(set(session.scalars(select(MixtureConstituent.mixture_id).where(
+        MixtureConstituent.constituent_id == constituent_id))))
+    notes: list[str] = []
+    for record in records_by_id(session, ids).values():
+        notes += _store_computed(session, record.inci_name, user=user)
+    return notes
+
+
 def show_mixture(session: Session, name: str) -> MixtureView:
     found = find_ingredients(session, [name]).get(name_key(name))
     if found is None:
