@@ -6,6 +6,7 @@ from collections.abc import Iterable, Mapping
 from typing import Any, ClassVar
 
 from formdb.rules.base import Option, Rule
+from formdb.rules.limits import JURISDICTION, legal_ph_limits
 from formdb.rules.registry import register
 from formdb.schemas.findings import Finding
 from formdb.schemas.formula import ResolvedFormula
@@ -13,9 +14,10 @@ from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import FormulaFacts
 from formdb.schemas.vocab import Category, Severity
 
-# rule of thumb until the regulatory-lists issue supplies the legal limit: skin tolerates a
-# leave-on product up to about pH 11 at most (from memory: EU Regulation 1223/2009 Annex III
-# entry 15a limits sodium and potassium hydroxide as pH adjusters to pH 11 in other uses)
+# rule of thumb where no list entry limits the pH: skin tolerates a leave-on product up to about
+# pH 11 at most (the figure Annex III/15a of Regulation (EC) No 1223/2009 sets for sodium and
+# potassium hydroxide as pH adjusters in other uses, recalled from memory; for those two bases
+# the entry itself applies, through LIM01 on the seed's rows or LIM03 on an imported Annex III)
 LEAVE_ON_PH_MAX = 11.0
 
 
@@ -74,14 +76,16 @@ class FreeAlkali(Rule):
 class LeaveOnPh(Rule):
     """A leave-on product whose stated pH is above the rule-of-thumb maximum.
 
-    Flags: a leave-on formula with a stated pH above max_ph (default 11).
+    Flags: a leave-on formula with a stated pH above max_ph (default 11), where no list entry
+    limits the pH for one of its substances.
     Why: skin's surface is acid (about pH 4.5-5.5) and a leave-on product far above it
-    irritates. The maximum of 11 is a rule of thumb until the regulatory lists give the legal
-    limit (from memory: EU Regulation 1223/2009 Annex III entry 15a limits sodium and potassium
-    hydroxide used as pH adjusters to pH 11 in other uses; the regulatory-lists issue owns that
-    limit). Rinse-off products (soaps, depilatories) are not judged here.
-    Fails: leave-on, pH 12.8, Water 99.5, Sodium Hydroxide 0.5.
-    Passes: leave-on, pH 5.5; rinse-off at pH 10.
+    irritates. The maximum of 11 is a rule of thumb. Where a list entry sets the pH (Annex III/15a
+    of Regulation (EC) No 1223/2009: sodium and potassium hydroxide as pH adjusters up to pH 11,
+    from memory in the seed's row, or as imported) the entry is the law and LIM01/LIM03 name it,
+    so this rule stays quiet. Rinse-off products (soaps, depilatories) are not judged here.
+    Fails: leave-on, pH 11.5, Water 99.5, Triethanolamine 0.5.
+    Passes: leave-on, pH 5.5; rinse-off at pH 10; leave-on pH 12.8 with Sodium Hydroxide (LIM01
+    reports III/15a).
     Options: max_ph (default 11.0).
     """
 
@@ -92,6 +96,7 @@ class LeaveOnPh(Rule):
     options: ClassVar[dict[str, Option]] = {
         "max_ph": Option(float, LEAVE_ON_PH_MAX, "highest pH of a leave-on product", minimum=0,
                          maximum=14),
+        "jurisdiction": JURISDICTION,
     }
 
     def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,
@@ -100,6 +105,8 @@ class LeaveOnPh(Rule):
         limit = options["max_ph"]
         if body.category != Category.LEAVE_ON or body.ph is None or body.ph <= limit + 1e-9:
             return
+        if legal_ph_limits(formula, reference, options["jurisdiction"]):
+            return  # the entry is the law: LIM01 (seed rows) or LIM03 (imported) name it
         bases = [b.base for b in facts.free_bases]
         yield self.finding(
             self.default_severity,

@@ -186,15 +186,53 @@ def _scope(row: LimitRecord) -> str:
     return "all products" if row.category == "any" else f"{row.category} products"
 
 
+def _max(row: LimitRecord) -> float:
+    """The row's maximum; asked only of rows that have one (pH-only rows never reach here)."""
+    if row.max_percent is None:
+        raise ValueError(f"limit row {row.key} has no maximum")
+    return row.max_percent
+
+
+def ph_range(row: LimitRecord) -> str:
+    if row.ph_min is not None:
+        return f"pH {row.ph_min:g} to {row.ph_max:g}" if row.ph_max is not None \
+            else f"pH at least {row.ph_min:g}"
+    return f"the pH {row.ph_max:g} maximum"
+
+
+def legal_ph_limits(formula: ResolvedFormula, reference: ReferenceData,
+                    jurisdiction: str) -> list[str]:
+    """The list entries that set a pH limit for a substance of this formula: the seed's rows
+    (LIM01 applies them) and the parts of imported entries that apply or may apply (LIM03)."""
+    from formdb.rules.list_entries import items_of
+    from formdb.rules.scoping import parts_for
+
+    out = [f"{_where(row)} ({ph_range(row)})"
+           for row in applicable_rows(reference, formula, jurisdiction)
+           if (row.ph_min is not None or row.ph_max is not None) and lines_in(row, formula)]
+    for item in items_of(formula, reference):
+        purpose, _from = line_purpose(item.line, item.record)
+        for entry in item.entries:
+            for fit in parts_for(entry, formula, purpose):
+                part = fit.part
+                if fit.fits is not False and (part.ph_max is not None or part.ph_min is not None):
+                    out.append(f"{entry.label} {part.name}")
+    return list(dict.fromkeys(out))
+
+
 def _where(row: LimitRecord) -> str:
     return f"{row.jurisdiction} {row.list_name}, entry {row.entry}"
 
 
 def _base_values(row: LimitRecord) -> dict[str, float | str | None]:
-    return {"entry": row.entry, "list_name": row.list_name, "jurisdiction": row.jurisdiction,
-            "category": row.category, "product": row.product, "max_percent": row.max_percent,
-            "basis": row.basis, "aggregate": row.aggregate, "conditions": row.conditions,
-            "list_date": row.list_date.isoformat(), "source": row.source}
+    values: dict[str, float | str | None] = {
+        "entry": row.entry, "list_name": row.list_name, "jurisdiction": row.jurisdiction,
+        "category": row.category, "product": row.product, "max_percent": row.max_percent,
+        "basis": row.basis, "aggregate": row.aggregate, "conditions": row.conditions,
+        "list_date": row.list_date.isoformat(), "source": row.source}
+    values.update({k: v for k, v in (("ph_min", row.ph_min), ("ph_max", row.ph_max))
+                   if v is not None})  # only rows that limit the pH say so
+    return values
 
 
 @register
@@ -247,15 +285,44 @@ class ConcentrationLimit(Rule):
             if not present:
                 continue
             amounts = [_amount(row, ln, reference, formula) for ln in present]
-            if row.max_percent <= 0:
-                found: Iterable[Finding] = [self._forbidden(row, present, formula)]
+            found: Iterable[Finding] = []
+            if row.max_percent is None:
+                pass  # a row that limits the product's pH only
+            elif row.max_percent <= 0:
+                found = [self._forbidden(row, present, formula)]
             elif row.aggregate == "sum":
                 found = self._sum(row, amounts)
             else:
                 found = [f for amount in amounts for f in self._each(row, amount)]
+            found = [*found, *self._ph(row, present, formula)]
             for finding in found:
                 yield _as_reading(finding, row) if undecided & set(finding.ingredients) \
                     else finding
+
+    def _ph(self, row: LimitRecord, present: list[ResolvedLine],
+            formula: ResolvedFormula) -> Iterable[Finding]:
+        """The product's stated pH against the row's pH range (III/15a: up to pH 11)."""
+        if row.ph_min is None and row.ph_max is None:
+            return
+        names = [ln.inci for ln in present]
+        values = _base_values(row)
+        ph = formula.formula.ph
+        values["ph"] = ph
+        if ph is None:
+            yield self.finding(
+                Severity.WARNING,
+                f"{' + '.join(names)}: {_where(row)} limits the product to {ph_range(row)}, and "
+                "the formula states no pH", ingredients=names, values=values,
+                advice="measure the pH of a batch and state it (ph = ...) so the limit is checked")
+            return
+        if (row.ph_max is not None and ph > row.ph_max + _EPS) or \
+                (row.ph_min is not None and ph < row.ph_min - _EPS):
+            yield self.finding(
+                self.default_severity,
+                f"pH {ph:g} with {' + '.join(names)} is outside {ph_range(row)} for "
+                f"{_scope(row)} ({_where(row)})", ingredients=names, values=values,
+                advice=f"bring the pH within {ph_range(row)} (less base, or an acid)"
+                       + (f" ({row.conditions})" if row.conditions else ""))
 
     def _forbidden(self, row: LimitRecord, present: list[ResolvedLine],
                    formula: ResolvedFormula) -> Finding:
@@ -281,17 +348,17 @@ class ConcentrationLimit(Rule):
         values["percent_as_acid" if row.basis == "as-acid" else "percent_on_basis"] = \
             amount.value
         values["conversion_factor"] = amount.factor
-        if amount.value <= row.max_percent + _EPS:
+        if amount.value <= _max(row) + _EPS:
             return
         if row.aggregate == "sum":
             values["total_percent"] = amount.value
         as_acid = ""
         if row.basis == "as-acid" and amount.factor != 1.0:
             as_acid = f" = {amount.value:.3g} % as {row.acid_inci}"
-        highest = row.max_percent / amount.factor if amount.factor else row.max_percent
+        highest = _max(row) / amount.factor if amount.factor else _max(row)
         yield self.finding(
             self.default_severity,
-            f"{line.inci} {line.percent:g} %{as_acid} is over the {row.max_percent:g} % limit "
+            f"{line.inci} {line.percent:g} %{as_acid} is over the {_max(row):g} % limit "
             f"for {_scope(row)} ({_where(row)})",
             ingredients=[line.inci], values=values,
             advice=f"reduce {line.inci} to at most {highest:.3g} %"
@@ -309,16 +376,16 @@ class ConcentrationLimit(Rule):
             return
         total = sum(a.value for a in amounts if a.value is not None)
         values["total_percent"] = total
-        if total <= row.max_percent + _EPS:
+        if total <= _max(row) + _EPS:
             return
         basis = " as acid" if row.basis == "as-acid" else ""
         parts = " + ".join(f"{a.line.inci} {a.value:.3g}" for a in amounts if a.value is not None)
         yield self.finding(
             self.default_severity,
-            f"{parts} = {total:.3g} %{basis} together, over the {row.max_percent:g} % limit of "
+            f"{parts} = {total:.3g} %{basis} together, over the {_max(row):g} % limit of "
             f"the sum for {_scope(row)} ({_where(row)})",
             ingredients=names, values=values,
-            advice=f"bring the total of {', '.join(names)} to at most {row.max_percent:g} %"
+            advice=f"bring the total of {', '.join(names)} to at most {_max(row):g} %"
                    f"{basis}")
 
     def _unconvertible(self, row: LimitRecord, amounts: list[_Amount],
@@ -327,12 +394,12 @@ class ConcentrationLimit(Rule):
         names = [a.line.inci for a in amounts]
         as_is = sum(a.line.percent for a in amounts)
         values["missing_molar_mass"] = ", ".join(missing)
-        over = as_is > row.max_percent + _EPS
+        over = as_is > _max(row) + _EPS
         return self.finding(
             Severity.WARNING if over else Severity.INFO,
             f"{' + '.join(names)} cannot be expressed as {row.acid_inci} for {_where(row)}: "
             f"no molar mass for {', '.join(missing)}"
-            + (f"; as-is {as_is:g} % is over the {row.max_percent:g} % limit" if over else ""),
+            + (f"; as-is {as_is:g} % is over the {_max(row):g} % limit" if over else ""),
             ingredients=names, values=values,
             advice=f"add the molar mass of {', '.join(missing)} to the library so the limit "
                    "can be checked as acid")

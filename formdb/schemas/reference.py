@@ -19,7 +19,9 @@ class LimitRecord(BaseModel):
 
     ``aggregate``: ``each`` applies ``max_percent`` to every listed ingredient on its own; ``sum``
     applies it to their total. ``basis``: ``as-is`` or ``as-acid`` (a salt's % converted to its
-    parent acid, ``acid_inci``, by molar mass). ``max_percent`` 0 means not allowed in ``category``.
+    parent acid, ``acid_inci``, by molar mass). ``max_percent`` 0 means not allowed in ``category``;
+    None means no concentration maximum (a row that limits the pH only). ``ph_min``/``ph_max``: the
+    product's pH range where the row's ingredient is present (III/15a: pH adjuster up to pH 11).
     ``excludes`` names entries that may not be used in the same product.
     """
 
@@ -32,7 +34,7 @@ class LimitRecord(BaseModel):
     ingredients: tuple[str, ...]
     category: str  # leave-on | rinse-off | any
     product: str | None = None
-    max_percent: float
+    max_percent: float | None = None
     aggregate: str = "each"  # each | sum
     basis: str = "as-is"  # as-is | as-acid
     acid_inci: str | None = None
@@ -42,6 +44,8 @@ class LimitRecord(BaseModel):
     list_date: date
     # preservative: binds preservative use only; not-preservative: binds every other use
     purpose: str | None = None
+    ph_min: float | None = None
+    ph_max: float | None = None
 
 
 class Incompatibility(BaseModel):

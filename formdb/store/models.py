@@ -181,7 +181,7 @@ class LimitEntry(Base):
     ingredients: Mapped[str] = mapped_column(Text)  # INCI names joined by "; "
     category: Mapped[str] = mapped_column(String(20))
     product: Mapped[str | None] = mapped_column(String(100))
-    max_percent: Mapped[float] = mapped_column(Float)
+    max_percent: Mapped[float | None] = mapped_column(Float)  # None: a pH limit only
     aggregate: Mapped[str] = mapped_column(String(10))
     basis: Mapped[str] = mapped_column(String(10))
     acid_inci: Mapped[str | None] = mapped_column(String(200))
@@ -190,6 +190,8 @@ class LimitEntry(Base):
     source_key: Mapped[str] = mapped_column(ForeignKey("sources.key"))
     list_date: Mapped[date] = mapped_column(Date)
     purpose: Mapped[str | None] = mapped_column(String(20))  # preservative | not-preservative
+    ph_min: Mapped[float | None] = mapped_column(Float)
+    ph_max: Mapped[float | None] = mapped_column(Float)
 
 
 class IncompatibilityEntry(Base):

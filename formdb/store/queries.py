@@ -192,7 +192,8 @@ def limit_record(row: LimitEntry) -> LimitRecord:
         ingredients=split_list(row.ingredients), category=row.category, product=row.product,
         max_percent=row.max_percent, aggregate=row.aggregate, basis=row.basis,
         acid_inci=row.acid_inci, excludes=split_list(row.excludes), conditions=row.conditions,
-        source=row.source_key, list_date=row.list_date, purpose=row.purpose)
+        source=row.source_key, list_date=row.list_date, purpose=row.purpose,
+        ph_min=row.ph_min, ph_max=row.ph_max)
 
 
 def incompatibility_record(row: IncompatibilityEntry) -> Incompatibility:

@@ -32,7 +32,7 @@ INGREDIENT_FIXED = ["inci_name", "synonyms", "cas", "roles", "classes"]
 ROW_COUNTS = {
     "sources.csv": 63,
     "ingredients.csv": 111,
-    "limits.csv": 52,
+    "limits.csv": 53,
     "incompatibilities.csv": 15,
     "soap_pairs.csv": 8,
 }
@@ -345,7 +345,9 @@ def _limits() -> list[LimitRecord]:
             key=row["key"], jurisdiction=row["jurisdiction"], list_name=row["list_name"],
             entry=row["entry"], ingredients=tuple(_split(row["ingredients"])),
             category=row["category"], product=row["product"] or None,
-            max_percent=float(row["max_percent"]), aggregate=row["aggregate"],
+            max_percent=float(row["max_percent"]) if row["max_percent"] else None,
+            ph_min=float(row["ph_min"]) if row["ph_min"] else None,
+            ph_max=float(row["ph_max"]) if row["ph_max"] else None, aggregate=row["aggregate"],
             basis=row["basis"], acid_inci=row["acid_inci"] or None,
             excludes=tuple(_split(row["excludes"])), conditions=row["conditions"] or None,
             source=row["source"], list_date=date.fromisoformat(row["list_date"]))
@@ -363,7 +365,10 @@ def test_limits_are_well_formed_and_resolve(by_name: dict[str, dict[str, str]],
         assert lim.jurisdiction == "EU"
         assert lim.category in {"leave-on", "rinse-off", "any"}
         assert lim.aggregate in {"each", "sum"} and lim.basis in {"as-is", "as-acid"}
-        assert 0 <= lim.max_percent <= 100 and not math.isnan(lim.max_percent)
+        if lim.max_percent is None:  # a row that limits the pH only (III/15a)
+            assert lim.ph_max is not None or lim.ph_min is not None, lim.key
+        else:
+            assert 0 <= lim.max_percent <= 100 and not math.isnan(lim.max_percent)
         for inci in (*lim.ingredients, *([lim.acid_inci] if lim.acid_inci else [])):
             assert by_name[name_key(inci)]["inci_name"] == inci, (lim.key, inci)
         if lim.basis == "as-acid":

@@ -96,7 +96,8 @@ def _legal_maxima(session: Session, item: IngredientIn) -> list[tuple[float | No
     out: list[tuple[float | None, str]] = [
         (row.max_percent, f"{row.list_name} entry {row.entry}")
         for row in session.scalars(select(LimitEntry))
-        if keys & {name_key(n) for n in row.ingredients.split(";") if n.strip()}]
+        if row.max_percent is not None  # a row that limits the pH only sets no maximum
+        and keys & {name_key(n) for n in row.ingredients.split(";") if n.strip()}]
     matches = {name_match(n) for n in _names(item)} | {cas_match(c) for c in item.cas_numbers}
     seen = set()
     for entries in entries_matching(session, matches).values():

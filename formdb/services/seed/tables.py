@@ -235,9 +235,9 @@ def source_values(row: SourceRow) -> dict[str, Any]:
 
 LIMIT_COLUMNS = ("key", "jurisdiction", "list_name", "entry", "ingredients", "category",
                  "product", "max_percent", "aggregate", "basis", "acid_inci", "excludes",
-                 "conditions", "source", "list_date", "purpose")
+                 "conditions", "source", "list_date", "purpose", "ph_min", "ph_max")
 LIMIT_REQUIRED = ("key", "jurisdiction", "list_name", "entry", "ingredients", "category",
-                  "max_percent", "source", "list_date")
+                  "source", "list_date")
 
 
 def _names(text: str) -> tuple[str, ...]:
@@ -256,7 +256,9 @@ class LimitRow(_Row):
     ingredients: tuple[str, ...] = Field(min_length=1)
     category: Literal["leave-on", "rinse-off", "any"]
     product: str | None = Field(None, max_length=100)
-    max_percent: float = Field(ge=0, le=100)
+    max_percent: float | None = Field(None, ge=0, le=100)  # blank: a pH limit only
+    ph_min: float | None = Field(None, ge=0, le=14)
+    ph_max: float | None = Field(None, ge=0, le=14)
     aggregate: Literal["each", "sum"] = "each"
     basis: Literal["as-is", "as-acid"] = "as-is"
     acid_inci: str | None = Field(None, max_length=200)
@@ -277,9 +279,11 @@ class LimitRow(_Row):
     def _tokens(cls, value: Any) -> Any:
         return _lower_token(value)
 
-    @field_validator("max_percent", mode="before")
+    @field_validator("max_percent", "ph_min", "ph_max", mode="before")
     @classmethod
     def _number(cls, value: Any) -> Any:
+        if isinstance(value, str) and not value.strip():
+            return None
         if isinstance(value, str):
             try:
                 return float(value)
@@ -291,6 +295,10 @@ class LimitRow(_Row):
     def _acid_for_as_acid(self) -> LimitRow:
         if self.basis == "as-acid" and not self.acid_inci:
             raise ValueError("basis as-acid needs acid_inci (the parent acid's INCI name)")
+        if self.max_percent is None and self.ph_min is None and self.ph_max is None:
+            raise ValueError("give max_percent, or a pH limit (ph_min, ph_max), or both")
+        if self.ph_min is not None and self.ph_max is not None and self.ph_min > self.ph_max:
+            raise ValueError(f"ph_min {self.ph_min:g} is above ph_max {self.ph_max:g}")
         return self
 
 
@@ -309,7 +317,8 @@ def read_limits(file: Path, label: str, known_sources: set[str]) -> Rows:
             "aggregate": row.aggregate, "basis": row.basis,
             "acid_inci": normalise_inci(row.acid_inci) if row.acid_inci else None,
             "excludes": "; ".join(row.excludes) or None, "conditions": row.conditions,
-            "source_key": row.source, "list_date": row.list_date, "purpose": row.purpose}
+            "source_key": row.source, "list_date": row.list_date, "purpose": row.purpose,
+            "ph_min": row.ph_min, "ph_max": row.ph_max}
         for row in parsed)
     return out
 
