@@ -334,6 +334,8 @@ def backup_parts(library: str, tmp_path_factory: pytest.TempPathFactory) -> dict
 def _mutations(parts: dict[str, bytes]) -> list[Callable[[dict[str, bytes], st.DrawFn],
                                                         dict[str, bytes]]]:
     def manifest_field(p: dict[str, bytes], draw: st.DrawFn) -> dict[str, bytes]:
+        if "manifest.json" not in p:  # dropped by an earlier mutation
+            return p
         data = json.loads(p["manifest.json"])
         key = draw(st.sampled_from(["format", "revision", "tables", "extra"]))
         data[key] = draw(st.one_of(st.none(), st.integers(), nasty_text, st.lists(st.integers(),
@@ -343,11 +345,16 @@ def _mutations(parts: dict[str, bytes]) -> list[Callable[[dict[str, bytes], st.D
         return {**p, "manifest.json": json.dumps(data).encode()}
 
     def drop_part(p: dict[str, bytes], draw: st.DrawFn) -> dict[str, bytes]:
+        if not p:
+            return p
         gone = draw(st.sampled_from(sorted(p)))
         return {k: v for k, v in p.items() if k != gone}
 
     def mangle_line(p: dict[str, bytes], draw: st.DrawFn) -> dict[str, bytes]:
-        name = draw(st.sampled_from(sorted(k for k in p if k.startswith("tables/"))))
+        tables = sorted(k for k in p if k.startswith("tables/"))
+        if not tables:
+            return p
+        name = draw(st.sampled_from(tables))
         lines = p[name].decode().splitlines() or ["{}"]
         index = draw(st.integers(0, len(lines) - 1))
         row = json.loads(lines[index]) if lines[index].startswith("{") else {}
