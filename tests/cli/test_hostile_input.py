@@ -357,7 +357,11 @@ def _mutations(parts: dict[str, bytes]) -> list[Callable[[dict[str, bytes], st.D
         name = draw(st.sampled_from(tables))
         lines = p[name].decode().splitlines() or ["{}"]
         index = draw(st.integers(0, len(lines) - 1))
-        row = json.loads(lines[index]) if lines[index].startswith("{") else {}
+        try:  # an earlier mutation may have left a line that is not JSON
+            row = json.loads(lines[index])
+        except ValueError:
+            row = {}
+        row = row if isinstance(row, dict) else {}
         if row and draw(st.booleans()):
             key = draw(st.sampled_from(sorted(row)))
             row[key] = draw(st.one_of(st.none(), st.integers(-(2 ** 70), 2 ** 70), nasty_text,
