@@ -169,7 +169,7 @@ def _group(entity: str) -> click.Group:
 
         with library.read() as session:
             entries = record_history(session, kind(), key)
-        click.echo(history_text(entries, width=_width()), nl=False)
+        click.echo(history_text(entries, width=_width(), dialect=library.dialect), nl=False)
 
     @group.command("import")
     @click.argument("file", type=click.Path(path_type=Path))

@@ -198,7 +198,7 @@ def history_cmd(app: AppContext, library: Library, name: str) -> None:
 
     with library.read() as session:
         entries = ingredient_history(session, name)
-    click.echo(history_text(entries, width=_width()), nl=False)
+    click.echo(history_text(entries, width=_width(), dialect=library.dialect), nl=False)
 
 
 @ingredient_group.command("import")

@@ -92,7 +92,8 @@ def ingredient_detail(detail: Any, *, width: int | None = None) -> str:
     return "\n".join(lines) + "\n" + _tables(lambda c: c.print(table), width) + CAUTION + "\n"
 
 
-def ingredient_history(entries: Sequence[Any], *, width: int | None = None) -> str:
+def ingredient_history(entries: Sequence[Any], *, width: int | None = None,
+                       dialect: str = "postgresql") -> str:
     from rich.table import Table
 
     from formdb.schemas.change_log import value_text
@@ -106,7 +107,16 @@ def ingredient_history(entries: Sequence[Any], *, width: int | None = None) -> s
         for number, (field, old, new) in enumerate(rows):
             table.add_row(*(head if number == 0 else [""] * 4), field, old, new,
                           (e.reason or "") if number == 0 else "")
-    return _tables(lambda c: c.print(table), width) + f"{len(entries)} change(s).\n"
+    return (_tables(lambda c: c.print(table), width) + f"{len(entries)} change(s).\n"
+            + outside_note(dialect))
+
+
+def outside_note(dialect: str) -> str:
+    """What a history cannot show: on SQLite no server records changes made around formdb."""
+    if dialect == "postgresql":
+        return ""
+    return ("note: on SQLite no server records changes made outside formdb (whoever can write "
+            "the file can change it unseen); this is formdb's own change log.\n")
 
 
 def _history_rows(changes: Sequence[Any]) -> list[tuple[str, Any, Any]]:

@@ -65,14 +65,18 @@ def record_changes(report: Any) -> str:
     return "\n".join(lines) + "\n"
 
 
-def record_history(entries: Sequence[Any], *, width: int | None = None) -> str:
+def record_history(entries: Sequence[Any], *, width: int | None = None,
+                   dialect: str = "postgresql") -> str:
     from rich.table import Table
+
+    from formdb.report.library import outside_note
 
     table = Table("when (UTC)", "who", "action", "field", "old", "new", "reason")
     for e in entries:
         table.add_row(when(e.at), e.user, e.action, e.field or "", e.old or "", e.new or "",
                       e.reason or "")
-    return _tables(lambda c: c.print(table), width) + f"{len(entries)} change(s).\n"
+    return (_tables(lambda c: c.print(table), width) + f"{len(entries)} change(s).\n"
+            + outside_note(dialect))
 
 
 def identified(path: str, keys: Sequence[str]) -> str:

@@ -330,3 +330,50 @@ def test_a_login_made_by_the_database_administrator_is_adopted(team: Team) -> No
     assert done.exit_code == 0, done.stderr
     assert _rows(team.url, f"SELECT rolcanlogin FROM pg_roles WHERE rolname = '{login}'") == \
         [(True,)]
+
+
+def test_plain_sql_change_shows_in_the_ingredient_history_with_the_login(team: Team) -> None:
+    """Done-when of issue 13: a change made around formdb (plain SQL by an editor login) is in
+    the record's history, marked as made outside formdb by that login; formdb's own edit (the
+    server records it too) is shown once."""
+    assert team.formdb("ed", *EDIT).exit_code == 0  # hlb -> 14.9 through formdb
+    team.sql("ed", "UPDATE property_values SET value_num = 12.5 WHERE property = 'hlb' AND "
+                   "ingredient_id = (SELECT ingredient_id FROM ingredient_names WHERE "
+                   "name = 'Polysorbate 80')")
+    team.sql("ed", "UPDATE property_values SET note = 'typed by hand' WHERE property = 'hlb' "
+                     "AND ingredient_id = (SELECT ingredient_id FROM ingredient_names WHERE "
+                     "name = 'Polysorbate 80')")
+    shown = team.formdb("boss", "ingredient", "history", "Polysorbate 80")
+    assert shown.exit_code == 0, shown.stderr
+    ed = team.login("ed")
+    outside = [[c.strip() for c in line.split("│")[1:-1]] for line in shown.stdout.splitlines()
+               if "│ outside formdb │" in line]
+    # who, action, field, old -> new, and the plain mark in the reason column
+    assert [(r[1], r[4], r[5], r[6]) for r in outside] == [
+        (ed, "hlb", "14.9", "12.5"), (ed, "hlb note", "HPE6 Table IX", "typed by hand")]
+    assert all(r[7].startswith("changed outside formdb") for r in outside)
+    # formdb's own edit (recorded by the server as well) is shown once, as formdb's entry
+    edits = [line for line in shown.stdout.splitlines() if "│ edit " in line]
+    assert len(edits) == 1 and ed in edits[0] and "14.9" in edits[0]
+    # another record's history holds none of it
+    other = team.formdb("boss", "ingredient", "history", "Glycerin")
+    assert other.exit_code == 0, other.stderr
+    assert "outside formdb" not in other.stdout
+
+
+def test_plain_sql_change_shows_in_a_source_history_once(team: Team) -> None:
+    """The other record histories (here a source) show plain-SQL changes the same way, and a
+    formdb edit once."""
+    edited = team.formdb("ed", "source", "edit", "hpe6", "--set", "note=checked at the bench",
+                         "--reason", "login test")
+    assert edited.exit_code == 0, edited.stderr
+    team.sql("ed", "UPDATE sources SET page = '123' WHERE key = 'hpe6'")
+    shown = team.formdb("boss", "source", "history", "hpe6")
+    assert shown.exit_code == 0, shown.stderr
+    lines = [[c.strip() for c in line.split("│")[1:-1]] for line in shown.stdout.splitlines()
+             if line.startswith("│ 2")]
+    outside = [r for r in lines if r[2] == "outside formdb"]
+    assert [(r[1], r[3], r[4], r[5]) for r in outside] == [(team.login("ed"), "page", "", "123")]
+    assert outside[0][6].startswith("changed outside formdb")
+    assert [(r[1], r[3], r[5]) for r in lines if r[2] == "edit"] == [
+        (team.login("ed"), "note", "checked at the bench")]

@@ -44,7 +44,12 @@ from formdb.services.library.ingredient_fields import (
     property_kind,
     split_list,
 )
-from formdb.services.library.ingredient_log import Fields, fields_of, typed_changes
+from formdb.services.library.ingredient_log import (
+    LIST_FIELDS,
+    Fields,
+    fields_of,
+    typed_changes,
+)
 from formdb.services.library.ingredient_rows import (
     Cells,
     empty_cells,
@@ -54,6 +59,13 @@ from formdb.services.library.ingredient_rows import (
     read_ingredient_rows,
     render_ingredient,
     validate_cells,
+)
+from formdb.services.library.outside_changes import (
+    OUTSIDE,
+    atom_changes,
+    ingredient_outside,
+    logged_ingredient_atoms,
+    marked,
 )
 from formdb.services.library.tables import (
     Problem,
@@ -246,7 +258,14 @@ def ingredient_history(session: Session, name: str) -> list[HistoryEntry]:
         payload = read_payload(r.payload)
         entries.append(HistoryEntry(r.at, r.user, r.action, r.entity_version, payload.changes,
                                     r.reason, payload.via))
-    return entries
+    logged = [atom for e in entries
+              for atom in logged_ingredient_atoms(e.user, e.changes, LIST_FIELDS)]
+    for change, atoms in ingredient_outside(session, ing.id, logged):
+        at = utc(change.at)
+        entries.append(HistoryEntry(
+            at, change.login, OUTSIDE, None,
+            tuple(LoggedChange(**c) for c in atom_changes(atoms)), marked(change.login, at)))
+    return sorted(entries, key=lambda e: utc(e.at))
 
 
 # --- writing ---------------------------------------------------------------------------------

@@ -17,6 +17,7 @@ from datetime import UTC, date, datetime
 from pathlib import Path
 from typing import Any
 
+from sqlalchemy import inspect as sa_inspect
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
@@ -25,7 +26,15 @@ from formdb.schemas.admin import Action
 from formdb.schemas.cells import format_number
 from formdb.schemas.change_log import value_text
 from formdb.schemas.suggest import did_you_mean
+from formdb.schemas.times import utc
 from formdb.services.admin.access import require
+from formdb.services.library.outside_changes import (
+    OUTSIDE,
+    marked,
+    norm,
+    server_atoms,
+    unexplained,
+)
 from formdb.services.library.tables import Problem, raise_problems, read_table, write_table
 from formdb.store.change_log import changes_of, log_entry
 from formdb.store.models import Base, ChangeLogEntry
@@ -268,9 +277,44 @@ def record_history(session: Session, kind: RecordKind, key: str) -> list[RecordH
         select(ChangeLogEntry).where(ChangeLogEntry.entity == kind.entity,
                                      ChangeLogEntry.entity_key == name)
         .order_by(ChangeLogEntry.at, ChangeLogEntry.id)))
-    if not rows:
+    outside = _outside(session, kind, name, rows)
+    if not rows and not outside:
         _get(session, kind, key)  # the NotFound with suggestions
-    return history_entries(rows)
+    return sorted([*history_entries(rows), *outside], key=lambda e: utc(e.at))
+
+
+def _outside(session: Session, kind: RecordKind, name: str, rows: Sequence[ChangeLogEntry],
+             ) -> list[RecordHistoryEntry]:
+    """The server-recorded changes of the record that its change log does not hold (made
+    around formdb; PostgreSQL only), one line per changed cell."""
+    mapper = sa_inspect(kind.model)
+    key = tuple(c.name for c in mapper.primary_key)
+    columns = [c.key for c in mapper.column_attrs]
+    table_name = str(kind.model.__tablename__)
+
+    def cells(row: Mapping[str, Any] | None) -> Cells | None:
+        if row is None:
+            return None
+        return kind.cells_of(session, kind.model(**{c: row.get(c) for c in columns}))
+
+    def mine(row: Mapping[str, Any]) -> bool:
+        held = cells(row)
+        return held is not None and key_text(kind, held) == name
+
+    def atoms(old: Mapping[str, Any] | None, new: Mapping[str, Any] | None,
+              ) -> list[tuple[str, str, str | None, str | None]]:
+        before, after = cells(old) or {}, cells(new) or {}
+        return [(c, "value", norm(before.get(c)), norm(after.get(c))) for c in kind.columns
+                if norm(before.get(c)) != norm(after.get(c))]
+
+    logged = [(r.user, str(change.get("field")), "value", norm(cell_text(change.get("old"))),
+               norm(cell_text(change.get("new"))))
+              for r in rows for change in changes_of(r.payload)]
+    server = server_atoms(session, {table_name: (key, mine, atoms)})
+    return [RecordHistoryEntry(utc(change.at), change.login, OUTSIDE, field, old, new,
+                               marked(change.login, utc(change.at)))
+            for change, left in unexplained(server, logged)
+            for _login, field, _part, old, new in left]
 
 
 def history_entries(rows: Sequence[ChangeLogEntry]) -> list[RecordHistoryEntry]:
