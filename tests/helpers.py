@@ -168,3 +168,32 @@ def recorded_as(url: str, name: str) -> str:
 
 def _as_sqlalchemy(url: str) -> str:
     return url if "://" in url else f"sqlite:///{url}"
+
+
+def drop_roles(pg_url: str, prefix: str) -> None:
+    """Drop the test's login and group roles (names starting with ``prefix``).
+
+    Roles and database privileges live in catalogs every test worker shares: a DROP OWNED BY
+    here and a GRANT CONNECT of another worker's grant-setup update the same row, and the
+    loser fails with 'tuple concurrently updated' instead of waiting. The same advisory lock
+    as grant-setup queues them; a clash with a grant in another database is retried."""
+    admin = create_engine(pg_url)
+    try:
+        for attempt in range(5):
+            try:
+                with admin.begin() as conn:
+                    conn.execute(text(
+                        "SELECT pg_advisory_xact_lock(hashtext('formdb grant-setup'))"))
+                    roles = conn.execute(
+                        text("SELECT rolname FROM pg_roles WHERE rolname LIKE :p"),
+                        {"p": f"{prefix}%"}).scalars().all()
+                    for role in roles:
+                        conn.execute(text(f'DROP OWNED BY "{role}"'))
+                    for role in roles:
+                        conn.execute(text(f'DROP ROLE "{role}"'))
+                return
+            except Exception as exc:
+                if "tuple concurrently updated" not in str(exc) or attempt == 4:
+                    raise
+    finally:
+        admin.dispose()

@@ -13,7 +13,7 @@ from sqlalchemy import create_engine, text
 from sqlalchemy.engine import make_url
 from sqlalchemy.exc import ProgrammingError
 
-from tests.helpers import run_formdb
+from tests.helpers import drop_roles, run_formdb
 
 pytestmark = [pytest.mark.slow, pytest.mark.postgres]
 
@@ -22,17 +22,7 @@ pytestmark = [pytest.mark.slow, pytest.mark.postgres]
 def prefix(pg_url: str) -> Iterator[str]:
     name = f"fdbt_{uuid4().hex[:8]}"
     yield name
-    admin = create_engine(pg_url, isolation_level="AUTOCOMMIT")
-    try:
-        with admin.connect() as conn:
-            roles = conn.execute(text("SELECT rolname FROM pg_roles WHERE rolname LIKE :p"),
-                                 {"p": f"{name}%"}).scalars().all()
-            for role in roles:
-                conn.execute(text(f'DROP OWNED BY "{role}"'))
-            for role in roles:
-                conn.execute(text(f'DROP ROLE "{role}"'))
-    finally:
-        admin.dispose()
+    drop_roles(pg_url, name)
 
 
 def _login(pg_url: str, prefix: str, duty: str) -> str:

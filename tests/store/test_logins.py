@@ -18,7 +18,7 @@ from sqlalchemy.engine import make_url
 from sqlalchemy.exc import DBAPIError
 
 from tests.fixtures.tables.library_setup import build_library
-from tests.helpers import dump_database, run_formdb
+from tests.helpers import drop_roles, dump_database, run_formdb
 
 pytestmark = [pytest.mark.slow, pytest.mark.postgres]
 
@@ -79,17 +79,7 @@ def team(pg_url: str) -> Iterator[Team]:
 
 
 def _drop_roles(pg_url: str, prefix: str) -> None:
-    admin = create_engine(pg_url, isolation_level="AUTOCOMMIT")
-    try:
-        with admin.connect() as conn:
-            roles = conn.execute(text("SELECT rolname FROM pg_roles WHERE rolname LIKE :p"),
-                                 {"p": f"{prefix}%"}).scalars().all()
-            for role in roles:
-                conn.execute(text(f'DROP OWNED BY "{role}"'))
-            for role in roles:
-                conn.execute(text(f'DROP ROLE "{role}"'))
-    finally:
-        admin.dispose()
+    drop_roles(pg_url, prefix)
 
 
 def _rows(url: str, sql: str) -> list[tuple[object, ...]]:
