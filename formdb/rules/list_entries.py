@@ -328,7 +328,13 @@ class ListEntryLimits(Rule):
                   f"{outcome.text} ({because})"
         advice = "nothing to do: the part that applies is met; keep the product and purpose"
         if outcome.status == OVER:
-            advice = f"reduce {item.record.inci_name} below the maximum of the part that applies"
+            fixes = []
+            if " is over" in outcome.text:
+                fixes.append(f"reduce {item.record.inci_name} below the maximum of the part "
+                             "that applies")
+            if " is outside " in outcome.text:  # a pH limit of the part
+                fixes.append("adjust the product's pH into the range of the part that applies")
+            advice = "; ".join(fixes) or f"reduce {item.record.inci_name}"
         elif outcome.status == NOT_ALLOWED:
             advice = f"remove {item.record.inci_name}, or use it in a product the entry covers"
         elif outcome.status == OPEN:
