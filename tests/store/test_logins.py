@@ -9,7 +9,9 @@ from __future__ import annotations
 import json
 import subprocess
 import sys
+import zipfile
 from collections.abc import Iterator
+from pathlib import Path
 from uuid import uuid4
 
 import pytest
@@ -18,7 +20,7 @@ from sqlalchemy.engine import make_url
 from sqlalchemy.exc import DBAPIError
 
 from tests.fixtures.tables.library_setup import build_library
-from tests.helpers import drop_roles, dump_database, run_formdb
+from tests.helpers import drop_roles, dump_database, fresh_pg_schema, run_formdb
 
 pytestmark = [pytest.mark.slow, pytest.mark.postgres]
 
@@ -367,3 +369,115 @@ def test_plain_sql_change_shows_in_a_source_history_once(team: Team) -> None:
     assert outside[0][6].startswith("changed outside formdb")
     assert [(r[1], r[3], r[5]) for r in lines if r[2] == "edit"] == [
         (team.login("ed"), "note", "checked at the bench")]
+
+
+# --- the history-rewriting attacks, as on SQLite (tests/cli/test_destructive_commands.py) ----
+
+BELOW_AUDIT = "0010_mixture_constituents"
+
+
+@pytest.fixture
+def owned_team(pg_url: str) -> Iterator[Team]:
+    """A team whose first admin is the tables' owner (the README's set-up: migrations,
+    downgrades and restores run as the owner), then one login per duty."""
+    prefix = f"fdbl_{uuid4().hex[:8]}"
+    url = build_library(pg_url)
+    made = run_formdb(["--db", url, "db", "grant-setup", "--prefix", prefix])
+    assert made.exit_code == 0, made.stderr
+    t = Team(url, prefix)
+    try:
+        owner = make_url(url).username or ""
+        first = run_formdb(["--db", url, "user", "add", owner, "--role", "admin", "--prefix",
+                            prefix, "--yes"])
+        assert first.exit_code == 0, first.stderr
+        for who, role in (("boss", "admin"), ("ed", "editor"), ("fay", "formulator"),
+                          ("rita", "reviewer")):
+            added = run_formdb(["--db", url, "user", "add", t.login(who), "--role", role,
+                                "--prefix", prefix, "--yes"])
+            assert added.exit_code == 0, added.stderr
+        yield t
+    finally:
+        _drop_roles(pg_url, prefix)
+
+
+def test_stepping_down_rewriting_the_log_and_up_is_refused_or_caught(owned_team: Team,
+                                                                   ) -> None:
+    """Issue 13: step down below the audit revision, edit the log with SQL, step up, and the
+    upgrade sealed the rewrite. On the server: the downgrade is refused while sealed rows
+    exist (to the admin login and to the tables' owner alike), no writer login may touch the
+    log, and a rewrite by the owner between a downgrade and an upgrade stops the upgrade."""
+    from formdb.services.admin.database import history
+    from formdb.store.db import head_revision
+
+    team = owned_team
+
+    before = dump_database(team.url)
+    for acting in (team.as_("boss"), team.url):
+        refused = run_formdb(["--db", acting, "db", "downgrade", BELOW_AUDIT, "--yes",
+                              "--discard-sealed-history"])
+        assert refused.exit_code == 2, refused.stdout
+        assert len(refused.stderr.strip().splitlines()) == 1, refused.stderr
+        # the admin login: the server refuses (no DDL rights); the owner: the identity
+        # trigger refuses the rows the downgrade's rehearsal would rewrite under another
+        # name, before formdb's own refusal (seen 2026-12-04; either way nothing changes)
+        assert refused.stderr.startswith("Error: ") and "internal problem" not in \
+            refused.stderr, refused.stderr
+        assert any(words in refused.stderr for words in (
+            "refused while sealed audit records exist", "the database refused")), refused.stderr
+    assert dump_database(team.url) == before
+    # no writer login rewrites a sealed row with plain SQL
+    for who in ("ed", "fay", "rita", "boss"):
+        assert "permission denied" in team.refused(
+            who, "UPDATE change_log SET reason = 'rewritten'")
+    # the owner can (the server does not stop it): one step down, rewrite, up again
+    head = head_revision()
+    previous = next(r.down_revision for r in history(None) if r.revision == head)
+    assert previous is not None
+    down = run_formdb(["--db", team.url, "db", "downgrade", str(previous), "--yes"])
+    assert down.exit_code == 0, down.stderr
+    team_owner = create_engine(team.url)
+    try:
+        with team_owner.begin() as conn:
+            row = conn.execute(text("SELECT min(id) FROM change_log")).scalar_one()
+            conn.execute(text("UPDATE change_log SET reason = 'rewritten' WHERE id = :i"),
+                         {"i": row})
+    finally:
+        team_owner.dispose()
+    stepped_down = dump_database(team.url)
+    up = run_formdb(["--db", team.url, "db", "upgrade"])
+    assert up.exit_code == 2, up.stdout
+    assert "is broken" in up.stderr and "the upgrade stopped" in up.stderr, up.stderr
+    assert len(up.stderr.strip().splitlines()) == 1
+    assert dump_database(team.url) == stepped_down  # nothing resealed, still one step down
+
+
+def test_a_forged_archive_is_refused_on_the_server(owned_team: Team, pg_server: str,
+                                                   tmp_path: Path) -> None:
+    """Issue 13: `db restore` must verify the chains it restores: a backup whose change log
+    names someone else is refused, naming the broken row, and the target is left empty."""
+    team = owned_team
+    archive = tmp_path / "library.zip"
+    made = run_formdb(["--db", team.url, "db", "backup", str(archive)])
+    assert made.exit_code == 0, made.stderr
+    forged = tmp_path / "forged.zip"
+    with zipfile.ZipFile(archive) as src, zipfile.ZipFile(forged, "w") as dst:
+        for item in src.infolist():
+            data = src.read(item)
+            if item.filename == "tables/change_log.jsonl":
+                rows = [json.loads(line) for line in data.decode().splitlines()]
+                rows[1]["user"] = "Dr. Head of QA"  # a row naming someone else
+                data = "".join(json.dumps(r) + "\n" for r in rows).encode()
+            dst.writestr(item, data)
+    with fresh_pg_schema(pg_server) as target:
+        before = dump_database(target)
+        refused = run_formdb(["--db", target, "db", "restore", str(forged), "--yes"])
+        assert refused.exit_code == 2, refused.stdout
+        assert refused.stderr.startswith(
+            f"Error: {forged}: the audit trail in the backup is broken or forged: change_log: "
+            "row 2 was altered"), refused.stderr
+        assert len(refused.stderr.strip().splitlines()) == 1
+        assert dump_database(target) == before
+        # the genuine archive restores
+        done = run_formdb(["--db", target, "db", "restore", str(archive), "--yes"])
+        assert done.exit_code == 0, done.stderr
+        assert "audit chains verified: intact" in done.stdout
