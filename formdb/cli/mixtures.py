@@ -95,7 +95,7 @@ def history_cmd(app: AppContext, library: Library, name: str) -> None:
 
     with library.read() as session:
         entries = mixture_history(session, name)
-    click.echo(record_history(entries), nl=False)
+    click.echo(record_history(entries, dialect=library.dialect), nl=False)
 
 
 @mixture_group.command("import")

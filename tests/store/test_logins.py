@@ -481,3 +481,21 @@ def test_a_forged_archive_is_refused_on_the_server(owned_team: Team, pg_server: 
         done = run_formdb(["--db", target, "db", "restore", str(archive), "--yes"])
         assert done.exit_code == 0, done.stderr
         assert "audit chains verified: intact" in done.stdout
+
+
+def test_plain_sql_change_of_a_mixture_shows_in_its_history(team: Team) -> None:
+    """A mixture's declared share changed with plain SQL shows in `mixture history`."""
+    blend = "Larkspur Test Blend"
+    assert team.formdb("ed", "ingredient", "add", blend, "--role", "emulsifier").exit_code == 0
+    made = team.formdb("ed", "mixture", "set", blend, "--part", "Polysorbate 80=60", "--part",
+                       "Glycerin=40", "--source", "rule-of-thumb")
+    assert made.exit_code == 0, made.stderr
+    team.sql("ed", "UPDATE mixture_constituents SET percent = 55 WHERE percent = 60")
+    shown = team.formdb("boss", "mixture", "history", blend)
+    assert shown.exit_code == 0, shown.stderr
+    lines = [[c.strip() for c in line.split("│")[1:-1]] for line in shown.stdout.splitlines()
+             if line.startswith("│ 2")]
+    outside = [r for r in lines if r[2] == "outside formdb"]
+    assert [(r[1], r[3], r[4], r[5]) for r in outside] == [
+        (team.login("ed"), "Polysorbate 80", "60", "55")]
+    assert len([r for r in lines if r[2] != "outside formdb"]) == 2  # formdb's own, once

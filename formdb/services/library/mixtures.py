@@ -26,12 +26,21 @@ from formdb.errors import InvalidData, NotFound
 from formdb.schemas.admin import Action
 from formdb.schemas.cells import format_number
 from formdb.schemas.ingredient import IngredientRecord, name_key
+from formdb.schemas.times import utc
 from formdb.science.hlb import blend_hlb
 from formdb.services.admin.access import require
+from formdb.services.library.outside_changes import (
+    OUTSIDE,
+    Atom,
+    marked,
+    norm,
+    server_atoms,
+    unexplained,
+)
 from formdb.services.library.records import read_columns, unknown_key
 from formdb.services.library.tables import Problem, raise_problems, write_table
 from formdb.store.change_log import changes_of, log_entry
-from formdb.store.models import ChangeLogEntry, MixtureConstituent, Source
+from formdb.store.models import ChangeLogEntry, Ingredient, MixtureConstituent, Source
 from formdb.store.queries import find_ingredients, records_by_id
 
 ENTITY = "mixture"
@@ -390,9 +399,44 @@ def mixture_history(session: Session, name: str) -> list[Any]:
         percent, source = change.get(side), change.get(f"{side}_source")
         return None if percent is None else _text((percent, source or ""))
 
-    return [RecordHistoryEntry(r.at, r.user, r.action, change.get("field"),
-                               share(change, "old"), share(change, "new"), r.reason)
-            for r in rows for change in changes_of(r.payload) or [{}]]
+    held = list(rows)
+    logged = [(r.user, str(change.get("field")), part, norm(change.get(f"old{suffix}")),
+               norm(change.get(f"new{suffix}")))
+              for r in held for change in changes_of(r.payload)
+              for part, suffix in (("value", ""), ("source", "_source"))
+              if norm(change.get(f"old{suffix}")) != norm(change.get(f"new{suffix}"))]
+    entries = [RecordHistoryEntry(r.at, r.user, r.action, change.get("field"),
+                                  share(change, "old"), share(change, "new"), r.reason)
+               for r in held for change in changes_of(r.payload) or [{}]]
+    entries += [RecordHistoryEntry(utc(c.at), c.login, OUTSIDE,
+                                   field if part == "value" else f"{field} source", old, new,
+                                   marked(c.login, utc(c.at)))
+                for c, atoms in _outside(session, view.name, logged)
+                for _login, field, part, old, new in atoms]
+    return sorted(entries, key=lambda e: utc(e.at))
+
+
+def _outside(session: Session, name: str, logged: list[Atom]) -> list[tuple[Any, list[Atom]]]:
+    """Server-recorded changes of the mixture's constituents its change log does not hold."""
+    mixture_id = session.scalar(select(Ingredient.id).where(Ingredient.inci_name == name))
+
+    def atoms(old: Mapping[str, Any] | None, new: Mapping[str, Any] | None,
+              ) -> list[tuple[str, str, str | None, str | None]]:
+        either = new or old or {}
+        constituent = session.get(Ingredient, either.get("constituent_id"))
+        field = constituent.inci_name if constituent else str(either.get("constituent_id"))
+        out = []
+        for part, column in (("value", "percent"), ("source", "source_key")):
+            before = norm(old.get(column)) if old else None
+            after = norm(new.get(column)) if new else None
+            if before != after:
+                out.append((field, part, before, after))
+        return out
+
+    server = server_atoms(session, {"mixture_constituents": (
+        ("mixture_id", "constituent_id"), lambda row: row.get("mixture_id") == mixture_id,
+        atoms)})
+    return list(unexplained(server, logged))
 
 
 def export_mixtures(session: Session, path: Path) -> int:
