@@ -29,6 +29,7 @@ understanding.
 from __future__ import annotations
 
 from collections.abc import Mapping
+from dataclasses import dataclass
 from typing import Any, Literal
 
 from pydantic import BaseModel, ConfigDict
@@ -126,5 +127,20 @@ def describe_change(change: Mapping[str, Any] | LoggedChange) -> str:
     return f"{field}: {', '.join(moved)}"
 
 
-__all__ = ["CHANGE_PARTS", "PAYLOAD_VERSION", "ChangePayload", "LoggedChange", "SealedText",
-           "describe_change", "read_payload", "value_text"]
+@dataclass(frozen=True)
+class FieldChange:
+    """One field of a record as a person reads it in a table cell: old -> new, as text.
+
+    What an import, an edit or a dry run reports (ingredients and the other library records
+    alike); the change log itself keeps the values as data (``LoggedChange``)."""
+
+    field: str
+    old: str
+    new: str
+
+    def describe(self) -> str:
+        return f"{self.field}: {self.old or '(none)'} -> {self.new or '(none)'}"
+
+
+__all__ = ["CHANGE_PARTS", "PAYLOAD_VERSION", "ChangePayload", "FieldChange", "LoggedChange",
+           "SealedText", "describe_change", "read_payload", "value_text"]

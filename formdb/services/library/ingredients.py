@@ -21,7 +21,7 @@ from sqlalchemy.orm.exc import StaleDataError
 
 from formdb.errors import Conflict, InvalidData, NotFound
 from formdb.schemas.admin import Action
-from formdb.schemas.change_log import LoggedChange, read_payload
+from formdb.schemas.change_log import FieldChange, LoggedChange, read_payload
 from formdb.schemas.ingredient import (
     PROPERTY_NAMES,
     IngredientIn,
@@ -98,16 +98,6 @@ SPECIAL_SOURCES: dict[str, tuple[str, str]] = {
 }
 _CHUNK = 500
 _BULK_CHUNK = 1000  # new ingredients per bulk insert
-
-
-@dataclass(frozen=True)
-class FieldChange:
-    field: str
-    old: str
-    new: str
-
-    def describe(self) -> str:
-        return f"{self.field}: {self.old or '(none)'} -> {self.new or '(none)'}"
 
 
 @dataclass

@@ -24,7 +24,7 @@ from sqlalchemy.orm import Session
 from formdb.errors import Conflict, InvalidData, NotFound
 from formdb.schemas.admin import Action
 from formdb.schemas.cells import format_number
-from formdb.schemas.change_log import value_text
+from formdb.schemas.change_log import FieldChange, value_text
 from formdb.schemas.suggest import did_you_mean
 from formdb.schemas.times import utc
 from formdb.services.admin.access import require
@@ -68,16 +68,6 @@ class RecordKind:
         return self.plural or f"{self.entity}s"
 
 
-@dataclass(frozen=True)
-class CellChange:
-    field: str
-    old: str
-    new: str
-
-    def describe(self) -> str:
-        return f"{self.field}: {self.old or '(none)'} -> {self.new or '(none)'}"
-
-
 @dataclass
 class RecordChanges:
     """What an add, edit or import did (or, with ``dry_run``, would do)."""
@@ -85,7 +75,7 @@ class RecordChanges:
     entity: str
     dry_run: bool = False
     added: list[str] = field(default_factory=list)
-    changed: dict[str, list[CellChange]] = field(default_factory=dict)
+    changed: dict[str, list[FieldChange]] = field(default_factory=dict)
     unchanged: list[str] = field(default_factory=list)
     warnings: list[str] = field(default_factory=list)
 
@@ -145,7 +135,7 @@ def _stored(session: Session, kind: RecordKind, key: tuple[Any, ...]) -> Base | 
     return session.get(kind.model, key)
 
 
-def _log(session: Session, kind: RecordKind, name: str, changes: Sequence[CellChange],
+def _log(session: Session, kind: RecordKind, name: str, changes: Sequence[FieldChange],
          held: Base | None, values: Mapping[str, Any], *, action: str, user: str,
          reason: str | None, at: datetime) -> None:
     """One change-log entry for the record: each changed column's old and new value as data
@@ -162,8 +152,8 @@ def _log(session: Session, kind: RecordKind, name: str, changes: Sequence[CellCh
                           entity_version=None, action=action, changes=typed, reason=reason))
 
 
-def _diff(kind: RecordKind, old: Mapping[str, str], new: Mapping[str, str]) -> list[CellChange]:
-    return [CellChange(c, old.get(c, ""), new.get(c, "")) for c in kind.columns
+def _diff(kind: RecordKind, old: Mapping[str, str], new: Mapping[str, str]) -> list[FieldChange]:
+    return [FieldChange(c, old.get(c, ""), new.get(c, "")) for c in kind.columns
             if old.get(c, "") != new.get(c, "")]
 
 
@@ -172,7 +162,7 @@ def _apply(session: Session, kind: RecordKind, plans: Sequence[tuple[int, tuple[
            reason: str | None) -> None:
     """Compare each validated row with the library and (unless a dry run) write the change."""
     now = datetime.now(UTC)
-    writes: list[tuple[Base | None, dict[str, Any], str, list[CellChange]]] = []
+    writes: list[tuple[Base | None, dict[str, Any], str, list[FieldChange]]] = []
     for _row, key, values in plans:
         held = _stored(session, kind, key)
         candidate = kind.model(**values)
@@ -398,7 +388,7 @@ def unknown_key(known: Mapping[str, Any] | set[str], key: str, what: str) -> str
 
 
 __all__ = [
-    "CellChange", "RecordChanges", "RecordHistoryEntry", "RecordKind", "add_record",
+    "FieldChange", "RecordChanges", "RecordHistoryEntry", "RecordKind", "add_record",
     "blank_to_none", "cell_text", "edit_record", "export_records", "import_records",
     "list_records", "parse_assignments", "record_history", "show_record",
 ]
