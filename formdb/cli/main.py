@@ -244,6 +244,11 @@ def _run(args: list[str]) -> None:
     except click.exceptions.Abort:
         click.echo("Error: aborted.", err=True)
         sys.exit(2)
+    except click.UsageError as exc:  # a mistyped option or argument: one line, as bad input
+        where = exc.ctx.command_path if exc.ctx is not None else "formdb"
+        said = exc.format_message().rstrip(".")
+        click.echo(f"Error: {said} (see '{where} --help').", err=True)
+        sys.exit(2)
     except click.ClickException as exc:
         exc.show()
         sys.exit(2 if exc.exit_code == 2 else exc.exit_code)
