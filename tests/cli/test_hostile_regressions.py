@@ -150,6 +150,19 @@ def test_old_mac_line_endings_import(library_url: str, tmp_path: Path) -> None:
     assert shown.exit_code == 0 and "rule-of-thumb" in shown.stdout
 
 
+@pytest.mark.parametrize("unit", ["\u00ac\U000c09ad\x8b", "g/(", "**", "g/mL)("])
+def test_a_garbled_unit_is_refused_with_its_cell(library_url: str, tmp_path: Path,
+                                                 unit: str) -> None:
+    """Found by the fuzz suite: pint's parser asserted on some unit text (an internal error)."""
+    path = tmp_path / "units.csv"
+    path.write_text(f"inci_name,density,source\nLarkspur Unit Oil,0.9 {unit},rule-of-thumb\n",
+                    encoding="utf-8")
+    before = dump_database(library_url)
+    result = run_formdb(["--db", library_url, "ingredient", "import", str(path)])
+    _refused(result, "row 2", "density")
+    assert dump_database(library_url) == before
+
+
 @pytest.mark.parametrize("size", [40_000, 140_000])
 def test_a_huge_cell_is_refused_with_its_row(library_url: str, tmp_path: Path, size: int) -> None:
     path = tmp_path / "big.csv"

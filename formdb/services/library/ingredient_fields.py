@@ -137,6 +137,10 @@ def _units() -> pint.UnitRegistry[Any]:
     ])
 
 
+# what a unit may be written with: ASCII unit words, digits, operators, %, the · ³ ² pint reads
+_UNIT_TEXT = re.compile(r"[A-Za-z0-9/*^.()%·³² -]+")
+
+
 def _convert(prop: str, text: str, number: float, unit_text: str) -> float:
     canonical = IngredientProperties.unit_of(prop)
     expected = (f"a number in {canonical}" if canonical not in ("", "pH")
@@ -147,6 +151,9 @@ def _convert(prop: str, text: str, number: float, unit_text: str) -> float:
     target = _PINT_UNITS.get(canonical)
     if target is None:
         raise FieldProblem(f"{text!r} carries the unit {unit_text!r}, but {prop} takes {expected}")
+    if not _UNIT_TEXT.fullmatch(unit_text):  # pint's parser is for unit words, not any text
+        raise FieldProblem(f"{text!r} has a unit formdb does not know ({unit_text!r}); "
+                           f"{prop} takes {expected}")
     registry = _units()
     import pint
 
@@ -155,8 +162,8 @@ def _convert(prop: str, text: str, number: float, unit_text: str) -> float:
     except pint.DimensionalityError:
         raise FieldProblem(f"{text!r} has the wrong kind of unit for {prop}: {unit_text!r} "
                            f"cannot be converted to {canonical}; {prop} takes {expected}") from None
-    except (pint.UndefinedUnitError, pint.errors.DefinitionSyntaxError, AttributeError,
-            TypeError, ValueError, SyntaxError):
+    except Exception:  # pint's parser of untrusted text: asserts, token errors, ... all mean
+        # the same to the person who typed the cell: formdb cannot read that unit
         raise FieldProblem(f"{text!r} has a unit formdb does not know ({unit_text!r}); "
                            f"{prop} takes {expected}") from None
     return float(f"{float(converted):.12g}")  # 850 kg/m3 is 0.85, not 0.8500000000000002
