@@ -11,6 +11,8 @@ from __future__ import annotations
 
 import ast
 import re
+import sqlite3
+import time
 from collections.abc import Iterator
 from contextlib import contextmanager
 from pathlib import Path
@@ -85,9 +87,32 @@ def _sqlite_connect_settings(dbapi_connection: Any, _record: Any) -> None:
     try:
         cursor.execute("PRAGMA foreign_keys=ON")
         cursor.execute(f"PRAGMA busy_timeout={BUSY_TIMEOUT_MS}")
-        cursor.execute("PRAGMA journal_mode=WAL")
+        _use_write_ahead_log(cursor)
     finally:
         cursor.close()
+
+
+def _use_write_ahead_log(cursor: Any) -> None:
+    """Switch the file to WAL once (the mode persists in the file), waiting out a lock.
+
+    Changing the journal mode needs an exclusive lock, and SQLite may answer "database is locked"
+    at once instead of calling the busy handler when another connection (a second ``init`` on a
+    fresh file) holds one; so the switch is retried until the busy timeout has passed.
+    """
+    deadline = time.monotonic() + BUSY_TIMEOUT_MS / 1000
+    while True:
+        try:
+            mode = cursor.execute("PRAGMA journal_mode").fetchone()[0]
+            if str(mode).lower() in ("wal", "memory"):
+                return
+            cursor.execute("PRAGMA journal_mode=WAL")
+            return
+        except sqlite3.OperationalError as exc:
+            if "locked" not in str(exc) and "busy" not in str(exc):
+                raise
+            if time.monotonic() >= deadline:
+                raise
+            time.sleep(0.05)
 
 
 WRITE_LOCK = "formdb_write_lock"  # execution option: take the write lock at BEGIN
