@@ -36,6 +36,12 @@ def test_demo_command_exits_zero_and_prints_every_formula(tmp_path) -> None:
         "screening aid" in result.output.lower()
 
 
+def test_demo_names_each_formula_by_its_bundled_file_not_the_install_path(demo) -> None:
+    """A reader looks the formula up in the repository; site-packages paths help nobody."""
+    assert [r.source for r in demo.results] == [
+        f"seed_data/demo/{path.name}" for path in demo.files]
+
+
 def test_sound_cream_has_no_errors_or_warnings(demo) -> None:
     result = _by_name(demo, "LB-110")
     assert _codes(result, "error") == set() and _codes(result, "warning") == set()

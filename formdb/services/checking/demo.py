@@ -14,7 +14,7 @@ from pathlib import Path
 from formdb.errors import ConfigError
 from formdb.resources import seed_data_dir
 from formdb.schemas.demo import DemoRun
-from formdb.services.checking.flow import check_files
+from formdb.services.checking.flow import check_inputs, input_from_text
 from formdb.services.checking.report_context import limit_snapshots
 from formdb.services.library.formulas import import_formulas
 from formdb.services.seed.setup import init_library
@@ -51,7 +51,10 @@ def run_demo(*, keep: Path | None = None, user: str = "demo") -> DemoRun:
     with Library.open(url) as opened:
         import_formulas(opened, paths, user=user, reason="demo formulas of the invented lab")
         with opened.read():
-            results = check_files(opened, paths)
+            # labelled by their place in the repository, not by where pip installed them
+            results = check_inputs(opened, [
+                input_from_text(p.read_text(encoding="utf-8"), f"seed_data/demo/{p.name}")
+                for p in paths])
             snapshots = limit_snapshots(opened)
     return DemoRun(library=library, results=results, files=paths,
                    purposes=[formula_purpose(p) for p in paths], snapshots=snapshots)
