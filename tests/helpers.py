@@ -11,9 +11,9 @@ from uuid import uuid4
 
 from click.testing import CliRunner
 from sqlalchemy import MetaData, create_engine, func, select, text
-from sqlalchemy.engine import make_url
+from sqlalchemy.engine import Connection, make_url
 
-from formdb.store.db import make_engine
+from formdb.store.db import in_role_catalog_transaction, make_engine
 from formdb.store.sealing import FORMS, SEALED_COLUMNS
 
 PG_ENV = "FORMDB_TEST_PG_URL"
@@ -171,29 +171,18 @@ def _as_sqlalchemy(url: str) -> str:
 
 
 def drop_roles(pg_url: str, prefix: str) -> None:
-    """Drop the test's login and group roles (names starting with ``prefix``).
+    """Drop the test's login and group roles (names starting with ``prefix``), queued with
+    grant-setup on the shared role catalogs (store.db.in_role_catalog_transaction)."""
+    def drop(conn: Connection) -> None:
+        roles = conn.execute(text("SELECT rolname FROM pg_roles WHERE rolname LIKE :p"),
+                             {"p": f"{prefix}%"}).scalars().all()
+        for role in roles:
+            conn.execute(text(f'DROP OWNED BY "{role}"'))
+        for role in roles:
+            conn.execute(text(f'DROP ROLE "{role}"'))
 
-    Roles and database privileges live in catalogs every test worker shares: a DROP OWNED BY
-    here and a GRANT CONNECT of another worker's grant-setup update the same row, and the
-    loser fails with 'tuple concurrently updated' instead of waiting. The same advisory lock
-    as grant-setup queues them; a clash with a grant in another database is retried."""
     admin = create_engine(pg_url)
     try:
-        for attempt in range(5):
-            try:
-                with admin.begin() as conn:
-                    conn.execute(text(
-                        "SELECT pg_advisory_xact_lock(hashtext('formdb grant-setup'))"))
-                    roles = conn.execute(
-                        text("SELECT rolname FROM pg_roles WHERE rolname LIKE :p"),
-                        {"p": f"{prefix}%"}).scalars().all()
-                    for role in roles:
-                        conn.execute(text(f'DROP OWNED BY "{role}"'))
-                    for role in roles:
-                        conn.execute(text(f'DROP ROLE "{role}"'))
-                return
-            except Exception as exc:
-                if "tuple concurrently updated" not in str(exc) or attempt == 4:
-                    raise
+        in_role_catalog_transaction(admin, drop)
     finally:
         admin.dispose()

@@ -13,10 +13,10 @@ import ast
 import re
 import sqlite3
 import time
-from collections.abc import Iterator
+from collections.abc import Callable, Iterator
 from contextlib import contextmanager
 from pathlib import Path
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING, Any, TypeVar
 
 from sqlalchemy import Engine, create_engine, event, inspect, text
 from sqlalchemy.engine import URL, Connection, make_url
@@ -31,6 +31,8 @@ from formdb.store.sealing import LibrarySession
 
 if TYPE_CHECKING:  # alembic is imported where a command migrates, not to open a library
     from alembic.config import Config
+
+T = TypeVar("T")
 
 BUSY_TIMEOUT_MS = 10_000
 _URL_HINT = ("give a SQLite file path such as formdb.sqlite or a "
@@ -492,3 +494,27 @@ def upgraded_unit_of_work(engine: Engine) -> Iterator[Session]:
         if problem is not None:
             raise problem from exc
         raise
+
+
+_ROLE_CATALOG_LOCK = "SELECT pg_advisory_xact_lock(hashtext('formdb grant-setup'))"
+_ROLE_CATALOG_ATTEMPTS = 5
+
+
+def in_role_catalog_transaction(engine: Engine, work: Callable[[Connection], T]) -> T:
+    """Run ``work`` in one transaction that changes roles or database privileges (PostgreSQL).
+
+    Those live in catalogs every database of the server shares, where two concurrent GRANTs or a
+    DROP OWNED BY on one row fail with 'tuple concurrently updated' instead of waiting. An
+    advisory lock queues formdb's own role changes; a clash with one in another database is
+    retried a few times.
+    """
+    for attempt in range(_ROLE_CATALOG_ATTEMPTS):
+        try:
+            with engine.begin() as conn:
+                conn.execute(text(_ROLE_CATALOG_LOCK))
+                return work(conn)
+        except DBAPIError as exc:
+            if "tuple concurrently updated" not in str(exc.orig) or \
+                    attempt == _ROLE_CATALOG_ATTEMPTS - 1:
+                raise
+    raise AssertionError("unreachable")

@@ -25,8 +25,7 @@ from __future__ import annotations
 
 import re
 
-from sqlalchemy import Engine, inspect, text
-from sqlalchemy.exc import DBAPIError
+from sqlalchemy import Connection, inspect, text
 
 from formdb.errors import ConfigError, InvalidData
 from formdb.schemas.admin import GrantReport
@@ -60,53 +59,38 @@ def grant_setup(url: str, prefix: str = "formdb") -> GrantReport:
         if engine.dialect.name != "postgresql":
             raise ConfigError(f"{shown} is a SQLite file: database roles exist on PostgreSQL "
                               "only.", hint="a SQLite library is protected by file permissions")
-        for attempt in range(_GRANT_ATTEMPTS):
-            try:
-                return _grant(engine, shown, prefix)
-            except DBAPIError as exc:  # two grant-setups at once on the shared catalogs
-                if "tuple concurrently updated" not in str(exc.orig) or \
-                        attempt == _GRANT_ATTEMPTS - 1:
-                    raise
-        raise AssertionError("unreachable")
+        return store.in_role_catalog_transaction(engine, lambda conn: _grant(conn, shown, prefix))
     finally:
         engine.dispose()
 
 
-_GRANT_ATTEMPTS = 5
-
-
-def _grant(engine: Engine, shown: str, prefix: str) -> GrantReport:
-    """One attempt, in one transaction. Roles and database privileges live in catalogs shared
-    by every database of the server, where two concurrent GRANTs on one row fail with 'tuple
-    concurrently updated' instead of waiting; the advisory lock queues grant-setups of one
-    database, and the caller retries the rare clash across databases."""
-    with engine.begin() as conn:
-        conn.execute(text("SELECT pg_advisory_xact_lock(hashtext('formdb grant-setup'))"))
-        tables = sorted(inspect(conn).get_table_names())
-        database = conn.execute(text("SELECT current_database()")).scalar_one()
-        schema = conn.execute(text("SELECT current_schema()")).scalar_one()
-        writes = {
-            "editor": [t for t in tables if t not in NOT_LIBRARY and not _is_review(t)],
-            "formulator": [t for t in tables if t in FORMULA_TABLES],
-            "reviewer": [t for t in tables if _is_review(t) and t not in SERVER_WRITTEN],
-            "admin": [t for t in tables if t in ADMIN_TABLES and t not in SERVER_WRITTEN],
-        }
-        roles = [f"{prefix}_{d}" for d in ("reader", *writes)]
-        for role in roles:
-            exists = conn.execute(text("SELECT 1 FROM pg_roles WHERE rolname = :r"),
-                                  {"r": role}).scalar()
-            if not exists:
-                conn.execute(text(f'CREATE ROLE "{role}" NOLOGIN'))
-            conn.execute(text(f'GRANT CONNECT ON DATABASE "{database}" TO "{role}"'))
-            conn.execute(text(f'GRANT USAGE ON SCHEMA "{schema}" TO "{role}"'))
-            conn.execute(text(f'REVOKE ALL ON ALL TABLES IN SCHEMA "{schema}" FROM "{role}"'))
-            conn.execute(text(f'GRANT SELECT ON ALL TABLES IN SCHEMA "{schema}" TO "{role}"'))
-        for duty, owned in writes.items():
-            role = f"{prefix}_{duty}"
-            for table in owned:
-                if table not in SERVER_WRITTEN:
-                    conn.execute(text(f'GRANT INSERT, UPDATE, DELETE ON '
-                                      f'"{schema}"."{table}" TO "{role}"'))
-            conn.execute(text(f'GRANT USAGE ON ALL SEQUENCES IN SCHEMA "{schema}" TO "{role}"'))
-        install(conn, schema, prefix, [f"{prefix}_{d}" for d in writes])
+def _grant(conn: Connection, shown: str, prefix: str) -> GrantReport:
+    """One attempt, inside the caller's role-catalog transaction."""
+    tables = sorted(inspect(conn).get_table_names())
+    database = conn.execute(text("SELECT current_database()")).scalar_one()
+    schema = conn.execute(text("SELECT current_schema()")).scalar_one()
+    writes = {
+        "editor": [t for t in tables if t not in NOT_LIBRARY and not _is_review(t)],
+        "formulator": [t for t in tables if t in FORMULA_TABLES],
+        "reviewer": [t for t in tables if _is_review(t) and t not in SERVER_WRITTEN],
+        "admin": [t for t in tables if t in ADMIN_TABLES and t not in SERVER_WRITTEN],
+    }
+    roles = [f"{prefix}_{d}" for d in ("reader", *writes)]
+    for role in roles:
+        exists = conn.execute(text("SELECT 1 FROM pg_roles WHERE rolname = :r"),
+                              {"r": role}).scalar()
+        if not exists:
+            conn.execute(text(f'CREATE ROLE "{role}" NOLOGIN'))
+        conn.execute(text(f'GRANT CONNECT ON DATABASE "{database}" TO "{role}"'))
+        conn.execute(text(f'GRANT USAGE ON SCHEMA "{schema}" TO "{role}"'))
+        conn.execute(text(f'REVOKE ALL ON ALL TABLES IN SCHEMA "{schema}" FROM "{role}"'))
+        conn.execute(text(f'GRANT SELECT ON ALL TABLES IN SCHEMA "{schema}" TO "{role}"'))
+    for duty, owned in writes.items():
+        role = f"{prefix}_{duty}"
+        for table in owned:
+            if table not in SERVER_WRITTEN:
+                conn.execute(text(f'GRANT INSERT, UPDATE, DELETE ON '
+                                  f'"{schema}"."{table}" TO "{role}"'))
+        conn.execute(text(f'GRANT USAGE ON ALL SEQUENCES IN SCHEMA "{schema}" TO "{role}"'))
+    install(conn, schema, prefix, [f"{prefix}_{d}" for d in writes])
     return GrantReport(shown, {f"{prefix}_{d}": t for d, t in writes.items()})
