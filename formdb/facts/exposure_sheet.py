@@ -47,6 +47,12 @@ def _e_product(row: ExposureRecord, settings: FactsSettings,
     return value, "grams per day and body weight", bw, steps, defaults
 
 
+def _study(tox: ToxicologyRecord) -> str:
+    """Species, route, duration (where the library holds it) and study of a point of departure."""
+    duration = f"{tox.duration}, " if tox.duration else ""
+    return f"{tox.species}, {tox.route}, {duration}{tox.study}"
+
+
 def _line(inci: str, percent: float, tox: ToxicologyRecord, e_product: float,
           settings: FactsSettings, defaults: list[str]) -> MosLine:
     if tox.dermal_absorption_percent is not None:
@@ -80,8 +86,7 @@ def _line(inci: str, percent: float, tox: ToxicologyRecord, e_product: float,
         f"DAp = {_n(dap)} % ({dap_source})",
         f"SED = E_product x C/100 x DAp/100 = {_n(e_product)} x {_n(percent)}/100 x "
         f"{_n(dap)}/100 = {_n(sed)} mg/kg bw/day",
-        f"PoD = {tox.pod_kind} {_n(tox.pod_value)} {tox.pod_unit} ({tox.species}, {tox.route}, "
-        f"{tox.study}; {tox.source})",
+        f"PoD = {tox.pod_kind} {_n(tox.pod_value)} {tox.pod_unit} ({_study(tox)}; {tox.source})",
         f"PoD_sys = PoD x oral bioavailability/100 = {_n(tox.pod_value)} x {_n(bio)}/100 = "
         f"{_n(pod_sys)} mg/kg bw/day ({bio_source})",
         "MoS = PoD_sys / SED = " + (f"{_n(pod_sys)} / {_n(sed)} = {_n(mos)}: {verdict}"
@@ -92,7 +97,7 @@ def _line(inci: str, percent: float, tox: ToxicologyRecord, e_product: float,
         dermal_absorption_source=dap_source, dermal_absorption_default=dap_default,
         sed_mg_kg_bw_day=sed, pod_kind=tox.pod_kind, pod_value=tox.pod_value,
         pod_unit=tox.pod_unit, pod_route=tox.route, species=tox.species, study=tox.study,
-        pod_source=tox.source, oral_bioavailability_percent=bio,
+        pod_source=tox.source, pod_duration=tox.duration, oral_bioavailability_percent=bio,
         oral_bioavailability_source=bio_source, oral_bioavailability_default=bio_default,
         pod_sys_mg_kg_bw_day=pod_sys, mos=mos, threshold=threshold, below_threshold=below,
         steps=steps)

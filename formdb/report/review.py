@@ -161,7 +161,9 @@ def review_document(filed: Any) -> dict[str, Any]:
                        "absorption_default": m.dermal_absorption_default,
                        "sed_mg_kg_bw_day": _num("sed", m.sed_mg_kg_bw_day),
                        "pod": f"{m.pod_kind} {m.pod_value:g} {m.pod_unit} ({m.species}, "
-                              f"{m.pod_route}; {m.pod_source})",
+                              f"{m.pod_route}"
+                              + (f", {m.pod_duration}" if m.pod_duration else "")
+                              + f"; {m.pod_source})",
                        "mos": None if m.mos is None else round(m.mos, 1),
                        "below_threshold": m.below_threshold, "steps": list(m.steps)}
                       for m in exposure.lines]},

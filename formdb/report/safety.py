@@ -25,6 +25,14 @@ def _row(line: MosLine) -> tuple[str, ...]:
             f"{line.pod_kind} {_g(line.pod_value)}", pod_sys, _g(line.mos), _verdict(line))
 
 
+def point_of_departure(line: MosLine) -> str:
+    """The point of departure as a reviewer cites it: kind, value, species, route, the study's
+    duration (or that the library holds none), study and source."""
+    duration = line.pod_duration or "duration not in the library"
+    return (f"{line.pod_kind} {_g(line.pod_value)} {line.pod_unit} ({line.species}, "
+            f"{line.pod_route}, {duration}; {line.study}; source {line.pod_source})")
+
+
 def _header(sheet: ExposureFacts) -> list[Line]:
     out = [Line("Product type", f"{sheet.product} ({sheet.category}), retention factor "
                                 f"{_g(sheet.retention_factor)}"),
@@ -56,6 +64,8 @@ def exposure_section(facts: FormulaFacts) -> Section | None:
                              "Verdict"), [_row(line) for line in sheet.lines], "snnnsnns"))
         blocks.append(Notes(("SED, PoD and PoD_sys in mg/kg bw/day; * a default was used "
                              "(dermal absorption, or oral bioavailability for PoD_sys).",)))
+        blocks.append(Notes(tuple(f"{line.inci}: {point_of_departure(line)}"
+                                  for line in sheet.lines), "Points of departure"))
         blocks.extend(Notes((*sheet.steps, *line.steps), f"Arithmetic: {line.inci}")
                       for line in sheet.lines)
     else:

@@ -31,8 +31,9 @@ class SafetyMargin(Rule):
     when MoS is at least 100 (10 between species x 10 between people) unless substance data
     justify less. A default stands in for missing data and must never pass unseen.
     Fails: body lotion (E_product 123.2 mg/kg bw/day) with 1 % Phenoxyethanol (NOAEL 357
-    mg/kg bw/day, default dermal absorption 50 %) judged against a threshold of 1000: SED 0.616,
-    MoS 580.
+    mg/kg bw/day, default dermal absorption 50 %, default oral bioavailability 50 %) judged
+    against a threshold of 1000: SED 0.616, MoS 290. The finding names the point of departure
+    and, where the library holds it, the study's duration.
     Passes: a body lotion of water and glycerin alone (no substance with systemic relevance).
     Options: threshold (the lowest acceptable MoS, default 100); missing_severity (info,
     warning or error, for a substance that needs a point of departure and has none).
@@ -72,14 +73,18 @@ class SafetyMargin(Rule):
                                          ("oral bioavailability",
                                           line.oral_bioavailability_default)) if used]
             caveat = f" (default {' and '.join(flagged)})" if flagged else ""
+            study = ", ".join(x for x in (line.species, line.pod_route, line.pod_duration) if x)
             yield self.finding(
                 self.default_severity,
                 f"{line.inci}: margin of safety {line.mos:.3g} is below {line.threshold:g} for "
-                f"{sheet.product} (SED {line.sed_mg_kg_bw_day:.4g} mg/kg bw/day, PoD_sys "
+                f"{sheet.product} (SED {line.sed_mg_kg_bw_day:.4g} mg/kg bw/day; PoD "
+                f"{line.pod_kind} {line.pod_value:.4g} {line.pod_unit}, {study} study; PoD_sys "
                 f"{line.pod_sys_mg_kg_bw_day:.4g} mg/kg bw/day){caveat}",
                 ingredients=[line.inci],
                 values={"mos": line.mos, "threshold": line.threshold,
                         "sed_mg_kg_bw_day": line.sed_mg_kg_bw_day,
+                        "pod_kind": line.pod_kind, "pod_value": line.pod_value,
+                        "pod_duration": line.pod_duration, "pod_source": line.pod_source,
                         "pod_sys_mg_kg_bw_day": line.pod_sys_mg_kg_bw_day,
                         "percent": line.percent,
                         "dermal_absorption_percent": line.dermal_absorption_percent},

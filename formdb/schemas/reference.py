@@ -107,6 +107,7 @@ class ToxicologyRecord(BaseModel):
     species: str
     study: str
     source: str
+    duration: str | None = None  # of the study, where the library holds it (e.g. "90 days")
     dermal_absorption_percent: float | None = None
     dermal_absorption_source: str | None = None
     oral_bioavailability_percent: float | None = None

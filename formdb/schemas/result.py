@@ -295,6 +295,7 @@ class MosLine(_Frozen):
     species: str
     study: str
     pod_source: str
+    pod_duration: str | None = None  # the study's duration, where the library holds it
     oral_bioavailability_percent: float
     oral_bioavailability_source: str
     oral_bioavailability_default: bool

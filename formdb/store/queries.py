@@ -297,6 +297,7 @@ def toxicology_records(session: Session) -> dict[str, ToxicologyRecord]:
         out[name_key(inci)] = ToxicologyRecord(
             key=row.key, inci=inci, pod_kind=row.pod_kind, pod_value=row.pod_value,
             pod_unit=row.pod_unit, route=row.route, species=row.species, study=row.study,
+            duration=row.duration,
             source=row.source_key, dermal_absorption_percent=row.dermal_absorption_percent,
             dermal_absorption_source=row.dermal_absorption_source,
             oral_bioavailability_percent=row.oral_bioavailability_percent,

@@ -196,11 +196,11 @@ def sync_value_grades(session: Session, *, user: str, reason: str | None = None)
 
 # --- toxicology ------------------------------------------------------------------------------
 
-TOX_COLUMNS = (*TOXICOLOGY_COLUMNS[:7], "duration", *TOXICOLOGY_COLUMNS[7:])
+TOX_COLUMNS = TOXICOLOGY_COLUMNS  # the seed file's columns, duration included
 
 
 class ToxicologyInput(ToxicologyRow):
-    duration: str | None = None
+    """A toxicology row from the CLI or a table import (the seed file's row)."""
 
 
 def _validate_toxicology(session: Session, rows: list[tuple[int, Cells]],

@@ -112,7 +112,9 @@ def used_records(formula: ResolvedFormula, reference: ReferenceData) -> list[dic
         put("exposure", product, reference.exposure[product.casefold()].model_dump(mode="json"))
     for key, tox in reference.toxicology.items():
         if key in keys:
-            put("toxicology", tox.key, tox.model_dump(mode="json"))
+            # a record without a study duration hashes as it did before durations were read
+            put("toxicology", tox.key, tox.model_dump(
+                mode="json", exclude=set() if tox.duration else {"duration"}))
     for rec in ingredients.values():
         for entry in reference.list_entries.get(name_key(rec.inci_name), ()):
             put("list entry", entry.label, {k: v for k, v in entry.cells.items()

@@ -99,7 +99,7 @@ def read_exposure(file: Path, label: str, known_sources: set[str]) -> Rows:
 
 
 TOXICOLOGY_COLUMNS = ("key", "inci", "pod_kind", "pod_value", "pod_unit", "route", "species",
-                      "study", "source", "dermal_absorption_percent",
+                      "duration", "study", "source", "dermal_absorption_percent",
                       "dermal_absorption_source", "oral_bioavailability_percent",
                       "oral_bioavailability_source", "note")
 TOXICOLOGY_REQUIRED = ("key", "inci", "pod_kind", "pod_value", "pod_unit", "route", "species",
@@ -114,6 +114,7 @@ class ToxicologyRow(_Row):
     pod_unit: str
     route: Literal["oral", "dermal"]
     species: str = Field(max_length=60)
+    duration: str | None = Field(None, max_length=60)  # of the study, e.g. "90 days"
     study: str
     source: str
     dermal_absorption_percent: float | None = Field(None, ge=0, le=100)
