@@ -47,6 +47,10 @@ DENSITY = [
     ("Limonene", 0.838, 0.842, "merck-index-limonene-copy"),
     # Essential-oil chapter copy on ebrary.net: geraniol specific gravity 0.8894 at 20 C.
     ("Geraniol", 0.887, 0.891, "ebrary-terpene-alcohols-copy"),
+    # Chemical encyclopedia (copy on xumuk.ru): citronellol d(20/4) 0.849-0.863.
+    ("Citronellol", 0.849, 0.863, "khim-encyclopedia-citronellol-copy"),
+    # ChemicalBook (copy): linalool specific gravity 0.860 (20/4 C); 0.858-0.868 the usual range.
+    ("Linalool", 0.858, 0.868, "chemicalbook-linalool-copy"),
     # Food encyclopedia (foodmate): benzyl salicylate d25/25 1.176-1.180, water 0.99705 g/mL.
     ("Benzyl Salicylate", 1.176 * 0.99705, 1.180 * 0.99705, "foodmate-benzyl-salicylate-copy"),
 ]
@@ -185,6 +189,12 @@ SOLUBILITY = [
     ("Benzyl Salicylate", "oil", "foodmate-benzyl-salicylate-copy"),
     # cosmeticsinfo.org (CIR summary): alkyl glyceryl ethers poorly soluble in water.
     ("Ethylhexylglycerin", "oil", "cosmeticsinfo-alkyl-glyceryl-ethers"),
+    # HSDB statements compiled on scent.vn: coumarin freely soluble in oils.
+    ("Coumarin", "oil", "coumarin-solubility-compilation"),
+    # ChemicalBook (copy): linalool insoluble in water, soluble in ethanol and ether.
+    ("Linalool", "oil", "chemicalbook-linalool-copy"),
+    # ACS Molecule of the Week: 2-phenoxyethanol moderately water-soluble.
+    ("Phenoxyethanol", "water", "acs-motw-phenoxyethanol"),
     # Supplier page: avobenzone water-insoluble, soluble in castor oil and triglycerides.
     ("Butyl Methoxydibenzoylmethane", "oil", "avobenzone-supplier-solubility"),
 ]
@@ -200,7 +210,9 @@ E3_COPIES = ["hpe-phenoxyethanol-copy", "hpe-sorbic-acid-copy", "hpe6-potassium-
              "qualenica-preservatives", "parabens-food-text-copy", "jecfa-methylparaben-copy",
              "bp2009-bronopol-copy", "merck-index-limonene-copy", "ebrary-terpene-alcohols-copy",
              "foodmate-benzyl-salicylate-copy", "avobenzone-supplier-solubility",
-             "cosmeticsinfo-alkyl-glyceryl-ethers"]
+             "cosmeticsinfo-alkyl-glyceryl-ethers", "khim-encyclopedia-citronellol-copy",
+             "coumarin-solubility-compilation", "chemicalbook-linalool-copy",
+             "acs-motw-phenoxyethanol"]
 
 
 @pytest.mark.parametrize("key", E3_COPIES)
