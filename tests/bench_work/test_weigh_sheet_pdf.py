@@ -3,31 +3,27 @@ pypdf: the text a lab gets on paper holds the masses, the phases and the signatu
 
 from __future__ import annotations
 
-import shutil
 import subprocess
 from pathlib import Path
 
 import pytest
 
-from tests.helpers import run_formdb
+from tests.helpers import chromium, run_formdb
 
 CREAM = Path(__file__).parents[1] / "fixtures" / "bench_cream.toml"
-CHROMIUM = shutil.which("chromium") or "/usr/bin/chromium"
-
 pytestmark = pytest.mark.slow
 
 
 def test_weigh_sheet_prints_to_pdf_with_its_text(seeded_sqlite_url: str, tmp_path: Path) -> None:
     pypdf = pytest.importorskip("pypdf")
-    if not Path(CHROMIUM).exists():
-        pytest.fail("the system Chromium is needed: apt-get install chromium")
+    browser = chromium()
     html = tmp_path / "sheet.html"
     result = run_formdb(["--db", seeded_sqlite_url, "batch", str(CREAM), "--kg", "20",
                          "--evaporation-percent", "2", "--out", str(html)])
     assert result.exit_code == 0, result.stderr
     pdf = tmp_path / "sheet.pdf"
     subprocess.run(
-        [CHROMIUM, "--headless", "--no-sandbox", "--disable-gpu",
+        [str(browser), "--headless", "--no-sandbox", "--disable-gpu",
          "--disable-background-networking", "--no-first-run", f"--user-data-dir={tmp_path}/p",
          "--no-pdf-header-footer", f"--print-to-pdf={pdf}", html.as_uri()],
         check=True, capture_output=True, timeout=120)

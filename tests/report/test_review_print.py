@@ -23,17 +23,21 @@ from pathlib import Path
 import pytest
 from pypdf import PdfReader
 
+from tests.helpers import chromium
 from tests.signing import act, new_signer, people, sign
 
 __all__ = ["people"]  # the fixture, imported for its tests
 
 ROOT = Path(__file__).parents[2]
 FORMULAS = ROOT / "tests" / "golden" / "formulas"
-CHROMIUM = Path("/usr/bin/chromium")
 FINDINGS_HEADER = "Rule Severity Finding What to do"
 
-pytestmark = [pytest.mark.slow,
-              pytest.mark.skipif(not CHROMIUM.exists(), reason="no /usr/bin/chromium")]
+pytestmark = pytest.mark.slow
+
+
+@pytest.fixture(autouse=True)
+def _browser() -> Path:
+    return chromium()
 
 
 def _print(page: Path) -> list[str]:

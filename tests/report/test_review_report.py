@@ -14,14 +14,11 @@ import shutil
 import subprocess
 from pathlib import Path
 
-import pytest
-
-from tests.helpers import run_as
+from tests.helpers import chromium, run_as
 from tests.signing import Person, new_signer, sign
 
 ROOT = Path(__file__).parents[2]
 CREAM = ROOT / "tests" / "golden" / "formulas" / "ow-cream.toml"
-CHROMIUM = Path("/usr/bin/chromium")
 
 
 def _formdb(url: str, *args: str, user: str = "ana"):
@@ -104,8 +101,8 @@ def test_html_escapes_a_script_in_the_formula_name(seeded_sqlite_url: str,
     assert "<" not in footer and "\\00003c" in footer
 
 
-@pytest.mark.skipif(not CHROMIUM.exists(), reason="no /usr/bin/chromium")
 def test_screenshot_script_renders_a_png_and_a_pdf(seeded_sqlite_url: str, tmp_path: Path) -> None:
+    chromium()
     formula = tmp_path / "cream.toml"
     shutil.copyfile(CREAM, formula)
     key = _signed_run(seeded_sqlite_url, formula)
