@@ -39,6 +39,11 @@ USE_RANGES = [
     # Uses table of acacia as reproduced in Compounding Today newsletter 2-44: emulsifying
     # agent 10-20 % (pastille base 10-30, suspending agent 5-10, tablet binder 1-5).
     ("Acacia Senegal Gum", 10, 20, "compounding-today-acacia-2-44"),
+    # IMCD Solution Centre page on glycerol monostearate in lotions (distributor):
+    # as a non-aqueous base, usage levels 1-5 % w/w.
+    ("Glyceryl Stearate", 1, 5, "imcd-glycerol-monostearate-lotion-page"),
+    # Paula's Choice ingredient dictionary (copy on lica.vn): use levels 2-5 %.
+    ("Polyglyceryl-3 Diisostearate", 2, 5, "paulas-choice-polyglyceryl-3-diisostearate-copy"),
 ]
 
 # Lower bounds of use stated in a source ("as low as").
@@ -74,6 +79,13 @@ SOLUBILITY = [
     ("Potassium Oleate", "water", "mcbain-sierichs-1948-soap-solubility"),
     ("Sodium Stearate", "water", "mcbain-sierichs-1948-soap-solubility"),
     ("Potassium Stearate", "water", "mcbain-sierichs-1948-soap-solubility"),
+    # Manufacturer's article (Huana Chemical): insoluble in water, soluble in hot oil.
+    ("Sorbitan Stearate", "oil", "huana-sorbitan-monostearate-page"),
+    # USP 32-NF 27 Polyoxyl 40 Hydrogenated Castor Oil, identification A: 0.1 g dissolved
+    # in 1 mL of water.
+    ("PEG-40 Hydrogenated Castor Oil", "water", "usp32-nf27-polyoxyl-40-hydrogenated-castor-oil"),
+    # Ingredient dictionary (copy): insoluble in water but mixes readily with oils.
+    ("Polyglyceryl-3 Diisostearate", "oil", "paulas-choice-polyglyceryl-3-diisostearate-copy"),
 ]
 
 # Polyoxyethylene chains stated by a monograph or report definition.
@@ -98,6 +110,16 @@ IONIC = [
     # International Pharmacopoeia, Gummi arabicum (copy): mainly polymers of salts of arabic
     # acid, the salt of a polyacid.
     ("Acacia Senegal Gum", "anionic", "who-intph-acacia"),
+    # GELITA technical page: gelatine is charged either way about its isoelectric point
+    # (type A pH 8-9, type B 4.8-5.4).
+    ("Gelatin", "amphoteric", "gelita-gelatine-amphoteric-page"),
+]
+
+# Densities, g/mL, read as a figure (not a pharmacopoeial range).
+DENSITY = [
+    # Distributor's product page (Tamin Kala Tak): sorbitan monooleate about 0.986 g/cm3
+    # at 20 C.
+    ("Sorbitan Oleate", 0.98, 0.995, "tamin-kala-tak-sorbitan-monooleate-page"),
 ]
 
 
@@ -155,6 +177,15 @@ def test_ionic_character_by_a_read_definition(inci: str, charge: str, source: st
     row = rows[inci]
     assert row["ionic_character"] == charge
     _cites(row, "ionic_character", source, sources)
+
+
+@pytest.mark.parametrize("inci, low, high, source", DENSITY)
+def test_density_is_the_sources(inci: str, low: float, high: float, source: str,
+                                rows: dict[str, dict[str, str]],
+                                sources: dict[str, dict[str, str]]) -> None:
+    row = rows[inci]
+    assert low <= float(row["density"]) <= high
+    _cites(row, "density", source, sources)
 
 
 def test_no_ethoxylated_value_rests_on_memory(rows: dict[str, dict[str, str]],
