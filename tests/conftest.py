@@ -2,29 +2,56 @@
 
 - ``empty_sqlite_url`` / ``empty_pg_url``: a database that exists but holds nothing yet.
 - ``sqlite_url`` / ``pg_url``: the same after ``formdb init`` (schema at head, the built-in
-  sources rule-of-thumb and from-memory), no ingredients.
+  sources rule-of-thumb and from-memory), no ingredients; made once per session (per xdist
+  worker) and copied per test.
 - ``library_url``: parametrised over both backends (the PostgreSQL case skips without a server).
 - ``seeded_sqlite_url`` / ``seeded_pg_url`` / ``seeded_library_url``: the bundled seed library,
   built once per session and copied per test.
 
 PostgreSQL tests use the server named by FORMDB_TEST_PG_URL and skip with a reason when it is
-unset. Each test gets its own schema (its URL's ``search_path``; seeded ones their own database,
-copied from a seeded template), dropped afterwards.
+unset. Each test gets its own database (``pg_url`` and the seeded ones copied from a template
+database; ``empty_pg_url`` is an empty schema of its own, its URL's ``search_path``), dropped
+afterwards.
+
+Hypothesis profiles (how many examples a property or fuzz test draws), chosen with the
+environment variable FORMDB_HYPOTHESIS_PROFILE:
+
+- ``ci`` (the default): a tenth of the examples of the expensive tests (those that run the
+  real command or touch a database per example), so the whole suite fits CI's minutes;
+- ``deep``: every count in full (the fuzz suite's 3,250 examples). Run it before a release or
+  after touching input parsing or import:
+  ``FORMDB_HYPOTHESIS_PROFILE=deep pytest tests/cli/test_hostile_input.py``.
+
+An expensive test asks for ``tests.helpers.examples(n)``: ``n`` under ``deep``, a tenth (at least
+one) under ``ci``. Cheap property tests of pure functions pin their counts and run them in full
+in both profiles.
 """
 
 from __future__ import annotations
 
+import os
 import shutil
 from collections.abc import Iterator
 from pathlib import Path
 
 import pytest
+from hypothesis import settings
 from sqlalchemy import text
 
 from formdb.store.db import make_engine, sqlite_path
-from tests.helpers import PG_ENV, fresh_pg_database, fresh_pg_schema, pg_base_url
+from tests.helpers import (
+    HYPOTHESIS_PROFILE_ENV,
+    PG_ENV,
+    fresh_pg_database,
+    fresh_pg_schema,
+    pg_base_url,
+)
 
 TEST_USER = "larkspur-test"
+
+settings.register_profile("deep", max_examples=100)
+settings.register_profile("ci", max_examples=10)
+settings.load_profile(os.environ.get(HYPOTHESIS_PROFILE_ENV, "ci"))
 
 
 def _migrate(url: str) -> str:
@@ -45,9 +72,19 @@ def empty_sqlite_url(tmp_path: Path) -> str:
     return _sqlite_url(tmp_path / "library.sqlite")
 
 
+@pytest.fixture(scope="session")
+def _migrated_sqlite_template(tmp_path_factory: pytest.TempPathFactory) -> Path:
+    url = _migrate(_sqlite_url(tmp_path_factory.mktemp("migrated") / "template.sqlite"))
+    return _one_file(url)
+
+
 @pytest.fixture
-def sqlite_url(empty_sqlite_url: str) -> str:
-    return _migrate(empty_sqlite_url)
+def sqlite_url(_migrated_sqlite_template: Path, empty_sqlite_url: str) -> str:
+    """A copy of what `formdb init` makes, at the path of ``empty_sqlite_url``."""
+    path = sqlite_path(empty_sqlite_url)
+    assert path is not None
+    shutil.copyfile(_migrated_sqlite_template, path)
+    return empty_sqlite_url
 
 
 @pytest.fixture(scope="session")
@@ -70,9 +107,25 @@ def empty_pg_url(pg_server: str) -> Iterator[str]:
         yield url
 
 
+@pytest.fixture(scope="session")
+def _migrated_pg_template(pg_server: str) -> Iterator[str]:
+    with fresh_pg_database(pg_server) as url:
+        _migrate(url)
+        yield _database_name(url)
+
+
 @pytest.fixture
-def pg_url(empty_pg_url: str) -> str:
-    return _migrate(empty_pg_url)
+def pg_url(pg_server: str, _migrated_pg_template: str) -> Iterator[str]:
+    """A database of its own copied from one that `formdb init` made (CREATE DATABASE ...
+    TEMPLATE copies files: far quicker than running the migrations per test)."""
+    with fresh_pg_database(pg_server, template=_migrated_pg_template) as url:
+        yield url
+
+
+def _database_name(url: str) -> str:
+    from sqlalchemy.engine import make_url
+
+    return str(make_url(url).database)
 
 
 @pytest.fixture(params=["sqlite", pytest.param("postgresql", marks=pytest.mark.postgres)])
@@ -100,6 +153,11 @@ def _seed(url: str) -> None:
 def _seeded_sqlite_template(tmp_path_factory: pytest.TempPathFactory) -> Path:
     url = _sqlite_url(tmp_path_factory.mktemp("seeded") / "template.sqlite")
     _seed(url)
+    return _one_file(url)
+
+
+def _one_file(url: str) -> Path:
+    """The SQLite file of ``url`` with its WAL folded in, so copying the one file copies it."""
     engine = make_engine(url)
     try:
         with engine.connect() as conn:  # fold the WAL into the file so one file is the copy
@@ -123,9 +181,7 @@ def seeded_sqlite_url(_seeded_sqlite_template: Path, tmp_path: Path) -> str:
 def _seeded_pg_template(pg_server: str) -> Iterator[str]:
     with fresh_pg_database(pg_server) as url:
         _seed(url)
-        from sqlalchemy.engine import make_url
-
-        yield str(make_url(url).database)
+        yield _database_name(url)
 
 
 @pytest.fixture

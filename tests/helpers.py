@@ -19,6 +19,15 @@ from formdb.store.db import in_role_catalog_transaction, make_engine
 from formdb.store.sealing import FORMS, SEALED_COLUMNS
 
 PG_ENV = "FORMDB_TEST_PG_URL"
+HYPOTHESIS_PROFILE_ENV = "FORMDB_HYPOTHESIS_PROFILE"  # ci (default) or deep: tests/conftest.py
+
+
+def examples(deep: int) -> int:
+    """How many examples an expensive hypothesis test draws under the active profile: ``deep``
+    under the ``deep`` profile (max_examples 100), a tenth of it, at least one, under ``ci``."""
+    from hypothesis import settings
+
+    return max(1, deep * settings.default.max_examples // 100)
 
 
 def pg_base_url() -> str | None:

@@ -6,7 +6,9 @@ line an ``Error:`` line, no traceback, and the library exactly as it was (a dete
 compared before and after). Exit 70 (an internal error) fails the example.
 
 Hypothesis with a fixed seed (``derandomize=True``: the same examples every run, no example
-database). Counts, 3,250 examples in all:
+database). Counts under the ``deep`` hypothesis profile (``FORMDB_HYPOTHESIS_PROFILE=deep``),
+3,250 examples in all; the default ``ci`` profile draws a tenth of each (see
+tests/conftest.py):
 
     formula files (check as text, JSON or HTML)      700
     profiles (check --profile FILE)                  450
@@ -38,15 +40,15 @@ from hypothesis import strategies as st
 
 from formdb.cli.main import EXIT_INTERNAL
 from tests.fixtures.tables.library_setup import build_library
-from tests.helpers import CliResult, dump_database, run_formdb
+from tests.helpers import CliResult, dump_database, examples, run_formdb
 
 pytestmark = pytest.mark.slow  # the fuzz lane: left out of `pytest -m "not slow"`
 
 
-def _settings(examples: int) -> settings:
+def _settings(deep: int) -> settings:
     # no shrinking: every example runs the real command and dumps the library, so shrinking a
     # failure would take many minutes; the failing example is printed as found
-    return settings(max_examples=examples, deadline=None, derandomize=True, database=None,
+    return settings(max_examples=examples(deep), deadline=None, derandomize=True, database=None,
                     suppress_health_check=list(HealthCheck),
                     phases=[Phase.explicit, Phase.generate])
 

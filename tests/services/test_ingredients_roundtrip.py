@@ -24,6 +24,7 @@ from formdb.services.library.ingredient_fields import (
 from formdb.services.library.ingredients import export_table, import_table
 from formdb.store.db import make_engine, unit_of_work, upgrade_to_head
 from tests.fixtures.tables.library_setup import SOURCES, add_sources
+from tests.helpers import examples
 
 # CAS numbers with right check digits: water, glycerin, polysorbate 80, sorbitan oleate,
 # propylene glycol, isopropyl myristate (CAS Registry; each passes cas_is_valid)
@@ -90,7 +91,7 @@ def rows(draw: st.DrawFn) -> dict[str, str]:
     return cells
 
 
-@settings(max_examples=40, deadline=None,
+@settings(max_examples=examples(40), deadline=None,  # a tenth under the ci profile
           suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow])
 @given(row=rows(), suffix=st.sampled_from([".csv", ".xlsx"]))
 def test_any_valid_row_survives_export_and_import(template: Path, row: dict[str, str],
