@@ -5,15 +5,17 @@ from __future__ import annotations
 
 import os
 import shutil
+from collections import OrderedDict
 from collections.abc import Collection, Iterator, Mapping, Sequence
 from contextlib import contextmanager
 from dataclasses import dataclass
 from pathlib import Path
+from typing import Any
 from uuid import uuid4
 
 from click.testing import CliRunner
-from sqlalchemy import MetaData, create_engine, func, select, text
-from sqlalchemy.engine import Connection, make_url
+from sqlalchemy import MetaData, Select, create_engine, func, select, text
+from sqlalchemy.engine import Connection, Engine, make_url
 
 from formdb.store.db import in_role_catalog_transaction, make_engine
 from formdb.store.sealing import FORMS, SEALED_COLUMNS
@@ -44,35 +46,103 @@ def dump_database(url: str, exclude_columns: Collection[str] = (),
     included). ``exclude_columns`` leaves out columns such as timestamps where a test re-creates
     data on purpose (in a hash-chained table the seals, which cover them, go too); ``tables``
     limits the dump to those tables.
+
+    Speed (it runs before and after most refused commands): the reflected tables are reused for
+    any database whose schema reads the same (``_schema_text``: every table, column and type),
+    and the engine is kept per URL (connections closed after each dump) so SQLAlchemy compiles
+    each table's SELECT once.
     """
-    engine = make_engine(url, must_exist=True)
+    engine = _dump_engine(url)
     try:
-        meta = MetaData()
         with engine.connect() as conn:
-            meta.reflect(conn)
+            meta = _reflected(conn)
             lines: list[str] = []
             for name in sorted(meta.tables):
                 if tables is not None and name not in tables:
                     continue
-                table = meta.tables[name]
-                # the server's keyed seal differs per database (its own key): never compared
-                left_out = {*exclude_columns, "server_seal"}
-                sealed = set(SEALED_COLUMNS.get(name, ())).union(
-                    *FORMS.get(name, {}).values())
-                if left_out & sealed:  # the seals cover every column
-                    left_out |= {"prev_hash", "row_hash"}
-                cols = sorted((c for c in table.columns if c.name not in left_out),
-                              key=lambda c: c.name)
-                lines.append(f"== {name} ({', '.join(c.name for c in cols)})")
-                if not cols:
-                    count = conn.execute(select(func.count()).select_from(table)).scalar_one()
+                heading, query = _table_query(meta, name, frozenset(exclude_columns))
+                lines.append(heading)
+                if query is None:
+                    count = conn.execute(
+                        select(func.count()).select_from(meta.tables[name])).scalar_one()
                     lines.append(f"{count} rows")
                     continue
-                rows = conn.execute(select(*cols).order_by(*cols)).all()
+                rows = conn.execute(query).all()
                 lines.extend(" | ".join(_cell(v) for v in row) for row in rows)
         return "\n".join(lines) + "\n"
     finally:
-        engine.dispose()
+        engine.dispose()  # no connection stays open (a PostgreSQL test database is dropped)
+
+
+_DUMP_ENGINES: OrderedDict[str, Engine] = OrderedDict()
+_REFLECTED: dict[tuple[str, str], MetaData] = {}
+
+
+def _dump_engine(url: str) -> Engine:
+    """The engine kept for ``url`` (the last 16 URLs), or a new one; a missing SQLite file is
+    refused as ``make_engine(must_exist=True)`` refuses it."""
+    from formdb.store.db import sqlite_path
+
+    engine = _DUMP_ENGINES.pop(url, None)
+    path = sqlite_path(url) if "://" in url else None
+    if engine is None or (path is not None and not path.exists()):
+        if engine is not None:
+            engine.dispose()
+        engine = make_engine(url, must_exist=True)
+    _DUMP_ENGINES[url] = engine
+    while len(_DUMP_ENGINES) > 16:
+        _DUMP_ENGINES.popitem(last=False)[1].dispose()
+    return engine
+
+
+def _reflected(conn: Connection) -> MetaData:
+    key = (conn.dialect.name, _schema_text(conn))
+    meta = _REFLECTED.get(key)
+    if meta is None:
+        meta = MetaData()
+        meta.reflect(conn)
+        _REFLECTED[key] = meta
+    return meta
+
+
+_QUERIES: dict[tuple[int, str, frozenset[str]], tuple[str, Select[Any] | None]] = {}
+
+
+def _table_query(meta: MetaData, name: str, exclude_columns: frozenset[str]
+                 ) -> tuple[str, Select[Any] | None]:
+    """A table's heading line and the SELECT of its rows (None when no column is left)."""
+    key = (id(meta), name, exclude_columns)
+    found = _QUERIES.get(key)
+    if found is None:
+        table = meta.tables[name]
+        # the server's keyed seal differs per database (its own key): never compared
+        left_out = {*exclude_columns, "server_seal"}
+        sealed = set(SEALED_COLUMNS.get(name, ())).union(*FORMS.get(name, {}).values())
+        if left_out & sealed:  # the seals cover every column
+            left_out |= {"prev_hash", "row_hash"}
+        cols = sorted((c for c in table.columns if c.name not in left_out),
+                      key=lambda c: c.name)
+        heading = f"== {name} ({', '.join(c.name for c in cols)})"
+        found = _QUERIES[key] = (heading, select(*cols).order_by(*cols) if cols else None)
+    return found
+
+
+def _schema_text(conn: Connection) -> str:
+    """Every table (and view, index, trigger) with its columns and their types, as text: two
+    databases with the same text reflect to the same tables."""
+    if conn.dialect.name == "sqlite":
+        rows = conn.execute(text(
+            "SELECT type, name, tbl_name, coalesce(sql, '') FROM sqlite_master "
+            "ORDER BY type, name")).all()
+    else:
+        rows = conn.execute(text(
+            "SELECT c.relkind, c.relname, a.attnum, a.attname, "
+            "format_type(a.atttypid, a.atttypmod), a.attnotnull "
+            "FROM pg_attribute a JOIN pg_class c ON c.oid = a.attrelid "
+            "JOIN pg_namespace n ON n.oid = c.relnamespace "
+            "WHERE n.nspname = current_schema() AND a.attnum > 0 AND NOT a.attisdropped "
+            "ORDER BY c.relname, a.attnum")).all()
+    return "\n".join("\t".join(str(v) for v in row) for row in rows)
 
 
 def _cell(value: object) -> str:
