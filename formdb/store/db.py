@@ -227,8 +227,24 @@ def stored_revision_plain(engine: Engine) -> tuple[bool, str | None]:
     return True, (rows[0][0] if rows else None)
 
 
+_ASSIGNMENTS: dict[Path, tuple[tuple[int, int], dict[str, object]]] = {}
+
+
 def _literal_assignments(file: Path) -> dict[str, object]:
-    """Module-level ``name = <literal>`` (or ``name: T = <literal>``) of a Python file."""
+    """Module-level ``name = <literal>`` (or ``name: T = <literal>``) of a Python file; parsed
+    once per version of the file (its modification time and size), as a process that opens
+    many libraries (the API, the tests) would otherwise parse every revision file each time."""
+    stat = file.stat()
+    version = (stat.st_mtime_ns, stat.st_size)
+    known = _ASSIGNMENTS.get(file)
+    if known is not None and known[0] == version:
+        return known[1]
+    values = _parse_literal_assignments(file)
+    _ASSIGNMENTS[file] = (version, values)
+    return values
+
+
+def _parse_literal_assignments(file: Path) -> dict[str, object]:
     values: dict[str, object] = {}
     target: ast.expr
     value: ast.expr | None
