@@ -48,6 +48,7 @@ def test_screening_series_gives_the_lotion_a_measured_required_hlb(bench) -> Non
     assert any("measured in-house" in note for note in after.notes)
 
 
+@pytest.mark.slow  # seconds per run: left out of the fast lane
 def test_demo_command_shows_the_bench_part(tmp_path: Path) -> None:
     result = CliRunner().invoke(cli, ["demo", "--keep", str(tmp_path / "lib.sqlite"),
                                       "--out", str(tmp_path / "out")])

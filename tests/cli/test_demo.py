@@ -27,6 +27,7 @@ def _codes(result, severity: str | None = None) -> set[str]:
     return {f.rule for f in result.findings if severity is None or f.severity.value == severity}
 
 
+@pytest.mark.slow  # seconds per run: left out of the fast lane
 def test_demo_command_exits_zero_and_prints_every_formula(tmp_path) -> None:
     result = CliRunner().invoke(cli, ["demo", "--keep", str(tmp_path / "lib.sqlite")])
     assert result.exit_code == 0, result.output

@@ -54,6 +54,7 @@ def test_a_user_without_the_admin_role_cannot_downgrade(library: str) -> None:
     assert "'refused'" in after
 
 
+@pytest.mark.slow  # seconds per run: left out of the fast lane
 def test_downgrade_below_the_audit_revision_is_refused_while_sealed_rows_exist(
         library: str, tmp_path: Path) -> None:
     before = dump_database(library)
@@ -80,6 +81,7 @@ def test_downgrade_below_the_audit_revision_is_refused_while_sealed_rows_exist(
     assert rows and all(json.loads(r)["row_hash"] for r in rows)
 
 
+@pytest.mark.slow  # seconds per run: left out of the fast lane
 def test_an_upgrade_stops_on_a_broken_chain_instead_of_sealing_it(library: str) -> None:
     """The laundering path: step down (keeping the seals), rewrite a log row with plain SQL,
     step up. The upgrade verifies first and changes nothing."""
@@ -104,6 +106,7 @@ def _target(tmp_path: Path) -> str:
     return f"sqlite:///{tmp_path / 'restored.sqlite'}"
 
 
+@pytest.mark.slow  # seconds per run: left out of the fast lane
 def test_restore_shows_its_plan_and_needs_yes(library: str, tmp_path: Path) -> None:
     archive = tmp_path / "library.zip"
     assert run_as("boss", ["--db", library, "db", "backup", str(archive)]).exit_code == 0
@@ -128,6 +131,7 @@ def test_restore_shows_its_plan_and_needs_yes(library: str, tmp_path: Path) -> N
     assert dump_database(target) == dump_database(library)
 
 
+@pytest.mark.slow  # seconds per run: left out of the fast lane
 def test_a_forged_archive_is_refused_unless_told(library: str, tmp_path: Path) -> None:
     archive = tmp_path / "library.zip"
     assert run_as("boss", ["--db", library, "db", "backup", str(archive)]).exit_code == 0

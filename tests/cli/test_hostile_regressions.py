@@ -319,6 +319,7 @@ def test_symlinks_are_not_followed(seeded_sqlite_url: str, tmp_path: Path) -> No
 
 
 @pytest.mark.parametrize("umask", [0o022, 0o002, 0o077])
+@pytest.mark.slow  # seconds per run: left out of the fast lane
 def test_files_follow_the_umask(seeded_sqlite_url: str, tmp_path: Path, umask: int) -> None:
     formula = _formula(tmp_path / "f.toml", [("Aqua", 95), ("Glycerin", 5)])
     old = os.umask(umask)
@@ -427,6 +428,7 @@ def _broken_archives(parts: dict[str, bytes]) -> dict[str, tuple[dict[str, bytes
     }
 
 
+@pytest.mark.slow  # seconds per run: left out of the fast lane
 def test_a_damaged_archive_is_refused_before_anything_is_written(seeded_library_url: str,
                                                                  tmp_path: Path) -> None:
     good = tmp_path / "good.zip"
@@ -499,6 +501,7 @@ def _version_and_hlb(url: str, name: str) -> tuple[int, str]:
     return int(record["version"]), str(record["properties"]["hlb"])
 
 
+@pytest.mark.slow  # seconds per run: left out of the fast lane
 def test_blind_edits_queue_and_apply_on_both_backends(seeded_library_url: str) -> None:
     """A blind edit (no --expect-version) made while another writer holds the library waits
     for it and then applies to the version that writer left; an edit that names an old

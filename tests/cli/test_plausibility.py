@@ -91,6 +91,7 @@ def test_an_unrelated_edit_is_not_held_up_by_an_old_oddity(seeded_sqlite_url: st
     assert result.exit_code == 0, result.stderr
 
 
+@pytest.mark.slow  # seconds per run: left out of the fast lane
 def test_the_seed_library_passes_its_own_checks(seeded_sqlite_url: str) -> None:
     """Every seed row re-imported as a change would raise no warning (the ranges fit the seed)."""
     from formdb.services.library.ingredients import _as_input, list_ingredients

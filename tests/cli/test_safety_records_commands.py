@@ -106,6 +106,7 @@ def test_toxicology_add_edit_and_one_record_per_substance(seeded_library_url: st
              words="not a unit formdb reads")
 
 
+@pytest.mark.slow  # seconds per run: left out of the fast lane
 def test_mixture_declared_from_the_cli_and_a_table(seeded_library_url: str,
                                                   tmp_path: Path) -> None:
     url = seeded_library_url

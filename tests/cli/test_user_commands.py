@@ -143,6 +143,7 @@ def test_the_last_admin_cannot_be_removed(library: str) -> None:
                            "--yes"]).exit_code == 0
 
 
+@pytest.mark.slow  # seconds per run: left out of the fast lane
 def test_seeding_an_existing_library_needs_the_admin_and_yes(library: str) -> None:
     """Issue 13: `init --seed` by an unknown user put an editor's changes back to the seed."""
     assert run_as("boss", ["--db", library, "user", "add", "ed", "--role", "editor",

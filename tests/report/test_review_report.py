@@ -14,6 +14,8 @@ import shutil
 import subprocess
 from pathlib import Path
 
+import pytest
+
 from tests.helpers import chromium, run_as
 from tests.signing import Person, new_signer, sign
 
@@ -101,6 +103,7 @@ def test_html_escapes_a_script_in_the_formula_name(seeded_sqlite_url: str,
     assert "<" not in footer and "\\00003c" in footer
 
 
+@pytest.mark.slow  # seconds per run: left out of the fast lane
 def test_screenshot_script_renders_a_png_and_a_pdf(seeded_sqlite_url: str, tmp_path: Path) -> None:
     chromium()
     formula = tmp_path / "cream.toml"

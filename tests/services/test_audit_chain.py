@@ -265,6 +265,7 @@ def test_verify_input_problem_exits_2(tmp_path: Any) -> None:
     assert result.exit_code == 2 and result.stderr.startswith("Error: ")
 
 
+@pytest.mark.slow  # seconds per run: left out of the fast lane
 def test_concurrent_writers_keep_one_chain(library_url: str) -> None:
     # 3 processes x 8 rounds of edits on shared ingredients: the chain must not fork
     _stock(library_url)

@@ -349,6 +349,7 @@ def test_dry_run_of_a_copy(tmp_path: Path, sqlite_url: str) -> None:
 
 
 @needs_exports
+@pytest.mark.slow  # seconds per run: left out of the fast lane
 def test_ingredient_show_lists_the_entries(sqlite_url: str) -> None:
     assert run_formdb(["--db", sqlite_url, "lists", "import", str(export("II")),
                        str(export("III"))]).exit_code == 0

@@ -75,6 +75,7 @@ def _justify_all(url: str, key: str) -> list[str]:
     return [arg for rule in rules for arg in ("--justify", f"{rule}=accepted for the trial")]
 
 
+@pytest.mark.slow  # seconds per run: left out of the fast lane
 def test_run_report_sign_edit_stale_rerun_sign(seeded_library_url: str, cream: Path,
                                                tmp_path: Path, people) -> None:
     url = seeded_library_url

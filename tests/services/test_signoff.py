@@ -64,6 +64,7 @@ def _justify(rules: list[str]) -> list[str]:
     return [a for r in sorted(set(rules)) for a in ("--justify", f"{r}=dossier on file")]
 
 
+@pytest.mark.slow  # seconds per run: left out of the fast lane
 def test_a_lenient_or_look_alike_profile_cannot_displace_the_reviewers_run(
         seeded_library_url: str, cream: Path, tmp_path: Path,
         people) -> None:
@@ -156,6 +157,7 @@ def test_the_author_may_not_approve_unless_the_policy_allows_it(
     assert f"(superseded by #{second['number']})" in table
 
 
+@pytest.mark.slow  # seconds per run: left out of the fast lane
 def test_the_policy_names_the_role_each_meaning_needs(seeded_sqlite_url: str, cream: Path,
                                                       tmp_path: Path, people) -> None:
     """SQLite: users are operating-system accounts here (on PostgreSQL ``user add`` makes
@@ -238,6 +240,7 @@ def _reseal_insert(url: str, row: dict[str, Any]) -> None:
         engine.dispose()
 
 
+@pytest.mark.slow  # seconds per run: left out of the fast lane
 def test_a_signature_written_or_changed_without_the_key_shows_invalid(
         seeded_library_url: str, cream: Path, tmp_path: Path,
         people) -> None:

@@ -66,6 +66,7 @@ def test_an_empty_database_says_run_init(tmp_path: Path) -> None:
     assert "is not a formdb library yet" in line and "run `formdb init`" in line
 
 
+@pytest.mark.slow  # seconds per run: left out of the fast lane
 def test_an_older_library_says_run_init_and_init_upgrades_it(
         sqlite_url: str, migrations_with_probe: Path, monkeypatch: pytest.MonkeyPatch) -> None:
     engine = make_engine(sqlite_url)

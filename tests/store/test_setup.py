@@ -53,6 +53,7 @@ def test_seeding_fills_every_table(empty_library_url: str) -> None:
     assert _count(empty_library_url, LimitEntry) == 2
 
 
+@pytest.mark.slow  # seconds per run: left out of the fast lane
 def test_seeding_twice_changes_nothing(empty_library_url: str) -> None:
     _seed(empty_library_url)
     before = dump_database(empty_library_url)
@@ -219,6 +220,7 @@ def test_bundled_seed_library_loads_and_reloads_unchanged(seeded_sqlite_url: str
     assert report.seeded["ingredients"].unchanged >= 90  # DESIGN.md section 4 lists ~95 names
 
 
+@pytest.mark.slow  # seconds per run: left out of the fast lane
 def test_two_inits_at_once_queue_up_and_agree(empty_library_url: str, tmp_path: Path) -> None:
     """Two team members run ``init --seed`` on one library at the same moment: both succeed
     (the second waits for the first's lock) and the library equals one run's result."""
