@@ -132,6 +132,8 @@ USE_RANGE = [
     ("Petrolatum", 4, 25, "imcd-petrolatum-topicals"),
     # NINGBO INNO PHARMCHEM article: niacinamide generally 1-6 %.
     ("Niacinamide", 1, 6, "nbinno-niacinamide-formulating"),
+    # INCI Guide, propylene glycol: 1-5 %, in some cases up to 10 %.
+    ("Propylene Glycol", 1, 10, "inci-guide-propylene-glycol"),
 ]
 
 # (ingredient, use % bound, "min" or "max", source key) where one end of the range is read
@@ -148,6 +150,8 @@ USE_BOUND = [
     ("Ascorbic Acid", 20, "max", "pinnell-2001-ascorbic-acid"),
     # Troebitscher (tara24.at): dexpanthenol therapeutic range 2-5 %.
     ("Panthenol", 5, "max", "troebitscher-dexpanthenol-rezeptur"),
+    # Chemball stearic acid page: ointment or cream 10-20 %.
+    ("Stearic Acid", 20, "max", "chemball-stearic-acid"),
 ]
 
 # (ingredient, property, value, source key) for single values read as printed
@@ -157,6 +161,12 @@ PRINTED = [
     # AOCS Inform (2014), excerpt: required HLB of castor oil 14; mineral oil 10.
     ("Ricinus Communis Seed Oil", "required_hlb_ow", 14, "aocs-inform-2014-emulsions-copy"),
     ("Paraffinum Liquidum", "required_hlb_ow_low", 10, "aocs-inform-2014-emulsions-copy"),
+    # chemhdi.com castor oil article: 680 cP at 25 C.
+    ("Ricinus Communis Seed Oil", "viscosity_mpas", 680, "chemhdi-castor-oil"),
+    # Wikipedia 'Squalane' infobox: 31.123 mPa s.
+    ("Squalane", "viscosity_mpas", 31, "wikipedia-squalane-chembox"),
+    # Wikipedia 'Ethanol (data page)' (after Lange's Handbook): 1.040 mPa s at 25 C.
+    ("Alcohol", "viscosity_mpas", 1.04, "wikipedia-ethanol-data-page"),
 ]
 
 # (ingredient, electrolyte sensitive, source key)
