@@ -128,8 +128,6 @@ PH_WINDOW = [
 
 # (ingredient, use % low, high, source key)
 USE_RANGE = [
-    # IMCD petrolatum page: topical emulsions 4-25 % (same figures in the compounding note).
-    ("Petrolatum", 4, 25, "imcd-petrolatum-topicals"),
     # NINGBO INNO PHARMCHEM article: niacinamide generally 1-6 %.
     ("Niacinamide", 1, 6, "nbinno-niacinamide-formulating"),
     # INCI Guide, propylene glycol: 1-5 %, in some cases up to 10 %.
@@ -138,6 +136,11 @@ USE_RANGE = [
 
 # (ingredient, use % bound, "min" or "max", source key) where one end of the range is read
 USE_BOUND = [
+    # IMCD petrolatum page: topical emulsions 4-25 % (the low end).
+    ("Petrolatum", 4, "min", "imcd-petrolatum-topicals"),
+    # Compounding note on white petrolatum: topical ointments up to 100 % (formdb checks
+    # ointment bases too, so the top of the range is the ointment's).
+    ("Petrolatum", 100, "max", "compounding-note-white-petrolatum"),
     # 21 CFR 347.10(a): allantoin 0.5 to 2 percent (skin protectant active); the low end is
     # kept a rule of thumb for cosmetic soothing use below a drug claim.
     ("Allantoin", 2, "max", "cfr-21-347-10"),
