@@ -27,6 +27,8 @@ _REFUSED_CATEGORIES = {
 
 def refused_character(text: str) -> str | None:
     """Why ``text`` cannot be a name ('U+202E, an invisible formatting character ...'), or None."""
+    if text.isprintable():  # no character of the categories "Other" or "Separator" but space:
+        return None  # none of the refused ones (str.isprintable), checked in C
     for char in text:
         what = _REFUSED_CATEGORIES.get(unicodedata.category(char))
         if what is not None:

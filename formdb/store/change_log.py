@@ -33,14 +33,15 @@ Change = dict[str, Any]
 def payload_text(changes: Iterable[Mapping[str, Any]] = (), *, via: str | None = None,
                  attempted: str | None = None, sealed: Mapping[str, Any] | None = None) -> str:
     """The payload JSON of one entry (keys in a fixed order, no spaces: it is sealed as is)."""
-    body: dict[str, Any] = {"v": PAYLOAD_VERSION, "changes": [dict(c) for c in changes]}
+    body: dict[str, Any] = {"v": PAYLOAD_VERSION,
+                            "changes": [c if type(c) is dict else dict(c) for c in changes]}
     if via is not None:
         body["via"] = via
     if attempted is not None:
         body["attempted"] = attempted
     if sealed is not None:
         body["sealed"] = dict(sealed)
-    return json.dumps(body, ensure_ascii=False, separators=(",", ":"), default=_json_default)
+    return _PAYLOAD_JSON.encode(body)
 
 
 def _json_default(value: Any) -> Any:
@@ -49,6 +50,11 @@ def _json_default(value: Any) -> Any:
     if hasattr(value, "isoformat"):  # dates in reference tables
         return value.isoformat()
     raise TypeError(f"{type(value).__name__} is not a change-log value")
+
+
+# json.dumps(body, ensure_ascii=False, separators=(",", ":"), default=_json_default), its
+# encoder made once
+_PAYLOAD_JSON = json.JSONEncoder(ensure_ascii=False, separators=(",", ":"), default=_json_default)
 
 
 def log_values(*, at: datetime, user: str, entity: str, entity_key: str,

@@ -35,6 +35,7 @@ _PINT_UNITS = {"g/mL": "g/mL", "% w/w": "percent", "g/mol": "g/mol", "mPa·s": "
 # ASCII digits only: Python's \d and float() also take Arabic-Indic or fullwidth digits
 _NUMBER_AND_UNIT = re.compile(r"^([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*)$",
                               re.ASCII)
+_DECIMAL_COMMA = re.compile(r"^[-+]?\d+,\d+", re.ASCII)
 _TRUE = {"yes", "y", "true", "t", "1"}
 _FALSE = {"no", "n", "false", "f", "0"}
 
@@ -170,7 +171,7 @@ def _convert(prop: str, text: str, number: float, unit_text: str) -> float:
 
 
 def _parse_number(prop: str, text: str) -> float:
-    if re.match(r"^[-+]?\d+,\d+", text, re.ASCII):
+    if _DECIMAL_COMMA.match(text):
         raise FieldProblem(f"{text!r} is not a number (write a decimal point, not a comma); "
                            f"{prop} takes a number {range_text(prop)}")
     match = _NUMBER_AND_UNIT.match(text)

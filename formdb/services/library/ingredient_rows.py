@@ -84,6 +84,9 @@ def _source_problems(wanting: Mapping[tuple[str, str], list[str]],
     return problems
 
 
+_PROPERTY_COLUMNS = tuple((prop, f"{prop}_source", f"{prop}_note") for prop in PROPERTY_NAMES)
+
+
 def validate_cells(cells: Mapping[str, str], sources: Mapping[str, str],
                    source_columns: Mapping[str, str] | None = None,
                    ) -> tuple[IngredientIn | None, CellProblems]:
@@ -112,7 +115,7 @@ def validate_cells(cells: Mapping[str, str], sources: Mapping[str, str],
     chosen: dict[str, str] = {}
     notes: dict[str, str] = {}
     wanting: dict[tuple[str, str], list[str]] = {}
-    for prop in PROPERTY_NAMES:
+    for prop, source_column, note_column in _PROPERTY_COLUMNS:
         text = cells.get(prop, "")
         if not text:
             continue
@@ -120,12 +123,12 @@ def validate_cells(cells: Mapping[str, str], sources: Mapping[str, str],
             values[prop] = parse_property(prop, text)
         except FieldProblem as exc:
             problems.append((prop, str(exc)))
-        key = cells.get(f"{prop}_source", "")
-        column = (source_columns or {}).get(prop, f"{prop}_source")
+        key = cells.get(source_column, "")
+        column = source_columns.get(prop, source_column) if source_columns else source_column
         wanting.setdefault((column, key), []).append(prop)
         chosen[prop] = key
-        if cells.get(f"{prop}_note", ""):
-            notes[prop] = cells[f"{prop}_note"]
+        if cells.get(note_column, ""):
+            notes[prop] = cells[note_column]
     problems += _source_problems(wanting, sources)
     if problems:
         return None, problems
@@ -188,21 +191,32 @@ def read_ingredient_rows(table: RawTable) -> tuple[list[FileRow], list[Problem]]
                                 "one (and one column per property)", table.header_row))
         return [], problems
     rows: list[FileRow] = []
+    width = len(table.header)
+    mapped = sorted(columns.items())  # (index, column) in the file's order
+    headless = [i for i in range(width) if i not in columns and not table.header[i]]
+    source_of = [(prop, f"{prop}_source") for prop in PROPERTY_NAMES]
     for number, cells in table.rows:
-        given: Cells = {}
-        for index, text in enumerate(cells):
-            if index in columns:
-                given[columns[index]] = text
-            elif text and (index >= len(table.header) or not table.header[index]):
-                problems.append(Problem(table.file, f"the cell {text[:40]!r} is in a column "
-                                        "without a header", number, _letters(index)))
+        given: Cells
+        if len(cells) == width:  # as read_table gives them: every row as wide as the header
+            given = {column: cells[index] for index, column in mapped}
+            problems += [Problem(table.file, f"the cell {cells[index][:40]!r} is in a column "
+                                 "without a header", number, _letters(index))
+                         for index in headless if cells[index]]
+        else:
+            given = {}
+            for index, text in enumerate(cells):
+                if index in columns:
+                    given[columns[index]] = text
+                elif text and (index >= width or not table.header[index]):
+                    problems.append(Problem(table.file, f"the cell {text[:40]!r} is in a column "
+                                            "without a header", number, _letters(index)))
         row = FileRow(number, given)
         shared = given.pop(SHARED_SOURCE, "")
-        for prop in PROPERTY_NAMES:
-            if given.get(prop) and not given.get(f"{prop}_source"):
-                given[f"{prop}_source"] = shared
-                if f"{prop}_source" not in shown:
-                    row.source_columns[prop] = shown.get(SHARED_SOURCE, f"{prop}_source")
+        for prop, source_column in source_of:
+            if given.get(prop) and not given.get(source_column):
+                given[source_column] = shared
+                if source_column not in shown:
+                    row.source_columns[prop] = shown.get(SHARED_SOURCE, source_column)
         rows.append(row)
     return rows, problems
 

@@ -1,0 +1,129 @@
+"""Many rows into one table with one ``executemany`` of the driver, and the ids they get.
+
+SQLAlchemy's own ``session.execute(insert(table), rows)`` builds and processes the parameters
+of every row in Python (several microseconds a row); a large import writes half a million rows.
+``insert_rows`` writes the same values: each column's bind processor for the dialect is applied
+(a timestamp becomes the text SQLite stores, a yes/no an integer), and every column the rows do
+not name gets its scalar Python default, as a Core INSERT gives it. A table whose missing column
+has a default computed in Python is written through SQLAlchemy's statement instead.
+
+It bypasses the ORM's ``do_orm_execute`` hooks on purpose, so it is for tables the caller may
+write: ``formdb.store.sealing.append_rows`` uses it for rows it has sealed itself, the ingredient
+import for its own tables. The caller's session must already hold what the hooks would have
+done first (the flush of pending ORM rows, the writer's lock: ``sealing.lock_for_write``).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Mapping, Sequence
+from typing import Any
+
+from sqlalchemy import Table, func, insert, select, text
+from sqlalchemy.engine import Dialect
+from sqlalchemy.orm import Session
+
+_MARKERS = {"qmark": "?", "format": "%s", "pyformat": "%s"}
+
+
+def sequence_ids(session: Session, table: str, count: int) -> list[int]:
+    """The next ``count`` values of the PostgreSQL sequence behind ``table.id``, ascending:
+    the ids its serial default would give ``count`` rows inserted one after another."""
+    values = session.connection().execute(
+        text("SELECT nextval(pg_get_serial_sequence(:t, 'id')) FROM generate_series(1, :n)"),
+        {"t": table, "n": count}).scalars().all()
+    return sorted(int(v) for v in values)
+
+
+def new_ids(session: Session, table: Table, count: int) -> list[int]:
+    """The ids ``count`` new rows of ``table`` get when inserted in order without one: its
+    sequence's next values on PostgreSQL; on SQLite the largest id plus 1, 2, ... (a rowid
+    table without AUTOINCREMENT numbers new rows so)."""
+    if session.get_bind().dialect.name == "postgresql":
+        return sequence_ids(session, table.name, count)
+    last = session.connection().execute(select(func.max(table.c.id))).scalar()
+    start = int(last or 0) + 1
+    return list(range(start, start + count))
+
+
+def insert_rows(session: Session, table: Table, columns: Sequence[str],
+                rows: Sequence[tuple[Any, ...]]) -> None:
+    """INSERT ``rows`` (tuples in the order of ``columns``) into ``table``."""
+    if not rows:
+        return
+    connection = session.connection()
+    dialect = connection.dialect
+    marker = _MARKERS.get(dialect.paramstyle)
+    if marker is None:  # a driver with another parameter style
+        _through_sqlalchemy(session, table, columns, rows)
+        return
+    defaults: list[tuple[str, Any]] = []
+    for column in table.columns:
+        if column.key in columns or column.default is None:
+            continue
+        if not column.default.is_scalar:
+            _through_sqlalchemy(session, table, columns, rows)
+            return
+        defaults.append((column.key, column.default.arg))  # type: ignore[attr-defined]
+    names = [*columns, *(name for name, _value in defaults)]
+    constants = tuple(value for _name, value in defaults)
+    processing = [(index, process) for index, process in
+                  enumerate(_processor(table, name, dialect) for name in names)
+                  if process is not None]
+    values: Sequence[tuple[Any, ...]] = rows
+    if processing:
+        values = _processed(rows, constants, processing)
+    elif constants:
+        values = [(*row, *constants) for row in rows]
+    prepare = dialect.identifier_preparer
+    statement = (f"INSERT INTO {prepare.format_table(table)} "
+                 f"({', '.join(prepare.quote(name) for name in names)}) "
+                 f"VALUES ({', '.join([marker] * len(names))})")
+    connection.exec_driver_sql(statement, list(values))
+
+
+def insert_dicts(session: Session, table: Table, rows: Sequence[Mapping[str, Any]]) -> None:
+    """INSERT ``rows`` (dicts with the same keys) into ``table``."""
+    if not rows:
+        return
+    keys = rows[0].keys()
+    if any(row.keys() != keys for row in rows):  # rows of several shapes: SQLAlchemy's way
+        session.connection().execute(insert(table), [dict(row) for row in rows])
+        return
+    columns = list(keys)
+    insert_rows(session, table, columns, [tuple(row[c] for c in columns) for row in rows])
+
+
+def _processor(table: Table, name: str, dialect: Dialect) -> Callable[[Any], Any] | None:
+    column_type = table.c[name].type
+    return column_type.dialect_impl(dialect).bind_processor(dialect)
+
+
+def _processed(rows: Sequence[tuple[Any, ...]], constants: tuple[Any, ...],
+               processing: list[tuple[int, Callable[[Any], Any]]]) -> list[tuple[Any, ...]]:
+    """The rows with the bind processors applied; a value that is the very object of the row
+    before (one timestamp for a whole import, True, False) is processed once."""
+    last: list[tuple[Any, Any]] = [(_UNSET, None)] * len(processing)
+    out = []
+    for row in rows:
+        cells = [*row, *constants]
+        for slot, (index, process) in enumerate(processing):
+            value = cells[index]
+            seen, done = last[slot]
+            if value is not seen:
+                done = process(value)
+                last[slot] = (value, done)
+            cells[index] = done
+        out.append(tuple(cells))
+    return out
+
+
+_UNSET = object()
+
+
+def _through_sqlalchemy(session: Session, table: Table, columns: Sequence[str],
+                        rows: Sequence[tuple[Any, ...]]) -> None:
+    session.connection().execute(insert(table), [dict(zip(columns, row, strict=True))
+                                                 for row in rows])
+
+
+__all__ = ["insert_dicts", "insert_rows", "new_ids", "sequence_ids"]

@@ -1,0 +1,124 @@
+"""The shortcuts a large ingredient import takes give what the general paths give.
+
+- ``added_changes`` (the change-log changes of a new ingredient, built directly) equals
+  ``typed_changes(None, fields_of(item))`` for every seed ingredient and synthetic ones;
+- ``store.bulk.insert_rows`` (one executemany of the driver) stores the same column values as
+  SQLAlchemy's Core INSERT, defaults and processed timestamps included, and ``new_ids`` names
+  the id the database itself gives the next row;
+- the cycle collector is back as it was after an import, whether the import wrote or refused.
+The whole-import equivalence (every row, id and change-log entry against writing ingredients
+one at a time) is tests/bench/test_bulk_import.py.
+"""
+
+from __future__ import annotations
+
+import gc
+from collections.abc import Iterator
+from datetime import UTC, datetime
+from pathlib import Path
+from typing import cast
+
+import pytest
+from sqlalchemy import Table, insert, select
+
+from formdb.bench import library, synthetic
+from formdb.services.library.ingredient_log import added_changes, fields_of, typed_changes
+from formdb.services.library.ingredient_rows import FileRow, empty_cells, overlay, validate_cells
+from formdb.services.library.ingredients import import_table
+from formdb.services.library.tables import TableProblems
+from formdb.store.bulk import insert_dicts, insert_rows, new_ids
+from formdb.store.db import make_engine, unit_of_work
+from formdb.store.models import Ingredient, IngredientName
+from formdb.store.sealing import LibrarySession
+
+
+def _items() -> Iterator[object]:
+    sources = dict.fromkeys((synthetic.SOURCE_KEY, "rule-of-thumb", "from-memory"), "published")
+    rows = [*synthetic.seed_rows(), *synthetic.synthetic_ingredient_rows(500, seed=11)]
+    for number, given in enumerate(rows, start=2):
+        cells = overlay(empty_cells(), FileRow(number, dict(given)))
+        sources.update({cells[c]: "published" for c in cells if c.endswith("_source")
+                        and cells[c]})
+        item, problems = validate_cells(cells, sources)
+        assert item is not None, problems
+        yield item
+
+
+def test_added_changes_are_the_typed_changes_from_nothing() -> None:
+    count = 0
+    for item in _items():
+        assert added_changes(item) == typed_changes(None, fields_of(item))  # type: ignore[arg-type]
+        count += 1
+    assert count > 600
+
+
+def _session(url: str) -> Iterator[LibrarySession]:
+    engine = make_engine(url)
+    try:
+        with unit_of_work(engine, write=True) as session:
+            yield cast(LibrarySession, session)
+    finally:
+        engine.dispose()
+
+
+def test_insert_rows_stores_what_a_core_insert_stores(seeded_library_url: str) -> None:
+    table = cast(Table, Ingredient.__table__)
+    at = datetime(2026, 12, 5, 1, 2, 3, 456789, tzinfo=UTC)
+    for session in _session(seeded_library_url):
+        [bulk_id] = new_ids(session, table, 1)
+        # retired and version are left to their defaults, the timestamps are processed
+        insert_rows(session, table, ("id", "inci_name", "created_at", "updated_at",
+                                     "updated_by"), [(bulk_id, "Bulk Ester", at, at, "t")])
+        expected = bulk_id + 1
+        core_id = session.execute(
+            insert(table).returning(table.c.id),
+            [{"inci_name": "Core Ester", "created_at": at, "updated_at": at,
+              "updated_by": "t"}]).scalar_one()
+        assert core_id == expected  # new_ids named the id the database gives next
+        names = cast(Table, IngredientName.__table__)
+        insert_dicts(session, names, [{"ingredient_id": bulk_id, "name": "Bulk Ester",
+                                       "name_key": "bulk ester"}])  # is_primary: default
+        session.execute(insert(names), [{"ingredient_id": core_id, "name": "Core Ester",
+                                         "name_key": "core ester"}])
+        connection = session.connection()
+        stored = {}
+        for key in (bulk_id, core_id):
+            # the raw values the database holds: SQLite's timestamp text as it is
+            row = connection.exec_driver_sql(
+                "SELECT retired, version, created_at, updated_at, updated_by FROM ingredients "
+                f"WHERE id = {key}").one()
+            name = connection.exec_driver_sql(
+                f"SELECT is_primary FROM ingredient_names WHERE ingredient_id = {key}").one()
+            stored[key] = (*row, *name)
+        assert stored[bulk_id] == stored[core_id]
+        assert len(session.scalars(select(Ingredient.id).where(
+            Ingredient.id.in_([bulk_id, core_id]))).all()) == 2
+
+
+def test_new_ids_follow_the_largest_id(seeded_library_url: str) -> None:
+    table = cast(Table, Ingredient.__table__)
+    for session in _session(seeded_library_url):
+        first, second = new_ids(session, table, 2)
+        assert second == first + 1
+        assert first > max(session.scalars(select(Ingredient.id)).all())
+
+
+def test_the_cycle_collector_is_back_after_an_import(seeded_sqlite_url: str,
+                                                     tmp_path: Path) -> None:
+    good = tmp_path / "good.csv"
+    synthetic.write_ingredient_csv(good, synthetic.synthetic_ingredient_rows(5, seed=3))
+    bad = tmp_path / "bad.csv"
+    bad.write_text("inci_name,hlb,hlb_source\nSynthetic Bad Ester,99,from-memory\n",
+                   encoding="utf-8")
+    for enabled in (True, False):
+        (gc.enable if enabled else gc.disable)()
+        try:
+            for session in _session(seeded_sqlite_url):
+                library.add_source(session, "formdb")
+                import_table(session, good, user="formdb", reason="test", action="seed")
+                assert gc.isenabled() is enabled
+                with pytest.raises(TableProblems):
+                    import_table(session, bad, user="formdb", reason="test", action="seed")
+                assert gc.isenabled() is enabled
+        finally:
+            gc.enable()
