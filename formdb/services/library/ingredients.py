@@ -17,7 +17,7 @@ from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any, cast
 
-from sqlalchemy import Select, Table, select
+from sqlalchemy import Select, Table, func, select
 from sqlalchemy.orm import Session, selectinload
 from sqlalchemy.orm.exc import StaleDataError
 
@@ -160,6 +160,13 @@ def _owners(session: Session, keys: Iterable[str]) -> dict[str, Ingredient]:
     """Name key -> the ingredient that answers to it (INCI name or synonym), children loaded."""
     wanted = sorted(set(keys))
     key_to_id: dict[str, int] = {}
+    if len(wanted) > _CHUNK and session.execute(
+            select(func.count()).select_from(IngredientName)).scalar_one() <= len(wanted):
+        # a large import into a smaller library: its names read at once, not asked one by one
+        asked = set(wanted)
+        key_to_id.update((key, ingredient_id) for key, ingredient_id in session.execute(
+            select(IngredientName.name_key, IngredientName.ingredient_id)) if key in asked)
+        wanted = []
     for start in range(0, len(wanted), _CHUNK):
         key_to_id.update(session.execute(
             select(IngredientName.name_key, IngredientName.ingredient_id)
@@ -439,7 +446,10 @@ def _import_table(session: Session, path: Path, *, user: str, reason: str | None
     unusual: list[tuple[int, Ingredient | None, IngredientIn, list[FieldChange]]] = []
     labels = header_labels(table)
     sources = _sources(session)
-    owners = _owners(session, (name_key(n) for r in rows for _c, n in _names_of(r.given)))
+    # each row's names as (column, name, key), worked out once
+    row_names = [[(column, n, name_key(n)) for column, n in _names_of(r.given)] for r in rows]
+    owners = _owners(session, (key for names in row_names for _c, _n, key in names))
+    blank = empty_cells()  # the cells of a new ingredient (read, never changed)
     report = ImportReport(str(path), dry_run)
     first_use: dict[str, tuple[int, str]] = {}
     described: dict[int, int] = {}
@@ -450,22 +460,20 @@ def _import_table(session: Session, path: Path, *, user: str, reason: str | None
         problems.append(Problem(table.file, text, row, labels.get(column, column)
                                 if column else None))
 
-    for row in rows:
-        names = _names_of(row.given)
-        for column, n in names:
-            earlier = first_use.setdefault(name_key(n), (row.row, column))
+    for row, names in zip(rows, row_names, strict=True):
+        for column, n, key in names:
+            earlier = first_use.setdefault(key, (row.row, column))
             if earlier[0] != row.row:
                 problem(row.row, column, f"{n!r} is already used on row {earlier[0]} "
                         f"(column {labels.get(earlier[1], earlier[1])}); each name may appear once")
-        target = owners.get(name_key(names[0][1])) if names and names[0][0] == NAME_COLUMN \
-            else None
+        target = owners.get(names[0][2]) if names and names[0][0] == NAME_COLUMN else None
         if target is not None:
             if target.id in described:
                 problem(row.row, NAME_COLUMN, f"{names[0][1]!r} is the library's "
                         f"{target.inci_name!r}, which row {described[target.id]} already describes")
             described.setdefault(target.id, row.row)
-        for column, n in names:
-            owner = owners.get(name_key(n))
+        for column, n, key in names:
+            owner = owners.get(key) if owners else None
             if owner is not None and owner is not target:
                 kind = "its INCI name" if name_key(owner.inci_name) == name_key(n) \
                     else "a synonym"
@@ -473,7 +481,7 @@ def _import_table(session: Session, path: Path, *, user: str, reason: str | None
                         f"ingredient, {owner.inci_name!r} (as {kind}); a name may belong to one "
                         "ingredient only")
         before = None if target is None else _as_input(queries.record_from_row(target, {}))
-        base = empty_cells() if before is None else render_ingredient(before)
+        base = blank if before is None else render_ingredient(before)
         if keep_existing and target is not None:
             row, left = missing_only(base, row, target.inci_name)
             report.left_alone += left
