@@ -22,6 +22,7 @@ import pytest
 from sqlalchemy import Table, insert, select
 
 from formdb.bench import library, synthetic
+from formdb.services.library import ingredients
 from formdb.services.library.ingredient_log import added_changes, fields_of, typed_changes
 from formdb.services.library.ingredient_rows import FileRow, empty_cells, overlay, validate_cells
 from formdb.services.library.ingredients import import_table
@@ -122,3 +123,15 @@ def test_the_cycle_collector_is_back_after_an_import(seeded_sqlite_url: str,
                 assert gc.isenabled() is enabled
         finally:
             gc.enable()
+
+
+def test_owners_read_at_once_are_the_owners_asked_for(seeded_sqlite_url: str,
+                                                      monkeypatch: pytest.MonkeyPatch) -> None:
+    for session in _session(seeded_sqlite_url):
+        known = list(session.scalars(select(IngredientName.name_key)))
+        keys = [*known[:40], *(f"unknown ester {i}" for i in range(len(known)))]
+        asked = ingredients._owners(session, keys)  # fewer than _CHUNK: IN-lists
+        monkeypatch.setattr(ingredients, "_CHUNK", 10)  # now the library holds fewer names
+        at_once = ingredients._owners(session, keys)
+        assert len(asked) == 40
+        assert {k: i.id for k, i in at_once.items()} == {k: i.id for k, i in asked.items()}
