@@ -87,6 +87,11 @@ def main(argv: list[str] | None = None) -> None:
     import formdb.services.checking.flow
     if args.task == "import":
         import formdb.services.library.ingredients
+        # the database dialect too: SQLAlchemy loads it when the first engine is made
+        if args.url.startswith("postgresql"):
+            import sqlalchemy.dialects.postgresql.psycopg
+        else:
+            import sqlalchemy.dialects.sqlite.pysqlite  # noqa: F401
     if args.task == "lists":
         import formdb.services.lists.importing  # noqa: F401
 
