@@ -69,6 +69,27 @@ def test_canonical_is_fixed_order_text_with_utc_times() -> None:
         canonical("change_log", row)
 
 
+def test_sealing_text_is_the_verifiers_canonical_byte_for_byte() -> None:
+    # seal() makes the text of a current-form row its own quicker way; `formdb audit verify`
+    # recomputes it with canonical(): both must give the same bytes for every kind of value
+    tricky = 'quote " back \\ slash / tab \t nl \n nul \x00 bell \x07 del \x7f é ✓ \u2028 😀'
+    rows = [_entry(), _entry(reason=None, entity_version=None), _entry(reason=""),
+            _entry(entity_key=tricky, user=tricky, reason=tricky,
+                   payload=payload_text([{"field": "note", "old": None, "new": tricky}])),
+            _entry(at=datetime(2026, 3, 1, 11, 30, tzinfo=timezone(timedelta(hours=2)))),
+            _entry(entity_version=True, reason=2.5)]
+    for table, row in [("change_log", r) for r in rows] + [
+            ("review_signatures", {"run_id": 3, "run_hash": "ab", "signer": tricky,
+                                   "signed_at": datetime(2026, 3, 1), "waivers_json": None,
+                                   "key_id": "k1"}),
+            ("review_runs", {"run_key": "r", "signable": False, "created_at":
+                             datetime(2026, 3, 1, 9, 0, tzinfo=UTC), "policy_json": "{}"})]:
+        sealed = [dict(row)]
+        seal(table, sealed, 41, GENESIS)
+        assert sealed[0]["row_hash"] == row_hash(GENESIS, canonical(table, sealed[0]))
+        assert sealed[0]["id"] == 41
+
+
 def test_every_column_but_row_hash_is_sealed() -> None:
     from formdb.store.sealing import NOT_CANONICAL
 
