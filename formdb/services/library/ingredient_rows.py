@@ -259,14 +259,14 @@ def overlay(base: Mapping[str, str], row: FileRow) -> Cells:
     for column in (NAME_COLUMN, *LIST_FIELDS):
         if given.get(column):
             cells[column] = given[column]
-    for prop in PROPERTY_NAMES:
-        if not given.get(prop):
+    for prop, source_column, note_column in _PROPERTY_COLUMNS:
+        value = given.get(prop)
+        if not value:
             continue
-        source = given.get(f"{prop}_source", "")
-        note_column = f"{prop}_note"
-        moved = (not _same_value(prop, given[prop], base.get(prop, ""))
-                 or source != base.get(f"{prop}_source", ""))
-        cells[prop], cells[f"{prop}_source"] = given[prop], source
+        source = given.get(source_column, "")
+        moved = (not _same_value(prop, value, base.get(prop, ""))
+                 or source != base.get(source_column, ""))
+        cells[prop], cells[source_column] = value, source
         if note_column in given:
             cells[note_column] = given[note_column]
         elif moved:
