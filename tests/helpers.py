@@ -13,6 +13,7 @@ from pathlib import Path
 from typing import Any
 from uuid import uuid4
 
+import pytest
 from click.testing import CliRunner
 from sqlalchemy import MetaData, Select, create_engine, func, select, text
 from sqlalchemy.engine import Connection, Engine, make_url
@@ -283,3 +284,17 @@ def chromium() -> Path:
     if os.environ.get("FORMDB_TEST_NEED_CHROMIUM"):
         pytest.fail("the system Chromium is needed: apt-get install chromium")
     pytest.skip("no system Chromium (apt-get install chromium); CI runs these tests")
+
+
+# The Commission's annex exports, read-only beside the repository (never copied into it).
+ANNEX_EXPORTS = Path(__file__).resolve().parents[2] / "shared" / "regulatory" / \
+    "eu-cosing-annexes-2025-10-31"
+if not ANNEX_EXPORTS.is_dir():  # a worktree sits one level deeper than the main checkout
+    ANNEX_EXPORTS = Path("/work/shared/regulatory/eu-cosing-annexes-2025-10-31")
+
+
+def needs_annex_exports() -> pytest.MarkDecorator:
+    """Skip where the exports are not on the machine (they are never in the repository)."""
+    return pytest.mark.skipif(
+        not ANNEX_EXPORTS.is_dir(), reason="the Commission's annex exports (../shared/regulatory/"
+        "eu-cosing-annexes-2025-10-31) are not on this machine")

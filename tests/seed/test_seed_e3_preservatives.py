@@ -17,15 +17,11 @@ import pytest
 from formdb.schemas.ingredient import name_key
 from formdb.schemas.lists import ListEntry
 from formdb.services.lists.importing import read_export
+from tests.helpers import ANNEX_EXPORTS, needs_annex_exports
 
 SEED = Path(__file__).resolve().parents[2] / "seed_data"
-SHARED = Path(__file__).resolve().parents[3] / "shared" / "regulatory" / \
-    "eu-cosing-annexes-2025-10-31"
-if not SHARED.is_dir():  # a worktree sits one level deeper than the main checkout
-    SHARED = Path("/work/shared/regulatory/eu-cosing-annexes-2025-10-31")
-needs_exports = pytest.mark.skipif(
-    not SHARED.is_dir(), reason="the Commission's annex exports (../shared/regulatory/"
-    "eu-cosing-annexes-2025-10-31) are not on this machine")
+SHARED = ANNEX_EXPORTS
+needs_exports = needs_annex_exports()
 
 
 def _rows(name: str) -> list[dict[str, str]]:

@@ -24,7 +24,7 @@ from formdb.store.change_log import FORM, payload_text
 from formdb.store.db import make_engine, unit_of_work
 from formdb.store.models import Base, ChangeLogEntry
 from formdb.store.sealing import GENESIS, SEALED_COLUMNS, AppendOnly, canonical, row_hash, seal
-from tests.helpers import run_formdb
+from tests.helpers import drop_roles, run_formdb
 from tests.store.edit_workers import STRESS_NAMES, edit_rounds
 
 # --- the hashing on plain data -------------------------------------------------------------------
@@ -322,20 +322,4 @@ def test_insert_only_logins_seal_and_cannot_rewrite(pg_url: str) -> None:
         assert not _try(reviewer, "UPDATE review_runs SET created_by = 'x'")
         assert not _try(reviewer, "DELETE FROM review_signatures")
     finally:
-        _drop_roles(pg_url, prefix)
-
-
-def _drop_roles(pg_url: str, prefix: str) -> None:
-    from sqlalchemy import create_engine
-
-    admin = create_engine(pg_url, isolation_level="AUTOCOMMIT")
-    try:
-        with admin.connect() as conn:
-            roles = conn.execute(text("SELECT rolname FROM pg_roles WHERE rolname LIKE :p"),
-                                 {"p": f"{prefix}%"}).scalars().all()
-            for role in roles:
-                conn.execute(text(f'DROP OWNED BY "{role}"'))
-            for role in roles:
-                conn.execute(text(f'DROP ROLE "{role}"'))
-    finally:
-        admin.dispose()
+        drop_roles(pg_url, prefix)

@@ -22,15 +22,10 @@ from formdb.store import queries
 from formdb.store.library import Library
 from formdb.store.lists import record_match_keys
 from tests.conftest import TEST_USER
-from tests.helpers import dump_database, run_formdb
+from tests.helpers import ANNEX_EXPORTS, dump_database, needs_annex_exports, run_formdb
 
-SHARED = Path(__file__).resolve().parents[3] / "shared" / "regulatory" / \
-    "eu-cosing-annexes-2025-10-31"
-if not SHARED.is_dir():  # a worktree sits one level deeper than the main checkout
-    SHARED = Path("/work/shared/regulatory/eu-cosing-annexes-2025-10-31")
-needs_exports = pytest.mark.skipif(
-    not SHARED.is_dir(), reason="the Commission's annex exports (../shared/regulatory/"
-    "eu-cosing-annexes-2025-10-31) are not on this machine")
+SHARED = ANNEX_EXPORTS
+needs_exports = needs_annex_exports()
 
 
 def export(annex: str) -> Path:

@@ -77,11 +77,7 @@ def team(pg_url: str) -> Iterator[Team]:
             assert added.exit_code == 0, added.stderr
         yield t
     finally:
-        _drop_roles(pg_url, prefix)
-
-
-def _drop_roles(pg_url: str, prefix: str) -> None:
-    drop_roles(pg_url, prefix)
+        drop_roles(pg_url, prefix)
 
 
 def _rows(url: str, sql: str) -> list[tuple[object, ...]]:
@@ -212,7 +208,7 @@ def test_a_server_refusal_is_one_line_naming_the_role(pg_url: str) -> None:
         for leak in ("UPDATE", "INSERT", "SELECT", "Polysorbate", "internal problem"):
             assert leak not in refused.stderr
     finally:
-        _drop_roles(pg_url, prefix)
+        drop_roles(pg_url, prefix)
 
 
 def test_deactivated_login_cannot_log_in_and_stays_in_history(team: Team) -> None:
@@ -397,7 +393,7 @@ def owned_team(pg_url: str) -> Iterator[Team]:
             assert added.exit_code == 0, added.stderr
         yield t
     finally:
-        _drop_roles(pg_url, prefix)
+        drop_roles(pg_url, prefix)
 
 
 def test_stepping_down_rewriting_the_log_and_up_is_refused_or_caught(owned_team: Team,
