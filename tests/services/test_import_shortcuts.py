@@ -22,12 +22,20 @@ import pytest
 from sqlalchemy import Table, insert, select
 
 from formdb.bench import library, synthetic
+from formdb.schemas.ingredient import IngredientIn, IngredientProperties
+from formdb.schemas.vocab import Role
 from formdb.services.library import ingredients
-from formdb.services.library.ingredient_log import added_changes, fields_of, typed_changes
+from formdb.services.library.ingredient_log import (
+    added_changes,
+    added_payload,
+    fields_of,
+    typed_changes,
+)
 from formdb.services.library.ingredient_rows import FileRow, empty_cells, overlay, validate_cells
 from formdb.services.library.ingredients import import_table
 from formdb.services.library.tables import TableProblems
 from formdb.store.bulk import insert_dicts, insert_rows, new_ids
+from formdb.store.change_log import payload_text, value_json
 from formdb.store.db import make_engine, unit_of_work
 from formdb.store.models import Ingredient, IngredientName
 from formdb.store.sealing import LibrarySession
@@ -51,6 +59,29 @@ def test_added_changes_are_the_typed_changes_from_nothing() -> None:
         assert added_changes(item) == typed_changes(None, fields_of(item))  # type: ignore[arg-type]
         count += 1
     assert count > 600
+
+
+def test_added_payload_is_the_payload_text_of_the_added_changes() -> None:
+    # written as text in one pass; the entry is sealed as is, so it must be the same bytes
+    count = 0
+    for item in _items():
+        for via in (None, "larkspur.csv"):
+            assert added_payload(item, via=via) == \
+                payload_text(added_changes(item), via=via)  # type: ignore[arg-type]
+        count += 1
+    assert count > 600
+    tricky = 'Quote " back \\ tab \t nl \n bell \x07 é ✓ \u2028 😀'
+    item = IngredientIn(
+        inci_name="Cetearyl Alcohol", synonyms=('Quote " back \\ é ✓ 😀', "Cetostearyl Alcohol"),
+        cas_numbers=("67762-27-0",), roles=(Role.THICKENER,), classes=("paraben",),
+        properties=IngredientProperties(hlb=1e-7, viscosity_mpas=1e7, ethoxylated=False),
+        sources={"hlb": tricky, "viscosity_mpas": "lab", "ethoxylated": "lab"},
+        notes={"hlb": tricky, "viscosity_mpas": ""})
+    assert added_payload(item, via=tricky) == payload_text(added_changes(item), via=tricky)
+    for value in (0.1, -0.0, 1e300, float("nan"), float("inf"), 7, True, None, ["a", "é"],
+                  ("x",), [1.5], {"k": 1}, Role.THICKENER):
+        assert value_json(value) == payload_text([{"v": value}])[len('{"v":1,"changes":[{"v":'):
+                                                               -len("}]}")], value
 
 
 def _session(url: str) -> Iterator[LibrarySession]:

@@ -24,6 +24,7 @@ from formdb.schemas.ingredient import (
     Provenance,
 )
 from formdb.schemas.vocab import Evidence, Role
+from formdb.store.change_log import new_change_json, payload_of
 
 Field = tuple[Any, str | None, str | None]  # value, source key, note
 Fields = dict[str, Field]
@@ -111,6 +112,24 @@ def added_changes(item: IngredientIn) -> list[dict[str, Any]]:
             change["old_note"], change["new_note"] = None, note
         out.append(change)
     return out
+
+
+def added_payload(item: IngredientIn, *, via: str | None) -> str:
+    """``payload_text(added_changes(item), via=via)``, written as text in one pass (no dicts
+    built and encoded): the payload of a new ingredient's change-log entry."""
+    parts = [new_change_json("inci_name", item.inci_name)]
+    for field, items in (("synonyms", sorted(item.synonyms, key=str.casefold)),
+                         ("cas", sorted(item.cas_numbers)),
+                         ("roles", sorted(_data(r) for r in item.roles)),
+                         ("classes", sorted(item.classes))):
+        if items:
+            parts.append(new_change_json(field, items, listed=True))
+    sources, notes = item.sources, item.notes
+    for prop, value in vars(item.properties).items():  # the fields, in catalogue order
+        if value is not None:
+            parts.append(new_change_json(prop, _data(value), sources.get(prop),
+                                         notes.get(prop) or None))
+    return payload_of(parts, via=via)
 
 
 def undo(fields: Fields, changes: Iterable[Mapping[str, Any]]) -> None:

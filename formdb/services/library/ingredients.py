@@ -49,7 +49,7 @@ from formdb.services.library.ingredient_fields import (
 from formdb.services.library.ingredient_log import (
     LIST_FIELDS,
     Fields,
-    added_changes,
+    added_payload,
     fields_of,
     typed_changes,
 )
@@ -638,7 +638,7 @@ def _insert_chunk(session: Session, batch: Sequence[IngredientIn], evidence: Map
                            item.notes.get(prop)))
         log.append(log_values(
             at=now, user=user, entity=ENTITY, entity_key=item.inci_name, entity_version=1,
-            action=action, changes=added_changes(item), reason=reason, via=via))
+            action=action, payload=added_payload(item, via=via), reason=reason))
     for model, columns, rows in (
             (IngredientName, ("ingredient_id", "name", "name_key", "is_primary"), names),
             (IngredientCas, ("ingredient_id", "cas"), cas),
