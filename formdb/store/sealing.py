@@ -128,17 +128,16 @@ def canonical(table: str, values: Mapping[str, Any]) -> str:
     """The row as one text: [[column, value-as-text], ...] in the order of its form's columns
     (SEALED_COLUMNS for rows written now, FORMS for older forms), as JSON; a column of
     ADDED_LATER is listed only when it holds a value."""
-    columns = SEALED_COLUMNS[table]
     form = values.get("form")
-    if table in FORMS and form is not None and form != max(FORMS[table]):
-        columns = FORMS[table].get(form if isinstance(form, int) else -1, ())
-        if not columns:
-            return json.dumps([["form", as_text(form)]])  # no such form: never matches a hash
-        values = {**values, **_sealed_text(values.get("payload"))}
-    later = ADDED_LATER.get(table)
-    pairs = ([[column, as_text(values.get(column))] for column in columns] if later is None else
-             [[column, as_text(values.get(column))] for column in columns
-              if column not in later or values.get(column) is not None])
+    if table not in FORMS or form is None or form == max(FORMS[table]):
+        return _current_canonical(table, values)
+    columns = FORMS[table].get(form if isinstance(form, int) else -1, ())
+    if not columns:
+        return json.dumps([["form", as_text(form)]])  # no such form: never matches a hash
+    values = {**values, **_sealed_text(values.get("payload"))}
+    later = ADDED_LATER.get(table, frozenset())
+    pairs = [[column, as_text(values.get(column))] for column in columns
+             if column not in later or values.get(column) is not None]
     return _CANONICAL_JSON.encode(pairs)
 
 
@@ -173,18 +172,15 @@ def seal(table: str, rows: Sequence[dict[str, Any]], first_id: int | Sequence[in
             if isinstance(value, datetime):
                 row[key] = utc(value)
         row["id"], row["prev_hash"] = row_id, prev_hash
-        form = row.get("form")
-        text = (canonical(table, row) if current is not None and form is not None
-                and form != current else _current_canonical(table, row))
-        row["row_hash"] = prev_hash = row_hash(prev_hash, text)
+        row["row_hash"] = prev_hash = row_hash(prev_hash, canonical(table, row))
     return prev_hash
 
 
 def _current_canonical(table: str, values: Mapping[str, Any]) -> str:
-    """``canonical(table, values)`` for a row of its table's current form, byte for byte: each
-    value's text escaped once as a JSON string and joined to its column's fixed head, instead of
-    building the pairs and encoding them again (a large import seals 50,000 rows, each with a
-    payload JSON of its own; tests/services/test_audit_chain.py holds the two equal)."""
+    """The canonical text of a row of its table's current form: the JSON of its [column, text]
+    pairs, written as each value's text escaped once (as a JSON string) and joined to its
+    column's fixed head, instead of building the pairs and encoding them (a large import seals
+    50,000 rows; tests/services/test_audit_chain.py holds it to the pairs' JSON byte for byte)."""
     later = ADDED_LATER.get(table)
     parts = []
     for column, head in _HEADS[table]:

@@ -23,7 +23,16 @@ from formdb.services.library.ingredients import add_ingredient, edit_ingredient
 from formdb.store.change_log import FORM, payload_text
 from formdb.store.db import make_engine, unit_of_work
 from formdb.store.models import Base, ChangeLogEntry
-from formdb.store.sealing import GENESIS, SEALED_COLUMNS, AppendOnly, canonical, row_hash, seal
+from formdb.store.sealing import (
+    ADDED_LATER,
+    GENESIS,
+    SEALED_COLUMNS,
+    AppendOnly,
+    as_text,
+    canonical,
+    row_hash,
+    seal,
+)
 from tests.helpers import drop_roles, run_formdb
 from tests.store.edit_workers import STRESS_NAMES, edit_rounds
 
@@ -70,8 +79,9 @@ def test_canonical_is_fixed_order_text_with_utc_times() -> None:
 
 
 def test_sealing_text_is_the_verifiers_canonical_byte_for_byte() -> None:
-    # seal() makes the text of a current-form row its own quicker way; `formdb audit verify`
-    # recomputes it with canonical(): both must give the same bytes for every kind of value
+    # canonical() writes a current-form row's text its own quicker way; it must be, byte for
+    # byte, the definition: the JSON (no spaces, non-ASCII kept) of the [column, text] pairs in
+    # hashing order, a column added later listed only when it holds a value
     tricky = 'quote " back \\ slash / tab \t nl \n nul \x00 bell \x07 del \x7f é ✓ \u2028 😀'
     rows = [_entry(), _entry(reason=None, entity_version=None), _entry(reason=""),
             _entry(entity_key=tricky, user=tricky, reason=tricky,
@@ -86,7 +96,13 @@ def test_sealing_text_is_the_verifiers_canonical_byte_for_byte() -> None:
                              datetime(2026, 3, 1, 9, 0, tzinfo=UTC), "policy_json": "{}"})]:
         sealed = [dict(row)]
         seal(table, sealed, 41, GENESIS)
-        assert sealed[0]["row_hash"] == row_hash(GENESIS, canonical(table, sealed[0]))
+        later = ADDED_LATER.get(table, frozenset())
+        defined = json.dumps([[column, as_text(sealed[0].get(column))]
+                              for column in SEALED_COLUMNS[table]
+                              if column not in later or sealed[0].get(column) is not None],
+                             ensure_ascii=False, separators=(",", ":"))
+        assert canonical(table, sealed[0]) == defined
+        assert sealed[0]["row_hash"] == row_hash(GENESIS, defined)
         assert sealed[0]["id"] == 41
 
 
