@@ -87,36 +87,12 @@ def typed_changes(old: Fields | None, new: Fields) -> list[dict[str, Any]]:
     return out
 
 
-def added_changes(item: IngredientIn) -> list[dict[str, Any]]:
-    """``typed_changes(None, fields_of(item))`` built directly: the changes of an ingredient
-    that is new (an import adds tens of thousands). Every field that holds something, from
-    nothing: the name, the lists that are not empty, each property's value with its source
-    and, where there is one, its note."""
-    out: list[dict[str, Any]] = [{"field": "inci_name", "old": None, "new": item.inci_name}]
-    for field, items in (("synonyms", sorted(item.synonyms, key=str.casefold)),
-                         ("cas", sorted(item.cas_numbers)),
-                         ("roles", sorted(_data(r) for r in item.roles)),
-                         ("classes", sorted(item.classes))):
-        if items:
-            out.append({"field": field, "old": [], "new": items})
-    sources, notes = item.sources, item.notes
-    for prop, value in vars(item.properties).items():  # the fields, in catalogue order
-        if value is None:
-            continue
-        change = {"field": prop, "old": None, "new": _data(value)}
-        source = sources.get(prop)
-        if source is not None:
-            change["old_source"], change["new_source"] = None, source
-        note = notes.get(prop) or None
-        if note is not None:
-            change["old_note"], change["new_note"] = None, note
-        out.append(change)
-    return out
-
-
 def added_payload(item: IngredientIn, *, via: str | None) -> str:
-    """``payload_text(added_changes(item), via=via)``, written as text in one pass (no dicts
-    built and encoded): the payload of a new ingredient's change-log entry."""
+    """``payload_text(typed_changes(None, fields_of(item)), via=via)``, written as text in one
+    pass (no dicts built and encoded): the payload of a new ingredient's change-log entry (an
+    import adds tens of thousands). Every field that holds something, from nothing: the name,
+    the lists that are not empty, each property's value with its source and, where there is
+    one, its note."""
     parts = [new_change_json("inci_name", item.inci_name)]
     for field, items in (("synonyms", sorted(item.synonyms, key=str.casefold)),
                          ("cas", sorted(item.cas_numbers)),
@@ -175,5 +151,5 @@ def record_from_fields(fields: Fields, *, ingredient_id: int, version: int,
                           f"({exc}).", hint="compare with a later version (--since)") from None
 
 
-__all__ = ["FIELD_ORDER", "Fields", "added_changes", "fields_of", "record_from_fields",
+__all__ = ["FIELD_ORDER", "Fields", "added_payload", "fields_of", "record_from_fields",
            "typed_changes", "undo"]
