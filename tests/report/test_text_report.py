@@ -68,16 +68,19 @@ def test_the_published_blend_and_its_ratio_are_shown() -> None:
     assert "inside the band" in text
 
 
+# stearic acid and sodium hydroxide with the molar masses and stoichiometry the soap needs
+_SOAP_PAIR = {
+    "Stearic Acid": {"roles": {Role.FATTY_ACID, Role.EMULSIFIER}, "props": {
+        "solubility": "oil", "density": 0.94, "molar_mass": 284.48, "required_hlb_ow": 15}},
+    "Sodium Hydroxide": {"roles": {Role.PH_ADJUSTER}, "props": {
+        "solubility": "water", "density": 2.13, "molar_mass": 39.997,
+        "base_equivalents": 1, "cation_valence": 1, "neutralisation_water": 1}},
+}
+
+
 def test_soap_formed_in_place_is_marked() -> None:
-    extra = {
-        "Stearic Acid": {"roles": {Role.FATTY_ACID, Role.EMULSIFIER}, "props": {
-            "solubility": "oil", "density": 0.94, "molar_mass": 284.48, "required_hlb_ow": 15}},
-        "Sodium Hydroxide": {"roles": {Role.PH_ADJUSTER}, "props": {
-            "solubility": "water", "density": 2.13, "molar_mass": 39.997,
-            "base_equivalents": 1, "cation_valence": 1, "neutralisation_water": 1}},
-    }
     text = render([result(lines=[("Water", 84.0), ("Stearic Acid", 15.0),
-                                 ("Sodium Hydroxide", 1.0)], extra=extra,
+                                 ("Sodium Hydroxide", 1.0)], extra=_SOAP_PAIR,
                           intended_type="O/W")], "text")
     flat = " ".join(text.split())
     assert "Soap formed in the batch" in flat and "Left over" in flat
@@ -96,15 +99,8 @@ def test_several_formulas_then_the_cautions_once() -> None:
 def test_a_soap_in_a_kind_without_the_hlb_balance_is_worked_out_in_the_phases() -> None:
     # a liquid soap stated as a surfactant solution: no HLB balance section, so the phases note
     # must not send the reader there; the soap's working (same stoichiometry as above) is shown
-    extra = {
-        "Stearic Acid": {"roles": {Role.FATTY_ACID, Role.EMULSIFIER}, "props": {
-            "solubility": "oil", "density": 0.94, "molar_mass": 284.48, "required_hlb_ow": 15}},
-        "Sodium Hydroxide": {"roles": {Role.PH_ADJUSTER}, "props": {
-            "solubility": "water", "density": 2.13, "molar_mass": 39.997,
-            "base_equivalents": 1, "cation_valence": 1, "neutralisation_water": 1}},
-    }
     text = render([result(lines=[("Water", 84.0), ("Stearic Acid", 15.0),
-                                 ("Sodium Hydroxide", 1.0)], extra=extra,
+                                 ("Sodium Hydroxide", 1.0)], extra=_SOAP_PAIR,
                           kind="surfactant solution")], "text")
     flat = " ".join(text.split())
     assert "HLB BALANCE" not in text and "see the HLB balance" not in flat
