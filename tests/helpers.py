@@ -298,3 +298,19 @@ def needs_annex_exports() -> pytest.MarkDecorator:
     return pytest.mark.skipif(
         not ANNEX_EXPORTS.is_dir(), reason="the Commission's annex exports (../shared/regulatory/"
         "eu-cosing-annexes-2025-10-31) are not on this machine")
+
+
+def forge_logged_user(archive: Path, forged: Path) -> None:
+    """Copy a backup archive with its second change-log row rewritten to name someone else:
+    the forgery a restore must refuse."""
+    import json
+    import zipfile
+
+    with zipfile.ZipFile(archive) as src, zipfile.ZipFile(forged, "w") as dst:
+        for item in src.infolist():
+            data = src.read(item)
+            if item.filename == "tables/change_log.jsonl":
+                rows = [json.loads(line) for line in data.decode().splitlines()]
+                rows[1]["user"] = "Dr. Head of QA"  # a row naming someone else
+                data = "".join(json.dumps(r) + "\n" for r in rows).encode()
+            dst.writestr(item, data)

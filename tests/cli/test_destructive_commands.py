@@ -20,7 +20,7 @@ from sqlalchemy import text
 
 from formdb.services.admin.database import history
 from formdb.store.db import head_revision, make_engine
-from tests.helpers import dump_database, run_as
+from tests.helpers import dump_database, forge_logged_user, run_as
 
 AUDIT_REVISION = "0011_review_runs"  # adds the seals (prev_hash, row_hash) and review records
 BELOW_AUDIT = "0010_mixture_constituents"
@@ -136,14 +136,7 @@ def test_a_forged_archive_is_refused_unless_told(library: str, tmp_path: Path) -
     archive = tmp_path / "library.zip"
     assert run_as("boss", ["--db", library, "db", "backup", str(archive)]).exit_code == 0
     forged = tmp_path / "forged.zip"
-    with zipfile.ZipFile(archive) as src, zipfile.ZipFile(forged, "w") as dst:
-        for item in src.infolist():
-            data = src.read(item)
-            if item.filename == "tables/change_log.jsonl":
-                rows = [json.loads(line) for line in data.decode().splitlines()]
-                rows[1]["user"] = "Dr. Head of QA"  # a row naming someone else
-                data = "".join(json.dumps(r) + "\n" for r in rows).encode()
-            dst.writestr(item, data)
+    forge_logged_user(archive, forged)
     target = _target(tmp_path)
     refused = run_as("boss", ["--db", target, "db", "restore", str(forged), "--yes"])
     assert refused.exit_code == 2

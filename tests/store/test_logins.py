@@ -20,7 +20,7 @@ from sqlalchemy.engine import make_url
 from sqlalchemy.exc import DBAPIError
 
 from tests.fixtures.tables.library_setup import build_library
-from tests.helpers import drop_roles, dump_database, fresh_pg_schema, run_formdb
+from tests.helpers import drop_roles, dump_database, forge_logged_user, fresh_pg_schema, run_formdb
 
 pytestmark = [pytest.mark.slow, pytest.mark.postgres]
 
@@ -453,14 +453,7 @@ def test_a_forged_archive_is_refused_on_the_server(owned_team: Team, pg_server: 
     made = run_formdb(["--db", team.url, "db", "backup", str(archive)])
     assert made.exit_code == 0, made.stderr
     forged = tmp_path / "forged.zip"
-    with zipfile.ZipFile(archive) as src, zipfile.ZipFile(forged, "w") as dst:
-        for item in src.infolist():
-            data = src.read(item)
-            if item.filename == "tables/change_log.jsonl":
-                rows = [json.loads(line) for line in data.decode().splitlines()]
-                rows[1]["user"] = "Dr. Head of QA"  # a row naming someone else
-                data = "".join(json.dumps(r) + "\n" for r in rows).encode()
-            dst.writestr(item, data)
+    forge_logged_user(archive, forged)
     with fresh_pg_schema(pg_server) as target:
         before = dump_database(target)
         refused = run_formdb(["--db", target, "db", "restore", str(forged), "--yes"])
