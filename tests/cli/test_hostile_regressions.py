@@ -81,6 +81,26 @@ def test_eighteen_emulsifiers_are_solved(seeded_library_url: str, tmp_path: Path
     assert blended.exit_code == 0, blended.stderr
 
 
+@pytest.mark.parametrize(("other", "says"), [
+    ("Sodium Lauryl Sulfate", "Davies' scale"),
+    ("Acacia Senegal Gum", "a gum or protein"),
+])
+def test_blend_leaves_out_emulsifiers_off_griffins_scale(seeded_library_url: str, tmp_path: Path,
+                                                         other: str, says: str) -> None:
+    """Found by hand: an ionic surfactant or a gum beside Griffin-scale emulsifiers made
+    ``blend FILE`` zip the check's fractions (Griffin members only) against every emulsifier
+    with an HLB (an internal error)."""
+    path = _formula(tmp_path / "ionic.toml", [("Aqua", 75), ("Paraffinum Liquidum", 15),
+                                               ("Polysorbate 80", 4), ("Sorbitan Oleate", 4),
+                                               (other, 2)], 'intended_type = "O/W"')
+    blended = run_formdb(["--db", seeded_library_url, "blend", str(path)])
+    assert blended.exit_code == 0, blended.stderr
+    assert f"{other}: " in blended.stdout and says in " ".join(blended.stdout.split())
+    assert "Polysorbate 80" in blended.stdout and "Sorbitan Oleate" in blended.stdout
+    targeted = run_formdb(["--db", seeded_library_url, "blend", str(path), "--target", "11"])
+    assert targeted.exit_code == 0, targeted.stderr
+
+
 def test_one_ingredient_on_two_lines_over_100_with_a_product(seeded_library_url: str,
                                                              tmp_path: Path) -> None:
     path = _formula(tmp_path / "twice.toml", [("Aqua", 80), ("Aqua", 30)],

@@ -41,6 +41,7 @@ from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from formdb.errors import InvalidData
+from formdb.facts.hlb import griffin_members
 from formdb.facts.incompatibility import first_incompatibility
 from formdb.facts.phases import is_emulsifier, is_hydrocolloid
 from formdb.rules.profiles import Profile
@@ -239,6 +240,17 @@ def _own_fractions(facts: FormulaFacts, known: list[EmulsifierFacts], label: str
     return goal, goal_from, sol.fractions
 
 
+def _not_proportioned(member: EmulsifierFacts) -> str:
+    """Why an emulsifier with an HLB is not one of the members a blend proportions."""
+    if member.formed_in_place:
+        return "a soap formed in the batch (it changes through its acid and base lines)"
+    if member.scale == "davies":
+        return "HLB on Davies' scale (ionic), not averaged with Griffin's values"
+    if member.percent <= 0:
+        return "not weighed in"
+    return "a gum or protein (a polymer: no HLB in Griffin's sense)"
+
+
 def blend_for_formula(library: Library, path: Path, profile: Profile | str | None = None,
                       target: float | None = None) -> BlendPlan:
     """Solve the formula's own emulsifiers for its oil phase's required HLB (or ``target``).
@@ -248,9 +260,12 @@ def blend_for_formula(library: Library, path: Path, profile: Profile | str | Non
     """
     result = check_one(library, path, profile)
     facts, label = result.facts, str(path)
-    known = [e for e in facts.emulsifiers if e.hlb is not None and e.percent > 0]
+    # the members the check itself solves for: an HLB on Griffin's scale (Davies' values of
+    # ionic surfactants and soaps, and a gum's HLB, are never averaged with them)
+    known = griffin_members(facts.emulsifiers)
     if not known:
-        why = "none in the formula" if not facts.emulsifiers else "none has an HLB"
+        why = ("none in the formula" if not facts.emulsifiers else
+               "none has an HLB on Griffin's scale")
         raise InvalidData(f"{label}: no emulsifier with a known HLB to proportion ({why})",
                           hint="add an emulsifier, or use --target with --using")
     goal, goal_from, fractions = _own_fractions(facts, known, label, target)
@@ -264,8 +279,8 @@ def blend_for_formula(library: Library, path: Path, profile: Profile | str | Non
         for e, h, f in zip(known, hlbs, fractions, strict=True))
     notes = [f"{e.inci} has no HLB in the library and is left out"
              for e in facts.emulsifiers if e.hlb is None]
-    if any(m.formed_in_place for m in members):
-        notes.append("a soap formed in the batch changes through its acid and base lines")
+    notes += [f"{e.inci}: {_not_proportioned(e)}; left out" for e in facts.emulsifiers
+              if e.hlb is not None and e not in known]
     return BlendPlan(target=goal, target_from=goal_from, members=members,
                      method=FORMULA_METHOD,
                      blend_hlb=blend_hlb(list(zip(fractions, hlbs, strict=True))),
