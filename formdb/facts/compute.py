@@ -51,6 +51,7 @@ def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
     hld = hld_facts(formula, lines, emulsifiers) if product.kind in EMULSION_KINDS else None
     kind = emulsion_type(formula, emulsifiers, blend, blend_covered, settings, work, hld)
     if product.kind not in EMULSION_KINDS:
+        work.drop_gaps(hlb.BLEND_HLB)
         work.note(f"{product.kind} ({product.reason}): no emulsion type, required HLB, dispersed "
                   "phase or creaming is worked out")
         kind = replace(kind, working=None, source=None, predicted=None, disagree=False,

@@ -22,6 +22,7 @@ from formdb.schemas.vocab import EmulsionType, IonicCharacter, Role, Solubility
 from formdb.science.hlb import UnreachableHlb, blend_fractions, blend_hlb, hlb_scale, required_hlb
 
 IONISED = frozenset({IonicCharacter.ANIONIC, IonicCharacter.CATIONIC})
+BLEND_HLB = "blend HLB"  # what a missing HLB blocks (the data gap's "blocks")
 
 # an ingredient with one of these roles has a required HLB of its own, far from its HLB as an
 # emulsifier (cetyl alcohol: HLB 1, required HLB about 15; science.md section 1), so its HLB
@@ -42,10 +43,12 @@ def emulsifiers(formula: ResolvedFormula, lines: list[LineFacts],
             continue
         ing = by_no[lf.line_no].ingredient
         side = lf.phase if lf.phase != "none" else None
-        if ing.p.hlb is None:
-            work.gap("hlb", ing.inci_name, "blend HLB")
         if is_hydrocolloid(ing):
             polymers.add(lf.line_no)
+        elif ing.p.hlb is None and ing.p.ionic_character not in IONISED:
+            # only a member the blend would average needs an HLB: a gum or protein (a
+            # polymer) and an anionic or cationic member (Davies' scale) never enter it
+            work.gap("hlb", ing.inci_name, BLEND_HLB)
         members.append((ing.inci_name, lf.percent, ing.p.hlb, ing.p.solubility,
                         ing.p.ionic_character, False, lf.line_no, side))
     members.extend((soap.facts.soap, soap.facts.soap_percent, soap.facts.hlb,

@@ -110,10 +110,7 @@ def _neutralise_pair(acid: ResolvedLine, base: ResolvedLine, reference: Referenc
     work.remaining[base.line_no] = result.base_left_mass
     work.water_formed += result.water_formed_mass
     label = record.inci_name if record else f"soap of {a.inci_name} with {b.inci_name}"
-    hlb = record.p.hlb if record else None
-    if hlb is None:
-        work.gap("hlb", label, "blend HLB",
-                 "soap formed in place" + ("" if record else " (no soap pair in the library)"))
+    hlb = record.p.hlb if record else None  # Davies' scale: shown, never averaged (no gap)
     facts = SoapFacts(
         acid=a.inci_name, base=b.inci_name, soap=label, soap_in_library=record is not None,
         soap_percent=result.soap_mass, acid_used_percent=acid_used, base_used_percent=base_used,

@@ -37,6 +37,11 @@ class Work:
         if detail and not old:
             self.gaps[(prop, blocks)] = (names, detail)
 
+    def drop_gaps(self, blocks: str) -> None:
+        """Forget the gaps that block a number this formula does not get (its kind has none)."""
+        for key in [k for k in self.gaps if k[1] == blocks]:
+            del self.gaps[key]
+
     def note(self, text: str) -> None:
         if text not in self.notes:
             self.notes.append(text)
