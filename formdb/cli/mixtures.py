@@ -8,7 +8,7 @@ from typing import TYPE_CHECKING
 
 import click
 
-from formdb.cli.main import AppContext, with_library
+from formdb.cli.main import AppContext, force_option, library_files, with_library
 
 if TYPE_CHECKING:
     from formdb.store.library import Library
@@ -117,11 +117,14 @@ def import_cmd(app: AppContext, library: Library, file: Path, dry_run: bool,
 
 @mixture_group.command("export")
 @click.argument("file", type=click.Path(path_type=Path))
+@force_option
 @with_library
-def export_cmd(app: AppContext, library: Library, file: Path) -> None:
+def export_cmd(app: AppContext, library: Library, file: Path, force: bool) -> None:
     """Write every declared constituent to FILE (.csv or .xlsx) in the columns import reads."""
+    from formdb.report.files import output_file
     from formdb.services.library.mixtures import export_mixtures
 
-    with library.read() as session:
-        count = export_mixtures(session, file)
+    with output_file(file, force=force, inputs=library_files(app)) as partial, \
+            library.read() as session:
+        count = export_mixtures(session, partial)
     click.echo(f"wrote {count} constituent(s) to {file}")

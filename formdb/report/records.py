@@ -10,6 +10,7 @@ from collections.abc import Mapping, Sequence
 from typing import Any
 
 from formdb.report.library import CAUTION, _tables, when
+from formdb.schemas.cells import guard_cell
 
 LIST_FORMATS = ("table", "csv", "json")
 
@@ -24,7 +25,7 @@ def record_list(rows: Sequence[Mapping[str, str]], columns: Sequence[str], shown
         buffer = io.StringIO()
         writer = csv.writer(buffer, lineterminator="\n")
         writer.writerow(columns)
-        writer.writerows([[r.get(c, "") for c in columns] for r in rows])
+        writer.writerows([[guard_cell(r.get(c, "")) for c in columns] for r in rows])
         return buffer.getvalue()
     from rich.table import Table
 

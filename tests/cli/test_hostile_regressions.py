@@ -294,7 +294,69 @@ def test_list_csv_guards_formulas_and_terminal_output_escapes(library_url: str) 
     assert "\\u001b" in history.stdout or "\\u0007" in history.stdout
 
 
+def test_record_list_csv_guards_formulas(library_url: str) -> None:
+    """Found by hand: `source list --format csv` (and the other evidence lists) printed a
+    citation starting with '=' as it was."""
+    added = run_formdb(["--db", library_url, "source", "add", "larkspur-note", "--kind",
+                        "estimate", "--citation", '=HYPERLINK("http://larkspur.invalid")'])
+    assert added.exit_code == 0, added.stderr
+    listed = run_formdb(["--db", library_url, "source", "list", "--format", "csv"])
+    cells = [c for row in csv.reader(listed.stdout.splitlines()) for c in row]
+    assert "'=HYPERLINK(\"http://larkspur.invalid\")" in cells
+    assert not [c for c in cells if c.startswith(("=", "+", "-", "@"))]
+
+
 # --- output files ----------------------------------------------------------------------------
+
+def _export_commands() -> list[list[str]]:
+    """Every table export, `... export FILE`, of the CLI (walked, so a new one is covered;
+    `formula export NAME FILE` writes TOML through the same output_file)."""
+    import click
+
+    from formdb.cli.main import cli
+
+    found: list[list[str]] = []
+
+    def walk(group: click.Group, path: list[str]) -> None:
+        context = click.Context(group)
+        for name in group.list_commands(context):
+            command = group.get_command(context, name)
+            if isinstance(command, click.Group):
+                walk(command, [*path, name])
+            elif name == "export" and command is not None and [
+                    p.name for p in command.params if isinstance(p, click.Argument)] == ["file"]:
+                found.append([*path, name])
+
+    walk(cli, [])
+    return found
+
+
+@pytest.mark.parametrize("command", _export_commands(), ids=" ".join)
+def test_every_export_is_whole_and_never_clobbers(seeded_sqlite_url: str, tmp_path: Path,
+                                                  command: list[str]) -> None:
+    """Found by hand: `mixture export` wrote straight over an existing file and through a
+    symbolic link."""
+    out = tmp_path / "out"
+    out.mkdir()
+    existing = out / "existing.csv"
+    existing.write_text("keep me", encoding="utf-8")
+    _refused(run_formdb(["--db", seeded_sqlite_url, *command, str(existing)]), "already exists")
+    assert existing.read_text(encoding="utf-8") == "keep me"
+    link = out / "link.csv"
+    link.symlink_to(out / "elsewhere.csv")
+    _refused(run_formdb(["--db", seeded_sqlite_url, *command, str(link), "--force"]),
+             "symbolic link")
+    assert not (out / "elsewhere.csv").exists()
+    library = seeded_sqlite_url.removeprefix("sqlite:///")
+    _refused(run_formdb(["--db", seeded_sqlite_url, *command, library, "--force"]),
+             "a file the command reads")
+    fresh = out / "fresh.xlsx"
+    assert run_formdb(["--db", seeded_sqlite_url, *command, str(fresh)]).exit_code == 0
+    assert run_formdb(["--db", seeded_sqlite_url, *command, str(fresh), "--force"]
+                      ).exit_code == 0
+    assert sorted(p.name for p in out.iterdir()) == ["existing.csv", "fresh.xlsx",
+                                                          "link.csv"]
+
 
 def test_out_refuses_an_existing_file_without_force(seeded_sqlite_url: str,
                                                     tmp_path: Path) -> None:
