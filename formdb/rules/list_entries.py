@@ -9,6 +9,7 @@ finding names every reading and asks, as a warning; it errs only when every read
 
 from __future__ import annotations
 
+import re
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
 from functools import lru_cache
@@ -163,6 +164,7 @@ def judge(entry: ListEntry, item: Item, members: list[Item], formula: ResolvedFo
     candidates = [f for f in fits if f.fits is not False]
     if not candidates:
         allowed = "; ".join(f"{f.part.name}: {f.part.scope.text or 'all products'}"
+                            if f.part.label else (f.part.scope.text or "all products")
                             for f in fits)
         return Outcome(entry, reading, NOT_ALLOWED,
                        f"the entry covers only {allowed}")
@@ -242,7 +244,7 @@ class ListEntryLimits(Rule):
         outcomes: dict[str, list[Outcome]] = {}
         for entry in item.entries:
             if entry.annex == "II":
-                yield self._prohibited(entry, item)
+                yield self._prohibited(entry, item, item.entries)
                 continue
             for reading in readings:
                 if purpose_fits(entry, reading) is False:
@@ -260,15 +262,38 @@ class ListEntryLimits(Rule):
                 continue
             yield self._finding(entry, item, judged, readings, bad_in, because, outcomes)
 
-    def _prohibited(self, entry: ListEntry, item: Item) -> Finding:
+    def _prohibited(self, entry: ListEntry, item: Item, entries: tuple[ListEntry, ...]
+                    ) -> Finding:
         if entry.exception:
+            named = excepted_entries(entry.exception)
+            allowing = [e for e in entries if e.annex != "II"]
+            values = _values(entry, item)
+            head = f"{item.label} is prohibited in cosmetic products {entry.exception}: " \
+                   f"{entry.title}, {entry.regulation}"
+            judged = [e for e in allowing if f"{e.annex}/{e.ref}" in named]
+            if judged:
+                # the exception is an entry of another annex that names this substance: that
+                # entry's own finding says whether the use is the one it allows
+                titles = ", ".join(e.title for e in judged)
+                return self.finding(
+                    Severity.INFO, f"{head}; the exception is {titles}, judged in its own "
+                    "finding", ingredients=[item.line.inci], values=values,
+                    advice=f"follow the finding of {titles}")
+            if allowing and "annex" in entry.exception.casefold():
+                titles = ", ".join(e.title for e in allowing)
+                return self.finding(
+                    Severity.WARNING, f"{head}; {titles} also names it: confirm by hand that "
+                    "the use is the one the exception allows", ingredients=[item.line.inci],
+                    values=values,
+                    advice=f"confirm against {titles} (see its finding), or remove "
+                           f"{item.record.inci_name}")
+            evidence = " (e.g. its full refining history)" if "refining" in \
+                entry.exception.casefold() else ""
             return self.finding(
-                Severity.WARNING,
-                f"{item.label} is prohibited in cosmetic products {entry.exception}: "
-                f"{entry.title}, {entry.regulation}; confirm by hand that the exception holds",
-                ingredients=[item.line.inci], values=_values(entry, item),
-                advice=f"keep the supplier's evidence that {item.record.inci_name} meets the "
-                       "exception (e.g. its full refining history), or remove it")
+                Severity.WARNING, f"{head}; confirm by hand that the exception holds",
+                ingredients=[item.line.inci], values=values,
+                advice=f"keep the evidence that {item.record.inci_name} meets the exception"
+                       f"{evidence}, or remove it")
         return self.finding(
             Severity.ERROR,
             f"{item.label} is prohibited in cosmetic products: {entry.title}, "
@@ -341,6 +366,20 @@ class ListEntryLimits(Rule):
             advice = "name the product (product = ...) or the line's purpose, or confirm by hand"
         return self.finding(severity, message, ingredients=[item.line.inci], values=values,
                             advice=advice)
+
+
+_EXCEPTED = re.compile(r"(?:entry|entries|reference (?:No|number)s?)\s*"
+                       r"((?:\d+[a-z]?(?:,\s*|\s+and\s+)?)+)"
+                       r"\s*(?:in|of)\s+Annex\s+(III|IV|V|VI)\b", re.I)
+
+
+def excepted_entries(exception: str) -> set[str]:
+    """The annex entries an Annex II exception names ("with the exception of entry 14 in Annex
+    III" -> {"III/14"})."""
+    out = set()
+    for numbers, annex in _EXCEPTED.findall(exception):
+        out |= {f"{annex.upper()}/{n}" for n in re.findall(r"\d+[a-z]?", numbers)}
+    return out
 
 
 def _reading(reading: str | None) -> str:

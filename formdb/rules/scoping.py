@@ -98,19 +98,27 @@ def scope_fits(scope: Scope, formula: ResolvedFormula, purpose: str | None) -> b
     states: list[bool | None] = []
     if scope.categories:
         states.append(body.category.value in scope.categories)
-    if scope.areas or scope.products:
+    # "spray" in a part's products is the form the product must take ("body lotion
+    # spray/aerosol"), asked of the product besides its kind, never instead of it
+    kinds = set(scope.products) - {"spray"}
+    if scope.areas or kinds:
         if product is None:
             states.append(None)
-        elif product.areas & set(scope.areas) or product.products & set(scope.products):
+        elif product.areas & set(scope.areas) or product.products & kinds:
             states.append(True)
         else:
-            states.append(None if product.maybe & set(scope.products) else False)
+            states.append(None if product.maybe & kinds else False)
+    if "spray" in scope.products:
+        states.append(None if product is None else
+                      (True if product.spray else (None if "spray" in product.maybe else False)))
     if scope.excluded_areas or scope.excluded_products:
         if product is None:
             states.append(None)
         elif product.areas & set(scope.excluded_areas) or \
                 product.products & set(scope.excluded_products):
-            states.append(False)
+            # exceptions read from text the parser did not wholly understand ("except
+            # spray/aerosol body lotion") may exclude less than they seem to: a person decides
+            states.append(None if scope.unparsed else False)
         elif product.maybe & set(scope.excluded_products):
             states.append(None)
         else:

@@ -256,3 +256,65 @@ def test_conditional_prohibition_asks(library: Library) -> None:
     found = lim(library, formula([("Petrolatum", 10.0, None)], product="hand cream"))
     ii = by_entry(found, "II/904")
     assert ii.severity.value == "warning" and "except if the full refining history" in ii.message
+
+
+def test_methyl_salicylate_parts_by_product(library: Library) -> None:
+    """Annex III/324 methyl salicylate (Reg. (EU) 2021/1099, recalled; Reg. (EU) 2023/1545 as the
+    export names it): (k) toothpaste 2.52 %, (j) lip products 0.03 %, (f) body lotion
+    spray/aerosol 0.04 %, (a) leave-on skin products 0.06 %. A body lotion that is not a spray
+    is not held to (f)."""
+    over = by_entry(lim(library, formula([("Methyl Salicylate", 3.0, None)], "rinse-off",
+                                         product="toothpaste")), "III/324")
+    assert over.severity.value == "error" and over.values["part"] == "k"
+    within = by_entry(lim(library, formula([("Methyl Salicylate", 2.0, None)], "rinse-off",
+                                           product="toothpaste")), "III/324")
+    assert within.severity.value == "info" and within.values["part"] == "k"
+    lips = by_entry(lim(library, formula([("Methyl Salicylate", 0.05, None)],
+                                         product="lipstick")), "III/324")
+    assert lips.severity.value == "error" and lips.values["part"] == "j"
+    lotion = by_entry(lim(library, formula([("Methyl Salicylate", 0.05, None)],
+                                           product="body lotion")), "III/324")
+    assert lotion.severity.value != "error" and "f" not in lotion.values["part"].split(", ")
+
+
+def test_triclosan_not_in_spray_deodorants(library: Library) -> None:
+    """Annex V/25 triclosan (Reg. (EU) No 358/2014; the export names Reg. (EU) 2024/996): 0.3 %
+    in toothpastes, hand and body soaps, shower gels, deodorants (non-spray), face powders and
+    nail cleaning products. A spray deodorant is not covered; a shower gel is."""
+    gel = by_entry(lim(library, formula([("Triclosan", 0.2, "preservative")], "rinse-off",
+                                        product="shower gel")), "V/25")
+    assert gel.severity.value == "info"
+    spray = by_entry(lim(library, formula([("Triclosan", 0.2, "preservative")],
+                                          product="deodorant spray")), "V/25")
+    assert spray.severity.value == "error" and "covers only" in spray.message
+
+
+def test_prohibited_except_an_annex_iii_entry(library: Library) -> None:
+    """Annex II/1339 prohibits hydroquinone "with the exception of entry 14 in Annex III";
+    III/14 allows 0.02 % in artificial nail systems only (professional use; Reg. (EU) No
+    344/2013 as the export names it). In a face cream the Annex III entry decides (error); the
+    Annex II finding points to it instead of asking for a refining history."""
+    found = lim(library, formula([("Hydroquinone", 2.0, None)], product="face cream"))
+    iii = by_entry(found, "III/14")
+    assert iii.severity.value == "error" and "covers only Artificial nail systems" in iii.message
+    ii = by_entry(found, "II/1339")
+    assert ii.severity.value == "info" and "the exception is EU Annex III/14" in ii.message
+    assert "refining" not in (ii.advice or "")
+
+
+def test_filed_review_lists_the_conditions(library: Library, tmp_path: Path) -> None:
+    """Issue 11: conditions that need a person are listed in the filed review too. Annex III/98
+    (Reg. (EU) 2019/1966): not for children under 3 years, no exposure of the lungs, the label
+    warning; the stored run carries them, as the filed report renders its stored result."""
+    from formdb.services.review.runs import filed_run, run_review
+
+    path = tmp_path / "gel.toml"
+    path.write_text(formula([("Salicylic Acid", 1.5, "active")], product="face cream"),
+                    encoding="utf-8")
+    run = run_review(library, str(path), user=TEST_USER)
+    filed = filed_run(library, run.run_key)
+    [conditions] = [f for f in filed.result.findings
+                    if f.rule == "LIM04" and f.values.get("entry") == "III/98"]
+    assert "children under 3 years" in conditions.message
+    assert "Not to be used for children under 3 years of age" in conditions.message
+    assert conditions.severity.value == "warning"  # for a person: listed, not an open item

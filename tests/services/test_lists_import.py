@@ -161,6 +161,65 @@ def test_linalyl_acetate_iii_allergen() -> None:
 
 
 @needs_exports
+def test_methyl_salicylate_iii_324_fourteen_parts() -> None:
+    """Annex III/324 methyl salicylate (added by Reg. (EU) 2021/1099, recalled; the export names
+    Reg. (EU) 2023/1545, which made it a labelled allergen): parts (a) to (n). Part (i) is a
+    letter after (h), not a roman sub-part: hydroalcoholic-based fragrances 0.6 %, (j) lip
+    products 0.03 %, (k) toothpaste 2.52 %, (n) mouth spray 0.65 %."""
+    entry = one("III", "324")
+    parts = {p.label: p for p in entry.parts}
+    assert list(parts) == list("abcdefghijklmn")
+    assert (parts["h"].max_percent, parts["h"].scope.products) == (0.6, ("hand wash",))
+    assert parts["i"].max_percent == 0.6 and parts["i"].scope.text.startswith("Hydroalcoholic")
+    assert (parts["j"].max_percent, parts["j"].scope.areas) == (0.03, ("lip",))
+    assert (parts["k"].max_percent, parts["k"].scope.products) == (2.52, ("toothpaste",))
+    assert (parts["n"].max_percent, parts["n"].scope.areas, parts["n"].scope.products) == \
+        (0.65, ("oral",), ("spray",))
+    # (f) body lotion in spray/aerosol form: the spray is the form, asked besides the kind
+    assert set(parts["f"].scope.products) == {"body lotion", "spray"}
+    assert not parts["h"].further_limits  # no longer (i)-(n) folded into (h) as "also:"
+
+
+@needs_exports
+def test_roman_sub_parts_stay_inside_their_part() -> None:
+    """Annex III/2a thioglycolic acid (Reg. (EU) 2015/1190): "(a) (i) 8 % (ii) 11 %" are the
+    general and professional figures of part (a), not parts (i) and (ii)."""
+    entry = one("III", "2a")
+    assert [p.label for p in entry.parts] == ["a", "b", "c", "d"]
+    assert entry.parts[0].max_percent == 8.0 and entry.parts[0].further_limits
+
+
+@needs_exports
+def test_spray_forms_ethoxydiglycol_iii_297_and_benzophenone_3_vi_4() -> None:
+    """Annex III/297 ethoxydiglycol (Reg. (EU) 2016/314): (d) other non-spray products 2.6 %,
+    (e) fine fragrances, hair sprays, antiperspirant and deodorant sprays 2.6 % (the export
+    writes "(e)2,6%" without a space). Annex VI/4 benzophenone-3 (Reg. (EU) 2022/1176): (a)
+    face, hand and lip products excluding propellant and pump sprays 6 %, (b) body products
+    including sprays 2.2 %, (c) other products 0.5 %."""
+    d, e = one("III", "297").parts[3:]
+    assert (d.max_percent, d.scope.not_in, d.scope.other, d.scope.products) == \
+        (2.6, ("spray",), True, ())
+    assert e.max_percent == 2.6 and "spray" in e.scope.products
+    a, b, c = one("VI", "4").parts
+    assert (a.max_percent, set(a.scope.areas), a.scope.not_in) == \
+        (6.0, {"face", "hand", "lip"}, ("spray",))
+    assert (b.max_percent, b.scope.areas, b.scope.products, b.scope.not_in) == \
+        (2.2, ("body",), (), ())  # "including ... spray products" widens, never narrows
+    assert all(p.structured for p in (a, b, c))
+
+
+@needs_exports
+def test_oxidative_hair_dye_maximum_on_the_hair() -> None:
+    """Annex III/193 Acid Red 52 (Reg. (EU) No 344/2013 as the export names it): (a) in
+    oxidative hair dye products, after mixing the concentration applied to hair must not exceed
+    1.5 % (written under "Other"); (b) non-oxidative 0.6 %. The 1.5 % is kept with its basis,
+    never read as "no maximum"."""
+    a, b = one("III", "193").parts
+    assert (a.max_percent, a.basis) == (1.5, "applied to the hair after mixing")
+    assert (b.max_percent, b.basis) == (0.6, None)
+
+
+@needs_exports
 def test_counts_and_coverage() -> None:
     """Entry counts as the export's README gives them; more than 90 % of parts structured."""
     counts = {a: sum(len(v) for v in entries(a).values()) for a in ("II", "III", "IV", "V", "VI")}

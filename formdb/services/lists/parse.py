@@ -27,7 +27,8 @@ IDENTIFIED = "Identified INGREDIENTS or substances e.g."
 _CAS = re.compile(r"(?<![\d-])(\d{2,7}-\d{2}-\d)(?![\d-])")
 _EC = re.compile(r"(?<![\d-])(\d{3}-\d{3}-\d)(?![\d-])")
 # "(a)", "a)", "(b)" at the start of a line or after a space; "(i)" sub-parts are not parts
-_MARKER = re.compile(r"(?:(?<=^)|(?<=[\s.;:]))\(?([a-h])\)(?=[\s(]|$)", re.MULTILINE)
+_MARKER = re.compile(r"(?:(?<=^)|(?<=[\s.;:]))\(?([a-z])\)(?=[\s(]|\d|$)", re.MULTILINE)
+_SUB_PART = re.compile(r"(?:^|[\s(])ii\)")
 _PERCENT = re.compile(r"(\d+(?:[.,]\d+)?)\s*(%|ppm)", re.IGNORECASE)
 _SOFT_HYPHEN = "\u00ad"
 
@@ -115,12 +116,28 @@ def chemical_names(text: str) -> tuple[str, ...]:
 
 # ----- parts ----------------------------------------------------------------------------------
 
+def _markers(text: str) -> list[re.Match[str]]:
+    """The part markers of a cell. (a)-(h) anywhere; a later letter only where it continues the
+    run from the letter before it (III/324 methyl salicylate runs to (n)), and "(i)" then only
+    when no "(ii)" follows it: "(a) (i) 8 % (ii) 11 %" numbers the sub-parts of part (a)."""
+    out: list[re.Match[str]] = []
+    last = ""
+    for match in _MARKER.finditer(text):
+        letter = match.group(1)
+        follows = bool(last) and ord(letter) == ord(last) + 1
+        if letter <= "h" or (follows and not (letter == "i"
+                                              and _SUB_PART.search(text, match.end()))):
+            out.append(match)
+            last = letter
+    return out
+
+
 def split_parts(text: str) -> tuple[str, dict[str, str]]:
     """(text for every part, {label: text}) of a cell written "(a) ... (b) ...".
 
     A run of markers with nothing between ("(a) (b) (c) Avoid contact...") gives its text to each.
     """
-    matches = list(_MARKER.finditer(text))
+    matches = _markers(text)
     if not matches:
         return text.strip(), {}
     common = text[:matches[0].start()].strip()
@@ -217,7 +234,7 @@ _TERMS: tuple[tuple[str, str, str], ...] = (
     (r"face|facial", "area", "face"),
     (r"eyes?\b|eyelash\w*|eyebrows?", "area", "eye"),
     (r"lips?\b", "area", "lip"),
-    (r"oral(?: care)?|teeth|tooth", "area", "oral"),
+    (r"oral(?: care)?|teeth|tooth|mouth\b", "area", "oral"),
     (r"nails?|cuticles?", "area", "nail"),
     (r"hands?\b", "area", "hand"),
     (r"foot|feet", "area", "foot"),
@@ -232,7 +249,12 @@ _TERMS: tuple[tuple[str, str, str], ...] = (
     (r"fragrance/ ?aromatic compositions?|aromatic compositions?", "purpose", "fragrance"),
 )
 _TERM_RE = [(re.compile(rf"\b(?:{pattern})", re.I), kind, term) for pattern, kind, term in _TERMS]
-_SPRAY = re.compile(r"(?:propell[ae]nt|pump|aerosol)?\s*sprays?|aerosols?", re.I)
+_SPRAY = re.compile(r"(?:(?:propell[ae]nt|pump|aerosol)"
+                    r"(?:\s+(?:and|or)\s+(?:propell[ae]nt|pump))?)?\s*sprays?|aerosols?", re.I)
+# "non-spray" names a form excluded; "including ... spray products" widens a scope, never
+# narrows it to sprays
+_NON_SPRAY = re.compile(r"\bnon-?\s*sprays?\b", re.I)
+_INCLUDING_SPRAY = re.compile(r"\bincluding\b[^;,.]*?sprays?(?:\s+products?)?", re.I)
 _FILLER = re.compile(
     r"\b(?:products?|produts|cosmetic|all|for|in|the|of|and|or|with|to|be|used|only|intended|"
     r"substances?|s[ua]b\S*stances?|ready|use|uses|as|applied|on|a|an|form|forms|general|"
@@ -268,8 +290,12 @@ def parse_scope(text: str) -> Scope:
     elif exception:
         positive_text, excluded_text = body[:exception.start()], body[exception.end():]
     not_in: list[str] = []
-    if _SPRAY.search(excluded_text):
+    if _NON_SPRAY.search(positive_text):
         not_in.append("spray")
+        positive_text = _NON_SPRAY.sub(" ", positive_text)
+    positive_text = _INCLUDING_SPRAY.sub(" ", positive_text)
+    if _SPRAY.search(excluded_text):
+        not_in = ["spray"]
         excluded_text = _SPRAY.sub(" ", excluded_text)
     if _SPRAY.search(positive_text) and not negative and not exception:
         positive_text = _SPRAY.sub(" sprayproduct ", positive_text)
@@ -392,10 +418,25 @@ def _parts(annex: str, product: str, maximum: str, other: str, wording: str) -> 
     return tuple(out)
 
 
+# oxidative hair dyes: "after mixing under oxidative conditions the maximum concentration applied
+# to hair must not exceed 2,0 %", written under "Maximum" or under "Other"
+# (the export's typos too: "concentraion", "concentratio", "eyeslashes")
+_ON_HAIR = re.compile(r"maximum (?:use )?concentrat?i?o?n? applied to (?:the )?"
+                      r"(hair or eye\w*|hair|eyelashes)\s+must not exceed\s*(\d+(?:[.,]\d+)?)\s*%",
+                      re.I)
+
+
 def _part(label: str | None, scope_text: str, max_text: str, other: str,
           wording: str) -> Part:
     scope = parse_scope(scope_text)
     max_percent, basis, aggregate, further, parsed = parse_maximum(max_text)
+    on_hair = _ON_HAIR.search(f"{max_text}\n{other}")
+    if on_hair and (max_percent is None or max_percent == _number(on_hair.group(2))):
+        # the figure is the mixed product's on the hair: a dye as sold is diluted by mixing, so
+        # a formula within it is within, and one over it is for a person to work out
+        max_percent = _number(on_hair.group(2))
+        basis = f"applied to the {on_hair.group(1).casefold()} after mixing" + \
+            (f", {basis}" if basis else "")
     unparsed: list[str] = []
     if not parsed:
         unparsed.append(f"maximum: {clean(max_text)}")
