@@ -399,7 +399,8 @@ def _interface_lines(facts: FormulaFacts) -> list[Line]:
         return [Line("Interface", "not worked out: no dispersed volume fraction")]
     coverage = face.coverage_ratio
     cover_flag: Flag = "" if coverage is None else ("ok" if coverage >= 1 else "warn")
-    cover_text = n.DASH if coverage is None else f"{n.plain(coverage, 2)} × what the interface needs"
+    cover_text = (n.DASH if coverage is None
+                  else f"{n.plain(coverage, 2)} × what the interface needs")
     return [
         Line("Droplet diameter", f"{n.with_unit(face.droplet_diameter_um, 'µm')} "
                                  f"({face.droplet_source})"),
