@@ -136,6 +136,8 @@ def screen_plan_cmd(app: AppContext, library: Library, name: str, oils: tuple[st
     from formdb.schemas.vocab import EmulsionType
     from formdb.services.bench_work.screening import parse_oil, plan_series
 
+    if sheets is not None:
+        _check_sheet_folder(sheets)  # before the plan is stored: a bad folder changes nothing
     series = plan_series(
         library, name, user=app.user, oils=[parse_oil(o) for o in oils],
         formula=from_formula, low=low, high=high, start=start, stop=stop, step=step,
@@ -146,13 +148,25 @@ def screen_plan_cmd(app: AppContext, library: Library, name: str, oils: tuple[st
         _write_sheets(series.sheets, sheets)
 
 
-def _write_sheets(sheets: tuple[WeighSheet, ...], folder: Path) -> None:
+def _check_sheet_folder(folder: Path) -> None:
+    """Refuse a --sheets folder that is missing or already holds blend sheets, before any work
+    (the sheets are never written over, and a half-written set is never left)."""
     from formdb.errors import InvalidData
-    from formdb.report.files import write_report
-    from formdb.report.weigh_sheet import render_html
 
     if not folder.is_dir():
         raise InvalidData(f"--sheets {folder}: not a folder (create it first)")
+    taken = sorted(p.name for p in folder.glob("blend-*.html"))
+    if taken:
+        raise InvalidData(f"--sheets {folder}: already holds {taken[0]}"
+                          f"{f' and {len(taken) - 1} more' if len(taken) > 1 else ''}; "
+                          "blend sheets are not written over",
+                          hint="give an empty folder")
+
+
+def _write_sheets(sheets: tuple[WeighSheet, ...], folder: Path) -> None:
+    from formdb.report.files import write_report
+    from formdb.report.weigh_sheet import render_html
+
     for number, sheet in enumerate(sheets, start=1):
         write_report(folder / f"blend-{number:02d}.html", render_html(sheet))
     click.echo(f"{len(sheets)} weigh sheets written to {folder}")
@@ -168,6 +182,8 @@ def screen_show_cmd(app: AppContext, library: Library, name: str, sheets: Path |
     from formdb.report.screening import series_text
     from formdb.services.bench_work.screening import show_series
 
+    if sheets is not None:
+        _check_sheet_folder(sheets)
     series = show_series(library, name, with_sheets=sheets is not None)
     click.echo(series_text(series), nl=False)
     if sheets is not None:

@@ -11,6 +11,7 @@ from __future__ import annotations
 import csv
 from collections.abc import Callable
 from io import BytesIO, StringIO
+from pathlib import PurePath
 from typing import TYPE_CHECKING
 
 from rich import box
@@ -18,7 +19,7 @@ from rich.console import Console, RenderableType
 from rich.table import Table
 from rich.text import Text
 
-from formdb.errors import ConfigError
+from formdb.errors import ConfigError, InvalidData
 from formdb.report.cautions import DEFER, SCREENING
 from formdb.schemas.cells import guard_cell
 
@@ -227,14 +228,23 @@ def render_sheet(sheet: WeighSheet, fmt: str) -> str | bytes:
         raise ConfigError(f"--format {fmt!r}: choose one of {', '.join(SHEET_FORMATS)}") from None
 
 
+SHEET_SUFFIXES = {".txt": "text", ".csv": "csv", ".xlsx": "xlsx", ".html": "html",
+                  ".htm": "html"}
+
+
 def format_for(out: str | None, fmt: str | None) -> str:
-    """The format asked for, else the one the file name says, else text."""
+    """The format asked for, else the one the file name says, else text. A file name that says
+    another format (sheet.pdf, or --format csv with sheet.xlsx) is refused rather than given
+    content its name does not promise."""
+    suffix = PurePath(out).suffix.lower() if out else ""
+    named = SHEET_SUFFIXES.get(suffix)
     if fmt:
+        if named is not None and named != fmt:
+            raise InvalidData(f"--out {out}: the name says {named}, but --format is {fmt}",
+                              hint="make the file name and --format agree")
         return fmt
-    if out:
-        for name in SHEET_FORMATS:
-            if out.lower().endswith("." + ("txt" if name == "text" else name)):
-                return name
-        if out.lower().endswith(".htm"):
-            return "html"
-    return "text"
+    if out and suffix and named is None:
+        raise InvalidData(f"--out {out}: a weigh sheet is written as .txt, .csv, .xlsx or "
+                          f".html, not {suffix}",
+                          hint="for a PDF, write the .html and print it from a browser")
+    return named or "text"

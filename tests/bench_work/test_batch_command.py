@@ -156,6 +156,30 @@ def test_an_unwritable_out_leaves_no_file(seeded_library_url: str, tmp_path: Pat
     assert not out.parent.exists()
 
 
+def test_an_existing_sheet_is_kept_and_a_name_must_match_its_format(
+        seeded_library_url: str, tmp_path: Path) -> None:
+    url = seeded_library_url
+    sheet = tmp_path / "sheet.csv"
+    sheet.write_text("yesterday's sheet", encoding="utf-8")
+    kept = _batch(url, "--kg", "20", "--out", str(sheet))
+    assert kept.exit_code == 2 and "already exists" in kept.stderr and "--force" in kept.stderr
+    assert sheet.read_text(encoding="utf-8") == "yesterday's sheet"
+    assert _batch(url, "--kg", "20", "--out", str(sheet), "--force").exit_code == 0
+    assert sheet.read_text(encoding="utf-8").startswith("phase,line,inci")
+    # a name promising another format is refused, not filled with text
+    for args, message in ((["--out", str(tmp_path / "sheet.pdf")], "not .pdf"),
+                          (["--out", str(tmp_path / "s.xlsx"), "--format", "csv"],
+                           "the name says xlsx, but --format is csv")):
+        before = dump_database(url)
+        result = _batch(url, "--kg", "20", *args)
+        assert result.exit_code == 2 and message in result.stderr, result.stderr
+        assert result.stderr.count("Error:") == 1 and "Traceback" not in result.stderr
+        assert dump_database(url) == before
+    assert not (tmp_path / "sheet.pdf").exists() and not (tmp_path / "s.xlsx").exists()
+    assert _batch(url, "--kg", "20", "--out", str(tmp_path / "sheet.txt")).exit_code == 0
+    assert (tmp_path / "sheet.txt").read_text(encoding="utf-8").startswith("Weigh sheet:")
+
+
 @pytest.mark.parametrize(("args", "message"), [
     (["Aqua", "--per-kg", "-1", "--currency", "EUR", "--supplier", "x"], "--per-kg -1"),
     (["Aqua", "--per-kg", "1", "--currency", "EURO", "--supplier", "x"], "--currency 'EURO'"),

@@ -83,6 +83,26 @@ def test_plan_stores_the_series_with_lever_rule_blends_and_sheets(
     assert again.exit_code == 2 and "exists" in again.stderr
 
 
+def test_a_bad_sheets_folder_is_refused_before_the_plan_is_stored(
+        seeded_library_url: str, tmp_path: Path) -> None:
+    url = seeded_library_url
+    folder = tmp_path / "sheets"
+    before = dump_database(url)
+    missing = _run(url, *PLAN, "--sheets", str(folder))
+    assert missing.exit_code == 2 and "not a folder" in missing.stderr
+    assert missing.stderr.count("Error:") == 1 and "Traceback" not in missing.stderr
+    folder.mkdir()
+    (folder / "blend-03.html").write_text("an earlier series' sheet", encoding="utf-8")
+    taken = _run(url, *PLAN, "--sheets", str(folder))
+    assert taken.exit_code == 2 and "already holds blend-03.html" in taken.stderr
+    assert dump_database(url) == before  # the series was not stored
+    assert (folder / "blend-03.html").read_text(encoding="utf-8") == "an earlier series' sheet"
+    assert [p.name for p in folder.iterdir()] == ["blend-03.html"]
+    assert _run(url, *PLAN).exit_code == 0
+    shown = _run(url, "screen", "show", SERIES, "--sheets", str(folder))
+    assert shown.exit_code == 2 and "already holds" in shown.stderr
+
+
 def test_fit_is_refused_without_a_clear_optimum(seeded_library_url: str) -> None:
     url = seeded_library_url
     assert _run(url, *PLAN).exit_code == 0
