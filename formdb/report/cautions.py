@@ -12,6 +12,8 @@ from collections.abc import Iterable, Sequence
 from datetime import date
 from typing import TYPE_CHECKING, NamedTuple
 
+from formdb.schemas.lists import HAND_WRITTEN
+
 if TYPE_CHECKING:  # the library commands print cautions without building the result models
     from formdb.schemas.result import CheckResult
 
@@ -71,8 +73,13 @@ def limits_caution(snapshots: Sequence[ListSnapshot] | None,
     """The dated-snapshot caution, naming the lists and their dates when they are known."""
     known = list(snapshots or ()) or _dates_from_findings(results)
     dates = f"the lists used are {_describe(known)}" if known else NO_DATES
+    partial = ""
+    if any(s.list_name.endswith(HAND_WRITTEN) for s in known):
+        partial = (" Hand-written seed rows cover a few entries of an annex, not the annex: "
+                   "import the Commission's exports (formdb lists import) for the whole lists.")
     return (f"Concentration limits come from a dated snapshot of the regulatory lists: {dates}. "
-            "Lists are amended often; check the current text before a product is made or sold.")
+            f"Lists are amended often; check the current text before a product is made or sold."
+            f"{partial}")
 
 
 def cautions(results: Sequence[CheckResult] = (),

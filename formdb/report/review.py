@@ -24,6 +24,7 @@ from formdb.report.html import environment
 from formdb.report.review_status import waived
 from formdb.report.sections import hlb_section, packing_section, prediction_section
 from formdb.report.view import finding_groups
+from formdb.schemas.lists import HAND_WRITTEN
 from formdb.schemas.result import CheckResult, round_value
 
 NOT_A_SUBSTITUTE = (
@@ -106,8 +107,13 @@ def _limits(filed: Any) -> list[dict[str, Any]]:
 
 
 def _snapshots(filed: Any) -> list[ListSnapshot]:
-    seen = {(r["values"]["jurisdiction"], r["values"]["list_name"], r["values"]["list_date"])
-            for r in filed.records if r["kind"] == "limit"}
+    # a "limit" record is a hand-written row; an imported entry is recorded as a "list entry"
+    # ("EU Annex V/3"), and the rows of an annex an export covered were not applied
+    imported = {r["key"].rsplit("/", 1)[0] for r in filed.records if r["kind"] == "list entry"}
+    seen = {(r["values"]["jurisdiction"], r["values"]["list_name"] + HAND_WRITTEN,
+             r["values"]["list_date"]) for r in filed.records if r["kind"] == "limit"
+            and f"{r['values']['jurisdiction']} Annex "
+                f"{r['values']['list_name'].rsplit(' ', 1)[-1]}" not in imported}
     return [ListSnapshot(*s) for s in sorted(seen)]
 
 

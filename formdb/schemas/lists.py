@@ -29,6 +29,8 @@ PURPOSES = ("preservative", "uv filter", "colorant", "fragrance", "ph adjuster",
 ALLERGEN_EXTENSION_PLACING = date(2026, 7, 31)
 ALLERGEN_EXTENSION_AVAILABLE = date(2028, 7, 31)
 ALLERGEN_EXTENSION_ACT = "(EU) 2023/1545"
+# how a report names a limit list made of hand-written rows (the seed's, for a few entries)
+HAND_WRITTEN = " (hand-written seed rows)"
 
 
 class Scope(BaseModel):

@@ -119,6 +119,8 @@ def test_text_report_names_the_limit_lists_and_their_dates(seeded_library_url: s
     path = _file(tmp_path, "clean.toml", "Larkspur LB-940", CLEAN)
     result = _check(seeded_library_url, str(path))
     flat = " ".join(result.stdout.split()).replace("| ", "")
-    # the seed's EU lists carry their dates (seed_data/limits.csv, column list_date)
-    assert "Regulation (EC) No 1223/2009 Annex V as of 20" in flat
+    # the seed's EU lists carry their dates (seed_data/limits.csv, column list_date), and are
+    # named as what they are: a few hand-written rows, not the Commission's annex (issue 11)
+    assert "Regulation (EC) No 1223/2009 Annex V (hand-written seed rows) as of 20" in flat
+    assert "not the annex: import the Commission's exports" in flat
     assert "not a safety assessment" in flat

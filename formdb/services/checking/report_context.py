@@ -13,6 +13,7 @@ from sqlalchemy import func, select
 
 from formdb.rules.profiles import Profile, load_profile
 from formdb.rules.registry import default_registry
+from formdb.schemas.lists import HAND_WRITTEN
 from formdb.store.library import Library
 from formdb.store.lists import snapshots_in_force
 from formdb.store.models import LimitEntry
@@ -45,7 +46,8 @@ def limit_snapshots(library: Library,
     out = [(s.jurisdiction, f"Regulation (EC) No 1223/2009 Annex {s.annex} (Commission export "
             f"{s.file_name}, file created {s.file_created:%d/%m/%Y})", s.last_update)
            for s in imported]
-    seed = " (hand-written seed rows)" if imported else ""
-    out += [(j, f"{name}{seed}", when) for j, name, when in rows
+    # marked whether or not anything is imported: a few hand-written entries of an annex are
+    # never the annex, and the report must not read as if they were
+    out += [(j, f"{name}{HAND_WRITTEN}", when) for j, name, when in rows
             if (j.casefold(), name.rsplit(" ", 1)[-1]) not in covered]
     return [row for row in out if not wanted or row[0].casefold() in wanted]
