@@ -104,7 +104,12 @@ def db_grants(report: GrantReport, prefix: str) -> str:
               for role, tables in report.roles.items()]
     lines.append("Sealed tables (change log, review records, keys, policy) are appended only "
                  "through formdb_append, rows naming the login; server_change_log records "
-                 "every change to the library tables with the login.")
+                 "every change to the library tables with the login; logins change only "
+                 "through formdb_login.")
+    if report.createrole_taken:
+        lines.append("CREATEROLE taken from the admin logins "
+                     f"{', '.join(report.createrole_taken)} (formdb_login manages logins; "
+                     "with CREATEROLE an admin could take over another login).")
     return _text(lines)
 
 

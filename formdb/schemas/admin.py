@@ -35,6 +35,7 @@ class BackupReport:
 class GrantReport:
     database: str
     roles: dict[str, list[str]]  # role -> tables it may write
+    createrole_taken: tuple[str, ...] = ()  # admin logins that lost CREATEROLE (see grants)
 
 
 @dataclass(frozen=True)

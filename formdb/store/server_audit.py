@@ -14,6 +14,14 @@ grant-setup``, refreshed each time it runs; removed by migration 0020's downgrad
   formdb's services do (signatures: reviewer; key enrolments and review policy: admin; the log
   and review runs: any duty), then inserts the rows as given (sealed by the client, checked by
   the identity trigger) as the table owner.
+- ``formdb_login(op, login, group_role, verifier)``: the only way formdb changes logins. An
+  admin login holds no CREATEROLE (with it, on PostgreSQL 15, it could set another person's
+  password and log in as them, or grant itself any role, unrecorded); this SECURITY DEFINER
+  function, owned by whoever ran grant-setup, checks that the caller is an admin, does one
+  narrow thing (create or adopt a login, set a new login's password verifier, grant or revoke
+  one duty's group role, let a login log in or not) on ordinary logins only (never a
+  superuser, a role with CREATEROLE, the function's owner, a group role or a ``pg_`` role),
+  and records it in ``server_change_log`` (table ``logins``) with ``session_user``.
 
 Limits, said plainly: the owner of the tables (whoever ran the migrations) and a superuser can
 drop or disable all of this; the chains and ``formdb audit verify`` are the check that does not
@@ -117,17 +125,98 @@ $fn$
 """
 
 
+_LOGIN_FUNCTION = """
+CREATE OR REPLACE FUNCTION "{schema}".formdb_login(op text, who text, grp text, verifier text)
+RETURNS void
+LANGUAGE plpgsql SECURITY DEFINER SET search_path = "{schema}", pg_temp AS $fn$
+DECLARE
+  target pg_roles%ROWTYPE;
+  groups text[] := ARRAY[{groups}];
+  g text;
+BEGIN
+  IF NOT (session_user = current_user
+          OR pg_has_role(session_user, '{prefix}_admin', 'MEMBER')) THEN
+    RAISE EXCEPTION 'formdb: managing logins needs the role admin ({prefix}_admin)'
+      USING ERRCODE = '42501';
+  END IF;
+  IF who IS NULL OR who = ANY(groups) OR who LIKE 'pg\\_%' THEN
+    RAISE EXCEPTION 'formdb: % is not a person''s login that formdb may manage',
+      coalesce(who, 'nothing') USING ERRCODE = '42501';
+  END IF;
+  SELECT * INTO target FROM pg_roles WHERE rolname = who;
+  IF FOUND AND session_user <> current_user
+     AND (who = current_user OR target.rolsuper OR target.rolbypassrls
+          OR (target.rolcreaterole AND op NOT IN ('revoke', 'disable'))) THEN
+    RAISE EXCEPTION 'formdb: % owns the library, is a superuser or may create roles: only '
+      'the database administrator changes it', who USING ERRCODE = '42501';
+  END IF;
+  IF op IN ('grant', 'revoke') AND NOT (grp = ANY(groups)) THEN
+    RAISE EXCEPTION 'formdb: % is not one of the duties'' roles', coalesce(grp, 'nothing')
+      USING ERRCODE = '42501';
+  END IF;
+  IF op = 'disable' AND who = current_user THEN
+    RAISE EXCEPTION 'formdb: % owns the library and stays able to log in', who
+      USING ERRCODE = '42501';
+  END IF;
+  IF op <> 'create' AND NOT FOUND THEN
+    RAISE EXCEPTION 'formdb: there is no login %', who USING ERRCODE = '42501';
+  END IF;
+  IF op = 'create' THEN
+    IF FOUND AND verifier IS NOT NULL THEN
+      RAISE EXCEPTION 'formdb: the login % exists and keeps its password (its owner changes '
+        'it with \\password)', who USING ERRCODE = '42501';
+    END IF;
+    IF FOUND THEN
+      EXECUTE format('ALTER ROLE %I LOGIN', who);
+    ELSIF verifier IS NULL THEN
+      EXECUTE format('CREATE ROLE %I LOGIN', who);
+    ELSIF verifier NOT LIKE 'SCRAM-SHA-256$%' THEN
+      RAISE EXCEPTION 'formdb: a password is set as a SCRAM-SHA-256 verifier only'
+        USING ERRCODE = '42501';
+    ELSE
+      EXECUTE format('CREATE ROLE %I LOGIN PASSWORD %L', who, verifier);
+    END IF;
+  ELSIF op = 'grant' THEN
+    EXECUTE format('GRANT %I TO %I', grp, who);
+  ELSIF op = 'revoke' THEN
+    EXECUTE format('REVOKE %I FROM %I', grp, who);
+    IF grp = '{prefix}_admin' AND target.rolcreaterole AND who <> current_user THEN
+      EXECUTE format('ALTER ROLE %I NOCREATEROLE', who);
+    END IF;
+  ELSIF op = 'disable' THEN
+    FOREACH g IN ARRAY groups LOOP
+      IF pg_has_role(who, g, 'MEMBER') THEN
+        EXECUTE format('REVOKE %I FROM %I', g, who);
+      END IF;
+    END LOOP;
+    EXECUTE format('ALTER ROLE %I NOLOGIN NOCREATEROLE', who);
+  ELSIF op = 'enable' THEN
+    EXECUTE format('ALTER ROLE %I LOGIN', who);
+  ELSE
+    RAISE EXCEPTION 'formdb: % is not a login operation', op USING ERRCODE = '42501';
+  END IF;
+  INSERT INTO server_change_log (at, login, table_name, operation, old_rows, new_rows)
+  VALUES (clock_timestamp(), session_user, 'logins', op, NULL,
+          json_build_array(json_build_object('login', who, 'role', grp,
+                                             'password', verifier IS NOT NULL))::text);
+END
+$fn$
+"""
+
+
 def install(conn: Connection, schema: str, prefix: str, groups: list[str]) -> list[str]:
     """Create or refresh the functions and triggers; returns the tables watched."""
     tables = sorted(inspect(conn).get_table_names())
     conn.execute(text(_CHANGE_FUNCTION.format(schema=schema)))
     conn.execute(text(_IDENTITY_FUNCTION.format(schema=schema)))
     conn.execute(text(_APPEND_FUNCTION.format(schema=schema, prefix=prefix)))
-    conn.execute(text(f'REVOKE ALL ON FUNCTION "{schema}".formdb_append(text, jsonb) '
-                      "FROM PUBLIC"))
-    for group in groups:
-        conn.execute(text(f'GRANT EXECUTE ON FUNCTION "{schema}".formdb_append(text, jsonb) '
-                          f'TO "{group}"'))
+    every_group = [f"{prefix}_reader", *groups]
+    conn.execute(text(_LOGIN_FUNCTION.format(
+        schema=schema, prefix=prefix, groups=", ".join(f"'{g}'" for g in every_group))))
+    for function in ("formdb_append(text, jsonb)", "formdb_login(text, text, text, text)"):
+        conn.execute(text(f'REVOKE ALL ON FUNCTION "{schema}".{function} FROM PUBLIC'))
+        for group in groups:
+            conn.execute(text(f'GRANT EXECUTE ON FUNCTION "{schema}".{function} TO "{group}"'))
     watched = [t for t in tables if t not in NOT_WATCHED]
     for table in watched:
         for suffix, event, referencing in _TRIGGERS:
@@ -156,3 +245,4 @@ def remove_server_objects(conn: Connection) -> None:
     conn.execute(text("DROP FUNCTION IF EXISTS formdb_server_change() CASCADE"))
     conn.execute(text("DROP FUNCTION IF EXISTS formdb_check_identity() CASCADE"))
     conn.execute(text("DROP FUNCTION IF EXISTS formdb_append(text, jsonb) CASCADE"))
+    conn.execute(text("DROP FUNCTION IF EXISTS formdb_login(text, text, text, text) CASCADE"))

@@ -96,7 +96,7 @@ def test_user_add_makes_a_login_with_its_duty_and_the_login_is_recorded(team: Te
     assert (team.login("ed"), f"{team.prefix}_editor") in members
     assert (team.login("rita"), f"{team.prefix}_reviewer") in members
     assert _rows(team.url, f"SELECT rolcanlogin, rolcreaterole FROM pg_roles WHERE rolname = "
-                           f"'{team.login('boss')}'") == [(True, True)]
+                           f"'{team.login('boss')}'") == [(True, False)]
     edited = team.formdb("ed", *EDIT)
     assert edited.exit_code == 0, edited.stderr
     assert (team.login("ed"),) in _rows(
@@ -229,6 +229,63 @@ def test_deactivated_login_cannot_log_in_and_stays_in_history(team: Team) -> Non
         WHERE m.rolname = '{team.login('rita')}' AND g.rolname = '{team.prefix}_reviewer'""")
 
 
+def _owner_sql(team: Team, statement: str) -> None:
+    engine = create_engine(team.url, isolation_level="AUTOCOMMIT")
+    try:
+        with engine.connect() as conn:
+            conn.execute(text(statement))
+    finally:
+        engine.dispose()
+
+
+def test_an_admin_login_cannot_take_over_another_login(team: Team) -> None:
+    """On PostgreSQL 15 a login with CREATEROLE may set any other login's password (and then
+    log in as that person), grant itself any role (a reviewer's, or pg_execute_server_program,
+    which runs programs on the server) and make logins formdb never hears of, all unrecorded.
+    Admin logins hold no CREATEROLE: logins change only through formdb_login, which refuses
+    all of that and records what it does with the login that asked."""
+    boss, ed = team.login("boss"), team.login("ed")
+    assert _rows(team.url, f"SELECT rolcreaterole FROM pg_roles WHERE rolname = '{boss}'") == \
+        [(False,)]
+    assert "permission denied" in team.refused("boss", f"ALTER ROLE \"{ed}\" PASSWORD 'mine'")
+    for role in (f"{team.prefix}_reviewer", "pg_execute_server_program"):
+        assert "must have admin option" in team.refused(
+            "boss", f'GRANT "{role}" TO "{boss}"')
+    assert "permission denied" in team.refused(
+        "boss", f'CREATE ROLE "{team.prefix}_ghost" LOGIN IN ROLE "{team.prefix}_editor"')
+    owner = make_url(team.url).username
+    call = "SELECT formdb_login(:op, :target, :grp, :v)"
+    for (op, who, grp, v), said in (
+            (("create", ed, None, "SCRAM-SHA-256$4096:x"), "keeps its password"),
+            (("grant", boss, "pg_execute_server_program", None), "not one of the duties"),
+            (("grant", f"{team.prefix}_editor", f"{team.prefix}_admin", None),
+             "is not a person's login"),
+            (("enable", owner, None, None), "only the database administrator changes it")):
+        assert said in team.refused("boss", call, op=op, target=who, grp=grp, v=v), (op, who)
+    assert "managing logins needs the role admin" in team.refused(
+        "ed", call, op="grant", target=ed, grp=f"{team.prefix}_admin", v=None)
+    # what formdb_login did is recorded by the server with the login that asked
+    assert team.formdb("boss", "user", "grant", ed, "formulator", "--prefix", team.prefix,
+                       "--yes").exit_code == 0
+    logged = _rows(team.url, "SELECT login, operation, new_rows FROM server_change_log "
+                             "WHERE table_name = 'logins' ORDER BY id")
+    assert (boss, "grant") in [(who, op) for who, op, _n in logged]
+    assert json.loads(str(logged[-1][2])) == [
+        {"login": ed, "role": f"{team.prefix}_formulator", "password": False}]
+
+
+def test_grant_setup_takes_createrole_from_admin_logins(team: Team) -> None:
+    """A library set up by an earlier formdb gave its admin logins CREATEROLE: grant-setup
+    takes it away (except from the login running it, which owns formdb_login) and says so."""
+    boss = team.login("boss")
+    _owner_sql(team, f'ALTER ROLE "{boss}" CREATEROLE')
+    again = run_formdb(["--db", team.url, "db", "grant-setup", "--prefix", team.prefix])
+    assert again.exit_code == 0, again.stderr
+    assert f"CREATEROLE taken from the admin logins {boss} " in again.stdout
+    assert _rows(team.url, f"SELECT rolcreaterole FROM pg_roles WHERE rolname = '{boss}'") == \
+        [(False,)]
+
+
 def test_only_the_admin_login_downgrades(team: Team) -> None:
     refused = team.formdb("ed", "db", "downgrade", "base", "--yes")
     assert refused.exit_code == 2
@@ -308,7 +365,7 @@ def test_a_login_made_by_the_database_administrator_is_adopted(team: Team) -> No
     """Certificate logins are often made by whoever runs the server: `user add` adopts the
     role that exists instead of failing, and gives it its duty."""
     login = f"{team.prefix}_cert"
-    team.sql("boss", f'CREATE ROLE "{login}" NOLOGIN')
+    _owner_sql(team, f'CREATE ROLE "{login}" NOLOGIN')  # the server's administrator
     plan = team.formdb("boss", "user", "add", login, "--role", "reviewer", "--prefix",
                        team.prefix)
     assert plan.exit_code == 2 and f"adopt the existing database login {login}" in plan.stdout

@@ -176,8 +176,6 @@ def add_user(session: Session, name: str, roles: list[str], *, actor: str,
                        + (" with a SCRAM password" if password is not None else
                           " (no password: log in by certificate or as pg_hba.conf says)"))
         changes += [f"make {name} a member of {logins.group(prefix, d)}" for d in duties]
-        if Duty.ADMIN.value in duties:
-            changes.append(f"give {name} CREATEROLE (to add and change logins)")
     info = UserInfo(name, True, tuple(duties))
     if not confirm:
         return Plan("add user", tuple(changes), False, user=info)

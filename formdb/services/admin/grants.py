@@ -10,7 +10,8 @@ Creates (or refreshes) one NOLOGIN role per duty, named ``PREFIX_reader``, ``PRE
 - reviewer: reader + write the review and sign-off tables (names starting ``review`` or
   ``sign``);
 - admin: reader + write ``users`` and ``user_roles``, and append to the signing keys and
-  review policy (``key_enrolments``, ``policy_versions``);
+  review policy (``key_enrolments``, ``policy_versions``); logins are changed only through
+  ``formdb_login`` (admin logins hold no CREATEROLE: grant-setup takes it away);
 No duty may INSERT, UPDATE or DELETE the sealed tables (``change_log``, review runs and
 signatures, key enrolments, policy versions) nor ``server_change_log``: rows reach the sealed
 tables only through the server function ``formdb_append``, which checks the caller's duty,
@@ -93,4 +94,20 @@ def _grant(conn: Connection, shown: str, prefix: str) -> GrantReport:
                                   f'"{schema}"."{table}" TO "{role}"'))
         conn.execute(text(f'GRANT USAGE ON ALL SEQUENCES IN SCHEMA "{schema}" TO "{role}"'))
     install(conn, schema, prefix, [f"{prefix}_{d}" for d in writes])
-    return GrantReport(shown, {f"{prefix}_{d}": t for d, t in writes.items()})
+    return GrantReport(shown, {f"{prefix}_{d}": t for d, t in writes.items()},
+                       _take_createrole(conn, f"{prefix}_admin"))
+
+
+def _take_createrole(conn: Connection, admin_group: str) -> tuple[str, ...]:
+    """NOCREATEROLE for the admin group's logins (an earlier formdb gave it to them): on
+    PostgreSQL 15 a CREATEROLE login may set any other login's password and grant itself any
+    role unrecorded; logins now change only through formdb_login. The login running
+    grant-setup (it owns that function) and superusers are left as they are."""
+    held = conn.execute(text(
+        "SELECT m.rolname FROM pg_auth_members a JOIN pg_roles m ON m.oid = a.member "
+        "JOIN pg_roles g ON g.oid = a.roleid WHERE g.rolname = :g AND m.rolcreaterole "
+        "AND NOT m.rolsuper AND m.rolname <> current_user ORDER BY 1"),
+        {"g": admin_group}).scalars().all()
+    for login in held:
+        conn.execute(text(f'ALTER ROLE "{login}" NOCREATEROLE'))
+    return tuple(held)

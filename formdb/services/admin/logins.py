@@ -11,7 +11,11 @@ only the ``SCRAM-SHA-256$...`` verifier is sent, so the clear password never rea
 or its logs. A certificate login needs no password: ``pg_hba.conf`` maps the certificate's CN to
 the login (see the README's team section).
 
-The admin duty also gives CREATEROLE, which PostgreSQL needs to create and grant logins.
+Every change goes through the server function ``formdb_login`` (store.server_audit, installed
+by grant-setup), which checks that the caller is an admin and records the change with
+``session_user``. Admin logins get no CREATEROLE: with it, on PostgreSQL 15, an admin could set
+another person's password and log in as them, or grant itself any role, and nothing would
+record it.
 """
 
 from __future__ import annotations
@@ -58,18 +62,25 @@ def login_exists(session: Session, name: str) -> bool:
     return _role_exists(session, name)
 
 
+def _call(session: Session, op: str, name: str, group_role: str | None = None,
+          verifier: str | None = None) -> None:
+    """One change of a login through the server's ``formdb_login`` (see the module docstring)."""
+    present = session.execute(text("SELECT to_regprocedure('formdb_login(text, text, text, "
+                                   "text)')")).scalar()
+    if present is None:
+        raise ConfigError("this database has no formdb_login function: logins are managed "
+                          "through the functions `formdb db grant-setup` installs.",
+                          hint="the database owner runs formdb db grant-setup")
+    session.execute(text("SELECT formdb_login(:op, :who, :grp, :verifier)"),
+                    {"op": op, "who": name, "grp": group_role, "verifier": verifier})
+
+
 def create_or_adopt(session: Session, name: str, password: str | None) -> bool:
-    """Make the login ``name`` (True) or adopt the role that exists (False); set its password
-    verifier when one is given."""
+    """Make the login ``name`` (True) or adopt the role that exists (False); a new login gets
+    the password verifier when one is given (an existing one keeps its own password)."""
     made = not login_exists(session, name)
-    if made:
-        session.execute(text(f'CREATE ROLE "{name}" LOGIN'))
-    else:
-        session.execute(text(f'ALTER ROLE "{name}" LOGIN'))
-    if password is not None:
-        verifier = _verifier(session, name, password)  # base64 and $ : = only, no quote
-        # driver-level: the verifier's colons must not be read as bind parameters
-        session.connection().exec_driver_sql(f"ALTER ROLE \"{name}\" PASSWORD '{verifier}'")
+    verifier = _verifier(session, name, password) if password is not None else None
+    _call(session, "create", name, verifier=verifier)
     return made
 
 
@@ -88,28 +99,21 @@ def _verifier(session: Session, name: str, password: str) -> str:
 
 
 def grant_duty(session: Session, name: str, prefix: str, duty: str) -> None:
-    session.execute(text(f'GRANT "{group(prefix, duty)}" TO "{name}"'))
-    if duty == "admin":
-        session.execute(text(f'ALTER ROLE "{name}" CREATEROLE'))
+    _call(session, "grant", name, group(prefix, duty))
 
 
 def revoke_duty(session: Session, name: str, prefix: str, duty: str) -> None:
     if _role_exists(session, group(prefix, duty)):
-        session.execute(text(f'REVOKE "{group(prefix, duty)}" FROM "{name}"'))
-    if duty == "admin":
-        session.execute(text(f'ALTER ROLE "{name}" NOCREATEROLE'))
+        _call(session, "revoke", name, group(prefix, duty))
 
 
 def disable(session: Session, name: str, prefix: str, duties: list[str]) -> None:
     """NOLOGIN and no duty's membership: the person can neither log in nor act."""
-    if not login_exists(session, name):
-        return
-    for duty in duties:
-        revoke_duty(session, name, prefix, duty)
-    session.execute(text(f'ALTER ROLE "{name}" NOLOGIN'))
+    if login_exists(session, name):
+        _call(session, "disable", name)
 
 
 def enable(session: Session, name: str, prefix: str, duties: list[str]) -> None:
-    session.execute(text(f'ALTER ROLE "{name}" LOGIN'))
+    _call(session, "enable", name)
     for duty in duties:
         grant_duty(session, name, prefix, duty)
