@@ -130,8 +130,9 @@ def policy_set_cmd(app: AppContext, library: Library, profile: str, roles: tuple
 @with_library
 def report_cmd(app: AppContext, library: Library, run: str, fmt: str, out: Path | None,
                force: bool) -> None:
-    """The filed report of review RUN: HTML (printable) or JSON. Exit 1 when the run or a
-    signature on it does not verify (the report says BROKEN or INVALID beside it)."""
+    """The filed report of review RUN: HTML (printable) or JSON. Exit 1 when the run, a
+    signature on it or a chain the report reads (the change log, the review records, keys,
+    policy) does not verify (the report says BROKEN or INVALID beside it)."""
     from formdb.report.files import check_output, write_report
     from formdb.report.review import render_review
     from formdb.report.review_status import report_written
@@ -146,7 +147,7 @@ def report_cmd(app: AppContext, library: Library, run: str, fmt: str, out: Path 
     else:
         write_report(out, text, force=force, inputs=library_files(app))
         click.echo(report_written(filed, out), nl=False)
-    if not filed.state.verified:
-        click.echo(f"Error: run {filed.state.run_key} does not verify (BROKEN or INVALID in "
-                   "the report). Next: formdb audit verify.", err=True)
+    if not filed.verified:
+        click.echo(f"Error: run {filed.state.run_key} or a chain it relies on does not verify "
+                   "(BROKEN or INVALID in the report). Next: formdb audit verify.", err=True)
         click.get_current_context().exit(1)

@@ -141,3 +141,9 @@ class FiledRun:
     records: list[dict[str, Any]]
     policy: dict[str, Any] | None = None
     heads: list[tuple[str, int | None, str | None, bool]] = field(default_factory=list)
+    problems: list[str] = field(default_factory=list)  # in the chains the report read
+
+    @property
+    def verified(self) -> bool:
+        """The run, its signatures and every chain the report read verify."""
+        return not self.problems and self.state.verified

@@ -315,9 +315,12 @@ def test_a_run_edited_with_plain_sql_shows_broken(seeded_library_url: str, cream
         assert broken[0].startswith("seal: row ") and "server's seal" in broken[0]
     else:
         assert len(broken) == 1
-    # resealed: the public chain alone is fooled; on PostgreSQL the server's keyed seal is not
+    # resealed: the public chain alone is fooled; audit verify still checks the run against
+    # its run hash, and on PostgreSQL the server's keyed seal does not follow either
     verify = act(ana, "audit", "verify")
-    assert verify.exit_code == (1 if url.startswith("postgresql") else 0)
+    assert verify.exit_code == 1
+    assert "(altered)" not in verify.stdout and "(broken-link)" not in verify.stdout
+    assert f"run {key} (row " in verify.stdout and "(run-hash)" in verify.stdout
     assert ("(server-seal)" in verify.stdout) == url.startswith("postgresql")
 
 

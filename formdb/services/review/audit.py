@@ -156,6 +156,23 @@ def verify_signatures(session: Session, report: ChainReport) -> None:
                 report.more_problems += 1
 
 
+def verify_run_hashes(session: Session, report: ChainReport) -> None:
+    """Check every run against its own run hash and formula hash: a run rewritten and resealed
+    with the public chain hash passes the chain, not this (its hash is what signatures sign)."""
+    from formdb.services.review.runs import run_record_problems
+    from formdb.store.models import ReviewRun
+
+    hashes = {int(i): str(h) for i, h in
+              session.execute(select(ReviewRun.id, ReviewRun.run_hash)).all()}
+    for run in session.scalars(select(ReviewRun).order_by(ReviewRun.id)):
+        for why in run_record_problems(run, hashes):
+            if len(report.problems) < _MAX_PROBLEMS:
+                report.problems.append(ChainProblem(report.table, run.id, "run-hash",
+                                                    f"run {run.run_key} (row {run.id}): {why}"))
+            else:
+                report.more_problems += 1
+
+
 def _chains(session: Session, tables: list[str] | None) -> list[ChainReport]:
     present = set(inspect(session.connection()).get_table_names())
     wanted = [t for t in (tables or list(SEALED_COLUMNS)) if t in present]
@@ -163,6 +180,8 @@ def _chains(session: Session, tables: list[str] | None) -> list[ChainReport]:
     for chain in chains:
         if chain.table == "review_signatures" and "key_enrolments" in present:
             verify_signatures(session, chain)
+        if chain.table == "review_runs":
+            verify_run_hashes(session, chain)
     return chains
 
 

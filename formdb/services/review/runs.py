@@ -64,6 +64,9 @@ from formdb.store.models import ChangeLogEntry, ReviewRun, ReviewSignature
 DEFAULT_PROFILE = "strict"
 STORED = "stored:"
 SHOWN_CHAINS = ("review_runs", "review_signatures", "key_enrolments", "policy_versions")
+# status and the filed report also read the change log (what changed since a run, which
+# changes were logged), so they verify it too; signing checks only the review chains
+READ_CHAINS = ("change_log", *SHOWN_CHAINS)
 
 
 def _digest(value: Any) -> str:
@@ -355,9 +358,9 @@ class _Checks:
     """What the shown records are verified against, read once per snapshot: each sealed
     chain's problems by row id, and the enrolled keys."""
 
-    def __init__(self, session: Session) -> None:
+    def __init__(self, session: Session, chains: tuple[str, ...] = SHOWN_CHAINS) -> None:
         present = set(inspect(session.connection()).get_table_names())
-        self.chains = [verify_table(session, t) for t in SHOWN_CHAINS if t in present]
+        self.chains = [verify_table(session, t) for t in chains if t in present]
         self.rows = {(p.table, p.row_id): p.detail for c in self.chains for p in c.problems}
         self.enrolments = keys.enrolments(session) if "key_enrolments" in present else []
         self.hashes = {int(i): str(h) for i, h in
@@ -367,17 +370,22 @@ class _Checks:
         return [f"{c.table}: {p.detail}" for c in self.chains for p in c.problems]
 
 
-def _run_broken(run: ReviewRun, checks: _Checks) -> list[str]:
+def run_record_problems(run: ReviewRun, hashes: dict[int, str]) -> list[str]:
+    """Why a stored run no longer matches its own hashes (``hashes``: run id -> run hash, for
+    the run it supersedes); none when it does. The chain's seal is checked apart from this:
+    a rewrite resealed with the public hash passes the chain but not this."""
     broken = []
-    seal = checks.rows.get(("review_runs", run.id))
-    if seal:
-        broken.append(f"seal: {seal}")
-    before = checks.hashes.get(run.supersedes_run_id) if run.supersedes_run_id else None
+    before = hashes.get(run.supersedes_run_id) if run.supersedes_run_id else None
     if _digest(_run_content(run, before)) != run.run_hash or run.run_key != run.run_hash[:12]:
         broken.append("the run's content no longer matches its run hash")
     if content_hash(run.formula_text) != run.formula_hash:
         broken.append("the stored formula text no longer matches its formula hash")
     return broken
+
+
+def _run_broken(run: ReviewRun, checks: _Checks) -> list[str]:
+    seal = checks.rows.get(("review_runs", run.id))
+    return [f"seal: {seal}"] * bool(seal) + run_record_problems(run, checks.hashes)
 
 
 def _signature(sig: ReviewSignature, run: ReviewRun, checks: _Checks) -> SignatureInfo:
@@ -441,7 +449,7 @@ def review_status(library: Library) -> ReviewStatus:
     with library.read() as session:
         reference = queries.load_reference_data(session)
         newer = _newer(session)
-        checks = _Checks(session)
+        checks = _Checks(session, READ_CHAINS)
         runs = session.scalars(select(ReviewRun).order_by(ReviewRun.id)).all()
         return ReviewStatus([_state(session, run, newer, reference, checks) for run in runs],
                             checks.problems(), current_policy(session))
@@ -583,7 +591,7 @@ def filed_run(library: Library, key: str) -> FiledRun:
     with library.read() as session:
         run = _find_run(session, key)
         reference = queries.load_reference_data(session)
-        checks = _Checks(session)
+        checks = _Checks(session, READ_CHAINS)
         state = _state(session, run, _newer(session), reference, checks)
         result = stored_result(run.result_json)
         try:
@@ -594,10 +602,8 @@ def filed_run(library: Library, key: str) -> FiledRun:
         except InvalidData:
             label = None
         heads = [(c.table, c.head_id, c.head_hash, c.intact) for c in checks.chains]
-        change_log = verify_table(session, "change_log")
-        heads.insert(0, ("change_log", change_log.head_id, change_log.head_hash,
-                         change_log.intact))
         return FiledRun(state, run.formula_hash, run.library_hash, run.profile_name,
                         run.profile_version, run.formdb_version, result, label,
                         open_items(result, run.profile_name), json.loads(run.records_json),
-                        json.loads(run.policy_json) if run.policy_json else None, heads)
+                        json.loads(run.policy_json) if run.policy_json else None, heads,
+                        checks.problems())
