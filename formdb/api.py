@@ -230,14 +230,16 @@ def record_screening(library: Library, name: str, blend: int, *,
 
 
 def fit_screening(library: Library, name: str, *, measure: str = "stability",
-                  store: bool = False, user: str | None = None) -> ScreeningFit:
+                  store: bool = False, user: str | None = None,
+                  after_hours: float | None = None) -> ScreeningFit:
     """The required HLB fitted to a series with its uncertainty (``formdb screen fit``);
-    ``store`` keeps it as an in-house measurement that the next check uses. Raises
-    ``InvalidData`` saying why when the series has no clear optimum."""
+    ``store`` keeps it as an in-house measurement that the next check uses; ``after_hours``
+    picks the readings of that age. Raises ``InvalidData`` saying why when the series has no
+    clear optimum or its latest readings are of different ages."""
     from formdb.services.bench_work.screening import fit_series
 
     return fit_series(library, name, measure=measure, store=store,
-                      user=_acting(library, user))
+                      user=_acting(library, user), after_hours=after_hours)
 
 
 # ----- the review flow --------------------------------------------------------------------------

@@ -220,14 +220,18 @@ def screen_record_cmd(app: AppContext, library: Library, name: str, blend: int,
 @click.argument("name")
 @click.option("--measure", type=click.Choice(["stability", "separation_percent", "droplet_um"]),
               default="stability", show_default=True)
+@click.option("--after-hours", type=float,
+              help="Fit the readings taken this many hours after making (default: each "
+                   "blend's latest, refused when their ages differ).")
 @click.option("--store", is_flag=True,
               help="Keep the fitted value in the library as an in-house measurement.")
 @with_library
 def screen_fit_cmd(app: AppContext, library: Library, name: str, measure: str,
-                   store: bool) -> None:
+                   after_hours: float | None, store: bool) -> None:
     """Fit the required HLB of series NAME's oil phase (refused without a clear optimum)."""
     from formdb.report.screening import fit_text
     from formdb.services.bench_work.screening import fit_series
 
-    fit = fit_series(library, name, measure=measure, store=store, user=app.user)
+    fit = fit_series(library, name, measure=measure, store=store, user=app.user,
+                     after_hours=after_hours)
     click.echo(fit_text(name, fit, store), nl=False)

@@ -28,7 +28,8 @@ def series_text(series: ScreeningSeries) -> str:
 
 def fit_text(series_name: str, fit: ScreeningFit, stored: bool) -> str:
     lines = [f"Required HLB of the oil phase of {series_name!r}: {fit.required_hlb:.2f} "
-             f"± {fit.uncertainty:.2f} (about 95 %), from {fit.measure} of blends "
+             f"± {fit.uncertainty:.2f} (about 95 %), from {fit.measure}"
+             f"{'' if fit.after_hours is None else f' after {fit.after_hours:g} h'} of blends "
              f"{', '.join(str(n) for n in fit.used_blends)}",
              f"Method: {fit.method}.",
              f"After: {fit.source}.",

@@ -150,6 +150,7 @@ class ScreeningFit:
     measure: str
     used_blends: tuple[int, ...]
     curvature: float
+    after_hours: float | None = None  # the age of the readings fitted, when recorded
 
 
 @dataclass(frozen=True)

@@ -116,6 +116,45 @@ def test_fit_is_refused_without_a_clear_optimum(seeded_library_url: str) -> None
     assert dump_database(url) == before
 
 
+def test_readings_of_different_ages_are_not_fitted_together(seeded_library_url: str) -> None:
+    # every blend read after 24 h (peak 11.2), then blends 4 and 5 again after a week: their
+    # latest readings are a week old while the others are a day old, so the plain fit refuses
+    url = seeded_library_url
+    assert _run(url, *PLAN).exit_code == 0
+    _record_peak(url)
+    for number, score in ((4, "2.0"), (5, "2.5")):
+        assert _run(url, "screen", "record", SERIES, "--blend", str(number), "--stability",
+                    score, "--after-hours", "168").exit_code == 0
+    before = dump_database(url)
+    mixed = _run(url, "screen", "fit", SERIES, "--store")
+    assert mixed.exit_code == 2 and mixed.stderr.count("Error:") == 1
+    assert "of different ages (24 h: blends 1, 2, 3, 6, 7, 8, 9; 168 h: blends 4, 5)" in \
+        mixed.stderr and "--after-hours" in mixed.stderr
+    week = _run(url, "screen", "fit", SERIES, "--after-hours", "168")
+    assert week.exit_code == 2 and "only 2 blends are observed" in week.stderr
+    assert dump_database(url) == before
+    day = _run(url, "screen", "fit", SERIES, "--after-hours", "24", "--store")
+    assert day.exit_code == 0, day.stderr
+    assert "from stability after 24 h of blends" in day.stdout
+    value = float(day.stdout.split(": ", 1)[1].split()[0])
+    assert value == pytest.approx(11.2, abs=0.3)  # the day-old peak, not pulled by the week
+    source = _run(url, "source", "show", "screen-larkspur-mineral-oil-ipm-70-30-1").stdout
+    flat = " ".join(source.replace("│", " ").split())
+    assert "from stability after 24 h" in flat
+    assert "stability 2 (168 h)" in flat  # every reading stays attached, with its age
+
+
+def test_a_measure_not_recorded_names_the_ones_that_are(seeded_library_url: str) -> None:
+    url = seeded_library_url
+    assert _run(url, *PLAN).exit_code == 0
+    assert _run(url, "screen", "record", SERIES, "--blend", "2",
+                "--separation-percent", "12").exit_code == 0
+    result = _run(url, "screen", "fit", SERIES)
+    assert result.exit_code == 2
+    assert "no blend has a stability reading; the series has separation_percent readings" in \
+        result.stderr and "--measure separation_percent" in result.stderr
+
+
 def test_stored_fit_is_used_by_the_next_check_with_its_source(seeded_library_url: str,
                                                                tmp_path: Path) -> None:
     url = seeded_library_url

@@ -283,21 +283,75 @@ def record_observations(library: Library, name: str, blend: int, values: Mapping
         return _series_record(row)
 
 
+def age_words(hours: float | None) -> str:
+    return "no age recorded" if hours is None else f"{hours:g} h"
+
+
+def fit_age(fit: ScreeningFit) -> str:
+    return "" if fit.after_hours is None else f" after {fit.after_hours:g} h"
+
+
+def _same_age(a: float | None, b: float | None) -> bool:
+    if a is None or b is None:
+        return a is b
+    return math.isclose(a, b, rel_tol=1e-9, abs_tol=1e-9)
+
+
+def _readings(row: SeriesRow, measure: str, after_hours: float | None
+              ) -> tuple[list[tuple[int, float, float]], float | None]:
+    """Each blend's latest reading of ``measure`` as (blend, HLB, value), all of one age: the
+    age asked for, else the one age the blends' latest readings share. Emulsions go on
+    creaming and coalescing, so a week-old blend is not compared with a day-old one: latest
+    readings of different ages are refused, naming the ages, rather than fitted together."""
+    latest: dict[int, tuple[float, ScreeningObservation]] = {}
+    recorded: set[str] = set()
+    for blend in row.blends:
+        recorded.update(o.measure for o in blend.observations)
+        chosen = [o for o in blend.observations if o.measure == measure
+                  and (after_hours is None or _same_age(o.after_hours, after_hours))]
+        if chosen:
+            latest[blend.number] = (blend.hlb, max(chosen, key=lambda o: o.id))
+    where = f"series {row.name!r}, measure {measure}"
+    if not latest:
+        others = sorted(recorded - {measure})
+        at = "" if after_hours is None else f" after {age_words(after_hours)}"
+        raise InvalidData(
+            f"{where}: no required HLB fitted: no blend has a {measure} reading{at}"
+            + (f"; the series has {', '.join(others)} readings" if others else ""),
+            hint=(f"fit with --measure {others[0]}" if others and after_hours is None
+                  else "record the blends with formdb screen record"))
+    ages: dict[float | None, list[int]] = {}
+    for number, (_, obs) in sorted(latest.items()):
+        key = next((a for a in ages if _same_age(a, obs.after_hours)), obs.after_hours)
+        ages.setdefault(key, []).append(number)
+    if len(ages) > 1:
+        told = "; ".join(f"{age_words(a)}: blend{'s' if len(n) > 1 else ''} "
+                         f"{', '.join(map(str, n))}" for a, n in ages.items())
+        raise InvalidData(f"{where}: the blends' latest readings are of different ages "
+                          f"({told}); no required HLB fitted across them",
+                          hint="fit one age with --after-hours HOURS")
+    age = next(iter(ages))
+    return [(n, hlb, obs.value) for n, (hlb, obs) in sorted(latest.items())], age
+
+
 def fit_series(library: Library, name: str, *, measure: str = "stability", store: bool = False,
-               user: str) -> ScreeningFit:
-    """Fit the required HLB; with ``store``, keep it as an in-house measurement (one write)."""
+               user: str, after_hours: float | None = None) -> ScreeningFit:
+    """Fit the required HLB to one measure at one age (see ``_readings``); with ``store``,
+    keep it as an in-house measurement (one write)."""
     if measure not in MEASURES:
         raise InvalidData(f"--measure {measure!r}: choose one of {', '.join(MEASURES)}")
+    if after_hours is not None and not (math.isfinite(after_hours) and 0 < after_hours <= 1e5):
+        raise InvalidData(f"--after-hours {after_hours:g}: must be above 0")
     higher = MEASURES[measure][1]
     with (library.write() if store else library.read()) as session:
         if store:
             require(session, user, Action.CHANGE_LIBRARY)
         row = _series_row(session, name)
         series = _series_record(row)
-        seen = [b for b in series.blends if measure in b.observations]
+        seen, age = _readings(row, measure, after_hours)
         try:
-            fit = science.fit_optimum([b.hlb for b in seen],
-                                      [b.observations[measure] for b in seen],
+            fit = science.fit_optimum([hlb for _, hlb, _ in seen],
+                                      [value for _, _, value in seen],
                                       higher_is_better=higher)
         except science.NoClearOptimum as exc:
             raise InvalidData(f"series {series.name!r}, measure {measure}: no required HLB "
@@ -305,7 +359,8 @@ def fit_series(library: Library, name: str, *, measure: str = "stability", store
         result = ScreeningFit(
             required_hlb=fit.required_hlb, uncertainty=fit.expanded_uncertainty,
             method=FIT_METHOD, source=FIT_SOURCES, measure=measure,
-            used_blends=tuple(seen[i].number for i in fit.used), curvature=fit.curvature)
+            used_blends=tuple(seen[i][0] for i in fit.used), curvature=fit.curvature,
+            after_hours=age)
         if store:
             _store_fit(session, row, series, result, user)
         return result
@@ -326,9 +381,9 @@ def _store_fit(session: Session, row: SeriesRow, series: ScreeningSeries, fit: S
     now = datetime.now(UTC)
     key = _source_key(session, series.name)
     observed = "; ".join(
-        f"blend {b.number} HLB {b.hlb:g}: " + ", ".join(f"{m} {v:g}"
-                                                        for m, v in b.observations.items())
-        for b in series.blends if b.observations)
+        f"blend {b.number} HLB {b.hlb:g}: " + ", ".join(
+            f"{o.measure} {o.value:g} ({age_words(o.after_hours)})" for o in b.observations)
+        for b in row.blends if b.observations)
     oils = ", ".join(f"{n} {f * 100:.4g} %" for n, f in series.oils)
     session.add(Source(
         key=key, kind=SourceKind.MEASUREMENT.value, evidence=Evidence.MEASURED.value,
@@ -337,7 +392,7 @@ def _store_fit(session: Session, row: SeriesRow, series: ScreeningSeries, fit: S
                   f"{series.high_emulsifier} ({series.emulsifier_percent:g} %), "
                   f"{len(series.blends)} blends; required HLB ({series.emulsion_type}) "
                   f"{fit.required_hlb:.2f} ± {fit.uncertainty:.2f} (about 95 %) from "
-                  f"{fit.measure}"),
+                  f"{fit.measure}{fit_age(fit)}"),
         method=f"{fit.method}; after {fit.source}", measured_by=user,
         issued=now.date(), note=f"observations: {observed}"[:20000]))
     session.flush()
@@ -348,7 +403,7 @@ def _store_fit(session: Session, row: SeriesRow, series: ScreeningSeries, fit: S
         measured_by=user))
     session.add(log_entry(
         at=now, user=user, entity="screening", entity_key=series.name, entity_version=None,
-        action="add", reason=f"fitted to the series' {fit.measure}; source {key}",
+        action="add", reason=f"fitted to the series' {fit.measure}{fit_age(fit)}; source {key}",
         changes=[{"field": "required_hlb", "old": None, "new": fit.required_hlb,
                   "new_source": key},
                  {"field": "uncertainty", "old": None, "new": fit.uncertainty},
