@@ -472,6 +472,48 @@ def test_update_makes_signed_runs_stale_and_names_the_entry(tmp_path: Path,
                for c in state.changes), state.changes
 
 
+BLEND_CREAM = """name = "Larkspur blended sun cream"
+category = "leave-on"
+product = "face cream"
+
+[[ingredients]]
+inci = "Aqua"
+percent = 90.0
+
+[[ingredients]]
+inci = "Larkspur Sun Blend"
+percent = 10.0
+"""
+
+
+@needs_exports
+def test_update_touches_formulas_through_a_mixture(tmp_path: Path,
+                                                   seeded_sqlite_url: str) -> None:
+    """A stored formula that holds homosalate only inside a declared supplier blend is touched
+    by a change to Annex VI/3 (Reg. (EU) 2022/2195: 7.34 %) as the check itself sees it."""
+    from formdb.services.library.ingredients import add_ingredient
+    from formdb.services.library.mixtures import Part, declare
+
+    with Library.open(seeded_sqlite_url) as library:
+        import_lists(library, [export("VI")], user=TEST_USER)
+        with library.write() as session:
+            add_ingredient(session, "Larkspur Sun Blend", user=TEST_USER, reason="test")
+            declare(session, "Larkspur Sun Blend",
+                    [Part("Homosalate", 70.0, "eu-cosing-annex-vi-2025-10-31"),
+                     Part("Caprylic/Capric Triglyceride", 30.0, "eu-cosing-annex-vi-2025-10-31")],
+                    user=TEST_USER, reason="test")
+    cream = tmp_path / "blend-cream.toml"
+    cream.write_text(BLEND_CREAM, encoding="utf-8")
+    stored = run_formdb(["--db", seeded_sqlite_url, "formula", "import", str(cream)])
+    assert stored.exit_code == 0, stored.stderr
+    with Library.open(seeded_sqlite_url) as library:
+        result = import_lists(library, [_copy(tmp_path, "VI", _newer_vi)], user=TEST_USER)
+    assert result.touched_formulas == ("Larkspur blended sun cream: EU Annex VI/3",)
+    [moved] = result.formula_changes  # 7 % homosalate: within 7.34 %, over 6.5 %
+    assert moved.startswith("Larkspur blended sun cream: errors ") and \
+        "new: LIM03 error: HOMOSALATE (70 % of Larkspur Sun Blend, line 2) 7 %" in moved, moved
+
+
 @needs_exports
 def test_status_and_show_as_a_reviewer_reads_them(sqlite_url: str) -> None:
     none = run_formdb(["--db", sqlite_url, "lists", "status"])

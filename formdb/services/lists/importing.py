@@ -422,12 +422,16 @@ def _impact(session: Session, changes: Sequence[EntryChange], plans: Sequence[_P
     names = {n for _name, text in formulas for n in _formula_names(text)} | \
         {n for r in runs for n in _formula_names(r.formula_text)}
     records = queries.find_ingredients(session, names)
+    # a mixture line touches the entries of its declared constituents too (the check matches them)
+    blends = queries.constituents(session)
 
     def entries_named(text: str) -> list[str]:
         found: dict[str, None] = {}
         for n in _formula_names(text):
             record = records.get(name_key(n))
             keys = record_match_keys(record) if record else {name_match(n)}
+            for part in blends.get(name_key(record.inci_name if record else n), ()):
+                keys = keys | record_match_keys(part.record)
             for key in keys:
                 found.update(dict.fromkeys(hit.get(key, ())))
         return list(found)
