@@ -450,7 +450,7 @@ READABLE = {
     "viscosity_mpas": "viscosity", "use_min_percent": "use range, low end",
     "use_max_percent": "use range, high end", "ph_min": "working pH, low end",
     "ph_max": "working pH, high end", "dispersed_fraction": "dispersed volume fraction",
-    "molar_mass": "molar mass", "base_equivalents": "base equivalents",
+    "molar_mass": "molar mass", "base_equivalents": "base equivalents", "acid_value": "acid value",
     "cation_valence": "cation valence", "ionic_character": "ionic character",
 }
 

@@ -26,12 +26,13 @@ class FreeAlkali(Rule):
     """A strong base is left free in the batch.
 
     Flags: sodium or potassium hydroxide (an alkali-metal hydroxide: one cation charge, one water
-    per equivalent) left over after the soaps form, or with no fatty acid to take it at all. The
-    finding states the free amount (% w/w), its concentration in the water phase and the pH to
-    expect from it (14 + log10[OH-] at 25 degC, the ideal value, and half a unit below for
-    activity and buffers). A warning; an info when other acids (citric or lactic acid, carbomer)
-    are present that may take it up (their equivalents are not in the library, so the free
-    amount is an upper bound).
+    per equivalent) left over after the soaps form and the other acids take their share, or
+    with no acid to take it at all. The finding states the free amount (% w/w), its
+    concentration in the water phase and the pH to expect from it (14 + log10[OH-] at 25 degC,
+    the ideal value, and half a unit below for activity and buffers). Other acids take the base
+    up first by their acid value (mg KOH/g: carbomer in a gel, citric acid), so a base they can
+    take is not flagged. A warning; an info when an acid with no acid value in the library is
+    present that may take some of it up (the free amount is then an upper bound).
     Why: a soap batch is made with the base a little short of the acid so no alkali is left;
     free alkali in a leave-on product irritates skin and eyes and saponifies esters on storage.
     Stoichiometry as in formdb.science.soap; pH from Kw = 1.0e-14 at 25 degC (any physical
@@ -39,7 +40,8 @@ class FreeAlkali(Rule):
     Fails: Stearic Acid 15, Sodium Hydroxide 2.5, Water 82.5: 15/284.48 = 0.0527 mol acid takes
     2.11 g of NaOH, 0.39 % is left free, about 0.12 mol/L, pH about 12.6-13.1.
     Passes: Stearic Acid 15, Sodium Hydroxide 0.5, Water 84.5 (the acid in excess: no free
-    base).
+    base); Carbomer 0.5, Sodium Hydroxide 0.2, Water 99.3 (a gel: 0.5 g carbomer of acid value
+    779 mg KOH/g takes up to 0.28 g NaOH, so all 0.2 g).
     Options: none.
     """
 
@@ -52,18 +54,20 @@ class FreeAlkali(Rule):
               options: Mapping[str, Any]) -> Iterable[Finding]:
         for base in facts.free_bases:
             where = ("left over after the soap formed" if base.after_soap
-                     else "with no fatty acid to take it")
+                     else "with no acid to take it" if not base.taken_by else "left over")
             ph = (f"; in the {base.water_phase_percent:.4g} % water phase that is "
                   f"{base.molar_concentration:.3g} mol/L, pH about {base.ph_low:.1f} to "
                   f"{base.ph_high:.1f}" if base.molar_concentration is not None
                   and base.ph_low is not None and base.ph_high is not None else "")
             severity = Severity.INFO if base.acids_present else self.default_severity
-            taken = (f"; {', '.join(base.acids_present)} may take some of it up (their acid "
-                     "equivalents are not in the library, so this is an upper bound)"
+            after = (f" after {', '.join(base.taken_by)} took what their acid value allows"
+                     if base.taken_by else "")
+            taken = (f"; {', '.join(base.acids_present)} may take some of it up (no acid value "
+                     "in the library, so this is an upper bound)"
                      if base.acids_present else "")
             yield self.finding(
                 severity,
-                f"{base.base} {base.free_percent:.3g} % is free, {where}{ph}{taken}",
+                f"{base.base} {base.free_percent:.3g} % is free, {where}{after}{ph}{taken}",
                 ingredients=[base.base],
                 values={"free_percent": base.free_percent, "ph_low": base.ph_low,
                         "ph_high": base.ph_high, "hydroxide_mol_l": base.molar_concentration},

@@ -92,6 +92,11 @@ class IngredientProperties(BaseModel):
     base_equivalents: float | None = Field(
         None, gt=0, le=4, json_schema_extra=_unit("mol OH-/mol"),
         description="moles of acid one mole of this base neutralises (NaOH 1, MgO 2)")
+    acid_value: float | None = Field(
+        None, gt=0, le=2000, json_schema_extra=_unit("mg KOH/g"),
+        description="mg of potassium hydroxide one gram neutralises (the pharmacopoeial acid "
+                    "value; citric acid 876, carbomer about 779): what an acid takes of a "
+                    "strong base before any is left free")
     cation_valence: int | None = Field(
         None, ge=1, le=3, json_schema_extra=_unit(""),
         description="valence of the cation this base gives a soap (Na+ 1, Mg2+ 2)")

@@ -218,8 +218,9 @@ class FreeBaseFacts(_Frozen):
     molar_concentration: float | None  # mol/L in the water phase (about 1 g/mL)
     ph_low: float | None  # the pH range to expect from the free base alone
     ph_high: float | None
-    acids_present: tuple[str, ...] = ()  # other acids that may take some of it up
+    acids_present: tuple[str, ...] = ()  # other acids that may take some of it up (no value)
     after_soap: bool = False
+    taken_by: tuple[str, ...] = ()  # acids with an acid value that took part of it first
 
 
 class BlendSolution(_Frozen):

@@ -11,7 +11,18 @@ from __future__ import annotations
 import math
 
 PKW_25C = 14.0
+KOH_MOLAR_MASS = 56.106  # g/mol, from IUPAC standard atomic weights (K 39.098, O 15.999, H 1.008)
 RANGE_BELOW = 0.5  # rule of thumb: activity, temperature and buffers lower the ideal value
+
+
+def acid_equivalents(mass_g: float, acid_value_mg_koh_g: float) -> float:
+    """mol of base ``mass_g`` of an acid neutralises, from its acid value (mg KOH that neutralise
+    the free acids of 1 g: the pharmacopoeial definition, Ph. Eur. 2.5.1, recalled from memory),
+    one KOH being one equivalent."""
+    for name, value in (("mass_g", mass_g), ("acid_value_mg_koh_g", acid_value_mg_koh_g)):
+        if not math.isfinite(value) or value < 0:
+            raise ValueError(f"{name} must be a finite number >= 0, got {value}")
+    return mass_g * acid_value_mg_koh_g / 1000.0 / KOH_MOLAR_MASS
 
 
 def hydroxide_molarity(mass_g: float, molar_mass: float, equivalents: float,
