@@ -323,3 +323,14 @@ def test_filed_review_lists_the_conditions(library: Library, tmp_path: Path) -> 
     from formdb.report.review import review_document
 
     assert "hand-written" not in " ".join(review_document(filed)["cautions"])
+
+
+def test_methylisothiazolinone_rinse_off_only(library: Library) -> None:
+    """Annex V/57 (Reg. (EU) 2017/1224): methylisothiazolinone 0.0015 % in rinse-off products
+    only; not allowed in a leave-on product at any level (Reg. (EU) 2016/1198)."""
+    lotion = by_entry(lim(library, formula([("Methylisothiazolinone", 0.001, "preservative")],
+                                           product="body lotion")), "V/57")
+    assert lotion.severity.value == "error" and "covers only Rinse-off products" in lotion.message
+    gel = by_entry(lim(library, formula([("Methylisothiazolinone", 0.001, "preservative")],
+                                        "rinse-off", product="shower gel")), "V/57")
+    assert gel.severity.value == "info"

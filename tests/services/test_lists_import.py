@@ -220,6 +220,20 @@ def test_oxidative_hair_dye_maximum_on_the_hair() -> None:
 
 
 @needs_exports
+def test_scope_written_in_the_maximum_cell_v_57_and_v_7() -> None:
+    """Annex V/57 methylisothiazolinone (Reg. (EU) 2017/1224): 0.0015 % in rinse-off products
+    only, written "0,0015 % Rinse-off products" under the maximum with no product type (leave-on
+    use was banned by Reg. (EU) 2016/1198): the scope is rinse-off, never all products. V/7
+    o-phenylphenol (Reg. (EU) 2018/1847): 0.15 % (as phenol) leave-on, 0.2 % rinse-off."""
+    [mi] = one("V", "57").parts
+    assert (mi.max_percent, mi.scope.categories) == (0.0015, ("rinse-off",))
+    leave_on, rinse_off = one("V", "7").parts
+    assert (leave_on.max_percent, leave_on.scope.categories) == (0.15, ("leave-on",))
+    assert (rinse_off.max_percent, rinse_off.scope.categories) == (0.2, ("rinse-off",))
+    assert "as phenol" in leave_on.max_text
+
+
+@needs_exports
 def test_counts_and_coverage() -> None:
     """Entry counts as the export's README gives them; more than 90 % of parts structured."""
     counts = {a: sum(len(v) for v in entries(a).values()) for a in ("II", "III", "IV", "V", "VI")}

@@ -398,7 +398,29 @@ def parse_entry(annex: str, row: Mapping[str, str], key: str) -> ListEntry:
         update_date=parse_day(row.get("Update Date", "")), cells=dict(row))
 
 
+# a maximum cell that carries the scope itself when the product type cell is empty: V/57
+# "0,0015 % Rinse-off products", V/7 "0,15 % (as phenol) in leave-on and 0,2 % (as phenol) in
+# rinse-off cosmetic products"
+_SCOPED_MAX = re.compile(r"(\d+(?:[.,]\d+)?\s*(?:%|ppm))\s*(\([^)]*\))?\s*(?:in\s+)?"
+                         r"((?:leave|rinse)[- ]?(?:on|off)\b(?:\s+(?:cosmetic\s+)?products?)?)",
+                         re.I)
+
+
+def _scoped_maxima(product: str, maximum: str) -> list[tuple[str, str]]:
+    """(maximum text, scope text) per figure of a maximum cell that names its own product
+    category, or [] when the product type cell speaks or a figure has no category."""
+    if clean(product) or _MARKER.search(maximum):
+        return []
+    found = _SCOPED_MAX.findall(maximum)
+    if not found or len(found) != len(_PERCENT.findall(maximum)):
+        return []
+    return [(clean(f"{figure} {basis}"), clean(scope)) for figure, basis, scope in found]
+
+
 def _parts(annex: str, product: str, maximum: str, other: str, wording: str) -> tuple[Part, ...]:
+    if scoped := _scoped_maxima(product, maximum):
+        return tuple(_part(None, scope, figure, clean(other), clean(wording))
+                     for figure, scope in scoped)
     p_common, p_parts = split_parts(product)
     m_common, m_parts = split_parts(maximum)
     o_common, o_parts = split_parts(other)
