@@ -11,10 +11,14 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 
+from formdb.facts.phases import line_facts
+from formdb.facts.soap import form_soaps
 from formdb.facts.work import Work
 from formdb.schemas.bench import MeasuredRequiredHlb
 from formdb.schemas.formula import ResolvedFormula
+from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import LineFacts, RequiredHlbFacts
+from formdb.schemas.vocab import EmulsionType
 
 MATCH_TOLERANCE = 0.02  # two percentage points of the oil phase (rule of thumb)
 
@@ -60,3 +64,18 @@ def apply_measured(facts: RequiredHlbFacts, formula: ResolvedFormula,
         "value": found.value, "covered_percent": facts.members_percent, "missing": (),
         "measured_source": found.source_key, "measured_uncertainty": found.uncertainty,
         "low": None, "high": None})
+
+
+def measurements_taken(formula: ResolvedFormula, reference: ReferenceData
+                       ) -> tuple[MeasuredRequiredHlb, ...]:
+    """The measurements the check of ``formula`` takes (O/W, then W/O), found as the check
+    finds them (its oil phase after soap formation), so a review run can name them among the
+    records it used and go stale when a newer one would be taken instead."""
+    measured = reference.measured_required_hlb
+    if not measured:
+        return ()
+    work = Work(remaining={ln.line_no: ln.percent for ln in formula.lines})
+    form_soaps(formula, reference, work)
+    shares = oil_phase_shares(formula, line_facts(formula, work))
+    found = (matching(shares, measured, kind.value) for kind in (EmulsionType.OW, EmulsionType.WO))
+    return tuple(m for m in found if m is not None)

@@ -184,6 +184,49 @@ def test_stored_fit_is_used_by_the_next_check_with_its_source(seeded_library_url
     assert result["required_hlb"] is not None
 
 
+def _review_state(url: str, key: str) -> dict:
+    shown = _run(url, "review", "status", "--format", "json")
+    return {s["run_key"]: s for s in json.loads(shown.stdout)["runs"]}[key]
+
+
+def test_a_filed_review_goes_stale_when_a_measured_value_would_be_taken(
+        seeded_library_url: str, tmp_path: Path) -> None:
+    # a review run names the library records its check used; a measured required HLB stored
+    # after it changes what the check takes, so the run is stale (logged: nothing broken)
+    url = seeded_library_url
+    assert _run(url, *PLAN).exit_code == 0
+    _record_peak(url)
+    lotion = tmp_path / "lotion.toml"
+    lotion.write_text(LOTION.format(oil=14.0, ipm=6.0), encoding="utf-8")
+    first = _run(url, "review", "run", str(lotion))
+    assert first.exit_code == 0, first.stderr
+    key = first.stdout.split()[1].rstrip(":")
+    assert _review_state(url, key)["state"] == "current"
+    assert _run(url, "screen", "fit", SERIES, "--store").exit_code == 0
+    state = _review_state(url, key)
+    assert state["state"] == "stale" and state["broken"] == []
+    assert "measured required HLB O/W oil phase: added to the library since the run" in \
+        state["changes"]
+    again = _run(url, "review", "run", str(lotion))
+    newer = again.stdout.split()[1].rstrip(":")
+    assert _review_state(url, newer)["state"] == "current"
+    # a later fit of the same phase is taken instead: the newer run names what changed
+    assert _run(url, "screen", "fit", SERIES, "--store").exit_code == 0
+    changes = _review_state(url, newer)["changes"]
+    assert changes == ["measured required HLB O/W oil phase: source "
+                       "'screen-larkspur-mineral-oil-ipm-70-30-1' -> "
+                       "'screen-larkspur-mineral-oil-ipm-70-30-2'"]
+    # a formula with another oil phase takes no measurement: a further fit leaves its run be
+    other = tmp_path / "other.toml"
+    other.write_text(LOTION.format(oil=10.0, ipm=10.0).replace("draft 1", "draft 2"),
+                     encoding="utf-8")
+    done = _run(url, "review", "run", str(other))
+    assert done.exit_code == 0, done.stderr
+    assert _run(url, "screen", "fit", SERIES, "--store").exit_code == 0
+    untouched = _review_state(url, done.stdout.split()[1].rstrip(":"))
+    assert untouched["state"] == "current" and untouched["changes"] == []
+
+
 @pytest.mark.parametrize(("args", "message"), [
     (["--blend", "12", "--stability", "5"], "--blend 12: series"),
     (["--blend", "1", "--stability", "11"], "--stability 11: must be from 0 to 10"),

@@ -2,7 +2,8 @@
 
 A run keeps the formula text as checked, the hash of every library record the check used
 (ingredients by name, version and values; the limits, exposure row, toxicology rows, label
-thresholds and mixture constituents relevant to the formula) and the whole result. A run is never
+thresholds and mixture constituents relevant to the formula; the in-house measured required HLB
+its oil phase takes) and the whole result. A run is never
 updated: a newer run of the same formula name supersedes it, and its state is worked out when
 asked: stale when the formula or any record used changed since, naming what changed.
 
@@ -32,6 +33,7 @@ from sqlalchemy.orm import Session
 
 from formdb import __version__
 from formdb.errors import Conflict, Forbidden, InvalidData, NotFound
+from formdb.facts.measured_rhlb import measurements_taken
 from formdb.rules.engine import check_resolved
 from formdb.rules.profiles import Profile, load_profile
 from formdb.schemas.formula import ResolvedFormula
@@ -122,6 +124,11 @@ def used_records(formula: ResolvedFormula, reference: ReferenceData) -> list[dic
         for entry in reference.list_entries.get(name_key(rec.inci_name), ()):
             put("list entry", entry.label, {k: v for k, v in entry.cells.items()
                                             if k != "Update Date"})
+    for measured in measurements_taken(formula, reference):
+        put("measured required HLB", f"{measured.emulsion_type} oil phase",
+            {"series": measured.series, "source": measured.source_key,
+             "oils": [list(member) for member in measured.oils], "value": measured.value,
+             "uncertainty": measured.uncertainty})
     category = formula.formula.category.value
     for threshold in reference.label_thresholds:
         if threshold.category in (category, "any"):
@@ -321,7 +328,8 @@ def _library_changes(session: Session, run: ReviewRun, reference: ReferenceData)
 LOGGED_AS: dict[str, tuple[str, ...]] = {
     "ingredient": ("ingredient", "mixture"), "constituent": ("mixture", "constituent"),
     "limit": ("limit", "list", "list entry"), "exposure": ("exposure",),
-    "toxicology": ("toxicology",), "label threshold": ("label threshold",)}
+    "toxicology": ("toxicology",), "label threshold": ("label threshold",),
+    "measured required HLB": ("screening",)}
 
 
 def _unlogged_changes(session: Session, run: ReviewRun, changes: list[str]) -> list[str]:
@@ -342,7 +350,8 @@ def _unlogged_changes(session: Session, run: ReviewRun, changes: list[str]) -> l
         owner = name.split(" > ", 1)[0]
         entities = LOGGED_AS[kind]
         logged = any(entity in entities and (key in (name, owner) or key.startswith(owner)
-                                             or entity.startswith("list"))
+                                             or entity.startswith("list")
+                                             or entity == "screening")
                      for entity, key in log)
         if not logged:
             out.append(f"{kind} {name} changed since the run with no change-log entry: "
