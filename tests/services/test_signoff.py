@@ -15,6 +15,8 @@ from __future__ import annotations
 import base64
 import json
 import shutil
+import time
+from datetime import timedelta
 from pathlib import Path
 from typing import Any
 
@@ -22,7 +24,8 @@ import pytest
 from cryptography.hazmat.primitives.asymmetric.ed25519 import Ed25519PrivateKey
 from sqlalchemy import select, text
 
-from formdb.services.review.keys import signed_text
+from formdb.services.review import keys as keys_module
+from formdb.services.review.keys import load_private_key, signed_text
 from formdb.store.db import make_engine, unit_of_work
 from formdb.store.models import ReviewRun, ReviewSignature
 from formdb.store.sealing import SEALED_COLUMNS, canonical, seal
@@ -348,6 +351,58 @@ def test_revoked_keys_sign_nothing_new_and_old_signatures_still_verify(
     assert [s["check"] for s in status["runs"][0]["signatures"]] == ["valid", "valid"]
     listed = act(ana, "key", "list").stdout
     assert "revoked" in listed and "laptop lost" in listed and "in use" in listed
+
+
+@pytest.mark.slow  # seconds per run: left out of the fast lane
+def test_a_revoked_key_cannot_sign_a_later_run_even_backdated(
+        seeded_library_url: str, cream: Path, tmp_path: Path, people,
+        monkeypatch: pytest.MonkeyPatch) -> None:
+    """Someone who took rita's key file and passphrase signs after the revocation and dates
+    the signature before it: that verifies only for runs made before the revocation. (The
+    allowance for clocks that differ is cut to a second so the test need not wait minutes.)"""
+    monkeypatch.setattr(keys_module, "CLOCK_SKEW", timedelta(seconds=1))
+    url = seeded_library_url
+    ana = people(url, "ana")
+    rita = new_signer(people(url, "rita"), tmp_path, "Rita Reviewer")
+    old = _run(ana, cream)
+    assert sign(rita, old, "reviewed").exit_code == 0
+    [real] = _signature_rows(url)
+    assert act(people(url, "ada"), "key", "revoke", str(real.key_id), "--reason",
+               "laptop stolen").exit_code == 0
+    cream.write_text(cream.read_text(encoding="utf-8") + "\n# second draft\n", encoding="utf-8")
+    time.sleep(2)  # the new run is made over the allowance after the (backdated) signature
+    new = _run(ana, cream)
+    stolen = load_private_key(rita.key, ENV["FORMDB_KEY_PASSPHRASE"])
+    runs = {r["run_key"]: r for r in _status(ana)["runs"]}
+    for run_key in (old, new):
+        body = signed_text(run_hash=runs[run_key]["run_hash"], meaning="approved",
+                           reason=None, waivers=[], login=rita.login,
+                           printed_name="Rita Reviewer", key_id=str(real.key_id),
+                           signed_at=real.signed_at)
+        _reseal_insert(url, {"run_id": _run_id(url, run_key),
+                             "run_hash": runs[run_key]["run_hash"], "signer": "Rita Reviewer",
+                             "signed_by": rita.login, "meaning": "approved",
+                             "signed_at": real.signed_at, "comment": None,
+                             "waivers_json": None, "key_id": real.key_id,
+                             "signature": base64.b64encode(stolen.sign(body)).decode()})
+    status = _status(ana)
+    on_new = status["by_key"][new]["signatures"]
+    assert [s["check"] for s in on_new] == ["INVALID: dated before the run it signs was made"]
+    assert status["exit_code"] == 1
+    # the limit, pinned: on the run made before the revocation the backdated forgery verifies
+    assert [s["check"] for s in status["by_key"][old]["signatures"]] == ["valid", "valid"]
+    verify = act(ana, "audit", "verify")
+    assert verify.exit_code == 1 and "dated before the run it signs was made" in verify.stdout
+
+
+def _run_id(url: str, run_key: str) -> int:
+    engine = make_engine(url)
+    try:
+        with engine.connect() as conn:
+            return int(conn.execute(text("SELECT id FROM review_runs WHERE run_key = :k"),
+                                    {"k": run_key}).scalar_one())
+    finally:
+        engine.dispose()
 
 
 def test_wrong_passphrase_unenrolled_or_borrowed_keys_are_refused(

@@ -143,10 +143,11 @@ def verify_signatures(session: Session, report: ChainReport) -> None:
     from formdb.store.models import ReviewRun, ReviewSignature
 
     enrolled = keys.enrolments(session)
-    hashes = {int(i): str(h) for i, h in
-              session.execute(select(ReviewRun.id, ReviewRun.run_hash)).all()}
+    runs = {int(i): (str(h), at) for i, h, at in
+            session.execute(select(ReviewRun.id, ReviewRun.run_hash, ReviewRun.created_at))}
     for sig in session.scalars(select(ReviewSignature).order_by(ReviewSignature.id)):
-        check = keys.check_signature(sig, hashes.get(sig.run_id, ""), enrolled)
+        run_hash, made = runs.get(sig.run_id, ("", None))
+        check = keys.check_signature(sig, run_hash, enrolled, made)
         if check != "valid":
             detail = f"signature {sig.id} ({sig.meaning} by {sig.signer}) is {check}"
             if len(report.problems) < _MAX_PROBLEMS:

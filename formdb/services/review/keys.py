@@ -19,7 +19,7 @@ import hashlib
 import json
 import os
 from collections.abc import Sequence
-from datetime import UTC, datetime
+from datetime import UTC, datetime, timedelta
 from pathlib import Path
 from typing import Any
 
@@ -42,6 +42,7 @@ PUBLIC_PREFIX = "formdb-ed25519"
 SIGNED_FORM = "formdb-signature-1"
 MIN_PASSPHRASE = 8
 KEY_FILE_ENV = "FORMDB_SIGNING_KEY"
+CLOCK_SKEW = timedelta(minutes=10)  # the run's and the signer's clocks may differ this much
 
 
 def default_key_path() -> Path:
@@ -245,12 +246,19 @@ def sign_bytes(key: Ed25519PrivateKey, data: bytes) -> str:
 
 
 def check_signature(sig: ReviewSignature, run_hash: str,
-                    enrolments: Sequence[KeyEnrolment]) -> str:
-    """"valid", or "INVALID: why" for a signature row against the run and the enrolled keys."""
+                    enrolments: Sequence[KeyEnrolment],
+                    run_made: datetime | None = None) -> str:
+    """"valid", or "INVALID: why" for a signature row against the run (its hash and when it
+    was made) and the enrolled keys. The time is the signer's claim: a key used after its
+    revocation could be dated before it, but not before the run it signs existed (less
+    ``CLOCK_SKEW`` between the two machines' clocks), so a revoked key cannot sign a run made
+    after its revocation."""
     if not sig.signature or not sig.key_id:
         return "INVALID: no key signature (written without a signing key)"
     if sig.run_hash != run_hash:
         return "INVALID: signed for another run hash"
+    if run_made is not None and utc(sig.signed_at) < utc(run_made) - CLOCK_SKEW:
+        return "INVALID: dated before the run it signs was made"
     rows = [r for r in enrolments if r.key_id == sig.key_id]
     enrol = next((r for r in rows if r.action == "enrol"), None)
     if enrol is None:

@@ -398,7 +398,7 @@ def _run_broken(run: ReviewRun, checks: _Checks) -> list[str]:
 
 
 def _signature(sig: ReviewSignature, run: ReviewRun, checks: _Checks) -> SignatureInfo:
-    check = keys.check_signature(sig, run.run_hash, checks.enrolments)
+    check = keys.check_signature(sig, run.run_hash, checks.enrolments, run.created_at)
     seal = checks.rows.get(("review_signatures", sig.id))
     if seal and check == "valid":
         check = f"INVALID: {seal}"
