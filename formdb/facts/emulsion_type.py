@@ -113,7 +113,8 @@ def emulsion_type(formula: ResolvedFormula, emulsifiers: list[EmulsifierFacts],
             detail=f"water-soluble {water_side:.4g} % vs oil-soluble {oil_side:.4g} %"))
     decided = decide_type(prediction.by_hlb, griffin_percent,
                           ionic.favours if ionic else None, ionic.mass_percent if ionic else 0.0,
-                          prediction.bancroft, by_hld)
+                          prediction.bancroft, by_hld,
+                          blend_between=blend is not None and prediction.by_hlb is None)
     if emulsifiers and water_side + oil_side > 0 and prediction.bancroft is None:
         work.note("the solubility split gives no type: the emulsifier members are split about "
                   "evenly between water- and oil-soluble")

@@ -17,7 +17,7 @@ from formdb.schemas.result import (
     RequiredHlbFacts,
     SoapFacts,
 )
-from formdb.schemas.vocab import EmulsionType
+from formdb.schemas.vocab import EmulsionType, Severity
 
 SIDE_WORDS = {"oil": "oil", "water": "water", "none": "neither", None: n.DASH}
 SCALE_WORDS = {"griffin": "Griffin", "davies": "Davies", None: n.DASH}
@@ -305,19 +305,13 @@ def _agreement_lines(result: CheckResult) -> list[Line]:
         out.append(Line("Agreement", "the indicators agree", "ok"))
     intended, predicted = result.intended_type, facts.predicted_type
     if intended and predicted and intended != predicted:
-        # as strongly as TYP01 judged it: an error on strong evidence, a warning on weaker, a
-        # note where the blend HLB lies between the classes and contradicts neither type
-        said = [f.severity.value for f in result.findings
-                if f.rule == "TYP01" and f.values.get("predicted_type") == predicted.value
-                and f.values.get("intended_type") == intended.value
-                and "disagree" not in f.message]
-        strong = facts.type_decision is not None and facts.type_decision.strong
-        flag: Flag = ("bad" if "error" in said else "warn" if "warning" in said
-                      else "" if said else "bad" if strong else "warn")
-        how = {"bad": "", "warn": " (weak evidence)", "": " (only a supporting indicator; "
-               "the blend HLB contradicts neither type)"}[flag]
+        # as strongly as TYP01 judged it: a problem where it found strong evidence (an error),
+        # a check where the evidence is weaker (a warning)
+        strong = any(f.rule == "TYP01" and f.severity == Severity.ERROR for f in result.findings)
         out.append(Line("Against intended", f"intended {intended.value} but the system gives "
-                                            f"{predicted.value}{how}", flag))
+                                            f"{predicted.value}"
+                                            + ("" if strong else " (not decisive)"),
+                        "bad" if strong else "warn"))
     elif intended and predicted:
         out.append(Line("Against intended", f"matches the intended {intended.value}", "ok"))
     return out

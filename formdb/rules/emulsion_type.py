@@ -60,9 +60,7 @@ class EmulsionTypeCheck(Rule):
     intended_type. An error only on strong evidence: a blend HLB below strong_wo_below (6) for an
     intended O/W, above strong_ow_above (10) for an intended W/O, or soap/ionic members alone on
     the wrong side (a divalent soap as the only emulsifier of an O/W). A warning when the
-    decided type differs on weaker evidence; an info when the blend HLB lies between the classes
-    (it contradicts neither type) and only a supporting indicator (the HLD, the solubility
-    split) points away from the intended type. An info naming the indicators when they disagree
+    decided type differs on weaker evidence. An info naming the indicators when they disagree
     among themselves (never an error by itself). Judges emulsions and soap creams (facts.kind).
     Decision table (formdb.science.emulsion_type.decide_type), first row that applies:
       HLB class | soap/ionic  | HLD at 25 °C | solubility split | decided              | strong
@@ -71,7 +69,10 @@ class EmulsionTypeCheck(Rule):
       T         | U (differs) | any          | any              | more emulsifier mass | no
       none      | none        | T            | any              | T                    | no
       none      | none        | none         | T                | T                    | no
+      between   | none        | none         | any              | no prediction        | -
       none      | none        | none         | none             | no prediction        | -
+    (the split decides only where no member has a Griffin HLB; "between": a blend HLB in the
+    gap between the classes, which the vote of member masses does not overrule)
     The HLB class is the blend's (Griffin members only; W/O at or below 6, O/W at or above 8);
     soap/ionic: monovalent soaps and water-soluble ionic surfactants O/W, divalent and trivalent
     soaps W/O; HLD: Salager's HLD at 25 °C where the library holds the oils' EACN, the
@@ -126,20 +127,7 @@ class EmulsionTypeCheck(Rule):
             "water_side_percent": facts.water_side_emulsifier_percent,
             "oil_side_percent": facts.oil_side_emulsifier_percent}
         names = [e.inci for e in facts.emulsifiers]
-        between = facts.blend_hlb is not None and facts.type_by_hlb is None
-        if intended is not None and predicted is not None and predicted != intended and between:
-            settings = facts.settings
-            yield self.finding(
-                Severity.INFO,
-                f"intended {intended.value}: the blend HLB {facts.blend_hlb:.2f} lies between "
-                f"Griffin's classes (W/O at or below {settings.hlb_wo_max:g}, O/W at or above "
-                f"{settings.hlb_ow_min:g}), where either type can form; only a supporting "
-                f"indicator points to {predicted.value} ({decision.row})",
-                ingredients=names, values=values,
-                advice="information, not a fault: the blend HLB does not contradict the "
-                       "intended type; confirm the type on the first batch by dilution or "
-                       "conductivity")
-        elif intended is not None and predicted is not None and predicted != intended:
+        if intended is not None and predicted is not None and predicted != intended:
             why = strong_contradiction(facts, intended, options)
             want = ("mostly oil-soluble, with a blend HLB below about 6" if intended.value == "W/O"
                     else "mostly water-soluble, with a blend HLB above about 8")

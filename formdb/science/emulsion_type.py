@@ -18,12 +18,16 @@ oil-soluble and still makes O/W, because the blend's HLB (8.58) is what the inte
 | none | T | any | any | T | yes |
 | T | U (differs) | any | any | the one behind more emulsifier mass | no |
 | none | none | T | any | T | no |
-| none | none | none | T | T | no |
+| none (no blend HLB at all) | none | none | T | T | no |
+| none (blend HLB between the classes) | none | none | any | no prediction | - |
 | none | none | none | none | no prediction | - |
 
 "none" is no indicator: no blend HLB (or one in the gap between the classes), no soap or ionic
 member, no HLD (the library lacks the EACN, Cc or salinity, or the HLD lies within the band
-around 0 where either type can form), an evenly split system. A disagreement is reported as
+around 0 where either type can form), an evenly split system. A blend HLB between the classes
+(above 6, below 8) contradicts neither type, so the vote of member masses does not overrule it:
+sorbitan oleate 3.3 + polysorbate 80 1.7 (blend 7.94, 66 % of the mass oil-soluble) with 75 %
+water gets no prediction, not "W/O" (state ``intended_type``). A disagreement is reported as
 information naming the indicators, never as an error by itself.
 
 The HLD (Salager; Bourrel, Salager, Schechter, Wade, J. Colloid Interface Sci. 75 (1980) 451:
@@ -134,9 +138,12 @@ class Decision:
 def decide_type(by_hlb: EmulsionType | None, hlb_mass: float,
                 by_ionic: EmulsionType | None, ionic_mass: float,
                 by_split: EmulsionType | None,
-                by_hld: EmulsionType | None = None) -> Decision:
+                by_hld: EmulsionType | None = None, *,
+                blend_between: bool = False) -> Decision:
     """The decision table of this module's docstring. Masses (any one unit) are the emulsifier
-    mass behind the HLB class (the Griffin members) and behind the soap/ionic indicator."""
+    mass behind the HLB class (the Griffin members) and behind the soap/ionic indicator.
+    ``blend_between``: the system has a blend HLB, but it lies between the classes; the
+    solubility split, a vote of member masses, does not then decide against it."""
     if by_hlb is not None and (by_ionic is None or by_ionic == by_hlb):
         row = ("the blend HLB class and the soap/ionic members agree" if by_ionic is not None
                else "the blend HLB class decides")
@@ -152,6 +159,9 @@ def decide_type(by_hlb: EmulsionType | None, hlb_mass: float,
     if by_hld is not None:
         return Decision(by_hld, "only the HLD at 25 °C gives a type (no HLB class or soap)",
                         False)
+    if by_split is not None and blend_between:
+        return Decision(None, "the blend HLB lies between the classes, where either type can "
+                              "form; the solubility split alone does not decide", False)
     if by_split is not None:
         return Decision(by_split, "only the solubility split of the members gives a type", False)
     return Decision(None, "no indicator gives a type", False)

@@ -8,8 +8,11 @@ import pytest
 
 from formdb.errors import ConfigError
 from formdb.report import FORMATS, RENDERERS, render
+from formdb.rules.engine import check_resolved
+from formdb.rules.profiles import Profile
 from formdb.schemas.vocab import Role, Severity
 from tests.report.factory import finding, result
+from tests.rules.library import formula, reference
 
 ANSI = re.compile(r"\x1b\[")
 
@@ -128,3 +131,21 @@ def test_the_hld_is_read_at_both_temperatures_and_as_the_third_type_indicator() 
     assert "By HLD O/W: HLD -2.92 at 25 °C; +0.68 at the 85 °C of making; phase inversion " \
            "about 74 °C, crossed on cooling" in flat
     assert "the indicators agree" in flat
+
+
+def test_against_intended_is_as_strong_as_the_type_rule_found_it() -> None:
+    """The Emulsion type section's 'Against intended' line follows TYP01: a problem on strong
+    evidence (sorbitan oleate alone, HLB 4.3 below 6 for an intended O/W; Griffin 1949 classes),
+    a check on weaker (sorbitan laurate, HLB 8.6, for an intended W/O: O/W class but below 10)."""
+    def against(lines: list[tuple[str, float]], intended: str) -> str:
+        checked = check_resolved(formula("type", lines, intended_type=intended), reference(),
+                                 Profile(name="t", version="0", select=("TYP01",)))
+        text = render([checked], "text")
+        return next(line for line in text.splitlines() if "Against intended" in line)
+
+    strong = against([("Water", 75.0), ("Paraffinum Liquidum", 20.0), ("Sorbitan Oleate", 5.0)],
+                     "O/W")
+    assert "gives W/O" in strong and "[problem]" in strong and "not decisive" not in strong
+    weak = against([("Water", 40.0), ("Paraffinum Liquidum", 55.0), ("Sorbitan Laurate", 5.0)],
+                   "W/O")
+    assert "gives O/W (not decisive)" in weak and "[check]" in weak

@@ -51,3 +51,14 @@ def test_hld_supports_and_decides_only_without_hlb_class_or_soap() -> None:
     decision = decide_type(None, 0.0, None, 0.0, OW, WO)
     assert decision.predicted == WO and not decision.strong
     assert "HLD" in decision.row
+
+
+def test_a_blend_between_the_classes_is_not_overruled_by_the_split() -> None:
+    # sorbitan oleate 3.3 + polysorbate 80 1.7: blend 7.94, between Griffin's W/O (3-6) and O/W
+    # (8-18) classes; 66 % of the mass oil-soluble. The vote of masses does not decide against it
+    decision = decide_type(None, 5.0, None, 0.0, WO, blend_between=True)
+    assert decision.predicted is None and "between the classes" in decision.row
+    # with no Griffin HLB at all (wool alcohols), the split still gives a weak type
+    assert decide_type(None, 0.0, None, 0.0, WO).predicted == WO
+    # the HLD, where the library holds its data, still decides in the gap (weakly)
+    assert decide_type(None, 5.0, None, 0.0, WO, OW, blend_between=True).predicted == OW
