@@ -216,10 +216,20 @@ def screen_record_cmd(app: AppContext, library: Library, name: str, blend: int,
                + ", ".join(f"{k} {v:g}" for k, v in values.items()))
 
 
+def _measure(ctx: click.Context, param: click.Parameter, value: str) -> str:
+    """--measure as screen record spells it (separation-percent), or as stored (_)."""
+    key = value.strip().lower().replace("-", "_")
+    if key not in ("stability", "separation_percent", "droplet_um"):
+        raise click.BadParameter(f"{value!r}: choose stability, separation-percent or "
+                                 "droplet-um")
+    return key
+
+
 @screen_group.command("fit")
 @click.argument("name")
-@click.option("--measure", type=click.Choice(["stability", "separation_percent", "droplet_um"]),
-              default="stability", show_default=True)
+@click.option("--measure", default="stability", show_default=True, callback=_measure,
+              metavar="[stability|separation-percent|droplet-um]",
+              help="The reading to fit (named as screen record names it).")
 @click.option("--after-hours", type=float,
               help="Fit the readings taken this many hours after making (default: each "
                    "blend's latest, refused when their ages differ).")

@@ -152,7 +152,14 @@ def test_a_measure_not_recorded_names_the_ones_that_are(seeded_library_url: str)
     result = _run(url, "screen", "fit", SERIES)
     assert result.exit_code == 2
     assert "no blend has a stability reading; the series has separation_percent readings" in \
-        result.stderr and "--measure separation_percent" in result.stderr
+        result.stderr and "--measure separation-percent" in result.stderr
+    # the option takes the reading as screen record spells it, or as it is stored
+    for spelling in ("separation-percent", "separation_percent"):
+        fitted = _run(url, "screen", "fit", SERIES, "--measure", spelling)
+        assert fitted.exit_code == 2 and "only 1 blend is observed" in fitted.stderr
+    wrong = _run(url, "screen", "fit", SERIES, "--measure", "colour")
+    assert wrong.exit_code == 2 and "choose stability, separation-percent or droplet-um" in \
+        wrong.stderr and wrong.stderr.count("Error:") == 1
 
 
 def test_stored_fit_is_used_by_the_next_check_with_its_source(seeded_library_url: str,

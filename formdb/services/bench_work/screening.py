@@ -318,7 +318,8 @@ def _readings(row: SeriesRow, measure: str, after_hours: float | None
         raise InvalidData(
             f"{where}: no required HLB fitted: no blend has a {measure} reading{at}"
             + (f"; the series has {', '.join(others)} readings" if others else ""),
-            hint=(f"fit with --measure {others[0]}" if others and after_hours is None
+            hint=(f"fit with --measure {others[0].replace('_', '-')}"
+                  if others and after_hours is None
                   else "record the blends with formdb screen record"))
     ages: dict[float | None, list[int]] = {}
     for number, (_, obs) in sorted(latest.items()):
