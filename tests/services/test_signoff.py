@@ -19,17 +19,20 @@ import time
 from datetime import timedelta
 from pathlib import Path
 from typing import Any
+from uuid import uuid4
 
 import pytest
 from cryptography.hazmat.primitives.asymmetric.ed25519 import Ed25519PrivateKey
-from sqlalchemy import select, text
+from sqlalchemy import create_engine, select, text
+from sqlalchemy.engine import make_url
+from sqlalchemy.exc import DBAPIError
 
 from formdb.services.review import keys as keys_module
 from formdb.services.review.keys import load_private_key, signed_text
 from formdb.store.db import make_engine, unit_of_work
 from formdb.store.models import ReviewRun, ReviewSignature
 from formdb.store.sealing import SEALED_COLUMNS, canonical, seal
-from tests.helpers import dump_database, run_formdb
+from tests.helpers import drop_roles, dump_database, run_formdb
 from tests.signing import ENV, Person, act, new_signer, people, sign
 
 __all__ = ["people"]  # the fixture, imported for its tests
@@ -164,7 +167,7 @@ def test_the_author_may_not_approve_unless_the_policy_allows_it(
 def test_the_policy_names_the_role_each_meaning_needs(seeded_sqlite_url: str, cream: Path,
                                                       tmp_path: Path, people) -> None:
     """SQLite: users are operating-system accounts here (on PostgreSQL ``user add`` makes
-    server logins, which issue 13's tests cover)."""
+    server logins: test_the_policy_roles_and_key_enrolments_with_server_logins)."""
     url = seeded_sqlite_url
     ana, ada = people(url, "ana"), people(url, "ada")
     for name, role in (("ada", "admin"), ("rita", "reviewer"), ("quinn", "reviewer")):
@@ -445,3 +448,68 @@ def test_older_rows_keep_their_seal_when_later_columns_are_empty() -> None:
                           separators=(",", ":"))
     assert canonical("review_signatures", row) == old_form
     assert canonical("review_signatures", {**row, "signature": "x"}) != old_form
+
+
+@pytest.mark.slow  # seconds per run: left out of the fast lane
+@pytest.mark.postgres
+def test_the_policy_roles_and_key_enrolments_with_server_logins(
+        seeded_pg_url: str, cream: Path, tmp_path: Path) -> None:
+    """The role test above with real server logins, one per duty (``db grant-setup`` and
+    ``user add``): the policy's roles are enforced by formdb, and only an admin login enrols a
+    key, through the server function; a reviewer cannot slip a key for herself in with SQL."""
+    prefix = f"fdbk_{uuid4().hex[:8]}"
+    url = seeded_pg_url
+    assert run_formdb(["--db", url, "db", "grant-setup", "--prefix", prefix]).exit_code == 0
+    try:
+        def person(who: str) -> Person:
+            login = f"{prefix}_{who}"
+            return Person(who, make_url(url).set(username=login).render_as_string(
+                hide_password=False), login)
+
+        boss, fay = person("boss"), person("fay")
+        for who, role in (("boss", "admin"), ("fay", "formulator"), ("rita", "reviewer"),
+                          ("quinn", "reviewer")):
+            acting = url if who == "boss" else boss.url
+            added = run_formdb(["--db", acting, "user", "add", f"{prefix}_{who}", "--role",
+                                role, "--prefix", prefix, "--yes"])
+            assert added.exit_code == 0, added.stderr
+        assert act(boss, "user", "grant", f"{prefix}_quinn", "admin", "--prefix", prefix,
+                   "--yes").exit_code == 0
+        rita = new_signer(person("rita"), tmp_path, "Rita Reviewer", admin=boss)
+        quinn = new_signer(person("quinn"), tmp_path, "Quinn Head of QA", admin=boss)
+        own = run_formdb(["key", "new", "--out", str(tmp_path / "own.pem")], env=ENV)
+        assert own.exit_code == 0
+        self_enrol = act(rita.person, "key", "enrol", rita.login, "--name", "Rita",
+                         "--public-key", str(tmp_path / "own.pem.pub"))
+        assert self_enrol.exit_code == 2
+        assert f"{rita.login} may not manage users" in self_enrol.stderr
+        row = json.dumps([{"id": 999, "at": "2026-12-05T04:00:00+00:00", "by_user": rita.login,
+                           "action": "enrol", "login": rita.login, "printed_name": "Rita",
+                           "key_id": "x", "public_key": "y"}])
+        engine = create_engine(rita.person.url)
+        try:
+            for sql, said in (
+                    ("INSERT INTO key_enrolments (id, at, by_user, action, login, printed_name, "
+                     "key_id, public_key) VALUES (999, now(), :l, 'enrol', :l, 'Rita', 'x', "
+                     "'y')", "permission denied"),
+                    ("SELECT formdb_append('key_enrolments', CAST(:r AS jsonb))",
+                     "needs the role admin")):
+                with engine.connect() as conn, pytest.raises(DBAPIError, match=said):
+                    conn.execute(text(sql), {"l": rita.login, "r": row})
+        finally:
+            engine.dispose()
+        done = act(boss, "review", "policy", "set", "--profile", "strict", "--role",
+                   "approved=admin")
+        assert done.exit_code == 0, done.stderr
+        key = _run(fay, cream)
+        justify = _justify(_open_rules(fay, key))
+        refused = sign(rita, key, "approved", *justify)
+        assert refused.exit_code == 2
+        assert "may not sign runs approved: that needs the role admin" in refused.stderr
+        assert sign(rita, key, "reviewed").exit_code == 0
+        assert sign(quinn, key, "approved", *justify).exit_code == 0
+        status = _status(fay)
+        assert status["exit_code"] == 0
+        assert [s["check"] for s in status["by_key"][key]["signatures"]] == ["valid", "valid"]
+    finally:
+        drop_roles(url, prefix)
