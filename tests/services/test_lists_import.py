@@ -375,10 +375,25 @@ def test_older_over_newer_refused_unless_asked(tmp_path: Path, sqlite_url: str) 
 
 
 @needs_exports
+def test_last_update_after_the_file_was_made_refused(tmp_path: Path, sqlite_url: str) -> None:
+    """The Commission writes a file after the last update it holds; a 'Last update' later than
+    the 'File creation date' is an edited file and would put it ahead of every real export."""
+    edited = _copy(tmp_path, "VI", lambda t: t.replace("Last update: 31/10/2025",
+                                                       "Last update: 31/10/2099"))
+    before = dump_database(sqlite_url)
+    result = run_formdb(["--db", sqlite_url, "lists", "import", str(edited)])
+    assert result.exit_code == 2 and result.stderr.count("Error:") == 1
+    assert f"{edited}, line 2: 'Last update' 31/10/2099 is after the 'File creation date' " \
+        "11/11/2025" in result.stderr
+    assert dump_database(sqlite_url) == before
+
+
+@needs_exports
 def test_update_names_what_changed(tmp_path: Path, sqlite_url: str) -> None:
     """A newer export: entries added, removed and changed, each old -> new."""
     def newer(text: str) -> str:
         text = text.replace("Last update: 31/10/2025", "Last update: 30/11/2025")
+        text = text.replace("File creation date: 11/11/2025", "File creation date: 02/12/2025")
         text = text.replace('"Face products with the exception of propellent spray products",'
                             '"7,34 %"', '"Face products with the exception of propellent spray '
                             'products","6,5 %"')
@@ -447,6 +462,7 @@ purpose = "uv filter"
 def _newer_vi(text: str) -> str:
     """Annex VI as a later export might give it: VI/3 (homosalate) lowered to 6.5 %."""
     text = text.replace("Last update: 31/10/2025", "Last update: 30/11/2025")
+    text = text.replace("File creation date: 11/11/2025", "File creation date: 02/12/2025")
     return text.replace('"Face products with the exception of propellent spray products",'
                         '"7,34 %"', '"Face products with the exception of propellent spray '
                         'products","6,5 %"')

@@ -91,7 +91,7 @@ def read_annex_file(path: Path) -> AnnexFile:
     annex = next((m.group(1) for _, cells in records[:4] if cells
                   and (m := _ANNEX.match(cells[0].strip().upper()))), None)
     if annex is None or created is None or updated is None:
-        missing = [what for what, found in (("an 'ANNEX ...' line", annex),
+        missing = [what for what, found in (("'ANNEX ...' line", annex),
                                              ("'File creation date'", created),
                                              ("'Last update'", updated)) if found is None]
         raise InvalidData(f"{path}, line 1: not an annex export (no {', no '.join(missing)} "
@@ -110,6 +110,12 @@ def read_annex_file(path: Path) -> AnnexFile:
     out = AnnexFile(path=path, annex=annex, file_created=_date(created, f"{path}, line 1"),
                     last_update=_date(updated, f"{path}, line 2"),
                     file_hash=hashlib.sha256(data).hexdigest(), header=header)
+    if out.last_update > out.file_created:
+        # the Commission writes the file after the last update it contains: a later "Last
+        # update" is an edited file, and would put the snapshot ahead of every real export
+        raise InvalidData(f"{path}, line 2: 'Last update' {out.last_update:%d/%m/%Y} is after the "
+                          f"'File creation date' {out.file_created:%d/%m/%Y} (an edited file?)",
+                          hint=HINT)
     for line, cells in records[header_at + 1:]:
         if not any(c.strip() for c in cells):
             continue
