@@ -485,7 +485,9 @@ def _import_table(session: Session, path: Path, *, user: str, reason: str | None
         if keep_existing and target is not None:
             row, left = missing_only(base, row, target.inci_name)
             report.left_alone += left
-        cells = overlay(base, row)
+        # a new ingredient's cells are the file's own: laying them over blank cells would
+        # change nothing validate_cells reads (it takes a missing cell as blank)
+        cells = row.given if target is None else overlay(base, row)
         if target is not None:
             cells[NAME_COLUMN] = target.inci_name
             given = normalise_inci(row.given.get(NAME_COLUMN, ""))
