@@ -8,9 +8,9 @@ property as a row of ``property_values``, so no migration is needed for a new on
 from __future__ import annotations
 
 import unicodedata
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from functools import lru_cache
-from typing import Any
+from typing import Any, TypeVar
 
 from pydantic import BaseModel, ConfigDict, Field, field_validator, model_validator
 
@@ -150,6 +150,35 @@ class Provenance(BaseModel):
     note: str | None = None
 
 
+_T = TypeVar("_T")
+
+
+def _roles_of(items: tuple[Any, ...]) -> tuple[Role, ...]:
+    roles = [r if isinstance(r, Role) else parse_choice(Role, str(r), "roles")
+             for r in items if str(r).strip()]
+    return tuple(dict.fromkeys(roles))  # type: ignore[arg-type]
+
+
+def _classes_of(items: tuple[Any, ...]) -> tuple[str, ...]:
+    return tuple(dict.fromkeys(parse_class(str(c)) for c in items if str(c).strip()))
+
+
+_cached_roles_of = lru_cache(maxsize=1 << 12)(_roles_of)
+_cached_classes_of = lru_cache(maxsize=1 << 12)(_classes_of)
+
+
+def _memoised(parse: Callable[[tuple[Any, ...]], _T], cached: Callable[[tuple[Any, ...]], _T],
+              value: Any) -> _T:
+    """A list cell's items parsed once per distinct list: a large import repeats the same few
+    role and class lists row after row. Unhashable items are parsed without the memo."""
+    items = tuple(value.split(";")) if isinstance(value, str) else tuple(value or ())
+    try:
+        hash(items)
+    except TypeError:
+        return parse(items)
+    return cached(items)
+
+
 class IngredientIn(BaseModel):
     """An ingredient as a user or a file gives it; every rejection names the field and value."""
 
@@ -203,16 +232,12 @@ class IngredientIn(BaseModel):
     @field_validator("roles", mode="before")
     @classmethod
     def _parse_roles(cls, value: Any) -> tuple[Role, ...]:
-        items = value.split(";") if isinstance(value, str) else list(value or ())
-        roles = [r if isinstance(r, Role) else parse_choice(Role, str(r), "roles")
-                 for r in items if str(r).strip()]
-        return tuple(dict.fromkeys(roles))  # type: ignore[arg-type]
+        return _memoised(_roles_of, _cached_roles_of, value)
 
     @field_validator("classes", mode="before")
     @classmethod
     def _parse_classes(cls, value: Any) -> tuple[str, ...]:
-        items = value.split(";") if isinstance(value, str) else list(value or ())
-        return tuple(dict.fromkeys(parse_class(str(c)) for c in items if str(c).strip()))
+        return _memoised(_classes_of, _cached_classes_of, value)
 
     @model_validator(mode="after")
     def _names_distinct_and_sources_known(self) -> IngredientIn:
