@@ -10,6 +10,7 @@ from __future__ import annotations
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from functools import lru_cache
+from operator import itemgetter
 
 from pydantic import ValidationError
 
@@ -216,12 +217,16 @@ def read_ingredient_rows(table: RawTable) -> tuple[list[FileRow], list[Problem]]
     rows: list[FileRow] = []
     width = len(table.header)
     mapped = sorted(columns.items())  # (index, column) in the file's order
+    mapped_columns = [column for _index, column in mapped]
+    # a full row's mapped cells in one call; the extra index 0 keeps the result a tuple when
+    # only one column is mapped (zip leaves it out)
+    pick = itemgetter(*(index for index, _column in mapped), 0)
     headless = [i for i in range(width) if i not in columns and not table.header[i]]
     source_of = [(prop, f"{prop}_source") for prop in PROPERTY_NAMES]
     for number, cells in table.rows:
         given: Cells
         if len(cells) == width:  # as read_table gives them: every row as wide as the header
-            given = {column: cells[index] for index, column in mapped}
+            given = dict(zip(mapped_columns, pick(cells), strict=False))
             problems += [Problem(table.file, f"the cell {cells[index][:40]!r} is in a column "
                                  "without a header", number, _letters(index))
                          for index in headless if cells[index]]

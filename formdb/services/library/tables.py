@@ -187,7 +187,7 @@ def _bounded(name: str, cells: list[list[str]]) -> None:
 
 def _clean_cells(row: list[str]) -> list[str]:
     """The row's cells stripped, with ``guard_cell``'s apostrophe taken off again."""
-    stripped = [cell.strip() for cell in row]
+    stripped = list(map(str.strip, row))
     if "\x00'" not in "\x00" + "\x00".join(stripped):  # no cell starts with an apostrophe
         return stripped
     return [unguard_cell(cell) for cell in stripped]
