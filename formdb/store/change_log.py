@@ -17,7 +17,7 @@ import re
 from collections.abc import Iterable, Mapping
 from datetime import datetime
 from enum import StrEnum
-from functools import cache
+from functools import cache, lru_cache
 from typing import Any, get_args
 
 from formdb.schemas.change_log import PAYLOAD_VERSION
@@ -69,13 +69,22 @@ def new_change_json(field: str, new: Any, source: str | None = None,
     """The text ``payload_text`` gives the change of a field that held nothing: the dict
     {"field", "old" (None, or [] when ``listed``), "new"[, "old_source": None, "new_source"]
     [, "old_note": None, "new_note"]}, written directly (an import adds tens of thousands)."""
-    text = ('{"field":' + _escaped(field) + (',"old":[],"new":' if listed else ',"old":null,"new":')
-            + value_json(new))
+    text = _new_change_head(field, listed) + value_json(new)
     if source is not None:
-        text += ',"old_source":null,"new_source":' + _escaped(source)
+        text += _new_source_text(source)
     if note is not None:
         text += ',"old_note":null,"new_note":' + _escaped(note)
     return text + "}"
+
+
+@lru_cache(maxsize=256)  # one per field
+def _new_change_head(field: str, listed: bool) -> str:
+    return '{"field":' + _escaped(field) + (',"old":[],"new":' if listed else ',"old":null,"new":')
+
+
+@lru_cache(maxsize=4096)  # sources repeat over a table's rows
+def _new_source_text(source: str) -> str:
+    return ',"old_source":null,"new_source":' + _escaped(source)
 
 
 def payload_of(change_texts: Iterable[str], *, via: str | None = None) -> str:

@@ -103,8 +103,8 @@ def added_payload(item: IngredientIn, *, via: str | None) -> str:
     sources, notes = item.sources, item.notes
     for prop, value in vars(item.properties).items():  # the fields, in catalogue order
         if value is not None:
-            parts.append(new_change_json(prop, _data(value), sources.get(prop),
-                                         notes.get(prop) or None))
+            parts.append(new_change_json(prop, value if type(value) is float else _data(value),
+                                         sources.get(prop), notes.get(prop) or None))
     return payload_of(parts, via=via)
 
 
