@@ -30,20 +30,34 @@ def demo_report_files(run: DemoRun, fmt: str) -> dict[str, str]:
             for path, result in zip(run.files, run.results, strict=True)}
 
 
+def _what_it_is(result: CheckResult) -> str:
+    """The product kind and only the numbers that kind gets (an emulsion its type, HLB balance
+    and dispersed fraction; a soap cream its type and fraction; other kinds their kind alone)."""
+    facts = result.facts
+    kind = facts.kind.kind if facts.kind else "emulsion"
+    if kind not in ("emulsion", "soap cream"):
+        return kind
+    phi = "-" if facts.dispersed_fraction is None else f"{facts.dispersed_fraction:.2f}"
+    typed = facts.working_type.value if facts.working_type else "type not known"
+    if kind == "soap cream":
+        by_soap = facts.predicted_type.value if facts.predicted_type else "no type"
+        return (f"soap cream, {by_soap} by its soap (no HLB balance), dispersed volume fraction "
+                f"{phi}")
+    high = " (high internal phase)" if facts.kind and facts.kind.high_internal_phase else ""
+    blend = "-" if facts.blend_hlb is None else f"{facts.blend_hlb:.1f}"
+    need = "-" if facts.required_hlb is None else f"{facts.required_hlb:.1f}"
+    return (f"{typed} emulsion{high}, blend HLB {blend} vs required {need}, dispersed volume "
+            f"fraction {phi}")
+
+
 def demo_summary(run: DemoRun) -> str:
-    """One line per formula: type, HLB balance, dispersed fraction and what was found."""
+    """One line per formula: its kind and that kind's numbers, and what was found."""
     lines = ["", "Summary (default profile):"]
     for purpose, result in zip(run.purposes, run.results, strict=True):
         counts = result.severity_counts()
-        facts = result.facts
-        blend = "-" if facts.blend_hlb is None else f"{facts.blend_hlb:.1f}"
-        need = "-" if facts.required_hlb is None else f"{facts.required_hlb:.1f}"
-        phi = "-" if facts.dispersed_fraction is None else f"{facts.dispersed_fraction:.2f}"
-        kind = facts.predicted_type.value if facts.predicted_type else "?"
         verdict = "needs work" if result.has_errors else "no errors"
         lines.append(
-            f"  {result.formula}: {kind}, blend HLB {blend} vs required {need}, "
-            f"dispersed volume fraction {phi}; {counts['error']} error(s), "
+            f"  {result.formula}: {_what_it_is(result)}; {counts['error']} error(s), "
             f"{counts['warning']} warning(s), {counts['info']} note(s): {verdict}")
         lines.append(f"      ({purpose})")
     lines.append(f"Demo library: {run.library} (throwaway; rerun `formdb demo` any time).")

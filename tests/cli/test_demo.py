@@ -11,6 +11,7 @@ import pytest
 from click.testing import CliRunner
 
 from formdb.cli.main import cli
+from formdb.report.demo import demo_summary
 from formdb.services.checking.demo import run_demo
 
 
@@ -112,3 +113,15 @@ def test_body_lotion_pair_meets_its_oil_phase(demo) -> None:
     result = _by_name(demo, "LB-520")
     assert result.facts.blend_hlb == pytest.approx(11.7)
     assert "HLB01" not in _codes(result)
+
+
+def test_summary_gives_each_kind_only_its_numbers(demo) -> None:
+    """The summary line names the product kind; a surfactant solution gets no emulsion type,
+    HLB balance or dispersed fraction, a soap cream no HLB balance (its soap is on Davies'
+    scale), an emulsion all three."""
+    lines = {code: next(line for line in demo_summary(demo).splitlines() if code in line)
+             for code in ("LB-110", "LB-301", "LB-412")}
+    assert "O/W emulsion, blend HLB 12.4 vs required 12.4" in lines["LB-110"]
+    assert "soap cream, O/W by its soap (no HLB balance)" in lines["LB-301"]
+    assert "surfactant solution;" in lines["LB-412"]
+    assert "blend HLB" not in lines["LB-412"] and "?" not in lines["LB-412"]
