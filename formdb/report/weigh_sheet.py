@@ -71,7 +71,8 @@ def line_remarks(w: WeighLine) -> str:
     parts = [x for x in (w.note, w.neutralised,
                          f"supplier {w.supplier}" if w.supplier else None,
                          f"lot {w.lot}" if w.lot else None,
-                         f"in {w.portions} portions" if w.portions > 1 else None,
+                         f"in {w.portions} portions, each at most {w.capacity_g:,.0f} g "
+                         "(the balance's capacity)" if w.portions > 1 else None,
                          "BELOW BALANCE RESOLUTION" if w.below_resolution else None) if x]
     return "; ".join(parts)
 

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import csv
 import io
+from html import unescape
 from pathlib import Path
 
 import pytest
@@ -70,6 +71,15 @@ def test_odd_batch_rounds_each_line_and_the_total_stays_in_bound(
     total = sum(float(r["weigh_g"]) for r in rows)
     bound = sum(float(r["balance_resolution_g"]) / 2 for r in rows)
     assert abs(total - 1337.0) <= bound
+
+
+def test_a_line_beyond_every_balance_is_weighed_in_portions(seeded_library_url: str) -> None:
+    # 100 kg: water 72.3 % = 72,300 g, above the 60 kg of the largest default balance
+    rows = {r["inci"]: r for r in _csv_rows(seeded_library_url, "--kg", "100")}
+    assert rows["Aqua"]["portions"] == "2" and float(rows["Aqua"]["weigh_g"]) == 72300.0
+    assert rows["Glycerin"]["portions"] == "1"
+    page = unescape(_batch(seeded_library_url, "--kg", "100", "--format", "html").stdout)
+    assert "in 2 portions, each at most 60,000 g (the balance's capacity)" in page
 
 
 def test_evaporation_allowance_is_extra_water_in_the_water_phase(
