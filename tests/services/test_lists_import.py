@@ -246,6 +246,30 @@ def test_counts_and_coverage() -> None:
     assert len({e.key for e in entries("III")["196"]}) == 2
 
 
+@needs_exports
+def test_seed_rows_cite_the_act_of_their_entry() -> None:
+    """Issue 11, item 1: each hand-written EU row of seed_data/limits.csv cites its entry and the
+    latest act the Commission's export of 31/10/2025 gives for that entry (in the row's
+    conditions or its source), so a reader sees how current the row is."""
+    import csv
+    import re
+
+    seed = Path(__file__).resolve().parents[2] / "seed_data"
+    with (seed / "sources.csv").open(newline="", encoding="utf-8") as handle:
+        sources = {r["key"]: " ".join(r.values()) for r in csv.DictReader(handle)}
+    with (seed / "limits.csv").open(newline="", encoding="utf-8") as handle:
+        rows = [r for r in csv.DictReader(handle) if r["jurisdiction"] == "EU"]
+    uncited = []
+    for row in rows:
+        annex, ref = row["entry"].split("/")
+        [entry] = entries(annex)[ref]
+        year, number = re.findall(r"(\d{4})/(\d+)", entry.regulation)[0]
+        text = f"{row['conditions']} {sources[row['source']]}"
+        if f"{year}/{number}" not in text and f"{number}/{year}" not in text:
+            uncited.append((row["key"], entry.regulation))
+    assert len(rows) == 53 and uncited == []
+
+
 # ----- importing into a library ---------------------------------------------------------------
 
 @needs_exports
