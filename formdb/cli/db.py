@@ -59,9 +59,19 @@ def downgrade_cmd(app: AppContext, revision: str, yes: bool, backup_to: Path | N
                   discard_sealed_history: bool) -> None:
     """Step the schema down to REVISION ("base" removes every table). Admin only; shows what
     goes and needs --yes; refused while it would destroy sealed audit records."""
+    from formdb.report.files import check_output, output_file
+
+    def write_backup() -> None:
+        assert backup_to is not None
+        with output_file(backup_to, inputs=library_files(app)) as partial:
+            database.backup(app.db, partial)
+
+    if backup_to is not None:  # refused before anything is planned, like every output
+        check_output(backup_to, inputs=library_files(app))
     plan = database.downgrade(app.db, revision, user=app.user, confirm=yes,
                               discard_sealed_history=discard_sealed_history,
-                              backup_to=backup_to)
+                              backup_to=backup_to,
+                              write_backup=write_backup if backup_to is not None else None)
     click.echo(report.plan_text(plan), nl=False)
     if not plan.done:
         raise Unconfirmed("db downgrade: nothing was changed without --yes.",

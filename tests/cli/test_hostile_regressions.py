@@ -400,6 +400,37 @@ def test_symlinks_are_not_followed(seeded_sqlite_url: str, tmp_path: Path) -> No
     assert target.read_text(encoding="utf-8") == "precious" and link.is_symlink()
 
 
+@pytest.mark.slow  # a downgrade and its backup: seconds
+def test_a_downgrade_backup_is_an_output_like_any_other(sqlite_url: str, tmp_path: Path) -> None:
+    """Found by hand: `db downgrade --backup` wrote through a dangling symbolic link (its zip
+    went to a predictable PATH.partial first) and never met the rules of every other output."""
+    from formdb.services.admin.database import history
+    from formdb.store.db import head_revision
+
+    previous = next(r.down_revision for r in history(None) if r.revision == head_revision())
+    assert previous is not None
+    out = tmp_path / "out"
+    out.mkdir()
+    link = out / "before.zip"
+    link.symlink_to(out / "elsewhere.zip")
+    existing = out / "existing.zip"
+    existing.write_bytes(b"keep me")
+    before = dump_database(sqlite_url)
+    library = sqlite_url.removeprefix("sqlite:///")
+    for path, says in ((link, "symbolic link"), (existing, "already exists"),
+                       (Path(library), "a file the command reads")):
+        for yes in ([], ["--yes"]):
+            _refused(run_formdb(["--db", sqlite_url, "db", "downgrade", previous, "--backup",
+                                 str(path), *yes]), says)
+    assert not (out / "elsewhere.zip").exists() and existing.read_bytes() == b"keep me"
+    assert dump_database(sqlite_url) == before
+    done = run_formdb(["--db", sqlite_url, "db", "downgrade", previous, "--backup",
+                       str(out / "fresh.zip"), "--yes"])
+    assert done.exit_code == 0, done.stderr
+    assert zipfile.is_zipfile(out / "fresh.zip")
+    assert sorted(p.name for p in out.iterdir()) == ["before.zip", "existing.zip", "fresh.zip"]
+
+
 @pytest.mark.parametrize("umask", [0o022, 0o002, 0o077])
 @pytest.mark.slow  # seconds per run: left out of the fast lane
 def test_files_follow_the_umask(seeded_sqlite_url: str, tmp_path: Path, umask: int) -> None:

@@ -14,7 +14,7 @@ from __future__ import annotations
 import json
 import sqlite3
 import zipfile
-from collections.abc import Iterator
+from collections.abc import Callable, Iterator
 from datetime import date, datetime
 from pathlib import Path
 from typing import Any
@@ -190,14 +190,17 @@ def _sealed_rows(shape: store.TableShape, engine: Engine) -> dict[str, int]:
 
 
 def downgrade(url: str, revision: str, *, user: str, confirm: bool,
-              discard_sealed_history: bool = False, backup_to: Path | None = None) -> Plan:
+              discard_sealed_history: bool = False, backup_to: Path | None = None,
+              write_backup: Callable[[], object] | None = None) -> Plan:
     """Step the schema down to ``revision``: admin only, planned first, confirmed.
 
     The plan comes from rehearsing the downgrade in a transaction that is rolled back, so it
     names every table and column that would go with its row count. A downgrade that would
     remove sealed audit rows (the change log's seals, review runs, signatures) is refused
     while they exist, unless ``discard_sealed_history`` is given together with ``backup_to``:
-    then a full backup is written first, and the downgrade runs only once it is complete."""
+    then a full backup is written first, and the downgrade runs only once it is complete.
+    ``write_backup`` writes it (the CLI's, through its safe output file); by default
+    ``backup(url, backup_to)``."""
     _check_target(revision)
     engine = _engine(url)
     try:
@@ -226,7 +229,9 @@ def downgrade(url: str, revision: str, *, user: str, confirm: bool,
         action = f"downgrade {shown} from {before} to {revision}"
         if not confirm:
             return Plan(action, tuple(changes), False)
-        if backup_to is not None:
+        if write_backup is not None:
+            write_backup()
+        elif backup_to is not None:
             backup(url, backup_to)
         store.downgrade(engine, revision)
         return Plan(action, tuple(changes), True)
