@@ -10,18 +10,25 @@ from typing import Any
 
 # A cell that starts with one of these runs as a formula when a spreadsheet opens the file
 # (OWASP, "CSV Injection"); every CSV or XLSX formdb writes prefixes such a text cell with an
-# apostrophe, and import strips it.
+# apostrophe, and import strips it. A text that itself starts with apostrophes before such a
+# character gets one more, so that every text reads back exactly as it was.
 FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
 
 
+def _marked(text: str) -> bool:
+    """Whether ``text`` is apostrophes, at least none, before a formula character."""
+    return text.lstrip("'").startswith(FORMULA_STARTS)
+
+
 def guard_cell(text: str) -> str:
-    """Make a cell safe to open in a spreadsheet: a leading formula character gets an apostrophe."""
-    return "'" + text if text.startswith(FORMULA_STARTS) else text
+    """Make a cell safe to open in a spreadsheet: a leading formula character (after any
+    apostrophes the text has of its own) gets an apostrophe."""
+    return "'" + text if _marked(text) else text
 
 
 def unguard_cell(text: str) -> str:
-    """Undo ``guard_cell`` so that an exported table reads back exactly as it was."""
-    if text.startswith("'") and text[1:].startswith(FORMULA_STARTS):
+    """Undo ``guard_cell``: ``unguard_cell(guard_cell(t)) == t`` for every text."""
+    if text.startswith("'") and _marked(text):
         return text[1:]
     return text
 
