@@ -566,6 +566,8 @@ def test_update_touches_formulas_through_a_mixture(tmp_path: Path,
     [moved] = result.formula_changes  # 7 % homosalate: within 7.34 %, over 6.5 %
     assert moved.startswith("Larkspur blended sun cream: errors ") and \
         "new: LIM03 error: HOMOSALATE (70 % of Larkspur Sun Blend, line 2) 7 %" in moved, moved
+    # the superseded snapshot's VI/3 (7.34 %) keeps its match keys but is no longer found
+    assert "gone: LIM03 info: HOMOSALATE" in moved and "max 7.34 %" in moved
 
 
 @needs_exports
