@@ -22,6 +22,11 @@ from formdb.schemas.vocab import EmulsionType, IonicCharacter, Role, Solubility
 from formdb.science.hlb import UnreachableHlb, blend_fractions, blend_hlb, hlb_scale, required_hlb
 
 IONISED = frozenset({IonicCharacter.ANIONIC, IonicCharacter.CATIONIC})
+# charged members: off Griffin's scale, which is for non-ionic surfactants (Griffin, J. Soc.
+# Cosmet. Chem. 5 (1954) 249). An amphoteric (zwitterionic) member's quoted HLB is on no scale the
+# blend can average: lecithin's published values run from 4 to 9 (seed note), and a lecithin O/W
+# emulsion (a parenteral lipid emulsion) is not a W/O system for its value of 4
+CHARGED = IONISED | {IonicCharacter.AMPHOTERIC}
 BLEND_HLB = "blend HLB"  # what a missing HLB blocks (the data gap's "blocks")
 
 # an ingredient with one of these roles has a required HLB of its own, far from its HLB as an
@@ -45,9 +50,9 @@ def emulsifiers(formula: ResolvedFormula, lines: list[LineFacts],
         side = lf.phase if lf.phase != "none" else None
         if is_hydrocolloid(ing):
             polymers.add(lf.line_no)
-        elif ing.p.hlb is None and ing.p.ionic_character not in IONISED:
+        elif ing.p.hlb is None and ing.p.ionic_character not in CHARGED:
             # only a member the blend would average needs an HLB: a gum or protein (a
-            # polymer) and an anionic or cationic member (Davies' scale) never enter it
+            # polymer) and a charged member (Davies' scale, or a zwitterion) never enter it
             work.gap("hlb", ing.inci_name, BLEND_HLB)
         members.append((ing.inci_name, lf.percent, ing.p.hlb, ing.p.solubility,
                         ing.p.ionic_character, False, lf.line_no, side))
@@ -59,7 +64,8 @@ def emulsifiers(formula: ResolvedFormula, lines: list[LineFacts],
                             ionic_character=m[4], share=m[1] / total if total > 0 else 0.0,
                             formed_in_place=m[5], line_no=m[6],
                             side=m[7],
-                            scale=None if m[2] is None or m[6] in polymers else hlb_scale(
+                            scale=None if m[2] is None or m[6] in polymers
+                            or m[4] == IonicCharacter.AMPHOTERIC else hlb_scale(
                                 m[2], m[5] or m[4] in IONISED))
             for m in members]
 

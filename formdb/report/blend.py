@@ -28,11 +28,11 @@ WIDTH = 100
 BLEND_FORMATS = ("text", "json")
 SEARCH_RANKING = (
     "Candidates: weighed-in emulsifiers with an HLB on Griffin's scale (no soaps, gums, "
-    "proteins or ionic surfactants), on the right side for the type (W/O: both lipophilic; O/W: "
-    "the higher member hydrophilic). Ranked: no clash with the formula first, then a lipophilic "
-    "with a hydrophilic member, a sensible proportion (minor member at least 20 %), a usable "
-    "HLB spread (at least 2), the smaller distance of the farther HLB from the target, fewer "
-    "data gaps, then by name (each a rule of thumb).")
+    "proteins, ionic or amphoteric surfactants), on the right side for the type (W/O: both "
+    "lipophilic; O/W: the higher member hydrophilic). Ranked: no clash with the formula "
+    "first, then a lipophilic with a hydrophilic member, a sensible proportion (minor member at "
+    "least 20 %), a usable HLB spread (at least 2), the smaller distance of the farther HLB from "
+    "the target, fewer data gaps, then by name (each a rule of thumb).")
 
 
 def _print(*items: RenderableType, color: bool = False) -> str:

@@ -141,8 +141,11 @@ def _blend_line(facts: FormulaFacts) -> Line:
     system = facts.hlb_system
     if facts.blend_hlb is None:
         if system is None or (system.griffin_value is None and system.led_by != "ionic"):
-            return Line("Blend HLB", "not worked out: no emulsifier has an HLB in the library",
-                        "warn")
+            off_scale = [e.inci for e in facts.emulsifiers if e.hlb is not None]
+            why = (f"none has an HLB on Griffin's scale ({', '.join(off_scale)}: charged or a "
+                   "polymer, not averaged)" if off_scale
+                   else "no emulsifier has an HLB in the library")
+            return Line("Blend HLB", f"not worked out: {why}", "warn")
         alone = (f"; the Griffin-scale members alone give {n.hlb(system.griffin_value)}"
                  if system.griffin_value is not None else "")
         return Line("Blend HLB", f"not judged: {system.assessment}{alone}",

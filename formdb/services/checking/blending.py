@@ -240,6 +240,10 @@ def _own_fractions(facts: FormulaFacts, known: list[EmulsifierFacts], label: str
     return goal, goal_from, sol.fractions
 
 
+AMPHOTERIC_WHY = ("an amphoteric (zwitterionic) surfactant: its quoted HLB is not on Griffin's "
+                  "scale, which is for nonionics")
+
+
 def _not_proportioned(member: EmulsifierFacts) -> str:
     """Why an emulsifier with an HLB is not one of the members a blend proportions."""
     if member.formed_in_place:
@@ -248,6 +252,8 @@ def _not_proportioned(member: EmulsifierFacts) -> str:
         return "HLB on Davies' scale (ionic), not averaged with Griffin's values"
     if member.percent <= 0:
         return "not weighed in"
+    if member.ionic_character == IonicCharacter.AMPHOTERIC:
+        return AMPHOTERIC_WHY
     return "a gum or protein (a polymer: no HLB in Griffin's sense)"
 
 
@@ -306,6 +312,8 @@ def not_a_candidate(record: IngredientRecord) -> str | None:
         return "a soap (formed in the batch from its acid and base)"
     if is_hydrocolloid(record):
         return "a gum or protein (a polymer: no HLB in Griffin's sense)"
+    if record.p.ionic_character == IonicCharacter.AMPHOTERIC:
+        return AMPHOTERIC_WHY
     ionised = record.p.ionic_character in IONISED
     if hlb_scale(float(record.p.hlb or 0.0), ionised) == "davies":
         return "an ionic surfactant (its HLB is on Davies' scale)"
