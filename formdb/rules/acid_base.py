@@ -19,6 +19,9 @@ from formdb.schemas.vocab import Category, Severity
 # potassium hydroxide as pH adjusters in other uses, recalled from memory; for those two bases
 # the entry itself applies, through LIM01 on the seed's rows or LIM03 on an imported Annex III)
 LEAVE_ON_PH_MAX = 11.0
+# a stated pH this far below the low end of what the free base gives is called out (rule of
+# thumb: the range already reaches half a unit below the ideal value)
+STATED_PH_SLACK = 1.0
 
 
 @register
@@ -32,7 +35,8 @@ class FreeAlkali(Rule):
     the ideal value, and half a unit below for activity and buffers). Other acids take the base
     up first by their acid value (mg KOH/g: carbomer in a gel, citric acid), so a base they can
     take is not flagged. A warning; an info when an acid with no acid value in the library is
-    present that may take some of it up (the free amount is then an upper bound).
+    present that may take some of it up (the free amount is then an upper bound). A stated pH
+    more than 1 below the low end of that range is named as one that cannot hold.
     Why: a soap batch is made with the base a little short of the acid so no alkali is left;
     free alkali in a leave-on product irritates skin and eyes and saponifies esters on storage.
     Stoichiometry as in formdb.science.soap; pH from Kw = 1.0e-14 at 25 degC (any physical
@@ -65,9 +69,13 @@ class FreeAlkali(Rule):
             taken = (f"; {', '.join(base.acids_present)} may take some of it up (no acid value "
                      "in the library, so this is an upper bound)"
                      if base.acids_present else "")
+            stated = formula.formula.ph
+            clash = (f"; the stated pH {stated:g} cannot hold with this free base"
+                     if stated is not None and base.ph_low is not None and not base.acids_present
+                     and base.ph_low > stated + STATED_PH_SLACK else "")
             yield self.finding(
                 severity,
-                f"{base.base} {base.free_percent:.3g} % is free, {where}{after}{ph}{taken}",
+                f"{base.base} {base.free_percent:.3g} % is free, {where}{after}{ph}{taken}{clash}",
                 ingredients=[base.base],
                 values={"free_percent": base.free_percent, "ph_low": base.ph_low,
                         "ph_high": base.ph_high, "hydroxide_mol_l": base.molar_concentration},
