@@ -154,3 +154,48 @@ percent = 63.0
     assert facts.blend_solution.percents == pytest.approx((1.64, 1.36), abs=0.005)  # Table 5
     assert not [f for f in result.findings if f.rule in ("HLB01", "TYP01", "EMU01")
                 and f.severity.value != "info"]
+
+
+def test_textbook_required_hlb_example_on_the_shipped_seed(tmp_path: Any) -> None:
+    """The textbook worked example of a required HLB (Martin's Physical Pharmacy, recalled from
+    memory, not checked against the book): mineral oil 35 g (required HLB 12 for O/W), lanolin 1 g
+    (10), cetyl alcohol 1 g (15), 7 g of sorbitan oleate (4.3) and polysorbate 80 (15.0), water
+    to 100 g. Required HLB (35 x 12 + 1 x 10 + 1 x 15)/37 = 12.03; the lever rule gives
+    polysorbate 80 (12.03 - 4.3)/(15.0 - 4.3) = 72 % of the 7 g, 5.04 g, and sorbitan oleate
+    1.96 g. Cetyl alcohol counts with the oil phase at its required HLB, not its HLB of 1."""
+    library = api.create_library(str(tmp_path / "lib.sqlite"), seed=True)
+    try:
+        result = api.check(library, """
+name = "textbook O/W lotion"
+category = "leave-on"
+intended_type = "O/W"
+[[ingredients]]
+inci = "Mineral Oil"
+percent = 35.0
+[[ingredients]]
+inci = "Lanolin"
+percent = 1.0
+[[ingredients]]
+inci = "Cetyl Alcohol"
+percent = 1.0
+[[ingredients]]
+inci = "Sorbitan Oleate"
+percent = 1.96
+[[ingredients]]
+inci = "Polysorbate 80"
+percent = 5.04
+[[ingredients]]
+inci = "Water"
+percent = 56.0
+""")
+    finally:
+        library.close()
+    facts = result.facts
+    assert facts.required_hlb == pytest.approx(12.03, abs=0.005)
+    assert facts.required_hlb_ow.covered_percent == pytest.approx(37.0)
+    # the book's rounded 72 %: (1.96 x 4.3 + 5.04 x 15.0)/7 = 12.00, inside the band
+    assert facts.blend_hlb == pytest.approx(12.00, abs=0.005)
+    assert facts.blend_solution is not None and facts.blend_solution.percents is not None
+    assert facts.blend_solution.percents == pytest.approx((1.96, 5.04), abs=0.02)
+    assert not [f for f in result.findings if f.rule in ("HLB01", "TYP01", "EMU01")
+                and f.severity.value != "info"]
