@@ -19,7 +19,14 @@ from sqlalchemy import inspect
 
 from formdb.cli.main import EXIT_INTERNAL
 from formdb.store.db import make_engine
-from tests.helpers import CliResult, dump_database, fresh_pg_database, pg_base_url, run_formdb
+from tests.helpers import (
+    CliResult,
+    dump_database,
+    fresh_pg_database,
+    pg_base_url,
+    run_as,
+    run_formdb,
+)
 
 EMULSIFIERS = ["Sorbitan Laurate", "Sorbitan Stearate", "Sorbitan Oleate", "Sorbitan Sesquioleate",
                "Sorbitan Trioleate", "Polysorbate 20", "Polysorbate 60", "Polysorbate 80",
@@ -559,6 +566,64 @@ def test_a_damaged_archive_is_refused_before_anything_is_written(seeded_library_
                 assert inspect(engine).get_table_names() == [], name  # not even the schema
             finally:
                 engine.dispose()
+
+
+def _jsonl(rows: list[dict[str, object]]) -> bytes:
+    return "".join(json.dumps(r) + "\n" for r in rows).encode()
+
+
+def _forged_users(parts: dict[str, bytes]) -> dict[str, dict[str, bytes]]:
+    """Archives whose users or roles were written by hand (the log untouched)."""
+    users = [json.loads(line) for line in parts["tables/users.jsonl"].decode().splitlines()]
+    roles = [json.loads(line) for line in parts["tables/user_roles.jsonl"].decode().splitlines()]
+    manifest = _manifest(parts)
+    counts = dict(manifest["tables"])  # type: ignore[call-overload]
+    mallory = {**users[0], "id": 99, "name": "mallory"}
+
+    def archive(new_users: list[dict[str, object]], new_roles: list[dict[str, object]]
+                ) -> dict[str, bytes]:
+        tables = {**counts, "users": len(new_users), "user_roles": len(new_roles)}
+        return {**parts, "tables/users.jsonl": _jsonl(new_users),
+                "tables/user_roles.jsonl": _jsonl(new_roles),
+                "manifest.json": json.dumps({**manifest, "tables": tables}).encode()}
+
+    editor = next(u for u in users if u["name"] == "larkspur-editor")
+    return {
+        "a forged admin": archive([*users, mallory], [*roles, {"user_id": 99, "role": "admin"}]),
+        "a forged migration user": archive(
+            [*users, {**mallory, "created_by": "migration 0009_users_roles"}],
+            [*roles, *({"user_id": 99, "role": r} for r in ("admin", "editor", "formulator"))]),
+        "an editor made admin": archive(users, [*roles, {"user_id": editor["id"],
+                                                          "role": "admin"}]),
+        "every admin gone (open mode)": archive(
+            [u for u in users if u["name"] == "larkspur-editor"],
+            [r for r in roles if r["user_id"] == editor["id"]]),
+    }
+
+
+@pytest.mark.slow  # restores: seconds
+def test_a_restore_refuses_users_the_change_log_does_not_record(seeded_sqlite_url: str,
+                                                                tmp_path: Path) -> None:
+    """Found by the issue's fuzzing: an archive whose users table held a forged admin was
+    restored, and that admin could then do anything."""
+    for args in (["user", "add", "larkspur-admin", "--role", "admin", "--yes"],
+                 ["user", "add", "larkspur-editor", "--role", "editor", "--yes"]):
+        assert run_as("larkspur-admin", ["--db", seeded_sqlite_url, *args]).exit_code == 0
+    good = tmp_path / "good.zip"
+    assert run_as("larkspur-admin", ["--db", seeded_sqlite_url, "db", "backup", str(good)]
+                  ).exit_code == 0
+    for name, parts in _forged_users(_parts(good)).items():
+        path = _rezip(tmp_path / f"{name.split()[1]}.zip", parts)
+        target = tmp_path / f"{name.split()[1]}.sqlite"
+        for extra in ([], ["--accept-broken-chains"]):
+            result = run_as("mallory", ["--db", f"sqlite:///{target}", "db", "restore",
+                                        str(path), "--yes", *extra])
+            _refused(result, "the users in the backup are not those its change log records")
+            assert _no_tables(target), name
+    target = f"sqlite:///{tmp_path / 'genuine.sqlite'}"
+    restored = run_as("larkspur-admin", ["--db", target, "db", "restore", str(good),
+                                         "--yes"])
+    assert restored.exit_code == 0, restored.stderr
 
 
 def _sqlite_copy(seeded_sqlite_url: str, tmp_path: Path, sql: str) -> Path:

@@ -14,7 +14,7 @@ from __future__ import annotations
 import json
 import sqlite3
 import zipfile
-from collections.abc import Callable, Iterator
+from collections.abc import Callable, Iterable, Iterator
 from datetime import date, datetime
 from pathlib import Path
 from typing import Any
@@ -403,6 +403,68 @@ def _audit_restored(conn: Connection) -> list[str]:
     return found
 
 
+# migrations/versions/0009_users_roles.py made a user of each author already in the change log,
+# with these roles, before users were logged; every later user change is a change-log entry
+_MIGRATED_BY = "migration 0009_users_roles"
+_MIGRATED_ROLES = frozenset({"admin", "editor", "formulator"})
+
+
+def _users_unrecorded(conn: Connection) -> list[str]:
+    """The restored users and roles that the (sealed) change log does not account for: a user
+    or an admin role written into the archive's tables by hand is a forgery the chains alone
+    do not show. [] when every user, role and active flag is the log's replay."""
+    from formdb.services.admin.access import ENTITY
+    from formdb.store.change_log import changes_of
+
+    tables = inspect(conn).get_table_names()
+    if not {"users", "user_roles", "change_log"} <= set(tables):
+        return []
+    held: dict[str, tuple[bool, frozenset[str]]] = {}
+    roles: dict[int, set[str]] = {}
+    for user_id, role in conn.execute(text("SELECT user_id, role FROM user_roles")):
+        roles.setdefault(user_id, set()).add(role)
+    migrated: set[str] = set()
+    for user_id, name, active, created_by in conn.execute(
+            text("SELECT id, name, active, created_by FROM users")):
+        held[name] = (bool(active), frozenset(roles.get(user_id, ())))
+        if created_by == _MIGRATED_BY:
+            migrated.add(name)
+    authors = set(conn.scalars(text('SELECT DISTINCT "user" FROM change_log')))
+    replay: dict[str, tuple[bool, set[str]]] = {
+        name: (True, set(_MIGRATED_ROLES)) for name in migrated & authors}
+    for name, action, payload in conn.execute(text(
+            "SELECT entity_key, action, payload FROM change_log WHERE entity = :entity "
+            "ORDER BY id"), {"entity": ENTITY}):
+        active, granted = replay.get(name, (True, set()))
+        if action == "add":
+            active, granted = True, set()
+        for change in changes_of(payload):
+            field, old, new = change.get("field"), change.get("old"), change.get("new")
+            if field == "roles" and isinstance(new, list):
+                granted |= {str(r) for r in new}
+            elif field == "role":
+                granted |= {str(new)} if new else set()
+                granted -= {str(old)} if old and not new else set()
+            elif field == "active":
+                active = bool(new)
+        replay[name] = (active, granted)
+    problems: list[str] = []
+    for name in sorted(held.keys() | replay.keys()):
+        if name not in replay:
+            problems.append(f"users: {name!r} is not in the change log")
+        elif name not in held:
+            problems.append(f"users: {name!r}, added in the change log, is missing")
+        elif held[name] != (replay[name][0], frozenset(replay[name][1])):
+            problems.append(f"users: {name!r} holds {_user_state(*held[name])}; the change log "
+                            f"records {_user_state(*replay[name])}")
+    return problems
+
+
+def _user_state(active: bool, roles: Iterable[str]) -> str:
+    shown = ", ".join(sorted(roles)) or "no role"
+    return f"the roles {shown}" + ("" if active else " (inactive)")
+
+
 def _restorer_may(conn: Connection, user: str) -> None:
     """Only an admin of the library in the archive (or anyone, if it is still open) may
     restore it: the archive's users decide, as the target database is empty."""
@@ -479,7 +541,13 @@ def restore(url: str, path: Path, *, user: str, confirm: bool = True,
 def _restore_plan(conn: Connection, shown: str, path: Path, revision: str | None,
                   counts: dict[str, int], user: str, confirm: bool,
                   accept_broken_chains: bool) -> Plan:
-    """Check who restores and the chains of what was loaded; the plan (done = confirm)."""
+    """Check the users of what was loaded against its change log, who restores (by those
+    users), and the chains; the plan (done = confirm)."""
+    forged_users = _users_unrecorded(conn)
+    if forged_users:  # never restored as they are: they decide who may do what
+        raise InvalidData.of([f"{path}: the users in the backup are not those its change log "
+                              f"records: {line}" for line in forged_users],
+                             hint="nothing was restored; restore an earlier backup")
     _restorer_may(conn, user)
     broken = _audit_restored(conn)
     if broken and not accept_broken_chains:
