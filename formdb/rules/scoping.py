@@ -71,6 +71,16 @@ def line_purpose(line: ResolvedLine | None, record: IngredientRecord) -> tuple[s
     return None, ""
 
 
+FORMS = ("spray", "powder")
+
+
+def _has_form(product: Product, form: str) -> bool | None:
+    """Whether a product type of the table is sold in ``form`` (None: it may or may not be)."""
+    if form == "spray" and product.spray:
+        return True
+    return None if form in product.maybe else False
+
+
 def purpose_fits(entry: ListEntry, purpose: str | None) -> bool | None:
     """Whether an entry restricted to (or excluding) preservative use applies to ``purpose``."""
     if entry.purpose is None:
@@ -98,9 +108,10 @@ def scope_fits(scope: Scope, formula: ResolvedFormula, purpose: str | None) -> b
     states: list[bool | None] = []
     if scope.categories:
         states.append(body.category.value in scope.categories)
-    # "spray" in a part's products is the form the product must take ("body lotion
-    # spray/aerosol"), asked of the product besides its kind, never instead of it
-    kinds = set(scope.products) - {"spray"}
+    # a spray or a powder in a part's products is the form the product must take ("body lotion
+    # spray/aerosol", "face products in loose powder form"), asked of the product besides its
+    # kind, never instead of it
+    kinds = set(scope.products) - set(FORMS)
     if scope.areas or kinds:
         if product is None:
             states.append(None)
@@ -108,9 +119,8 @@ def scope_fits(scope: Scope, formula: ResolvedFormula, purpose: str | None) -> b
             states.append(True)
         else:
             states.append(None if product.maybe & kinds else False)
-    if "spray" in scope.products:
-        states.append(None if product is None else
-                      (True if product.spray else (None if "spray" in product.maybe else False)))
+    states.extend(None if product is None else _has_form(product, form)
+                  for form in FORMS if form in scope.products)
     if scope.excluded_areas or scope.excluded_products:
         if product is None:
             states.append(None)

@@ -287,6 +287,19 @@ def test_triclosan_not_in_spray_deodorants(library: Library) -> None:
     spray = by_entry(lim(library, formula([("Triclosan", 0.2, "preservative")],
                                           product="deodorant spray")), "V/25")
     assert spray.severity.value == "error" and "covers only" in spray.message
+    # "Face powders" are a kind of product, not every face product
+    cream = by_entry(lim(library, formula([("Triclosan", 0.2, "preservative")],
+                                          product="face cream")), "V/25")
+    assert cream.severity.value == "error" and "covers only" in cream.message
+
+
+def test_titanium_dioxide_powder_form(library: Library) -> None:
+    """Annex III/321 titanium dioxide (Reg. (EU) 2021/850): (a) face products in loose powder
+    form 25 %, (b) hair aerosol spray products 1.4 %, (c) other products. A face cream is not
+    in loose powder form: part (c) applies, not (a)."""
+    found = by_entry(lim(library, formula([("Titanium Dioxide", 5.0, None)],
+                                          product="face cream")), "III/321")
+    assert found.values["part"] == "c" and "part (a)" not in found.message
 
 
 def test_prohibited_except_an_annex_iii_entry(library: Library) -> None:

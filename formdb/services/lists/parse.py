@@ -230,6 +230,10 @@ _TERMS: tuple[tuple[str, str, str], ...] = (
     (r"(?:fine )?fragrance(?: cream)?|eau de toilette", "product", "fragrance"),
     (r"colouring eyelashes(?: and eyebrows)?|eyelash waving|intent?ed for colouring", "product",
      "eyelash product"),
+    # a powder is a form, like a spray ("face products in loose powder form"); face powders
+    # are a kind of product of their own
+    (r"face powders?", "product", "face powder"),
+    (r"(?:loose )?powd(?:ery|ers?)(?: form)?", "product", "powder"),
     (r"hair|head", "area", "hair"),
     (r"face|facial", "area", "face"),
     (r"eyes?\b|eyelash\w*|eyebrows?", "area", "eye"),
