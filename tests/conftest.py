@@ -16,9 +16,11 @@ afterwards.
 Hypothesis profiles (how many examples a property or fuzz test draws), chosen with the
 environment variable FORMDB_HYPOTHESIS_PROFILE:
 
-- ``ci`` (the default): a tenth of the examples of the expensive tests (those that run the
-  real command or touch a database per example), so the whole suite fits CI's minutes;
-- ``deep``: every count in full (the fuzz suite's 3,250 examples). Run it before a release or
+- ``ci`` (the default): a tenth of the examples of the expensive property tests (those that
+  run the real command or touch a database per example), so the whole suite fits CI's minutes;
+  the fuzz suite (tests/cli/test_hostile_input.py) is the exception: its 3,250 examples run in
+  full, each kept cheap (``tests.helpers.fuzz_examples``);
+- ``deep``: every count in full, and three times the fuzz suite's. Run it before a release or
   after touching input parsing or import:
   ``FORMDB_HYPOTHESIS_PROFILE=deep pytest tests/cli/test_hostile_input.py``.
 

@@ -33,6 +33,14 @@ def examples(deep: int) -> int:
     return max(1, deep * settings.default.max_examples // 100)
 
 
+def fuzz_examples(count: int) -> int:
+    """How many examples a fuzz-suite test draws: its ``count`` in CI (the ``ci`` profile: the
+    suite's 3,250 run there in full), three times it under ``deep``."""
+    from hypothesis import settings
+
+    return count * (3 if settings.default.max_examples >= 100 else 1)
+
+
 def pg_base_url() -> str | None:
     """The test server from the environment, or None (PostgreSQL tests then skip)."""
     return os.environ.get(PG_ENV) or None

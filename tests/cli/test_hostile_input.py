@@ -6,9 +6,11 @@ line an ``Error:`` line, no traceback, and the library exactly as it was (a dete
 compared before and after). Exit 70 (an internal error) fails the example.
 
 Hypothesis with a fixed seed (``derandomize=True``: the same examples every run, no example
-database). Counts under the ``deep`` hypothesis profile (``FORMDB_HYPOTHESIS_PROFILE=deep``),
-3,250 examples in all; the default ``ci`` profile draws a tenth of each (see
-tests/conftest.py):
+database). The counts below run in CI (the default ``ci`` hypothesis profile), 3,250 examples in
+all; ``FORMDB_HYPOTHESIS_PROFILE=deep`` draws three times as many. Each example is kept cheap
+instead of drawn less often: the command runs in-process, input files are rewritten in one
+module folder, a writing command starts from a file copy of the same small library, and the
+library is dumped (the "unchanged" check) only when its file's bytes changed:
 
     formula files (check as text, JSON or HTML)      700
     profiles (check --profile FILE)                  450
@@ -28,11 +30,15 @@ tests/cli/test_hostile_regressions.py and tests/store. Names and values are made
 from __future__ import annotations
 
 import csv
+import hashlib
 import io
 import json
 import math
+import shutil
+import sqlite3
 import zipfile
 from collections.abc import Callable
+from pathlib import Path
 
 import pytest
 from hypothesis import HealthCheck, Phase, given, settings
@@ -40,17 +46,74 @@ from hypothesis import strategies as st
 
 from formdb.cli.main import EXIT_INTERNAL
 from tests.fixtures.tables.library_setup import build_library
-from tests.helpers import CliResult, dump_database, examples, run_formdb
+from tests.helpers import CliResult, dump_database, fuzz_examples, run_formdb
 
 pytestmark = pytest.mark.slow  # the fuzz lane: left out of `pytest -m "not slow"`
 
 
-def _settings(deep: int) -> settings:
-    # no shrinking: every example runs the real command and dumps the library, so shrinking a
-    # failure would take many minutes; the failing example is printed as found
-    return settings(max_examples=examples(deep), deadline=None, derandomize=True, database=None,
-                    suppress_health_check=list(HealthCheck),
+def _settings(count: int) -> settings:
+    # the full count in CI (3x under the deep profile); no shrinking: every example runs the
+    # real command, so shrinking a failure would take many minutes; the failing example is
+    # printed as found
+    return settings(max_examples=fuzz_examples(count), deadline=None, derandomize=True,
+                    database=None, suppress_health_check=list(HealthCheck),
                     phases=[Phase.explicit, Phase.generate])
+
+
+class Scratch:
+    """One folder for a module's input files, each name rewritten by every example (a fresh
+    numbered folder per example costs more than the command it feeds)."""
+
+    def __init__(self, folder: Path) -> None:
+        self.folder = folder
+
+    def file(self, name: str, data: str | bytes | None = None) -> Path:
+        """``name`` in the folder, written with ``data`` (text as UTF-8, lone surrogates kept
+        as they are) or, without data, removed so that a command may create it."""
+        path = self.folder / name
+        if data is None:
+            path.unlink(missing_ok=True)
+        elif isinstance(data, bytes):
+            path.write_bytes(data)
+        else:
+            path.write_text(data, encoding="utf-8", errors="surrogatepass", newline="")
+        return path
+
+    def no_database(self, name: str) -> Path:
+        """``name`` with no SQLite file (nor write-ahead log or shared memory) there."""
+        for end in ("-wal", "-shm", ""):
+            self.file(name + end)
+        return self.folder / name
+
+
+class LibraryState:
+    """The library's dump, taken again only when the SQLite file's bytes (and its write-ahead
+    log's) changed: equal bytes are the same rows, so an unchanged library costs a hash, and
+    any change in the bytes is judged by comparing full dumps."""
+
+    def __init__(self, url: str) -> None:
+        from formdb.store.db import sqlite_path
+
+        path = sqlite_path(url)
+        assert path is not None
+        self.url, self.files = url, (path, path.with_name(path.name + "-wal"))
+        self._key, self._dump = b"", ""
+
+    def key(self) -> bytes:
+        digest = hashlib.sha256()
+        for path in self.files:
+            if path.exists():
+                digest.update(path.name.encode() + b"\0" + path.read_bytes())
+        return digest.digest()
+
+    def snapshot(self) -> tuple[bytes, str]:
+        key = self.key()
+        if key != self._key:
+            self._key, self._dump = key, dump_database(self.url)
+        return self._key, self._dump
+
+    def unchanged_since(self, before: tuple[bytes, str]) -> bool:
+        return self.key() == before[0] or dump_database(self.url) == before[1]
 
 
 NASTY = ["'", '"', ";", "--", "'; DROP TABLE ingredients; --", "<script>alert(1)</script>",
@@ -84,6 +147,33 @@ def library(tmp_path_factory: pytest.TempPathFactory) -> str:
     return build_library(url)
 
 
+@pytest.fixture(scope="module")
+def scratch(tmp_path_factory: pytest.TempPathFactory) -> Scratch:
+    return Scratch(tmp_path_factory.mktemp("inputs"))
+
+
+@pytest.fixture(scope="module")
+def pristine(library: str, tmp_path_factory: pytest.TempPathFactory) -> Path:
+    """A copy of the small library as built, for tests that start every example from it."""
+    from formdb.store.db import sqlite_path
+
+    source = sqlite_path(library)
+    assert source is not None and not source.with_name(source.name + "-wal").exists()
+    copy = tmp_path_factory.mktemp("pristine") / "library.sqlite"
+    shutil.copyfile(source, copy)
+    return copy
+
+
+def _fresh_copy(pristine: Path, scratch: Scratch) -> str:
+    """A new copy of the pristine library (a file copy: far cheaper than building one)."""
+    target = scratch.no_database("copy.sqlite")
+    shutil.copyfile(pristine, target)
+    return f"sqlite:///{target}"
+
+
+_STATES: dict[str, LibraryState] = {}
+
+
 def _clean(result: CliResult, allowed: tuple[int, ...] = (0, 1, 2)) -> None:
     """A result or one clear refusal; never an internal error or a traceback."""
     assert result.exit_code != EXIT_INTERNAL, result.stderr
@@ -101,11 +191,12 @@ def _clean(result: CliResult, allowed: tuple[int, ...] = (0, 1, 2)) -> None:
 
 
 def _run(url: str, args: list[str], *, writes: bool) -> CliResult:
-    before = dump_database(url) if writes else None
+    state = _STATES.setdefault(url, LibraryState(url))
+    before = state.snapshot() if writes else None
     result = run_formdb(["--db", url, *args])
     _clean(result)
-    if writes and result.exit_code == 2:
-        assert dump_database(url) == before, "a refused command changed the library"
+    if before is not None and result.exit_code == 2:
+        assert state.unchanged_since(before), "a refused command changed the library"
     return result
 
 
@@ -155,10 +246,8 @@ def _is_toml_number(text: str) -> bool:
 
 @_settings(700)
 @given(text=formula_text(), fmt=st.sampled_from(["text", "json", "html"]))
-def test_fuzz_formula_files(library: str, tmp_path_factory: pytest.TempPathFactory, text: str,
-                            fmt: str) -> None:
-    path = tmp_path_factory.mktemp("formula") / "fuzz.toml"
-    path.write_text(text, encoding="utf-8", errors="surrogatepass")
+def test_fuzz_formula_files(library: str, scratch: Scratch, text: str, fmt: str) -> None:
+    path = scratch.file("fuzz.toml", text)
     result = _run(library, ["check", str(path), "--format", fmt], writes=False)
     if fmt == "json" and result.exit_code in (0, 1):
         json.loads(result.stdout)
@@ -203,22 +292,16 @@ def profile_text(draw: st.DrawFn) -> str:
 
 
 @_settings(450)
-@given(text=profile_text())
-def test_fuzz_profiles(library: str, tmp_path_factory: pytest.TempPathFactory,
-                       text: str) -> None:
-    folder = tmp_path_factory.mktemp("profile")
-    profile = folder / "p.toml"
-    profile.write_text(text, encoding="utf-8", errors="surrogatepass")
-    formula = folder / "f.toml"
-    formula.write_text('name = "Larkspur fuzz cream"\ncategory = "leave-on"\n'
-                       '[[ingredients]]\ninci = "Aqua"\npercent = 80\n'
-                       '[[ingredients]]\ninci = "Sorbitan Oleate"\npercent = 5\n'
-                       '[[ingredients]]\ninci = "Polysorbate 80"\npercent = 5\n'
-                       '[[ingredients]]\ninci = "Paraffinum Liquidum"\npercent = 10\n',
-                       encoding="utf-8")
-    for fmt in ("text", "html"):
-        _run(library, ["check", str(formula), "--profile", str(profile), "--format", fmt],
-             writes=False)
+@given(text=profile_text(), fmt=st.sampled_from(["text", "html"]))  # html: the chart's axis
+def test_fuzz_profiles(library: str, scratch: Scratch, text: str, fmt: str) -> None:
+    profile = scratch.file("p.toml", text)
+    formula = scratch.file("f.toml", 'name = "Larkspur fuzz cream"\ncategory = "leave-on"\n'
+                           '[[ingredients]]\ninci = "Aqua"\npercent = 80\n'
+                           '[[ingredients]]\ninci = "Sorbitan Oleate"\npercent = 5\n'
+                           '[[ingredients]]\ninci = "Polysorbate 80"\npercent = 5\n'
+                           '[[ingredients]]\ninci = "Paraffinum Liquidum"\npercent = 10\n')
+    _run(library, ["check", str(formula), "--profile", str(profile), "--format", fmt],
+         writes=False)
 
 
 # --- CSV and XLSX tables ---------------------------------------------------------------------
@@ -255,9 +338,8 @@ def table_rows(draw: st.DrawFn) -> list[list[str]]:
 @given(rows=table_rows(), ending=st.sampled_from(["\n", "\r\n", "\r"]),
        delimiter=st.sampled_from([",", ";", "\t"]), damage=st.integers(0, 5),
        dry_run=st.booleans())
-def test_fuzz_csv_import(library: str, tmp_path_factory: pytest.TempPathFactory,
-                         rows: list[list[str]], ending: str, delimiter: str, damage: int,
-                         dry_run: bool) -> None:
+def test_fuzz_csv_import(pristine: Path, scratch: Scratch, rows: list[list[str]], ending: str,
+                         delimiter: str, damage: int, dry_run: bool) -> None:
     buffer = io.StringIO()
     csv.writer(buffer, delimiter=delimiter, lineterminator=ending).writerows(rows)
     text = buffer.getvalue()
@@ -265,16 +347,15 @@ def test_fuzz_csv_import(library: str, tmp_path_factory: pytest.TempPathFactory,
         text = text.replace('"', "", 1)  # an unbalanced quote
     elif damage == 1:
         text += "x" * 140_000  # a cell beyond any bound
-    path = tmp_path_factory.mktemp("csv") / "fuzz.csv"
-    path.write_text(text, encoding="utf-8", errors="surrogatepass", newline="")
-    _run(library, ["ingredient", "import", str(path), *(["--dry-run"] if dry_run else [])],
-         writes=True)
+    path = scratch.file("fuzz.csv", text)
+    _run(_fresh_copy(pristine, scratch),
+         ["ingredient", "import", str(path), *(["--dry-run"] if dry_run else [])], writes=True)
 
 
 @_settings(250)
 @given(rows=table_rows(), damage=st.integers(0, 4), formulas=st.booleans())
-def test_fuzz_xlsx_import(library: str, tmp_path_factory: pytest.TempPathFactory,
-                          rows: list[list[str]], damage: int, formulas: bool) -> None:
+def test_fuzz_xlsx_import(pristine: Path, scratch: Scratch, rows: list[list[str]], damage: int,
+                          formulas: bool) -> None:
     from openpyxl import Workbook
 
     book = Workbook()
@@ -296,7 +377,7 @@ def test_fuzz_xlsx_import(library: str, tmp_path_factory: pytest.TempPathFactory
             sheet.append(cells)
         except Exception:  # openpyxl refuses some characters itself: write what it takes
             sheet.append(["".join(ch for ch in str(c) if ch.isalnum()) for c in cells])
-    path = tmp_path_factory.mktemp("xlsx") / "fuzz.xlsx"
+    path = scratch.file("fuzz.xlsx")
     book.save(path)
     if damage == 0:
         data = path.read_bytes()
@@ -304,7 +385,7 @@ def test_fuzz_xlsx_import(library: str, tmp_path_factory: pytest.TempPathFactory
     elif damage == 1:
         with zipfile.ZipFile(path, "a") as archive:
             archive.writestr("xl/worksheets/sheet1.xml", "<not xml")
-    _run(library, ["ingredient", "import", str(path)], writes=True)
+    _run(_fresh_copy(pristine, scratch), ["ingredient", "import", str(path)], writes=True)
 
 
 # --- ingredient edit --set -------------------------------------------------------------------
@@ -314,13 +395,13 @@ def test_fuzz_xlsx_import(library: str, tmp_path_factory: pytest.TempPathFactory
        source=st.sampled_from(["rule-of-thumb", "from-memory", "nope", "", "\x1b[2J"]),
        reason=nasty_text, version=st.one_of(st.none(), number_text, st.integers(-5, 10 ** 25)),
        name=st.sampled_from(["Sorbitan Oleate", "Aqua", "Nope", "sorbitan  oleate", "Glуcerin"]))
-def test_fuzz_edit_set(library: str, field: str, value: str, source: str, reason: str,
-                       version: object, name: str) -> None:
+def test_fuzz_edit_set(pristine: Path, scratch: Scratch, field: str, value: str, source: str,
+                       reason: str, version: object, name: str) -> None:
     args = ["ingredient", "edit", name, "--set", f"{field}={value}", "--source", source,
             "--reason", reason or "fuzz"]
     if version is not None:
         args += ["--expect-version", str(version)]
-    _run(library, args, writes=True)
+    _run(_fresh_copy(pristine, scratch), args, writes=True)
 
 
 # --- backup archives -------------------------------------------------------------------------
@@ -385,34 +466,29 @@ def _mutations(parts: dict[str, bytes]) -> list[Callable[[dict[str, bytes], st.D
 
 @_settings(200)
 @given(data=st.data())
-def test_fuzz_backup_archives(backup_parts: dict[str, bytes],
-                              tmp_path_factory: pytest.TempPathFactory,
+def test_fuzz_backup_archives(backup_parts: dict[str, bytes], scratch: Scratch,
                               data: st.DataObject) -> None:
     parts = dict(backup_parts)
     for _ in range(data.draw(st.integers(1, 3))):
         mutate = data.draw(st.sampled_from(_mutations(parts)))
         parts = mutate(parts, data.draw)
-    folder = tmp_path_factory.mktemp("restore")
-    archive = folder / "mutated.zip"
+    archive = scratch.file("mutated.zip")
     with zipfile.ZipFile(archive, "w") as z:
         for name, blob in parts.items():
             z.writestr(name, blob)
     if data.draw(st.integers(0, 9)) == 0:
         raw = archive.read_bytes()
         archive.write_bytes(raw[: data.draw(st.integers(0, len(raw)))])
-    target = f"sqlite:///{folder / 'target.sqlite'}"
-    result = run_formdb(["--db", target, "db", "restore", str(archive), "--yes"])
+    target = scratch.no_database("target.sqlite")
+    result = run_formdb(["--db", f"sqlite:///{target}", "db", "restore", str(archive),
+                         "--yes"])
     _clean(result)
-    if result.exit_code == 2 and (folder / "target.sqlite").exists():
-        from sqlalchemy import inspect
-
-        from formdb.store.db import make_engine
-
-        engine = make_engine(target)
-        try:
-            assert inspect(engine).get_table_names() == []  # nothing was restored
+    if result.exit_code == 2 and target.exists():
+        connection = sqlite3.connect(target)
+        try:  # nothing was restored, not even the schema
+            assert connection.execute("SELECT count(*) FROM sqlite_master").fetchone() == (0,)
         finally:
-            engine.dispose()
+            connection.close()
 
 
 # --- list exports: names in, listings and exports out ----------------------------------------
@@ -420,8 +496,9 @@ def test_fuzz_backup_archives(backup_parts: dict[str, bytes],
 @_settings(300)
 @given(name=nasty_text, synonym=nasty_text, fmt=st.sampled_from(["table", "csv", "json"]),
        suffix=st.sampled_from([".csv", ".xlsx"]))
-def test_fuzz_list_exports(library: str, tmp_path_factory: pytest.TempPathFactory, name: str,
-                           synonym: str, fmt: str, suffix: str) -> None:
+def test_fuzz_list_exports(pristine: Path, scratch: Scratch, name: str, synonym: str, fmt: str,
+                           suffix: str) -> None:
+    library = _fresh_copy(pristine, scratch)  # the same small library for every example
     _run(library, ["ingredient", "add", f"Larkspur {name}", "--synonym", synonym,
                    "--reason", "fuzz"], writes=True)
     listed = _run(library, ["ingredient", "list", "--format", fmt], writes=False)
@@ -431,12 +508,9 @@ def test_fuzz_list_exports(library: str, tmp_path_factory: pytest.TempPathFactor
         assert not [c for c in cells if c.startswith(("=", "+", "-", "@", "\t", "\r"))]
     elif fmt == "json":
         json.loads(listed.stdout)
-    folder = tmp_path_factory.mktemp("export")
-    out = folder / f"library{suffix}"
+    out = scratch.file(f"library{suffix}")
     exported = _run(library, ["ingredient", "export", str(out)], writes=False)
     assert exported.exit_code == 0 and out.exists()
-    again = _run(library, ["ingredient", "export", str(out)], writes=False)
-    assert again.exit_code == 2  # never over an existing file without --force
     if suffix == ".csv":
         with out.open(encoding="utf-8-sig", newline="") as f:
             cells = [c for row in csv.reader(f) for c in row]
@@ -452,8 +526,8 @@ def test_fuzz_list_exports(library: str, tmp_path_factory: pytest.TempPathFactor
        dates=st.sampled_from(["31/10/2025", "32/13/2025", "", "yesterday", "١/١/٢٠٢٥"]),
        cells=st.lists(st.lists(st.one_of(nasty_text, number_text), min_size=0, max_size=18),
                       max_size=5))
-def test_fuzz_list_import(library: str, tmp_path_factory: pytest.TempPathFactory, annex: str,
-                          dates: str, cells: list[list[str]]) -> None:
+def test_fuzz_list_import(pristine: Path, scratch: Scratch, annex: str, dates: str,
+                          cells: list[list[str]]) -> None:
     """Annex-shaped text with invented rows (the layout of the Commission's exports, none of
     their content)."""
     buffer = io.StringIO()
@@ -470,9 +544,8 @@ def test_fuzz_list_import(library: str, tmp_path_factory: pytest.TempPathFactory
                      "Other Directives/Regulations", "SCCS opinions", "Chemical/IUPAC Name",
                      "Identified INGREDIENTS or substances e.g.", "CMR", "Update Date"])
     writer.writerows(cells)
-    path = tmp_path_factory.mktemp("lists") / f"Larkspur_Annex_{annex or 'none'}.txt"
-    path.write_text(buffer.getvalue(), encoding="utf-8", errors="surrogatepass")
-    _run(library, ["lists", "import", str(path)], writes=True)
+    path = scratch.file(f"Larkspur_Annex_{annex or 'none'}.txt", buffer.getvalue())
+    _run(_fresh_copy(pristine, scratch), ["lists", "import", str(path)], writes=True)
 
 
 # --- random bytes ----------------------------------------------------------------------------
@@ -480,19 +553,15 @@ def test_fuzz_list_import(library: str, tmp_path_factory: pytest.TempPathFactory
 @_settings(150)
 @given(data=st.binary(max_size=800),
        where=st.sampled_from(["formula", "csv", "xlsx", "profile"]))
-def test_fuzz_random_bytes(library: str, tmp_path_factory: pytest.TempPathFactory,
-                           data: bytes, where: str) -> None:
-    folder = tmp_path_factory.mktemp("bytes")
+def test_fuzz_random_bytes(library: str, pristine: Path, scratch: Scratch, data: bytes,
+                           where: str) -> None:
     if where == "formula":
-        (folder / "f.toml").write_bytes(data)
-        _run(library, ["check", str(folder / "f.toml")], writes=False)
+        _run(library, ["check", str(scratch.file("b.toml", data))], writes=False)
     elif where == "profile":
-        (folder / "p.toml").write_bytes(data)
-        (folder / "f.toml").write_text('name = "x"\ncategory = "leave-on"\n[[ingredients]]\n'
-                                       'inci = "Aqua"\npercent = 100\n', encoding="utf-8")
-        _run(library, ["check", str(folder / "f.toml"), "--profile", str(folder / "p.toml")],
+        formula = scratch.file("f100.toml", 'name = "x"\ncategory = "leave-on"\n'
+                               '[[ingredients]]\ninci = "Aqua"\npercent = 100\n')
+        _run(library, ["check", str(formula), "--profile", str(scratch.file("b-p.toml", data))],
              writes=False)
     else:
-        path = folder / f"t.{where}"
-        path.write_bytes(data)
-        _run(library, ["ingredient", "import", str(path)], writes=True)
+        _run(_fresh_copy(pristine, scratch),
+             ["ingredient", "import", str(scratch.file(f"t.{where}", data))], writes=True)
