@@ -129,3 +129,25 @@ def test_a_broken_chain_is_not_anchored(seeded_sqlite_url: str, tmp_path: Path,
     done = act(ana, "audit", "anchor", str(out))
     assert done.exit_code == 2 and "an anchor would vouch for a broken chain" in done.stderr
     assert not out.exists()
+
+
+def test_keys_and_policies_set_since_the_anchor_are_named(seeded_library_url: str,
+                                                         tmp_path: Path, people) -> None:
+    """What decides whose signature counts and which runs are signable, set since the anchor:
+    not a break (an admin may do it), but named, so that a key slipped in for someone is seen
+    when the filed anchor is checked (README: such a row verifies on its own)."""
+    url = seeded_library_url
+    ana = people(url, "ana")
+    anchor = tmp_path / "anchor.json"
+    assert act(ana, "audit", "anchor", str(anchor)).exit_code == 0
+    rita = new_signer(people(url, "rita"), tmp_path, "Rita Reviewer")
+    assert act(ana, "review", "policy", "set", "--profile", "strict").exit_code == 0
+    code, report = _verify(ana, anchor)
+    assert code == 0, report["anchor"]
+    notes = report["anchor"]["changed_logged"]
+    assert any(n.startswith("key ") and f" enrolled for {rita.login} (Rita Reviewer) by "
+               in n and n.endswith("since the anchor") for n in notes), notes
+    assert any(n.startswith(f"review policy set by {ana.identity} at ")
+               and "since the anchor: signable profile strict 1 (" in n for n in notes), notes
+    shown = act(ana, "audit", "verify", "--anchor", str(anchor)).stdout
+    assert f"enrolled for {rita.login}" in shown

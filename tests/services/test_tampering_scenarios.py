@@ -339,6 +339,10 @@ def test_every_tampering_scenario_is_shown_where_people_look(
                 engine.dispose()
             found[scenario.name] = _caught(_as(who["ana"], copied), ids["cream_key"],
                                            tmp_path, anchor)
+            if scenario.change is _forged_key:  # not caught, but named against the anchor
+                shown = act(_as(who["ana"], copied), "audit", "verify", "--anchor",
+                            str(anchor)).stdout
+                assert f"enrolled for {who['rita'].identity} (Rita Reviewer)" in shown, shown
     wrong = {}
     for scenario in SCENARIOS:
         expected = getattr(scenario, backend)

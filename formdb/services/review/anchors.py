@@ -11,7 +11,8 @@ is a small JSON file the reviewer keeps with the filed report (``formdb audit an
 ``formdb audit verify --anchor FILE`` then finds an anchored head that is gone or rewritten
 (rows removed since), fewer rows up to it than anchored, and every record whose digest changed
 without a change-log entry for it since the anchor: a change made around formdb. A record that
-changed with a logged change is reported as changed, not as broken.
+changed with a logged change is reported as changed, not as broken. Keys enrolled or revoked
+and review policies set since the anchor are named too (notes, not breaks).
 
 What it cannot show: a record changed with plain SQL *and* given a forged change-log entry by
 someone who can also reseal the log (on SQLite, whoever can write the file); a change to a
@@ -194,6 +195,7 @@ def check_anchor(session: Session, anchor: dict[str, Any],
             problems.append(ChainProblem(table, head_id, "removed-since-anchor", (
                 f"{rows - count} row(s) of {table} up to row {head_id} were removed since the "
                 f"anchor ({rows} then, {count} now)")))
+    notes += _trust_changes(session, anchor)
     log_head = anchor["chains"].get("change_log", {}).get("head_id")
     logged = _since(session, log_head)
     now = record_digests(session)
@@ -212,6 +214,38 @@ def check_anchor(session: Session, anchor: dict[str, Any],
                     f"{kind} {key} was {what} since the anchor with no change-log entry for "
                     "it: a change made around formdb (plain SQL or a file edit)")))
     return problems, notes
+
+
+def _trust_changes(session: Session, anchor: dict[str, Any]) -> list[str]:
+    """Keys enrolled or revoked and review policies set since the anchor, each named: what
+    decides whose signature is valid and which runs are signable. A row appended to those
+    chains by someone who can write them directly verifies (README), so it is shown here for
+    the reviewer to recognise."""
+    present = set(inspect(session.connection()).get_table_names())
+    out = []
+    for table in ("key_enrolments", "policy_versions"):
+        if table not in present:
+            continue
+        head = anchor["chains"].get(table, {}).get("head_id") or 0
+        model = Base.metadata.tables[table]
+        for row in session.execute(select(model).where(model.c.id > head)
+                                   .order_by(model.c.id)).mappings():
+            if table == "key_enrolments":
+                done = {"enrol": "enrolled", "revoke": "revoked"}.get(row["action"],
+                                                                      row["action"])
+                out.append(f"key {row['key_id']} {done} for {row['login']} "
+                           f"({row['printed_name']}) by {row['by_user']} at "
+                           f"{utc(row['at']):%Y-%m-%d %H:%M:%S UTC}, since the anchor")
+            else:
+                try:
+                    profile = json.loads(row["policy_json"])["profile"]
+                    named = f"{profile['name']} {profile['version']} ({profile['hash'][:12]})"
+                except (ValueError, KeyError, TypeError):
+                    named = "unreadable"
+                out.append(f"review policy set by {row['set_by']} at "
+                           f"{utc(row['set_at']):%Y-%m-%d %H:%M:%S UTC}, since the anchor: "
+                           f"signable profile {named}")
+    return out
 
 
 def anchor_time(anchor: dict[str, Any]) -> str:
