@@ -38,17 +38,21 @@ def demo_cmd(app: AppContext, fmt: str, out: Path | None, keep: Path | None,
         out.mkdir(parents=True, exist_ok=True)
         written = []
         files = demo_report_files(demo, fmt)
-        for name in files:  # every name refused or accepted before the first is written
+        # every name refused or accepted before the first is written (the weigh sheet too)
+        for name in [*files, WEIGH_SHEET]:
             check_output(out / name, force=force)
         for name, text in files.items():
             write_report(out / name, text, force=force)
             written.append(out / name)
         click.echo(f"Reports written: {', '.join(str(p) for p in written)}")
     click.echo(demo_summary(demo))
-    _bench(demo.library, app, out)
+    _bench(demo.library, app, out, force)
 
 
-def _bench(library_path: Path, app: AppContext, out: Path | None) -> None:
+WEIGH_SHEET = "weigh-sheet-LB-110-20kg.html"
+
+
+def _bench(library_path: Path, app: AppContext, out: Path | None, force: bool) -> None:
     """From a formula to a 20 kg weigh sheet; from a screening series to a stored required HLB
     that the next check uses."""
     from formdb.report.files import write_report
@@ -69,6 +73,6 @@ def _bench(library_path: Path, app: AppContext, out: Path | None) -> None:
         bench.before.facts.required_hlb, bench.after.facts.required_hlb,
         measured.measured_source if measured else None))
     if out is not None:
-        target = out / "weigh-sheet-LB-110-20kg.html"
-        write_report(target, render_html(bench.sheet))
+        target = out / WEIGH_SHEET
+        write_report(target, render_html(bench.sheet), force=force)
         click.echo(f"Weigh sheet written: {target}")

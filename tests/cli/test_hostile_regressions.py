@@ -438,6 +438,23 @@ def test_a_downgrade_backup_is_an_output_like_any_other(sqlite_url: str, tmp_pat
     assert sorted(p.name for p in out.iterdir()) == ["before.zip", "existing.zip", "fresh.zip"]
 
 
+@pytest.mark.slow  # the demo builds a library: seconds
+def test_demo_out_is_refused_or_replaced_whole(tmp_path: Path) -> None:
+    """Found by hand: `demo --out DIR --force` over an earlier run replaced the reports and
+    then stopped at the weigh sheet (never given --force, never checked first), exit 2 with
+    half the folder rewritten."""
+    out = tmp_path / "demo"
+    assert run_formdb(["demo", "--out", str(out)]).exit_code == 0
+    names = sorted(p.name for p in out.iterdir())
+    assert "weigh-sheet-LB-110-20kg.html" in names
+    again = run_formdb(["demo", "--out", str(out), "--force"])
+    assert again.exit_code == 0, again.stderr
+    first = out / names[0]
+    first.unlink()
+    _refused(run_formdb(["demo", "--out", str(out)]), "already exists")
+    assert not first.exists()  # refused before the first file was written
+
+
 @pytest.mark.parametrize("umask", [0o022, 0o002, 0o077])
 @pytest.mark.slow  # seconds per run: left out of the fast lane
 def test_files_follow_the_umask(seeded_sqlite_url: str, tmp_path: Path, umask: int) -> None:
