@@ -47,6 +47,13 @@ PRODUCTS: dict[str, Product] = {
     "hair conditioner": _p("hair"),
     "toothpaste": _p("oral", "toothpaste"),
     "mouthwash": _p("oral", "mouthwash"),
+    # SCCS NoG 12 Table 3A/3B sun care (whole-body amounts: body products) and eye make-up
+    "sunscreen lotion": _p("body"),
+    "sunscreen cream": _p("body"),
+    "eye make-up": _p("eye", "make-up", maybe="eye shadow, mascara, eyeliner"),
+    "mascara": _p("eye", "mascara, make-up"),
+    "eyeliner": _p("eye", "eyeliner, make-up"),
+    "make-up remover": _p("face, eye", "make-up"),
 }
 
 # library roles that say what a line is for (the first word the annexes would use)

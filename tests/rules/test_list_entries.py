@@ -386,3 +386,19 @@ def test_seed_rows_agree_with_the_commission_export(library: Library) -> None:
             if got != wanted:
                 disagree.append((row["key"], amount, sorted(got)))
     assert disagree == []
+
+
+def test_eye_make_up_and_sun_care_products(library: Library) -> None:
+    """The product types added with SCCS NoG 12 Tables 3A/3B are scoped: Annex III/98 (Reg. (EU)
+    2019/1966) part (c) names mascara (0.5 %); Annex VI/3 homosalate (Reg. (EU) 2022/2195) is for
+    face products only, not a whole-body sunscreen lotion; Annex III/324 (c) eye make-up
+    0.002 %."""
+    mascara = by_entry(lim(library, formula([("Salicylic Acid", 1.0, "active")],
+                                            product="mascara")), "III/98")
+    assert mascara.severity.value == "error" and mascara.values["part"] == "c"
+    sun = by_entry(lim(library, formula([("Homosalate", 5.0, "uv filter")],
+                                        product="sunscreen lotion")), "VI/3")
+    assert sun.severity.value == "error" and "covers only" in sun.message
+    eyes = by_entry(lim(library, formula([("Methyl Salicylate", 0.01, None)],
+                                         product="eye make-up")), "III/324")
+    assert eyes.severity.value == "error" and eyes.values["part"] == "c"
