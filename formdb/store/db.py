@@ -201,11 +201,20 @@ def head_revision(script_location: Path | None = None) -> str:
 
 
 def current_revision(engine: Engine) -> str | None:
-    """The revision the database is at; None for an empty or never-migrated database."""
+    """The revision the database is at; None for an empty or never-migrated database. A
+    library this login may not read is neither: Forbidden (see _library_hidden_from_login)."""
     from alembic.runtime.migration import MigrationContext
 
-    with engine.connect() as conn:
-        return MigrationContext.configure(conn).get_current_revision()
+    try:
+        with engine.connect() as conn:
+            found = MigrationContext.configure(conn).get_current_revision()
+    except DBAPIError as exc:
+        if _sqlstate(exc) == "42501":
+            _refuse_hidden_library(engine, display_url(engine.url))
+        raise
+    if found is None:
+        _refuse_hidden_library(engine, display_url(engine.url))
+    return found
 
 
 # Opening a library needs only "is it at head?". Answering that without importing alembic
@@ -374,12 +383,47 @@ def upgrade(engine: Engine, revision: str, script_location: Path | None = None) 
     _migrate(engine, "upgrade", revision, script_location)
 
 
+def _library_hidden_from_login(engine: Engine) -> tuple[str, str] | None:
+    """(login, schema) when a schema of the login's search path holds a formdb library the
+    login may not read (PostgreSQL: no role from grant-setup), else None: such a library looks
+    empty or refuses a read, and "run formdb init" or "needs the editor role" would be the
+    wrong advice."""
+    if engine.dialect.name != "postgresql":
+        return None
+    with engine.connect() as conn:
+        found = conn.execute(text(
+            "SELECT session_user::text, n.nspname::text FROM pg_namespace n "
+            "JOIN pg_class c ON c.relnamespace = n.oid WHERE c.relname = 'alembic_version' "
+            "AND NOT (has_schema_privilege(n.oid, 'USAGE') AND has_table_privilege(c.oid, "
+            "'SELECT')) AND n.nspname = ANY(string_to_array("
+            "replace(replace(current_setting('search_path'), '\"', ''), ' ', ''), ',')) "
+            "LIMIT 1")).first()
+    return (str(found[0]), str(found[1])) if found is not None else None
+
+
+def _refuse_hidden_library(engine: Engine, shown: str) -> None:
+    hidden = _library_hidden_from_login(engine)
+    if hidden is not None:
+        from formdb.errors import Forbidden
+
+        raise Forbidden(f"your login {hidden[0]} may not read the library in {shown} "
+                        f"(schema {hidden[1]}): it has no formdb role there.",
+                        hint=f"ask an admin to give {hidden[0]} a role (formdb user add, "
+                             "or user grant)")
+
+
 def open_library(url: str) -> Engine:
     """An engine for a library that is at the newest migration, or SchemaOutdated saying why."""
     engine = make_engine(url, must_exist=True)
     shown = display_url(engine.url)
     try:
-        answered, current = stored_revision_plain(engine)
+        try:
+            answered, current = stored_revision_plain(engine)
+        except DBAPIError as exc:
+            if _sqlstate(exc) != "42501":
+                raise
+            _refuse_hidden_library(engine, shown)
+            raise
         if answered and current is not None and current == head_from_files():
             return engine  # the everyday case, without importing alembic
         from alembic.script import ScriptDirectory
@@ -389,6 +433,7 @@ def open_library(url: str) -> Engine:
         if current == head:
             return engine
         if current is None:
+            _refuse_hidden_library(engine, shown)
             raise SchemaOutdated(f"{shown} is not a formdb library yet.",
                                  hint="run `formdb init` (add --seed for the bundled library)")
         known = {rev.revision for rev in
@@ -427,8 +472,8 @@ def _sqlstate(exc: BaseException) -> str | None:
 
 def refusal_of(exc: BaseException) -> FormdbError | None:
     """A server refusal as one clean line: a privilege error names the duty's role, a unique
-    violation (two people adding the same record at once) is a Conflict. Never the SQL, the
-    parameters or the formula text."""
+    violation (two people adding the same record at once), a deadlock or a serialization
+    failure is a Conflict. Never the SQL, the parameters or the formula text."""
     from formdb.errors import Forbidden
 
     state = _sqlstate(exc)
@@ -442,13 +487,19 @@ def refusal_of(exc: BaseException) -> FormdbError | None:
         kind, thing = found.groups() if found else ("object", "?")
         if kind in ("table", "relation"):
             duty = duty_for_table(thing.split(".")[-1])
-            need = (f"that needs the role {duty} (its database role, e.g. formdb_{duty}, "
+            need = (f"that needs the role {duty} (its database role, PREFIX_{duty}, comes "
                     "from `formdb db grant-setup`)")
+            hint = (f"ask an admin to give your login the role {duty} (formdb user grant "
+                    f"LOGIN {duty} --yes); nothing was changed")
         else:
             need = "that needs the admin role (or a formdb server function)"
+            hint = "ask an admin; nothing was changed"
         return Forbidden(f"the database refused your login permission on {kind} {thing}: {need}.",
-                         hint="ask an admin: formdb user grant LOGIN ROLE --yes; nothing was "
-                              "changed")
+                         hint=hint)
+    if state in ("40P01", "40001"):  # deadlock_detected, serialization_failure
+        return Conflict("someone else was changing the same records at the same moment, and "
+                        "the database stopped one of the two changes.",
+                        hint="nothing was changed; look again and repeat your change")
     if state == "23505":  # unique_violation
         diag = getattr(getattr(exc, "orig", None), "diag", None)
         table = getattr(diag, "table_name", None) or "the library"

@@ -26,13 +26,14 @@ from __future__ import annotations
 from datetime import UTC, datetime
 
 from sqlalchemy import Engine, inspect, select
-from sqlalchemy.exc import IntegrityError
+from sqlalchemy.exc import DBAPIError, IntegrityError
 from sqlalchemy.orm import Session, selectinload
 
 from formdb.errors import Conflict, Forbidden, InvalidData, NotFound
 from formdb.schemas.admin import Action, Duty, Plan, UserInfo
 from formdb.services.admin import logins
 from formdb.store.change_log import log_entry
+from formdb.store.db import refusal_of
 from formdb.store.models import User, UserRole
 
 ENTITY = "user"
@@ -89,7 +90,14 @@ def require(session: Session, user: str, action: Action) -> None:
     session.add(log_entry(at=datetime.now(UTC), user=user, entity="access", entity_key=user,
                           entity_version=None, action="refused", attempted=action.value,
                           reason=f"needs role {needed.value}"))
-    session.commit()
+    try:
+        session.commit()
+    except DBAPIError as exc:
+        # a login with no duty may not even append to the log (PostgreSQL after grant-setup):
+        # the server refused the record of the refusal; the refusal itself still stands
+        if not isinstance(refusal_of(exc), Forbidden):
+            raise
+        session.rollback()
     raise _refusal(user, action)
 
 
@@ -164,7 +172,7 @@ def add_user(session: Session, name: str, roles: list[str], *, actor: str,
     if server:
         logins.check_login_name(name)
         _check_prefix(prefix)
-        logins.require_groups(session, prefix, duties)
+        logins.require_groups(session, prefix, [logins.READER, *duties])
     if session.scalar(select(User.id).where(User.name == name)) is not None:
         raise Conflict(f"user {name!r} already exists.",
                        hint=f"formdb user grant {name} ROLE --yes adds a role")
@@ -175,7 +183,8 @@ def add_user(session: Session, name: str, roles: list[str], *, actor: str,
         changes.append(f"{verb} {name}"
                        + (" with a SCRAM password" if password is not None else
                           " (no password: log in by certificate or as pg_hba.conf says)"))
-        changes += [f"make {name} a member of {logins.group(prefix, d)}" for d in duties]
+        changes += [f"make {name} a member of {logins.group(prefix, d)}"
+                    for d in (logins.READER, *duties)]
     info = UserInfo(name, True, tuple(duties))
     if not confirm:
         return Plan("add user", tuple(changes), False, user=info)
@@ -189,7 +198,7 @@ def add_user(session: Session, name: str, roles: list[str], *, actor: str,
                        hint=f"formdb user grant {name} ROLE --yes adds a role") from None
     if server:
         logins.create_or_adopt(session, name, password)
-        for duty in duties:
+        for duty in (logins.READER, *duties):
             logins.grant_duty(session, name, prefix, duty)
     _log(session, actor, name, "add", "roles", list(duties))
     return Plan("add user", tuple(changes), True, user=info)

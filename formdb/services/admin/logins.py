@@ -1,9 +1,10 @@
 """On PostgreSQL a formdb user IS a database login: ``user add`` creates the login role (or
 adopts one a database administrator made, e.g. for certificate logins) and makes it a member
 of the group roles of its duties (``PREFIX_editor``... from ``formdb db grant-setup``), so the
-server enforces what the services check. Revoking a duty revokes the membership; deactivating
-a user makes the login NOLOGIN and drops its memberships. Everything runs inside the caller's
-transaction (role changes are transactional on PostgreSQL), so a refused or failed change
+server enforces what the services check, and of ``PREFIX_reader`` (reading needs no role).
+Revoking a duty revokes the membership; deactivating a user makes the login NOLOGIN and drops
+its memberships. Everything runs inside the caller's transaction (role changes are
+transactional on PostgreSQL), so a refused or failed change
 leaves no half-made login.
 
 Passwords (SCRAM): the verifier is computed on the client (libpq's PQencryptPasswordConn) and
@@ -27,6 +28,7 @@ from sqlalchemy.orm import Session
 
 from formdb.errors import ConfigError, InvalidData
 
+READER = "reader"  # every login reads the library (reading needs no formdb role)
 LOGIN_NAME = re.compile(r"^[a-z_][a-z0-9_.@-]{0,62}$")
 
 
@@ -115,5 +117,5 @@ def disable(session: Session, name: str, prefix: str, duties: list[str]) -> None
 
 def enable(session: Session, name: str, prefix: str, duties: list[str]) -> None:
     _call(session, "enable", name)
-    for duty in duties:
+    for duty in (READER, *duties):
         grant_duty(session, name, prefix, duty)
