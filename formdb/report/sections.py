@@ -459,6 +459,7 @@ READABLE = {
     "use_max_percent": "use range, high end", "ph_min": "working pH, low end",
     "ph_max": "working pH, high end", "dispersed_fraction": "dispersed volume fraction",
     "molar_mass": "molar mass", "base_equivalents": "base equivalents", "acid_value": "acid value",
+    "water_number": "water number",
     "cation_valence": "cation valence", "ionic_character": "ionic character",
 }
 

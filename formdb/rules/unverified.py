@@ -21,7 +21,7 @@ _SEVERITIES = ("off", *(s.value for s in Severity))
 CHECKED_PROPERTIES = (
     "hlb", "required_hlb_ow", "required_hlb_wo", "solubility", "ionic_character", "density",
     "ph_min", "ph_max", "electrolyte_sensitive", "molar_mass", "base_equivalents",
-    "acid_value", "cation_valence", "neutralisation_water", "viscosity_mpas")
+    "acid_value", "cation_valence", "neutralisation_water", "water_number", "viscosity_mpas")
 
 
 @register
@@ -30,8 +30,9 @@ class UnverifiedValue(Rule):
 
     Flags: for each formula line, the library values among those the check uses (HLB, required
     HLB, solubility, ionic character, density, pH window, electrolyte sensitivity, molar mass,
-    base equivalents, acid value, cation valence, viscosity) whose evidence is "from memory" or
-    "rule of thumb"; one finding per ingredient and kind of evidence, naming the properties.
+    base equivalents, acid value, cation valence, water number, viscosity) whose evidence is
+    "from memory" or "rule of thumb"; one finding per ingredient and kind of evidence, naming
+    the properties.
     Why: a reviewer signs a formula off on its numbers; a value nobody checked against a
     published source or a supplier's certificate is an open item before a trial, however
     plausible it looks (regulatory.md: every default and unverified value must be shown).

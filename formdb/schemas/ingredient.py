@@ -103,6 +103,10 @@ class IngredientProperties(BaseModel):
     neutralisation_water: float | None = Field(
         None, ge=0, le=1, json_schema_extra=_unit("mol H2O/equivalent"),
         description="water released per equivalent neutralised (NaOH 1, MgO 0.5, amines 0)")
+    water_number: float | None = Field(
+        None, gt=0, le=1000, json_schema_extra=_unit("g water/100 g"),
+        description="water 100 g of it takes up as a W/O emulsion with no other emulsifier "
+                    "(an absorption base's water number: wool fat about 80)")
     viscosity_mpas: float | None = Field(
         None, gt=0, le=1e7, json_schema_extra=_unit("mPa·s"),
         description="viscosity at about 25 °C")
