@@ -1,9 +1,5 @@
 """The shortcuts a large ingredient import takes give what the general paths give.
 
-- ``validate_cells`` builds a row's ingredient without validating again what reading its cells
-  checked; with or without that shortcut every row gives the same ingredient (equal, with the
-  same fields set) or the same problems, for the seed, synthetic rows and rows built to fall
-  outside what the shortcut vouches for;
 - ``added_payload`` (a new ingredient's change-log payload, written as text in one pass) is
   ``payload_text(typed_changes(None, fields_of(item)))`` byte for byte, for every seed
   ingredient and synthetic ones;
@@ -29,7 +25,7 @@ from sqlalchemy import Table, insert, select
 from formdb.bench import library, synthetic
 from formdb.schemas.ingredient import IngredientIn, IngredientProperties
 from formdb.schemas.vocab import Role
-from formdb.services.library import ingredient_rows, ingredients
+from formdb.services.library import ingredients
 from formdb.services.library.ingredient_log import added_payload, fields_of, typed_changes
 from formdb.services.library.ingredient_rows import FileRow, empty_cells, overlay, validate_cells
 from formdb.services.library.ingredients import import_table
@@ -51,61 +47,6 @@ def _items() -> Iterator[object]:
         item, problems = validate_cells(cells, sources)
         assert item is not None, problems
         yield item
-
-
-def _edge_rows() -> Iterator[dict[str, str]]:
-    """Rows at and past the edges of what the shortcut takes on trust."""
-    base = {"inci_name": "Larkspur Seed Oil", "hlb": "4.5", "hlb_source": "from-memory",
-            "roles": "emollient", "cas": "7732-18-5"}
-    yield base
-    yield {**base, "inci_name": "Cafe\u0301 Oil"}  # not NFC: the model normalises it
-    yield {**base, "inci_name": "Zero\u200bWidth Oil"}  # refused by the model
-    yield {**base, "inci_name": "x" * 200}
-    yield {**base, "inci_name": "x" * 201}
-    yield {**base, "synonyms": "Cafe\u0301 Seed Oil; Plain Oil"}
-    yield {**base, "synonyms": "Bell\x07 Oil"}
-    yield {**base, "synonyms": "y" * 201}
-    yield {**base, "synonyms": "Larkspur  Seed   Oil"}  # the INCI name again
-    yield {**base, "ph_min": "7", "ph_min_source": "from-memory", "ph_max": "5",
-           "ph_max_source": "from-memory"}
-    yield {**base, "use_min_percent": "5", "use_min_percent_source": "from-memory",
-           "use_max_percent": "5", "use_max_percent_source": "from-memory"}
-    yield {**base, "use_min_percent": "6", "use_min_percent_source": "from-memory",
-           "use_max_percent": "5", "use_max_percent_source": "from-memory"}
-    yield {**base, "roles": "emollient; thickener; emollient", "classes": "paraben; paraben"}
-    yield {**base, "roles": "wizard"}
-    yield {**base, "cas": "7732-18-5; 7732-18-5; 64-17-5"}
-    yield {**base, "cas": "7732-18-4"}
-    yield {**base, "solubility": "oil", "solubility_source": "from-memory",
-           "ethoxylated": "no", "ethoxylated_source": "from-memory", "cation_valence": "2",
-           "cation_valence_source": "from-memory", "density": "850 kg/m3",
-           "density_source": "from-memory", "density_note": "at 20 °C"}
-    yield {**base, "hlb_source": ""}
-    yield {**base, "hlb": "51"}
-
-
-def test_the_validation_shortcut_gives_what_the_model_gives(
-        monkeypatch: pytest.MonkeyPatch) -> None:
-    sources = dict.fromkeys((synthetic.SOURCE_KEY, "rule-of-thumb", "from-memory"), "published")
-    rows = [*synthetic.seed_rows(), *synthetic.synthetic_ingredient_rows(300, seed=5),
-            *_edge_rows()]
-    for row in rows:
-        sources.update({v: "published" for c, v in row.items() if c.endswith("_source") and v})
-    shortcut = [validate_cells(dict(row), sources) for row in rows]
-    monkeypatch.setattr(ingredient_rows, "_checked_ingredient", lambda *_args: None)
-    model = [validate_cells(dict(row), sources) for row in rows]
-    taken = 0
-    for row, (fast, fast_problems), (slow, slow_problems) in zip(rows, shortcut, model,
-                                                                 strict=True):
-        assert fast_problems == slow_problems, row
-        assert fast == slow, row
-        if fast is not None and slow is not None:
-            assert fast.model_fields_set == slow.model_fields_set
-            assert fast.properties.model_fields_set == slow.properties.model_fields_set
-            assert fast.model_dump() == slow.model_dump()
-            taken += 1
-    assert taken > 400  # the shortcut was taken, and the refusals were compared too
-    assert sum(p != [] for _item, p in model) >= 6
 
 
 def _general(item: IngredientIn, via: str | None) -> str:

@@ -11,12 +11,9 @@ from collections.abc import Mapping
 from dataclasses import dataclass, field
 from functools import lru_cache
 from operator import itemgetter
-from typing import Any
-from unicodedata import is_normalized
 
 from pydantic import ValidationError
 
-from formdb.schemas.bounds import MAX_NAME_CHARS
 from formdb.schemas.cells import render_property
 from formdb.schemas.ingredient import (
     PROPERTY_NAMES,
@@ -25,7 +22,6 @@ from formdb.schemas.ingredient import (
     name_key,
     normalise_inci,
 )
-from formdb.schemas.vocab import Role
 from formdb.services.library.ingredient_fields import (
     KNOWN_COLUMNS,
     LIST_FIELDS,
@@ -139,7 +135,7 @@ def validate_cells(cells: Mapping[str, str], sources: Mapping[str, str],
     for synonym in lists["synonyms"]:
         if name and name_key(synonym) == name_key(name):
             problems.append(("synonyms", f"synonym {synonym!r} repeats the INCI name"))
-    values: dict[str, Any] = {}
+    values: dict[str, object] = {}
     chosen: dict[str, str] = {}
     notes: dict[str, str] = {}
     wanting: dict[tuple[str, str], list[str]] = {}
@@ -160,9 +156,6 @@ def validate_cells(cells: Mapping[str, str], sources: Mapping[str, str],
     problems += _source_problems(wanting, sources)
     if problems:
         return None, problems
-    checked = _checked_ingredient(name, lists, values, chosen, notes)
-    if checked is not None:
-        return checked, []
     try:
         item = IngredientIn(
             inci_name=name, synonyms=tuple(lists["synonyms"]), cas_numbers=tuple(lists["cas"]),
@@ -177,36 +170,6 @@ def validate_cells(cells: Mapping[str, str], sources: Mapping[str, str],
             problems.append((located, message))
         return None, problems
     return item, []
-
-
-_ROLES = {role.value: role for role in Role}
-_ORDERED = (("ph_min", "ph_max"), ("use_min_percent", "use_max_percent"))
-
-
-def _checked_ingredient(name: str, lists: Mapping[str, list[str]], values: dict[str, Any],
-                        sources: dict[str, str], notes: dict[str, str]) -> IngredientIn | None:
-    """The ingredient, built without validating again what reading the cells has checked (each
-    number against the model's own bounds, each CAS check digit, each role and class word, each
-    value's source), or None when anything is beyond what that reading vouches for: then
-    ``IngredientIn`` validates, and words any refusal, as ever. A large import builds tens of
-    thousands; tests/services/test_import_shortcuts.py holds the two ways to the same model."""
-    if len(name) > MAX_NAME_CHARS or not name.isprintable():  # normalise_inci made it NFC
-        return None  # IngredientIn's clean_name would refuse it
-    synonyms = lists["synonyms"]
-    for synonym in synonyms:
-        if (len(synonym) > MAX_NAME_CHARS or not synonym.isprintable()
-                or not is_normalized("NFC", synonym)):
-            return None
-    for low, high in _ORDERED:
-        lo, hi = values.get(low), values.get(high)
-        if lo is not None and hi is not None and lo > hi:
-            return None
-    roles = tuple(_ROLES[word] for word in lists["roles"])  # the reading gives role values
-    return IngredientIn.model_construct(
-        inci_name=name, synonyms=tuple(synonyms), cas_numbers=tuple(lists["cas"]),
-        roles=roles, classes=tuple(lists["classes"]),
-        properties=IngredientProperties.model_construct(**values),
-        sources=sources, notes=notes)
 
 
 @dataclass
