@@ -402,3 +402,12 @@ def test_eye_make_up_and_sun_care_products(library: Library) -> None:
     eyes = by_entry(lim(library, formula([("Methyl Salicylate", 0.01, None)],
                                          product="eye make-up")), "III/324")
     assert eyes.severity.value == "error" and eyes.values["part"] == "c"
+
+
+def test_cinnamal_named_on_the_label(library: Library) -> None:
+    """Annex III/76 cinnamal (Regulation (EC) No 1223/2009): named in the list of ingredients above
+    0.001 % in a leave-on product, whatever the placing date."""
+    text = formula([("Cinnamal", 0.05, "fragrance")], product="body lotion",
+                   extra="placed_on = 2026-03-01")
+    named = [f for f in lim(library, text, code="ALG01") if f.message.startswith("must be named")]
+    assert named and [i.casefold() for i in named[0].ingredients] == ["cinnamal"]

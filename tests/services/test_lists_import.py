@@ -234,6 +234,17 @@ def test_scope_written_in_the_maximum_cell_v_57_and_v_7() -> None:
 
 
 @needs_exports
+def test_labelled_allergens_cinnamal_included() -> None:
+    """Annex III/76 cinnamal, one of the allergens of Regulation (EC) No 1223/2009 as adopted
+    (0.001 % leave-on, 0.01 % rinse-off), is written in the export with the labelling article of
+    the old Directive ("Article 6(1)g"); it is an allergen all the same. The export of
+    31/10/2025 carries the labelling condition in 81 entries of Annex III."""
+    cinnamal = one("III", "76")
+    assert cinnamal.allergen and not cinnamal.extended_allergen
+    assert sum(e.allergen for es in entries("III").values() for e in es) == 81
+
+
+@needs_exports
 def test_counts_and_coverage() -> None:
     """Entry counts as the export's README gives them; more than 90 % of parts structured."""
     counts = {a: sum(len(v) for v in entries(a).values()) for a in ("II", "III", "IV", "V", "VI")}

@@ -344,7 +344,9 @@ _PH = re.compile(r"pH\s*(?:(?:from\s*)?(\d+(?:[.,]\d+)?)\s*(?:to|-)\s*|(?:up to|
 _NOT_PRESERVATIVE = re.compile(r"other than inhibiting|other than (?:as a )?preservati", re.I)
 _AS_PRESERVATIVE = re.compile(r"\bas (?:a )?preservative\b", re.I)
 _EXCEPT = re.compile(r"\b(?:except|unless|with the exception of)\b", re.I)
-_ALLERGEN = re.compile(r"list of ingredients referred to in Article 19", re.I)
+# Art. 19(1)(g) of the Regulation; III/76 cinnamal still cites Art. 6(1)(g) of Directive
+# 76/768/EEC, the same labelling condition
+_ALLERGEN = re.compile(r"list of ingredients referred to in Article (?:19|6)\b", re.I)
 
 
 def conditions_of(text: str) -> tuple[str, ...]:
