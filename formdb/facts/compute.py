@@ -39,7 +39,7 @@ def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
     settings = settings or FactsSettings()
     work = Work(remaining={ln.line_no: ln.percent for ln in formula.lines})
     form_soaps(formula, reference, work)
-    lines = line_facts(formula, work)
+    lines = line_facts(formula, work, settings.trace_phase_percent)
     emulsifiers = hlb.emulsifiers(formula, lines, work)
     emulsifier_percent = sum(e.percent for e in emulsifiers)
     by_no = {ln.line_no: ln.ingredient for ln in formula.lines}

@@ -15,13 +15,18 @@ from __future__ import annotations
 from formdb.facts.work import Work
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.ingredient import IngredientRecord
-from formdb.schemas.result import LineFacts, PhaseName
+from formdb.schemas.result import DEFAULT_TRACE_PHASE_PERCENT, LineFacts, PhaseName
 from formdb.schemas.vocab import Role, Solubility
 
 OIL_ROLES = frozenset({Role.OIL, Role.WAX, Role.BUTTER, Role.FATTY_ALCOHOL, Role.FATTY_ACID,
                        Role.SILICONE, Role.EMOLLIENT})
 # oil-phase ingredients whose need the emulsifiers must meet (counted in the required HLB)
 OIL_NEED_ROLES = OIL_ROLES | {Role.CO_EMULSIFIER, Role.UV_FILTER}
+# an additive below the trace threshold is dissolved, not an oil to emulsify (rule of thumb, as
+# for the kind: a perfume, a preservative or an antioxidant at a fraction of a percent), so it is
+# no member of the required HLB even where another role (ethylhexylglycerin: emollient) says oil
+ADDITIVE_ROLES = frozenset({Role.PRESERVATIVE, Role.FRAGRANCE, Role.ANTIOXIDANT, Role.ALLERGEN,
+                            Role.COLOURANT})
 WATER_ROLES = frozenset({Role.WATER, Role.HUMECTANT, Role.ELECTROLYTE, Role.THICKENER,
                          Role.PH_ADJUSTER, Role.NEUTRALISER, Role.CHELATOR})
 SOLID_ROLES = frozenset({Role.PIGMENT})
@@ -83,8 +88,10 @@ def place_line(ing: IngredientRecord) -> tuple[PhaseName, str]:
     return "none", "no solubility or phase role"
 
 
-def line_facts(formula: ResolvedFormula, work: Work) -> list[LineFacts]:
-    """Each line's phase, volume and what is left of it after soap formation."""
+def line_facts(formula: ResolvedFormula, work: Work,
+               trace_percent: float = DEFAULT_TRACE_PHASE_PERCENT) -> list[LineFacts]:
+    """Each line's phase, volume and what is left of it after soap formation; an additive below
+    ``trace_percent`` is not counted in the required HLB."""
     out = []
     for ln in formula.lines:
         ing = ln.ingredient
@@ -97,7 +104,8 @@ def line_facts(formula: ResolvedFormula, work: Work) -> list[LineFacts]:
             if reason == "no solubility or phase role":
                 work.gap("solubility", ing.inci_name, "phase assignment (dispersed_fraction)")
         remaining = work.remaining[ln.line_no]
-        member = (phase == "oil" and not emulsifier and remaining > 0
+        trace_additive = bool(ing.roles & ADDITIVE_ROLES) and remaining < trace_percent
+        member = (phase == "oil" and not emulsifier and remaining > 0 and not trace_additive
                   and (bool(ing.roles & OIL_NEED_ROLES) or ing.p.required_hlb_ow is not None
                        or ing.p.required_hlb_wo is not None))
         density = ing.p.density
