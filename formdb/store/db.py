@@ -380,9 +380,16 @@ def upgrade_to_head(engine: Engine, script_location: Path | None = None) -> str:
     return head_revision(script_location)
 
 
-def downgrade(engine: Engine, revision: str, script_location: Path | None = None) -> None:
-    """Step the schema down to ``revision`` ("base" removes every table)."""
-    _migrate(engine, "downgrade", revision, script_location)
+def downgrade(engine: Engine, revision: str, script_location: Path | None = None,
+              then: Callable[[Connection], None] | None = None) -> None:
+    """Step the schema down to ``revision`` ("base" removes every table); ``then`` runs on the
+    same connection afterwards, in the same transaction."""
+    from alembic import command
+
+    with _migration_connection(engine) as conn:
+        command.downgrade(alembic_config(conn, script_location), revision)
+        if then is not None:
+            then(conn)
 
 
 def upgrade(engine: Engine, revision: str, script_location: Path | None = None) -> None:

@@ -11,6 +11,7 @@ with tests.helpers.run_as); the PostgreSQL login variants are tests/store/test_l
 
 from __future__ import annotations
 
+import hashlib
 import json
 import zipfile
 from pathlib import Path
@@ -39,6 +40,15 @@ def _sql(url: str, statement: str) -> None:
     try:
         with engine.begin() as conn:
             conn.execute(text(statement))
+    finally:
+        engine.dispose()
+
+
+def _rows(url: str, statement: str) -> list[tuple[object, ...]]:
+    engine = make_engine(url)
+    try:
+        with engine.connect() as conn:
+            return [tuple(r) for r in conn.execute(text(statement))]
     finally:
         engine.dispose()
 
@@ -79,6 +89,19 @@ def test_downgrade_below_the_audit_revision_is_refused_while_sealed_rows_exist(
     with zipfile.ZipFile(backup) as archive:
         rows = archive.read("tables/change_log.jsonl").decode().splitlines()
     assert rows and all(json.loads(r)["row_hash"] for r in rows)
+    # the discarded history leaves a trace: who, what and the backup's digest, in the log
+    # (unsealed at this revision), sealed by the next upgrade and kept from then on
+    digest = hashlib.sha256(backup.read_bytes()).hexdigest()
+    trace = ("SELECT \"user\", reason FROM change_log WHERE entity = 'database' AND "
+             "action = 'discard'")
+    [(who, reason)] = _rows(library, trace)
+    assert who == "boss" and f"sha256 {digest}" in str(reason)
+    assert "sealed rows of change_log" in str(reason)
+    up = run_as("boss", ["--db", library, "db", "upgrade"])
+    assert up.exit_code == 0, up.stderr
+    assert _rows(library, trace) == [(who, reason)]
+    verified = run_as("boss", ["--db", library, "audit", "verify"])
+    assert verified.exit_code == 0, verified.stdout + verified.stderr
 
 
 @pytest.mark.slow  # seconds per run: left out of the fast lane

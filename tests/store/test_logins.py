@@ -639,3 +639,13 @@ def test_the_owner_may_discard_the_sealed_history_after_a_backup(owned_team: Tea
         rows = archive.read("tables/change_log.jsonl").decode().splitlines()
     assert rows and all(json.loads(r)["row_hash"] for r in rows)
     assert _rows(team.url, "SELECT version_num FROM alembic_version") == [(BELOW_AUDIT,)]
+    # the discard is on the log under the owner's login, and stays once upgraded and sealed
+    trace = ("SELECT \"user\", reason FROM change_log WHERE entity = 'database' AND "
+             "action = 'discard'")
+    [(who, reason)] = _rows(team.url, trace)
+    assert who == make_url(team.url).username and "sha256 " in str(reason)
+    up = run_formdb(["--db", team.url, "db", "upgrade"])
+    assert up.exit_code == 0, up.stderr
+    assert _rows(team.url, trace) == [(who, reason)]
+    verified = run_formdb(["--db", team.url, "audit", "verify"])
+    assert verified.exit_code == 0, verified.stdout + verified.stderr

@@ -15,7 +15,7 @@ import json
 import sqlite3
 import zipfile
 from collections.abc import Callable, Iterable, Iterator
-from datetime import date, datetime
+from datetime import UTC, date, datetime
 from pathlib import Path
 from typing import Any
 
@@ -233,10 +233,36 @@ def downgrade(url: str, revision: str, *, user: str, confirm: bool,
             write_backup()
         elif backup_to is not None:
             backup(url, backup_to)
-        store.downgrade(engine, revision)
+        trace = _discard_trace(user, revision, what, backup_to) \
+            if lost and backup_to is not None else None
+        store.downgrade(engine, revision, then=trace)
         return Plan(action, tuple(changes), True)
     finally:
         engine.dispose()
+
+
+def _discard_trace(user: str, revision: str, what: str,
+                   backup_to: Path) -> Callable[[Connection], None]:
+    """A change-log row saying that sealed history was discarded, by whom, and where its backup
+    is (with the backup's SHA-256), written in the downgrade's transaction in the change log's
+    older, unsealed form; the next upgrade seals it with the rest, so discarded history is
+    never silent. Skipped where the change log keeps its seals (an unsealed row there would
+    break the chain): what goes then is the review or policy tables, not the log's seals."""
+    import hashlib
+
+    digest = hashlib.sha256(backup_to.read_bytes()).hexdigest()
+    note = f"sealed history discarded: {what}; backup {backup_to.name} sha256 {digest}"
+
+    def write(conn: Connection) -> None:
+        if "change_log" not in inspect(conn).get_table_names():
+            return
+        log = Table("change_log", MetaData(), autoload_with=conn)
+        if "row_hash" in log.c:
+            return
+        row = {"at": datetime.now(UTC), "user": user, "entity": "database",
+               "entity_key": revision, "action": "discard", "reason": note}
+        conn.execute(log.insert().values({k: v for k, v in row.items() if k in log.c}))
+    return write
 
 
 def _shape_changes(old: store.TableShape, new: store.TableShape) -> list[str]:
