@@ -68,8 +68,8 @@ class EmulsionTypeCheck(Rule):
       none      | T           | any          | any              | T                    | yes
       T         | U (differs) | any          | any              | more emulsifier mass | no
       none      | none        | T            | any              | T                    | no
-      none      | none        | none         | T                | T                    | no
       between   | none        | none         | any              | no prediction        | -
+      none      | none        | none         | T                | T                    | no
       none      | none        | none         | none             | no prediction        | -
     (the split decides only where no member has a Griffin HLB; "between": a blend HLB in the
     gap between the classes, which the vote of member masses does not overrule)

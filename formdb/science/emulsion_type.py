@@ -18,8 +18,8 @@ oil-soluble and still makes O/W, because the blend's HLB (8.58) is what the inte
 | none | T | any | any | T | yes |
 | T | U (differs) | any | any | the one behind more emulsifier mass | no |
 | none | none | T | any | T | no |
-| none (no blend HLB at all) | none | none | T | T | no |
 | none (blend HLB between the classes) | none | none | any | no prediction | - |
+| none (no blend HLB at all) | none | none | T | T | no |
 | none | none | none | none | no prediction | - |
 
 "none" is no indicator: no blend HLB (or one in the gap between the classes), no soap or ionic
