@@ -50,10 +50,10 @@ PRODUCTS: dict[str, Product] = {
     # SCCS NoG 12 Table 3A/3B sun care (whole-body amounts: body products) and eye make-up
     "sunscreen lotion": _p("body"),
     "sunscreen cream": _p("body"),
-    "eye make-up": _p("eye", "make-up", maybe="eye shadow, mascara, eyeliner"),
-    "mascara": _p("eye", "mascara, make-up"),
-    "eyeliner": _p("eye", "eyeliner, make-up"),
-    "make-up remover": _p("face, eye", "make-up"),
+    "eye make-up": _p("eye", "eye make-up", maybe="eye shadow, mascara, eyeliner"),
+    "mascara": _p("eye", "mascara, eye make-up"),
+    "eyeliner": _p("eye", "eyeliner, eye make-up"),
+    "make-up remover": _p("face, eye", "make-up remover"),
 }
 
 # library roles that say what a line is for (the first word the annexes would use)
@@ -106,6 +106,15 @@ def _all(*states: bool | None) -> bool | None:
     return True
 
 
+# "skin products" are the face's, the body's, the hands' and the feet's alike (III/12 (b), III/324
+# (a) leave-on skin products 0.06 %: a face cream is one)
+_AREAS = {"skin": ("body", "face", "hand", "foot")}
+
+
+def _areas(areas: tuple[str, ...]) -> set[str]:
+    return {a for area in areas for a in _AREAS.get(area, (area,))}
+
+
 def scope_fits(scope: Scope, formula: ResolvedFormula, purpose: str | None) -> bool | None:
     """True, False or None (not enough said) for one part's scope against the formula."""
     if scope.empty:
@@ -122,7 +131,7 @@ def scope_fits(scope: Scope, formula: ResolvedFormula, purpose: str | None) -> b
     if scope.areas or kinds:
         if product is None:
             states.append(None)
-        elif product.areas & set(scope.areas) or product.products & kinds:
+        elif product.areas & _areas(scope.areas) or product.products & kinds:
             states.append(True)
         else:
             states.append(None if product.maybe & kinds else False)
@@ -131,7 +140,7 @@ def scope_fits(scope: Scope, formula: ResolvedFormula, purpose: str | None) -> b
     if scope.excluded_areas or scope.excluded_products:
         if product is None:
             states.append(None)
-        elif product.areas & set(scope.excluded_areas) or \
+        elif product.areas & _areas(scope.excluded_areas) or \
                 product.products & set(scope.excluded_products):
             # exceptions read from text the parser did not wholly understand ("except
             # spray/aerosol body lotion") may exclude less than they seem to: a person decides

@@ -275,6 +275,17 @@ def test_methyl_salicylate_parts_by_product(library: Library) -> None:
     lotion = by_entry(lim(library, formula([("Methyl Salicylate", 0.05, None)],
                                            product="body lotion")), "III/324")
     assert lotion.severity.value != "error" and "f" not in lotion.values["part"].split(", ")
+    # a face cream is a leave-on skin product (a) 0.06 %; a shampoo a rinse-off hair product (g)
+    # 0.06 % (the "(except hand wash)" bracket excludes hand wash only)
+    face = by_entry(lim(library, formula([("Methyl Salicylate", 0.05, None)],
+                                         product="face cream")), "III/324")
+    assert face.severity.value == "info" and face.values["part"] == "a"
+    shampoo = by_entry(lim(library, formula([("Methyl Salicylate", 0.05, None)], "rinse-off",
+                                            product="shampoo")), "III/324")
+    assert shampoo.severity.value == "info" and shampoo.values["part"] == "g"
+    foundation = by_entry(lim(library, formula([("Methyl Salicylate", 0.04, None)],
+                                               product="liquid foundation")), "III/324")
+    assert foundation.severity.value != "error" and "b" in foundation.values["part"]
 
 
 def test_triclosan_not_in_spray_deodorants(library: Library) -> None:

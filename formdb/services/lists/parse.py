@@ -211,7 +211,9 @@ _TERMS: tuple[tuple[str, str, str], ...] = (
     (r"hair lotions?", "product", "hair lotion"),
     (r"astringent lotions?", "product", "astringent lotion"),
     (r"tooth (?:whitening|bleaching)(?: or bleaching)?", "product", "tooth whitening"),
-    (r"face make-?up|make-?up remover|eye make-?up", "product", "make-up"),
+    (r"eye make-?up", "product", "eye make-up"),
+    (r"make-?up remover", "product", "make-up remover"),
+    (r"face make-?up", "product", "make-up"),
     (r"hand wash|hand soaps?", "product", "hand wash"),
     (r"tooth ?pastes?", "product", "toothpaste"),
     (r"mouth ?(?:wash|rinse)e?s?", "product", "mouthwash"),
@@ -242,7 +244,8 @@ _TERMS: tuple[tuple[str, str, str], ...] = (
     (r"nails?|cuticles?", "area", "nail"),
     (r"hands?\b", "area", "hand"),
     (r"foot|feet", "area", "foot"),
-    (r"body|skin", "area", "body"),
+    (r"body", "area", "body"),
+    (r"skin", "area", "skin"),
     (r"mucous membranes?", "area", "mucous membrane"),
     (r"ph[- ]?ad?juster", "purpose", "ph adjuster"),
     (r"solvents?", "purpose", "solvent"),
@@ -279,6 +282,10 @@ def _terms(text: str) -> tuple[dict[str, list[str]], str]:
     return found, rest
 
 
+_BRACKETED_EXCEPTION = re.compile(r"\(\s*(?:except(?:ing|ion)?|excluding|with the exception of)\b"
+                                  r"([^()]*)\)", re.I)
+
+
 def parse_scope(text: str) -> Scope:
     """The structured scope of a "Product Type, body parts" text (one part)."""
     body = clean(text)
@@ -289,8 +296,14 @@ def parse_scope(text: str) -> Scope:
     exception = re.search(r"\b(?:except(?:ing|ion)?|excluding|with the exception of|other "
                           r"than)\b", low)
     positive_text, excluded_text = body, ""
+    bracketed = list(_BRACKETED_EXCEPTION.finditer(body))
     if negative:
         positive_text, excluded_text = body[:negative.start()], body[negative.end():]
+    elif bracketed:
+        # "Leave-on skin products (except face makeup, ...) and leave on hair products (except
+        # spray/aerosol products)": each exception is its bracket, the rest is what is covered
+        positive_text = _BRACKETED_EXCEPTION.sub(" ", body)
+        excluded_text = " ".join(m.group(1) for m in bracketed)
     elif exception:
         positive_text, excluded_text = body[:exception.start()], body[exception.end():]
     not_in: list[str] = []
