@@ -27,9 +27,18 @@ class _Member:
 
 
 def _members(formula: ResolvedFormula, facts: FormulaFacts) -> list[_Member]:
-    out = [_Member(ln.ingredient.inci_name, ln.ingredient.inci_name, ln.percent,
-                   Sides.of_record(ln.ingredient), frozenset({ln.line_no}))
-           for ln in formula.lines]
+    """One member per ingredient (its lines together: one ingredient written on several lines
+    clashes once with each other ingredient, at its total, not once per pair of lines), then
+    each soap formed in place."""
+    by_name: dict[str, _Member] = {}
+    for ln in formula.lines:
+        name = ln.ingredient.inci_name
+        seen = by_name.get(name)
+        by_name[name] = (_Member(name, name, ln.percent, Sides.of_record(ln.ingredient),
+                                 frozenset({ln.line_no})) if seen is None else
+                         _Member(name, name, seen.percent + ln.percent, seen.sides,
+                                 seen.lines | {ln.line_no}))
+    out = list(by_name.values())
     out.extend(_Member(soap.soap, f"{soap.soap} (formed in place)", soap.soap_percent,
                        Sides.of(soap.soap, classes=soap.classes),
                        frozenset({soap.acid_line_no, soap.base_line_no}))
@@ -41,7 +50,8 @@ def _members(formula: ResolvedFormula, facts: FormulaFacts) -> list[_Member]:
 class IncompatiblePair(Rule):
     """Two ingredients whose classes are listed as incompatible are used together.
 
-    Flags: every pair of lines (soap formed in the batch joins the class "carboxylate soap")
+    Flags: every pair of ingredients (one written on several lines counts once, at its total;
+    soap formed in the batch joins the class "carboxylate soap")
     whose compatibility classes, or names, match a row of the incompatibility table; the
     severity, reason and advice come from that row, not from code.
     Why: opposite charges pair up and precipitate or lose activity; polyanions collapse with

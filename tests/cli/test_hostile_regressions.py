@@ -118,6 +118,22 @@ def test_one_ingredient_on_two_lines_over_100_with_a_product(seeded_library_url:
         assert result.exit_code == 1, result  # the total is off: an error finding, not a crash
 
 
+def test_one_ingredient_on_many_lines_clashes_once(seeded_library_url: str,
+                                                    tmp_path: Path) -> None:
+    """Found by hand: a 1,000-line formula (the most a file may hold) repeating a few
+    emulsifiers gave a clash finding per pair of lines, 26,000 findings and 20 s of CPU to
+    print; an ingredient on several lines is one ingredient, at its total."""
+    path = _formula(tmp_path / "repeated.toml", [("Aqua", 88), *[
+        ("Sodium Lauryl Sulfate", 1), ("Cetrimonium Chloride", 1)] * 6])
+    checked = run_formdb(["--db", seeded_library_url, "check", str(path), "--format", "json"])
+    assert checked.exit_code == 1, checked.stderr
+    result = json.loads(checked.stdout)
+    result = result[0] if isinstance(result, list) else result
+    clashes = [f for f in result["findings"] if f["rule"] == "ION01"]
+    assert len(clashes) == 1, clashes
+    assert {clashes[0]["values"]["percent_a"], clashes[0]["values"]["percent_b"]} == {6.0}
+
+
 def test_deeply_nested_toml_is_refused(sqlite_url: str, tmp_path: Path) -> None:
     path = tmp_path / "nested.toml"
     path.write_text('name = "x"\ncategory = "leave-on"\nx = ' + "[" * 5000 + "]" * 5000 + "\n",
