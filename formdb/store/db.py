@@ -329,12 +329,33 @@ def _migration_connection(engine: Engine) -> Iterator[Connection]:
                 raw.execute("PRAGMA foreign_keys=ON")
 
 
+@contextmanager
+def _owner_only(engine: Engine) -> Iterator[None]:
+    """A schema change the server refused for lack of privilege (PostgreSQL: only the owner
+    of the tables may alter them, whatever formdb role the login has) as one line saying so,
+    rather than naming the duty of whichever table the migration touched first."""
+    try:
+        yield
+    except DBAPIError as exc:
+        if _sqlstate(exc) != "42501" or "formdb: " in str(getattr(exc, "orig", "")):
+            raise
+        from formdb.errors import Forbidden
+        from formdb.store.identity import identity_of
+
+        login = identity_of(engine)
+        raise Forbidden(f"your login {login} may not change the schema of "
+                        f"{display_url(engine.url)}: migrations run as the login that owns "
+                        "its tables.", hint="run the command logged in as the owner (a formdb "
+                        "admin too: see the README's team section); nothing was changed"
+                        ) from None
+
+
 def _migrate(engine: Engine, direction: str, revision: str,
              script_location: Path | None = None) -> None:
     from alembic import command
 
     run = command.upgrade if direction == "upgrade" else command.downgrade
-    with _migration_connection(engine) as conn:
+    with _owner_only(engine), _migration_connection(engine) as conn:
         run(alembic_config(conn, script_location), revision)
 
 
@@ -364,7 +385,7 @@ def rehearse(engine: Engine, direction: str, revision: str) -> tuple[TableShape,
     run = command.upgrade if direction == "upgrade" else command.downgrade
     shapes: list[TableShape] = []
     try:
-        with _migration_connection(engine) as conn:
+        with _owner_only(engine), _migration_connection(engine) as conn:
             shapes.append(table_shapes(conn))
             run(alembic_config(conn), revision)
             shapes.append(table_shapes(conn))
@@ -386,7 +407,7 @@ def downgrade(engine: Engine, revision: str, script_location: Path | None = None
     same connection afterwards, in the same transaction."""
     from alembic import command
 
-    with _migration_connection(engine) as conn:
+    with _owner_only(engine), _migration_connection(engine) as conn:
         command.downgrade(alembic_config(conn, script_location), revision)
         if then is not None:
             then(conn)
