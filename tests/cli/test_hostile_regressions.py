@@ -146,6 +146,65 @@ def test_deeply_nested_toml_is_refused(sqlite_url: str, tmp_path: Path) -> None:
              "nested deeper")
 
 
+def test_a_formula_or_profile_over_5_mb_is_refused(sqlite_url: str, tmp_path: Path) -> None:
+    from formdb.schemas.bounds import MAX_TOML_BYTES
+
+    padding = "#" + "x" * MAX_TOML_BYTES + "\n"
+    huge = tmp_path / "huge.toml"
+    huge.write_text('name = "x"\ncategory = "leave-on"\n' + padding, encoding="utf-8")
+    _refused(run_formdb(["--db", sqlite_url, "check", str(huge)]), "too large")
+    profile = tmp_path / "huge-profile.toml"
+    profile.write_text('name = "p"\n' + padding, encoding="utf-8")
+    formula = _formula(tmp_path / "ok.toml", [("Aqua", 100)])
+    _refused(run_formdb(["--db", sqlite_url, "check", str(formula), "--profile", str(profile)]),
+             "huge-profile.toml")
+
+
+def test_a_table_of_too_many_rows_is_refused(sqlite_url: str, tmp_path: Path,
+                                             monkeypatch: pytest.MonkeyPatch) -> None:
+    """The row bound (200,000 data rows), lowered here so the test stays small."""
+    import formdb.services.library.tables as tables
+
+    monkeypatch.setattr(tables, "MAX_TABLE_ROWS", 50)
+    rows = "".join(f"Larkspur Row {i},rule-of-thumb\n" for i in range(51))
+    path = tmp_path / "rows.csv"
+    path.write_text("inci_name,source\n" + rows, encoding="utf-8")
+    before = dump_database(sqlite_url)
+    _refused(run_formdb(["--db", sqlite_url, "ingredient", "import", str(path)]),
+             "more than 50 rows")
+    assert dump_database(sqlite_url) == before
+
+
+@pytest.mark.slow  # packing 600 MB: over a second
+def test_a_workbook_that_unpacks_too_far_is_not_read(sqlite_url: str, tmp_path: Path) -> None:
+    """A ZIP bomb: 600 MB of one repeated byte in a sheet, a few hundred KB packed."""
+    from openpyxl import Workbook
+
+    book = Workbook()
+    sheet = book.active
+    assert sheet is not None
+    sheet.append(["inci_name", "source"])
+    sheet.append(["Larkspur Bomb", "rule-of-thumb"])
+    plain = tmp_path / "plain.xlsx"
+    book.save(plain)
+    bomb = tmp_path / "bomb.xlsx"
+    with zipfile.ZipFile(plain) as source, \
+            zipfile.ZipFile(bomb, "w", zipfile.ZIP_DEFLATED) as target:
+        for item in source.infolist():
+            data = source.read(item)
+            if item.filename == "xl/worksheets/sheet1.xml":
+                with target.open(item.filename, "w") as out:
+                    out.write(data.replace(b"<sheetData>", b"<!--", 1))
+                    for _ in range(600):
+                        out.write(b"A" * 1_000_000)
+                    out.write(b"--><sheetData>" + data.split(b"<sheetData>", 1)[1])
+                continue
+            target.writestr(item, data)
+    assert bomb.stat().st_size < 5_000_000
+    _refused(run_formdb(["--db", sqlite_url, "ingredient", "import", str(bomb)]),
+             "unpacks to")
+
+
 def test_a_formula_of_too_many_lines_is_refused(sqlite_url: str, tmp_path: Path) -> None:
     path = _formula(tmp_path / "long.toml", [("Aqua", 0.05)] * 1001)
     _refused(run_formdb(["--db", sqlite_url, "check", str(path)]), "ingredients")
