@@ -81,6 +81,26 @@ def line_purpose(line: ResolvedLine | None, record: IngredientRecord) -> tuple[s
 FORMS = ("spray", "powder")
 
 
+def _group_fits(categories: tuple[str, ...], areas: tuple[str, ...], products: tuple[str, ...],
+                category: str, product: Product | None) -> bool | None:
+    """A category and a kind of product (or body area) named together: both must hold.
+
+    A spray or a powder among the products is the form the product must take ("body lotion
+    spray/aerosol"), asked of the product besides its kind (below), never instead of it."""
+    states: list[bool | None] = []
+    if categories:
+        states.append(category in categories)
+    kinds = set(products) - set(FORMS)
+    if areas or kinds:
+        if product is None:
+            states.append(None)
+        elif product.areas & _areas(areas) or product.products & kinds:
+            states.append(True)
+        else:
+            states.append(None if product.maybe & kinds else False)
+    return _all(*states)
+
+
 def _has_form(product: Product, form: str) -> bool | None:
     """Whether a product type of the table is sold in ``form`` (None: it may or may not be)."""
     if form == "spray" and product.spray:
@@ -122,19 +142,13 @@ def scope_fits(scope: Scope, formula: ResolvedFormula, purpose: str | None) -> b
     body = formula.formula
     product = PRODUCTS.get((body.product or "").strip().casefold())
     states: list[bool | None] = []
-    if scope.categories:
-        states.append(body.category.value in scope.categories)
-    # a spray or a powder in a part's products is the form the product must take ("body lotion
-    # spray/aerosol", "face products in loose powder form"), asked of the product besides its
-    # kind, never instead of it
-    kinds = set(scope.products) - set(FORMS)
-    if scope.areas or kinds:
-        if product is None:
-            states.append(None)
-        elif product.areas & _areas(scope.areas) or product.products & kinds:
-            states.append(True)
-        else:
-            states.append(None if product.maybe & kinds else False)
+    if scope.alternatives:
+        fits = [_group_fits(a.categories, a.areas, a.products, body.category.value, product)
+                for a in scope.alternatives]
+        states.append(True if True in fits else (None if None in fits else False))
+    else:
+        states.append(_group_fits(scope.categories, scope.areas, scope.products,
+                                  body.category.value, product))
     states.extend(None if product is None else _has_form(product, form)
                   for form in FORMS if form in scope.products)
     if scope.excluded_areas or scope.excluded_products:

@@ -33,6 +33,17 @@ ALLERGEN_EXTENSION_ACT = "(EU) 2023/1545"
 HAND_WRITTEN = " (hand-written seed rows)"
 
 
+class Alternative(BaseModel):
+    """One of several product groups a scope joins with "and" or commas, where they differ in
+    kind: "Other leave-on products and oral products" is leave-on products OR oral products."""
+
+    model_config = ConfigDict(frozen=True)
+
+    categories: tuple[str, ...] = ()
+    areas: tuple[str, ...] = ()
+    products: tuple[str, ...] = ()
+
+
 class Scope(BaseModel):
     """Which products a part covers, from the free text of "Product Type, body parts".
 
@@ -55,6 +66,8 @@ class Scope(BaseModel):
     not_in: tuple[str, ...] = ()
     professional: bool = False
     unparsed: str = ""
+    alternatives: tuple[Alternative, ...] = ()  # when set, any one of them (the flat terms are
+    # their union, for display)
 
     @property
     def empty(self) -> bool:

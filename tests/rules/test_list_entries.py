@@ -422,3 +422,19 @@ def test_cinnamal_named_on_the_label(library: Library) -> None:
                    extra="placed_on = 2026-03-01")
     named = [f for f in lim(library, text, code="ALG01") if f.message.startswith("must be named")]
     assert named and [i.casefold() for i in named[0].ingredients] == ["cinnamal"]
+
+
+def test_joined_product_groups_are_alternatives(library: Library) -> None:
+    """Annex III/102 methyl eugenol (Regulation (EC) No 1223/2009): (d) "other leave-on products
+    and oral products" 0.0002 % covers a face cream (leave-on) as well as a toothpaste (oral).
+    Annex V/60 hydroxyethoxyphenyl butanone (Reg. (EU) 2019/1858): 0.7 % "in rinse off, oral
+    care and leave-on cosmetic products": a face cream is covered."""
+    eugenol = by_entry(lim(library, formula([("Methyl Eugenol", 0.0001, None)],
+                                            product="face cream")), "III/102")
+    assert eugenol.severity.value == "info" and eugenol.values["part"] == "d"
+    over = by_entry(lim(library, formula([("Methyl Eugenol", 0.0005, None)],
+                                         product="face cream")), "III/102")
+    assert over.severity.value == "error" and over.values["part"] == "d"
+    hepb = by_entry(lim(library, formula([("Hydroxyethoxyphenyl Butanone", 0.5, "preservative")],
+                                         product="face cream")), "V/60")
+    assert hepb.severity.value == "info"

@@ -13,7 +13,7 @@ from collections.abc import Mapping
 
 from formdb.errors import InvalidData
 from formdb.schemas.cas import cas_is_valid
-from formdb.schemas.lists import ListEntry, Part, Scope
+from formdb.schemas.lists import Alternative, ListEntry, Part, Scope
 from formdb.services.lists.annex_file import REF, parse_day
 
 _NAME_COLUMNS = ("Name of Common Ingredients Glossary",
@@ -316,6 +316,7 @@ def parse_scope(text: str) -> Scope:
         excluded_text = _SPRAY.sub(" ", excluded_text)
     if _SPRAY.search(positive_text) and not negative and not exception:
         positive_text = _SPRAY.sub(" sprayproduct ", positive_text)
+    alternatives = _alternatives(positive_text)
     found, rest = _terms(positive_text)
     gone, rest_ex = _terms(excluded_text)
     other = bool(re.search(r"\b(?:other|others|all|any)\b", positive_text, re.I)) \
@@ -333,7 +334,27 @@ def parse_scope(text: str) -> Scope:
         excluded_areas=tuple(gone["area"]),
         excluded_products=tuple(gone["product"] + gone["category"]),
         not_in=tuple(not_in), professional="professional" in low,
-        unparsed=leftover if len(leftover) > 2 else "")
+        unparsed=leftover if len(leftover) > 2 else "", alternatives=alternatives)
+
+
+_JOINS = re.compile(r",|;|\band\b|\bor\b", re.I)
+
+
+def _alternatives(text: str) -> tuple[Alternative, ...]:
+    """The product groups of a scope joined by "and", "or" or commas, when some name a category
+    and others do not ("Other leave-on products and oral products"): then any one of them is
+    covered, not their intersection. () where the flat terms say the same."""
+    groups = []
+    for chunk in _JOINS.split(text):
+        found, _rest = _terms(chunk)
+        if found["category"] or found["area"] or found["product"]:
+            groups.append(Alternative(categories=tuple(found["category"]),
+                                      areas=tuple(found["area"]),
+                                      products=tuple(found["product"])))
+    with_category = [bool(g.categories) for g in groups]
+    if len(groups) < 2 or all(with_category) or not any(with_category):
+        return ()
+    return tuple(groups)
 
 
 # ----- conditions -----------------------------------------------------------------------------
