@@ -24,7 +24,7 @@ from formdb.report.html import environment
 from formdb.report.review_status import waived
 from formdb.report.sections import hlb_section, packing_section, prediction_section
 from formdb.report.view import finding_groups
-from formdb.schemas.lists import HAND_WRITTEN
+from formdb.schemas.lists import HAND_WRITTEN, export_list_name
 from formdb.schemas.result import CheckResult, round_value
 
 NOT_A_SUBSTITUTE = (
@@ -114,6 +114,13 @@ def _snapshots(filed: Any) -> list[ListSnapshot]:
              r["values"]["list_date"]) for r in filed.records if r["kind"] == "limit"
             and f"{r['values']['jurisdiction']} Annex "
                 f"{r['values']['list_name'].rsplit(' ', 1)[-1]}" not in imported}
+    # the exports the run's list findings rest on (their values name export and date)
+    for finding in filed.result.findings:
+        values = finding.values
+        if values.get("export") and values.get("list_date"):
+            jurisdiction, _, annex = str(values["list_name"]).partition(" Annex ")
+            seen.add((jurisdiction, export_list_name(annex, str(values["export"])),
+                      str(values["list_date"])))
     return [ListSnapshot(*s) for s in sorted(seen)]
 
 

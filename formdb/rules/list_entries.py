@@ -21,7 +21,7 @@ from formdb.rules.scoping import line_purpose, parts_for, purpose_fits, why
 from formdb.schemas.findings import Finding
 from formdb.schemas.formula import ResolvedFormula, ResolvedLine
 from formdb.schemas.ingredient import IngredientRecord, name_key
-from formdb.schemas.lists import ListEntry, Part
+from formdb.schemas.lists import ListEntry, Part, SnapshotInfo
 from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import FormulaFacts
 from formdb.schemas.vocab import Severity
@@ -40,6 +40,8 @@ class Item:
     line: ResolvedLine
     label: str
     entries: tuple[ListEntry, ...] = ()
+    # the snapshot in force of each (jurisdiction, annex): its export and date go in the values
+    exports: Mapping[tuple[str, str], SnapshotInfo] = field(default_factory=dict)
 
 
 @dataclass
@@ -89,8 +91,10 @@ def _items(formula: ResolvedFormula, reference: ReferenceData) -> list[Item]:
             share = 1.0 if not parts else (100.0 - declared) / 100.0
             out.append(Item(record, line.percent * share, line,
                             f"{line.inci} (line {line.line_no})"))
+    exports = {(s.jurisdiction, s.annex): s for s in reference.lists}
     for item in out:
         item.entries = reference.list_entries.get(_key(item.record.inci_name), ())
+        item.exports = exports
     return [i for i in out if i.entries]
 
 
@@ -388,9 +392,16 @@ def _reading(reading: str | None) -> str:
 
 
 def _values(entry: ListEntry, item: Item) -> dict[str, float | str | None]:
-    return {"entry": f"{entry.annex}/{entry.key}", "list_name": f"{entry.jurisdiction} Annex "
-            f"{entry.annex}", "regulation": entry.regulation, "percent": item.percent,
-            "matched": item.record.inci_name}
+    values: dict[str, float | str | None] = {
+        "entry": f"{entry.annex}/{entry.key}", "list_name": f"{entry.jurisdiction} Annex "
+        f"{entry.annex}", "regulation": entry.regulation, "percent": item.percent,
+        "matched": item.record.inci_name}
+    export = item.exports.get((entry.jurisdiction, entry.annex))
+    if export is not None:
+        # which dated snapshot the finding rests on, so a filed report can name it
+        values["export"] = f"{export.file_name}, file created {export.file_created:%d/%m/%Y}"
+        values["list_date"] = export.last_update.isoformat()
+    return values
 
 
 @register

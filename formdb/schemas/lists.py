@@ -33,6 +33,11 @@ ALLERGEN_EXTENSION_ACT = "(EU) 2023/1545"
 HAND_WRITTEN = " (hand-written seed rows)"
 
 
+def export_list_name(annex: str, export: str) -> str:
+    """How a report names an imported annex: ``export`` is "FILE, file created DD/MM/YYYY"."""
+    return f"Regulation (EC) No 1223/2009 Annex {annex} (Commission export {export})"
+
+
 class Alternative(BaseModel):
     """One of several product groups a scope joins with "and" or commas, where they differ in
     kind: "Other leave-on products and oral products" is leave-on products OR oral products."""

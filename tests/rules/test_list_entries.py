@@ -346,7 +346,12 @@ def test_filed_review_lists_the_conditions(library: Library, tmp_path: Path) -> 
     # III): the filed report's cautions do not name them
     from formdb.report.review import review_document
 
-    assert "hand-written" not in " ".join(review_document(filed)["cautions"])
+    cautions = " ".join(review_document(filed)["cautions"])
+    assert "hand-written" not in cautions
+    # the exports the findings rest on are named with their dates, as the check report names them
+    assert "Annex III (Commission export COSING_Annex_III_v2.txt, file created 11/11/2025) as " \
+        "of 2025-10-31" in cautions
+    assert "Annex V (Commission export COSING_Annex_V_v2.txt" in cautions
 
 
 def test_methylisothiazolinone_rinse_off_only(library: Library) -> None:

@@ -13,7 +13,7 @@ from sqlalchemy import func, select
 
 from formdb.rules.profiles import Profile, load_profile
 from formdb.rules.registry import default_registry
-from formdb.schemas.lists import HAND_WRITTEN
+from formdb.schemas.lists import HAND_WRITTEN, export_list_name
 from formdb.store.library import Library
 from formdb.store.lists import snapshots_in_force
 from formdb.store.models import LimitEntry
@@ -43,9 +43,9 @@ def limit_snapshots(library: Library,
             .order_by(LimitEntry.jurisdiction, LimitEntry.list_name)).all()
         imported = snapshots_in_force(session)
     covered = {(s.jurisdiction.casefold(), s.annex) for s in imported}
-    out = [(s.jurisdiction, f"Regulation (EC) No 1223/2009 Annex {s.annex} (Commission export "
-            f"{s.file_name}, file created {s.file_created:%d/%m/%Y})", s.last_update)
-           for s in imported]
+    out = [(s.jurisdiction, export_list_name(
+        s.annex, f"{s.file_name}, file created {s.file_created:%d/%m/%Y}"), s.last_update)
+        for s in imported]
     # marked whether or not anything is imported: a few hand-written entries of an annex are
     # never the annex, and the report must not read as if they were
     out += [(j, f"{name}{HAND_WRITTEN}", when) for j, name, when in rows
