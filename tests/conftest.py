@@ -18,7 +18,7 @@ environment variable FORMDB_HYPOTHESIS_PROFILE:
 
 - ``ci`` (the default): a tenth of the examples of the expensive property tests (those that
   run the real command or touch a database per example), so the whole suite fits CI's minutes;
-  the fuzz suite (tests/cli/test_hostile_input.py) is the exception: its 3,250 examples run in
+  the fuzz suite (tests/cli/test_hostile_input.py) is the exception: its 3,550 examples run in
   full, each kept cheap (``tests.helpers.fuzz_examples``);
 - ``deep``: every count in full, and three times the fuzz suite's. Run it before a release or
   after touching input parsing or import:

@@ -35,7 +35,7 @@ def examples(deep: int) -> int:
 
 def fuzz_examples(count: int) -> int:
     """How many examples a fuzz-suite test draws: its ``count`` in CI (the ``ci`` profile: the
-    suite's 3,250 run there in full), three times it under ``deep``."""
+    suite's 3,550 run there in full), three times it under ``deep``."""
     from hypothesis import settings
 
     return count * (3 if settings.default.max_examples >= 100 else 1)

@@ -6,16 +6,19 @@ line an ``Error:`` line, no traceback, and the library exactly as it was (a dete
 compared before and after). Exit 70 (an internal error) fails the example.
 
 Hypothesis with a fixed seed (``derandomize=True``: the same examples every run, no example
-database). The counts below run in CI (the default ``ci`` hypothesis profile), 3,250 examples in
+database). The counts below run in CI (the default ``ci`` hypothesis profile), 3,550 examples in
 all; ``FORMDB_HYPOTHESIS_PROFILE=deep`` draws three times as many. Each example is kept cheap
 instead of drawn less often: the command runs in-process, input files are rewritten in one
 module folder, a writing command starts from a file copy of the same small library, and the
 library is dumped (the "unchanged" check) only when its file's bytes changed:
 
-    formula files (check as text, JSON or HTML)      700
+    formula files (check as text, JSON or HTML;      700
+      label, blend, batch, formula import)
     profiles (check --profile FILE)                  450
     CSV import tables                                500
     XLSX import tables (and damaged workbooks)       250
+    record imports (source, toxicology, exposure,    300
+      mixture)
     ingredient edit --set                            500
     backup archives (db restore --yes)               200
     list exports (names in, list/export out)         300
@@ -244,12 +247,26 @@ def _is_toml_number(text: str) -> bool:
     return isinstance(value, int | float) and not isinstance(value, bool)
 
 
+FORMULA_COMMANDS = {  # every command that reads a formula file, and whether it writes
+    "check text": (["check", "--format", "text"], False),
+    "check json": (["check", "--format", "json"], False),
+    "check html": (["check", "--format", "html"], False),
+    "label": (["label"], False),
+    "blend": (["blend"], False),
+    "batch": (["batch", "--format", "csv"], False),
+    "formula import": (["formula", "import"], True),
+}
+
+
 @_settings(700)
-@given(text=formula_text(), fmt=st.sampled_from(["text", "json", "html"]))
-def test_fuzz_formula_files(library: str, scratch: Scratch, text: str, fmt: str) -> None:
+@given(text=formula_text(), command=st.sampled_from(sorted(FORMULA_COMMANDS)))
+def test_fuzz_formula_files(library: str, pristine: Path, scratch: Scratch, text: str,
+                            command: str) -> None:
     path = scratch.file("fuzz.toml", text)
-    result = _run(library, ["check", str(path), "--format", fmt], writes=False)
-    if fmt == "json" and result.exit_code in (0, 1):
+    args, writes = FORMULA_COMMANDS[command]
+    url = _fresh_copy(pristine, scratch) if writes else library
+    result = _run(url, [*args, str(path)], writes=writes)
+    if command == "check json" and result.exit_code in (0, 1):
         json.loads(result.stdout)
 
 
@@ -386,6 +403,40 @@ def test_fuzz_xlsx_import(pristine: Path, scratch: Scratch, rows: list[list[str]
         with zipfile.ZipFile(path, "a") as archive:
             archive.writestr("xl/worksheets/sheet1.xml", "<not xml")
     _run(_fresh_copy(pristine, scratch), ["ingredient", "import", str(path)], writes=True)
+
+
+# --- evidence records and mixtures: their own import tables -----------------------------------
+
+def _record_columns() -> dict[str, tuple[str, ...]]:
+    from formdb.services.library.evidence import KINDS
+    from formdb.services.library.mixtures import COLUMNS
+
+    return {**{name: tuple(kind.columns) for name, kind in KINDS.items()}, "mixture": COLUMNS}
+
+
+RECORD_COLUMNS = _record_columns()
+
+
+@_settings(300)
+@given(data=st.data(), kind=st.sampled_from(sorted(RECORD_COLUMNS)),
+       ending=st.sampled_from(["\n", "\r\n", "\r"]), dry_run=st.booleans())
+def test_fuzz_record_imports(pristine: Path, scratch: Scratch, data: st.DataObject, kind: str,
+                             ending: str, dry_run: bool) -> None:
+    """source, toxicology, exposure and mixture import: their columns (some left out, some
+    unknown) with hostile, numeric or plausible cells."""
+    columns = RECORD_COLUMNS[kind]
+    header = data.draw(st.lists(st.sampled_from([*columns, "unknown", ""]), min_size=1,
+                                max_size=len(columns) + 1, unique=True))
+    plausible = st.sampled_from([*INGREDIENTS, "rule-of-thumb", "from-memory", "50", "100",
+                                 "leave-on", "handbook", "estimate", "yes", "2024-01-31"])
+    rows = [header] + [
+        [data.draw(st.one_of(plausible, nasty_text, number_text)) for _ in header]
+        for _ in range(data.draw(st.integers(0, 5)))]
+    buffer = io.StringIO()
+    csv.writer(buffer, lineterminator=ending).writerows(rows)
+    path = scratch.file(f"{kind}.csv", buffer.getvalue())
+    _run(_fresh_copy(pristine, scratch),
+         [kind, "import", str(path), *(["--dry-run"] if dry_run else [])], writes=True)
 
 
 # --- ingredient edit --set -------------------------------------------------------------------
