@@ -447,6 +447,20 @@ def test_a_login_made_by_the_database_administrator_is_adopted(team: Team) -> No
     role that exists instead of failing, and gives it its duty."""
     login = f"{team.prefix}_cert"
     _owner_sql(team, f'CREATE ROLE "{login}" NOLOGIN')  # the server's administrator
+    # an admin may not set the password of a login that exists (it would log in as them)
+    from click.testing import CliRunner
+
+    from formdb.cli.main import main
+
+    with CliRunner().isolation(input="taken over by the admin\n") as (_out, err, _):
+        with pytest.raises(SystemExit) as stopped:
+            main(["--db", team.as_("boss"), "user", "add", login, "--role", "reviewer",
+                  "--password-stdin", "--prefix", team.prefix, "--yes"])
+        said = err.getvalue().decode()
+    assert stopped.value.code == 2, said
+    assert f"the database login {login} exists and keeps its password" in said
+    assert _rows(team.url, f"SELECT rolpassword IS NULL FROM pg_authid WHERE rolname = "
+                           f"'{login}'") == [(True,)]
     plan = team.formdb("boss", "user", "add", login, "--role", "reviewer", "--prefix",
                        team.prefix)
     assert plan.exit_code == 2 and f"adopt the existing database login {login}" in plan.stdout

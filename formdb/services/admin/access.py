@@ -178,8 +178,13 @@ def add_user(session: Session, name: str, roles: list[str], *, actor: str,
                        hint=f"formdb user grant {name} ROLE --yes adds a role")
     changes = [f"add user {name} with roles {', '.join(duties) or '(none)'}"]
     if server:
-        verb = ("adopt the existing database login" if logins.login_exists(session, name)
-                else "create the database login")
+        exists = logins.login_exists(session, name)
+        if exists and password is not None:
+            raise InvalidData(f"the database login {name} exists and keeps its password: "
+                              "formdb sets the password of a login it creates only.",
+                              hint="leave out --password-stdin; the person changes their own "
+                                   "password with \\password in psql")
+        verb = "adopt the existing database login" if exists else "create the database login"
         changes.append(f"{verb} {name}"
                        + (" with a SCRAM password" if password is not None else
                           " (no password: log in by certificate or as pg_hba.conf says)"))
