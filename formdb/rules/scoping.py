@@ -127,8 +127,10 @@ def _all(*states: bool | None) -> bool | None:
 
 
 # "skin products" are the face's, the body's, the hands' and the feet's alike (III/12 (b), III/324
-# (a) leave-on skin products 0.06 %: a face cream is one)
-_AREAS = {"skin": ("body", "face", "hand", "foot")}
+# (a) leave-on skin products 0.06 %: a face cream is one); the mucous membranes a product is
+# applied on are the lips' and the mouth's (Annex IV colorants "not to be used in products applied
+# on mucous membranes" are not for lipsticks or toothpastes)
+_AREAS = {"skin": ("body", "face", "hand", "foot"), "mucous membrane": ("lip", "oral")}
 
 
 def _areas(areas: tuple[str, ...]) -> set[str]:

@@ -443,3 +443,14 @@ def test_joined_product_groups_are_alternatives(library: Library) -> None:
     hepb = by_entry(lim(library, formula([("Hydroxyethoxyphenyl Butanone", 0.5, "preservative")],
                                          product="face cream")), "V/60")
     assert hepb.severity.value == "info"
+
+
+def test_colorant_not_on_mucous_membranes(library: Library) -> None:
+    """Annex IV/2 CI 10020 (Regulation (EC) No 1223/2009, field of application: "not to be used
+    in products applied on mucous membranes"): allowed in a face cream, not in a lipstick."""
+    lipstick = by_entry(lim(library, formula([("CI 10020", 0.1, "colorant")],
+                                             product="lipstick")), "IV/2")
+    assert lipstick.severity.value == "error" and "mucous membranes" in lipstick.message
+    cream = by_entry(lim(library, formula([("CI 10020", 0.1, "colorant")],
+                                          product="face cream")), "IV/2")
+    assert cream.severity.value == "info"
