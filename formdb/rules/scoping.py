@@ -43,7 +43,7 @@ PRODUCTS: dict[str, Product] = {
     "lipstick": _p("lip", "lipstick"),
     "shower gel": _p("body", "shower gel"),
     "shampoo": _p("hair", "shampoo", maybe="anti-dandruff shampoo"),
-    "hair styling": _p("hair", maybe="spray"),
+    "hair styling": _p("hair", maybe="spray, hair lotion"),
     "hair conditioner": _p("hair"),
     "toothpaste": _p("oral", "toothpaste"),
     "mouthwash": _p("oral", "mouthwash"),

@@ -454,3 +454,11 @@ def test_colorant_not_on_mucous_membranes(library: Library) -> None:
     cream = by_entry(lim(library, formula([("CI 10020", 0.1, "colorant")],
                                           product="face cream")), "IV/2")
     assert cream.severity.value == "info"
+
+
+def test_hair_styling_may_be_a_hair_lotion(library: Library) -> None:
+    """Annex V/32 climbazole (Regulation (EC) No 1223/2009): (a) hair lotions 0.2 %. A leave-on
+    hair styling product may be a hair lotion: the finding asks, it does not refuse."""
+    found = by_entry(lim(library, formula([("Climbazole", 0.1, "preservative")],
+                                          product="hair styling")), "V/32")
+    assert found.severity.value == "warning" and "part (a)" in found.message
