@@ -180,9 +180,16 @@ def judge(entry: ListEntry, item: Item, members: list[Item], formula: ResolvedFo
         parts.append((fit.part, fit.fits, words))
         statuses.add(status)
     definite = len(candidates) == 1 and candidates[0].fits is True
+    # no part surely applies and none is a catch-all: the product may be one the entry does not
+    # cover at all, a reading in which the substance is not allowed
+    uncovered = not any(f.fits is True or f.part.scope.other for f in candidates)
     texts = "; ".join(w for _p, _f, w in parts)
     if definite or len(statuses) == 1:
         status = statuses.pop()
+        if not definite and status == OK and uncovered:
+            return Outcome(entry, reading, OPEN,
+                           f"within every part that may apply: {texts}; but if the product is "
+                           "none of these, the entry does not allow it", parts, item.percent)
         if not definite and status == OK:
             texts = f"within every part that may apply: {texts}"
         elif not definite and status == OVER:

@@ -458,7 +458,9 @@ def test_colorant_not_on_mucous_membranes(library: Library) -> None:
 
 def test_hair_styling_may_be_a_hair_lotion(library: Library) -> None:
     """Annex V/32 climbazole (Regulation (EC) No 1223/2009): (a) hair lotions 0.2 %. A leave-on
-    hair styling product may be a hair lotion: the finding asks, it does not refuse."""
+    hair styling product may be a hair lotion, or not (then V/32 does not cover it): the finding
+    names both readings and asks, it neither refuses nor passes."""
     found = by_entry(lim(library, formula([("Climbazole", 0.1, "preservative")],
                                           product="hair styling")), "V/32")
     assert found.severity.value == "warning" and "part (a)" in found.message
+    assert "if the product is none of these, the entry does not allow it" in found.message
