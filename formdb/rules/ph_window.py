@@ -51,7 +51,8 @@ class PhWindow(Rule):
             return
         for ln in ranged:
             low, high = ln.ingredient.p.ph_min, ln.ingredient.p.ph_max
-            window = f"pH {low if low is not None else '-'} to {high if high is not None else '-'}"
+            window = (f"pH {low:g} to {high:g}" if low is not None and high is not None
+                      else f"up to pH {high:g}" if high is not None else f"from pH {low:g}")
             values: dict[str, float | str | None] = {
                 "ph": ph, "ph_min": low, "ph_max": high, "percent": ln.percent}
             if high is not None and ph > high:
