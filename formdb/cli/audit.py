@@ -8,7 +8,7 @@ from typing import TYPE_CHECKING
 
 import click
 
-from formdb.cli.main import AppContext, with_library
+from formdb.cli.main import AppContext, Number, with_library
 
 if TYPE_CHECKING:
     from formdb.store.library import Library
@@ -61,7 +61,7 @@ def anchor_cmd(app: AppContext, library: Library, out: Path) -> None:
 @audit_group.command("changes")
 @click.option("--table", default=None, help="Only changes to this table (e.g. property_values).")
 @click.option("--login", default=None, help="Only changes made by this database login.")
-@click.option("--limit", type=click.IntRange(1, 100_000), default=50, show_default=True,
+@click.option("--limit", type=Number(int, 1, 100_000), default=50, show_default=True,
               help="How many of the newest changes to show.")
 @click.option("--format", "fmt", type=click.Choice(["text", "json"]), default="text",
               show_default=True, help="Output format (json includes the rows before and after).")

@@ -8,7 +8,7 @@ from typing import TYPE_CHECKING
 
 import click
 
-from formdb.cli.main import AppContext, force_option, library_files, with_library
+from formdb.cli.main import FLOAT, INT, AppContext, force_option, library_files, with_library
 
 if TYPE_CHECKING:
     from formdb.schemas.bench import WeighSheet
@@ -18,9 +18,9 @@ if TYPE_CHECKING:
 @click.command("batch")
 @click.argument("file", type=click.Path(path_type=Path), required=False)
 @click.option("--stored", help="Use the formula stored in the library under this name.")
-@click.option("--kg", "batch_kg", type=float, help="Batch size in kg (default: the file's "
+@click.option("--kg", "batch_kg", type=FLOAT, help="Batch size in kg (default: the file's "
               "batch_kg).")
-@click.option("--evaporation-percent", type=float, default=0.0, show_default=True,
+@click.option("--evaporation-percent", type=FLOAT, default=0.0, show_default=True,
               help="Extra water, as % of the batch, to make up for evaporation while hot.")
 @click.option("--balance", "balances", multiple=True, metavar="RESOLUTION:CAPACITY",
               help="A balance of the bench, in grams (repeat; default 0.01:200, 0.1:4000, "
@@ -68,7 +68,7 @@ def price_group() -> None:
 
 @price_group.command("add")
 @click.argument("inci")
-@click.option("--per-kg", "price_per_kg", type=float, required=True, help="Price per kg.")
+@click.option("--per-kg", "price_per_kg", type=FLOAT, required=True, help="Price per kg.")
 @click.option("--currency", required=True, help="ISO 4217 code, e.g. EUR.")
 @click.option("--supplier", required=True, help="Who quoted it.")
 @click.option("--date", "quoted_on", type=click.DateTime(formats=["%Y-%m-%d"]),
@@ -113,14 +113,14 @@ def screen_group() -> None:
               help="Take the oil phase of this formula file instead.")
 @click.option("--low", required=True, help="The low-HLB emulsifier of the pair.")
 @click.option("--high", required=True, help="The high-HLB emulsifier of the pair.")
-@click.option("--from-hlb", "start", type=float, default=6.0, show_default=True)
-@click.option("--to-hlb", "stop", type=float, default=16.0, show_default=True)
-@click.option("--step", type=float, default=1.0, show_default=True)
-@click.option("--oil-percent", type=float, default=20.0, show_default=True,
+@click.option("--from-hlb", "start", type=FLOAT, default=6.0, show_default=True)
+@click.option("--to-hlb", "stop", type=FLOAT, default=16.0, show_default=True)
+@click.option("--step", type=FLOAT, default=1.0, show_default=True)
+@click.option("--oil-percent", type=FLOAT, default=20.0, show_default=True,
               help="% of oil phase in each emulsion.")
-@click.option("--emulsifier-percent", type=float, default=5.0, show_default=True,
+@click.option("--emulsifier-percent", type=FLOAT, default=5.0, show_default=True,
               help="% of the emulsifier pair in each emulsion.")
-@click.option("--batch-g", type=float, default=100.0, show_default=True,
+@click.option("--batch-g", type=FLOAT, default=100.0, show_default=True,
               help="Grams of each emulsion (its weigh sheet).")
 @click.option("--type", "emulsion_type", type=click.Choice(["O/W", "W/O"]), default="O/W",
               show_default=True)
@@ -192,12 +192,12 @@ def screen_show_cmd(app: AppContext, library: Library, name: str, sheets: Path |
 
 @screen_group.command("record")
 @click.argument("name")
-@click.option("--blend", type=int, required=True, help="The blend's number in the series.")
-@click.option("--stability", type=float, help="Stability score, 0 (broken) to 10 (unchanged).")
-@click.option("--separation-percent", type=float,
+@click.option("--blend", type=INT, required=True, help="The blend's number in the series.")
+@click.option("--stability", type=FLOAT, help="Stability score, 0 (broken) to 10 (unchanged).")
+@click.option("--separation-percent", type=FLOAT,
               help="Cream or serum layer, % of the sample's height.")
-@click.option("--droplet-um", type=float, help="Mean droplet diameter, µm.")
-@click.option("--after-hours", type=float, help="Hours since the emulsion was made.")
+@click.option("--droplet-um", type=FLOAT, help="Mean droplet diameter, µm.")
+@click.option("--after-hours", type=FLOAT, help="Hours since the emulsion was made.")
 @click.option("--note", help="What else was seen.")
 @with_library
 def screen_record_cmd(app: AppContext, library: Library, name: str, blend: int,
@@ -230,7 +230,7 @@ def _measure(ctx: click.Context, param: click.Parameter, value: str) -> str:
 @click.option("--measure", default="stability", show_default=True, callback=_measure,
               metavar="[stability|separation-percent|droplet-um]",
               help="The reading to fit (named as screen record names it).")
-@click.option("--after-hours", type=float,
+@click.option("--after-hours", type=FLOAT,
               help="Fit the readings taken this many hours after making (default: each "
                    "blend's latest, refused when their ages differ).")
 @click.option("--store", is_flag=True,

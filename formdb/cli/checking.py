@@ -171,7 +171,7 @@ def _blend_mode(file: Path | None, target: float | None, using: tuple[str, ...],
 @click.option("--total", type=Number(float, 1e-6, 100), default=None,
               help="Emulsifier total in % w/w for the proportions (--search: default 5, or the "
                    "formula's own total with FILE).")
-@click.option("--top", type=click.IntRange(1, 100), default=10, show_default=True,
+@click.option("--top", type=Number(int, 1, 100), default=10, show_default=True,
               help="How many pairs --search prints.")
 @click.option("--type", "kind", type=click.Choice(("O/W", "W/O")), default=None,
               help="--search: the emulsion type the pair must suit (default: the formula's "

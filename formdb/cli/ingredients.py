@@ -146,7 +146,7 @@ def edit_cmd(app: AppContext, library: Library, name: str, sets: tuple[str, ...]
 @click.option("--source", required=True, help="Key of the source that confirms the values.")
 @click.option("--note", help="Where in the source (table, page); replaces the values' notes.")
 @click.option("--reason", help="Why (kept in the change log; required for published values).")
-@click.option("--expect-version", type=int,
+@click.option("--expect-version", type=Number(int, 1, 2**31 - 1),
               help="The version you read; refused if someone changed it since.")
 @with_library
 def verify_cmd(app: AppContext, library: Library, name: str, values: tuple[str, ...],

@@ -137,10 +137,18 @@ class Number(click.ParamType[Any]):
                 self.fail(f"{value!r} is not a{'n integer' if self.kind is int else ' number'}",
                           param, ctx)
         # an int is compared as it is (math.isfinite would overflow on a 400-digit one)
-        finite = isinstance(number, int) or math.isfinite(number)
-        if not finite or not self.low <= number <= self.high:
+        if not (isinstance(number, int) or math.isfinite(number)):
+            self.fail(f"{value!r} is not a finite number", param, ctx)
+        if not self.low <= number <= self.high:
             self.fail(f"{value!r} is not between {self.low:g} and {self.high:g}", param, ctx)
         return number
+
+
+# every number option is one of these (or a Number with its own range): click's FLOAT, INT,
+# IntRange and FloatRange read Arabic-Indic and fullwidth digits as numbers
+# (tests/cli/test_hostile_regressions.py walks every option)
+FLOAT = Number(float, -math.inf, math.inf)  # finite; the service checks the range in words
+INT = Number(int, -(2**63), 2**63 - 1)
 
 
 def library_files(app: AppContext) -> list[Path]:

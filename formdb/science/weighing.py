@@ -12,6 +12,10 @@ import math
 from dataclasses import dataclass
 from decimal import ROUND_HALF_UP, Decimal
 
+MIN_RESOLUTION_G = 1e-6  # a microbalance reads 0.001 mg; finer is no balance (and no
+# decimal quantum the rounding can work with)
+MAX_CAPACITY_G = 1e8  # 100 t: the largest batch a weigh sheet is made for
+
 
 @dataclass(frozen=True)
 class Balance:
@@ -21,11 +25,15 @@ class Balance:
     capacity_g: float
 
     def __post_init__(self) -> None:
-        if not (math.isfinite(self.resolution_g) and self.resolution_g > 0):
-            raise ValueError(f"balance resolution must be above 0 g, got {self.resolution_g}")
+        if not (math.isfinite(self.resolution_g) and self.resolution_g >= MIN_RESOLUTION_G):
+            raise ValueError(f"balance resolution must be at least {MIN_RESOLUTION_G:g} g (a "
+                             f"microbalance), got {self.resolution_g:g}")
         if not (math.isfinite(self.capacity_g) and self.capacity_g > self.resolution_g):
             raise ValueError(f"balance capacity must exceed its resolution, got "
-                             f"{self.capacity_g} g")
+                             f"{self.capacity_g:g} g")
+        if self.capacity_g > MAX_CAPACITY_G:
+            raise ValueError(f"balance capacity must be at most {MAX_CAPACITY_G:g} g (the "
+                             f"largest batch), got {self.capacity_g:g} g")
 
 
 # A bench of three balances (rule of thumb for a cosmetic pilot lab; override per batch):

@@ -143,10 +143,10 @@ def test_html_escapes_the_formulas_text(seeded_library_url: str, tmp_path: Path)
 
 @pytest.mark.parametrize(("args", "message"), [
     (["--kg", "0"], "--kg 0: the batch must be above 0"),
-    (["--kg", "nan"], "the batch must be above 0"),
+    (["--kg", "nan"], "'nan' is not a finite number"),
     (["--evaporation-percent", "50"], "--evaporation-percent 50"),
     (["--balance", "0.01"], "--balance '0.01': write RESOLUTION:CAPACITY"),
-    (["--balance", "0:10"], "balance resolution must be above 0"),
+    (["--balance", "0:10"], "balance resolution must be at least 1e-06 g"),
     (["--format", "xlsx"], "--format xlsx needs --out"),
 ])
 def test_bad_options_are_one_line_and_exit_2(seeded_library_url: str, args: list[str],

@@ -347,6 +347,84 @@ def test_numbers_take_ascii_digits_only(library_url: str, tmp_path: Path, digits
     assert dump_database(library_url) == before
 
 
+def _commands() -> list[tuple[str, object]]:
+    """(command path, command) for every command of the CLI."""
+    import click
+
+    from formdb.cli.main import cli
+
+    found: list[tuple[str, object]] = []
+
+    def walk(group: click.Group, path: list[str]) -> None:
+        context = click.Context(group)
+        for name in group.list_commands(context):
+            command = group.get_command(context, name)
+            if isinstance(command, click.Group):
+                walk(command, [*path, name])
+            elif command is not None:
+                found.append((" ".join([*path, name]), command))
+
+    walk(cli, [])
+    return found
+
+
+def test_every_number_option_takes_ascii_digits_only() -> None:
+    """click's FLOAT, INT, IntRange and FloatRange read '١٢' as 12 (found: `price add --per-kg
+    ١٢` stored a price); every number option goes through formdb's Number instead."""
+    import click
+
+    from formdb.cli.main import Number
+
+    loose = [f"{name} {param.name}" for name, command in _commands()
+             for param in command.params  # type: ignore[attr-defined]
+             if isinstance(param.type, click.types.IntParamType | click.types.FloatParamType)
+             and not isinstance(param.type, Number)]
+    assert loose == []
+    assert Number(float, 0, 10).convert("5", None, None) == 5.0
+    for text in ("١٢", "１２", "nan", "inf", "1e999"):
+        with pytest.raises(click.BadParameter):
+            Number(float, -1e300, 1e300).convert(text, None, None)
+
+
+@pytest.mark.parametrize(("args", "says"), [
+    (["price", "add", "Glycerin", "--per-kg", "١٢", "--currency", "EUR", "--supplier", "x"],
+     "ASCII digits"),
+    (["mixture", "set", "Glyceryl Stearate", "--part", "Polysorbate 80=٥٠@rule-of-thumb",
+      "--part", "Polysorbate 60=50@rule-of-thumb"], "not a percentage"),
+    (["screen", "plan", "s", "--oil", "Paraffinum Liquidum=٧٠", "--low", "Sorbitan Oleate",
+      "--high", "Polysorbate 80"], "--oil"),
+    (["impact", "Glycerin", "--since", "²"], "--since"),  # int('²') failed: exit 70
+    (["impact", "Glycerin", "--since", "١"], "--since"),
+])
+def test_numbers_in_option_text_take_ascii_digits_only(seeded_sqlite_url: str, args: list[str],
+                                                       says: str) -> None:
+    before = dump_database(seeded_sqlite_url)
+    result = run_formdb(["--db", seeded_sqlite_url, *args])
+    assert result.exit_code == 2, result
+    assert says in result.stderr and "internal problem" not in result.stderr, result.stderr
+    assert dump_database(seeded_sqlite_url) == before
+
+
+@pytest.mark.parametrize("balance", ["١:٢٠٠", "1e-300:1e300", "0.01:1e300", "1e-7:200"])
+def test_a_balance_is_ascii_and_physical(seeded_sqlite_url: str, tmp_path: Path,
+                                         balance: str) -> None:
+    """Found by hand: --balance 1e-300:1e300 ended in decimal.InvalidOperation (exit 70)."""
+    path = _formula(tmp_path / "f.toml", [("Aqua", 95), ("Glycerin", 5)])
+    _refused(run_formdb(["--db", seeded_sqlite_url, "batch", str(path), "--kg", "5",
+                         "--balance", balance]), "--balance")
+
+
+def test_a_mixture_table_takes_ascii_digits_only(seeded_sqlite_url: str, tmp_path: Path) -> None:
+    path = tmp_path / "mix.csv"
+    path.write_text("mixture_inci,constituent_inci,percent,source\n"
+                    "Glyceryl Stearate,Polysorbate 80,٥٠,rule-of-thumb\n"
+                    "Glyceryl Stearate,Polysorbate 60,50,rule-of-thumb\n", encoding="utf-8")
+    before = dump_database(seeded_sqlite_url)
+    _refused(run_formdb(["--db", seeded_sqlite_url, "mixture", "import", str(path)]),
+             "row 2, column percent")
+    assert dump_database(seeded_sqlite_url) == before
+
+
 @pytest.mark.parametrize("cas", ["0000-00-0", "00-00-0", "٧٧٣٢-١٨-٥", "07732-18-5",
                                  "7732-18-4"])
 def test_cas_numbers_must_be_real(library_url: str, cas: str) -> None:

@@ -29,6 +29,7 @@ from formdb.facts.compute import compute_facts
 from formdb.schemas.admin import Action
 from formdb.schemas.bench import ScreeningBlend, ScreeningFit, ScreeningSeries, WeighSheet
 from formdb.schemas.ingredient import IngredientRecord, name_key
+from formdb.schemas.numbers import ascii_float
 from formdb.schemas.vocab import EmulsionType, Evidence, Role, SourceKind
 from formdb.science import screening as science
 from formdb.services.admin.access import require
@@ -81,7 +82,7 @@ def parse_oil(text: str) -> tuple[str, float]:
     """``INCI=SHARE`` (a share in any unit; shares are normalised) -> (name, share)."""
     name, sep, share = text.rpartition("=")
     try:
-        value = float(share)
+        value = ascii_float(share)
     except ValueError:
         value = math.nan
     if not sep or not name.strip() or not math.isfinite(value) or value <= 0:

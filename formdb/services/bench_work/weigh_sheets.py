@@ -24,6 +24,7 @@ from formdb.schemas.bench import (
     WeighSheet,
 )
 from formdb.schemas.formula import FormulaLine, ProcessStep, ResolvedFormula, ResolvedLine
+from formdb.schemas.numbers import ascii_float
 from formdb.schemas.reference import ReferenceData
 from formdb.schemas.vocab import Role
 from formdb.science.weighing import DEFAULT_BALANCES, Balance, rounding_bound_g, weigh
@@ -38,7 +39,7 @@ MAX_EVAPORATION_PERCENT = 20.0
 def parse_balance(text: str) -> Balance:
     """``RESOLUTION:CAPACITY`` in grams (``0.01:200``) -> a Balance; bad text is an input error."""
     try:
-        resolution, capacity = (float(part) for part in text.split(":"))
+        resolution, capacity = (ascii_float(part) for part in text.split(":"))
         return Balance(resolution, capacity)
     except ValueError as exc:
         detail = str(exc) if "balance" in str(exc) else "write RESOLUTION:CAPACITY in grams"

@@ -26,6 +26,7 @@ from formdb.errors import InvalidData, NotFound
 from formdb.schemas.admin import Action
 from formdb.schemas.cells import format_number
 from formdb.schemas.ingredient import IngredientRecord, name_key
+from formdb.schemas.numbers import ascii_float
 from formdb.schemas.times import utc
 from formdb.science.hlb import blend_hlb
 from formdb.services.admin.access import require
@@ -93,7 +94,7 @@ def parse_part(text: str, default_source: str | None) -> Part:
         raise InvalidData(f"--part {text!r} is not NAME=PERCENT[@SOURCE].",
                           hint="e.g. --part 'Cetearyl Alcohol=80@supplier-x-coa-2025'")
     try:
-        percent = float(percent_text.strip().rstrip("%").strip())
+        percent = ascii_float(percent_text.strip().rstrip("%").strip())
     except ValueError:
         raise InvalidData(f"--part {text!r}: {percent_text.strip()!r} is not a percentage.",
                           hint="write the % of the constituent in the mixture, e.g. 80") from None
@@ -260,7 +261,7 @@ def import_mixtures(session: Session, path: Path, *, user: str, reason: str | No
     problems = []
     for number, cells in rows:
         try:
-            percent = float(cells.get("percent", "").rstrip("%").strip())
+            percent = ascii_float(cells.get("percent", "").rstrip("%").strip())
         except ValueError:
             problems.append(Problem(str(path), f"{cells.get('percent', '')!r} is not a "
                                     "percentage", number, "percent"))

@@ -27,6 +27,7 @@ from formdb.schemas.change_log import describe_change
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.impact import FindingKey, FormulaImpact, ImpactReport, LibraryChange, StaleRun
 from formdb.schemas.ingredient import IngredientRecord, name_key
+from formdb.schemas.numbers import ascii_digits
 from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import CheckResult
 from formdb.services.checking.flow import FormulaInput, input_from_text, resolve_all
@@ -197,7 +198,7 @@ def _baseline_version(session: Session, target: IngredientRecord, since: str | N
     if since is None:
         return target.version - 1 if target.version > 1 else None
     text = since.strip()
-    if text.isdigit():
+    if ascii_digits(text):
         version = int(text)
         if not 1 <= version <= target.version:
             raise InvalidData(f"--since {since}: {target.inci_name!r} has versions 1 to "

@@ -38,6 +38,7 @@ from formdb.rules.engine import check_resolved
 from formdb.rules.profiles import Profile, load_profile
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.ingredient import IngredientRecord, name_key
+from formdb.schemas.numbers import ascii_digits
 from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import CheckResult
 from formdb.schemas.review import (
@@ -490,7 +491,7 @@ def waivers_for(items: list[dict[str, Any]], justifications: list[str]) -> list[
             raise InvalidData(f"--justify {pair!r}: give ITEM=TEXT, ITEM being an open item's "
                               "number or rule code.", hint="for example --justify "
                               "3='NOAEL from the supplier dossier, filed'")
-        if target.isdigit():
+        if ascii_digits(target):
             numbers = [int(target)] if 1 <= int(target) <= len(items) else []
         else:
             numbers = [n for n, item in enumerate(items, 1)
