@@ -46,8 +46,13 @@ def free_bases(formula: ResolvedFormula, work: Work) -> tuple[FreeBaseFacts, ...
     others = [ln for ln in formula.lines if is_other_acid(ln.ingredient)]
     unknown = tuple(ln.ingredient.inci_name for ln in others if ln.ingredient.p.acid_value is None)
     # mol of acid equivalents each acid with an acid value still has to give, formula order
-    pool = {ln.ingredient.inci_name: acid_equivalents(ln.percent, ln.ingredient.p.acid_value)
-            for ln in others if ln.ingredient.p.acid_value is not None}
+    # (an acid on two lines gives both)
+    pool: dict[str, float] = {}
+    for ln in others:
+        value = ln.ingredient.p.acid_value
+        if value is not None:
+            name = ln.ingredient.inci_name
+            pool[name] = pool.get(name, 0.0) + acid_equivalents(ln.percent, value)
     water = sum(ln.percent for ln in formula.lines if ln.ingredient.has_role(Role.WATER))
     water += work.water_formed
     soaped = {s.facts.base_line_no for s in work.soaps}
