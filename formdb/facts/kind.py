@@ -22,7 +22,7 @@ from formdb.facts.hlb import IONISED
 from formdb.facts.phases import is_hydrocolloid
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.result import EmulsifierFacts, FactsSettings, KindFacts, LineFacts
-from formdb.schemas.vocab import IonicCharacter, Role
+from formdb.schemas.vocab import IonicCharacter, Role, Solubility
 
 SOAP_CLASS = "carboxylate soap"
 SURFACTANT_CHARGES = IONISED | {IonicCharacter.AMPHOTERIC}
@@ -36,7 +36,10 @@ def _surfactant_percent(formula: ResolvedFormula, emulsifiers: list[EmulsifierFa
         if e.formed_in_place or e.line_no is None:
             continue
         ing = by_no[e.line_no]
+        # a detergent: a charged surfactant that dissolves in water (lecithin, only
+        # dispersible, is an emulsifier of its own dispersion, not a cleanser's surfactant)
         if (e.ionic_character in SURFACTANT_CHARGES and e.scale != "griffin"
+                and e.solubility == Solubility.WATER
                 and SOAP_CLASS not in ing.classes and not is_hydrocolloid(ing)):
             total += e.percent
     return total
