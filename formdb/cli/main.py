@@ -203,9 +203,11 @@ def _sentence(text: str) -> str:
 def error_lines(exc: FormdbError) -> list[str]:
     """One ``Error:`` line per problem (an import table or several formula files may carry
     many, in ``problems``); the next step rides on the last line."""
-    lines = [f"Error: {_sentence(str(p))}" for p in exc.problems]
+    from formdb.report.terminal import one_line
+
+    lines = [f"Error: {_sentence(one_line(str(p)))}" for p in exc.problems]
     if exc.hint:
-        lines[-1] += f" Next: {_sentence(exc.hint)}"
+        lines[-1] += f" Next: {_sentence(one_line(exc.hint))}"
     return lines
 
 
@@ -254,7 +256,9 @@ def _run(args: list[str]) -> None:
         sys.exit(2)
     except click.UsageError as exc:  # a mistyped option or argument: one line, as bad input
         where = exc.ctx.command_path if exc.ctx is not None else "formdb"
-        said = exc.format_message().rstrip(".")
+        from formdb.report.terminal import one_line
+
+        said = one_line(exc.format_message()).rstrip(".")
         click.echo(f"Error: {said} (see '{where} --help').", err=True)
         sys.exit(2)
     except click.ClickException as exc:
@@ -275,7 +279,9 @@ def _run(args: list[str]) -> None:
             sys.exit(refused.exit_code)
         if _wants_debug(args):
             traceback.print_exc()
-        click.echo(f"Error: internal problem ({type(exc).__name__}: {exc}). "
+        from formdb.report.terminal import one_line
+
+        click.echo(f"Error: internal problem ({type(exc).__name__}: {one_line(str(exc))}). "
                    "Next: rerun with --debug and report the traceback.", err=True)
         sys.exit(EXIT_INTERNAL)
     sys.exit(code if isinstance(code, int) else 0)

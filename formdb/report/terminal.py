@@ -27,6 +27,12 @@ def terminal_safe(text: str) -> str:
     return _UNSAFE.sub(lambda m: f"\\u{ord(m.group()):04x}", text)
 
 
+def one_line(text: str) -> str:
+    """A message as one line: a line break inside it (from the data it quotes) shown as
+    ``\\n`` or ``\\r``, so one problem is one line that a script can read."""
+    return text.replace("\r", "\\r").replace("\n", "\\n")
+
+
 class SafeOutput(io.TextIOBase):
     """A text stream that passes everything through ``terminal_safe``; ``raw`` is the stream
     under it, for the one output that colours itself from sanitised data (``check`` on a

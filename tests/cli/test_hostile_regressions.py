@@ -68,6 +68,20 @@ def test_an_internal_error_exits_70_not_2(sqlite_url: str, monkeypatch: pytest.M
     assert result.stderr.startswith("Error: internal problem (RuntimeError: a planted bug)")
 
 
+@pytest.mark.parametrize("value", ["yes\nno", "\x1c\x97\néíI", "a\rb", "a\u2028b"])
+def test_a_line_break_in_quoted_input_keeps_the_error_one_line(seeded_library_url: str,
+                                                               value: str) -> None:
+    """Found by the fuzz suite (deep profile): a value holding a newline, quoted back in the
+    refusal, split the one Error: line in two."""
+    result = run_formdb(["--db", seeded_library_url, "ingredient", "edit", "Sorbitan Oleate",
+                         "--set", f"electrolyte_sensitive={value}"])
+    assert result.exit_code == 2
+    assert len(result.stderr.splitlines()) == 1, result.stderr
+    assert result.stderr.startswith("Error: ")
+    usage = run_formdb(["--db", seeded_library_url, "ingredient", "list", "--format", value])
+    assert usage.exit_code == 2 and len(usage.stderr.splitlines()) == 1, usage.stderr
+
+
 def test_exit_codes_are_in_the_help() -> None:
     result = run_formdb(["--help"])
     assert result.exit_code == 0
