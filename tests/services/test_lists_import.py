@@ -245,6 +245,14 @@ def test_labelled_allergens_cinnamal_included() -> None:
 
 
 @needs_exports
+def test_maximum_in_mg_per_kg_glyoxal_iii_194() -> None:
+    """Annex III/194 glyoxal (Regulation (EC) No 1223/2009; Reg. (EU) No 344/2013 as the export
+    names it): 100 mg/kg, that is 0.01 %."""
+    [part] = one("III", "194").parts
+    assert part.max_percent == pytest.approx(0.01) and part.structured
+
+
+@needs_exports
 def test_counts_and_coverage() -> None:
     """Entry counts as the export's README gives them; more than 90 % of parts structured."""
     counts = {a: sum(len(v) for v in entries(a).values()) for a in ("II", "III", "IV", "V", "VI")}

@@ -29,7 +29,7 @@ _EC = re.compile(r"(?<![\d-])(\d{3}-\d{3}-\d)(?![\d-])")
 # "(a)", "a)", "(b)" at the start of a line or after a space; "(i)" sub-parts are not parts
 _MARKER = re.compile(r"(?:(?<=^)|(?<=[\s.;:]))\(?([a-z])\)(?=[\s(]|\d|$)", re.MULTILINE)
 _SUB_PART = re.compile(r"(?:^|[\s(])ii\)")
-_PERCENT = re.compile(r"(\d+(?:[.,]\d+)?)\s*(%|ppm)", re.IGNORECASE)
+_PERCENT = re.compile(r"(\d+(?:[.,]\d+)?)\s*(%|ppm|mg/kg)", re.IGNORECASE)  # 1 mg/kg = 1 ppm
 _SOFT_HYPHEN = "\u00ad"
 
 
@@ -182,7 +182,7 @@ def parse_maximum(text: str) -> tuple[float | None, str | None, str, tuple[str, 
     aggregate = "sum" if _SUM.search(text) else "each"
     if not found:
         return None, basis, aggregate, (), not clean(text)
-    values = [(_number(n) / (10_000 if unit.lower() == "ppm" else 1)) for n, unit in found]
+    values = [(_number(n) / (10_000 if unit.lower() in ("ppm", "mg/kg") else 1)) for n, unit in found]
     further: tuple[str, ...] = ()
     if len(set(values)) > 1:
         # later maxima (mixtures, professional use, other forms) are kept for a person to read
