@@ -182,7 +182,8 @@ def parse_maximum(text: str) -> tuple[float | None, str | None, str, tuple[str, 
     aggregate = "sum" if _SUM.search(text) else "each"
     if not found:
         return None, basis, aggregate, (), not clean(text)
-    values = [(_number(n) / (10_000 if unit.lower() in ("ppm", "mg/kg") else 1)) for n, unit in found]
+    values = [_number(n) / (10_000 if unit.lower() in ("ppm", "mg/kg") else 1)
+              for n, unit in found]
     further: tuple[str, ...] = ()
     if len(set(values)) > 1:
         # later maxima (mixtures, professional use, other forms) are kept for a person to read
