@@ -32,7 +32,13 @@ from formdb.errors import ConfigError
 from formdb.resources import seed_data_dir
 from formdb.rules.base import Rule
 from formdb.rules.registry import RuleRegistry, default_registry
-from formdb.schemas.bounds import MAX_TOML_BYTES, TomlTooLarge, load_toml
+from formdb.schemas.bounds import (
+    MAX_TOML_BYTES,
+    TomlTooLarge,
+    UnreadableInput,
+    load_toml,
+    read_input,
+)
 from formdb.schemas.result import FactsSettings
 from formdb.schemas.suggest import did_you_mean
 from formdb.schemas.vocab import Severity
@@ -214,10 +220,10 @@ def _read(path: Path) -> dict[str, Any]:
         if path.stat().st_size > MAX_TOML_BYTES:
             raise ConfigError(f"profile {path}: {path.stat().st_size:,} bytes is more than a "
                               f"profile file formdb reads ({MAX_TOML_BYTES:,})")
-        return load_toml(path.read_text(encoding="utf-8"))
+        return load_toml(read_input(path, MAX_TOML_BYTES).decode("utf-8"))
     except tomllib.TOMLDecodeError as exc:
         raise ConfigError(f"profile {path}: not valid TOML ({exc})") from None
-    except TomlTooLarge as exc:
+    except (TomlTooLarge, UnreadableInput) as exc:
         raise ConfigError(f"profile {path}: {exc}") from None
     except (OSError, UnicodeDecodeError) as exc:
         raise ConfigError(f"profile {path}: cannot be read ({exc})") from None

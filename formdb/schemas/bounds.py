@@ -7,7 +7,9 @@ hang or exhaust memory; an input beyond one is refused with one line naming the 
 
 from __future__ import annotations
 
+import stat
 import tomllib
+from pathlib import Path
 from typing import Any
 
 MAX_TOML_BYTES = 5_000_000  # a formula or profile file; the longest real ones are a few KB
@@ -22,6 +24,27 @@ MAX_NAME_CHARS = 200  # an INCI name or synonym (the column holds 200)
 
 class TomlTooLarge(ValueError):
     """A TOML text beyond the bounds (size or nesting); the message says which."""
+
+
+class UnreadableInput(ValueError):
+    """An input path that is no regular file, or holds more than its bound; the message is a
+    phrase to follow the file's name."""
+
+
+def read_input(path: Path, limit: int) -> bytes:
+    """The bytes of an input file, read no further than its bound: only a regular file is
+    opened (a device such as /dev/zero never ends, a named pipe may never open), and a file
+    that grows while it is read is still cut off past ``limit``. FileNotFoundError and other
+    OSErrors pass through for the caller to word."""
+    if path.is_dir():
+        raise UnreadableInput("is a folder, not a file")
+    if not stat.S_ISREG(path.stat().st_mode):
+        raise UnreadableInput("is not a regular file (a device, pipe or socket); give a file")
+    with path.open("rb") as handle:
+        data = handle.read(limit + 1)
+    if len(data) > limit:
+        raise UnreadableInput(f"holds more than {limit:,} bytes, more than formdb reads here")
+    return data
 
 
 def _depth(value: Any, level: int = 0) -> int:

@@ -12,6 +12,7 @@ import stat
 import unicodedata
 import zipfile
 from collections.abc import Iterator
+from contextlib import contextmanager
 from pathlib import Path
 
 import pytest
@@ -217,6 +218,48 @@ def test_a_workbook_that_unpacks_too_far_is_not_read(sqlite_url: str, tmp_path: 
     assert bomb.stat().st_size < 5_000_000
     _refused(run_formdb(["--db", sqlite_url, "ingredient", "import", str(bomb)]),
              "unpacks to")
+
+
+@contextmanager
+def _deadline(seconds: int) -> Iterator[None]:
+    """Fail instead of hanging (a command that read /dev/zero to its end, or waited on a pipe
+    with no writer, would never return)."""
+    import signal
+
+    def expired(*_args: object) -> None:
+        raise TimeoutError(f"no answer within {seconds} s")
+
+    previous = signal.signal(signal.SIGALRM, expired)
+    signal.alarm(seconds)
+    try:
+        yield
+    finally:
+        signal.alarm(0)
+        signal.signal(signal.SIGALRM, previous)
+
+
+@pytest.mark.parametrize("command", [
+    ["check", "{input}"], ["formula", "import", "{input}"], ["ingredient", "import", "{input}"],
+    ["source", "import", "{input}"], ["lists", "import", "{input}"],
+    ["check", "{formula}", "--profile", "{input}"],
+    ["source", "identify", "{input}"], ["audit", "verify", "--anchor", "{input}"],
+], ids=lambda c: " ".join(c[:2]))
+@pytest.mark.parametrize("kind", ["device", "pipe"])
+def test_a_device_or_pipe_is_refused_not_read_forever(seeded_sqlite_url: str, tmp_path: Path,
+                                                       command: list[str], kind: str) -> None:
+    """Found by hand: `check /dev/zero` and `ingredient import /dev/zero` read until the
+    machine ran out of memory; a named pipe with no writer hung them."""
+    if kind == "device":
+        source = Path("/dev/zero")
+    else:
+        source = tmp_path / "pipe.toml"
+        os.mkfifo(source)
+    formula = _formula(tmp_path / "f.toml", [("Aqua", 100)])
+    args = [a.format(input=source, formula=formula) for a in command]
+    with _deadline(30):
+        result = run_formdb(["--db", seeded_sqlite_url, *args])
+    assert result.exit_code == 2, result
+    assert "regular file" in result.stderr or "does not exist" in result.stderr, result.stderr
 
 
 def test_a_formula_of_too_many_lines_is_refused(sqlite_url: str, tmp_path: Path) -> None:

@@ -111,6 +111,9 @@ def file_checksum(path: Path) -> str:
     """``sha256:<hex>`` of a cited file, so the document can be recognised later."""
     digest = hashlib.sha256()
     try:
+        if path.exists() and not path.is_file():  # a device such as /dev/zero never ends
+            raise InvalidData(f"{path}: is not a regular file (a folder, device, pipe or "
+                              "socket).", hint="name the cited document's file")
         with path.open("rb") as handle:
             for block in iter(lambda: handle.read(1 << 16), b""):
                 digest.update(block)

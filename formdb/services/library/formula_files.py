@@ -13,7 +13,13 @@ from pathlib import Path
 from pydantic import ValidationError
 
 from formdb.errors import InvalidData
-from formdb.schemas.bounds import MAX_TOML_BYTES, TomlTooLarge, load_toml
+from formdb.schemas.bounds import (
+    MAX_TOML_BYTES,
+    TomlTooLarge,
+    UnreadableInput,
+    load_toml,
+    read_input,
+)
 from formdb.schemas.formula import FormulaFile
 
 MAX_FORMULA_BYTES = MAX_TOML_BYTES
@@ -88,7 +94,9 @@ def read_formula_file(path: Path) -> tuple[FormulaFile, str]:
     try:
         if path.is_dir():
             raise InvalidData(f"{label}: is a folder, not a formula file")
-        raw = path.read_bytes()
+        raw = read_input(path, MAX_FORMULA_BYTES)
+    except UnreadableInput as exc:
+        raise InvalidData(f"{label}: {exc}") from None
     except FileNotFoundError:
         raise InvalidData(f"{label}: no such file", hint="check the path") from None
     except PermissionError:

@@ -20,6 +20,8 @@ from formdb.schemas.bounds import (
     MAX_TABLE_BYTES,
     MAX_TABLE_ROWS,
     MAX_XLSX_UNPACKED_BYTES,
+    UnreadableInput,
+    read_input,
 )
 from formdb.schemas.cells import guard_cell, unguard_cell
 
@@ -200,7 +202,9 @@ def read_table(path: Path) -> RawTable:
         if path.stat().st_size > MAX_TABLE_BYTES:
             raise_problems([Problem(name, f"{path.stat().st_size:,} bytes is more than an "
                                     f"import table formdb reads ({MAX_TABLE_BYTES:,})")])
-        raw = path.read_bytes()
+        raw = read_input(path, MAX_TABLE_BYTES)
+    except UnreadableInput as exc:
+        raise_problems([Problem(name, str(exc))])
     except FileNotFoundError:
         raise_problems([Problem(name, "no such file")])
     except OSError as exc:

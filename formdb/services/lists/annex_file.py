@@ -16,6 +16,7 @@ from datetime import date, datetime
 from pathlib import Path
 
 from formdb.errors import InvalidData
+from formdb.schemas.bounds import MAX_TABLE_BYTES, UnreadableInput, read_input
 from formdb.schemas.lists import ANNEXES
 
 REF = "Reference Number"
@@ -68,7 +69,9 @@ def _date(match: re.Match[str], where: str) -> date:
 def read_annex_file(path: Path) -> AnnexFile:
     """Parse ``path``; raise InvalidData (file, row, field) when it is not a whole annex export."""
     try:
-        data = path.read_bytes()
+        data = read_input(path, MAX_TABLE_BYTES)
+    except UnreadableInput as exc:
+        raise InvalidData(f"{path}: {exc}", hint=HINT) from None
     except OSError as exc:
         raise InvalidData(f"{path}: cannot be read ({exc.strerror or exc})", hint=HINT) from None
     if data and not data.endswith((b"\n", b"\r")):

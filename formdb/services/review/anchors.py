@@ -34,6 +34,7 @@ from sqlalchemy.orm import Session
 
 from formdb.errors import InvalidData
 from formdb.schemas.audit import ChainProblem, ChainReport
+from formdb.schemas.bounds import MAX_TABLE_BYTES, UnreadableInput, read_input
 from formdb.schemas.times import utc
 from formdb.store.models import Base
 
@@ -136,8 +137,8 @@ def make_anchor(session: Session, chains: list[ChainReport], *, user: str,
 def read_anchor(path: Path) -> dict[str, Any]:
     """An anchor file, checked for its shape (a bad file is an input error, exit 2)."""
     try:
-        data: Any = json.loads(path.read_text(encoding="utf-8"))
-    except (OSError, UnicodeDecodeError) as exc:
+        data: Any = json.loads(read_input(path, MAX_TABLE_BYTES).decode("utf-8"))
+    except (OSError, UnicodeDecodeError, UnreadableInput) as exc:
         raise InvalidData(f"--anchor {path}: cannot be read ({exc})",
                           hint="give the file `formdb audit anchor` wrote") from None
     except ValueError as exc:
