@@ -8,7 +8,9 @@ rules, checked before anything is written:
   complete, so a reader never finds half a file and a failure leaves nothing behind;
 - an existing file is refused unless the command was given ``--force``;
 - a file the command reads (a formula, a profile, the SQLite library) is never its output;
-- a symbolic link is never written through (nor replaced): outputs are plain files;
+- a symbolic link is never written through (nor replaced), nor is a device, pipe or socket
+  replaced (``--out /dev/null --force`` would swap the device for a file): outputs are plain
+  files;
 - the file is created with the user's umask (0666 masked), as any other program would, so a
   team can share it; ``tempfile``'s private 0600 would not.
 """
@@ -51,6 +53,11 @@ def check_output(path: Path, *, force: bool = False, inputs: Iterable[Path] = ()
     if path.exists():
         if path.is_dir():
             raise InvalidData(f"{path}: is a folder, not a file.", hint="give a file name")
+        if not path.is_file():  # renaming over it would replace a device such as /dev/null
+            raise InvalidData(f"{path}: is not a regular file (a device, pipe or socket); "
+                              "formdb writes plain files only.",
+                              hint="give the path of a plain file (without --out, text goes "
+                                   "to the terminal)")
         if not force:
             raise InvalidData(f"{path}: already exists and is not replaced.", hint=FORCE_HINT)
     folder = path.parent if str(path.parent) else Path(".")

@@ -605,6 +605,25 @@ def test_an_input_is_never_the_output(seeded_sqlite_url: str, tmp_path: Path) ->
     assert Path(library).read_bytes() == before
 
 
+def test_a_device_or_pipe_is_never_replaced_by_an_output(seeded_sqlite_url: str,
+                                                          tmp_path: Path) -> None:
+    """Found by hand: `check f.toml --out /dev/null --force`, run as root, renamed the report
+    over the device node (a copy of /dev/null made with mknod became a plain file)."""
+    formula = _formula(tmp_path / "f.toml", [("Aqua", 95), ("Glycerin", 5)])
+    pipe = tmp_path / "pipe.html"
+    os.mkfifo(pipe)
+    targets = [pipe]
+    if os.geteuid() == 0:  # only root may make a device node
+        device = tmp_path / "null.html"
+        os.mknod(device, 0o666 | stat.S_IFCHR, os.makedev(1, 3))
+        targets.append(device)
+    for target in targets:
+        for extra in ([], ["--force"]):
+            _refused(run_formdb(["--db", seeded_sqlite_url, "check", str(formula), "--format",
+                                 "html", "--out", str(target), *extra]), "not a regular file")
+        assert not target.is_file() and target.exists()
+
+
 def test_symlinks_are_not_followed(seeded_sqlite_url: str, tmp_path: Path) -> None:
     target = tmp_path / "elsewhere.csv"
     target.write_text("precious", encoding="utf-8")
