@@ -200,12 +200,19 @@ def _sentence(text: str) -> str:
     return text if text.endswith((".", "?", "!")) else text + "."
 
 
+MAX_ERROR_LINES = 100  # problems shown of one refusal; the rest are counted
+
+
 def error_lines(exc: FormdbError) -> list[str]:
     """One ``Error:`` line per problem (an import table or several formula files may carry
     many, in ``problems``); the next step rides on the last line."""
     from formdb.report.terminal import one_line
 
-    lines = [f"Error: {_sentence(one_line(str(p)))}" for p in exc.problems]
+    shown = exc.problems[:MAX_ERROR_LINES]
+    lines = [f"Error: {_sentence(one_line(str(p)))}" for p in shown]
+    if len(exc.problems) > len(shown):  # a table of 300,000 unknown columns: not 300,000 lines
+        lines.append(f"Error: and {len(exc.problems) - len(shown):,} more problems of the same "
+                     f"input (the first {len(shown)} are shown).")
     if exc.hint:
         lines[-1] += f" Next: {_sentence(one_line(exc.hint))}"
     return lines

@@ -18,6 +18,7 @@ MAX_FORMULA_LINES = 1_000  # [[ingredients]] entries; a real formula has tens
 MAX_TABLE_BYTES = 200_000_000  # an import table (CSV or XLSX)
 MAX_XLSX_UNPACKED_BYTES = 500_000_000  # a workbook's parts, unpacked (a ZIP bomb is not read)
 MAX_TABLE_ROWS = 200_000  # data rows of an import table (the benchmark imports 50,000)
+MAX_TABLE_COLUMNS = 1_000  # cells in one row of an import table (an export has under 100)
 MAX_CELL_CHARS = 32_767  # one cell: the most a spreadsheet cell holds (Excel's limit)
 MAX_NAME_CHARS = 200  # an INCI name or synonym (the column holds 200)
 

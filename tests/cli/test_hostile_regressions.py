@@ -191,6 +191,32 @@ def test_a_table_of_too_many_rows_is_refused(sqlite_url: str, tmp_path: Path,
 
 
 @pytest.mark.slow  # packing 600 MB: over a second
+@pytest.mark.parametrize(("text", "row"), [
+    ("inci_name," + ",".join(f"c{i}" for i in range(1_500)) + "\nLarkspur Wide\n", "row 1"),
+    ("inci_name,source\nLarkspur Wide" + "," * 3_000_000 + "\n", "row 2"),
+])
+def test_a_table_too_wide_is_refused_before_it_is_padded(sqlite_url: str, tmp_path: Path,
+                                                        text: str, row: str) -> None:
+    """Found by hand: 3,000,000 commas on one line padded every row to 3,000,001 cells (a few
+    more rows would exhaust memory), and 300,000 unknown columns took 7 s to list."""
+    path = tmp_path / "wide.csv"
+    path.write_text(text, encoding="utf-8")
+    _refused(run_formdb(["--db", sqlite_url, "ingredient", "import", str(path)]), row,
+             "more than 1,000 columns")
+
+
+def test_a_refusal_of_many_problems_shows_the_first_hundred(sqlite_url: str,
+                                                           tmp_path: Path) -> None:
+    path = tmp_path / "unknown.csv"
+    path.write_text("inci_name," + ",".join(f"c{i}" for i in range(150)) + "\nLarkspur U\n",
+                    encoding="utf-8")
+    result = run_formdb(["--db", sqlite_url, "ingredient", "import", str(path)])
+    lines = result.stderr.splitlines()
+    assert result.exit_code == 2 and len(lines) == 101, result.stderr[-300:]
+    assert all(line.startswith("Error: ") for line in lines)
+    assert lines[-1].startswith("Error: and 50 more problems of the same input")
+
+
 def test_a_workbook_that_unpacks_too_far_is_not_read(sqlite_url: str, tmp_path: Path) -> None:
     """A ZIP bomb: 600 MB of one repeated byte in a sheet, a few hundred KB packed."""
     from openpyxl import Workbook

@@ -18,6 +18,7 @@ from formdb.errors import InvalidData
 from formdb.schemas.bounds import (
     MAX_CELL_CHARS,
     MAX_TABLE_BYTES,
+    MAX_TABLE_COLUMNS,
     MAX_TABLE_ROWS,
     MAX_XLSX_UNPACKED_BYTES,
     UnreadableInput,
@@ -127,6 +128,8 @@ def _read_csv(path: Path, raw: bytes) -> list[list[str]]:
     records: list[list[str]] = []
     try:
         for record in reader:
+            if len(record) > MAX_TABLE_COLUMNS:  # before the rows are padded to the widest
+                _too_wide(str(path), len(record), len(records) + 1)
             records.append(record)
             if len(records) > MAX_TABLE_ROWS + 1:
                 raise_problems([Problem(str(path), f"more than {MAX_TABLE_ROWS:,} rows; split "
@@ -172,11 +175,20 @@ def _read_xlsx(path: Path) -> list[list[str]]:
     return [["" if c is None else str(c) for c in row] for row in frame.fillna("").values]
 
 
+def _too_wide(name: str, cells: int, row: int | None) -> None:
+    raise_problems([Problem(name, f"a row holds {cells:,} cells, more than "
+                            f"{MAX_TABLE_COLUMNS:,} columns", row=row)])
+
+
 def _bounded(name: str, cells: list[list[str]]) -> None:
-    """Refuse a table beyond the bounds (rows, characters in a cell), naming the first cell."""
+    """Refuse a table beyond the bounds (rows, columns, characters in a cell), naming the first
+    row or cell beyond."""
     if len(cells) > MAX_TABLE_ROWS + 1:
         raise_problems([Problem(name, f"more than {MAX_TABLE_ROWS:,} rows; split the table "
                                 "into smaller files")])
+    widest = max(map(len, cells), default=0)
+    if widest > MAX_TABLE_COLUMNS:  # a workbook (a CSV's rows are counted as they are read)
+        _too_wide(name, widest, None)
     for number, row in enumerate(cells, start=1):
         if max(map(len, row), default=0) <= MAX_CELL_CHARS:
             continue  # the common case, checked in C; the first long cell is found below
