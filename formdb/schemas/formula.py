@@ -12,6 +12,7 @@ from pydantic import BaseModel, ConfigDict, Field, field_validator
 from formdb.schemas.bounds import MAX_FORMULA_LINES
 from formdb.schemas.ingredient import IngredientRecord
 from formdb.schemas.lists import PURPOSES
+from formdb.schemas.names import clean_name
 from formdb.schemas.vocab import Category, EmulsionType
 
 
@@ -70,7 +71,7 @@ class FormulaLine(BaseModel):
     @field_validator("inci")
     @classmethod
     def _clean_inci(cls, value: str) -> str:
-        cleaned = " ".join(value.split())
+        cleaned = clean_name(value, None)  # NFC, as the library's names are stored
         if not cleaned:
             raise ValueError("inci is empty")
         return cleaned
@@ -175,6 +176,16 @@ class FormulaFile(BaseModel):
     placed_on: date | None = None
     process: ProcessConditions = ProcessConditions()
     ingredients: list[FormulaLine] = Field(min_length=1, max_length=MAX_FORMULA_LINES)
+
+    @field_validator("name")
+    @classmethod
+    def _clean_formula_name(cls, value: str) -> str:
+        """A formula's name is clean like an ingredient's (NFC, no character a reader cannot
+        see): it names the stored formula and heads every report."""
+        cleaned = clean_name(value, None)
+        if not cleaned:
+            raise ValueError("name is empty")
+        return cleaned
 
     @field_validator("ph", "batch_kg", mode="before")
     @classmethod

@@ -36,10 +36,12 @@ def refused_character(text: str) -> str | None:
     return None
 
 
-def clean_name(text: str, field: str) -> str:
+def clean_name(text: str, field: str | None) -> str:
     """The stored form of a name: NFC, trimmed, inner whitespace collapsed; ValueError naming
-    ``field`` and the character when it holds one a reader cannot see."""
+    ``field`` (None: where the caller already names it) and the character when it holds one a
+    reader cannot see."""
     bad = refused_character(text)
     if bad is not None:
-        raise ValueError(f"{field}: holds {bad}; names may hold only visible characters")
+        where = f"{field}: " if field else ""
+        raise ValueError(f"{where}holds {bad}; names may hold only visible characters")
     return " ".join(unicodedata.normalize("NFC", text).split())

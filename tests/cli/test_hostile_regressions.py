@@ -167,7 +167,7 @@ def test_a_formula_or_profile_over_5_mb_is_refused(sqlite_url: str, tmp_path: Pa
     padding = "#" + "x" * MAX_TOML_BYTES + "\n"
     huge = tmp_path / "huge.toml"
     huge.write_text('name = "x"\ncategory = "leave-on"\n' + padding, encoding="utf-8")
-    _refused(run_formdb(["--db", sqlite_url, "check", str(huge)]), "too large")
+    _refused(run_formdb(["--db", sqlite_url, "check", str(huge)]), "more than 5,000,000 bytes")
     profile = tmp_path / "huge-profile.toml"
     profile.write_text('name = "p"\n' + padding, encoding="utf-8")
     formula = _formula(tmp_path / "ok.toml", [("Aqua", 100)])
@@ -413,6 +413,32 @@ def test_names_are_stored_nfc(library_url: str) -> None:
     assert "Larkspur Oléate" in listed.stdout  # the composed form
     found = run_formdb(["--db", library_url, "ingredient", "show", "Larkspur Oléate"])
     assert found.exit_code == 0
+
+
+@pytest.mark.parametrize(("name", "says"), [
+    ("Larkspur\\u001b[2J cream", "U+001B"), ("Larkspur \\u202e cream", "U+202E"),
+    ("   ", "name is empty"),
+])
+def test_a_formula_name_is_clean_like_an_ingredient_name(library_url: str, tmp_path: Path,
+                                                         name: str, says: str) -> None:
+    """Found by hand: formula import stored names holding ESC sequences, a right-to-left
+    override, or nothing but spaces."""
+    path = tmp_path / "f.toml"
+    path.write_text(f'name = "{name}"\ncategory = "leave-on"\n[[ingredients]]\n'
+                    'inci = "Aqua"\npercent = 100\n', encoding="utf-8")
+    before = dump_database(library_url)
+    for command in (["formula", "import"], ["check"]):
+        _refused(run_formdb(["--db", library_url, *command, str(path)]), "key name", says)
+    assert dump_database(library_url) == before
+
+
+def test_a_formula_line_is_read_in_nfc(library_url: str, tmp_path: Path) -> None:
+    assert run_formdb(["--db", library_url, "ingredient", "add", "Larkspur Oléate"]
+                      ).exit_code == 0
+    path = _formula(tmp_path / "nfd.toml", [(unicodedata.normalize("NFD", "Larkspur Oléate"),
+                                              100)])
+    checked = run_formdb(["--db", library_url, "check", str(path), "--format", "json"])
+    assert checked.exit_code in (0, 1), checked.stderr  # found, not 'unknown ingredient'
 
 
 @pytest.mark.parametrize("digits", ["١٢", "１２", "۱۲"])  # Arabic-Indic, fullwidth, Persian 12
