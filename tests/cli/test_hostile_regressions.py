@@ -246,6 +246,11 @@ def test_a_workbook_that_unpacks_too_far_is_not_read(sqlite_url: str, tmp_path: 
              "unpacks to")
 
 
+class _Hung(BaseException):
+    """Not an OSError (as TimeoutError is) nor an Exception: no handler in formdb takes it
+    for a file it could not read."""
+
+
 @contextmanager
 def _deadline(seconds: int) -> Iterator[None]:
     """Fail instead of hanging (a command that read /dev/zero to its end, or waited on a pipe
@@ -253,7 +258,7 @@ def _deadline(seconds: int) -> Iterator[None]:
     import signal
 
     def expired(*_args: object) -> None:
-        raise TimeoutError(f"no answer within {seconds} s")
+        raise _Hung(f"no answer within {seconds} s")
 
     previous = signal.signal(signal.SIGALRM, expired)
     signal.alarm(seconds)
@@ -286,6 +291,21 @@ def test_a_device_or_pipe_is_refused_not_read_forever(seeded_sqlite_url: str, tm
         result = run_formdb(["--db", seeded_sqlite_url, *args])
     assert result.exit_code == 2, result
     assert "regular file" in result.stderr or "does not exist" in result.stderr, result.stderr
+
+
+def test_review_status_does_not_wait_on_a_formula_file_turned_into_a_pipe(
+        seeded_sqlite_url: str, tmp_path: Path) -> None:
+    """A review run remembers its formula file; `review status` reads it again to tell
+    whether it changed. A pipe put in its place hung the command."""
+    formula = _formula(tmp_path / "f.toml", [("Aqua", 95), ("Glycerin", 5)])
+    ran = run_formdb(["--db", seeded_sqlite_url, "review", "run", str(formula)])
+    assert ran.exit_code == 0, ran.stderr
+    formula.unlink()
+    os.mkfifo(formula)
+    with _deadline(30):
+        status = run_formdb(["--db", seeded_sqlite_url, "review", "status", "--format", "json"])
+    assert status.exit_code == 0, status.stderr
+    assert "cannot be read now" in status.stdout
 
 
 def test_a_formula_of_too_many_lines_is_refused(sqlite_url: str, tmp_path: Path) -> None:

@@ -36,6 +36,7 @@ from formdb.errors import Conflict, Forbidden, InvalidData, NotFound
 from formdb.facts.measured_rhlb import measurements_taken
 from formdb.rules.engine import check_resolved
 from formdb.rules.profiles import Profile, load_profile
+from formdb.schemas.bounds import MAX_TOML_BYTES, UnreadableInput, read_input
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.ingredient import IngredientRecord, name_key
 from formdb.schemas.numbers import ascii_digits
@@ -265,8 +266,8 @@ def _formula_changes(session: Session, run: ReviewRun) -> list[str]:
         where = f"stored formula {source[len(STORED):]!r}"
     else:
         try:
-            now = content_hash(Path(source).read_bytes().decode("utf-8"))
-        except (OSError, UnicodeDecodeError) as exc:
+            now = content_hash(read_input(Path(source), MAX_TOML_BYTES).decode("utf-8"))
+        except (OSError, UnicodeDecodeError, UnreadableInput) as exc:
             return [f"formula file {source}: cannot be read now ({exc})"]
         where = f"formula file {source}"
     if now != run.formula_hash:
