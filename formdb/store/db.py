@@ -82,9 +82,6 @@ def sqlite_path(url_or_path: str) -> Path | None:
     return Path(url.database)
 
 
-PAGE_CACHE_KIB = 32 * 1024
-
-
 def _sqlite_connect_settings(dbapi_connection: Any, _record: Any) -> None:
     # isolation_level None stops pysqlite issuing its own BEGIN/COMMIT; "begin" below emits ours
     dbapi_connection.isolation_level = None
@@ -92,9 +89,6 @@ def _sqlite_connect_settings(dbapi_connection: Any, _record: Any) -> None:
     try:
         cursor.execute("PRAGMA foreign_keys=ON")
         cursor.execute(f"PRAGMA busy_timeout={BUSY_TIMEOUT_MS}")
-        # 32 MB of page cache instead of SQLite's 2 MB: a large import's dirty pages stay in
-        # memory until the commit instead of spilling to the log mid-transaction
-        cursor.execute(f"PRAGMA cache_size=-{PAGE_CACHE_KIB}")
         _use_write_ahead_log(cursor)
     finally:
         cursor.close()
