@@ -73,13 +73,14 @@ def enrol_cmd(app: AppContext, library: Library, login: str, printed_name: str,
     """Enrol LOGIN's public key under their printed name (admin only)."""
     from formdb.errors import InvalidData
     from formdb.report.review_keys import key_enrolled
-    from formdb.services.review.keys import enrol_key
+    from formdb.schemas.bounds import UnreadableInput, read_input
+    from formdb.services.review.keys import KEY_FILE_BYTES, enrol_key
 
     path = Path(public).expanduser()
-    if path.is_file():
+    if path.exists():  # a file (the .pub `key new` wrote), else the key's own text
         try:
-            public = path.read_text(encoding="ascii")
-        except (OSError, UnicodeDecodeError) as exc:
+            public = read_input(path, KEY_FILE_BYTES).decode("ascii")
+        except (OSError, UnicodeDecodeError, UnreadableInput) as exc:
             raise InvalidData(f"{path}: cannot be read as a public key ({exc}).",
                               hint="give the .pub file `formdb key new` wrote") from None
     click.echo(key_enrolled(enrol_key(library, login, printed_name, public, user=app.user)),

@@ -31,6 +31,7 @@ from sqlalchemy.orm import Session
 
 from formdb.errors import ConfigError, Conflict, InvalidData, NotFound
 from formdb.schemas.admin import Action
+from formdb.schemas.bounds import UnreadableInput, read_input
 from formdb.schemas.review import KeyInfo, NewKey
 from formdb.schemas.times import utc
 from formdb.services.admin.access import require
@@ -41,6 +42,7 @@ from formdb.store.models import KeyEnrolment, ReviewSignature
 PUBLIC_PREFIX = "formdb-ed25519"
 SIGNED_FORM = "formdb-signature-1"
 MIN_PASSPHRASE = 8
+KEY_FILE_BYTES = 64 * 1024  # a PEM key file is well under 1 KB; more is not a key file
 KEY_FILE_ENV = "FORMDB_SIGNING_KEY"
 CLOCK_SKEW = timedelta(minutes=10)  # the run's and the signer's clocks may differ this much
 
@@ -94,7 +96,7 @@ def new_key_pair(path: Path, passphrase: str) -> NewKey:
     secret = _check_passphrase(passphrase)
     pub_path = path.with_name(path.name + ".pub")
     for target in (path, pub_path):
-        if target.exists():
+        if os.path.lexists(target):  # a dangling symlink too: nothing is written through one
             raise Conflict(f"{target} already exists: a key is never overwritten.",
                            hint="give another --out, or ask an admin to revoke the old key "
                                 "first if it is lost")
@@ -102,27 +104,48 @@ def new_key_pair(path: Path, passphrase: str) -> NewKey:
     pem = key.private_bytes(serialization.Encoding.PEM, serialization.PrivateFormat.PKCS8,
                             serialization.BestAvailableEncryption(secret))
     path.parent.mkdir(parents=True, exist_ok=True, mode=0o700)
+    public = key.public_key()
+    try:
+        _write_new(path, pem, 0o600)  # only its owner may read the private key
+        try:
+            _write_new(pub_path, (public_text(public) + "\n").encode("ascii"), 0o644)
+        except (OSError, Conflict):
+            path.unlink(missing_ok=True)  # a pair or nothing
+            raise
+    except OSError as exc:
+        raise InvalidData(f"{path}: the key pair cannot be written ({exc.strerror or exc}); "
+                          "nothing was written.", hint="choose a folder you can write to") from None
+    return NewKey(str(path), str(pub_path), public_text(public), key_id_of(public))
+
+
+def _write_new(path: Path, data: bytes, mode: int) -> None:
+    """Write a file that does not exist yet, whole or not at all: a temporary file beside it,
+    synced, then linked into place. The link fails when anything (a file, a symlink) took the
+    name meanwhile, so nothing is overwritten and no symlink is followed."""
     tmp = path.with_name(f".{path.name}.{os.getpid()}.tmp")
-    fd = os.open(tmp, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600)
+    fd = os.open(tmp, os.O_WRONLY | os.O_CREAT | os.O_EXCL, mode)
     try:
         with os.fdopen(fd, "wb") as out:
-            out.write(pem)
+            out.write(data)
             out.flush()
             os.fsync(out.fileno())
-        os.link(tmp, path)  # fails if the key appeared meanwhile: never overwrite
+        os.link(tmp, path)
+    except FileExistsError:
+        raise Conflict(f"{path} already exists: a key is never overwritten.",
+                       hint="give another --out") from None
     finally:
         tmp.unlink(missing_ok=True)
-    public = key.public_key()
-    pub_path.write_text(public_text(public) + "\n", encoding="ascii")
-    return NewKey(str(path), str(pub_path), public_text(public), key_id_of(public))
 
 
 def load_private_key(path: Path, passphrase: str) -> Ed25519PrivateKey:
     try:
-        data = path.read_bytes()
+        data = read_input(path, KEY_FILE_BYTES)
     except OSError as exc:
         raise ConfigError(f"signing key {path}: cannot be read ({exc.strerror}).",
                           hint="make one with `formdb key new`, or give --key FILE") from None
+    except UnreadableInput as exc:
+        raise InvalidData(f"signing key {path}: {exc}.",
+                          hint="give the key file `formdb key new` wrote") from None
     try:
         key = serialization.load_pem_private_key(data, password=passphrase.encode("utf-8"))
     except (ValueError, TypeError):
