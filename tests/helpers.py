@@ -13,13 +13,14 @@ from pathlib import Path
 from typing import Any
 from uuid import uuid4
 
+import click
 import pytest
 from click.testing import CliRunner
 from sqlalchemy import MetaData, Select, create_engine, func, select, text
 from sqlalchemy.engine import Connection, Engine, make_url
 
 from formdb.store.db import in_role_catalog_transaction, make_engine
-from formdb.store.sealing import FORMS, SEALED_COLUMNS
+from formdb.store.sealing import FORMS, SEALED_COLUMNS, seal
 
 PG_ENV = "FORMDB_TEST_PG_URL"
 HYPOTHESIS_PROFILE_ENV = "FORMDB_HYPOTHESIS_PROFILE"  # ci (default) or deep: tests/conftest.py
@@ -209,6 +210,25 @@ class CliResult:
     stderr: str
 
 
+def cli_commands() -> list[tuple[tuple[str, ...], click.Command]]:
+    """(path, command) for formdb itself (path ``()``), every group and every command of the
+    CLI, walked from its root, so a test over all of them covers a new one."""
+    from formdb.cli.main import cli
+
+    found: list[tuple[tuple[str, ...], click.Command]] = []
+    stack: list[tuple[tuple[str, ...], click.Command]] = [((), cli)]
+    while stack:
+        path, command = stack.pop(0)
+        found.append((path, command))
+        if isinstance(command, click.Group):
+            context = click.Context(command)
+            for name in command.list_commands(context):
+                sub = command.get_command(context, name)
+                if sub is not None:
+                    stack.append(((*path, name), sub))
+    return found
+
+
 def run_formdb(args: Sequence[str], env: Mapping[str, str | None] | None = None) -> CliResult:
     """Run ``formdb ARGS`` through its real entry point (the one error handler included)."""
     from formdb.cli.main import main
@@ -322,3 +342,31 @@ def forge_logged_user(archive: Path, forged: Path) -> None:
                 rows[1]["user"] = "Dr. Head of QA"  # a row naming someone else
                 data = "".join(json.dumps(r) + "\n" for r in rows).encode()
             dst.writestr(item, data)
+
+
+def chain_rows(conn: Connection, table: str) -> list[dict[str, Any]]:
+    """Every row of a sealed table, in chain order, as dicts."""
+    from formdb.store.models import Base
+
+    model = Base.metadata.tables[table]
+    return [dict(r) for r in conn.execute(select(model).order_by(model.c.id)).mappings()]
+
+
+def reseal(conn: Connection, table: str, first_id: int, change: Mapping[str, Any], *,
+           also: Mapping[str, Any] | None = None) -> None:
+    """Change row ``first_id`` of ``table`` and recompute the public hash of it and of every row
+    after it, as someone with UPDATE on the table and the (public) canonical form would;
+    ``also`` is written into every row rewritten (a forged server seal, say)."""
+    from formdb.store.models import Base
+
+    model = Base.metadata.tables[table]
+    rows = chain_rows(conn, table)
+    at = next(i for i, r in enumerate(rows) if r["id"] == first_id)
+    prev = rows[at]["prev_hash"]
+    for n, row in enumerate(rows[at:]):
+        if n == 0:
+            row.update(change)
+        prev = seal(table, [row], [row["id"]], prev)
+        conn.execute(model.update().where(model.c.id == row["id"]).values(
+            {**(change if n == 0 else {}), "prev_hash": row["prev_hash"],
+             "row_hash": row["row_hash"], **(also or {})}))

@@ -7,17 +7,9 @@ import pytest
 from click.testing import CliRunner
 
 from formdb.cli.main import COMMANDS, cli
+from tests.helpers import cli_commands
 
-
-def _walk(command: click.Command, path: tuple[str, ...]):
-    yield path, command
-    if isinstance(command, click.Group):
-        ctx = click.Context(command)
-        for name in command.list_commands(ctx):
-            yield from _walk(command.get_command(ctx, name), (*path, name))
-
-
-ALL = list(_walk(cli, ()))
+ALL = cli_commands()
 
 
 def test_every_registered_command_loads() -> None:

@@ -22,6 +22,7 @@ from formdb.cli.main import EXIT_INTERNAL
 from formdb.store.db import make_engine
 from tests.helpers import (
     CliResult,
+    cli_commands,
     dump_database,
     fresh_pg_database,
     pg_base_url,
@@ -476,27 +477,6 @@ def test_numbers_take_ascii_digits_only(library_url: str, tmp_path: Path, digits
     assert dump_database(library_url) == before
 
 
-def _commands() -> list[tuple[str, object]]:
-    """(command path, command) for every command of the CLI."""
-    import click
-
-    from formdb.cli.main import cli
-
-    found: list[tuple[str, object]] = []
-
-    def walk(group: click.Group, path: list[str]) -> None:
-        context = click.Context(group)
-        for name in group.list_commands(context):
-            command = group.get_command(context, name)
-            if isinstance(command, click.Group):
-                walk(command, [*path, name])
-            elif command is not None:
-                found.append((" ".join([*path, name]), command))
-
-    walk(cli, [])
-    return found
-
-
 def test_every_number_option_takes_ascii_digits_only() -> None:
     """click's FLOAT, INT, IntRange and FloatRange read '١٢' as 12 (found: `price add --per-kg
     ١٢` stored a price); every number option goes through formdb's Number instead."""
@@ -504,8 +484,8 @@ def test_every_number_option_takes_ascii_digits_only() -> None:
 
     from formdb.cli.main import Number
 
-    loose = [f"{name} {param.name}" for name, command in _commands()
-             for param in command.params  # type: ignore[attr-defined]
+    loose = [f"{' '.join(path)} {param.name}" for path, command in cli_commands()
+             for param in command.params
              if isinstance(param.type, click.types.IntParamType | click.types.FloatParamType)
              and not isinstance(param.type, Number)]
     assert loose == []
@@ -602,22 +582,9 @@ def _export_commands() -> list[list[str]]:
     `formula export NAME FILE` writes TOML through the same output_file)."""
     import click
 
-    from formdb.cli.main import cli
-
-    found: list[list[str]] = []
-
-    def walk(group: click.Group, path: list[str]) -> None:
-        context = click.Context(group)
-        for name in group.list_commands(context):
-            command = group.get_command(context, name)
-            if isinstance(command, click.Group):
-                walk(command, [*path, name])
-            elif name == "export" and command is not None and [
-                    p.name for p in command.params if isinstance(p, click.Argument)] == ["file"]:
-                found.append([*path, name])
-
-    walk(cli, [])
-    return found
+    return [list(path) for path, command in cli_commands()
+            if path and path[-1] == "export" and not isinstance(command, click.Group)
+            and [p.name for p in command.params if isinstance(p, click.Argument)] == ["file"]]
 
 
 @pytest.mark.parametrize("command", _export_commands(), ids=" ".join)

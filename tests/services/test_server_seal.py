@@ -14,13 +14,12 @@ from pathlib import Path
 from typing import Any
 
 import pytest
-from sqlalchemy import create_engine, select, text
+from sqlalchemy import create_engine, text
 from sqlalchemy.engine import make_url
 from sqlalchemy.exc import ProgrammingError
 
 from formdb.store.db import make_engine
-from formdb.store.models import Base
-from formdb.store.sealing import seal
+from tests.helpers import reseal
 from tests.signing import act, people
 
 __all__ = ["people"]  # the fixture, imported for its tests
@@ -29,22 +28,11 @@ CREAM = Path(__file__).parents[1] / "golden" / "formulas" / "ow-cream.toml"
 
 
 def _reseal_from(url: str, table: str, first_id: int, change: dict[str, Any]) -> None:
-    """Change row ``first_id`` of ``table`` and recompute the public hash of it and of every
-    row after it, as someone with UPDATE on the table and the (public) canonical form would."""
-    model = Base.metadata.tables[table]
+    """``reseal`` through a connection of its own, with a made-up server seal on every row."""
     engine = make_engine(url)
     try:
         with engine.begin() as conn:
-            rows = [dict(r) for r in conn.execute(select(model).order_by(model.c.id)).mappings()]
-            index = next(i for i, r in enumerate(rows) if r["id"] == first_id)
-            prev = rows[index]["prev_hash"]
-            for n, row in enumerate(rows[index:]):
-                if n == 0:
-                    row.update(change)
-                prev = seal(table, [row], [row["id"]], prev)
-                conn.execute(model.update().where(model.c.id == row["id"]).values(
-                    {**{k: row[k] for k in change if n == 0}, "prev_hash": row["prev_hash"],
-                     "row_hash": row["row_hash"], "server_seal": "f" * 64}))
+            reseal(conn, table, first_id, change, also={"server_seal": "f" * 64})
     finally:
         engine.dispose()
 

@@ -27,13 +27,13 @@ from pathlib import Path
 from typing import Any
 
 import pytest
-from sqlalchemy import create_engine, select, text
+from sqlalchemy import create_engine, text
 from sqlalchemy.engine import Connection, make_url
 
 from formdb.store.db import make_engine, sqlite_path
 from formdb.store.models import Base
 from formdb.store.sealing import SEALED_COLUMNS, seal
-from tests.helpers import fresh_pg_database
+from tests.helpers import chain_rows, fresh_pg_database, reseal
 from tests.signing import Person, act, new_signer, people, sign
 
 __all__ = ["people"]  # the fixture, imported for its tests
@@ -49,29 +49,9 @@ NOTHING: frozenset[str] = frozenset()
 
 # ----- plain-SQL changes -----------------------------------------------------------------------
 
-def _rows(conn: Connection, table: str) -> list[dict[str, Any]]:
-    model = Base.metadata.tables[table]
-    return [dict(r) for r in conn.execute(select(model).order_by(model.c.id)).mappings()]
-
-
-def _reseal(conn: Connection, table: str, first_id: int, change: dict[str, Any]) -> None:
-    """Change row ``first_id`` and recompute the public hash of it and every later row."""
-    model = Base.metadata.tables[table]
-    rows = _rows(conn, table)
-    at = next(i for i, r in enumerate(rows) if r["id"] == first_id)
-    prev = rows[at]["prev_hash"]
-    for n, row in enumerate(rows[at:]):
-        if n == 0:
-            row.update(change)
-        prev = seal(table, [row], [row["id"]], prev)
-        conn.execute(model.update().where(model.c.id == row["id"]).values(
-            {**(change if n == 0 else {}), "prev_hash": row["prev_hash"],
-             "row_hash": row["row_hash"]}))
-
-
 def _append(conn: Connection, table: str, row: dict[str, Any]) -> None:
     """Insert a row at the end of ``table``'s chain with a correct public seal."""
-    last = _rows(conn, table)[-1]
+    last = chain_rows(conn, table)[-1]
     row = {**row, "id": last["id"] + 1}
     seal(table, [row], [row["id"]], last["row_hash"])
     columns = [*SEALED_COLUMNS[table], "row_hash"]
@@ -96,20 +76,20 @@ def _sql(*statements: str) -> Callable[[Connection, dict[str, Any]], None]:
 def _resealed(table: str, which: str, **values: Any) -> Callable[[Connection, dict[str, Any]],
                                                                   None]:
     def change(conn: Connection, ids: dict[str, Any]) -> None:
-        _reseal(conn, table, ids[which], values)
+        reseal(conn, table, ids[which], values)
     return change
 
 
 def _forged_signature(conn: Connection, ids: dict[str, Any]) -> None:
-    real = next(r for r in _rows(conn, "review_signatures") if r["id"] == ids["rejection"])
+    real = next(r for r in chain_rows(conn, "review_signatures") if r["id"] == ids["rejection"])
     _append(conn, "review_signatures", {**real, "meaning": "approved", "comment": None,
                                         "signature": None})
 
 
 def _moved_signature(conn: Connection, ids: dict[str, Any]) -> None:
     """rita's review of the vanishing cream moved onto the day cream, its run hash with it."""
-    runs = {r["id"]: r for r in _rows(conn, "review_runs")}
-    _reseal(conn, "review_signatures", ids["review"],
+    runs = {r["id"]: r for r in chain_rows(conn, "review_runs")}
+    reseal(conn, "review_signatures", ids["review"],
             {"run_id": ids["cream_run"], "run_hash": runs[ids["cream_run"]]["run_hash"]})
 
 
@@ -119,10 +99,10 @@ def _forged_run_hash(conn: Connection, ids: dict[str, Any]) -> None:
     from formdb.services.review import runs as review_runs
     from formdb.store.models import ReviewRun
 
-    row = next(r for r in _rows(conn, "review_runs") if r["id"] == ids["cream_run"])
+    row = next(r for r in chain_rows(conn, "review_runs") if r["id"] == ids["cream_run"])
     run = ReviewRun(**{**row, "findings_json": "[]"})
     new = review_runs._digest(review_runs._run_content(run, None))
-    _reseal(conn, "review_runs", ids["cream_run"],
+    reseal(conn, "review_runs", ids["cream_run"],
             {"findings_json": "[]", "run_hash": new, "run_key": new[:12]})
 
 
@@ -133,7 +113,7 @@ def _forged_key(conn: Connection, ids: dict[str, Any]) -> None:
     from formdb.services.review.keys import key_id_of, public_text
 
     public = Ed25519PrivateKey.generate().public_key()
-    first = _rows(conn, "key_enrolments")[0]
+    first = chain_rows(conn, "key_enrolments")[0]
     _append(conn, "key_enrolments", {**first, "at": datetime.now(UTC).replace(microsecond=0),
                                      "key_id": key_id_of(public),
                                      "public_key": public_text(public)})
@@ -144,12 +124,12 @@ def _lenient_policy(conn: Connection, ids: dict[str, Any], *, resealed: bool) ->
 
     from formdb.rules.profiles import load_profile
 
-    row = next(r for r in _rows(conn, "policy_versions") if r["id"] == ids["policy"])
+    row = next(r for r in chain_rows(conn, "policy_versions") if r["id"] == ids["policy"])
     data = json.loads(row["policy_json"])
     data["profile"].update(name="default", hash=load_profile("default").content_hash)
     change = {"policy_json": json.dumps(data, sort_keys=True)}
     if resealed:
-        _reseal(conn, "policy_versions", ids["policy"], change)
+        reseal(conn, "policy_versions", ids["policy"], change)
     else:
         conn.execute(text("UPDATE policy_versions SET policy_json = :j WHERE id = :i"),
                      {"j": change["policy_json"], "i": ids["policy"]})
