@@ -223,6 +223,7 @@ def read_ingredient_rows(table: RawTable) -> tuple[list[FileRow], list[Problem]]
     pick = itemgetter(*(index for index, _column in mapped), 0)
     headless = [i for i in range(width) if i not in columns and not table.header[i]]
     source_of = [(prop, f"{prop}_source") for prop in PROPERTY_NAMES]
+    has_shared = SHARED_SOURCE in shown
     for number, cells in table.rows:
         given: Cells
         if len(cells) == width:  # as read_table gives them: every row as wide as the header
@@ -239,12 +240,13 @@ def read_ingredient_rows(table: RawTable) -> tuple[list[FileRow], list[Problem]]
                     problems.append(Problem(table.file, f"the cell {text[:40]!r} is in a column "
                                             "without a header", number, _letters(index)))
         row = FileRow(number, given)
-        shared = given.pop(SHARED_SOURCE, "")
-        for prop, source_column in source_of:
-            if given.get(prop) and not given.get(source_column):
-                given[source_column] = shared
-                if source_column not in shown:
-                    row.source_columns[prop] = shown.get(SHARED_SOURCE, source_column)
+        if has_shared:  # without the column there is nothing to fill in
+            shared = given.pop(SHARED_SOURCE, "")
+            for prop, source_column in source_of:
+                if given.get(prop) and not given.get(source_column):
+                    given[source_column] = shared
+                    if source_column not in shown:
+                        row.source_columns[prop] = shown[SHARED_SOURCE]
         rows.append(row)
     return rows, problems
 
