@@ -107,6 +107,7 @@ def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
                                key=lambda i: (-i.percent, i.record.inci_name))
         ) if has_mixtures(formula, reference) else (),
         hld=hld,
+        values_read=work.values_read(),
         gaps=work.data_gaps(),
         notes=tuple(work.notes))
 

@@ -17,6 +17,7 @@ from formdb.schemas.result import (
     HlbSystemFacts,
     LineFacts,
     RequiredHlbFacts,
+    ValueRead,
 )
 from formdb.schemas.vocab import EmulsionType, IonicCharacter, Role, Solubility
 from formdb.science.hlb import UnreachableHlb, blend_fractions, blend_hlb, hlb_scale, required_hlb
@@ -92,6 +93,9 @@ def blend(emulsifiers: list[EmulsifierFacts], emulsifier_percent: float, min_cov
     d_mass = sum(e.percent for e in emulsifiers if e.hlb is not None and e.scale == "davies")
     n_mass = sum(e.percent for e in emulsifiers if e.hlb is None)
     raw = blend_hlb([(e.percent, float(e.hlb or 0.0)) for e in griffin]) if griffin else None
+    for e in griffin:  # averaged into the blend and solved with (a soap's value is no line's)
+        if e.line_no is not None:
+            work.read("hlb", e.inci)
     coverage = g_mass / emulsifier_percent if emulsifier_percent > 0 else 0.0
     ionic_mass = sum(e.percent for e in emulsifiers
                      if e.scale == "davies" or e.formed_in_place
@@ -135,14 +139,19 @@ def required(formula: ResolvedFormula, lines: list[LineFacts], kind: EmulsionTyp
     lows: list[tuple[float, float | None]] = []
     highs: list[tuple[float, float | None]] = []
     ranged = False
+    read: list[ValueRead] = []
+    prop = "required_hlb_ow" if kind == EmulsionType.OW else "required_hlb_wo"
     for lf in lines:
         if not lf.required_hlb_member:
             continue
         ing = by_no[lf.line_no].ingredient
         value = ing.p.required_hlb_ow if kind == EmulsionType.OW else ing.p.required_hlb_wo
-        if value is None and is_co_emulsifier_only(ing) and ing.p.hlb is not None \
+        if value is not None:
+            read.append(ValueRead(ingredient=ing.inci_name, property=prop))
+        elif is_co_emulsifier_only(ing) and ing.p.hlb is not None \
                 and not ing.roles & OWN_NEED_ROLES:
             value = ing.p.hlb
+            read.append(ValueRead(ingredient=ing.inci_name, property="hlb"))
             work.note(f"{ing.inci_name}: co-emulsifier without a required HLB; its own HLB "
                       f"{value:g} stands for its need (as Wangpradit et al. 2022 do for "
                       "glyceryl monostearate)")
@@ -160,14 +169,23 @@ def required(formula: ResolvedFormula, lines: list[LineFacts], kind: EmulsionTyp
     return RequiredHlbFacts(
         emulsion_type=kind, value=result.value, covered_percent=result.covered_mass,
         members_percent=sum(p[0] for p in parts),
-        missing=tuple(names[i] for i in result.missing), low=low_avg, high=high_avg)
+        missing=tuple(names[i] for i in result.missing), low=low_avg, high=high_avg,
+        rests_on=tuple(read))
 
 
 def working_required(working: EmulsionType | None, rhlb_ow: RequiredHlbFacts,
                      rhlb_wo: RequiredHlbFacts, min_coverage: float,
                      work: Work) -> tuple[float | None, float | None]:
     """The required HLB for the working type and the share of the counted oil phase it rests
-    on; the value is None below ``min_coverage`` (gaps for the members without one)."""
+    on; the value is None below ``min_coverage`` (gaps for the members without one).
+
+    The library values read are those of the working type; with none, both types' values are
+    shown side by side and both are read.
+    """
+    for shown in ((rhlb_ow, rhlb_wo) if working is None else
+                  (rhlb_ow if working == EmulsionType.OW else rhlb_wo,)):
+        for value in shown.rests_on:
+            work.read(value.property, value.ingredient)
     if working is None:
         work.note("no intended type and no prediction: required HLB, dispersed phase and "
                   "interface are not worked out")

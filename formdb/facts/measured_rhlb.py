@@ -63,7 +63,7 @@ def apply_measured(facts: RequiredHlbFacts, formula: ResolvedFormula,
     return facts.model_copy(update={
         "value": found.value, "covered_percent": facts.members_percent, "missing": (),
         "measured_source": found.source_key, "measured_uncertainty": found.uncertainty,
-        "low": None, "high": None})
+        "low": None, "high": None, "rests_on": ()})
 
 
 def measurements_taken(formula: ResolvedFormula, reference: ReferenceData

@@ -58,6 +58,7 @@ def emulsifier_side(ing: IngredientRecord, work: Work) -> tuple[str | None, str]
     hlb = ing.p.hlb
     if sol is None and hlb is not None and hlb != HLB_WATER_SOLUBLE_ABOVE:
         side = "water" if hlb > HLB_WATER_SOLUBLE_ABOVE else "oil"
+        work.read("hlb", ing.inci_name)
         work.note(f"{ing.inci_name}: no solubility in the library; placed on the {side} side "
                   f"by its HLB {hlb:g} (rule of thumb: above 10 water-soluble, below oil-soluble)")
         work.gap("solubility", ing.inci_name, "type by Bancroft", "placed by HLB instead")

@@ -1,11 +1,12 @@
 """Scratch state while one formula's facts are worked out: what is left of each line, the soap
-formed in place, and the data gaps and notes in the order they were found (reports keep it)."""
+formed in place, the data gaps and notes in the order they were found (reports keep it), and
+the library values the verdicts read (so EVD01 names only those)."""
 
 from __future__ import annotations
 
 from dataclasses import dataclass, field
 
-from formdb.schemas.result import DataGap, SoapFacts
+from formdb.schemas.result import DataGap, SoapFacts, ValueRead
 from formdb.schemas.vocab import IonicCharacter, Solubility
 
 
@@ -29,6 +30,7 @@ class Work:
     water_formed: float = 0.0
     gaps: dict[tuple[str, str], tuple[list[str], str]] = field(default_factory=dict)
     notes: list[str] = field(default_factory=list)
+    reads: dict[ValueRead, None] = field(default_factory=dict)  # ordered, no repeats
 
     def gap(self, prop: str, ingredient: str, blocks: str, detail: str = "") -> None:
         names, old = self.gaps.setdefault((prop, blocks), ([], detail))
@@ -45,6 +47,13 @@ class Work:
     def note(self, text: str) -> None:
         if text not in self.notes:
             self.notes.append(text)
+
+    def read(self, prop: str, ingredient: str) -> None:
+        """Record that a verdict rests on ``ingredient``'s library value of ``prop``."""
+        self.reads.setdefault(ValueRead(ingredient=ingredient, property=prop), None)
+
+    def values_read(self) -> tuple[ValueRead, ...]:
+        return tuple(self.reads)
 
     def data_gaps(self) -> tuple[DataGap, ...]:
         return tuple(DataGap(property=prop, ingredients=tuple(names), blocks=blocks,

@@ -11,7 +11,7 @@ from formdb.rules.registry import register
 from formdb.schemas.findings import Finding
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.reference import ReferenceData
-from formdb.schemas.result import FormulaFacts
+from formdb.schemas.result import RECORDED_PROPERTIES, FormulaFacts
 from formdb.schemas.vocab import Evidence, Severity
 
 _SEVERITIES = ("off", *(s.value for s in Severity))
@@ -32,7 +32,10 @@ class UnverifiedValue(Rule):
     HLB, solubility, ionic character, density, pH window, electrolyte sensitivity, molar mass,
     base equivalents, acid value, cation valence, water number, viscosity) whose evidence is
     "from memory" or "rule of thumb"; one finding per ingredient and kind of evidence, naming
-    the properties.
+    the properties. HLB and required HLB are named only where the facts read them for a
+    verdict (FormulaFacts.values_read): the required HLB of the working type only (both types
+    while the type is undecided), the HLB of the members the blend averages or that place an
+    emulsifier without a solubility; not a value measured in-house replaced.
     Why: a reviewer signs a formula off on its numbers; a value nobody checked against a
     published source or a supplier's certificate is an open item before a trial, however
     plausible it looks (regulatory.md: every default and unverified value must be shown).
@@ -62,6 +65,7 @@ class UnverifiedValue(Rule):
         kinds = ((Evidence.FROM_MEMORY, options["from_memory_severity"]),
                  (Evidence.RULE_OF_THUMB, options["rule_of_thumb_severity"]),
                  (Evidence.SECONDARY, options["secondary_severity"]))
+        read = {(v.ingredient, v.property) for v in facts.values_read}
         seen: set[int] = set()
         for ln in formula.lines:
             ing = ln.ingredient
@@ -73,7 +77,8 @@ class UnverifiedValue(Rule):
                     continue
                 props = [p for p in CHECKED_PROPERTIES
                          if getattr(ing.p, p) is not None and p in ing.provenance
-                         and ing.provenance[p].evidence == evidence]
+                         and ing.provenance[p].evidence == evidence
+                         and (p not in RECORDED_PROPERTIES or (ing.inci_name, p) in read)]
                 if not props:
                     continue
                 yield self.finding(

@@ -147,6 +147,19 @@ class SoapFacts(_Frozen):
     classes: tuple[str, ...] = ("carboxylate soap",)  # compatibility classes (ION01)
 
 
+# The library properties whose reads the facts record (FormulaFacts.values_read): the HLB
+# balance's inputs, of which the check works out more than any one verdict uses (both emulsion
+# types' required HLB). Reads of other properties are not recorded.
+RECORDED_PROPERTIES = frozenset({"hlb", "required_hlb_ow", "required_hlb_wo"})
+
+
+class ValueRead(_Frozen):
+    """A library value a verdict of the facts rests on: whose and which property."""
+
+    ingredient: str
+    property: str
+
+
 class RequiredHlbFacts(_Frozen):
     """Required HLB of the oil phase for one emulsion type (weight average over known values)."""
 
@@ -163,6 +176,8 @@ class RequiredHlbFacts(_Frozen):
     # and expanded uncertainty (formdb.facts.measured_rhlb)
     measured_source: str | None = None
     measured_uncertainty: float | None = None
+    # the library values the value rests on (none once a measurement replaces the average)
+    rests_on: tuple[ValueRead, ...] = ()
 
 
 class HlbSystemFacts(_Frozen):
@@ -438,6 +453,8 @@ class FormulaFacts(_Frozen):
     substances: tuple[SubstanceFacts, ...] = ()
 
     hld: HldFacts | None = None  # the temperature-aware type indicator
+    # the library values (of RECORDED_PROPERTIES) the verdicts rest on, in the order read
+    values_read: tuple[ValueRead, ...] = ()
     gaps: tuple[DataGap, ...] = ()
     notes: tuple[str, ...] = ()
 

@@ -1,0 +1,75 @@
+"""EVD01 names only the library values a verdict rests on (FormulaFacts.values_read), on the
+shipped seed library under the strict profile. The seed grades Paraffinum Liquidum's (Mineral
+Oil's) required HLB for W/O and both of Petrolatum's required HLB values "from memory"; the HLB
+section works out both types' required HLB, but the balance verdict uses the working type's.
+The formulas are invented."""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+
+import pytest
+
+from formdb import api
+from formdb.schemas.findings import Finding
+
+
+@pytest.fixture(scope="module")
+def library(tmp_path_factory: pytest.TempPathFactory) -> Iterator[api.Library]:
+    lib = api.create_library(str(tmp_path_factory.mktemp("evd01") / "seed.sqlite"), seed=True)
+    yield lib
+    lib.close()
+
+
+def _evd01(library: api.Library, intended: str | None,
+           lines: list[tuple[str, float]]) -> dict[str, Finding]:
+    """EVD01's from-memory findings by ingredient, under the strict profile."""
+    head = 'name = "evd01 case"\ncategory = "leave-on"\n' + (
+        f'intended_type = "{intended}"\n' if intended else "")
+    body = "".join(f'[[ingredients]]\ninci = "{n}"\npercent = {p}\n' for n, p in lines)
+    result = api.check(library, head + body, profile="strict")
+    return {f.ingredients[0]: f for f in result.findings
+            if f.rule == "EVD01" and f.values.get("evidence") == "from memory"}
+
+
+def _props(finding: Finding | None) -> set[str]:
+    return set(str(finding.values["properties"]).split(", ")) if finding else set()
+
+
+def test_an_ow_cream_does_not_name_mineral_oils_wo_value(library: api.Library) -> None:
+    found = _evd01(library, "O/W", [("Mineral Oil", 20.0), ("Polysorbate 80", 4.0),
+                                    ("Sorbitan Oleate", 1.0), ("Aqua", 75.0)])
+    assert "Paraffinum Liquidum" not in found  # its W/O value is its only from-memory one
+    assert _props(found.get("Sorbitan Oleate")) == {"solubility"}
+    assert found["Sorbitan Oleate"].severity.value == "error"
+
+
+def test_a_wo_formula_still_names_the_wo_value(library: api.Library) -> None:
+    found = _evd01(library, "W/O", [("Petrolatum", 20.0), ("Polysorbate 80", 1.0),
+                                    ("Sorbitan Oleate", 4.0), ("Aqua", 75.0)])
+    assert _props(found["Petrolatum"]) == {"required_hlb_wo"}
+    assert found["Petrolatum"].severity.value == "error"
+
+
+def test_a_predicted_type_counts_as_the_working_type(library: api.Library) -> None:
+    # no intended type; blend HLB 9.65 and the solubility split both predict O/W
+    found = _evd01(library, None, [("Petrolatum", 20.0), ("Polysorbate 80", 2.5),
+                                   ("Sorbitan Oleate", 2.5), ("Aqua", 75.0)])
+    assert _props(found["Petrolatum"]) == {"required_hlb_ow"}
+
+
+def test_an_undecided_type_names_both_types_values(library: api.Library) -> None:
+    # blend HLB 7.5 (between the W/O and O/W classes) against a W/O solubility split: no
+    # prediction, so both required HLB values are shown and both are named
+    found = _evd01(library, None, [("Petrolatum", 20.0), ("Polysorbate 80", 1.5),
+                                   ("Sorbitan Oleate", 3.5), ("Aqua", 75.0)])
+    assert _props(found["Petrolatum"]) == {"required_hlb_ow", "required_hlb_wo"}
+
+
+def test_the_facts_record_the_values_they_read(library: api.Library) -> None:
+    result = api.check(library, 'name = "x"\ncategory = "leave-on"\nintended_type = "O/W"\n'
+        '[[ingredients]]\ninci = "Mineral Oil"\npercent = 20\n'
+        '[[ingredients]]\ninci = "Polysorbate 80"\npercent = 5\n'
+        '[[ingredients]]\ninci = "Aqua"\npercent = 75\n')
+    read = {(v.ingredient, v.property) for v in result.facts.values_read}
+    assert read == {("Polysorbate 80", "hlb"), ("Paraffinum Liquidum", "required_hlb_ow")}
