@@ -11,6 +11,7 @@ from click.testing import CliRunner
 
 from formdb.cli.main import cli
 from formdb.resources import seed_data_dir
+from formdb.schemas.vocab import EmulsionType
 from formdb.services.bench_work.demo import DEMO_PEAK_HLB, run_bench_demo
 from formdb.services.checking.demo import run_demo
 from formdb.store.library import Library
@@ -46,6 +47,11 @@ def test_screening_series_gives_the_lotion_a_measured_required_hlb(bench) -> Non
     assert after.required_hlb_ow.measured_source is not None
     assert after.required_hlb == pytest.approx(bench.fit.required_hlb)
     assert any("measured in-house" in note for note in after.notes)
+    # the measurement replaces the oils' library values: no verdict rests on them now, so EVD01
+    # names them no more (FormulaFacts.values_read)
+    assert before.working_type == after.working_type == EmulsionType.OW
+    assert {v.property for v in before.values_read} >= {"required_hlb_ow"}
+    assert not {v.property for v in after.values_read} & {"required_hlb_ow", "required_hlb_wo"}
 
 
 @pytest.mark.slow  # seconds per run: left out of the fast lane
