@@ -93,8 +93,10 @@ def blend(emulsifiers: list[EmulsifierFacts], emulsifier_percent: float, min_cov
     d_mass = sum(e.percent for e in emulsifiers if e.hlb is not None and e.scale == "davies")
     n_mass = sum(e.percent for e in emulsifiers if e.hlb is None)
     raw = blend_hlb([(e.percent, float(e.hlb or 0.0)) for e in griffin]) if griffin else None
-    for e in griffin:  # averaged into the blend and solved with (a soap's value is no line's)
-        if e.line_no is not None:
+    for e in emulsifiers:  # averaged into the blend and solved with, or kept out of it by its
+        # value alone (a nonionic above Griffin's 20); a soap's value is no line's
+        by_value = e.scale == "davies" and e.ionic_character not in IONISED
+        if e.line_no is not None and (e in griffin or by_value):
             work.read("hlb", e.inci)
     coverage = g_mass / emulsifier_percent if emulsifier_percent > 0 else 0.0
     ionic_mass = sum(e.percent for e in emulsifiers

@@ -34,8 +34,9 @@ class UnverifiedValue(Rule):
     "from memory" or "rule of thumb"; one finding per ingredient and kind of evidence, naming
     the properties. HLB and required HLB are named only where the facts read them for a
     verdict (FormulaFacts.values_read): the required HLB of the working type only (both types
-    while the type is undecided), the HLB of the members the blend averages or that place an
-    emulsifier without a solubility; not a value measured in-house replaced.
+    while the type is undecided), the HLB of the members the blend averages, of a nonionic its
+    value alone puts on Davies' scale, and of an emulsifier placed by it for want of a
+    solubility; not a value an in-house measurement replaced.
     Why: a reviewer signs a formula off on its numbers; a value nobody checked against a
     published source or a supplier's certificate is an open item before a trial, however
     plausible it looks (regulatory.md: every default and unverified value must be shown).

@@ -7,6 +7,7 @@ The formulas are invented."""
 from __future__ import annotations
 
 from collections.abc import Iterator
+from pathlib import Path
 
 import pytest
 
@@ -73,3 +74,23 @@ def test_the_facts_record_the_values_they_read(library: api.Library) -> None:
         '[[ingredients]]\ninci = "Aqua"\npercent = 75\n')
     read = {(v.ingredient, v.property) for v in result.facts.values_read}
     assert read == {("Polysorbate 80", "hlb"), ("Paraffinum Liquidum", "required_hlb_ow")}
+
+
+def test_an_hlb_that_only_decides_the_scale_is_still_read(tmp_path: Path) -> None:
+    # an invented nonionic whose recalled HLB 22 is above Griffin's 20: the value alone keeps it
+    # out of the blend, so a verdict rests on it; an unused W/O need of the oil is not named
+    table = tmp_path / "lab.csv"
+    table.write_text(
+        "inci_name,roles,hlb,hlb_source,ionic_character,ionic_character_source,solubility,"
+        "solubility_source\n"
+        "Larkspur Test Ethoxylate,emulsifier,22,from-memory,nonionic,from-memory,water,"
+        "from-memory\n", encoding="utf-8")
+    lib = api.create_library(str(tmp_path / "lib.sqlite"), seed=True)
+    try:
+        api.import_ingredients(lib, table)
+        found = _evd01(lib, "O/W", [("Mineral Oil", 20.0), ("Polysorbate 80", 4.0),
+                                    ("Larkspur Test Ethoxylate", 1.0), ("Aqua", 75.0)])
+    finally:
+        lib.close()
+    assert "hlb" in _props(found["Larkspur Test Ethoxylate"])
+    assert "Paraffinum Liquidum" not in found
