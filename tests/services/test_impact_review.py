@@ -75,3 +75,34 @@ def test_review_chains_are_sealed_and_tampering_is_found(seeded_library_url: str
     assert chains["review_signatures"]["problems"][0] == {
         "row": first, "kind": "altered",
         "detail": chains["review_signatures"]["problems"][0]["detail"]}
+
+
+def test_impact_checks_with_the_profile_file_the_run_used(seeded_sqlite_url: str,
+                                                          tmp_path: Path) -> None:
+    """A run made with a profile file is compared under that file (found by the path the run
+    records and held to its content hash), not under a packaged profile of another name; a
+    file changed since the run is named, and the comparison falls back to the chosen profile."""
+    url = seeded_sqlite_url
+    _formulas(url, tmp_path)
+    house = tmp_path / "house.toml"
+    house.write_text('name = "larkspur-house"\nversion = "1"\nextends = "strict"\n',
+                     encoding="utf-8")
+    summary = run_review(opened(url), "stored:Larkspur toner A", str(house),
+                         user="larkspur-reviewer")
+    _edit(url, molar_mass="160")
+    report = impact_of(opened(url), "Sodium Benzoate")
+    toner = next(f for f in report.formulas if f.formula == "Larkspur toner A")
+    assert toner.compared_with == f"review run {summary.run_key} (larkspur-house profile)"
+    assert not [n for n in report.notes if "profile" in n]
+    # the file changed after the run: said, and the chosen profile is used instead
+    house.write_text('name = "larkspur-house"\nversion = "2"\nextends = "default"\n',
+                     encoding="utf-8")
+    changed = impact_of(opened(url), "Sodium Benzoate")
+    toner = next(f for f in changed.formulas if f.formula == "Larkspur toner A")
+    assert toner.compared_with == f"review run {summary.run_key} (default profile)"
+    (note,) = [n for n in changed.notes if "profile" in n]
+    assert f"the file {house.resolve()} has changed since" in note
+    house.unlink()
+    gone = impact_of(opened(url), "Sodium Benzoate")
+    (note,) = [n for n in gone.notes if "profile" in n]
+    assert "is not available (the file" in note

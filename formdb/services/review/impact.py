@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import json
 from collections.abc import Iterator, Mapping
+from pathlib import Path
 from typing import Any
 
 from sqlalchemy import Table, inspect, select
@@ -254,13 +255,11 @@ def _compare(formula: ResolvedFormula, reference: ReferenceData, profile: Profil
              report: ImpactReport) -> FormulaImpact:
     name = formula.formula.name
     if run is not None and (before := _run_findings(run)) is not None:
-        try:
-            run_profile = load_profile(run["profile_name"])
-        except Exception:  # a profile this formdb no longer ships: say so, use the chosen one
-            run_profile = profile
+        run_profile, problem = _run_profile(run, profile)
+        if problem:
             report.notes.append(f"{name}: review run {run['run_key']}'s profile "
-                                f"{run['profile_name']!r} is not available; checked with "
-                                f"{profile.name!r}")
+                                f"{run['profile_name']!r} {problem}; checked with "
+                                f"{run_profile.name!r}")
         if run["formula_hash"] != formula.content_hash:
             report.notes.append(f"{name}: the stored formula changed since review run "
                                 f"{run['run_key']}; part of the difference may be its own")
@@ -275,6 +274,25 @@ def _compare(formula: ResolvedFormula, reference: ReferenceData, profile: Profil
     then: CheckResult = check_resolved(old_formula, old_reference, profile)
     return _impact(name, via, f"{earlier.inci_name} version {earlier.version}",
                    list(then.findings), now)
+
+
+def _run_profile(run: Mapping[str, Any], chosen: Profile) -> tuple[Profile, str | None]:
+    """The profile a run was checked with, found where the run says it came from (a packaged
+    profile by name, a profile file by its path) and held to the run's content hash; else the
+    chosen profile, and why."""
+    origin = run.get("profile_origin") or "packaged"
+    spec: str | Path = (Path(origin.removeprefix("file ")) if origin.startswith("file ")
+                        else run["profile_name"])
+    try:
+        found = load_profile(spec)
+    except Exception:  # a file gone or unreadable, a profile this formdb no longer ships
+        where = f"(the file {spec})" if isinstance(spec, Path) else "(not shipped any more)"
+        return chosen, f"is not available {where}"
+    expected = run.get("profile_hash")
+    if expected is not None and found.content_hash != expected:
+        where = f"the file {spec}" if isinstance(spec, Path) else "the packaged profile"
+        return chosen, f"is not what the run used ({where} has changed since)"
+    return found, None
 
 
 def _impact(name: str, via: tuple[str, ...], compared_with: str, before: list[Any],
