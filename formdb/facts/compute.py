@@ -61,9 +61,12 @@ def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
                              lines, measured, work)
     rhlb_wo = apply_measured(hlb.required(formula, lines, EmulsionType.WO, work), formula,
                              lines, measured, work)
+    # a system led by ionic members (a soap cream, say) gets no HLB balance: its required HLB
+    # is shown for reference only, so no verdict, band or ratio advice rests on it
+    balanced = product.kind in EMULSION_KINDS and (system is None or system.led_by != "ionic")
     required, coverage = (hlb.working_required(kind.working, rhlb_ow, rhlb_wo,
                                                settings.min_required_hlb_coverage, work)
-                          if product.kind in EMULSION_KINDS else (None, None))
+                          if balanced else (None, None))
     tol = settings.hlb_tolerance
     solution = hlb.solve(required, emulsifiers) if required is not None else None
 

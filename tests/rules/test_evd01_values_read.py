@@ -94,3 +94,23 @@ def test_an_hlb_that_only_decides_the_scale_is_still_read(tmp_path: Path) -> Non
         lib.close()
     assert "hlb" in _props(found["Larkspur Test Ethoxylate"])
     assert "Paraffinum Liquidum" not in found
+
+
+def test_a_soap_cream_rests_no_verdict_on_a_required_hlb(library: api.Library) -> None:
+    # stearic acid neutralised by triethanolamine in the batch: the system is led by its soap,
+    # so there is no HLB balance (issue 10's rule: an ionic-led system gets no Griffin verdict);
+    # the oil phase's required HLB is shown for reference, and no band, advice or EVD01 finding
+    # rests on it
+    lines = [("Stearic Acid", 15.0), ("Petrolatum", 5.0), ("Triethanolamine", 1.2),
+             ("Aqua", 78.8)]
+    head = 'name = "soap cream"\ncategory = "leave-on"\nintended_type = "O/W"\n'
+    body = "".join(f'[[ingredients]]\ninci = "{n}"\npercent = {p}\n' for n, p in lines)
+    result = api.check(library, head + body, profile="strict")
+    facts = result.facts
+    assert facts is not None and facts.hlb_system is not None
+    assert facts.hlb_system.led_by == "ionic"
+    assert facts.required_hlb_ow is not None and facts.required_hlb_ow.value is not None
+    assert facts.required_hlb is None and facts.target_low is None
+    assert facts.blend_solution is None
+    assert not [v for v in facts.values_read if v.property.startswith("required_hlb")]
+    assert "required_hlb_ow" not in _props(_evd01(library, "O/W", lines).get("Petrolatum"))
