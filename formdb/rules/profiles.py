@@ -109,7 +109,7 @@ class Profile(BaseModel):
         path = Path(self.path)
         if path.parent.resolve() == profiles_dir().resolve():
             return "packaged"
-        return f"file {path.resolve()}"
+        return f"{_FILE_ORIGIN}{path.resolve()}"
 
     def _settings(self, rule: Rule) -> RuleSettings | None:
         for code, settings in self.rules.items():
@@ -341,6 +341,17 @@ def _rule_tables(table: Any, label: str) -> dict[str, RuleSettings]:
                 options[key] = _parse_option(rule, key, value, f"{label}, [rules.{code}]")
         out[rule.code] = RuleSettings(severity=severity, options=options)
     return out
+
+
+_FILE_ORIGIN = "file "
+
+
+def recorded_profile(name: str, origin: str | None) -> str | Path:
+    """Where to load a profile a record names by its name and ``origin`` (as ``Profile.origin``
+    gave it): the file's path for a profile file, else the packaged profile's name."""
+    if origin is not None and origin.startswith(_FILE_ORIGIN):
+        return Path(origin.removeprefix(_FILE_ORIGIN))
+    return name
 
 
 def load_profile(spec: str | Path | None = None) -> Profile:

@@ -23,7 +23,7 @@ from sqlalchemy.orm import Session
 
 from formdb.errors import InvalidData, NotFound
 from formdb.rules.engine import check_resolved
-from formdb.rules.profiles import Profile, load_profile
+from formdb.rules.profiles import Profile, load_profile, recorded_profile
 from formdb.schemas.change_log import describe_change
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.impact import FindingKey, FormulaImpact, ImpactReport, LibraryChange, StaleRun
@@ -280,9 +280,7 @@ def _run_profile(run: Mapping[str, Any], chosen: Profile) -> tuple[Profile, str 
     """The profile a run was checked with, found where the run says it came from (a packaged
     profile by name, a profile file by its path) and held to the run's content hash; else the
     chosen profile, and why."""
-    origin = run.get("profile_origin") or "packaged"
-    spec: str | Path = (Path(origin.removeprefix("file ")) if origin.startswith("file ")
-                        else run["profile_name"])
+    spec = recorded_profile(run["profile_name"], run.get("profile_origin"))
     try:
         found = load_profile(spec)
     except Exception:  # a file gone or unreadable, a profile this formdb no longer ships
