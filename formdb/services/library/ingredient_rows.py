@@ -222,14 +222,17 @@ def read_ingredient_rows(table: RawTable) -> tuple[list[FileRow], list[Problem]]
     # only one column is mapped (zip leaves it out)
     pick = itemgetter(*(index for index, _column in mapped), 0)
     headless = [i for i in range(width) if i not in columns and not table.header[i]]
-    source_of = [(prop, f"{prop}_source") for prop in PROPERTY_NAMES]
     has_shared = SHARED_SOURCE in shown
+
+    def headless_cell(number: int, index: int, text: str) -> Problem:
+        return Problem(table.file, f"the cell {text[:40]!r} is in a column without a header",
+                       number, _letters(index))
+
     for number, cells in table.rows:
         given: Cells
         if len(cells) == width:  # as read_table gives them: every row as wide as the header
             given = dict(zip(mapped_columns, pick(cells), strict=False))
-            problems += [Problem(table.file, f"the cell {cells[index][:40]!r} is in a column "
-                                 "without a header", number, _letters(index))
+            problems += [headless_cell(number, index, cells[index])
                          for index in headless if cells[index]]
         else:
             given = {}
@@ -237,12 +240,11 @@ def read_ingredient_rows(table: RawTable) -> tuple[list[FileRow], list[Problem]]
                 if index in columns:
                     given[columns[index]] = text
                 elif text and (index >= width or not table.header[index]):
-                    problems.append(Problem(table.file, f"the cell {text[:40]!r} is in a column "
-                                            "without a header", number, _letters(index)))
+                    problems.append(headless_cell(number, index, text))
         row = FileRow(number, given)
         if has_shared:  # without the column there is nothing to fill in
             shared = given.pop(SHARED_SOURCE, "")
-            for prop, source_column in source_of:
+            for prop, source_column, _note_column in _PROPERTY_COLUMNS:
                 if given.get(prop) and not given.get(source_column):
                     given[source_column] = shared
                     if source_column not in shown:
