@@ -7,28 +7,16 @@ citing it. The sources are copies of monographs and handbooks, graded as such in
 
 from __future__ import annotations
 
-import csv
-from pathlib import Path
-
 import pytest
 
-SEED = Path(__file__).resolve().parents[2] / "seed_data"
+from tests.seed.tables import read_seed
+
 UNVERIFIED = ("from memory", "rule of thumb")
-
-
-def _read(name: str) -> list[dict[str, str]]:
-    with open(SEED / name, newline="", encoding="utf-8") as handle:
-        return list(csv.DictReader(handle))
 
 
 @pytest.fixture(scope="module")
 def rows() -> dict[str, dict[str, str]]:
-    return {row["inci_name"]: row for row in _read("ingredients.csv")}
-
-
-@pytest.fixture(scope="module")
-def sources() -> dict[str, dict[str, str]]:
-    return {row["key"]: row for row in _read("sources.csv")}
+    return {row["inci_name"]: row for row in read_seed("ingredients.csv")}
 
 
 # Typical use ranges, % w/w, for the use the seed row's roles name (emulsifier).

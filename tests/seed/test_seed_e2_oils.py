@@ -8,14 +8,10 @@ another source without the check following it.
 
 from __future__ import annotations
 
-import csv
-from pathlib import Path
-
 import pytest
 
 from formdb.schemas.ingredient import name_key
-
-SEED = Path(__file__).resolve().parents[2] / "seed_data"
+from tests.seed.tables import read_seed
 
 # Water at 20 C (g/mL), for a relative density d20/20 (CRC Handbook; IAPWS).
 WATER_20C = 0.99820
@@ -23,19 +19,9 @@ WATER_20C = 0.99820
 WATER_25C = 0.99705
 
 
-def _read(name: str) -> list[dict[str, str]]:
-    with open(SEED / name, newline="", encoding="utf-8") as handle:
-        return list(csv.DictReader(handle))
-
-
 @pytest.fixture(scope="module")
 def by_name() -> dict[str, dict[str, str]]:
-    return {name_key(row["inci_name"]): row for row in _read("ingredients.csv")}
-
-
-@pytest.fixture(scope="module")
-def sources() -> dict[str, dict[str, str]]:
-    return {row["key"]: row for row in _read("sources.csv")}
+    return {name_key(row["inci_name"]): row for row in read_seed("ingredients.csv")}
 
 
 # (ingredient, relative density low, high, density of water it is relative to, source key)

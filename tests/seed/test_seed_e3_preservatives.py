@@ -9,28 +9,20 @@ own export in ../shared/regulatory/ when that folder is on the machine (read, ne
 
 from __future__ import annotations
 
-import csv
-from pathlib import Path
-
 import pytest
 
 from formdb.schemas.ingredient import name_key
 from formdb.schemas.lists import ListEntry
 from formdb.services.lists.importing import read_export
 from tests.helpers import ANNEX_EXPORTS, needs_annex_exports
+from tests.seed.tables import read_seed
 
-SEED = Path(__file__).resolve().parents[2] / "seed_data"
 SHARED = ANNEX_EXPORTS
 needs_exports = needs_annex_exports()
 
 
-def _rows(name: str) -> list[dict[str, str]]:
-    with (SEED / name).open(newline="", encoding="utf-8") as handle:
-        return list(csv.DictReader(handle))
-
-
-INGREDIENTS = {name_key(row["inci_name"]): row for row in _rows("ingredients.csv")}
-SOURCES = {row["key"]: row for row in _rows("sources.csv")}
+INGREDIENTS = {name_key(row["inci_name"]): row for row in read_seed("ingredients.csv")}
+SOURCES = {row["key"]: row for row in read_seed("sources.csv")}
 
 
 def _row(inci: str) -> dict[str, str]:

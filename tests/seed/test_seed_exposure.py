@@ -12,12 +12,10 @@ without a source. Likewise the one toxicology record (phenoxyethanol) stays from
 
 from __future__ import annotations
 
-import csv
-from pathlib import Path
-
 import pytest
 
-SEED = Path(__file__).resolve().parents[2] / "seed_data"
+from tests.seed.tables import read_seed
+
 TABLE_3A = "sccs-nog-12-table-3a"
 TABLE_3B = "sccs-nog-12-table-3b"
 RECALLED = "sccs-nog-12-recalled"
@@ -72,19 +70,9 @@ COLUMNS = ("amount_g_day", "amount_mg_kg_bw_day", "retention_factor", "exposure_
            "exposure_mg_kg_bw_day")
 
 
-def _read(name: str) -> list[dict[str, str]]:
-    with (SEED / name).open(encoding="utf-8", newline="") as handle:
-        return list(csv.DictReader(handle))
-
-
 @pytest.fixture(scope="module")
 def exposure() -> dict[str, dict[str, str]]:
-    return {row["product"]: row for row in _read("exposure.csv")}
-
-
-@pytest.fixture(scope="module")
-def sources() -> dict[str, dict[str, str]]:
-    return {row["key"]: row for row in _read("sources.csv")}
+    return {row["product"]: row for row in read_seed("exposure.csv")}
 
 
 def _number(cell: str) -> float | None:
@@ -149,7 +137,7 @@ def test_table_sources_cite_table_and_page_and_stay_secondary(
 def test_toxicology_record_stays_from_memory(sources: dict[str, dict[str, str]]) -> None:
     """SCCS/1575/16 could not be read beyond its title pages: the phenoxyethanol NOAEL, species,
     duration and study are recalled and say so."""
-    rows = _read("toxicology.csv")
+    rows = read_seed("toxicology.csv")
     assert [r["inci"] for r in rows] == ["Phenoxyethanol"]
     row = rows[0]
     assert (row["pod_kind"], float(row["pod_value"]), row["pod_unit"]) == \

@@ -11,7 +11,6 @@ import csv
 import math
 import re
 from datetime import date
-from pathlib import Path
 
 import pytest
 
@@ -24,8 +23,8 @@ from formdb.schemas.ingredient import (
 )
 from formdb.schemas.reference import Incompatibility, LimitRecord, SoapPair
 from formdb.schemas.vocab import COMPAT_CLASSES, Evidence
+from tests.seed.tables import SEED, read_seed
 
-SEED = Path(__file__).resolve().parents[2] / "seed_data"
 INGREDIENT_FIXED = ["inci_name", "synonyms", "cas", "roles", "classes"]
 
 # Changing a seed file on purpose means changing its count here too.
@@ -111,23 +110,13 @@ PUBLISHED = [
 ]
 
 
-def _read(name: str) -> list[dict[str, str]]:
-    with open(SEED / name, newline="", encoding="utf-8") as handle:
-        return list(csv.DictReader(handle))
-
-
 def _split(cell: str) -> list[str]:
     return [item.strip() for item in cell.split(";") if item.strip()]
 
 
 @pytest.fixture(scope="module")
-def sources() -> dict[str, dict[str, str]]:
-    return {row["key"]: row for row in _read("sources.csv")}
-
-
-@pytest.fixture(scope="module")
 def ingredients() -> list[dict[str, str]]:
-    return _read("ingredients.csv")
+    return read_seed("ingredients.csv")
 
 
 @pytest.fixture(scope="module")
@@ -152,11 +141,11 @@ def _ingredient_in(row: dict[str, str]) -> IngredientIn:
 
 @pytest.mark.parametrize("name, count", sorted(ROW_COUNTS.items()))
 def test_row_count(name: str, count: int) -> None:
-    assert len(_read(name)) == count
+    assert len(read_seed(name)) == count
 
 
 def test_sources_are_unique_and_well_formed(sources: dict[str, dict[str, str]]) -> None:
-    keys = [row["key"] for row in _read("sources.csv")]
+    keys = [row["key"] for row in read_seed("sources.csv")]
     assert len(keys) == len(set(keys))
     evidence = {e.value for e in Evidence}
     for key, row in sources.items():
@@ -188,11 +177,12 @@ def test_every_source_key_resolves(sources: dict[str, dict[str, str]],
         (f"ingredients.csv {row['inci_name']}.{prop}", row[f"{prop}_source"])
         for row in ingredients for prop in PROPERTY_NAMES if row.get(prop, "").strip()]
     for name in ("limits.csv", "incompatibilities.csv", "soap_pairs.csv"):
-        used += [(f"{name} row {i}", row["source"]) for i, row in enumerate(_read(name), start=2)]
+        used += [(f"{name} row {i}", row["source"])
+                 for i, row in enumerate(read_seed(name), start=2)]
     # other seed tables that carry a source column (e.g. the SCCS exposure table)
     for path in sorted(SEED.glob("*.csv")):
         if path.name not in ROW_COUNTS:
-            rows = _read(path.name)
+            rows = read_seed(path.name)
             used += [(f"{path.name} row {i}", row["source"])
                      for i, row in enumerate(rows, start=2) if "source" in row]
     missing = [(where, key) for where, key in used if key not in sources]
@@ -251,7 +241,7 @@ def test_every_cas_passes_its_check_digit(ingredients: list[dict[str, str]]) -> 
 
 def test_every_class_is_a_compat_class(ingredients: list[dict[str, str]]) -> None:
     used = {c for row in ingredients for c in _split(row["classes"])}
-    for row in _read("incompatibilities.csv"):
+    for row in read_seed("incompatibilities.csv"):
         used |= {row["class_a"], row["class_b"]}
     assert used - set(COMPAT_CLASSES) == set()
 
@@ -351,7 +341,7 @@ def _limits() -> list[LimitRecord]:
             basis=row["basis"], acid_inci=row["acid_inci"] or None,
             excludes=tuple(_split(row["excludes"])), conditions=row["conditions"] or None,
             source=row["source"], list_date=date.fromisoformat(row["list_date"]))
-        for row in _read("limits.csv")]
+        for row in read_seed("limits.csv")]
 
 
 def test_limits_are_well_formed_and_resolve(by_name: dict[str, dict[str, str]],
@@ -359,7 +349,7 @@ def test_limits_are_well_formed_and_resolve(by_name: dict[str, dict[str, str]],
     limits = _limits()
     keys = [lim.key for lim in limits]
     assert len(keys) == len(set(keys))
-    products = {row["product"] for row in _read("exposure.csv")} \
+    products = {row["product"] for row in read_seed("exposure.csv")} \
         if (SEED / "exposure.csv").exists() else set()
     for lim in limits:
         assert lim.jurisdiction == "EU"
@@ -431,14 +421,14 @@ def test_limits_from_memory_cite_a_memory_source(sources: dict[str, dict[str, st
     # triethanolamine 2.5 %, behentrimonium leave-on limits, the MI leave-on ban act.
     for key in ("eu-v-50", "eu-v-13", "eu-v-34", "eu-iii-62", "eu-iii-287-hair-styling",
                 "eu-iii-287-face-cream", "eu-v-57-leave-on"):
-        source = next(r["source"] for r in _read("limits.csv") if r["key"] == key)
+        source = next(r["source"] for r in read_seed("limits.csv") if r["key"] == key)
         assert sources[source]["seen"] == "memory", key
 
 
 # --- incompatibilities and soap pairs ---------------------------------------------------------
 
 def test_incompatibilities_are_well_formed(sources: dict[str, dict[str, str]]) -> None:
-    rows = [Incompatibility(**row) for row in _read("incompatibilities.csv")]
+    rows = [Incompatibility(**row) for row in read_seed("incompatibilities.csv")]
     keys = [r.key for r in rows]
     assert len(keys) == len(set(keys))
     pairs = [frozenset((r.class_a, r.class_b)) for r in rows]
@@ -455,7 +445,7 @@ def test_incompatibilities_are_well_formed(sources: dict[str, dict[str, str]]) -
 
 def test_soap_pairs_resolve(by_name: dict[str, dict[str, str]],
                             sources: dict[str, dict[str, str]]) -> None:
-    rows = [SoapPair(**row) for row in _read("soap_pairs.csv")]
+    rows = [SoapPair(**row) for row in read_seed("soap_pairs.csv")]
     assert len({(r.acid_inci, r.base_inci) for r in rows}) == len(rows)
     for pair in rows:
         acid, base, soap = (by_name[name_key(n)] for n in (pair.acid_inci, pair.base_inci,
