@@ -27,7 +27,7 @@ from pathlib import Path
 from typing import Any
 
 from formdb.errors import InvalidData
-from formdb.rules.profiles import Profile, load_profile
+from formdb.rules.profiles import Profile, chosen_profile
 from formdb.schemas.bench import PriceRecord, ScreeningFit, ScreeningSeries, WeighSheet
 from formdb.schemas.ingredient import IngredientRecord
 from formdb.schemas.result import CheckResult
@@ -99,18 +99,14 @@ def check_many(library: Library, formulas: Iterable[FormulaGiven], *,
     given = list(formulas)
     names = list(labels) if labels is not None else [None] * len(given)
     items = [_as_input(f, n) for f, n in zip(given, names, strict=True)]
-    return check_inputs(library, items, _profile(profile))
+    return check_inputs(library, items, chosen_profile(profile))
 
 
 def check_stored(library: Library, *, profile: ProfileGiven = "default") -> Iterator[CheckResult]:
     """Check every formula stored in the library, one result at a time (``check --all``)."""
     from formdb.services.checking.flow import iter_check_stored
 
-    return iter_check_stored(library, _profile(profile))
-
-
-def _profile(profile: ProfileGiven) -> Profile:
-    return profile if isinstance(profile, Profile) else load_profile(profile or "default")
+    return iter_check_stored(library, chosen_profile(profile))
 
 
 # ----- ingredients ------------------------------------------------------------------------------

@@ -354,6 +354,11 @@ def recorded_profile(name: str, origin: str | None) -> str | Path:
     return name
 
 
+def chosen_profile(profile: Profile | str | Path | None, default: str = "default") -> Profile:
+    """The profile a caller gave: as it is, loaded by name or path, or ``default`` if none."""
+    return profile if isinstance(profile, Profile) else load_profile(profile or default)
+
+
 def load_profile(spec: str | Path | None = None) -> Profile:
     """A packaged profile by name ("default", "strict") or a profile file by path."""
     data, path = _raw(spec or "default", ())

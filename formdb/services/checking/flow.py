@@ -16,7 +16,7 @@ from sqlalchemy.orm import Session
 
 from formdb.errors import InvalidData
 from formdb.rules.engine import check_resolved
-from formdb.rules.profiles import Profile, load_profile
+from formdb.rules.profiles import Profile, chosen_profile
 from formdb.schemas.formula import FormulaFile, ResolvedFormula, ResolvedLine
 from formdb.schemas.ingredient import IngredientRecord, name_key
 from formdb.schemas.reference import ReferenceData
@@ -142,7 +142,7 @@ def _every_item(step: Callable[[Any], Any], items: Iterable[Any]) -> list[Any]:
 def check_inputs(library: Library, items: list[FormulaInput],
                  profile: Profile | str | None = None) -> list[CheckResult]:
     """Check already-read formulas against the library at ``library``."""
-    chosen = profile if isinstance(profile, Profile) else load_profile(profile or "default")
+    chosen = chosen_profile(profile)
     with library.read() as session:
         reference = queries.load_reference_data(session)
         resolved = resolve_all(session, items)
@@ -169,7 +169,7 @@ def count_stored(library: Library) -> int:
 def iter_check_stored(library: Library, profile: Profile | str | None = None,
                       batch_size: int = 200) -> Iterator[CheckResult]:
     """Check every stored formula, a batch at a time (names resolved in bulk per batch)."""
-    chosen = profile if isinstance(profile, Profile) else load_profile(profile or "default")
+    chosen = chosen_profile(profile)
     with library.read() as session:
         reference: ReferenceData = queries.load_reference_data(session)
         known: dict[str, IngredientRecord] = {}  # records met so far: one build per run

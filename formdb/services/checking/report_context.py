@@ -11,7 +11,7 @@ from datetime import date
 
 from sqlalchemy import func, select
 
-from formdb.rules.profiles import Profile, load_profile
+from formdb.rules.profiles import Profile, chosen_profile
 from formdb.rules.registry import default_registry
 from formdb.schemas.lists import HAND_WRITTEN, export_list_name
 from formdb.store.library import Library
@@ -33,7 +33,7 @@ def limit_snapshots(library: Library,
     """(jurisdiction, list name, newest list date) of every limit list the profile checks: the
     imported annex exports in force (their "Last update" date), and the seed's hand-written rows
     of the annexes no export covers."""
-    chosen = profile if isinstance(profile, Profile) else load_profile(profile or "default")
+    chosen = chosen_profile(profile)
     wanted = profile_jurisdictions(chosen)
     with library.read() as session:
         rows = session.execute(

@@ -23,7 +23,7 @@ from sqlalchemy.orm import Session
 
 from formdb.errors import InvalidData, NotFound
 from formdb.rules.engine import check_resolved
-from formdb.rules.profiles import Profile, load_profile, recorded_profile
+from formdb.rules.profiles import Profile, chosen_profile, load_profile, recorded_profile
 from formdb.schemas.change_log import describe_change
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.impact import FindingKey, FormulaImpact, ImpactReport, LibraryChange, StaleRun
@@ -228,7 +228,7 @@ def _latest_change(session: Session, target: IngredientRecord) -> LibraryChange 
 def impact_of(library: Library, ingredient: str, *, since: str | None = None,
               profile: Profile | str | None = None) -> ImpactReport:
     """Re-check every stored formula using ``ingredient`` and compare (module docstring)."""
-    chosen = profile if isinstance(profile, Profile) else load_profile(profile or "default")
+    chosen = chosen_profile(profile)
     with library.read() as session:
         target = queries.records_by_id(session, [_get(session, ingredient).id])
         record = next(iter(target.values()))

@@ -35,7 +35,7 @@ from formdb import __version__
 from formdb.errors import Conflict, Forbidden, InvalidData, NotFound
 from formdb.facts.measured_rhlb import measurements_taken
 from formdb.rules.engine import check_resolved
-from formdb.rules.profiles import Profile, load_profile
+from formdb.rules.profiles import Profile, chosen_profile
 from formdb.schemas.bounds import MAX_TOML_BYTES, UnreadableInput, read_input
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.ingredient import IngredientRecord, name_key
@@ -206,7 +206,7 @@ def _latest(session: Session, name: str, signable: bool) -> ReviewRun | None:
 def run_review(library: Library, source: str, profile: Profile | str | None = None, *,
                user: str) -> RunSummary:
     """``formdb review run``: check ``source`` (a path or stored:NAME) and store the run."""
-    chosen = profile if isinstance(profile, Profile) else load_profile(profile or DEFAULT_PROFILE)
+    chosen = chosen_profile(profile, DEFAULT_PROFILE)
     if not source.startswith(STORED):
         item = read_inputs([Path(source)])[0]
         label = str(Path(source).resolve())
