@@ -98,9 +98,10 @@ def test_an_hlb_that_only_decides_the_scale_is_still_read(tmp_path: Path) -> Non
 
 def test_a_soap_cream_rests_no_verdict_on_a_required_hlb(library: api.Library) -> None:
     # stearic acid neutralised by triethanolamine in the batch: the system is led by its soap,
-    # so there is no HLB balance (issue 10's rule: an ionic-led system gets no Griffin verdict);
-    # the oil phase's required HLB is shown for reference, and no band, advice or EVD01 finding
-    # rests on it
+    # so there is no HLB balance (Griffin's balance and his calculated values are for nonionic
+    # surfactants: Griffin, J. Soc. Cosmet. Chem. 5 (1954) 249; a soap's value is on Davies'
+    # scale); the oil phase's required HLB is shown for reference, and no band, advice or
+    # EVD01 finding rests on it
     lines = [("Stearic Acid", 15.0), ("Petrolatum", 5.0), ("Triethanolamine", 1.2),
              ("Aqua", 78.8)]
     head = 'name = "soap cream"\ncategory = "leave-on"\nintended_type = "O/W"\n'
