@@ -5,6 +5,7 @@ Sub-commands are imported only when invoked, so ``formdb check`` does not pay fo
 
 from __future__ import annotations
 
+import gc
 import importlib
 import math
 import os
@@ -234,7 +235,10 @@ def _wants_debug(argv: list[str]) -> bool:
 
 def main(argv: list[str] | None = None) -> None:
     """Entry point: run the command; turn a FormdbError into one ``Error:`` line and exit 2,
-    and anything else (a bug) into one line and exit ``EXIT_INTERNAL``."""
+    and anything else (a bug) into one line and exit ``EXIT_INTERNAL``.
+
+    ``argv`` None: called as the program (the console script, ``python -m formdb``), whose
+    process ends with the command (see ``_before_exit``)."""
     args = sys.argv[1:] if argv is None else argv
     from formdb.report.terminal import SafeOutput
 
@@ -247,6 +251,18 @@ def main(argv: list[str] | None = None) -> None:
         sys.stdout.flush()
         sys.stderr.flush()
         sys.stdout, sys.stderr = saved
+        if argv is None:
+            _before_exit()
+
+
+def _before_exit() -> None:
+    """The interpreter's shutdown runs the cycle collector over every object still alive,
+    more than once: for a short command that is the ~90,000 objects its start-up made
+    (modules, classes, mapped tables, compiled statements), about a sixth of its wall time,
+    spent looking for garbage whose memory the end of the process returns anyway. Frozen
+    objects are skipped. Nothing is left to finalise by then: the command's ``with`` blocks
+    have closed its library and files, and ``atexit`` handlers still run."""
+    gc.freeze()
 
 
 def _run(args: list[str]) -> None:
