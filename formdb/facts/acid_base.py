@@ -62,9 +62,12 @@ def free_bases(formula: ResolvedFormula, work: Work) -> tuple[FreeBaseFacts, ...
         free = work.remaining.get(ln.line_no, 0.0)
         if not is_strong_base(ing) or free <= 1e-9:
             continue
+        for prop in ("base_equivalents", "cation_valence", "neutralisation_water"):
+            work.read(prop, ing.inci_name)  # what makes it a strong base
         taken_by: list[str] = []
         equivalents = ing.p.base_equivalents or 1.0
         if ing.p.molar_mass:
+            work.read("molar_mass", ing.inci_name)
             base_mol = free / ing.p.molar_mass * equivalents
             for name, left in pool.items():
                 if base_mol <= 1e-12:
@@ -72,6 +75,7 @@ def free_bases(formula: ResolvedFormula, work: Work) -> tuple[FreeBaseFacts, ...
                 if left <= 1e-12:
                     continue
                 used = min(left, base_mol)
+                work.read("acid_value", name)
                 pool[name] = left - used
                 base_mol -= used
                 taken_by.append(name)

@@ -76,6 +76,7 @@ def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
         product = product.model_copy(update={"high_internal_phase": True})
     interface = droplets.interface(formula, settings, phases, emulsifier_percent)
     creaming = droplets.creaming(formula, settings, phases, work)
+    bases = free_bases(formula, work)
 
     return FormulaFacts(
         settings=settings,
@@ -96,7 +97,7 @@ def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
         water_side_emulsifier_percent=kind.water_side, oil_side_emulsifier_percent=kind.oil_side,
         type_by_bancroft=kind.by_bancroft, type_by_hlb=kind.by_hlb,
         predicted_type=kind.predicted, types_disagree=kind.disagree,
-        type_decision=kind.decision, kind=product, free_bases=free_bases(formula, work),
+        type_decision=kind.decision, kind=product, free_bases=bases,
         phases=phases.facts,
         dispersed_phase=phases.dispersed,
         dispersed_fraction=phases.fraction, packing_limit=CLOSE_PACKING,

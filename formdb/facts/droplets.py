@@ -50,6 +50,8 @@ def creaming(formula: ResolvedFormula, settings: FactsSettings, phases: PhaseVol
     main = cont.main_part()
     records = {ln.ingredient.inci_name: ln.ingredient for ln in formula.lines}
     viscosity = records[main].p.viscosity_mpas if main in records else None
+    if main is not None and viscosity is not None:
+        work.read("viscosity_mpas", main)
     if main is not None and viscosity is None:
         work.gap("viscosity_mpas", main, "creaming speed",
                  "the main ingredient of the continuous phase")

@@ -49,6 +49,8 @@ def emulsifiers(formula: ResolvedFormula, lines: list[LineFacts],
             continue
         ing = by_no[lf.line_no].ingredient
         side = lf.phase if lf.phase != "none" else None
+        if ing.p.ionic_character is not None:  # decides its scale and what leads the system
+            work.read("ionic_character", ing.inci_name)
         if is_hydrocolloid(ing):
             polymers.add(lf.line_no)
         elif ing.p.hlb is None and ing.p.ionic_character not in CHARGED:

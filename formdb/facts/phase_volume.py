@@ -113,6 +113,10 @@ def phase_volumes(lines: list[LineFacts], working: EmulsionType | None,
             work.note("dispersed_fraction: a phase has no ingredient with a density")
         elif d_parts or c_parts:
             fraction = volume_fraction(d_parts, c_parts)
+    if fraction is not None and emulsion:  # the packing verdict and creaming rest on them
+        for lf in lines:
+            if lf.phase in ("oil", "water") and lf.density and lf.remaining_percent > 0:
+                work.read("density", lf.inci)
 
     facts = PhaseFacts(
         oil_percent=oil.mass, water_percent=water.mass, other_percent=other,

@@ -51,6 +51,8 @@ def is_co_emulsifier_only(ing: IngredientRecord) -> bool:
 def emulsifier_side(ing: IngredientRecord, work: Work) -> tuple[str | None, str]:
     """The side an emulsifier dissolves on (Bancroft), and why."""
     sol = ing.p.solubility
+    if sol in (Solubility.WATER, Solubility.DISPERSIBLE, Solubility.OIL):
+        work.read("solubility", ing.inci_name)
     if sol in (Solubility.WATER, Solubility.DISPERSIBLE):
         return "water", f"solubility: {sol.value}"
     if sol == Solubility.OIL:
@@ -67,11 +69,13 @@ def emulsifier_side(ing: IngredientRecord, work: Work) -> tuple[str | None, str]
     return None, "no solubility"
 
 
-def place_line(ing: IngredientRecord) -> tuple[PhaseName, str]:
+def place_line(ing: IngredientRecord, work: Work) -> tuple[PhaseName, str]:
     """The phase a non-emulsifier line belongs to: solubility first, then its roles."""
     sol = ing.p.solubility
     if ing.has_role(Role.WATER):
         return "water", "role: water"
+    if sol is not None:
+        work.read("solubility", ing.inci_name)
     if sol == Solubility.OIL:
         return "oil", "solubility: oil"
     if sol in (Solubility.WATER, Solubility.DISPERSIBLE):
@@ -101,7 +105,7 @@ def line_facts(formula: ResolvedFormula, work: Work,
             side, reason = emulsifier_side(ing, work)
             phase: PhaseName = side if side in ("oil", "water") else "none"  # type: ignore[assignment]
         else:
-            phase, reason = place_line(ing)
+            phase, reason = place_line(ing, work)
             if reason == "no solubility or phase role":
                 work.gap("solubility", ing.inci_name, "phase assignment (dispersed_fraction)")
         remaining = work.remaining[ln.line_no]

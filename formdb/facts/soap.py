@@ -51,6 +51,7 @@ def _soap_side(record: IngredientRecord | None, base: IngredientRecord,
             return "oil", sol
     valence = base.p.cation_valence
     if valence is not None:
+        work.read("cation_valence", base.inci_name)
         return ("water", Solubility.WATER) if valence == 1 else ("oil", Solubility.OIL)
     equivalents = base.p.base_equivalents or 1.0
     work.gap("cation_valence", base.inci_name, "the side of soap formed in place",
@@ -88,7 +89,11 @@ def _neutralise_pair(acid: ResolvedLine, base: ResolvedLine, reference: Referenc
         return
     assert a.p.molar_mass is not None and b.p.molar_mass is not None
     assert b.p.base_equivalents is not None
+    for prop, ing in (("molar_mass", a), ("molar_mass", b), ("base_equivalents", b)):
+        work.read(prop, ing.inci_name)
     water_per_eq = b.p.neutralisation_water
+    if water_per_eq is not None:
+        work.read("neutralisation_water", b.inci_name)
     if water_per_eq is None:
         water_per_eq = 0.0
         work.note(f"{b.inci_name}: no neutralisation water in the library, taken as 0 "

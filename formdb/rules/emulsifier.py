@@ -54,9 +54,9 @@ class NoEmulsifier(Rule):
 
     def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,
               options: Mapping[str, Any]) -> Iterable[Finding]:
-        phases = facts.phases
-        if facts.emulsifiers or phases.oil_percent <= 0 or phases.water_percent <= 0:
+        if not reads_water_numbers(facts):
             return
+        phases = facts.phases
         oils = [lf.inci for lf in facts.lines if lf.phase == "oil"]
         bases = absorption_bases(formula, facts)
         holds = sum(percent * number / 100.0 for _, percent, number in bases)
@@ -87,3 +87,11 @@ class NoEmulsifier(Rule):
                     "emulsifier_percent": 0.0},
             advice="add an emulsifier system matched to the oil phase's required HLB "
                    "(`formdb blend`), or a fatty acid with a base to form a soap in the batch")
+
+
+def reads_water_numbers(facts: FormulaFacts) -> bool:
+    """EMU01 judges (and weighs absorption bases' water numbers for) only an emulsion with oil
+    and water and no emulsifier."""
+    phases = facts.phases
+    return (NoEmulsifier().applies_to(facts) and not facts.emulsifiers
+            and phases.oil_percent > 0 and phases.water_percent > 0)

@@ -14,6 +14,11 @@ from formdb.schemas.result import FormulaFacts
 from formdb.schemas.vocab import Severity
 
 
+def reads_ph_windows(formula: ResolvedFormula) -> bool:
+    """PH01 compares the ingredients' working pH ranges only with a pH the formula states."""
+    return formula.formula.ph is not None
+
+
 @register
 class PhWindow(Rule):
     """The formula's pH is outside the range in which an ingredient works.
@@ -40,7 +45,7 @@ class PhWindow(Rule):
         if not ranged:
             return
         ph = formula.formula.ph
-        if ph is None:
+        if not reads_ph_windows(formula) or ph is None:
             names = [ln.inci for ln in ranged]
             yield self.finding(
                 Severity.INFO,

@@ -7,6 +7,8 @@ from collections.abc import Iterable, Mapping
 from typing import Any, ClassVar
 
 from formdb.rules.base import Option, Rule
+from formdb.rules.emulsifier import reads_water_numbers
+from formdb.rules.ph_window import reads_ph_windows
 from formdb.rules.registry import register
 from formdb.schemas.findings import Finding
 from formdb.schemas.formula import ResolvedFormula
@@ -17,11 +19,14 @@ from formdb.schemas.vocab import Evidence, Severity
 _SEVERITIES = ("off", *(s.value for s in Severity))
 
 # The properties the facts and rules compute with. Typical use ranges are left out: they are
-# experience by nature and USE01 only advises on them.
+# experience by nature and USE01 only advises on them; so is electrolyte sensitivity, which no
+# check reads (INC01 matches compatibility classes).
 CHECKED_PROPERTIES = (
     "hlb", "required_hlb_ow", "required_hlb_wo", "solubility", "ionic_character", "density",
-    "ph_min", "ph_max", "electrolyte_sensitive", "molar_mass", "base_equivalents",
-    "acid_value", "cation_valence", "neutralisation_water", "water_number", "viscosity_mpas")
+    "ph_min", "ph_max", "molar_mass", "base_equivalents", "acid_value", "cation_valence",
+    "neutralisation_water", "water_number", "viscosity_mpas")
+# read by a rule rather than the facts: whether this formula's check reads them
+_READ_BY_RULES = {"ph_min": "ph", "ph_max": "ph", "water_number": "water"}
 
 
 @register
@@ -29,14 +34,18 @@ class UnverifiedValue(Rule):
     """A value the check computes with is recalled from memory or is a rule of thumb.
 
     Flags: for each formula line, the library values among those the check uses (HLB, required
-    HLB, solubility, ionic character, density, pH window, electrolyte sensitivity, molar mass,
-    base equivalents, acid value, cation valence, water number, viscosity) whose evidence is
-    "from memory" or "rule of thumb"; one finding per ingredient and kind of evidence, naming
-    the properties. HLB and required HLB are named only where the facts read them for a
-    verdict (FormulaFacts.values_read): the required HLB of the working type only (both types
+    HLB, solubility, ionic character, density, pH window, molar mass, base equivalents, acid
+    value, cation valence, neutralisation water, water number, viscosity) whose evidence is
+    "from memory", "rule of thumb" or a secondary copy; one finding per ingredient and kind of
+    evidence, naming the properties. A value is named only where this formula's check reads
+    it (FormulaFacts.values_read): the required HLB of the working type only (both types
     while the type is undecided), the HLB of the members the blend averages, of a nonionic its
     value alone puts on Davies' scale, and of an emulsifier placed by it for want of a
-    solubility; not a value an in-house measurement replaced.
+    solubility, not a value an in-house measurement replaced; a solubility that placed a line;
+    an emulsifier's ionic character; densities once a dispersed fraction is worked out; the
+    viscosity of the continuous phase's main ingredient only; a base's constants where a soap
+    forms or alkali is left free, and the acid values that took it up; pH windows only when
+    the formula states a pH (PH01); water numbers only where EMU01 weighs absorption bases.
     Why: a reviewer signs a formula off on its numbers; a value nobody checked against a
     published source or a supplier's certificate is an open item before a trial, however
     plausible it looks (regulatory.md: every default and unverified value must be shown).
@@ -67,6 +76,7 @@ class UnverifiedValue(Rule):
                  (Evidence.RULE_OF_THUMB, options["rule_of_thumb_severity"]),
                  (Evidence.SECONDARY, options["secondary_severity"]))
         read = {(v.ingredient, v.property) for v in facts.values_read}
+        rule_reads = {"ph": reads_ph_windows(formula), "water": reads_water_numbers(facts)}
         seen: set[int] = set()
         for ln in formula.lines:
             ing = ln.ingredient
@@ -79,7 +89,8 @@ class UnverifiedValue(Rule):
                 props = [p for p in CHECKED_PROPERTIES
                          if getattr(ing.p, p) is not None and p in ing.provenance
                          and ing.provenance[p].evidence == evidence
-                         and (p not in RECORDED_PROPERTIES or (ing.inci_name, p) in read)]
+                         and ((ing.inci_name, p) in read if p in RECORDED_PROPERTIES
+                              else rule_reads[_READ_BY_RULES[p]])]
                 if not props:
                     continue
                 yield self.finding(

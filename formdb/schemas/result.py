@@ -147,10 +147,15 @@ class SoapFacts(_Frozen):
     classes: tuple[str, ...] = ("carboxylate soap",)  # compatibility classes (ION01)
 
 
-# The library properties whose reads the facts record (FormulaFacts.values_read): the HLB
-# balance's inputs, of which the check works out more than any one verdict uses (both emulsion
-# types' required HLB). Reads of other properties are not recorded.
-RECORDED_PROPERTIES = frozenset({"hlb", "required_hlb_ow", "required_hlb_wo"})
+# The library properties whose reads the facts record (FormulaFacts.values_read): a value is
+# recorded where a number or verdict of the facts is worked from it (both emulsion types'
+# required HLB are worked out, but only the working type's is read for the balance; a density
+# is read for the dispersed fraction, a viscosity only for the continuous phase's main
+# ingredient, a base's constants only where a soap forms or alkali is left free).
+RECORDED_PROPERTIES = frozenset({
+    "hlb", "required_hlb_ow", "required_hlb_wo", "solubility", "ionic_character", "density",
+    "molar_mass", "base_equivalents", "acid_value", "cation_valence", "neutralisation_water",
+    "viscosity_mpas"})
 
 
 class ValueRead(_Frozen):

@@ -73,7 +73,14 @@ def test_the_facts_record_the_values_they_read(library: api.Library) -> None:
         '[[ingredients]]\ninci = "Polysorbate 80"\npercent = 5\n'
         '[[ingredients]]\ninci = "Aqua"\npercent = 75\n')
     read = {(v.ingredient, v.property) for v in result.facts.values_read}
-    assert read == {("Polysorbate 80", "hlb"), ("Paraffinum Liquidum", "required_hlb_ow")}
+    # the O/W need only (the W/O one is worked out, never read); solubilities that placed a
+    # line (Aqua is placed by its water role); the emulsifier's ionic character; every density
+    # once the dispersed fraction is worked out; the continuous phase's main viscosity (Stokes)
+    assert read == {("Polysorbate 80", "hlb"), ("Paraffinum Liquidum", "required_hlb_ow"),
+                    ("Paraffinum Liquidum", "solubility"), ("Polysorbate 80", "solubility"),
+                    ("Polysorbate 80", "ionic_character"), ("Paraffinum Liquidum", "density"),
+                    ("Polysorbate 80", "density"), ("Aqua", "density"),
+                    ("Aqua", "viscosity_mpas")}
 
 
 def test_an_hlb_that_only_decides_the_scale_is_still_read(tmp_path: Path) -> None:
@@ -115,3 +122,33 @@ def test_a_soap_cream_rests_no_verdict_on_a_required_hlb(library: api.Library) -
     assert facts.blend_solution is None
     assert not [v for v in facts.values_read if v.property.startswith("required_hlb")]
     assert "required_hlb_ow" not in _props(_evd01(library, "O/W", lines).get("Petrolatum"))
+
+
+def test_a_viscosity_is_named_only_for_the_continuous_phases_main_ingredient(
+        library: api.Library) -> None:
+    # the seed grades Glycerin's viscosity "from memory"; Stokes' creaming speed reads the
+    # viscosity of the continuous phase's main ingredient alone (here Aqua), so none rests on it
+    cream = _evd01(library, "O/W", [("Mineral Oil", 15.0), ("Polysorbate 80", 4.0),
+                                    ("Sorbitan Oleate", 1.0), ("Glycerin", 10.0),
+                                    ("Aqua", 70.0)])
+    assert "viscosity_mpas" not in _props(cream.get("Glycerin"))
+    # with Glycerin the main part of the water phase, the creaming speed is worked from it
+    syrup = _evd01(library, "O/W", [("Mineral Oil", 15.0), ("Polysorbate 80", 4.0),
+                                    ("Sorbitan Oleate", 1.0), ("Glycerin", 45.0),
+                                    ("Aqua", 35.0)])
+    assert "viscosity_mpas" in _props(syrup["Glycerin"])
+
+
+def test_ph_windows_are_named_only_when_the_formula_states_a_ph(library: api.Library) -> None:
+    # the seed grades Phenoxyethanol's working pH range "from memory"; PH01 compares it only
+    # with a stated pH (without one it says the ranges could not be checked)
+    lines = [("Mineral Oil", 15.0), ("Polysorbate 80", 4.0), ("Sorbitan Oleate", 1.0),
+             ("Phenoxyethanol", 1.0), ("Aqua", 79.0)]
+    without_ph = _evd01(library, "O/W", lines)
+    assert not {"ph_min", "ph_max"} & _props(without_ph.get("Phenoxyethanol"))
+    body = "".join(f'[[ingredients]]\ninci = "{n}"\npercent = {p}\n' for n, p in lines)
+    result = api.check(library, 'name = "with a pH"\ncategory = "leave-on"\n'
+                       'intended_type = "O/W"\nph = 5.5\n' + body, profile="strict")
+    named = [f for f in result.findings if f.rule == "EVD01"
+             and f.ingredients[0] == "Phenoxyethanol" and f.values["evidence"] == "from memory"]
+    assert {"ph_min", "ph_max"} <= _props(named[0] if named else None)
