@@ -48,7 +48,7 @@ def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
                                              settings.min_blend_hlb_coverage, work)
 
     product = recognise(formula, lines, emulsifiers, work.water_formed, settings)
-    hld = hld_facts(formula, lines, emulsifiers) if product.kind in EMULSION_KINDS else None
+    hld = hld_facts(formula, lines, emulsifiers, work) if product.kind in EMULSION_KINDS else None
     kind = emulsion_type(formula, emulsifiers, blend, blend_covered, settings, work, hld)
     if product.kind not in EMULSION_KINDS:
         work.drop_gaps(hlb.BLEND_HLB)

@@ -15,6 +15,7 @@ f(A) term), which is not modelled.
 from __future__ import annotations
 
 from formdb.facts.phases import is_co_emulsifier_only
+from formdb.facts.work import Work
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.ingredient import name_key
 from formdb.schemas.result import EmulsifierFacts, HldFacts, LineFacts
@@ -32,7 +33,7 @@ def _not_enough(reason: str, temperature: float, source: str,
 
 
 def hld_facts(formula: ResolvedFormula, lines: list[LineFacts],
-              emulsifiers: list[EmulsifierFacts]) -> HldFacts:
+              emulsifiers: list[EmulsifierFacts], work: Work) -> HldFacts:
     """The HLD fact of one formula (pure: the resolved formula and the facts so far)."""
     process = formula.formula.process.emulsifying_temperature_c()
     temperature = 25.0 if process is None else process
@@ -84,7 +85,14 @@ def hld_facts(formula: ResolvedFormula, lines: list[LineFacts],
         hld = hld_nonionic(salinity, eacn, cc, temperature)
         hld_25 = hld_nonionic(salinity, eacn, cc, 25.0)
         ethoxylated = all(by_no[e.line_no].p.ethoxylated for e in members if e.line_no)
+        for e in members:  # whether a phase inversion temperature is worked out
+            if e.line_no is not None and by_no[e.line_no].p.ethoxylated is not None:
+                work.read("ethoxylated", e.inci)
         pit = pit_nonionic(salinity, eacn, cc) if ethoxylated else None
+    for lf in oils:
+        work.read("eacn", lf.inci)
+    for e in members:
+        work.read("hld_cc", e.inci)
     return HldFacts(status="computed", form=form, temperature_c=temperature,
                     temperature_from=source, eacn=eacn, cc=cc, salinity_g_100ml=salinity,
                     hld=hld, hld_25c=hld_25, favours=hld_type(hld), pit_c=pit)

@@ -24,7 +24,7 @@ _SEVERITIES = ("off", *(s.value for s in Severity))
 CHECKED_PROPERTIES = (
     "hlb", "required_hlb_ow", "required_hlb_wo", "solubility", "ionic_character", "density",
     "ph_min", "ph_max", "molar_mass", "base_equivalents", "acid_value", "cation_valence",
-    "neutralisation_water", "water_number", "viscosity_mpas")
+    "neutralisation_water", "water_number", "viscosity_mpas", "eacn", "hld_cc", "ethoxylated")
 # read by a rule rather than the facts: whether this formula's check reads them
 _READ_BY_RULES = {"ph_min": "ph", "ph_max": "ph", "water_number": "water"}
 
@@ -35,7 +35,8 @@ class UnverifiedValue(Rule):
 
     Flags: for each formula line, the library values among those the check uses (HLB, required
     HLB, solubility, ionic character, density, pH window, molar mass, base equivalents, acid
-    value, cation valence, neutralisation water, water number, viscosity) whose evidence is
+    value, cation valence, neutralisation water, water number, viscosity, EACN, Cc, whether
+    ethoxylated) whose evidence is
     "from memory", "rule of thumb" or a secondary copy; one finding per ingredient and kind of
     evidence, naming the properties. A value is named only where this formula's check reads
     it (FormulaFacts.values_read): the required HLB of the working type only (both types
@@ -44,7 +45,8 @@ class UnverifiedValue(Rule):
     solubility, not a value an in-house measurement replaced; a solubility that placed a line;
     an emulsifier's ionic character; densities once a dispersed fraction is worked out; the
     viscosity of the continuous phase's main ingredient only; a base's constants where a soap
-    forms or alkali is left free, and the acid values that took it up; pH windows only when
+    forms or alkali is left free, and the acid values that took it up; EACN, Cc and ethoxylation
+    once an HLD is worked out; pH windows only when
     the formula states a pH (PH01); water numbers only where EMU01 weighs absorption bases.
     Why: a reviewer signs a formula off on its numbers; a value nobody checked against a
     published source or a supplier's certificate is an open item before a trial, however

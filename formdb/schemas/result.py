@@ -155,7 +155,7 @@ class SoapFacts(_Frozen):
 RECORDED_PROPERTIES = frozenset({
     "hlb", "required_hlb_ow", "required_hlb_wo", "solubility", "ionic_character", "density",
     "molar_mass", "base_equivalents", "acid_value", "cation_valence", "neutralisation_water",
-    "viscosity_mpas"})
+    "viscosity_mpas", "eacn", "hld_cc", "ethoxylated"})
 
 
 class ValueRead(_Frozen):

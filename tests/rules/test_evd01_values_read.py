@@ -152,3 +152,18 @@ def test_ph_windows_are_named_only_when_the_formula_states_a_ph(library: api.Lib
     named = [f for f in result.findings if f.rule == "EVD01"
              and f.ingredients[0] == "Phenoxyethanol" and f.values["evidence"] == "from memory"]
     assert {"ph_min", "ph_max"} <= _props(named[0] if named else None)
+
+
+def test_an_hld_worked_out_names_the_eacn_and_cc_it_rests_on(library: api.Library) -> None:
+    # the seed's only EACN (Squalane) and Cc (Sodium Lauryl Sulfate) are from memory; with
+    # sodium chloride for the salinity the ionic HLD is worked out from both, so both are named
+    # (before the facts recorded these reads, neither was)
+    found = _evd01(library, None, [("Squalane", 20.0), ("Sodium Lauryl Sulfate", 2.0),
+                                   ("Sodium Chloride", 1.0), ("Aqua", 77.0)])
+    assert "eacn" in _props(found["Squalane"])
+    assert "hld_cc" in _props(found["Sodium Lauryl Sulfate"])
+    # without the salt no HLD is worked out, and neither value is read
+    none = _evd01(library, None, [("Squalane", 20.0), ("Sodium Lauryl Sulfate", 2.0),
+                                  ("Aqua", 78.0)])
+    assert "eacn" not in _props(none.get("Squalane"))
+    assert "hld_cc" not in _props(none.get("Sodium Lauryl Sulfate"))
