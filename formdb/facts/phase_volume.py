@@ -117,6 +117,9 @@ def phase_volumes(lines: list[LineFacts], working: EmulsionType | None,
         for lf in lines:
             if lf.phase in ("oil", "water") and lf.density and lf.remaining_percent > 0:
                 work.read("density", lf.inci)
+        for soap in work.soaps:
+            if soap.side in ("oil", "water") and soap.density and soap.facts.soap_in_library:
+                work.read("density", soap.facts.soap)
 
     facts = PhaseFacts(
         oil_percent=oil.mass, water_percent=water.mass, other_percent=other,

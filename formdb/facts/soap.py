@@ -45,6 +45,8 @@ def _soap_side(record: IngredientRecord | None, base: IngredientRecord,
     """Which side a soap counts on: its library solubility, else its base's cation valence."""
     if record is not None and record.p.solubility is not None:
         sol = record.p.solubility
+        if sol in (Solubility.WATER, Solubility.DISPERSIBLE, Solubility.OIL):
+            work.read("solubility", record.inci_name)
         if sol in (Solubility.WATER, Solubility.DISPERSIBLE):
             return "water", sol
         if sol == Solubility.OIL:
@@ -128,5 +130,7 @@ def _neutralise_pair(acid: ResolvedLine, base: ResolvedLine, reference: Referenc
         classes=tuple(sorted(set(record.classes if record else ()) | {SOAP_CLASS})))
     ionic = record.p.ionic_character if record and record.p.ionic_character else \
         IonicCharacter.ANIONIC
+    if record is not None and record.p.ionic_character is not None:
+        work.read("ionic_character", record.inci_name)
     work.soaps.append(SoapMember(facts, solubility, ionic, side,
                                  record.p.density if record else None))

@@ -6,6 +6,7 @@ from __future__ import annotations
 from collections.abc import Iterable, Mapping
 from typing import Any, ClassVar
 
+from formdb.facts.soap import soap_record
 from formdb.rules.base import Option, Rule
 from formdb.rules.emulsifier import reads_water_numbers
 from formdb.rules.ph_window import reads_ph_windows
@@ -45,7 +46,8 @@ class UnverifiedValue(Rule):
     solubility, not a value an in-house measurement replaced; a solubility that placed a line;
     an emulsifier's ionic character; densities once a dispersed fraction is worked out; the
     viscosity of the continuous phase's main ingredient only; a base's constants where a soap
-    forms or alkali is left free, and the acid values that took it up; EACN, Cc and ethoxylation
+    forms or alkali is left free, and the acid values that took it up, and the library record of
+    the soap formed (named as such: its side and charge); EACN, Cc and ethoxylation
     once an HLD is worked out; pH windows only when
     the formula states a pH (PH01); water numbers only where EMU01 weighs absorption bases.
     Why: a reviewer signs a formula off on its numbers; a value nobody checked against a
@@ -79,9 +81,14 @@ class UnverifiedValue(Rule):
                  (Evidence.SECONDARY, options["secondary_severity"]))
         read = {(v.ingredient, v.property) for v in facts.values_read}
         rule_reads = {"ph": reads_ph_windows(formula), "water": reads_water_numbers(facts)}
+        # the lines' ingredients, then the library records of soaps formed in the batch (their
+        # side and charge are read from them, though no line names them)
+        records = [(ln.ingredient, "") for ln in formula.lines]
+        records += [(soap, " (the soap formed in the batch)") for soap in
+                    (soap_record(reference, s.soap) for s in facts.soaps if s.soap_in_library)
+                    if soap is not None]
         seen: set[int] = set()
-        for ln in formula.lines:
-            ing = ln.ingredient
+        for ing, formed in records:
             if ing.id in seen:
                 continue
             seen.add(ing.id)
@@ -97,7 +104,7 @@ class UnverifiedValue(Rule):
                     continue
                 yield self.finding(
                     Severity(severity),
-                    f"{ing.inci_name}: {', '.join(props)} rest on values recorded as "
+                    f"{ing.inci_name}{formed}: {', '.join(props)} rest on values recorded as "
                     f"{evidence.value} (not verified against a source)",
                     ingredients=[ing.inci_name],
                     values={"evidence": evidence.value, "properties": ", ".join(props)},

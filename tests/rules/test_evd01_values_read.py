@@ -167,3 +167,18 @@ def test_an_hld_worked_out_names_the_eacn_and_cc_it_rests_on(library: api.Librar
                                   ("Aqua", 78.0)])
     assert "eacn" not in _props(none.get("Squalane"))
     assert "hld_cc" not in _props(none.get("Sodium Lauryl Sulfate"))
+
+
+def test_the_soap_formed_in_the_batch_is_named_for_the_values_read_from_it(
+        library: api.Library) -> None:
+    # the seed grades TEA-Stearate's solubility "from memory" (its sodium and potassium soaps
+    # cite McBain and Sierichs 1948); the soap formed from stearic acid and triethanolamine is
+    # placed on the water side by it, so the O/W it favours rests on it, though no line names it
+    found = _evd01(library, "O/W", [("Stearic Acid", 15.0), ("Petrolatum", 5.0),
+                                    ("Triethanolamine", 1.2), ("Aqua", 78.8)])
+    assert _props(found["TEA-Stearate"]) == {"solubility"}
+    assert "(the soap formed in the batch)" in found["TEA-Stearate"].message
+    # with no base there is no soap, and nothing is read from its record
+    acid_only = _evd01(library, "O/W", [("Stearic Acid", 15.0), ("Petrolatum", 5.0),
+                                        ("Polysorbate 80", 3.0), ("Aqua", 77.0)])
+    assert "TEA-Stearate" not in acid_only
