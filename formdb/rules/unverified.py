@@ -13,6 +13,7 @@ from formdb.rules.ph_window import reads_ph_windows
 from formdb.rules.registry import register
 from formdb.schemas.findings import Finding
 from formdb.schemas.formula import ResolvedFormula
+from formdb.schemas.ingredient import name_key
 from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import RECORDED_PROPERTIES, FormulaFacts
 from formdb.schemas.vocab import Evidence, Severity
@@ -50,6 +51,9 @@ class UnverifiedValue(Rule):
     the soap formed (named as such: its side and charge); EACN, Cc and ethoxylation
     once an HLD is worked out; pH windows only when
     the formula states a pH (PH01); water numbers only where EMU01 weighs absorption bases.
+    The same for the toxicology values a margin of safety was worked out from (point of
+    departure, and dermal absorption or oral bioavailability where the library holds them),
+    graded by their source; a default standing in for one is MOS01's to name.
     Why: a reviewer signs a formula off on its numbers; a value nobody checked against a
     published source or a supplier's certificate is an open item before a trial, however
     plausible it looks (regulatory.md: every default and unverified value must be shown).
@@ -111,3 +115,35 @@ class UnverifiedValue(Rule):
                     advice=f"verify {', '.join(props)} of {ing.inci_name} against a published "
                            "source or the supplier's certificate and record it (`formdb "
                            "ingredient edit` with --source and --reason)")
+        yield from self._toxicology(facts, reference, kinds)
+
+    def _toxicology(self, facts: FormulaFacts, reference: ReferenceData,
+                    kinds: tuple[tuple[Evidence, str], ...]) -> Iterable[Finding]:
+        """The toxicology values a margin of safety was worked out from (a default stands in
+        where the library has none, and MOS01 names it), graded by their source."""
+        sheet = facts.exposure
+        for line in sheet.lines if sheet is not None else ():
+            used = [(f"point of departure ({line.pod_kind} {line.pod_value:g} {line.pod_unit})",
+                     line.pod_source)]
+            if not line.dermal_absorption_default:
+                used.append(("dermal absorption", line.dermal_absorption_source))
+            if not line.oral_bioavailability_default:
+                used.append(("oral bioavailability", line.oral_bioavailability_source))
+            for evidence, severity in kinds:
+                if severity == "off":
+                    continue
+                what = [name for name, source in used
+                        if reference.source_evidence.get(source) == evidence]
+                if not what:
+                    continue
+                record = reference.toxicology.get(name_key(line.inci))
+                key = record.key if record is not None else "KEY"
+                yield self.finding(
+                    Severity(severity),
+                    f"{line.inci}: the margin of safety rests on a {' and '.join(what)} "
+                    f"recorded as {evidence.value} (not verified against a source)",
+                    ingredients=[line.inci],
+                    values={"evidence": evidence.value, "properties": ", ".join(what)},
+                    advice=f"verify the {' and '.join(what)} of {line.inci} against the "
+                           "published opinion or study and record its source (`formdb "
+                           f"toxicology edit {key} --set source=...` with --reason)")

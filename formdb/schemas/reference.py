@@ -11,7 +11,7 @@ from pydantic import BaseModel, ConfigDict
 from formdb.schemas.bench import MeasuredRequiredHlb
 from formdb.schemas.ingredient import IngredientRecord
 from formdb.schemas.lists import ListEntry, SnapshotInfo
-from formdb.schemas.vocab import Severity
+from formdb.schemas.vocab import Evidence, Severity
 
 
 class LimitRecord(BaseModel):
@@ -157,6 +157,8 @@ class ReferenceData(BaseModel):
     # their molar mass converts a salt's % to % as acid
     acids: dict[str, IngredientRecord] = {}
     sources: dict[str, str] = {}  # key -> citation
+    # key -> the grade of every value citing it (EVD01 names what rests on unverified ones)
+    source_evidence: dict[str, Evidence] = {}
     # in-house required HLB of oil phases, fitted to screening series (formdb screen fit --store)
     measured_required_hlb: tuple[MeasuredRequiredHlb, ...] = ()
     # exposure per product type, keyed by the product name folded to lower case

@@ -221,10 +221,12 @@ def load_reference_data(session: Session) -> ReferenceData:
     found = find_ingredients(session, soap_names | acid_names)  # one lookup for both
     soaps = {r.inci_name: r for n in soap_names if (r := found.get(name_key(n)))}
     acids = {r.inci_name: r for n in acid_names if (r := found.get(name_key(n)))}
-    sources = dict(session.execute(
-        select(Source.key, Source.citation).order_by(Source.key)).all())
+    rows = session.execute(
+        select(Source.key, Source.citation, Source.evidence).order_by(Source.key)).all()
+    sources = {key: citation for key, citation, _evidence in rows}
+    evidence = {key: Evidence(grade) for key, _citation, grade in rows}
     return ReferenceData(limits=limits, incompatibilities=incompatibilities, soap_pairs=pairs,
-                         soaps=soaps, acids=acids, sources=sources,
+                         soaps=soaps, acids=acids, sources=sources, source_evidence=evidence,
                          exposure=exposure_records(session), toxicology=toxicology_records(session),
                          label_thresholds=label_thresholds(session),
                          constituents=constituents(session),

@@ -182,3 +182,28 @@ def test_the_soap_formed_in_the_batch_is_named_for_the_values_read_from_it(
     acid_only = _evd01(library, "O/W", [("Stearic Acid", 15.0), ("Petrolatum", 5.0),
                                         ("Polysorbate 80", 3.0), ("Aqua", 77.0)])
     assert "TEA-Stearate" not in acid_only
+
+
+def test_a_margin_of_safety_names_the_unverified_point_of_departure_it_rests_on(
+        library: api.Library) -> None:
+    # the seed's one toxicology record, Phenoxyethanol's NOAEL 357 mg/kg bw/day, cites
+    # "from-memory"; a hand cream's margin of safety is worked out from it, so under the strict
+    # profile it is an open item (an error), as a from-memory HLB would be
+    lines = [("Mineral Oil", 15.0), ("Polysorbate 80", 4.0), ("Sorbitan Oleate", 1.0),
+             ("Phenoxyethanol", 0.8), ("Aqua", 79.2)]
+    body = "".join(f'[[ingredients]]\ninci = "{n}"\npercent = {p}\n' for n, p in lines)
+    result = api.check(library, 'name = "hand cream"\ncategory = "leave-on"\n'
+                       'product = "hand cream"\nintended_type = "O/W"\n' + body,
+                       profile="strict")
+    assert result.facts is not None and result.facts.exposure is not None
+    assert [m.inci for m in result.facts.exposure.lines] == ["Phenoxyethanol"]
+    named = [f for f in result.findings if f.rule == "EVD01"
+             and "margin of safety" in f.message]
+    assert len(named) == 1 and named[0].severity.value == "error"
+    assert named[0].values["properties"] == "point of departure (NOAEL 357 mg/kg bw/day)"
+    assert "phenoxyethanol-noael-rat-oral" in (named[0].advice or "")
+    # no product type, no exposure sheet: no margin is worked out and nothing is named
+    plain = api.check(library, 'name = "no product"\ncategory = "leave-on"\n'
+                      'intended_type = "O/W"\n' + body, profile="strict")
+    assert not [f for f in plain.findings if f.rule == "EVD01"
+                and "margin of safety" in f.message]
