@@ -12,8 +12,6 @@ from collections.abc import Iterable, Sequence
 from datetime import date
 from typing import TYPE_CHECKING, NamedTuple
 
-from formdb.schemas.lists import HAND_WRITTEN
-
 if TYPE_CHECKING:  # the library commands print cautions without building the result models
     from formdb.schemas.result import CheckResult
 
@@ -71,6 +69,10 @@ def _describe(snapshots: Sequence[ListSnapshot]) -> str:
 def limits_caution(snapshots: Sequence[ListSnapshot] | None,
                    results: Iterable[CheckResult] = ()) -> str:
     """The dated-snapshot caution, naming the lists and their dates when they are known."""
+    # here, not at the top: every command that prints anything imports formdb.report, and the
+    # list-entry models of schemas.lists are needed only by those that print limit cautions
+    from formdb.schemas.lists import HAND_WRITTEN
+
     known = list(snapshots or ()) or _dates_from_findings(results)
     dates = f"the lists used are {_describe(known)}" if known else NO_DATES
     partial = ""

@@ -26,7 +26,7 @@ from collections.abc import Mapping
 from pathlib import Path
 from typing import Any
 
-from pydantic import BaseModel, ConfigDict, ValidationError, model_validator
+from pydantic import BaseModel, ConfigDict, Field, ValidationError, model_validator
 
 from formdb.errors import ConfigError
 from formdb.resources import seed_data_dir
@@ -56,7 +56,7 @@ ALL = "all"
 class RuleSettings(BaseModel):
     """A profile's settings for one rule: a severity override and option values."""
 
-    model_config = ConfigDict(frozen=True, extra="forbid")
+    model_config = ConfigDict(defer_build=True, frozen=True, extra="forbid")
 
     severity: Severity | None = None
     options: dict[str, Any] = {}
@@ -65,14 +65,14 @@ class RuleSettings(BaseModel):
 class Profile(BaseModel):
     """A validated profile (every rule code, group and option checked against the registry)."""
 
-    model_config = ConfigDict(frozen=True, extra="forbid")
+    model_config = ConfigDict(defer_build=True, frozen=True, extra="forbid")
 
     name: str
     version: str
     description: str = ""
     select: tuple[str, ...] = (ALL,)
     exclude: tuple[str, ...] = ()
-    facts: FactsSettings = FactsSettings()
+    facts: FactsSettings = Field(default_factory=FactsSettings)
     rules: dict[str, RuleSettings] = {}
     path: str | None = None
 

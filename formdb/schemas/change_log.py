@@ -44,7 +44,7 @@ CHANGE_PARTS = ("old", "new", "old_source", "new_source", "old_note", "new_note"
 class LoggedChange(BaseModel):
     """One field of a record, before and after: only the parts that changed are set."""
 
-    model_config = ConfigDict(frozen=True, extra="forbid")
+    model_config = ConfigDict(defer_build=True, frozen=True, extra="forbid")
 
     field: str
     old: Any = None
@@ -69,7 +69,7 @@ class LoggedChange(BaseModel):
 class SealedText(BaseModel):
     """The text columns a form-1 (pre-typed) row was sealed with, exactly as they were."""
 
-    model_config = ConfigDict(frozen=True, extra="forbid")
+    model_config = ConfigDict(defer_build=True, frozen=True, extra="forbid")
 
     field: str | None
     old_value: str | None
@@ -79,7 +79,7 @@ class SealedText(BaseModel):
 class ChangePayload(BaseModel):
     """What one change-log entry changed (module docstring)."""
 
-    model_config = ConfigDict(frozen=True, extra="forbid")
+    model_config = ConfigDict(defer_build=True, frozen=True, extra="forbid")
 
     v: Literal[1] = 1  # PAYLOAD_VERSION
     changes: tuple[LoggedChange, ...] = ()

@@ -8,7 +8,7 @@ from formdb.schemas.vocab import Severity
 
 
 class Finding(BaseModel):
-    model_config = ConfigDict(frozen=True)
+    model_config = ConfigDict(defer_build=True, frozen=True)
 
     rule: str  # stable code, e.g. "FD103"
     name: str  # readable rule name, e.g. "hlb-balance"

@@ -19,7 +19,7 @@ from formdb.schemas.vocab import Category, EmulsionType
 class FormulaLine(BaseModel):
     """One ingredient line: ``inci`` is an INCI name or a synonym, ``percent`` is % w/w."""
 
-    model_config = ConfigDict(extra="forbid")
+    model_config = ConfigDict(defer_build=True, extra="forbid")
 
     inci: str = Field(min_length=1, max_length=200)
     percent: float
@@ -106,7 +106,7 @@ class ProcessStep(BaseModel):
     """One step of the making, in order: the phase(s) it handles, at what temperature, how
     mixed and for how long. The weigh sheet groups lines by the order phases first appear."""
 
-    model_config = ConfigDict(extra="forbid")
+    model_config = ConfigDict(defer_build=True, extra="forbid")
 
     phases: list[str] = Field(min_length=1, max_length=20)
     temperature_c: float | None = Field(None, ge=-20, le=150)
@@ -140,7 +140,7 @@ class ProcessConditions(BaseModel):
     """Optional process figures that sharpen the interface and creaming estimates, and the
     ordered steps of the making (``[[process.steps]]``)."""
 
-    model_config = ConfigDict(extra="forbid")
+    model_config = ConfigDict(defer_build=True, extra="forbid")
 
     droplet_diameter_um: float | None = Field(None, ge=0.001, le=10000)
     surface_excess_mg_m2: float | None = Field(None, ge=0.01, le=100)
@@ -161,7 +161,7 @@ class ProcessConditions(BaseModel):
 class FormulaFile(BaseModel):
     """A formula as the formulator writes it."""
 
-    model_config = ConfigDict(extra="forbid")
+    model_config = ConfigDict(defer_build=True, extra="forbid")
 
     name: str = Field(min_length=1, max_length=300)
     category: Category
@@ -174,7 +174,7 @@ class FormulaFile(BaseModel):
     batch_kg: float | None = Field(None, gt=0, le=1e6)
     # the day the product is (to be) placed on the market: which allergen list applies
     placed_on: date | None = None
-    process: ProcessConditions = ProcessConditions()
+    process: ProcessConditions = Field(default_factory=ProcessConditions)
     ingredients: list[FormulaLine] = Field(min_length=1, max_length=MAX_FORMULA_LINES)
 
     @field_validator("name")
@@ -204,7 +204,7 @@ class FormulaFile(BaseModel):
 class ResolvedLine(BaseModel):
     """A formula line with its library ingredient attached."""
 
-    model_config = ConfigDict(frozen=True)
+    model_config = ConfigDict(defer_build=True, frozen=True)
 
     line_no: int  # 1-based position in the file's [[ingredients]] list
     given_name: str
@@ -221,7 +221,7 @@ class ResolvedLine(BaseModel):
 class ResolvedFormula(BaseModel):
     """A checked formula: every name resolved, frozen. Rules never touch the database."""
 
-    model_config = ConfigDict(frozen=True)
+    model_config = ConfigDict(defer_build=True, frozen=True)
 
     source: str  # file path or "stored:<name>"
     formula: FormulaFile

@@ -45,7 +45,7 @@ def _unit(unit: str) -> dict[str, Any]:
 class IngredientProperties(BaseModel):
     """Every property the library knows, with bounds. ``None`` means the library has no value."""
 
-    model_config = ConfigDict(extra="forbid", frozen=True)
+    model_config = ConfigDict(defer_build=True, extra="forbid", frozen=True)
 
     hlb: float | None = Field(
         None, ge=0, le=50, json_schema_extra=_unit(""),
@@ -146,7 +146,7 @@ _PROPERTY_SET = frozenset(PROPERTY_NAMES)
 class Provenance(BaseModel):
     """Where one value came from."""
 
-    model_config = ConfigDict(frozen=True)
+    model_config = ConfigDict(defer_build=True, frozen=True)
 
     source: str
     evidence: Evidence
@@ -186,14 +186,14 @@ def _memoised(parse: Callable[[tuple[Any, ...]], _T], cached: Callable[[tuple[An
 class IngredientIn(BaseModel):
     """An ingredient as a user or a file gives it; every rejection names the field and value."""
 
-    model_config = ConfigDict(extra="forbid")
+    model_config = ConfigDict(defer_build=True, extra="forbid")
 
     inci_name: str
     synonyms: tuple[str, ...] = ()
     cas_numbers: tuple[str, ...] = ()
     roles: tuple[Role, ...] = ()
     classes: tuple[str, ...] = ()
-    properties: IngredientProperties = IngredientProperties()
+    properties: IngredientProperties = Field(default_factory=IngredientProperties)
     # property name -> source key (must exist in the sources table)
     sources: dict[str, str] = {}
     notes: dict[str, str] = {}
@@ -264,7 +264,7 @@ class IngredientIn(BaseModel):
 class IngredientRecord(BaseModel):
     """An ingredient as the library holds it, frozen: what rules and reports read."""
 
-    model_config = ConfigDict(frozen=True)
+    model_config = ConfigDict(defer_build=True, frozen=True)
 
     id: int
     inci_name: str
@@ -274,7 +274,7 @@ class IngredientRecord(BaseModel):
     cas_numbers: tuple[str, ...] = ()
     roles: frozenset[Role] = frozenset()
     classes: frozenset[str] = frozenset()
-    properties: IngredientProperties = IngredientProperties()
+    properties: IngredientProperties = Field(default_factory=IngredientProperties)
     provenance: Mapping[str, Provenance] = {}
 
     @property

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from datetime import date
 
-from pydantic import BaseModel, ConfigDict
+from pydantic import BaseModel, ConfigDict, Field
 
 ANNEXES = ("II", "III", "IV", "V", "VI")
 ANNEX_TITLES = {
@@ -42,7 +42,7 @@ class Alternative(BaseModel):
     """One of several product groups a scope joins with "and" or commas, where they differ in
     kind: "Other leave-on products and oral products" is leave-on products OR oral products."""
 
-    model_config = ConfigDict(frozen=True)
+    model_config = ConfigDict(defer_build=True, frozen=True)
 
     categories: tuple[str, ...] = ()
     areas: tuple[str, ...] = ()
@@ -58,7 +58,7 @@ class Scope(BaseModel):
     that matched no term.
     """
 
-    model_config = ConfigDict(frozen=True)
+    model_config = ConfigDict(defer_build=True, frozen=True)
 
     text: str = ""
     categories: tuple[str, ...] = ()
@@ -84,10 +84,10 @@ class Scope(BaseModel):
 class Part(BaseModel):
     """One part of an entry: its scope, maximum and conditions."""
 
-    model_config = ConfigDict(frozen=True)
+    model_config = ConfigDict(defer_build=True, frozen=True)
 
     label: str | None = None  # "a", "b", ... ; None for an entry without parts
-    scope: Scope = Scope()
+    scope: Scope = Field(default_factory=Scope)
     max_percent: float | None = None
     max_text: str = ""
     basis: str | None = None  # "as acid", "as free SO2", "of Hg", ... as the text says
@@ -113,7 +113,7 @@ class Part(BaseModel):
 class ListEntry(BaseModel):
     """One entry of an annex as the Commission's export gives it, structured."""
 
-    model_config = ConfigDict(frozen=True)
+    model_config = ConfigDict(defer_build=True, frozen=True)
 
     jurisdiction: str = "EU"
     annex: str
@@ -174,7 +174,7 @@ def _original_allergen(ref: str) -> bool:
 class SnapshotInfo(BaseModel):
     """An imported annex export: which annex, its two dates, the file's hash."""
 
-    model_config = ConfigDict(frozen=True)
+    model_config = ConfigDict(defer_build=True, frozen=True)
 
     id: int | None = None
     jurisdiction: str = "EU"
@@ -192,7 +192,7 @@ class SnapshotInfo(BaseModel):
 class EntryChange(BaseModel):
     """One entry added, removed or changed by a newer export (old -> new per cell)."""
 
-    model_config = ConfigDict(frozen=True)
+    model_config = ConfigDict(defer_build=True, frozen=True)
 
     annex: str
     key: str
@@ -204,7 +204,7 @@ class EntryChange(BaseModel):
 class AnnexImport(BaseModel):
     """What importing one export did (or would do, on a dry run)."""
 
-    model_config = ConfigDict(frozen=True)
+    model_config = ConfigDict(defer_build=True, frozen=True)
 
     snapshot: SnapshotInfo
     replaces: SnapshotInfo | None = None
@@ -223,7 +223,7 @@ class AnnexImport(BaseModel):
 class ListsImport(BaseModel):
     """The whole import: every annex, and what it touches among stored formulas and runs."""
 
-    model_config = ConfigDict(frozen=True)
+    model_config = ConfigDict(defer_build=True, frozen=True)
 
     annexes: tuple[AnnexImport, ...]
     dry_run: bool

@@ -25,7 +25,7 @@ class LimitRecord(BaseModel):
     ``excludes`` names entries that may not be used in the same product.
     """
 
-    model_config = ConfigDict(frozen=True)
+    model_config = ConfigDict(defer_build=True, frozen=True)
 
     key: str
     jurisdiction: str
@@ -51,7 +51,7 @@ class LimitRecord(BaseModel):
 class Incompatibility(BaseModel):
     """A pair of compatibility classes (or INCI names) that do not belong together."""
 
-    model_config = ConfigDict(frozen=True)
+    model_config = ConfigDict(defer_build=True, frozen=True)
 
     key: str
     class_a: str
@@ -65,7 +65,7 @@ class Incompatibility(BaseModel):
 class SoapPair(BaseModel):
     """A fatty acid and a base that form a known soap in the batch (the soap is a library entry)."""
 
-    model_config = ConfigDict(frozen=True)
+    model_config = ConfigDict(defer_build=True, frozen=True)
 
     acid_inci: str
     base_inci: str
@@ -80,7 +80,7 @@ class ExposureRecord(BaseModel):
     grams per day (``exposure_g_day``), E_product is worked out with a body weight.
     """
 
-    model_config = ConfigDict(frozen=True)
+    model_config = ConfigDict(defer_build=True, frozen=True)
 
     product: str
     category: str  # leave-on | rinse-off
@@ -96,7 +96,7 @@ class ToxicologyRecord(BaseModel):
     """A substance's point of departure (value in mg/kg bw/day, species, study, source) and, when
     known, its dermal absorption and oral bioavailability, each with a source."""
 
-    model_config = ConfigDict(frozen=True)
+    model_config = ConfigDict(defer_build=True, frozen=True)
 
     key: str
     inci: str
@@ -119,7 +119,7 @@ class LabelThreshold(BaseModel):
     """Above ``threshold_percent`` in a product of ``category``, every substance with ``role``
     (e.g. the fragrance allergens) must be named on the label."""
 
-    model_config = ConfigDict(frozen=True)
+    model_config = ConfigDict(defer_build=True, frozen=True)
 
     key: str
     jurisdiction: str
@@ -136,7 +136,7 @@ class LabelThreshold(BaseModel):
 class Constituent(BaseModel):
     """A declared constituent of a mixture: its record and its % in the mixture, with source."""
 
-    model_config = ConfigDict(frozen=True)
+    model_config = ConfigDict(defer_build=True, frozen=True)
 
     record: IngredientRecord
     percent: float
@@ -146,7 +146,7 @@ class Constituent(BaseModel):
 class ReferenceData(BaseModel):
     """Everything besides ingredients that a check needs, loaded once per check run."""
 
-    model_config = ConfigDict(frozen=True)
+    model_config = ConfigDict(defer_build=True, frozen=True)
 
     limits: tuple[LimitRecord, ...] = ()
     incompatibilities: tuple[Incompatibility, ...] = ()

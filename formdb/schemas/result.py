@@ -52,7 +52,7 @@ DEFAULT_MOS_THRESHOLD = 100.0  # 10 interspecies x 10 intraspecies (SCCS/1575/16
 
 
 class _Frozen(BaseModel):
-    model_config = ConfigDict(frozen=True, extra="forbid")
+    model_config = ConfigDict(defer_build=True, frozen=True, extra="forbid")
 
 
 class FactsSettings(_Frozen):
@@ -413,7 +413,7 @@ class FormulaFacts(_Frozen):
     """The numbers a chemist works out by hand, once per formula, shown by every report."""
 
     basis: str = "per 100 g of formula as written; masses in g (= % w/w), volumes in mL"
-    settings: FactsSettings = FactsSettings()
+    settings: FactsSettings = Field(default_factory=FactsSettings)
     percent_total: float
     lines: tuple[LineFacts, ...] = ()
 

@@ -89,7 +89,7 @@ def read_rows(file: Path, label: str, columns: Sequence[str],
 class _Row(BaseModel):
     """A seed row: surrounding spaces trimmed, an empty cell means no value."""
 
-    model_config = ConfigDict(extra="ignore", str_strip_whitespace=True)
+    model_config = ConfigDict(defer_build=True, extra="ignore", str_strip_whitespace=True)
 
     @model_validator(mode="before")
     @classmethod
