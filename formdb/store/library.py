@@ -19,7 +19,7 @@ session class, so other SQLAlchemy code in the same process is untouched.
 
 from __future__ import annotations
 
-from collections.abc import Iterator
+from collections.abc import Callable, Iterator
 from contextlib import AbstractContextManager, contextmanager
 from typing import ClassVar
 
@@ -39,12 +39,13 @@ class Library:
     opened: ClassVar[int] = 0  # how many libraries this process opened (tests count it)
 
     def __init__(self, engine: Engine | None = None, *, url: str | None = None,
-                 owns_engine: bool = True) -> None:
+                 owns_engine: bool = True, on_open: Callable[[], None] | None = None) -> None:
         if engine is None and url is None:
             raise ValueError("give an engine or a url")
         self._engine = engine
         self._url = url
         self._owns_engine = owns_engine
+        self._on_open = on_open
         self._session: Session | None = None
         self._writing = False
         self._user: str | None = None
@@ -58,15 +59,19 @@ class Library:
         return library
 
     @classmethod
-    def deferred(cls, url: str) -> Library:
+    def deferred(cls, url: str, *, on_open: Callable[[], None] | None = None) -> Library:
         """The library at ``url``, opened at its first use: a command checks its own input
-        (and may need no library at all) before a missing library is reported."""
-        return cls(url=url)
+        (and may need no library at all) before a missing library is reported. ``on_open`` is
+        called once, just before the library is first opened."""
+        return cls(url=url, on_open=on_open)
 
     @property
     def engine(self) -> Engine:
         if self._engine is None:
             assert self._url is not None
+            on_open, self._on_open = self._on_open, None
+            if on_open is not None:
+                on_open()
             self._engine = open_library(self._url)
             Library.opened += 1
         return self._engine
