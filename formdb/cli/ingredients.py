@@ -85,11 +85,11 @@ def show_cmd(app: AppContext, library: Library, name: str) -> None:
     from formdb.report.library import ingredient_detail
     from formdb.report.lists import ingredient_entries_text
     from formdb.services.library.ingredients import show_ingredient
-    from formdb.services.lists.reading import entries_for_ingredient
+    from formdb.services.lists.reading import entries_for_record
 
     with library.read() as session:
         detail = show_ingredient(session, name)
-        origin, entries = entries_for_ingredient(session, name)
+        origin, entries = entries_for_record(session, detail.record)
     click.echo(ingredient_detail(detail, width=_width()), nl=False)
     click.echo(ingredient_entries_text(origin, entries), nl=False)
 

@@ -55,6 +55,27 @@ def test_show_prints_every_property_with_source_and_evidence(library: str) -> No
     assert "not a safety assessment" in out
 
 
+def test_show_reads_the_ingredient_once(library: str) -> None:
+    """The list entries it prints are looked up for the record ``show`` has read, not for a
+    second reading of the same ingredient (counted with SQLAlchemy's cursor event)."""
+    from sqlalchemy import event
+    from sqlalchemy.engine import Engine
+
+    statements: list[str] = []
+
+    def count(_conn: object, _cursor: object, statement: str, *_args: object) -> None:
+        statements.append(" ".join(statement.split()))
+
+    event.listen(Engine, "before_cursor_execute", count)
+    try:
+        result = _formdb(library, "show", "sorbitan monooleate")
+    finally:
+        event.remove(Engine, "before_cursor_execute", count)
+    assert result.exit_code == 0, result.stderr
+    reads = [s for s in statements if s.startswith("SELECT") and " FROM ingredients " in s]
+    assert len(reads) == 1, reads
+
+
 def test_show_unknown_name_suggests(library: str) -> None:
     result = _formdb(library, "show", "Polysorbate 8")
     assert result.exit_code == 2

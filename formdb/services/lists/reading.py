@@ -6,10 +6,9 @@ from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from formdb.errors import NotFound
-from formdb.schemas.ingredient import name_key
+from formdb.schemas.ingredient import IngredientRecord, name_key
 from formdb.schemas.lists import ANNEXES, ListEntry, SnapshotInfo
 from formdb.schemas.suggest import close_matches
-from formdb.store import queries
 from formdb.store.library import Library
 from formdb.store.lists import entries_for_records, list_origin, snapshots_in_force
 from formdb.store.models import ListEntryRow, ListSnapshot
@@ -40,13 +39,11 @@ def show_entry(library: Library, reference: str) -> list[ListEntry]:
     return found
 
 
-def entries_for_ingredient(session: Session, name: str
-                           ) -> tuple[str | None, tuple[ListEntry, ...]]:
+def entries_for_record(session: Session, record: IngredientRecord
+                       ) -> tuple[str | None, tuple[ListEntry, ...]]:
     """(where the lists created the record, if they did; the entries in force that name the
-    ingredient by INCI name, synonym or CAS) for ``formdb ingredient show``."""
-    record = queries.find_ingredient(session, name)
-    if record is None:
-        return None, ()
+    ingredient by INCI name, synonym or CAS) for ``formdb ingredient show``, which has read
+    ``record`` already."""
     origin = list_origin(session, record.id) if record.id is not None else None
     made = None if origin is None else (
         f"created from {origin.jurisdiction} Annex {origin.annex}/{origin.entry_key} by a list "
