@@ -14,9 +14,8 @@ from collections.abc import Sequence
 from formdb.facts.phases import line_facts
 from formdb.facts.soap import form_soaps
 from formdb.facts.work import Work
-from formdb.schemas.bench import MeasuredRequiredHlb
 from formdb.schemas.formula import ResolvedFormula
-from formdb.schemas.reference import ReferenceData
+from formdb.schemas.reference import MeasuredRequiredHlb, ReferenceData
 from formdb.schemas.result import LineFacts, RequiredHlbFacts
 from formdb.schemas.vocab import EmulsionType
 

@@ -173,16 +173,3 @@ class ScreeningSeries:
     fit: ScreeningFit | None = None
     water_inci: str = "Aqua"
     sheets: tuple[WeighSheet, ...] = ()
-
-
-@dataclass(frozen=True)
-class MeasuredRequiredHlb:
-    """An in-house measurement of an oil phase's required HLB (from a screening series)."""
-
-    emulsion_type: str
-    oils: tuple[tuple[str, float], ...]  # INCI name, fraction of the oil phase
-    value: float
-    uncertainty: float
-    series: str
-    source_key: str
-    citation: str

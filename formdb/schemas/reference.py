@@ -4,11 +4,11 @@ They are data, never code."""
 
 from __future__ import annotations
 
+from dataclasses import dataclass
 from datetime import date
 
 from pydantic import BaseModel, ConfigDict
 
-from formdb.schemas.bench import MeasuredRequiredHlb
 from formdb.schemas.ingredient import IngredientRecord
 from formdb.schemas.lists import ListEntry, SnapshotInfo
 from formdb.schemas.vocab import Evidence, Severity
@@ -141,6 +141,19 @@ class Constituent(BaseModel):
     record: IngredientRecord
     percent: float
     source: str
+
+
+@dataclass(frozen=True)
+class MeasuredRequiredHlb:
+    """An in-house measurement of an oil phase's required HLB (from a screening series)."""
+
+    emulsion_type: str
+    oils: tuple[tuple[str, float], ...]  # INCI name, fraction of the oil phase
+    value: float
+    uncertainty: float
+    series: str
+    source_key: str
+    citation: str
 
 
 class ReferenceData(BaseModel):

@@ -15,7 +15,6 @@ from sqlalchemy import select
 from sqlalchemy.orm import Session, selectinload
 
 from formdb.errors import InvalidData
-from formdb.schemas.bench import MeasuredRequiredHlb
 from formdb.schemas.ingredient import (
     PROPERTY_NAMES,
     IngredientProperties,
@@ -29,6 +28,7 @@ from formdb.schemas.reference import (
     Incompatibility,
     LabelThreshold,
     LimitRecord,
+    MeasuredRequiredHlb,
     ReferenceData,
     SoapPair,
     ToxicologyRecord,
