@@ -240,9 +240,10 @@ _ASSIGNMENTS: dict[Path, tuple[tuple[int, int], dict[str, object]]] = {}
 
 
 def _literal_assignments(file: Path) -> dict[str, object]:
-    """Module-level ``name = <literal>`` (or ``name: T = <literal>``) of a Python file; parsed
-    once per version of the file (its modification time and size), as a process that opens
-    many libraries (the API, the tests) would otherwise parse every revision file each time."""
+    """Module-level ``name = <literal>`` (or ``name: T = <literal>``) of a revision file, the
+    four revision identifiers among them (``_parse_literal_assignments``); parsed once per
+    version of the file (its modification time and size), as a process that opens many
+    libraries (the API, the tests) would otherwise parse every revision file each time."""
     stat = file.stat()
     version = (stat.st_mtime_ns, stat.st_size)
     known = _ASSIGNMENTS.get(file)
@@ -253,11 +254,34 @@ def _literal_assignments(file: Path) -> dict[str, object]:
     return values
 
 
+# the first top-level function or class of a revision file, and a revision identifier assigned
+# at the start of a line after it
+_FIRST_DEFINITION = re.compile(r"^(?:def |async def |class |@)", re.MULTILINE)
+_IDENTIFIER_LATER = re.compile(r"^(?:revision|down_revision|branch_labels|depends_on)\b",
+                               re.MULTILINE)
+
+
 def _parse_literal_assignments(file: Path) -> dict[str, object]:
+    """Alembic writes the revision identifiers above ``upgrade()``: only the text before the
+    first top-level function or class is parsed (the functions are most of a file, and parsing
+    every revision file in full was a noticeable part of opening a library), unless a line
+    further down assigns an identifier again or the cut falls inside a string; then the whole
+    file is."""
+    text = file.read_text(encoding="utf-8")
+    first = _FIRST_DEFINITION.search(text)
+    if first is not None and _IDENTIFIER_LATER.search(text, first.start()) is None:
+        try:
+            return _assignments_in(text[:first.start()])
+        except SyntaxError:
+            pass
+    return _assignments_in(text)
+
+
+def _assignments_in(source: str) -> dict[str, object]:
     values: dict[str, object] = {}
     target: ast.expr
     value: ast.expr | None
-    for node in ast.parse(file.read_text(encoding="utf-8")).body:
+    for node in ast.parse(source).body:
         if isinstance(node, ast.AnnAssign):
             target, value = node.target, node.value
         elif isinstance(node, ast.Assign) and len(node.targets) == 1:

@@ -7,6 +7,7 @@ reading does see pandas when a command needs it. No time is asserted (the benchm
 
 from __future__ import annotations
 
+import ast
 import subprocess
 import sys
 from pathlib import Path
@@ -14,8 +15,9 @@ from pathlib import Path
 import pytest
 from sqlalchemy import text
 
-from formdb.resources import seed_data_dir
+from formdb.resources import migrations_dir, seed_data_dir
 from formdb.store.db import (
+    _parse_literal_assignments,
     current_revision,
     head_from_files,
     head_revision,
@@ -59,6 +61,52 @@ def test_head_from_files_leaves_unusual_chains_to_alembic(
         else:
             _revision_file(versions, revision, parent, extra)  # type: ignore[arg-type]
     assert head_from_files(tmp_path) == expected
+
+
+IDENTIFIERS = ("revision", "down_revision", "branch_labels", "depends_on")
+
+
+def _identifiers_of_whole_file(text: str) -> dict[str, object]:
+    """The reference: the last module-level assignment of each identifier, the whole file
+    parsed (literal_eval of each value; None where it is not a literal)."""
+    found: dict[str, object] = {}
+    for node in ast.parse(text).body:
+        if isinstance(node, ast.AnnAssign | ast.Assign):
+            target = node.target if isinstance(node, ast.AnnAssign) else node.targets[0]
+            if isinstance(target, ast.Name) and target.id in IDENTIFIERS and node.value:
+                value = node.value
+                found[target.id] = value.value if isinstance(value, ast.Constant) else "?"
+    return found
+
+
+def _identifiers_read(file: Path) -> dict[str, object]:
+    values = _parse_literal_assignments(file)
+    return {k: (v if not isinstance(v, ast.AST) else "?") for k, v in values.items()
+            if k in IDENTIFIERS}
+
+
+def test_revision_identifiers_are_read_as_a_whole_parse_reads_them(tmp_path: Path) -> None:
+    """Only the head of a revision file is parsed; the identifiers come out as a parse of the
+    whole file gives them, for every bundled revision and for files that assign one again
+    below a function, or whose docstring holds a line that looks like a definition."""
+    files = sorted((migrations_dir() / "versions").glob("*.py"))
+    crafted = {
+        "again_below.py": 'revision = "a"\ndown_revision = None\n\n\ndef upgrade():\n'
+                          '    pass\n\n\nrevision = "b"\n',
+        "docstring.py": '"""Notes\n\ndef looks_like_code():\n"""\nrevision = "c"\n'
+                        'down_revision = "b"\n\n\ndef upgrade():\n    pass\n',
+        "labels_below.py": 'revision = "d"\ndown_revision = "c"\n\n\n@decorated\n'
+                           'def upgrade():\n    pass\nbranch_labels = ("x",)\n',
+        "no_function.py": 'revision = "e"\ndown_revision: str | None = "d"\n',
+    }
+    for name, source in crafted.items():
+        (tmp_path / name).write_text(source, encoding="utf-8")
+        files.append(tmp_path / name)
+    for file in files:
+        expected = _identifiers_of_whole_file(file.read_text(encoding="utf-8"))
+        assert _identifiers_read(file) == expected, file.name
+    assert _identifiers_read(tmp_path / "again_below.py")["revision"] == "b"
+    assert _identifiers_read(tmp_path / "docstring.py")["revision"] == "c"
 
 
 def test_plain_revision_read_matches_alembic(library_url: str) -> None:
