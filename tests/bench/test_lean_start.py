@@ -3,7 +3,9 @@ answers are checked against alembic's own), and ``check FILE``, ``ingredient sho
 list``, ``rules`` and ``--help`` load none of the heavy libraries they do not need (pandas,
 openpyxl, pint, jinja2, alembic, and rapidfuzz unless a name is misspelt). Each command runs in
 its own ``python -X importtime`` process; a control run of ``ingredient export`` shows the same
-reading does see pandas when a command needs it. No time is asserted (the benchmark measures)."""
+reading does see pandas when a command needs it; ``check FILE`` and ``ingredient show`` leave
+formdb's bench-work records (schemas.bench) unloaded too. No time is asserted (the benchmark
+measures)."""
 
 from __future__ import annotations
 
@@ -131,15 +133,20 @@ def test_plain_revision_read_of_an_empty_database(empty_library_url: str) -> Non
         engine.dispose()
 
 
-def _loaded_packages(url: str, *args: str) -> set[str]:
-    """The top-level packages one ``python -m formdb --db URL ARGS`` process imports."""
+def _loaded_modules(url: str, *args: str) -> set[str]:
+    """The modules one ``python -m formdb --db URL ARGS`` process imports."""
     done = subprocess.run([sys.executable, "-X", "importtime", "-m", "formdb", "--db", url, *args],
                           capture_output=True, text=True, check=False, timeout=120)
     assert done.returncode in (0, 1), done.stderr[-2000:]
     loaded = {line.rsplit("|", 1)[-1].strip() for line in done.stderr.splitlines()
               if line.startswith("import time:")}
     assert "formdb.cli.main" in loaded, "no import lines read: -X importtime output changed?"
-    return {name.split(".")[0] for name in loaded}
+    return loaded
+
+
+def _loaded_packages(url: str, *args: str) -> set[str]:
+    """The top-level packages one ``python -m formdb --db URL ARGS`` process imports."""
+    return {name.split(".")[0] for name in _loaded_modules(url, *args)}
 
 
 READ_ONLY_COMMANDS = {
@@ -165,3 +172,20 @@ def test_the_reading_sees_a_heavy_library_a_command_needs(seeded_sqlite_url: str
     top_level = _loaded_packages(seeded_sqlite_url, "ingredient", "export",
                                  str(tmp_path / "out.csv"))
     assert "pandas" in top_level
+
+
+# formdb's own modules that checking a file or showing an ingredient has no use for: the
+# bench-work records (weigh sheets, prices, screening series)
+UNNEEDED_FORMDB = ("formdb.schemas.bench",)
+
+
+@pytest.mark.parametrize("command", ["check FILE", "ingredient show"])
+def test_checking_and_showing_load_no_bench_work_records(seeded_sqlite_url: str,
+                                                         command: str) -> None:
+    loaded = _loaded_modules(seeded_sqlite_url, *READ_ONLY_COMMANDS[command])
+    assert not loaded & set(UNNEEDED_FORMDB), f"formdb {command} imports {UNNEEDED_FORMDB}"
+
+
+def test_the_reading_sees_the_bench_work_records_a_command_needs(seeded_sqlite_url: str) -> None:
+    """Control: listing prices reads them as PriceRecords of formdb.schemas.bench."""
+    assert "formdb.schemas.bench" in _loaded_modules(seeded_sqlite_url, "price", "list")
