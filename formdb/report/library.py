@@ -25,11 +25,14 @@ _LIST_COLUMNS = ["inci_name", "roles", "hlb", "required_hlb_ow", "required_hlb_w
 
 
 def _tables(render: Any, width: int | None) -> str:
-    """Rich renderables as text, at the terminal's width (or 160 columns into a pipe)."""
+    """Rich renderables as text, at the terminal's width (or 160 columns into a pipe). Cells
+    are the library's own text (citations, notes, names, reasons), printed as written: no Rich
+    markup or emoji codes are read in them, so "[bold]" or ":warning:" stays as typed."""
     from rich.console import Console
 
     buffer = io.StringIO()
-    render(Console(width=width or 160, file=buffer, highlight=False, color_system=None))
+    render(Console(width=width or 160, file=buffer, highlight=False, color_system=None,
+                   markup=False, emoji=False))
     return buffer.getvalue()
 
 

@@ -216,3 +216,19 @@ def test_every_subcommand_has_help() -> None:
 
     for name, command in ingredient_group.commands.items():
         assert command.help and command.help.strip(), name
+
+
+def test_notes_and_reasons_print_as_written(library: str) -> None:
+    """Library text is data, not terminal markup: brackets in a note or a reason (a citation
+    number, a tag someone typed) and emoji codes are printed as typed in show and history
+    (Rich would otherwise read "[b]" as a style and drop it, and ":warning:" as an emoji)."""
+    note = "[12] [b]x[/b] :warning:"
+    edited = _formdb(library, "edit", "Glycerin", "--set", f"density_note={note}",
+                     "--reason", "leaflet [v2]", user="bea")
+    assert edited.exit_code == 0, edited.stderr
+    shown = _formdb(library, "show", "Glycerin")
+    assert shown.exit_code == 0, shown.stderr
+    density = next(line for line in shown.stdout.splitlines() if " density " in line)
+    assert note in density, density
+    history = _formdb(library, "history", "Glycerin")
+    assert "leaflet [v2]" in history.stdout, history.stdout
