@@ -3,7 +3,7 @@ only in a secondary copy)."""
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Mapping
+from collections.abc import Iterable, Iterator, Mapping, Sequence
 from typing import Any, ClassVar
 
 from formdb.facts.soap import soap_record
@@ -96,18 +96,13 @@ class UnverifiedValue(Rule):
             if ing.id in seen:
                 continue
             seen.add(ing.id)
-            for evidence, severity in kinds:
-                if severity == "off":
-                    continue
-                props = [p for p in CHECKED_PROPERTIES
-                         if getattr(ing.p, p) is not None and p in ing.provenance
-                         and ing.provenance[p].evidence == evidence
-                         and ((ing.inci_name, p) in read if p in RECORDED_PROPERTIES
-                              else rule_reads[_READ_BY_RULES[p]])]
-                if not props:
-                    continue
+            graded = [(p, ing.provenance[p].evidence) for p in CHECKED_PROPERTIES
+                      if getattr(ing.p, p) is not None and p in ing.provenance
+                      and ((ing.inci_name, p) in read if p in RECORDED_PROPERTIES
+                           else rule_reads[_READ_BY_RULES[p]])]
+            for severity, evidence, props in _unverified(kinds, graded):
                 yield self.finding(
-                    Severity(severity),
+                    severity,
                     f"{ing.inci_name}{formed}: {', '.join(props)} rest on values recorded as "
                     f"{evidence.value} (not verified against a source)",
                     ingredients=[ing.inci_name],
@@ -129,17 +124,12 @@ class UnverifiedValue(Rule):
                 used.append(("dermal absorption", line.dermal_absorption_source))
             if not line.oral_bioavailability_default:
                 used.append(("oral bioavailability", line.oral_bioavailability_source))
-            for evidence, severity in kinds:
-                if severity == "off":
-                    continue
-                what = [name for name, source in used
-                        if reference.source_evidence.get(source) == evidence]
-                if not what:
-                    continue
+            graded = [(name, reference.source_evidence.get(source)) for name, source in used]
+            for severity, evidence, what in _unverified(kinds, graded):
                 record = reference.toxicology.get(name_key(line.inci))
                 key = record.key if record is not None else "KEY"
                 yield self.finding(
-                    Severity(severity),
+                    severity,
                     f"{line.inci}: the margin of safety rests on a {' and '.join(what)} "
                     f"recorded as {evidence.value} (not verified against a source)",
                     ingredients=[line.inci],
@@ -147,3 +137,14 @@ class UnverifiedValue(Rule):
                     advice=f"verify the {' and '.join(what)} of {line.inci} against the "
                            "published opinion or study and record its source (`formdb "
                            f"toxicology edit {key} --set source=...` with --reason)")
+
+
+def _unverified(kinds: Sequence[tuple[Evidence, str]],
+                graded: Sequence[tuple[str, Evidence | None]]
+                ) -> Iterator[tuple[Severity, Evidence, list[str]]]:
+    """(severity, evidence, the names graded so) for each kind of unverified evidence the
+    options do not silence, in the options' order, where any value is graded that way."""
+    for evidence, severity in kinds:
+        names = [name for name, grade in graded if grade == evidence]
+        if severity != "off" and names:
+            yield Severity(severity), evidence, names
