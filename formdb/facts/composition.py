@@ -20,23 +20,26 @@ class Substance:
     record: IngredientRecord
     percent: float = 0.0
     sources: list[str] = field(default_factory=list)
+    purposes: set[str | None] = field(default_factory=set)
 
 
 def substances(formula: ResolvedFormula, reference: ReferenceData) -> dict[str, Substance]:
     """name key -> the substance with its total % and where it comes from."""
     out: dict[str, Substance] = {}
 
-    def add(record: IngredientRecord, percent: float, source: str) -> None:
+    def add(record: IngredientRecord, percent: float, source: str,
+            purpose: str | None = None) -> None:
         item = out.setdefault(name_key(record.inci_name), Substance(record))
         item.percent += percent
         item.sources.append(source)
+        item.purposes.add(purpose)
 
     for ln in formula.lines:
         ing = ln.ingredient
         parts = reference.constituents.get(name_key(ing.inci_name), ())
         where = f"line {ln.line_no} ({ln.given_name})"
         if not parts:
-            add(ing, ln.percent, where)
+            add(ing, ln.percent, where, ln.purpose)
             continue
         declared = 0.0
         for part in parts:
@@ -54,13 +57,22 @@ def has_mixtures(formula: ResolvedFormula, reference: ReferenceData) -> bool:
                for ln in formula.lines)
 
 
+def _repeats(formula: ResolvedFormula) -> bool:
+    """True when one ingredient is on more than one line (split over phases, say)."""
+    keys = [name_key(ln.ingredient.inci_name) for ln in formula.lines]
+    return len(set(keys)) < len(keys)
+
+
 def substance_formula(formula: ResolvedFormula, reference: ReferenceData) -> ResolvedFormula:
     """The formula as its substances, one line each (totals over lines and mixtures), for rules
-    that judge substances; the formula itself when no line is a declared mixture."""
-    if not has_mixtures(formula, reference):
+    that judge substances; the formula itself when no line is a declared mixture and no
+    ingredient is on two lines. A substance keeps a purpose its lines declare only when they
+    all declare the same one."""
+    if not has_mixtures(formula, reference) and not _repeats(formula):
         return formula
     lines = tuple(
         ResolvedLine(line_no=number, given_name=item.record.inci_name, percent=item.percent,
-                     phase=None, ingredient=item.record)
+                     phase=None, ingredient=item.record,
+                     purpose=next(iter(item.purposes)) if len(item.purposes) == 1 else None)
         for number, item in enumerate(substances(formula, reference).values(), start=1))
     return formula.model_copy(update={"lines": lines})
