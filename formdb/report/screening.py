@@ -9,6 +9,10 @@ if TYPE_CHECKING:
 
 
 def series_text(series: ScreeningSeries) -> str:
+    """The series as text. The emulsifiers head their columns in full (a column is at least
+    22 characters wide and widens for a longer name), never cut short."""
+    low = max(22, len(series.low_emulsifier))
+    high = max(22, len(series.high_emulsifier))
     oils = ", ".join(f"{name} {share * 100:.4g} %" for name, share in series.oils)
     out = [f"Screening series: {series.name} ({series.emulsion_type}), planned by "
            f"{series.created_by} on {series.created_at:%Y-%m-%d}",
@@ -17,17 +21,17 @@ def series_text(series: ScreeningSeries) -> str:
            f"(HLB {series.low_hlb:g}) with {series.high_emulsifier} (HLB {series.high_hlb:g}); "
            f"water ({series.water_inci}) to 100 %; {series.batch_g:g} g of each",
            "",
-           f"{'blend':>5}  {'HLB':>6}  {series.low_emulsifier[:22]:>22} %  "
-           f"{series.high_emulsifier[:22]:>22} %  observations"]
+           f"{'blend':>5}  {'HLB':>6}  {series.low_emulsifier:>{low}} %  "
+           f"{series.high_emulsifier:>{high}} %  observations"]
     for b in series.blends:
         seen = ", ".join(f"{m} {v:g}" for m, v in b.observations.items()) or "-"
-        out.append(f"{b.number:>5}  {b.hlb:>6.2f}  {b.low_percent:>24.3f}  "
-                   f"{b.high_percent:>24.3f}  {seen}")
+        out.append(f"{b.number:>5}  {b.hlb:>6.2f}  {b.low_percent:>{low + 2}.3f}  "
+                   f"{b.high_percent:>{high + 2}.3f}  {seen}")
     return "\n".join(out) + "\n"
 
 
 def fit_text(series_name: str, fit: ScreeningFit, stored: bool) -> str:
-    lines = [f"Required HLB of the oil phase of {series_name!r}: {fit.required_hlb:.2f} "
+    lines = [f"Required HLB of the oil phase of '{series_name}': {fit.required_hlb:.2f} "
              f"± {fit.uncertainty:.2f} (about 95 %), from {fit.measure}"
              f"{'' if fit.after_hours is None else f' after {fit.after_hours:g} h'} of blends "
              f"{', '.join(str(n) for n in fit.used_blends)}",

@@ -103,6 +103,32 @@ def test_a_bad_sheets_folder_is_refused_before_the_plan_is_stored(
     assert shown.exit_code == 2 and "already holds" in shown.stderr
 
 
+def test_the_series_prints_its_names_as_written(seeded_library_url: str) -> None:
+    # emulsifier names longer than the 22-character column and a series name with an
+    # apostrophe and a backslash: each printed in full and as typed, never cut or quoted by
+    # Python's repr (which doubles the backslash)
+    url, name = seeded_library_url, "O'Hare 70\\30 [b]screen[/b]"
+    plan = ["screen", "plan", name, "--oil", "Paraffinum Liquidum=100",
+            "--low", "Polyglyceryl-3 Diisostearate", "--high", "PEG-40 Hydrogenated Castor Oil",
+            "--from-hlb", "6", "--to-hlb", "14", "--step", "1"]
+    assert _run(url, *plan).exit_code == 0
+    for number in range(1, 10):
+        score = round(1 + 8 * math.exp(-((5 + number - 10.5) ** 2) / 9.68), 1)
+        assert _run(url, "screen", "record", name, "--blend", str(number),
+                    "--stability", str(score)).exit_code == 0
+    shown = _run(url, "screen", "show", name)
+    assert shown.exit_code == 0, shown.stderr
+    header = next(line for line in shown.stdout.splitlines() if line.lstrip().startswith("blend"))
+    assert "Polyglyceryl-3 Diisostearate %" in header
+    assert "PEG-40 Hydrogenated Castor Oil %" in header
+    # the numbers stay right-aligned under their (wider) headers
+    row = next(line for line in shown.stdout.splitlines() if line.lstrip().startswith("1 "))
+    assert len(row.split("  stability")[0]) == len(header.split("  observations")[0])
+    fitted = _run(url, "screen", "fit", name)
+    assert fitted.exit_code == 0, fitted.stderr
+    assert f"Required HLB of the oil phase of '{name}': " in fitted.stdout
+
+
 def test_fit_is_refused_without_a_clear_optimum(seeded_library_url: str) -> None:
     url = seeded_library_url
     assert _run(url, *PLAN).exit_code == 0
