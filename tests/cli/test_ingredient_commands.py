@@ -232,3 +232,21 @@ def test_notes_and_reasons_print_as_written(library: str) -> None:
     assert note in density, density
     history = _formdb(library, "history", "Glycerin")
     assert "leaflet [v2]" in history.stdout, history.stdout
+
+
+@pytest.mark.parametrize(("option", "value"), [
+    ("--synonym", "PEG-20 Sorbitan Laurate; Tween-like"),
+    ("--synonym", "Polysorbate [20] &amp;"),
+    ("--role", "emulsifier;solvent"),
+])
+def test_an_item_with_the_list_separator_is_refused(library: str, option: str,
+                                                    value: str) -> None:
+    """One --synonym is one name: a ';' in it used to split it into two synonyms (and a trailing
+    one, as in '&amp;', vanished), so the library held other names than the ones typed."""
+    before = dump_database(library)
+    result = _formdb(library, "add", "Polysorbate 20", "--set", "hlb=16.7", "--source", "hpe6",
+                     "--role", "emulsifier", option, value)
+    assert result.exit_code == 2
+    assert result.stderr.count("Error:") == 1 and "Traceback" not in result.stderr
+    assert f"{option} {value!r}: holds ';'" in result.stderr
+    assert dump_database(library) == before

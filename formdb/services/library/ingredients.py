@@ -36,6 +36,7 @@ from formdb.schemas.vocab import UNVERIFIED_EVIDENCE, Evidence, Role
 from formdb.services.admin.access import require
 from formdb.services.library.ingredient_fields import (
     EDITABLE_FIELDS,
+    LIST_SEPARATOR,
     NAME_COLUMN,
     FieldProblem,
     did_you_mean,
@@ -746,6 +747,21 @@ def _check_names_free(session: Session, item: IngredientIn, own: Ingredient | No
                                 f"use `formdb ingredient edit {owner.inci_name!r}` to change it")
 
 
+_ITEM_OPTIONS = {"synonyms": "--synonym", "cas": "--cas", "roles": "--role"}
+
+
+def _one_item_each(column: str, values: Sequence[str]) -> None:
+    """Each repeatable --synonym/--cas/--role gives one item of a ';'-separated list column, so
+    a ';' inside one would split it into several (and a trailing one vanish): refused rather than
+    stored other than as typed."""
+    for value in values:
+        if LIST_SEPARATOR in value:
+            option = _ITEM_OPTIONS[column]
+            raise InvalidData(f"{option} {value!r}: holds {LIST_SEPARATOR!r}, the separator of the "
+                              f"{column} list, so it cannot be stored as one item.",
+                              hint=f"give each item with its own {option}")
+
+
 def add_ingredient(session: Session, name: str, assignments: Sequence[tuple[str, str]] = (), *,
                    user: str, source: str | None = None, synonyms: Sequence[str] = (),
                    cas: Sequence[str] = (), roles: Sequence[str] = (),
@@ -755,6 +771,7 @@ def add_ingredient(session: Session, name: str, assignments: Sequence[tuple[str,
     cells = empty_cells()
     cells[NAME_COLUMN] = name
     for column, values in (("synonyms", synonyms), ("cas", cas), ("roles", roles)):
+        _one_item_each(column, values)
         if values:
             cells[column] = join_list([*split_list(cells[column]), *values])
     cells = _lay(cells, assignments, source)
