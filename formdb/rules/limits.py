@@ -180,6 +180,17 @@ def _as_reading(finding: Finding, row: LimitRecord) -> Finding:
                   f"{finding.advice}"})
 
 
+def _either_reading(finding: Finding) -> Finding:
+    """A finding of a row bound to one use, for a line whose purpose the formula does not say
+    but which is over a limit read either way: it stays an error."""
+    if finding.severity is not Severity.ERROR:
+        return finding
+    return finding.model_copy(update={
+        "message": f"whether used as a preservative or not: {finding.message}",
+        "advice": f"{finding.advice} (declaring the line's purpose will not lift it: the "
+                  "limits for preservative use and for other uses are both exceeded)"})
+
+
 def _scope(row: LimitRecord) -> str:
     if row.product:
         return row.product
@@ -244,7 +255,11 @@ class ConcentrationLimit(Rule):
     when the formula names that product). Salts limited "as acid" are converted by molar mass
     (% x M(acid) / M(salt)); "sum" records add up every listed ingredient present (paraben
     groups); a maximum of 0 means not allowed in that category. A salt without the molar masses
-    to convert is reported (info, or a warning when it is over the limit as-is).
+    to convert is reported (info, or a warning when it is over the limit as-is). An ingredient
+    on several lines, or reached through declared mixtures, is judged by its total. A row bound
+    to one use (preservative, or other uses) applies by the line's purpose; when the formula
+    does not say it, a finding is a warning naming the reading, but an error when the line is
+    over a limit read either way (salicylic acid 0.6 % in a lipstick: V/3 and III/98 (c)).
     Why: limits in Annexes III, V and VI of Regulation (EC) No 1223/2009 apply to the
     ready-for-use product, many "as acid" or summed over a group; going over them makes the
     product unlawful. The bundled limits are a dated snapshot: check the current consolidated
@@ -274,6 +289,7 @@ class ConcentrationLimit(Rule):
                        "the profile ([rules.LIM01] jurisdiction)")
             return
         formula = substance_formula(formula, reference)  # limits apply to constituents too
+        pending: list[tuple[Finding, LimitRecord, set[str]]] = []
         for row in applicable_rows(reference, formula, jurisdiction):
             present = lines_in(row, formula)
             undecided: set[str] = set()
@@ -295,9 +311,23 @@ class ConcentrationLimit(Rule):
             else:
                 found = [f for amount in amounts for f in self._each(row, amount)]
             found = [*found, *self._ph(row, present, formula)]
-            for finding in found:
-                yield _as_reading(finding, row) if undecided & set(finding.ingredients) \
-                    else finding
+            pending.extend((finding, row, undecided & set(finding.ingredients))
+                           for finding in found)
+        # a line whose purpose the formula does not say, over a preservative row and over a row
+        # for other uses alike, is over a limit whichever it is: that stays an error
+        readings: dict[str, set[bool]] = {}
+        for finding, row, names in pending:
+            if finding.severity is Severity.ERROR and row.purpose:
+                for name in names:
+                    readings.setdefault(name, set()).add(row.purpose == "preservative")
+        either = {name for name, kinds in readings.items() if len(kinds) == 2}
+        for finding, row, names in pending:
+            if not names:
+                yield finding
+            elif names <= either:
+                yield _either_reading(finding)
+            else:
+                yield _as_reading(finding, row)
 
     def _ph(self, row: LimitRecord, present: list[ResolvedLine],
             formula: ResolvedFormula) -> Iterable[Finding]:

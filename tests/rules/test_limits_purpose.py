@@ -53,3 +53,25 @@ def test_cetrimonium_chloride_in_body_lotion_on_the_seed(seeded_sqlite_url: str)
     [unsaid] = lim01(None)
     assert unsaid.severity.value == "error"
     assert lim01("preservative") == []
+
+
+def test_over_both_readings_stays_an_error(seeded_sqlite_url: str) -> None:
+    """0.6 % salicylic acid in a lipstick, purpose not said: over V/3 (0.5 % as a preservative)
+    and over III/98 (c) (0.5 % in lipstick for other uses, which includes any preservative use),
+    per ../shared/references/regulatory.md (V/3 found-P; III/98 found-S, as replaced by
+    Reg. (EU) 2019/1966). Whichever the purpose, the product is over a limit: an error, not a
+    reading to choose."""
+    text = ('name = "Larkspur tinted lip balm"\ncategory = "leave-on"\nproduct = "lipstick"\n\n'
+            '[[ingredients]]\ninci = "Aqua"\npercent = 99.4\n\n'
+            '[[ingredients]]\ninci = "Salicylic Acid"\npercent = 0.6\n')
+    found = [f for f in api.check(opened(seeded_sqlite_url), text).findings if f.rule == "LIM01"]
+    assert sorted(f.values["entry"] for f in found) == ["III/98", "V/3"]
+    assert all(f.severity.value == "error" for f in found)
+    assert all(f.message.startswith("whether used as a preservative or not:") for f in found)
+
+
+def test_over_one_reading_only_stays_a_warning(seeded_sqlite_url: str) -> None:
+    """1.5 % in a face cream, purpose not said: over V/3 (0.5 %) only; III/98 (b) allows 2.0 %
+    for other uses. Which limit applies depends on the purpose: a warning naming the reading."""
+    [finding] = _lim01(seeded_sqlite_url, None)
+    assert finding.severity.value == "warning"
