@@ -8,7 +8,8 @@ from typing import Any, ClassVar
 from formdb.rules.base import Option, Rule
 from formdb.rules.registry import register
 from formdb.schemas.findings import Finding
-from formdb.schemas.formula import ResolvedFormula
+from formdb.schemas.formula import ResolvedFormula, ResolvedLine
+from formdb.schemas.ingredient import name_key
 from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import FormulaFacts
 from formdb.schemas.vocab import Role, Severity
@@ -20,8 +21,9 @@ _SEVERITIES = tuple(s.value for s in Severity)
 class UseRange(Rule):
     """An ingredient is used below or above its typical use range.
 
-    Flags: a line whose % is below the library's use_min_percent (info by default) or above its
-    use_max_percent (warning by default). A trace, below trace_fraction (a tenth) of the range's
+    Flags: an ingredient whose % (its total when it is on several lines, split over phases) is
+    below the library's use_min_percent (info by default) or above its use_max_percent (warning
+    by default). A trace, below trace_fraction (a tenth) of the range's
     low end, is not judged against the range: it is there for another purpose (a note of scent,
     a carry-over, an antioxidant for one raw material), not as a weak dose. The exception is a
     preservative: a trace of one cannot preserve, and is more often a slipped decimal point, so
@@ -56,50 +58,57 @@ class UseRange(Rule):
     def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,
               options: Mapping[str, Any]) -> Iterable[Finding]:
         stays = {lf.line_no: lf.remaining_percent for lf in facts.lines}
-        for ln in formula.lines:
-            low, high = ln.ingredient.p.use_min_percent, ln.ingredient.p.use_max_percent
-            left = stays.get(ln.line_no, ln.percent)
-            soap = abs(left - ln.percent) > 1e-9  # part of the line forms a soap in the batch
+        groups: dict[str, list[ResolvedLine]] = {}
+        for line in formula.lines:  # one ingredient over several lines is judged by its total
+            groups.setdefault(name_key(line.ingredient.inci_name), []).append(line)
+        for lines in groups.values():
+            ing = lines[0].ingredient
+            percent = sum(line.percent for line in lines)
+            low, high = ing.p.use_min_percent, ing.p.use_max_percent
+            left = sum(stays.get(line.line_no, line.percent) for line in lines)
+            soap = abs(left - percent) > 1e-9  # part of the lines forms a soap in the batch
+            inci = (ing.inci_name if len(lines) == 1
+                    else f"{ing.inci_name} (lines {', '.join(str(ln.line_no) for ln in lines)})")
             values: dict[str, float | str | None] = {
-                "percent": ln.percent, "use_min_percent": low, "use_max_percent": high}
+                "percent": percent, "use_min_percent": low, "use_max_percent": high}
             span = f"{low if low is not None else 0:g}-{high if high is not None else 100:g} %"
             if soap:
                 values["free_percent"] = left
                 if high is not None and left > high + 1e-9:
                     yield self.finding(
                         Severity(options["above_severity"]),
-                        f"{ln.inci}: {left:.3g} % is left free after the soap forms, above its "
+                        f"{inci}: {left:.3g} % is left free after the soap forms, above its "
                         f"typical use range ({span})",
-                        ingredients=[ln.inci], values=values,
-                        advice=f"neutralise more of {ln.inci} or weigh in less, or record why "
-                               "that much stays free")
+                        ingredients=[ing.inci_name], values=values,
+                        advice=f"neutralise more of {ing.inci_name} or weigh in less, or record "
+                               "why that much stays free")
                 continue
-            if high is not None and ln.percent > high + 1e-9:
+            if high is not None and percent > high + 1e-9:
                 yield self.finding(
                     Severity(options["above_severity"]),
-                    f"{ln.inci} {ln.percent:g} % is above its typical use range ({span})",
-                    ingredients=[ln.inci], values=values,
-                    advice=f"reduce {ln.inci} to {high:g} % or less, or record why more is "
+                    f"{inci} {percent:g} % is above its typical use range ({span})",
+                    ingredients=[ing.inci_name], values=values,
+                    advice=f"reduce {ing.inci_name} to {high:g} % or less, or record why more is "
                            "needed")
-            elif low is not None and ln.percent < low - 1e-9:
-                trace = ln.percent < options["trace_fraction"] * low - 1e-12
-                preservative = ln.ingredient.has_role(Role.PRESERVATIVE)
+            elif low is not None and percent < low - 1e-9:
+                trace = percent < options["trace_fraction"] * low - 1e-12
+                preservative = ing.has_role(Role.PRESERVATIVE)
                 if trace and not preservative:
                     continue
                 if trace:
                     yield self.finding(
                         Severity(options["below_severity"]),
-                        f"{ln.inci} {ln.percent:g} % is a trace of a preservative (under "
+                        f"{inci} {percent:g} % is a trace of a preservative (under "
                         f"{options['trace_fraction']:g} x the low end of its typical use range, "
                         f"{span}): it cannot preserve at this level",
-                        ingredients=[ln.inci], values=values,
-                        advice=f"check the decimal point; if {ln.inci} is meant to preserve, "
+                        ingredients=[ing.inci_name], values=values,
+                        advice=f"check the decimal point; if {ing.inci_name} is meant to preserve, "
                                f"use {low:g} % or more, else remove it or record why it is "
                                "there")
                     continue
                 yield self.finding(
                     Severity(options["below_severity"]),
-                    f"{ln.inci} {ln.percent:g} % is below its typical use range ({span})",
-                    ingredients=[ln.inci], values=values,
-                    advice=f"at under {low:g} % {ln.inci} may not do its job; raise it or "
+                    f"{inci} {percent:g} % is below its typical use range ({span})",
+                    ingredients=[ing.inci_name], values=values,
+                    advice=f"at under {low:g} % {ing.inci_name} may not do its job; raise it or "
                            "confirm it works at this level")
