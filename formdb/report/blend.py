@@ -45,9 +45,17 @@ def _print(*items: RenderableType, color: bool = False) -> str:
     return "\n".join(line.rstrip() for line in text.splitlines()) + "\n"
 
 
-def _table(headers: tuple[str, ...], numeric: str, keep_first: bool = True) -> Table:
-    """A table; ``keep_first`` keeps the first column (the emulsifier names) on one line."""
+# the longest name the first column keeps on one line; when a name is longer the column wraps
+# (folding the long name, kept whole) rather than pushing the other columns off the page
+NAME_ON_ONE_LINE = 40
+
+
+def _table(headers: tuple[str, ...], numeric: str,
+           names: Sequence[str] | None = None) -> Table:
+    """A table; given the ``names`` of its first column (the emulsifiers), that column keeps
+    each on one line while none is longer than ``NAME_ON_ONE_LINE``."""
     table = Table(box=box.SIMPLE_HEAD, show_edge=False, pad_edge=False)
+    keep_first = bool(names) and max(map(len, names or ())) <= NAME_ON_ONE_LINE
     for i, (header, kind) in enumerate(zip(headers, numeric, strict=True)):
         table.add_column(Text(header), justify="right" if kind == "n" else "left",
                          overflow="fold", no_wrap=keep_first and i == 0)
@@ -57,11 +65,12 @@ def _table(headers: tuple[str, ...], numeric: str, keep_first: bool = True) -> T
 def _plan_table(plan: BlendPlan) -> Table:
     from_file = any(m.present_percent is not None for m in plan.members)
     if from_file:
+        names = [m.inci + (" (formed in batch)" if m.formed_in_place else "")
+                 for m in plan.members]
         table = _table(("Emulsifier", "HLB", "Now % w/w", "Share now", "Share for target",
-                        "% w/w for target", "HLB source"), "snnnnns")
+                        "% w/w for target", "HLB source"), "snnnnns", names)
         total = plan.total_percent or 0.0
-        for m in plan.members:
-            name = m.inci + (" (formed in batch)" if m.formed_in_place else "")
+        for m, name in zip(plan.members, names, strict=True):
             now = (m.present_percent or 0.0) / total if total > 0 else None
             table.add_row(*(Text(c) for c in (
                 name, n.hlb(m.hlb), n.percent(m.present_percent, ""), n.share(now),
@@ -71,7 +80,8 @@ def _plan_table(plan: BlendPlan) -> Table:
     headers = ("Emulsifier", "HLB", "Share of blend") + (
         (f"% w/w at {n.percent(plan.total_percent)} total",) if with_total else ()) + \
         ("HLB source",)
-    table = _table(headers, "snn" + ("n" if with_total else "") + "s")
+    table = _table(headers, "snn" + ("n" if with_total else "") + "s",
+                   [m.inci for m in plan.members])
     for m in plan.members:
         cells = [m.inci, n.hlb(m.hlb), n.share(m.fraction)]
         if with_total:
@@ -91,7 +101,7 @@ def _sources(members: Sequence[BlendMember]) -> list[RenderableType]:
         return []
     grid = Table.grid(padding=(0, 1))
     grid.add_column(no_wrap=True)
-    grid.add_column(ratio=1)
+    grid.add_column(ratio=1, overflow="fold")
     for key, citation in seen.items():
         grid.add_row(Text(f"{key}:"), Text(citation))
     return [Text("HLB sources:"), grid]
@@ -141,7 +151,7 @@ def search_text(search: PairSearch, color: bool = False) -> str:
                           "ranges; try another --total."))
         return _print(*items, color=color)
     table = _table(("#", "Lower-HLB member", "% w/w", "Higher-HLB member", "% w/w",
-                    "Max ΔHLB", "Lipo + hydro", "Gaps"), "nsnsnnsn", keep_first=False)
+                    "Max ΔHLB", "Lipo + hydro", "Gaps"), "nsnsnnsn")
     for rank, pair in enumerate(search.candidates, start=1):
         table.add_row(*(Text(c) for c in _pair_cells(rank, pair)))
     why = [Text(f"{rank}. {'; '.join(pair.reasons)}")

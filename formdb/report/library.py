@@ -24,6 +24,15 @@ _LIST_COLUMNS = ["inci_name", "roles", "hlb", "required_hlb_ow", "required_hlb_w
                  "solubility", "ionic_character", "version", "retired"]
 
 
+def data_table(*headers: str) -> Any:
+    """A Rich table of the library's text. Every column folds a word too long for it onto the
+    next line: Rich's default would cut it short with an ellipsis, so a long INCI name or a URL
+    in a citation lost its end."""
+    from rich.table import Column, Table
+
+    return Table(*(Column(header, overflow="fold") for header in headers))
+
+
 def _tables(render: Any, width: int | None) -> str:
     """Rich renderables as text, at the terminal's width (or 160 columns into a pipe). Cells
     are the library's own text (citations, notes, names, reasons), printed as written: no Rich
@@ -61,10 +70,8 @@ def ingredient_list(records: Sequence[IngredientRecord], fmt: str, *,
         writer.writerow(_LIST_COLUMNS)
         writer.writerows([guard_cell(cell) for cell in row] for row in rows)
         return buffer.getvalue()
-    from rich.table import Table
-
-    table = Table("INCI name", "roles", "HLB", "req. HLB O/W", "req. HLB W/O", "solubility",
-                  "ionic", "version", *(["retired"] if include_retired else []))
+    table = data_table("INCI name", "roles", "HLB", "req. HLB O/W", "req. HLB W/O", "solubility",
+                       "ionic", "version", *(["retired"] if include_retired else []))
     for row in rows:
         table.add_row(*(row if include_retired else row[:-1]))
     return _tables(lambda c: c.print(table), width) + f"{len(rows)} ingredient(s).\n"
@@ -72,8 +79,6 @@ def ingredient_list(records: Sequence[IngredientRecord], fmt: str, *,
 
 def ingredient_detail(detail: Any, *, width: int | None = None) -> str:
     """``ingredient show``: every property with value, unit, source, evidence and citation."""
-    from rich.table import Table
-
     from formdb.schemas.cells import render_property
     from formdb.schemas.ingredient import PROPERTY_NAMES, IngredientProperties
 
@@ -84,7 +89,7 @@ def ingredient_detail(detail: Any, *, width: int | None = None) -> str:
                          ("roles", sorted(r.value for r in rec.roles)),
                          ("classes", sorted(rec.classes))):
         lines.append(f"  {label}: {'; '.join(items) or '-'}")
-    table = Table("property", "value", "unit", "source", "evidence", "citation", "note")
+    table = data_table("property", "value", "unit", "source", "evidence", "citation", "note")
     for prop in PROPERTY_NAMES:
         value = getattr(rec.p, prop)
         prov = rec.provenance.get(prop)
@@ -97,11 +102,9 @@ def ingredient_detail(detail: Any, *, width: int | None = None) -> str:
 
 def ingredient_history(entries: Sequence[Any], *, width: int | None = None,
                        dialect: str = "postgresql") -> str:
-    from rich.table import Table
-
     from formdb.schemas.change_log import value_text
 
-    table = Table("when (UTC)", "who", "action", "version", "field", "old", "new", "reason")
+    table = data_table("when (UTC)", "who", "action", "version", "field", "old", "new", "reason")
     for e in entries:
         head = [when(e.at), e.user, e.action, "" if e.version is None else str(e.version)]
         rows = [(field, value_text(old) if old not in (None, []) else "",
@@ -163,9 +166,7 @@ def import_summary(report: Any) -> str:
 
 
 def formula_list(rows: Sequence[StoredFormulaInfo], *, width: int | None = None) -> str:
-    from rich.table import Table
-
-    table = Table("name", "version", "lines", "updated (UTC)", "by", "sha-256")
+    table = data_table("name", "version", "lines", "updated (UTC)", "by", "sha-256")
     for info in rows:
         table.add_row(info.name, str(info.version), str(info.lines),
                       info.updated_at.strftime("%Y-%m-%d %H:%M"), info.updated_by,

@@ -9,7 +9,7 @@ import json
 from collections.abc import Mapping, Sequence
 from typing import Any
 
-from formdb.report.library import CAUTION, _tables, when
+from formdb.report.library import CAUTION, _tables, data_table, when
 from formdb.schemas.cells import guard_cell
 
 LIST_FORMATS = ("table", "csv", "json")
@@ -27,9 +27,7 @@ def record_list(rows: Sequence[Mapping[str, str]], columns: Sequence[str], shown
         writer.writerow(columns)
         writer.writerows([[guard_cell(r.get(c, "")) for c in columns] for r in rows])
         return buffer.getvalue()
-    from rich.table import Table
-
-    table = Table(*shown)
+    table = data_table(*shown)
     for r in rows:
         table.add_row(*(r.get(c, "") for c in shown))
     return _tables(lambda c: c.print(table), width) + f"{len(rows)} {noun}.\n"
@@ -38,9 +36,7 @@ def record_list(rows: Sequence[Mapping[str, str]], columns: Sequence[str], shown
 def record_detail(title: str, cells: Mapping[str, str], columns: Sequence[str], *,
                   extra: Sequence[str] = (), width: int | None = None) -> str:
     """One record, a field per line, then any further lines (values citing a source...)."""
-    from rich.table import Table
-
-    table = Table("field", "value")
+    table = data_table("field", "value")
     for c in columns:
         table.add_row(c, cells.get(c, "") or "-")
     out = title + "\n" + _tables(lambda c: c.print(table), width)
@@ -68,11 +64,9 @@ def record_changes(report: Any) -> str:
 
 def record_history(entries: Sequence[Any], *, width: int | None = None,
                    dialect: str = "postgresql") -> str:
-    from rich.table import Table
-
     from formdb.report.library import outside_note
 
-    table = Table("when (UTC)", "who", "action", "field", "old", "new", "reason")
+    table = data_table("when (UTC)", "who", "action", "field", "old", "new", "reason")
     for e in entries:
         table.add_row(when(e.at), e.user, e.action, e.field or "", e.old or "", e.new or "",
                       e.reason or "")
@@ -89,11 +83,9 @@ def identified(path: str, keys: Sequence[str]) -> str:
 def mixture_detail(view: Any, *, width: int | None = None) -> str:
     """A mixture's constituents, then its HLB and solubility as computed from them and as the
     library holds them."""
-    from rich.table import Table
-
     from formdb.schemas.cells import format_number
 
-    table = Table("constituent", "% in the mixture", "HLB", "solubility", "source")
+    table = data_table("constituent", "% in the mixture", "HLB", "solubility", "source")
     for rec, pct, source in view.parts:
         table.add_row(rec.inci_name, format_number(pct),
                       "-" if rec.p.hlb is None else format_number(rec.p.hlb),

@@ -39,7 +39,7 @@ def _console(color: bool) -> Console:
 def _lines(block: Lines) -> RenderableType:
     grid = Table.grid(padding=(0, 2))
     grid.add_column(no_wrap=True, style="bold")
-    grid.add_column(ratio=1)
+    grid.add_column(ratio=1, overflow="fold")
     for line in block.items:
         grid.add_row(Text(line.label), Text(line.value + FLAG_MARKS[line.flag],
                                             style=FLAG_STYLES[line.flag]))
@@ -61,7 +61,7 @@ def _notes(block: Notes) -> RenderableType:
     parts: list[RenderableType] = [Text(block.title, style="bold")] if block.title else []
     grid = Table.grid(padding=(0, 1))
     grid.add_column(no_wrap=True)
-    grid.add_column(ratio=1)
+    grid.add_column(ratio=1, overflow="fold")
     for item in block.items:
         grid.add_row(Text("-"), Text(item))
     parts.append(grid)
@@ -90,7 +90,7 @@ def _findings(groups: tuple[FindingGroup, ...]) -> RenderableType:
     for group in groups:
         grid = Table.grid(padding=(0, 2))
         grid.add_column(no_wrap=True, style=SEVERITY_STYLES[group.severity])
-        grid.add_column(ratio=1)
+        grid.add_column(ratio=1, overflow="fold")
         for item in group.items:
             grid.add_row(Text(item.code), Text(f"{item.name}: {item.message}"))
             if item.ingredients:
@@ -105,7 +105,7 @@ def _findings(groups: tuple[FindingGroup, ...]) -> RenderableType:
 def _header(view: FormulaView) -> RenderableType:
     grid = Table.grid(padding=(0, 2))
     grid.add_column(no_wrap=True, style="bold")
-    grid.add_column(ratio=1)
+    grid.add_column(ratio=1, overflow="fold")
     for line in view.header:
         grid.add_row(Text(line.label), Text(line.value))
     grid.add_row(Text("Findings"), Text(view.verdict, style=FLAG_STYLES[view.verdict_flag]))
@@ -119,7 +119,7 @@ def formula_renderable(view: FormulaView) -> RenderableType:
 def cautions_renderable(items: Sequence[str]) -> RenderableType:
     grid = Table.grid(padding=(0, 1))
     grid.add_column(no_wrap=True)
-    grid.add_column(ratio=1)
+    grid.add_column(ratio=1, overflow="fold")
     for number, item in enumerate(items, start=1):
         grid.add_row(Text(f"{number}."), Text(item))
     return Panel(grid, title=Text("Cautions", style="bold"), title_align="left",
