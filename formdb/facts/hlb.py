@@ -118,11 +118,13 @@ def blend(emulsifiers: list[EmulsifierFacts], emulsifier_percent: float, min_cov
         assessment = ("led by ionic members (soap or ionic surfactant): no HLB balance; the "
                       "type is judged by their ionic character and soap valence")
     else:
-        assessment = (f"no HLB verdict: Griffin-scale values cover {coverage:.0%} of the "
+        assessment = ("no HLB verdict: Griffin-scale values cover "
+                      f"{share_below(coverage, min_coverage)} of the "
                       f"emulsifier system, below {min_coverage:.0%}")
     if raw is not None and not enough:
         work.note(f"blend HLB {raw:.2f} of {', '.join(e.inci for e in griffin)} covers "
-                  f"{coverage:.0%} of the emulsifier system (at least {min_coverage:.0%} "
+                  f"{share_below(coverage, min_coverage)} of the emulsifier system (at least "
+                  f"{min_coverage:.0%} "
                   "needed): no blend HLB verdict")
     elif raw is not None and n_mass > 0:
         work.note(f"blend HLB covers {g_mass:.4g} of {emulsifier_percent:.4g} % emulsifier "
@@ -177,6 +179,15 @@ def required(formula: ResolvedFormula, lines: list[LineFacts], kind: EmulsionTyp
         rests_on=tuple(read))
 
 
+def share_below(share: float, threshold: float) -> str:
+    """A share under a threshold as a percentage with the digits that show it under: 79.9 %
+    against 80 % reads "79.9%", never "80%, below 80%"."""
+    for digits in range(4):
+        if round(share * 100, digits) < round(threshold * 100, digits):
+            return f"{share:.{digits}%}"
+    return f"{share:.4%}"
+
+
 def working_required(working: EmulsionType | None, rhlb_ow: RequiredHlbFacts,
                      rhlb_wo: RequiredHlbFacts, min_coverage: float,
                      work: Work) -> tuple[float | None, float | None]:
@@ -200,14 +211,16 @@ def working_required(working: EmulsionType | None, rhlb_ow: RequiredHlbFacts,
                 if chosen.members_percent > 0 else None)
     enough = coverage is not None and coverage + 1e-9 >= min_coverage
     detail = "" if enough or coverage is None else (
-        f"the values cover {coverage:.0%} of the oil phase, below {min_coverage:.0%}: "
+        f"the values cover {share_below(coverage, min_coverage)} of the oil phase, below "
+        f"{min_coverage:.0%}: "
         "no balance verdict")
     for name in chosen.missing:
         work.gap(prop, name, f"required HLB ({working.value})", detail)
     if chosen.value is not None and not enough:
         work.note(f"required HLB ({working.value}) {chosen.value:.2f} rests on "
                   f"{chosen.covered_percent:.4g} of {chosen.members_percent:.4g} % oil phase "
-                  f"({coverage:.0%}; at least {min_coverage:.0%} needed): no balance verdict "
+                  f"({share_below(coverage, min_coverage)}; at least {min_coverage:.0%} needed): "
+                  "no balance verdict "
                   "and no ratio advice")
         return None, coverage
     return chosen.value, coverage
