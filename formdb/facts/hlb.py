@@ -219,9 +219,8 @@ def working_required(working: EmulsionType | None, rhlb_ow: RequiredHlbFacts,
     if chosen.value is not None and not enough:
         work.note(f"required HLB ({working.value}) {chosen.value:.2f} rests on "
                   f"{chosen.covered_percent:.4g} of {chosen.members_percent:.4g} % oil phase "
-                  f"({share_below(coverage, min_coverage)}; at least {min_coverage:.0%} needed): "
-                  "no balance verdict "
-                  "and no ratio advice")
+                  f"({share_below(coverage or 0.0, min_coverage)}; at least "
+                  f"{min_coverage:.0%} needed): no balance verdict and no ratio advice")
         return None, coverage
     return chosen.value, coverage
 
