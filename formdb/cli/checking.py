@@ -30,6 +30,17 @@ def _wants_color(out: Path | None, fmt: str) -> bool:
             and "NO_COLOR" not in os.environ)
 
 
+def _echo_coloured(report: str, color: bool) -> None:
+    """A report; a coloured one (its data escaped by report/ before the colours went in) goes
+    past the terminal filter, which would print its colour codes as text."""
+    if color:
+        from formdb.report.terminal import raw_stdout
+
+        click.echo(report, nl=False, file=raw_stdout(sys.stdout), color=True)
+    else:
+        click.echo(report, nl=False)
+
+
 @click.command("check")
 @click.argument("files", nargs=-1, type=click.Path(path_type=Path))
 @click.option("--all", "all_stored", is_flag=True,
@@ -195,19 +206,19 @@ def blend_cmd(app: AppContext, library: Library, file: Path | None, target: floa
         if mode == "named":
             assert target is not None
             plan = blending.blend_for_target(library, target, using, total)
-            click.echo(render_plan(plan, fmt, color), nl=False)
+            _echo_coloured(render_plan(plan, fmt, color), color)
         elif mode == "file":
             assert file is not None
             plan = blending.blend_for_formula(library, file, profile, target)
-            click.echo(render_plan(plan, fmt, color), nl=False)
+            _echo_coloured(render_plan(plan, fmt, color), color)
         elif mode == "search":
             assert target is not None
             given = blending.DEFAULT_TOTAL_PERCENT if total is None else total
             found = blending.search_pairs(library, target, given, top,
                                           kind=EmulsionType(kind) if kind else None)
-            click.echo(render_search(found, fmt, color), nl=False)
+            _echo_coloured(render_search(found, fmt, color), color)
         else:
             assert file is not None
             found = blending.search_for_formula(library, file, profile, total, top, target,
                                                 EmulsionType(kind) if kind else None)
-            click.echo(render_search(found, fmt, color), nl=False)
+            _echo_coloured(render_search(found, fmt, color), color)

@@ -19,6 +19,7 @@ from rich.text import Text
 
 from formdb.errors import ConfigError
 from formdb.report import numbers as n
+from formdb.report.terminal import safe_fields
 from formdb.schemas.result import rounded
 
 if TYPE_CHECKING:  # the report layer only reads these records; it does not call services
@@ -193,8 +194,11 @@ def _pick(table: dict[str, Any], fmt: str) -> Any:
 
 
 def render_plan(plan: BlendPlan, fmt: str, color: bool = False) -> str:
-    return str(_pick(PLAN_RENDERERS, fmt)(plan, color))
+    """The plan in ``fmt``; ``color`` (text for a terminal) escapes the data before the colours
+    go in, as the check report does, so the CLI writes it past the terminal filter."""
+    return str(_pick(PLAN_RENDERERS, fmt)(safe_fields(plan) if color else plan, color))
 
 
 def render_search(search: PairSearch, fmt: str, color: bool = False) -> str:
-    return str(_pick(SEARCH_RENDERERS, fmt)(search, color))
+    """The pairs found in ``fmt``; ``color`` as for ``render_plan``."""
+    return str(_pick(SEARCH_RENDERERS, fmt)(safe_fields(search) if color else search, color))

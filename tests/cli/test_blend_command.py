@@ -209,3 +209,23 @@ def test_blend_of_a_cleanser_says_it_is_not_an_emulsion(seeded_library_url: str,
     result = run_formdb(["--db", seeded_library_url, "blend", str(path)])
     assert result.exit_code == 2
     assert "surfactant solution" in result.stderr and "not an emulsion" in result.stderr
+
+
+def test_on_a_terminal_the_colours_work_and_the_data_is_escaped(
+        seeded_library_url: str, monkeypatch: pytest.MonkeyPatch) -> None:
+    """On a terminal the blend is coloured: the colour codes reach it as codes (they were
+    printed as the text '\\u001b[1m' by the terminal filter), while a control sequence in the
+    library's text (an HLB source's citation) is still escaped."""
+    url = seeded_library_url
+    sneaky = "Larkspur handbook \x1b]0;owned\x07 table 3"
+    assert run_formdb(["--db", url, "source", "edit", "hpe6", "--citation", sneaky,
+                       "--reason", "test"]).exit_code == 0
+    monkeypatch.setattr("formdb.cli.checking._wants_color", lambda out, fmt: True)
+    for args in (SPAN80_TWEEN80, ["--search", "--top", "2"]):
+        result = _blend(url, "--target", "12", *args)
+        assert result.exit_code == 0, result.stderr
+        assert "\x1b[1m" in result.stdout and "\\u001b[1m" not in result.stdout
+    shown = _blend(url, "--target", "12", "--using", "Polysorbate 60", "--using",
+                   "Sorbitan Stearate")
+    assert "\\u001b]0;owned\\u0007 table 3" in shown.stdout
+    assert "\x1b]" not in shown.stdout and "\x07" not in shown.stdout
