@@ -7,6 +7,7 @@ from typing import Any, ClassVar
 
 from formdb.rules.base import Option, Rule
 from formdb.rules.registry import register
+from formdb.rules.scoping import line_purpose
 from formdb.schemas.findings import Finding
 from formdb.schemas.formula import ResolvedFormula, ResolvedLine
 from formdb.schemas.ingredient import name_key
@@ -27,7 +28,8 @@ class UseRange(Rule):
     low end, is not judged against the range: it is there for another purpose (a note of scent,
     a carry-over, an antioxidant for one raw material), not as a weak dose. The exception is a
     preservative: a trace of one cannot preserve, and is more often a slipped decimal point, so
-    it is still reported. A line that forms a soap in the batch (a fatty acid with its base) is
+    it is still reported, unless its line declares another purpose (purpose = "fragrance").
+    A line that forms a soap in the batch (a fatty acid with its base) is
     judged by what stays free, and only against the top of the range: the rest became the soap
     on purpose (15 % oleic acid neutralised to sodium oleate is a soap base, not too much oil).
     Why: typical use ranges summarise where an ingredient does its job without side effects:
@@ -92,7 +94,9 @@ class UseRange(Rule):
                            "needed")
             elif low is not None and percent < low - 1e-9:
                 trace = percent < options["trace_fraction"] * low - 1e-12
-                preservative = ing.has_role(Role.PRESERVATIVE)
+                # a preservative the formula does not say is there for another purpose
+                preservative = ing.has_role(Role.PRESERVATIVE) and all(
+                    line_purpose(line, ing)[0] in (None, "preservative") for line in lines)
                 if trace and not preservative:
                     continue
                 if trace:
