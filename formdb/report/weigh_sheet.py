@@ -9,7 +9,7 @@ who checked each line and the batch.
 from __future__ import annotations
 
 import csv
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from io import BytesIO, StringIO
 from pathlib import PurePath
 from typing import TYPE_CHECKING
@@ -21,7 +21,7 @@ from rich.text import Text
 
 from formdb.errors import ConfigError, InvalidData
 from formdb.report.cautions import DEFER, SCREENING
-from formdb.schemas.cells import guard_cell
+from formdb.schemas.cells import guard_cell, xlsx_refusal
 
 if TYPE_CHECKING:  # the report layer reads these records only
     from formdb.schemas.bench import PhaseGroup, StepView, WeighLine, WeighSheet
@@ -171,6 +171,19 @@ def _guarded(row: list[object]) -> list[object]:
     return [guard_cell(c) if isinstance(c, str) else c for c in row]
 
 
+def _xlsx_row(row: list[object], where: str, columns: Sequence[str] = ()) -> list[object]:
+    """A guarded row for the workbook; a text an XLSX cell cannot hold (a control character in
+    a remark or a price's supplier) is refused, naming it, rather than failing inside openpyxl."""
+    for number, cell in enumerate(row):
+        why = xlsx_refusal(cell) if isinstance(cell, str) else None
+        if why is not None:
+            column = f", column {columns[number]}" if number < len(columns) else ""
+            raise InvalidData(f"weigh sheet, {where}{column}: holds {why}, which an XLSX "
+                              "cell cannot hold; nothing was written.",
+                              "choose --format csv, text or html, or correct the text.")
+    return _guarded(row)
+
+
 def render_csv(sheet: WeighSheet) -> str:
     """One row a line to weigh, with empty weighed-by and checked-by columns to fill in."""
     out = StringIO()
@@ -190,17 +203,17 @@ def render_xlsx(sheet: WeighSheet) -> bytes:
     book.remove(book.worksheets[1])
     ws.title = "weigh sheet"
     for line in _heading(sheet):
-        ws.append(_guarded([line]))
+        ws.append(_xlsx_row([line], "heading"))
     ws.append([])
     ws.append(list(CSV_COLUMNS))
     for cell in ws[ws.max_row]:
         cell.font = Font(bold=True)
     for row in _rows(sheet):
-        ws.append(_guarded(row))
+        ws.append(_xlsx_row(row, f"line {row[1]}", CSV_COLUMNS))
     ws.append([])
     for line in [total_words(sheet), *cost_words(sheet), *("Note: " + n for n in sheet.notes),
                  "Weighed by:", "Checked by:", SCREENING]:
-        ws.append(_guarded([line]))
+        ws.append(_xlsx_row([line], "notes"))
     buffer = BytesIO()
     book.save(buffer)
     return buffer.getvalue()

@@ -5,6 +5,7 @@ Shared by the exporter (services) and the listings (report), so both print a val
 
 from __future__ import annotations
 
+import re
 from enum import StrEnum
 from typing import Any
 
@@ -31,6 +32,17 @@ def unguard_cell(text: str) -> str:
     if text.startswith("'") and _marked(text):
         return text[1:]
     return text
+
+
+# The characters an XLSX cell cannot hold (XML 1.0 allows no other C0 control; openpyxl refuses
+# them with IllegalCharacterError): a library text holding one is refused on the way out.
+_NOT_IN_XLSX = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f]")
+
+
+def xlsx_refusal(text: str) -> str | None:
+    """Why ``text`` cannot be an XLSX cell ('U+0007, a control character'), or None."""
+    found = _NOT_IN_XLSX.search(text)
+    return None if found is None else f"U+{ord(found.group()):04X}, a control character"
 
 
 def format_number(value: float) -> str:

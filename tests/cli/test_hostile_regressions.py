@@ -575,6 +575,37 @@ def test_record_list_csv_guards_formulas(library_url: str) -> None:
     assert not [c for c in cells if c.startswith(("=", "+", "-", "@"))]
 
 
+def test_a_control_character_the_library_keeps_is_refused_by_an_xlsx_export(
+        seeded_sqlite_url: str, tmp_path: Path) -> None:
+    """Found by hand: a note holding BEL (the library keeps it as typed) made `source export
+    x.xlsx` and `batch --out x.xlsx` fail inside openpyxl, an internal problem (exit 70). The
+    XLSX export now refuses with one line naming the cell; the CSV export keeps the note."""
+    url = seeded_sqlite_url
+    note = "bell \x07 in the note"
+    assert run_formdb(["--db", url, "source", "add", "larkspur-bell", "--kind", "estimate",
+                       "--citation", "Larkspur bench notebook 4", "--set", f"note={note}",
+                       "--reason", "test"]).exit_code == 0
+    out = tmp_path / "out"
+    out.mkdir()
+    xlsx = out / "sources.xlsx"
+    _refused(run_formdb(["--db", url, "source", "export", str(xlsx)]),
+             "(key larkspur-bell), column note: holds U+0007, a control character")
+    assert not list(out.iterdir())  # nor a temporary file left behind
+    csv_file = out / "sources.csv"
+    assert run_formdb(["--db", url, "source", "export", str(csv_file)]).exit_code == 0
+    with csv_file.open(encoding="utf-8-sig", newline="") as f:
+        assert note in [c for row in csv.reader(f) for c in row]
+    assert run_formdb(["--db", url, "price", "add", "Aqua", "--per-kg", "1", "--currency",
+                       "EUR", "--supplier", "Larkspur \x07 stores"]).exit_code == 0
+    formula = tmp_path / "f.toml"
+    formula.write_text('name = "Larkspur bell"\ncategory = "leave-on"\n[[ingredients]]\n'
+                       'inci = "Aqua"\npercent = 100\n', encoding="utf-8")
+    sheet = out / "sheet.xlsx"
+    _refused(run_formdb(["--db", url, "batch", str(formula), "--kg", "1", "--out", str(sheet)]),
+             "weigh sheet, line 1, column price_supplier: holds U+0007")
+    assert not sheet.exists()
+
+
 # --- output files ----------------------------------------------------------------------------
 
 def _export_commands() -> list[list[str]]:

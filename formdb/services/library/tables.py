@@ -24,7 +24,7 @@ from formdb.schemas.bounds import (
     UnreadableInput,
     read_input,
 )
-from formdb.schemas.cells import guard_cell, unguard_cell
+from formdb.schemas.cells import guard_cell, unguard_cell, xlsx_refusal
 
 TABLE_SUFFIXES = {".csv": "csv", ".xlsx": "xlsx"}
 
@@ -236,6 +236,19 @@ def read_table(path: Path) -> RawTable:
     return RawTable(name, kind, header_row, header, rows)
 
 
+def _fits_xlsx(header: Sequence[str], rows: Sequence[Sequence[str | float | None]]) -> None:
+    """Refuse, naming the cell, a text an XLSX cell cannot hold (a control character the
+    library keeps as typed): the CSV export keeps it."""
+    for number, row in enumerate(rows, start=2):
+        for column, cell in zip(header, row, strict=False):
+            why = xlsx_refusal(cell) if isinstance(cell, str) else None
+            if why is not None:
+                raise InvalidData(f"row {number} ({header[0]} {unguard_cell(str(row[0]))}), "
+                                  f"column {column}: holds {why}, which an XLSX cell cannot "
+                                  "hold; nothing was written.",
+                                  "export to .csv, which keeps it, or correct the value.")
+
+
 def write_table(path: Path, header: Sequence[str], rows: Iterable[Sequence[str | float | None]],
                 sheet: str = "table") -> str:
     """Write rows under ``header`` as CSV or XLSX (by suffix); text cells are formula-guarded."""
@@ -247,6 +260,8 @@ def write_table(path: Path, header: Sequence[str], rows: Iterable[Sequence[str |
     import pandas as pd
 
     safe = [[guard_cell(c) if isinstance(c, str) else c for c in row] for row in rows]
+    if kind == "xlsx":
+        _fits_xlsx(header, safe)
     frame = pd.DataFrame(safe, columns=list(header), dtype=object)
     try:
         if kind == "csv":
