@@ -57,13 +57,15 @@ def seed_library(tmp_path_factory: pytest.TempPathFactory) -> tuple[dict[str, An
 
 def _resolved(case: dict[str, Any], found: dict[str, Any]) -> ResolvedFormula | None:
     lines = case["lines"]
-    if any(name_key(n) not in found for n, _ in lines):
+    if any(name_key(line[0]) not in found for line in lines):
         return None
     body = {"category": "leave-on", **case.get("formula", {})}
-    file = FormulaFile(name=case["name"], ingredients=[{"inci": n, "percent": p}
-                                                       for n, p in lines], **body)
+    file = FormulaFile(name=case["name"], ingredients=[
+        {"inci": line[0], "percent": line[1]} | ({"purpose": line[2]} if len(line) > 2 else {})
+        for line in lines], **body)
     resolved = tuple(ResolvedLine(line_no=i, given_name=ln.inci, percent=ln.percent,
-                                  phase=ln.phase, ingredient=found[name_key(ln.inci)])
+                                  phase=ln.phase, ingredient=found[name_key(ln.inci)],
+                                  purpose=ln.purpose)
                      for i, ln in enumerate(file.ingredients, start=1))
     return ResolvedFormula(source=f"seed-case:{case['name']}", formula=file, lines=resolved,
                            content_hash=case["name"])
