@@ -294,7 +294,9 @@ def _before_exit() -> None:
 
 def _run(args: list[str]) -> None:
     try:
-        code = cli.main(args=args, prog_name="formdb", standalone_mode=False)
+        # color=True: click.echo would silently strip a control sequence from the data when the
+        # output is not a terminal; SafeOutput shows it as a visible escape instead
+        code = cli.main(args=args, prog_name="formdb", standalone_mode=False, color=True)
     except FormdbError as exc:
         if _wants_debug(args):
             traceback.print_exc()

@@ -563,6 +563,22 @@ def test_list_csv_guards_formulas_and_terminal_output_escapes(library_url: str) 
     assert "\\u001b" in history.stdout or "\\u0007" in history.stdout
 
 
+def test_a_control_sequence_piped_out_is_escaped_not_dropped(library_url: str) -> None:
+    """Found by hand: with the output not a terminal, click.echo stripped an ANSI sequence from
+    the data before the terminal filter could show it, so `source list --format csv > file`
+    printed the note 'esc\x1b[31mred' as 'escred'. It now comes out as a visible escape."""
+    note = "esc\x1b[31mred\x1b[0m end"
+    added = run_formdb(["--db", library_url, "source", "add", "larkspur-ansi", "--kind",
+                        "estimate", "--citation", "Larkspur notebook", "--set", f"note={note}"])
+    assert added.exit_code == 0, added.stderr
+    listed = run_formdb(["--db", library_url, "source", "list", "--format", "csv"])
+    assert "esc\\u001b[31mred\\u001b[0m end" in listed.stdout, listed.stdout
+    assert "\x1b" not in listed.stdout
+    changed = run_formdb(["--db", library_url, "source", "edit", "larkspur-ansi", "--set",
+                          "note=plain", "--reason", "tidy"])
+    assert "esc\\u001b[31mred\\u001b[0m end -> plain" in changed.stdout, changed.stdout
+
+
 def test_record_list_csv_guards_formulas(library_url: str) -> None:
     """Found by hand: `source list --format csv` (and the other evidence lists) printed a
     citation starting with '=' as it was."""
