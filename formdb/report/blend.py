@@ -109,6 +109,7 @@ def _sources(members: Sequence[BlendMember]) -> list[RenderableType]:
 
 
 def plan_text(plan: BlendPlan, color: bool = False) -> str:
+    plan = safe_fields(plan)  # every character visible, before the layout (report.safe_table)
     head = f"Blend for HLB {n.hlb(plan.target)} ({plan.target_from})"
     if plan.formula:
         head = f"{plan.formula}: {head[0].lower()}{head[1:]}"
@@ -133,6 +134,7 @@ def _pair_cells(rank: int, pair: PairCandidate) -> tuple[str, ...]:
 
 
 def search_text(search: PairSearch, color: bool = False) -> str:
+    search = safe_fields(search)  # as in plan_text
     head = (f"Emulsifier pairs for HLB {n.hlb(search.target)} ({search.target_from}) at "
             f"{n.percent(search.total_percent)} emulsifier in total")
     if search.formula:
@@ -194,11 +196,11 @@ def _pick(table: dict[str, Any], fmt: str) -> Any:
 
 
 def render_plan(plan: BlendPlan, fmt: str, color: bool = False) -> str:
-    """The plan in ``fmt``; ``color`` (text for a terminal) escapes the data before the colours
-    go in, as the check report does, so the CLI writes it past the terminal filter."""
-    return str(_pick(PLAN_RENDERERS, fmt)(safe_fields(plan) if color else plan, color))
+    """The plan in ``fmt``; the text escapes the data before Rich lays it out (and before the
+    colours go in, with ``color``), so the CLI writes a coloured one past the terminal filter."""
+    return str(_pick(PLAN_RENDERERS, fmt)(plan, color))
 
 
 def render_search(search: PairSearch, fmt: str, color: bool = False) -> str:
-    """The pairs found in ``fmt``; ``color`` as for ``render_plan``."""
-    return str(_pick(SEARCH_RENDERERS, fmt)(safe_fields(search) if color else search, color))
+    """The pairs found in ``fmt``; the text as for ``render_plan``."""
+    return str(_pick(SEARCH_RENDERERS, fmt)(search, color))

@@ -25,12 +25,12 @@ _LIST_COLUMNS = ["inci_name", "roles", "hlb", "required_hlb_ow", "required_hlb_w
 
 
 def data_table(*headers: str) -> Any:
-    """A Rich table of the library's text. Every column folds a word too long for it onto the
-    next line: Rich's default would cut it short with an ellipsis, so a long INCI name or a URL
-    in a citation lost its end."""
-    from rich.table import Column, Table
+    """A Rich table of the library's text (``report.safe_table``): every character of a cell
+    comes out, control characters as visible escapes, and a word too long for its column is
+    folded, never cut short."""
+    from formdb.report.safe_table import SafeTable
 
-    return Table(*(Column(header, overflow="fold") for header in headers))
+    return SafeTable(*headers)
 
 
 def _tables(render: Any, width: int | None) -> str:

@@ -132,9 +132,10 @@ def render_text(results: Sequence[CheckResult], *,
     console = _console(color)
     for result in results:
         view = formula_view(result)
-        # coloured output bypasses the terminal filter (its colours are wanted): escape first
-        console.print(formula_renderable(safe_fields(view) if color else view))
+        # escaped before the layout: Rich would drop some control characters and lay out the
+        # others unescaped (report.safe_table); coloured output bypasses the terminal filter
+        console.print(formula_renderable(safe_fields(view)))
     notes = cautions(results, snapshots)
-    console.print(cautions_renderable([terminal_safe(n) for n in notes] if color else notes))
+    console.print(cautions_renderable([terminal_safe(n) for n in notes]))
     output = console.file.getvalue()  # type: ignore[attr-defined]
     return "\n".join(line.rstrip() for line in output.splitlines()) + "\n"

@@ -21,6 +21,7 @@ from rich.text import Text
 
 from formdb.errors import ConfigError, InvalidData
 from formdb.report.cautions import DEFER, SCREENING
+from formdb.report.terminal import safe_fields
 from formdb.schemas.cells import guard_cell, xlsx_refusal
 
 if TYPE_CHECKING:  # the report layer reads these records only
@@ -119,6 +120,7 @@ def _print(*items: RenderableType) -> str:
 
 
 def render_text(sheet: WeighSheet) -> str:
+    sheet = safe_fields(sheet)  # every character visible, before the layout (report.safe_table)
     items: list[RenderableType] = [Text("\n".join(_heading(sheet)))]
     for group in sheet.groups:
         table = Table(box=box.SIMPLE_HEAD, show_edge=False, pad_edge=False,

@@ -579,6 +579,30 @@ def test_a_control_sequence_piped_out_is_escaped_not_dropped(library_url: str) -
     assert "esc\\u001b[31mred\\u001b[0m end -> plain" in changed.stdout, changed.stdout
 
 
+def test_tables_show_every_control_character_and_stay_square(seeded_sqlite_url: str,
+                                                            tmp_path: Path) -> None:
+    """Found by hand: Rich dropped BEL, vertical tab, form feed and carriage return from a
+    cell without a trace ('bell\x07' printed as 'bell'), and the escapes the terminal filter
+    wrote for other characters came after the layout, pushing the row past its border. Cells
+    are now escaped before the layout."""
+    url = seeded_sqlite_url
+    note = "bell\x07 vt\x0b ff\x0c cr\r rlm\u200f end"
+    assert run_formdb(["--db", url, "source", "add", "larkspur-bell", "--kind", "estimate",
+                       "--citation", "Larkspur bench notebook 4", "--set", f"note={note}",
+                       "--reason", "test"]).exit_code == 0
+    shown = run_formdb(["--db", url, "source", "show", "larkspur-bell"])
+    assert shown.exit_code == 0, shown.stderr
+    assert "bell\\u0007 vt\\u000b ff\\u000c cr\\u000d rlm\\u200f end" in shown.stdout
+    table = [line for line in shown.stdout.splitlines() if line[:1] in "┏┃┡│└"]
+    assert len({len(line) for line in table}) == 1, table
+    formula = tmp_path / "f.toml"
+    formula.write_text('name = "Larkspur bell"\ncategory = "leave-on"\n[[ingredients]]\n'
+                       'inci = "Aqua"\npercent = 100\nlot = "L\\u0007T"\n', encoding="utf-8")
+    sheet = run_formdb(["--db", url, "batch", str(formula), "--kg", "1"])
+    assert sheet.exit_code == 0, sheet.stderr
+    assert "lot L\\u0007T" in sheet.stdout
+
+
 def test_record_list_csv_guards_formulas(library_url: str) -> None:
     """Found by hand: `source list --format csv` (and the other evidence lists) printed a
     citation starting with '=' as it was."""
