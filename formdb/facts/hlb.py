@@ -167,6 +167,11 @@ def required(formula: ResolvedFormula, lines: list[LineFacts], kind: EmulsionTyp
                      if kind == EmulsionType.OW else
                      (ing.p.required_hlb_wo_low, ing.p.required_hlb_wo_high))
         ranged = ranged or (value is not None and (low is not None or high is not None))
+        if value is not None:  # the band's ends rest on the range's ends that widen it
+            for end, widens in (("low", low is not None and low < value),
+                                ("high", high is not None and high > value)):
+                if widens:
+                    read.append(ValueRead(ingredient=ing.inci_name, property=f"{prop}_{end}"))
         lows.append((lf.remaining_percent, None if value is None else min(value, low or value)))
         highs.append((lf.remaining_percent, None if value is None else max(value, high or value)))
     result = required_hlb(parts)
@@ -200,7 +205,9 @@ def working_required(working: EmulsionType | None, rhlb_ow: RequiredHlbFacts,
     for shown in ((rhlb_ow, rhlb_wo) if working is None else
                   (rhlb_ow if working == EmulsionType.OW else rhlb_wo,)):
         for value in shown.rests_on:
-            work.read(value.property, value.ingredient)
+            # the ends of a sources' range set HLB01's band, which needs a working type
+            if working is not None or not value.property.endswith(("_low", "_high")):
+                work.read(value.property, value.ingredient)
     if working is None:
         work.note("no intended type and no prediction: required HLB, dispersed phase and "
                   "interface are not worked out")

@@ -24,7 +24,8 @@ _SEVERITIES = ("off", *(s.value for s in Severity))
 # experience by nature and USE01 only advises on them; so is electrolyte sensitivity, which no
 # check reads (INC01 matches compatibility classes).
 CHECKED_PROPERTIES = (
-    "hlb", "required_hlb_ow", "required_hlb_wo", "solubility", "ionic_character", "density",
+    "hlb", "required_hlb_ow", "required_hlb_wo", "required_hlb_ow_low", "required_hlb_ow_high",
+    "required_hlb_wo_low", "required_hlb_wo_high", "solubility", "ionic_character", "density",
     "ph_min", "ph_max", "molar_mass", "base_equivalents", "acid_value", "cation_valence",
     "neutralisation_water", "water_number", "viscosity_mpas", "eacn", "hld_cc", "ethoxylated")
 # read by a rule rather than the facts: whether this formula's check reads them
@@ -42,9 +43,11 @@ class UnverifiedValue(Rule):
     "from memory", "rule of thumb" or a secondary copy; one finding per ingredient and kind of
     evidence, naming the properties. A value is named only where this formula's check reads
     it (FormulaFacts.values_read): the required HLB of the working type only (both types
-    while the type is undecided), the HLB of the members the blend averages, of a nonionic its
-    value alone puts on Davies' scale, and of an emulsifier placed by it for want of a
-    solubility, not a value an in-house measurement replaced; a solubility that placed a line;
+    while the type is undecided), and the ends of its sources' range where they widen HLB01's
+    band (a low end from memory can pass a blend HLB the value alone would not); the HLB of
+    the members the blend averages, of a nonionic its value alone puts on Davies' scale, and
+    of an emulsifier placed by it for want of a solubility, not a value an in-house
+    measurement replaced; a solubility that placed a line;
     an emulsifier's ionic character; densities once a dispersed fraction is worked out; the
     viscosity of the continuous phase's main ingredient only; a base's constants where a soap
     forms or alkali is left free, and the acid values that took it up, and the library record of

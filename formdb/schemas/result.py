@@ -155,7 +155,9 @@ class SoapFacts(_Frozen):
 RECORDED_PROPERTIES = frozenset({
     "hlb", "required_hlb_ow", "required_hlb_wo", "solubility", "ionic_character", "density",
     "molar_mass", "base_equivalents", "acid_value", "cation_valence", "neutralisation_water",
-    "viscosity_mpas", "eacn", "hld_cc", "ethoxylated"})
+    "viscosity_mpas", "eacn", "hld_cc", "ethoxylated",
+    # the ends of the sources' range of a required HLB, where they widen HLB01's band
+    "required_hlb_ow_low", "required_hlb_ow_high", "required_hlb_wo_low", "required_hlb_wo_high"})
 
 
 class ValueRead(_Frozen):

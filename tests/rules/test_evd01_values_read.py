@@ -56,7 +56,9 @@ def test_a_predicted_type_counts_as_the_working_type(library: api.Library) -> No
     # no intended type; blend HLB 9.65 and the solubility split both predict O/W
     found = _evd01(library, None, [("Petrolatum", 20.0), ("Polysorbate 80", 2.5),
                                    ("Sorbitan Oleate", 2.5), ("Aqua", 75.0)])
-    assert _props(found["Petrolatum"]) == {"required_hlb_ow"}
+    # and the ends of its O/W range (7-8, the supplier booklet recalled) that widen HLB01's band
+    assert _props(found["Petrolatum"]) == {"required_hlb_ow", "required_hlb_ow_low",
+                                           "required_hlb_ow_high"}
 
 
 def test_an_undecided_type_names_both_types_values(library: api.Library) -> None:
@@ -75,8 +77,10 @@ def test_the_facts_record_the_values_they_read(library: api.Library) -> None:
     read = {(v.ingredient, v.property) for v in result.facts.values_read}
     # the O/W need only (the W/O one is worked out, never read); solubilities that placed a
     # line (Aqua is placed by its water role); the emulsifier's ionic character; every density
-    # once the dispersed fraction is worked out; the continuous phase's main viscosity (Stokes)
+    # once the dispersed fraction is worked out; the continuous phase's main viscosity (Stokes);
+    # the low end of the oil's O/W range (10, below its 12), which widens HLB01's band
     assert read == {("Polysorbate 80", "hlb"), ("Paraffinum Liquidum", "required_hlb_ow"),
+                    ("Paraffinum Liquidum", "required_hlb_ow_low"),
                     ("Paraffinum Liquidum", "solubility"), ("Polysorbate 80", "solubility"),
                     ("Polysorbate 80", "ionic_character"), ("Paraffinum Liquidum", "density"),
                     ("Polysorbate 80", "density"), ("Aqua", "density"),
