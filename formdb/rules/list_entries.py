@@ -116,6 +116,31 @@ def acid_factor(entry: ListEntry, item: Item, reference: ReferenceData) -> float
     return None
 
 
+def _substance(item: Item) -> tuple[str, str | None]:
+    """An item's substance and the purpose of its line: items alike are one amount."""
+    return _key(item.record.inci_name), line_purpose(item.line, item.record)[0]
+
+
+def _totalled(items: list[Item]) -> list[Item]:
+    """One item per substance and purpose: a substance on several lines (split over phases, or
+    also in a mixture) is judged by its total, as the annexes limit the finished product."""
+    groups: dict[tuple[str, str | None], list[Item]] = {}
+    for item in items:
+        groups.setdefault(_substance(item), []).append(item)
+    out = []
+    for group in groups.values():
+        first = group[0]
+        if len(group) == 1:
+            out.append(first)
+            continue
+        name = first.record.inci_name
+        where = [i.label[len(name) + 2:-1] if i.label.startswith(f"{name} (") else i.label
+                 for i in group]
+        out.append(Item(first.record, sum(i.percent for i in group), first.line,
+                        f"{name} ({' + '.join(where)})", first.entries, first.exports))
+    return out
+
+
 def _amount(part: Part, item: Item, members: list[Item], entry: ListEntry,
             reference: ReferenceData) -> tuple[float, bool]:
     """(amount on the part's basis, converted): the item, or the group for a "sum" part."""
@@ -209,6 +234,8 @@ class ListEntryLimits(Rule):
     applies (category, product, the line's ``purpose``). When the formula does not say enough to
     choose (no product, no purpose), the finding names every reading and asks (warning); it is
     an error only when every reading fails. Where an entry applies and is met, an info says so.
+    A substance on several lines for the same purpose (or also in a mixture) is judged by its
+    total.
     Why: Regulation (EC) No 1223/2009, Articles 14 and 15 and Annexes II-VI, as the Commission's
     exports give them (imported with `formdb lists import`; dated snapshots: check the current
     consolidated text).
@@ -229,7 +256,7 @@ class ListEntryLimits(Rule):
               options: Mapping[str, Any]) -> Iterable[Finding]:
         if not reference.lists:
             return
-        items = items_of(formula, reference)
+        items = _totalled(items_of(formula, reference))
         members: dict[str, list[Item]] = {}
         for item in items:
             for entry in item.entries:
