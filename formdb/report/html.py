@@ -9,22 +9,34 @@ from __future__ import annotations
 from collections.abc import Sequence
 from datetime import UTC, datetime
 from functools import lru_cache
+from typing import Any
 
 from jinja2 import Environment, PackageLoader, StrictUndefined
+from markupsafe import Markup
 
 from formdb import __version__
 from formdb.report.cautions import ListSnapshot, cautions
+from formdb.report.terminal import terminal_safe
 from formdb.report.view import formula_view
 from formdb.schemas.result import CheckResult
 
 TEMPLATE = "report.html.j2"
 
 
+def _visible(value: Any) -> Any:
+    """Every text a template prints, with control and invisible formatting characters as
+    visible ``\\uXXXX`` escapes (``report.terminal``), as on a terminal: a right-to-left
+    override in a signer's reason or a zero-width space in a supplier's name would make the
+    printed page read other than what is stored. Markup built by formdb is left as it is."""
+    return terminal_safe(value) if isinstance(value, str) and not isinstance(value, Markup) \
+        else value
+
+
 @lru_cache(maxsize=1)
 def environment() -> Environment:
     return Environment(loader=PackageLoader("formdb.report", "templates"), autoescape=True,
                        undefined=StrictUndefined, trim_blocks=True, lstrip_blocks=True,
-                       keep_trailing_newline=True)
+                       keep_trailing_newline=True, finalize=_visible)
 
 
 def _title(results: Sequence[CheckResult]) -> str:

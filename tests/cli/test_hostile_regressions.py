@@ -603,6 +603,24 @@ def test_tables_show_every_control_character_and_stay_square(seeded_sqlite_url: 
     assert "lot L\\u0007T" in sheet.stdout
 
 
+def test_html_pages_show_invisible_characters_as_escapes(seeded_sqlite_url: str,
+                                                        tmp_path: Path) -> None:
+    """Found by hand: the HTML outputs printed a right-to-left override or a zero-width space
+    from the library raw, so a printed weigh sheet (or a signer's reason in a review record)
+    read other than what is stored; the terminal outputs already showed them as escapes."""
+    url = seeded_sqlite_url
+    formula = tmp_path / "f.toml"
+    formula.write_text('name = "Larkspur bidi"\ncategory = "leave-on"\n[[ingredients]]\n'
+                       'inci = "Aqua"\npercent = 100\n'
+                       'supplier = "Larkspur \\u202estores\\u200b"\n', encoding="utf-8")
+    sheet = tmp_path / "sheet.html"
+    made = run_formdb(["--db", url, "batch", str(formula), "--kg", "1", "--out", str(sheet)])
+    assert made.exit_code == 0, made.stderr
+    page = sheet.read_text(encoding="utf-8")
+    assert "Larkspur \\u202estores\\u200b" in page
+    assert "\u202e" not in page and "\u200b" not in page
+
+
 def test_record_list_csv_guards_formulas(library_url: str) -> None:
     """Found by hand: `source list --format csv` (and the other evidence lists) printed a
     citation starting with '=' as it was."""
