@@ -9,6 +9,15 @@ from __future__ import annotations
 from collections.abc import Sequence
 
 
+def quoted(text: str) -> str:
+    """``text`` in quotes for a message, as typed: Python's repr would double a backslash and
+    escape a quote inside it ('C:\\\\x', 'it\\'s'). Single quotes, or double ones around a
+    text holding a single quote; control characters are escaped on the way out (the CLI's
+    terminal filter)."""
+    mark = '"' if "'" in text and '"' not in text else "'"
+    return f"{mark}{text}{mark}"
+
+
 class FormdbError(Exception):
     """Base of every problem formdb reports to a user; ``hint`` is the next step to suggest."""
 

@@ -621,6 +621,19 @@ def test_html_pages_show_invisible_characters_as_escapes(seeded_sqlite_url: str,
     assert "\u202e" not in page and "\u200b" not in page
 
 
+@pytest.mark.parametrize("command", [["ingredient", "show"], ["source", "show"],
+                                     ["formula", "show"], ["review", "report"],
+                                     ["screen", "show"], ["mixture", "show"]], ids=" ".join)
+def test_a_name_not_found_is_quoted_as_typed(seeded_sqlite_url: str,
+                                            command: list[str]) -> None:
+    """Found by hand: "not found" errors quoted the name through Python's repr, so
+    'C:\\x' came back as 'C:\\\\x' and an apostrophe as \\'."""
+    for name, shown in (("Larkspur C:\\x oil", "'Larkspur C:\\x oil'"),
+                        ("Larkspur O'Hare \\ ester", '"Larkspur O\'Hare \\ ester"')):
+        result = run_formdb(["--db", seeded_sqlite_url, *command, name])
+        _refused(result, shown)
+
+
 def test_record_list_csv_guards_formulas(library_url: str) -> None:
     """Found by hand: `source list --format csv` (and the other evidence lists) printed a
     citation starting with '=' as it was."""

@@ -29,7 +29,7 @@ from sqlalchemy import Engine, inspect, select
 from sqlalchemy.exc import DBAPIError, IntegrityError
 from sqlalchemy.orm import Session, selectinload
 
-from formdb.errors import Conflict, Forbidden, InvalidData, NotFound
+from formdb.errors import Conflict, Forbidden, InvalidData, NotFound, quoted
 from formdb.schemas.admin import Action, Duty, Plan, UserInfo
 from formdb.services.admin import logins
 from formdb.store.change_log import log_entry
@@ -137,7 +137,7 @@ def _user(session: Session, name: str) -> User:
     found = session.scalar(select(User).where(User.name == name)
                            .options(selectinload(User.roles)))
     if found is None:
-        raise NotFound(f"no user {name!r}.", hint="`formdb user list` shows the users")
+        raise NotFound(f"no user {quoted(name)}.", hint="`formdb user list` shows the users")
     return found
 
 

@@ -14,7 +14,7 @@ from datetime import UTC, date, datetime
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
-from formdb.errors import InvalidData, NotFound
+from formdb.errors import InvalidData, NotFound, quoted
 from formdb.schemas.admin import Action
 from formdb.schemas.bench import PriceRecord
 from formdb.services.admin.access import require
@@ -62,7 +62,7 @@ def add_price(library: Library, inci: str, price_per_kg: float, currency: str, s
         record = queries.find_ingredient(session, inci)
         if record is None:
             hint = ", ".join(queries.suggest_names(session, inci))
-            raise NotFound(f"no ingredient named {inci!r}",
+            raise NotFound(f"no ingredient named {quoted(inci)}",
                            hint=f"did you mean {hint}?" if hint else "check the INCI name")
         now = datetime.now(UTC)
         row = IngredientPrice(ingredient_id=record.id, price_per_kg=price_per_kg, currency=code,
@@ -101,7 +101,7 @@ def price_history(library: Library, inci: str | None = None) -> list[PriceRecord
         if inci is not None:
             record = queries.find_ingredient(session, inci)
             if record is None:
-                raise NotFound(f"no ingredient named {inci!r}", hint="check the INCI name")
+                raise NotFound(f"no ingredient named {quoted(inci)}", hint="check the INCI name")
             stmt = stmt.where(IngredientPrice.ingredient_id == record.id)
         rows = session.execute(stmt.order_by(Ingredient.inci_name, IngredientPrice.quoted_on,
                                              IngredientPrice.id)).all()

@@ -24,7 +24,7 @@ import tomli_w
 from sqlalchemy import select
 from sqlalchemy.orm import Session, selectinload
 
-from formdb.errors import Conflict, InvalidData, NotFound
+from formdb.errors import Conflict, InvalidData, NotFound, quoted
 from formdb.facts.compute import compute_facts
 from formdb.schemas.admin import Action
 from formdb.schemas.bench import ScreeningBlend, ScreeningFit, ScreeningSeries, WeighSheet
@@ -72,7 +72,7 @@ def _series_row(session: Session, name: str) -> SeriesRow:
                                   .selectinload(ScreeningBlendRow.observations)))
     if row is None:
         known = list(session.scalars(select(SeriesRow.name).order_by(SeriesRow.name)))
-        raise NotFound(f"no screening series named {name!r}",
+        raise NotFound(f"no screening series named {quoted(name)}",
                        hint=("series: " + ", ".join(known[:10])) if known else
                        "plan one with `formdb screen plan`")
     return row

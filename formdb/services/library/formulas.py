@@ -9,7 +9,7 @@ from __future__ import annotations
 from datetime import UTC, datetime
 from pathlib import Path
 
-from formdb.errors import Conflict, NotFound
+from formdb.errors import Conflict, NotFound, quoted
 from formdb.schemas.admin import Action
 from formdb.schemas.ingredient import name_key
 from formdb.schemas.stored import FormulaImportReport, StoredFormulaInfo
@@ -87,5 +87,5 @@ def formula_text(library: Library, name: str) -> str:
             known = formula_names(session)
             hint = ("stored formulas: " + ", ".join(known[:10])) if known else \
                 "import one with `formdb formula import FILE`"
-            raise NotFound(f"no stored formula named {name!r}", hint=hint)
+            raise NotFound(f"no stored formula named {quoted(name)}", hint=hint)
         return row.content

@@ -21,7 +21,7 @@ from sqlalchemy import Select, Table, func, select
 from sqlalchemy.orm import Session, selectinload
 from sqlalchemy.orm.exc import StaleDataError
 
-from formdb.errors import Conflict, InvalidData, NotFound
+from formdb.errors import Conflict, InvalidData, NotFound, quoted
 from formdb.schemas.admin import Action
 from formdb.schemas.change_log import FieldChange, LoggedChange, read_payload
 from formdb.schemas.ingredient import (
@@ -187,7 +187,7 @@ def _get(session: Session, name: str) -> Ingredient:
     if found is None:
         close = queries.suggest_names(session, name)
         guess = f"; did you mean {' or '.join(repr(c) for c in close)}?" if close else ""
-        raise NotFound(f"no ingredient {normalise_inci(name)!r} in the library{guess or '.'}",
+        raise NotFound(f"no ingredient {quoted(normalise_inci(name))} in the library{guess or '.'}",
                        hint="`formdb ingredient list` shows the library's names")
     return found
 
@@ -858,7 +858,7 @@ def verify_ingredient(session: Session, name: str, properties: Sequence[str], so
         raise InvalidData("name the values to verify.", hint="e.g. --value hlb --value density")
     grade = _sources(session).get(source)
     if grade is None:
-        raise NotFound(f"no source {source!r} in the library"
+        raise NotFound(f"no source {quoted(source)} in the library"
                        f"{did_you_mean(source, _sources(session)) or '.'}",
                        hint="add it first with `formdb source add KEY --kind ... --citation ...`")
     if Evidence(grade) in UNVERIFIED_EVIDENCE:

@@ -22,7 +22,7 @@ from typing import Any
 from sqlalchemy import delete, select
 from sqlalchemy.orm import Session
 
-from formdb.errors import InvalidData, NotFound
+from formdb.errors import InvalidData, NotFound, quoted
 from formdb.schemas.admin import Action
 from formdb.schemas.cells import format_number
 from formdb.schemas.ingredient import IngredientRecord, name_key
@@ -362,7 +362,7 @@ def refresh_blends_of(session: Session, constituent_id: int, *, user: str) -> li
 def show_mixture(session: Session, name: str) -> MixtureView:
     found = find_ingredients(session, [name]).get(name_key(name))
     if found is None:
-        raise NotFound(f"no ingredient {name!r} in the library.",
+        raise NotFound(f"no ingredient {quoted(name)} in the library.",
                        hint="`formdb ingredient list` shows the library's names")
     rows = list(session.scalars(select(MixtureConstituent).where(
         MixtureConstituent.mixture_id == found.id).order_by(MixtureConstituent.percent.desc())))

@@ -21,7 +21,7 @@ from sqlalchemy import inspect as sa_inspect
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
-from formdb.errors import Conflict, InvalidData, NotFound
+from formdb.errors import Conflict, InvalidData, NotFound, quoted
 from formdb.schemas.admin import Action
 from formdb.schemas.cells import format_number
 from formdb.schemas.change_log import FieldChange, value_text
@@ -224,7 +224,7 @@ def _get(session: Session, kind: RecordKind, key: str) -> Base:
     if held is None:
         names = [key_text(kind, kind.cells_of(session, r))
                  for r in session.scalars(select(kind.model))]
-        raise NotFound(f"no {kind.entity} {key!r} in the library"
+        raise NotFound(f"no {kind.entity} {quoted(key)} in the library"
                        f"{did_you_mean(key, names) or '.'}",
                        hint=f"`formdb {kind.entity} list` shows them")
     return held

@@ -5,7 +5,7 @@ from __future__ import annotations
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
-from formdb.errors import NotFound
+from formdb.errors import NotFound, quoted
 from formdb.schemas.ingredient import IngredientRecord, name_key
 from formdb.schemas.lists import ANNEXES, ListEntry, SnapshotInfo
 from formdb.schemas.suggest import close_matches
@@ -24,7 +24,7 @@ def show_entry(library: Library, reference: str) -> list[ListEntry]:
     text = reference.strip().upper().replace("ANNEX", "").replace(" ", "")
     annex, _, ref = text.replace("/", " ", 1).partition(" ") if "/" in text else ("", "", text)
     if annex not in ANNEXES:
-        raise NotFound(f"{reference!r} names no annex entry",
+        raise NotFound(f"{quoted(reference)} names no annex entry",
                        hint="write ANNEX/REFERENCE, e.g. III/98 or V/12a")
     with library.read() as session:
         rows = list(session.scalars(

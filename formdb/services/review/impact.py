@@ -21,7 +21,7 @@ from typing import Any
 from sqlalchemy import Table, inspect, select
 from sqlalchemy.orm import Session
 
-from formdb.errors import InvalidData, NotFound
+from formdb.errors import InvalidData, NotFound, quoted
 from formdb.rules.engine import check_resolved
 from formdb.rules.profiles import Profile, chosen_profile, load_profile, recorded_profile
 from formdb.schemas.change_log import describe_change
@@ -207,7 +207,7 @@ def _baseline_version(session: Session, target: IngredientRecord, since: str | N
         return version
     run = next((r for r in runs if str(r["run_key"]) == text), None)
     if run is None:
-        raise NotFound(f"--since {since}: no review run {text!r} and not a version number.",
+        raise NotFound(f"--since {since}: no review run {quoted(text)} and not a version number.",
                        hint="`formdb review status` lists the runs")
     used = _versions_used(run["records_json"], target)
     if not used:

@@ -29,7 +29,7 @@ from cryptography.hazmat.primitives.asymmetric.ed25519 import Ed25519PrivateKey,
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
-from formdb.errors import ConfigError, Conflict, InvalidData, NotFound
+from formdb.errors import ConfigError, Conflict, InvalidData, NotFound, quoted
 from formdb.schemas.admin import Action
 from formdb.schemas.bounds import UnreadableInput, read_input
 from formdb.schemas.review import KeyInfo, NewKey
@@ -214,7 +214,8 @@ def revoke_key(library: Library, key_id: str, reason: str, *, user: str) -> KeyI
         require(session, user, Action.MANAGE_USERS)
         found = next((k for k in _infos(_rows(session)) if k.key_id == key_id), None)
         if found is None:
-            raise NotFound(f"no enrolled key {key_id!r}.", hint="`formdb key list` shows them")
+            raise NotFound(f"no enrolled key {quoted(key_id)}.",
+                           hint="`formdb key list` shows them")
         if found.revoked_at is not None:
             raise Conflict(f"key {key_id} was revoked at {found.revoked_at}.",
                            hint="nothing to do")

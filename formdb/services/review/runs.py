@@ -32,7 +32,7 @@ from sqlalchemy import inspect, or_, select
 from sqlalchemy.orm import Session
 
 from formdb import __version__
-from formdb.errors import Conflict, Forbidden, InvalidData, NotFound
+from formdb.errors import Conflict, Forbidden, InvalidData, NotFound, quoted
 from formdb.facts.measured_rhlb import measurements_taken
 from formdb.rules.engine import check_resolved
 from formdb.rules.profiles import Profile, chosen_profile
@@ -164,7 +164,7 @@ def _read(source: str, session: Session) -> FormulaInput:
     if source.startswith(STORED):
         stored = get_formula(session, source[len(STORED):])
         if stored is None:
-            raise NotFound(f"no stored formula {source[len(STORED):]!r}.",
+            raise NotFound(f"no stored formula {quoted(source[len(STORED):])}.",
                            hint="`formdb formula list` shows the stored formulas")
         return input_from_text(stored.content, f"{STORED}{stored.name}")
     return read_inputs([Path(source)])[0]
@@ -439,8 +439,8 @@ def _newer(session: Session) -> dict[int, ReviewRun]:
     return {r.supersedes_run_id: r for r in runs if r.supersedes_run_id is not None}
 
 
-def _find_run(session: Session, key: str) -> ReviewRun:
-    key = key.strip().lower()
+def _find_run(session: Session, given: str) -> ReviewRun:
+    key = given.strip().lower()
     run = session.scalar(select(ReviewRun).where(ReviewRun.run_key == key))
     if run is not None:
         return run
@@ -451,7 +451,7 @@ def _find_run(session: Session, key: str) -> ReviewRun:
     close = starts or close_matches(key, keys, limit=3)
     hint = (f"did you mean {', '.join(close)}?" if close
             else "`formdb review status` lists the runs")
-    raise NotFound(f"no review run {key!r}.", hint=hint)
+    raise NotFound(f"no review run {quoted(given)}.", hint=hint)
 
 
 def review_status(library: Library) -> ReviewStatus:
