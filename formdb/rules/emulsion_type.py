@@ -13,6 +13,10 @@ from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import FormulaFacts, TypeIndicator
 from formdb.schemas.vocab import EmulsionType, Severity
 
+# a blend HLB within this of a threshold is on it (floating point: 0.51 g of HLB 15 with 2.7 g
+# of HLB 4.3 is 6 exactly, computed as 5.999999999999999)
+EDGE = 1e-9
+
 
 def _value(kind: object) -> str | None:
     return getattr(kind, "value", None)
@@ -34,10 +38,10 @@ def strong_contradiction(facts: FormulaFacts, intended: EmulsionType,
     hlb = by_name.get("hlb class")
     ionic = by_name.get("soap and ionic")
     if blend is not None and hlb is not None and hlb.favours == decision.predicted:
-        if intended == EmulsionType.OW and blend < options["strong_wo_below"]:
+        if intended == EmulsionType.OW and blend < options["strong_wo_below"] - EDGE:
             return (f"blend HLB {blend:.2f} is below {options['strong_wo_below']:g}, in "
                     "Griffin's W/O range")
-        if intended == EmulsionType.WO and blend > options["strong_ow_above"]:
+        if intended == EmulsionType.WO and blend > options["strong_ow_above"] + EDGE:
             return (f"blend HLB {blend:.2f} is above {options['strong_ow_above']:g}: the "
                     "system is water-soluble")
     griffin = facts.hlb_system.griffin_percent if facts.hlb_system else 0.0

@@ -220,15 +220,20 @@ def hlb_scale(hlb: float, ionised: bool) -> Literal["griffin", "davies"]:
     return "davies" if ionised or hlb > GRIFFIN_SCALE_MAX else "griffin"
 
 
+# a blend HLB within this of a class edge is on it: 0.51 g of HLB 15 with 2.7 g of HLB 4.3 is 6
+# exactly, which floating point makes 5.999999999999999
+EDGE = 1e-9
+
+
 def hlb_class(hlb: float, *, wo_max: float = 7.0, ow_min: float = 8.0) -> EmulsionType | None:
     """The emulsion type an HLB favours: W/O at or below ``wo_max``, O/W at or above ``ow_min``,
     None in the gap between (Griffin 1949: W/O emulsifiers about 3-6, O/W about 8-16/18;
     values above 20, such as Davies' 40 for sodium lauryl sulfate, are strongly O/W)."""
     if wo_max > ow_min:
         raise ValueError(f"wo_max ({wo_max}) must not exceed ow_min ({ow_min})")
-    if hlb <= wo_max:
+    if hlb <= wo_max + EDGE:
         return EmulsionType.WO
-    if hlb >= ow_min:
+    if hlb >= ow_min - EDGE:
         return EmulsionType.OW
     return None
 
