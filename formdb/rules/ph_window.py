@@ -9,6 +9,7 @@ from formdb.rules.base import Rule
 from formdb.rules.registry import register
 from formdb.schemas.findings import Finding
 from formdb.schemas.formula import ResolvedFormula
+from formdb.schemas.ingredient import name_key
 from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import FormulaFacts
 from formdb.schemas.vocab import Severity
@@ -23,8 +24,9 @@ def reads_ph_windows(formula: ResolvedFormula) -> bool:
 class PhWindow(Rule):
     """The formula's pH is outside the range in which an ingredient works.
 
-    Flags: a warning for each line whose library working range (ph_min, ph_max) does not
-    contain the formula's pH; an info, naming those ingredients, when the formula states no pH.
+    Flags: a warning for each ingredient (once, however many lines it is on) whose library
+    working range (ph_min, ph_max) does not contain the formula's pH; an info, naming those
+    ingredients, when the formula states no pH.
     Why: weak-acid preservatives work only undissociated: benzoic acid (pKa about 4.2) is poor
     above about pH 5, sorbic acid (pKa about 4.8) above about pH 6; carbomer thickens only once
     neutralised, in a window around pH 5-9. The ranges are library data with their sources.
@@ -46,7 +48,7 @@ class PhWindow(Rule):
             return
         ph = formula.formula.ph
         if not reads_ph_windows(formula) or ph is None:
-            names = [ln.inci for ln in ranged]
+            names = list(dict.fromkeys(ln.inci for ln in ranged))
             yield self.finding(
                 Severity.INFO,
                 f"the formula states no pH, so the working pH ranges of {', '.join(names)} "
@@ -54,12 +56,20 @@ class PhWindow(Rule):
                 ingredients=names, values={"ph": None},
                 advice="add the target pH (ph = ...) to the formula file")
             return
+        totals: dict[str, float] = {}
+        for ln in ranged:  # one finding per ingredient, however many lines it is on
+            key = name_key(ln.ingredient.inci_name)
+            totals[key] = totals.get(key, 0.0) + ln.percent
         for ln in ranged:
+            key = name_key(ln.ingredient.inci_name)
+            if key not in totals:
+                continue
+            percent = totals.pop(key)
             low, high = ln.ingredient.p.ph_min, ln.ingredient.p.ph_max
             window = (f"pH {low:g} to {high:g}" if low is not None and high is not None
                       else f"up to pH {high:g}" if high is not None else f"from pH {low:g}")
             values: dict[str, float | str | None] = {
-                "ph": ph, "ph_min": low, "ph_max": high, "percent": ln.percent}
+                "ph": ph, "ph_min": low, "ph_max": high, "percent": percent}
             if high is not None and ph > high:
                 yield self.finding(
                     self.default_severity,
