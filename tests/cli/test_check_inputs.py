@@ -50,11 +50,18 @@ def _bad_files(folder: Path) -> dict[str, tuple[Path, str]]:
             "Larkspur extra", GOOD_LINES, colour="blue")), "key colour"),
         "unknown product type": (_write(folder, "product.toml", formula_toml(
             "Larkspur product", GOOD_LINES, product="bath bomb")), "key product"),
+        # a shower gel is rinse-off in the seed's exposure table (SCCS Notes of Guidance, 12th
+        # revision, Table 3A); checked as leave-on it would meet limits and exposure that are
+        # not its own
+        "category against product type": (_write(folder, "category.toml", formula_toml(
+            "Larkspur category", GOOD_LINES, category="leave-on", product="shower gel")),
+            "key category: 'leave-on' contradicts product 'shower gel', a rinse-off product"),
     }
 
 
 CASES = ["missing file", "not TOML", "unknown ingredient", "negative percent",
-         "non-numeric percent", "unknown key", "unknown product type"]
+         "non-numeric percent", "unknown key", "unknown product type",
+         "category against product type"]
 
 
 @pytest.mark.parametrize("fmt", ["text", "json"])

@@ -7,7 +7,7 @@ never touch it.
 
 from __future__ import annotations
 
-from collections.abc import Callable, Iterable, Iterator
+from collections.abc import Callable, Iterable, Iterator, Mapping
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -41,23 +41,34 @@ class FormulaInput:
     label: str
 
 
-def library_product_types(session: Session) -> tuple[str, ...]:
+def library_product_types(session: Session) -> dict[str, str]:
     """Product types of the library's exposure table (the seed's SCCS Notes of Guidance rows
-    and every row the team added with `formdb exposure add`)."""
+    and every row the team added with `formdb exposure add`), each with its category."""
     from sqlalchemy import select
 
     from formdb.store.models import ExposureEntry
 
-    return tuple(session.scalars(select(ExposureEntry.product).order_by(ExposureEntry.product)))
+    rows = session.execute(select(ExposureEntry.product, ExposureEntry.category)
+                           .order_by(ExposureEntry.product))
+    return dict(rows.tuples().all())
 
 
-def _product_problem(formula: FormulaFile, label: str, known: tuple[str, ...]) -> str | None:
+def _product_problem(formula: FormulaFile, label: str, known: Mapping[str, str]) -> str | None:
+    """An unknown product type, or one whose category in the exposure table is not the
+    formula's: a body lotion is leave-on, and checked as rinse-off it would meet the rinse-off
+    limits (sodium benzoate 2.5 % as acid instead of 0.5 %) and the rinse-off exposure."""
     if formula.product is None:
         return None
-    if formula.product.strip().casefold() in {p.casefold() for p in known}:
-        return None
-    return (f"{label}, key product: {formula.product!r} is not a known product type "
-            f"(known: {', '.join(known)}; `formdb exposure add` adds one)")
+    wanted = formula.product.strip().casefold()
+    category = next((c for p, c in known.items() if p.casefold() == wanted), None)
+    if category is None:
+        return (f"{label}, key product: {formula.product!r} is not a known product type "
+                f"(known: {', '.join(known)}; `formdb exposure add` adds one)")
+    if category.strip().casefold() != formula.category.value:
+        return (f"{label}, key category: {formula.category.value!r} contradicts product "
+                f"{formula.product!r}, a {category} product in the library's exposure table "
+                f"(category = \"{category}\", or the product type meant)")
+    return None
 
 
 def read_inputs(paths: Iterable[Path]) -> list[FormulaInput]:
@@ -76,7 +87,7 @@ def input_from_text(text: str, label: str) -> FormulaInput:
 
 
 def resolve(item: FormulaInput, found: dict[str, IngredientRecord],
-            session: Session, products: tuple[str, ...] | None = None) -> ResolvedFormula:
+            session: Session, products: Mapping[str, str] | None = None) -> ResolvedFormula:
     """Attach library ingredients to every line; unknown names are one input error each, and
     so is a product type the library's exposure table lacks."""
     problems = []
@@ -98,7 +109,7 @@ def resolve(item: FormulaInput, found: dict[str, IngredientRecord],
     if problems:
         raise InvalidData.of(problems, hint="add the ingredient (`formdb ingredient add`) or "
                              "product type (`formdb exposure add`) to the library, or correct "
-                             "the name")
+                             "the name or the category")
     return ResolvedFormula(source=item.label, formula=item.formula, lines=tuple(lines),
                            content_hash=content_hash(item.text))
 
@@ -120,7 +131,7 @@ def resolve_all(session: Session, items: list[FormulaInput],
             known.update(queries.find_ingredients(session, wanted))
         found = known
     products = (library_product_types(session)
-                if any(item.formula.product is not None for item in items) else ())
+                if any(item.formula.product is not None for item in items) else {})
     return _every_item(lambda item: resolve(item, found, session, products), items)
 
 
