@@ -50,7 +50,7 @@ def library_product_types(session: Session) -> dict[str, str]:
 
     rows = session.execute(select(ExposureEntry.product, ExposureEntry.category)
                            .order_by(ExposureEntry.product))
-    return dict(rows.tuples().all())
+    return dict(rows.all())
 
 
 def _product_problem(formula: FormulaFile, label: str, known: Mapping[str, str]) -> str | None:
