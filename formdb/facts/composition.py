@@ -63,16 +63,24 @@ def _repeats(formula: ResolvedFormula) -> bool:
     return len(set(keys)) < len(keys)
 
 
+def _one_purpose(purposes: set[str | None]) -> str | None:
+    """The purpose a substance's lines declare, when they declare one and no other (a line that
+    says none is read as the declared one: the declared line alone keeps its verdict, and its
+    total can only be larger); None when none is declared or two differ."""
+    declared = purposes - {None}
+    return next(iter(declared)) if len(declared) == 1 else None
+
+
 def substance_formula(formula: ResolvedFormula, reference: ReferenceData) -> ResolvedFormula:
     """The formula as its substances, one line each (totals over lines and mixtures), for rules
     that judge substances; the formula itself when no line is a declared mixture and no
-    ingredient is on two lines. A substance keeps a purpose its lines declare only when they
-    all declare the same one."""
+    ingredient is on two lines. A substance keeps the purpose its lines declare
+    (``_one_purpose``)."""
     if not has_mixtures(formula, reference) and not _repeats(formula):
         return formula
     lines = tuple(
         ResolvedLine(line_no=number, given_name=item.record.inci_name, percent=item.percent,
                      phase=None, ingredient=item.record,
-                     purpose=next(iter(item.purposes)) if len(item.purposes) == 1 else None)
+                     purpose=_one_purpose(item.purposes))
         for number, item in enumerate(substances(formula, reference).values(), start=1))
     return formula.model_copy(update={"lines": lines})

@@ -75,3 +75,19 @@ def test_over_one_reading_only_stays_a_warning(seeded_sqlite_url: str) -> None:
     for other uses. Which limit applies depends on the purpose: a warning naming the reading."""
     [finding] = _lim01(seeded_sqlite_url, None)
     assert finding.severity.value == "warning"
+
+
+def test_a_declared_preservative_line_keeps_its_purpose_beside_an_unsaid_one(
+        seeded_sqlite_url: str) -> None:
+    """Salicylic acid 1.0 % declared a preservative in the water phase and 0.2 % with no purpose
+    post-added, in a face cream: the lines are totalled (1.2 %), and the declared use is the
+    reading, so V/3 (0.5 % as a preservative) is an error, as the declared line alone already
+    was; not an 'if used as a preservative' warning because the second line says nothing."""
+    text = ('name = "Larkspur clarifying cream"\ncategory = "leave-on"\nproduct = "face cream"\n\n'
+            '[[ingredients]]\ninci = "Aqua"\npercent = 98.8\n\n'
+            '[[ingredients]]\ninci = "Salicylic Acid"\npercent = 1.0\n'
+            'purpose = "preservative"\n\n'
+            '[[ingredients]]\ninci = "Salicylic Acid"\npercent = 0.2\n')
+    found = [f for f in api.check(opened(seeded_sqlite_url), text).findings
+             if f.rule == "LIM01" and f.values.get("entry") == "V/3"]
+    assert [f.severity.value for f in found] == ["error"]
