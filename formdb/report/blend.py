@@ -9,16 +9,16 @@ from __future__ import annotations
 import json
 from collections.abc import Callable, Sequence
 from dataclasses import asdict
-from io import StringIO
 from typing import TYPE_CHECKING, Any
 
 from rich import box
-from rich.console import Console, RenderableType
+from rich.console import RenderableType
 from rich.table import Table
 from rich.text import Text
 
 from formdb.errors import ConfigError
 from formdb.report import numbers as n
+from formdb.report.safe_table import data_console
 from formdb.report.terminal import safe_fields
 from formdb.schemas.result import rounded
 
@@ -37,9 +37,7 @@ SEARCH_RANKING = (
 
 
 def _print(*items: RenderableType, color: bool = False) -> str:
-    console = Console(file=StringIO(), width=WIDTH, color_system="standard" if color else None,
-                      force_terminal=color, no_color=not color, highlight=False, emoji=False,
-                      markup=False)
+    console = data_console(WIDTH, color=color)
     for item in items:
         console.print(item)
     text = console.file.getvalue()  # type: ignore[attr-defined]

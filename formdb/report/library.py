@@ -37,12 +37,12 @@ def _tables(render: Any, width: int | None) -> str:
     """Rich renderables as text, at the terminal's width (or 160 columns into a pipe). Cells
     are the library's own text (citations, notes, names, reasons), printed as written: no Rich
     markup or emoji codes are read in them, so "[bold]" or ":warning:" stays as typed."""
-    from rich.console import Console
+    from formdb.report.safe_table import data_console
 
-    buffer = io.StringIO()
-    render(Console(width=width or 160, file=buffer, highlight=False, color_system=None,
-                   markup=False, emoji=False))
-    return buffer.getvalue()
+    console = data_console(width or 160)
+    render(console)
+    text: str = console.file.getvalue()  # type: ignore[attr-defined]
+    return text
 
 
 def when(at: datetime) -> str:

@@ -8,11 +8,22 @@ only after the layout, so the row runs past its border. Cells are escaped first
 
 from __future__ import annotations
 
+from io import StringIO
 from typing import Any
 
+from rich.console import Console
 from rich.table import Column, Table
 
 from formdb.report.terminal import terminal_safe
+
+
+def data_console(width: int, *, color: bool = False) -> Console:
+    """A console into a string that prints the library's and the user's text as written: no
+    Rich markup, emoji codes or highlighting are read in it ("[bold]", ":warning:" stay as
+    typed); styles only where formdb sets them, and only with ``color``."""
+    return Console(file=StringIO(), width=width, color_system="standard" if color else None,
+                   force_terminal=color, no_color=not color, highlight=False, emoji=False,
+                   markup=False, legacy_windows=False, soft_wrap=False)
 
 
 class SafeTable(Table):

@@ -7,7 +7,6 @@ markup, so a name such as ``[bold]`` prints as written.
 from __future__ import annotations
 
 from collections.abc import Sequence
-from io import StringIO
 
 from rich import box
 from rich.console import Console, Group, RenderableType
@@ -20,6 +19,7 @@ from rich.text import Text
 from formdb.report.blocks import Block, Lines, Notes, Section
 from formdb.report.blocks import Table as TableBlock
 from formdb.report.cautions import ListSnapshot, cautions
+from formdb.report.safe_table import data_console
 from formdb.report.terminal import safe_fields, terminal_safe
 from formdb.report.view import FindingGroup, FormulaView, formula_view
 from formdb.schemas.result import CheckResult
@@ -31,9 +31,7 @@ SEVERITY_STYLES = {"error": "bold red", "warning": "yellow", "info": "cyan"}
 
 
 def _console(color: bool) -> Console:
-    return Console(file=StringIO(), width=WIDTH, color_system="standard" if color else None,
-                   force_terminal=color, no_color=not color, highlight=False, emoji=False,
-                   markup=False, legacy_windows=False, soft_wrap=False)
+    return data_console(WIDTH, color=color)
 
 
 def _lines(block: Lines) -> RenderableType:

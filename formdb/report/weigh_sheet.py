@@ -15,12 +15,13 @@ from pathlib import PurePath
 from typing import TYPE_CHECKING
 
 from rich import box
-from rich.console import Console, RenderableType
+from rich.console import RenderableType
 from rich.table import Table
 from rich.text import Text
 
 from formdb.errors import ConfigError, InvalidData
 from formdb.report.cautions import DEFER, SCREENING
+from formdb.report.safe_table import data_console
 from formdb.report.terminal import safe_fields
 from formdb.schemas.cells import guard_cell, xlsx_refusal
 
@@ -111,8 +112,7 @@ def _heading(sheet: WeighSheet) -> list[str]:
 
 
 def _print(*items: RenderableType) -> str:
-    console = Console(file=StringIO(), width=WIDTH, color_system=None, no_color=True,
-                      highlight=False, emoji=False, markup=False)
+    console = data_console(WIDTH)
     for item in items:
         console.print(item)
     text = console.file.getvalue()  # type: ignore[attr-defined]
