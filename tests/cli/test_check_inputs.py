@@ -93,6 +93,22 @@ def test_unknown_ingredient_names_the_row_and_suggests(seeded_library_url: str,
     assert "Polysorbate 80" in result.stderr.split("did you mean", 1)[1]
 
 
+@pytest.mark.parametrize(("case", "step", "not_step"), [
+    ("unknown ingredient", "`formdb ingredient add`", "exposure add"),
+    ("unknown product type", "`formdb exposure add`", "ingredient add"),
+    ("category against product type", "correct the category or the product type",
+     "ingredient add"),
+])
+def test_the_next_step_fits_the_problem(case: str, step: str, not_step: str,
+                                        seeded_library_url: str, tmp_path: Path) -> None:
+    """A category that contradicts the product type is not fixed by adding an ingredient."""
+    path, _ = _bad_files(tmp_path)[case]
+    result = run_formdb(["--db", seeded_library_url, "check", str(path)])
+    assert result.exit_code == 2
+    next_step = result.stderr.split("Next: ", 1)[1]
+    assert step in next_step and not_step not in next_step, result.stderr
+
+
 def test_every_bad_file_is_reported_and_no_good_file_is_checked(seeded_library_url: str,
                                                                 tmp_path: Path) -> None:
     files = _bad_files(tmp_path)

@@ -53,21 +53,24 @@ def library_product_types(session: Session) -> dict[str, str]:
     return dict(rows.all())
 
 
-def _product_problem(formula: FormulaFile, label: str, known: Mapping[str, str]) -> str | None:
-    """An unknown product type, or one whose category in the exposure table is not the
-    formula's: a body lotion is leave-on, and checked as rinse-off it would meet the rinse-off
-    limits (sodium benzoate 2.5 % as acid instead of 0.5 %) and the rinse-off exposure."""
+def _product_problem(formula: FormulaFile, label: str, known: Mapping[str, str],
+                     ) -> tuple[str, str] | None:
+    """(the key at fault, the problem): an unknown product type, or one whose category in the
+    exposure table is not the formula's: a body lotion is leave-on, and checked as rinse-off it
+    would meet the rinse-off limits (sodium benzoate 2.5 % as acid instead of 0.5 %) and the
+    rinse-off exposure."""
     if formula.product is None:
         return None
     wanted = formula.product.strip().casefold()
     category = next((c for p, c in known.items() if p.casefold() == wanted), None)
     if category is None:
-        return (f"{label}, key product: {formula.product!r} is not a known product type "
-                f"(known: {', '.join(known)}; `formdb exposure add` adds one)")
+        return "product", (f"{label}, key product: {formula.product!r} is not a known product "
+                           f"type (known: {', '.join(known)}; `formdb exposure add` adds one)")
     if category.strip().casefold() != formula.category.value:
-        return (f"{label}, key category: {formula.category.value!r} contradicts product "
-                f"{formula.product!r}, a {category} product in the library's exposure table "
-                f"(category = \"{category}\", or the product type meant)")
+        return "category", (f"{label}, key category: {formula.category.value!r} contradicts "
+                            f"product {formula.product!r}, a {category} product in the library's "
+                            f"exposure table (category = \"{category}\", or the product type "
+                            "meant)")
     return None
 
 
@@ -91,9 +94,12 @@ def resolve(item: FormulaInput, found: dict[str, IngredientRecord],
     """Attach library ingredients to every line; unknown names are one input error each, and
     so is a product type the library's exposure table lacks."""
     problems = []
+    keys: set[str] = set()  # the keys with a problem, for the next step to suggest
     if item.formula.product is not None:
         known = products if products is not None else library_product_types(session)
-        if problem := _product_problem(item.formula, item.label, known):
+        if found_problem := _product_problem(item.formula, item.label, known):
+            key, problem = found_problem
+            keys.add(key)
             problems.append(problem)
     lines = []
     for number, line in enumerate(item.formula.ingredients, start=1):
@@ -101,17 +107,24 @@ def resolve(item: FormulaInput, found: dict[str, IngredientRecord],
         if record is None:
             suggestions = queries.suggest_names(session, line.inci)
             hint = f"; did you mean {', '.join(suggestions)}?" if suggestions else ""
+            keys.add("inci")
             problems.append(f"{item.label}, ingredients row {number}, key inci: "
                             f"unknown ingredient {line.inci!r}{hint}")
             continue
         lines.append(ResolvedLine(line_no=number, given_name=line.inci, percent=line.percent,
                                   phase=line.phase, ingredient=record, purpose=line.purpose))
     if problems:
-        raise InvalidData.of(problems, hint="add the ingredient (`formdb ingredient add`) or "
-                             "product type (`formdb exposure add`) to the library, or correct "
-                             "the name or the category")
+        raise InvalidData.of(problems, hint="; ".join(
+            step for key, step in _NEXT_STEP.items() if key in keys))
     return ResolvedFormula(source=item.label, formula=item.formula, lines=tuple(lines),
                            content_hash=content_hash(item.text))
+
+
+_NEXT_STEP = {
+    "inci": "add the ingredient to the library (`formdb ingredient add`) or correct its name",
+    "product": "add the product type (`formdb exposure add`) or correct its name",
+    "category": "correct the category or the product type",
+}
 
 
 def resolve_all(session: Session, items: list[FormulaInput],
