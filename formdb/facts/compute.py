@@ -30,7 +30,7 @@ from formdb.schemas.result import (
     SubstanceFacts,
 )
 from formdb.schemas.vocab import EmulsionType
-from formdb.science.packing import CLOSE_PACKING, RANDOM_CLOSE_PACKING
+from formdb.science.packing import CLOSE_PACKING, RANDOM_CLOSE_PACKING, above
 
 
 def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
@@ -70,9 +70,12 @@ def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
     tol = settings.hlb_tolerance
     solution = hlb.solve(required, emulsifiers) if required is not None else None
 
-    phases = phase_volume.phase_volumes(lines, kind.working, work,
+    phases = phase_volume.phase_volumes(formula, lines, kind.working, work,
                                         emulsion=product.kind in EMULSION_KINDS)
-    if phases.fraction is not None and phases.fraction > CLOSE_PACKING:
+    # high internal phase only when the fraction is above close packing at every density the
+    # estimated ones could have
+    lowest = phases.fraction_range.low if phases.fraction_range else phases.fraction
+    if lowest is not None and above(lowest, CLOSE_PACKING):
         product = product.model_copy(update={"high_internal_phase": True})
     interface = droplets.interface(formula, settings, phases, emulsifier_percent)
     creaming = droplets.creaming(formula, settings, phases, work)
@@ -100,7 +103,8 @@ def compute_facts(formula: ResolvedFormula, reference: ReferenceData,
         type_decision=kind.decision, kind=product, free_bases=bases,
         phases=phases.facts,
         dispersed_phase=phases.dispersed,
-        dispersed_fraction=phases.fraction, packing_limit=CLOSE_PACKING,
+        dispersed_fraction=phases.fraction, dispersed_fraction_range=phases.fraction_range,
+        packing_limit=CLOSE_PACKING,
         random_close_packing=RANDOM_CLOSE_PACKING, interface=interface, creaming=creaming,
         exposure=exposure_sheet(formula, reference, settings),
         allergens=allergen_table(formula, reference, settings),

@@ -18,6 +18,7 @@ from formdb.schemas.result import (
     SoapFacts,
 )
 from formdb.schemas.vocab import EmulsionType, Severity
+from formdb.science.packing import above
 
 SIDE_WORDS = {"oil": "oil", "water": "water", "none": "neither", None: n.DASH}
 SCALE_WORDS = {"griffin": "Griffin", "davies": "Davies", None: n.DASH}
@@ -368,18 +369,40 @@ def hld_section(facts: FormulaFacts) -> Section | None:
 
 # ----- packing ----------------------------------------------------------------------------
 
+def _packing_class(phi: float, facts: FormulaFacts) -> str:
+    if above(phi, facts.packing_limit):
+        return "close"
+    return "random" if above(phi, facts.random_close_packing) else "below"
+
+
 def _packing_verdict(facts: FormulaFacts) -> Line | None:
     phi = facts.dispersed_fraction
     if phi is None:
         return None
-    if phi > facts.packing_limit:
+    spread = facts.dispersed_fraction_range
+    ends = {_packing_class(spread.low, facts), _packing_class(spread.high, facts)} if spread \
+        else {_packing_class(phi, facts)}
+    if len(ends) > 1:
+        return Line("Verdict", "none: the densities estimated leave the fraction on both sides "
+                               "of a packing limit; add them to the library", "warn")
+    verdict = ends.pop()
+    if verdict == "close":
         return Line("Verdict", "above the close-packing limit: only polydisperse or deformed "
                                "drops pack this densely, and the emulsion is likely to invert",
                     "bad")
-    if phi > facts.random_close_packing:
+    if verdict == "random":
         return Line("Verdict", "above random close packing: drops are crowded and deformed; "
                                "expect a stiff cream", "warn")
     return Line("Verdict", "below the packing limits", "ok")
+
+
+def _fraction_range(facts: FormulaFacts) -> Line | None:
+    spread = facts.dispersed_fraction_range
+    if spread is None or facts.dispersed_fraction is None:
+        return None
+    return Line("Range of φ", f"{n.fraction(spread.low)} to {n.fraction(spread.high)}: "
+                              f"{', '.join(spread.estimated)} without a library density, anywhere "
+                              "in the usual density of their roles (rule of thumb)")
 
 
 def packing_section(facts: FormulaFacts) -> Section:
@@ -392,6 +415,7 @@ def packing_section(facts: FormulaFacts) -> Section:
              f"{n.fraction(phi)} ({phi * 100:.1f} % of the volume, from weights and densities)")
     items = [Line("Dispersed phase", f"{facts.dispersed_phase} ({kind})"),
              Line("Volume fraction φ", value),
+             _fraction_range(facts),
              Line("Packing limit", f"{facts.packing_limit:.4f} (π/√18, equal spheres); "
                                    f"random close packing about "
                                    f"{facts.random_close_packing:.2f}"),

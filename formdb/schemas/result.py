@@ -275,6 +275,19 @@ class PhaseFacts(_Frozen):
     neither: tuple[str, ...] = ()
 
 
+class FractionRange(_Frozen):
+    """Where the dispersed fraction can lie when some densities are estimated: each missing
+    density anywhere between the usual densities of its line's roles (science.density)."""
+
+    low: float
+    high: float
+    estimated: tuple[str, ...]  # the lines (or soaps) whose density is estimated
+    # % w/w of the formula in the dispersed phase without a library density, and that as a
+    # share of the dispersed phase's mass
+    dispersed_estimated_percent: float
+    dispersed_estimated_share: float
+
+
 class InterfaceFacts(_Frozen):
     """Interface created at the droplet size, and the emulsifier needed to cover it."""
 
@@ -450,6 +463,8 @@ class FormulaFacts(_Frozen):
     phases: PhaseFacts
     dispersed_phase: Literal["oil", "water"] | None = None
     dispersed_fraction: float | None = None  # VOLUME fraction of the dispersed phase
+    # its range when a density is estimated; None when every density is the library's
+    dispersed_fraction_range: FractionRange | None = None
     packing_limit: float
     random_close_packing: float
     interface: InterfaceFacts | None = None

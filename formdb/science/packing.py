@@ -26,6 +26,15 @@ PACKING_LIMITS: tuple[tuple[str, float, str], ...] = (
     ("simple cubic lattice", SIMPLE_CUBIC_PACKING, "geometry: pi/6"),
 )
 
+# a fraction within this of a limit is on it, not above: 64 g of oil at 0.8 g/mL in 100 mL
+# reads 0.64 to floating point's last digit, and a verdict must not turn on that digit
+EDGE = 1e-9
+
+
+def above(fraction: float, limit: float) -> bool:
+    """Whether a volume fraction is above a packing limit, beyond floating-point noise."""
+    return fraction > limit + EDGE
+
 
 def _volume(parts: Sequence[tuple[float, float]], side: str) -> float:
     total = 0.0
@@ -51,3 +60,27 @@ def volume_fraction(
     if total <= 0:
         raise ValueError("the phases have no volume")
     return v_dispersed / total
+
+
+def volume_fraction_bounds(
+    dispersed: Sequence[tuple[float, float, float]],
+    continuous: Sequence[tuple[float, float, float]],
+) -> tuple[float, float]:
+    """The lowest and highest volume fraction of the dispersed phase from (mass, lowest density,
+    highest density) parts; a known density has both ends equal.
+
+    The fraction grows with the dispersed volume and falls with the continuous one, and each
+    part's volume is mass / density on its own, so the ends are the corners: least dispersed
+    volume (its densities high) over most continuous volume (its densities low), and the
+    reverse.
+    """
+    for side, parts in (("dispersed", dispersed), ("continuous", continuous)):
+        for index, (_mass, low, high) in enumerate(parts):
+            if low > high:
+                raise ValueError(f"{side} part {index}: lowest density {low} above highest "
+                                 f"{high}")
+    low = volume_fraction([(m, hi) for m, _lo, hi in dispersed],
+                          [(m, lo) for m, lo, _hi in continuous])
+    high = volume_fraction([(m, lo) for m, lo, _hi in dispersed],
+                           [(m, hi) for m, _lo, hi in continuous])
+    return low, high

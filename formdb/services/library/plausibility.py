@@ -7,8 +7,8 @@ while a real oddity can still be recorded. Each check is a rule of thumb and say
 - HLB against solubility: above 10 but oil-soluble, or below 6 but water-soluble (Griffin's HLB
   classes: low HLB is oil-soluble, high HLB water-soluble);
 - a required HLB outside 1-20 (Griffin's scale; rule of thumb for oils);
-- a density outside the usual range of every role the ingredient has (DENSITY_RANGES: rule of
-  thumb, set around the seed's spread);
+- a density outside the usual range of every role the ingredient has (science.density.USUAL_DENSITY,
+  also the bounds of a missing density's estimate: rule of thumb, set around the seed's spread);
 - a typical use range above the highest maximum the limit lists allow for the substance, or a
   substance the lists prohibit (seed limits and the list snapshots in force);
 - a CAS number that the lists (or another library ingredient) give to a different substance;
@@ -29,19 +29,11 @@ from formdb.schemas.cells import format_number
 from formdb.schemas.ingredient import IngredientIn, name_key
 from formdb.schemas.lookalike import look_alike_key
 from formdb.schemas.vocab import Solubility
+from formdb.science.density import USUAL_DENSITY
 from formdb.store.models import Ingredient, IngredientCas, IngredientName, LimitEntry
 
 ACCEPT_OPTION = "--accept-unusual"
 
-# role -> (low, high) g/mL at about 25 °C; rule of thumb around the seed library's spread
-DENSITY_RANGES: dict[str, tuple[float, float]] = {
-    "water": (0.95, 1.05), "electrolyte": (1.3, 3.0), "humectant": (1.0, 1.35),
-    "silicone": (0.75, 1.1), "wax": (0.8, 1.0), "butter": (0.85, 1.0),
-    "fatty alcohol": (0.78, 0.9), "fatty acid": (0.84, 0.96), "oil": (0.75, 1.0),
-    "emollient": (0.75, 1.05), "emulsifier": (0.85, 1.25), "co-emulsifier": (0.78, 1.1),
-    "uv filter": (0.9, 1.3), "fragrance": (0.8, 1.2), "allergen": (0.8, 1.2),
-    "solvent": (0.7, 1.3), "preservative": (0.9, 1.5),
-}
 HLB_OIL_ABOVE = 10.0
 HLB_WATER_BELOW = 6.0
 REQUIRED_HLB_RANGE = (1.0, 20.0)
@@ -75,8 +67,8 @@ def value_warnings(item: IngredientIn) -> list[Warning_]:
             out.append(Warning_(prop, f"{prop} {format_number(value)} is outside "
                                 f"{low:g}-{high:g}, where required HLB values lie"))
     if p.density is not None:
-        ranges = [(r.value, DENSITY_RANGES[r.value]) for r in item.roles
-                  if r.value in DENSITY_RANGES]
+        ranges = [(r.value, USUAL_DENSITY[r.value]) for r in item.roles
+                  if r.value in USUAL_DENSITY]
         if ranges and not any(lo <= p.density <= hi for _r, (lo, hi) in ranges):
             usual = "; ".join(f"{role} {lo:g}-{hi:g}" for role, (lo, hi) in ranges)
             out.append(Warning_("density", f"density {format_number(p.density)} g/mL is "
