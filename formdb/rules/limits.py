@@ -204,31 +204,75 @@ def _max(row: LimitRecord) -> float:
     return row.max_percent
 
 
-def ph_range(row: LimitRecord) -> str:
+def ph_range(row: LimitRecord | PhCondition) -> str:
     if row.ph_min is not None:
         return f"pH {row.ph_min:g} to {row.ph_max:g}" if row.ph_max is not None \
             else f"pH at least {row.ph_min:g}"
     return f"the pH {row.ph_max:g} maximum"
 
 
-def legal_ph_limits(formula: ResolvedFormula, reference: ReferenceData,
-                    jurisdiction: str) -> list[str]:
+@dataclass(frozen=True)
+class PhCondition:
+    """A list entry's pH condition on a substance of the formula, in the words the library holds
+    for it: an imported export's cells verbatim (the part's product-type text and its "Other"
+    text), or the seed's hand-written row (its conditions, as the row's source has them)."""
+
+    where: str  # "EU Annex III/15a part (d)", or the seed row's list and entry
+    words: str
+    ph_min: float | None
+    ph_max: float | None
+    applies: bool | None  # None: the part may apply (its scope depends on what the formula
+    # does not say)
+    substances: frozenset[str]  # name keys of the formula's substances it is a condition on
+    seed_row: bool = False
+
+    @property
+    def summary(self) -> str:
+        return self.where if not self.seed_row else f"{self.where} ({ph_range(self)})"
+
+
+def ph_conditions(formula: ResolvedFormula, reference: ReferenceData,
+                  jurisdiction: str) -> list[PhCondition]:
     """The list entries that set a pH limit for a substance of this formula: the seed's rows
     (LIM01 applies them) and the parts of imported entries that apply or may apply (LIM03)."""
     from formdb.rules.list_entries import items_of
     from formdb.rules.scoping import parts_for
 
-    out = [f"{_where(row)} ({ph_range(row)})"
+    out = [PhCondition(where=_where(row), words=row.conditions or "", ph_min=row.ph_min,
+                       ph_max=row.ph_max, applies=True,
+                       substances=frozenset(name_key(ln.inci) for ln in present),
+                       seed_row=True)
            for row in applicable_rows(reference, formula, jurisdiction)
-           if (row.ph_min is not None or row.ph_max is not None) and lines_in(row, formula)]
+           if (row.ph_min is not None or row.ph_max is not None)
+           and (present := lines_in(row, formula))]
     for item in items_of(formula, reference):
         purpose, _from = line_purpose(item.line, item.record)
         for entry in item.entries:
             for fit in parts_for(entry, formula, purpose):
                 part = fit.part
                 if fit.fits is not False and (part.ph_max is not None or part.ph_min is not None):
-                    out.append(f"{entry.label} {part.name}")
-    return list(dict.fromkeys(out))
+                    words = "; ".join(f'"{text}"' for text in (part.scope.text, part.other)
+                                      if text)
+                    out.append(PhCondition(
+                        where=f"{entry.label} {part.name}", words=words, ph_min=part.ph_min,
+                        ph_max=part.ph_max, applies=fit.fits,
+                        substances=frozenset({name_key(item.record.inci_name)})))
+    merged: dict[tuple[str, str], PhCondition] = {}
+    for cond in out:  # one entry's part named by several lines: one condition on them all
+        key = (cond.where, cond.words)
+        if key in merged:
+            cond = PhCondition(cond.where, cond.words, cond.ph_min, cond.ph_max,
+                               merged[key].applies if merged[key].applies else cond.applies,
+                               merged[key].substances | cond.substances, cond.seed_row)
+        merged[key] = cond
+    return list(merged.values())
+
+
+def legal_ph_limits(formula: ResolvedFormula, reference: ReferenceData,
+                    jurisdiction: str) -> list[str]:
+    """Where the pH of this formula is limited by a list entry, named (ALK02 stays quiet)."""
+    return list(dict.fromkeys(c.summary for c in ph_conditions(formula, reference,
+                                                               jurisdiction)))
 
 
 def _where(row: LimitRecord) -> str:
