@@ -163,31 +163,35 @@ def _check_sheet_folder(folder: Path) -> None:
                           hint="give an empty folder")
 
 
-def _write_sheets(sheets: tuple[WeighSheet, ...], folder: Path) -> None:
+def _write_sheets(sheets: tuple[WeighSheet, ...], folder: Path, *,
+                  to_stderr: bool = False) -> None:
     from formdb.report.files import write_report
     from formdb.report.weigh_sheet import render_html
 
     for number, sheet in enumerate(sheets, start=1):
         write_report(folder / f"blend-{number:02d}.html", render_html(sheet))
-    click.echo(f"{len(sheets)} weigh sheets written to {folder}")
+    click.echo(f"{len(sheets)} weigh sheets written to {folder}", err=to_stderr)
 
 
 @screen_group.command("show")
 @click.argument("name")
 @click.option("--sheets", type=click.Path(path_type=Path),
               help="Write each blend's weigh sheet (HTML) into this folder.")
+@click.option("--format", "fmt", type=click.Choice(["text", "json"]), default="text",
+              show_default=True, help="Output format.")
 @with_library
-def screen_show_cmd(app: AppContext, library: Library, name: str, sheets: Path | None) -> None:
-    """Print series NAME: its blends and what was observed of each."""
-    from formdb.report.screening import series_text
+def screen_show_cmd(app: AppContext, library: Library, name: str, sheets: Path | None,
+                    fmt: str) -> None:
+    """Print series NAME: its blends, what was observed of each and the notes kept with it."""
+    from formdb.report.screening import series_json, series_text
     from formdb.services.bench_work.screening import show_series
 
     if sheets is not None:
         _check_sheet_folder(sheets)
     series = show_series(library, name, with_sheets=sheets is not None)
-    click.echo(series_text(series), nl=False)
-    if sheets is not None:
-        _write_sheets(series.sheets, sheets)
+    click.echo((series_json if fmt == "json" else series_text)(series), nl=False)
+    if sheets is not None:  # JSON alone on stdout: the sheets' line goes to stderr
+        _write_sheets(series.sheets, sheets, to_stderr=fmt == "json")
 
 
 @screen_group.command("record")
@@ -213,7 +217,8 @@ def screen_record_cmd(app: AppContext, library: Library, name: str, blend: int,
     record_observations(library, name, blend, values, user=app.user, after_hours=after_hours,
                         note=note)
     click.echo(f"recorded blend {blend} of {name}: "
-               + ", ".join(f"{k} {v:g}" for k, v in values.items()))
+               + ", ".join(f"{k} {v:g}" for k, v in values.items())
+               + ("; the note is kept (screen show prints it)" if note else ""))
 
 
 def _measure(ctx: click.Context, param: click.Parameter, value: str) -> str:

@@ -2,10 +2,15 @@
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING
+import dataclasses
+import json
+from datetime import datetime
+from typing import TYPE_CHECKING, Any
+
+from formdb.report.terminal import one_line, terminal_safe
 
 if TYPE_CHECKING:
-    from formdb.schemas.bench import ScreeningFit, ScreeningSeries
+    from formdb.schemas.bench import ScreeningFit, ScreeningNote, ScreeningSeries
 
 
 def series_text(series: ScreeningSeries) -> str:
@@ -27,7 +32,39 @@ def series_text(series: ScreeningSeries) -> str:
         seen = ", ".join(f"{m} {v:g}" for m, v in b.observations.items()) or "-"
         out.append(f"{b.number:>5}  {b.hlb:>6.2f}  {b.low_percent:>{low + 2}.3f}  "
                    f"{b.high_percent:>{high + 2}.3f}  {seen}")
+    noted = [(b.number, note) for b in series.blends for note in b.notes]
+    if noted:
+        out += ["", "Notes recorded with the readings:"]
+        out += [f"  blend {number}, {_note_head(note)}: {_note_text(note.text)}"
+                for number, note in noted]
     return "\n".join(out) + "\n"
+
+
+def _note_head(note: ScreeningNote) -> str:
+    age = "" if note.after_hours is None else f" after {note.after_hours:g} h"
+    return (f"{', '.join(m.replace('_', ' ') for m in note.measures)}{age} "
+            f"({terminal_safe(note.observed_by)}, {note.observed_at:%Y-%m-%d %H:%M} UTC)")
+
+
+def _note_text(text: str) -> str:
+    """A note as the lab typed it, on one line: control and invisible characters as visible
+    escapes (as every data text of a report), a line break as \\n."""
+    return one_line(terminal_safe(text))
+
+
+def series_json(series: ScreeningSeries) -> str:
+    """The series as JSON: the plan, every blend with its latest readings and its notes, and the
+    fit where one is attached (the weigh sheets are their own output)."""
+    data = dataclasses.asdict(dataclasses.replace(series, sheets=()))
+    del data["sheets"]
+    return json.dumps(data, indent=2, ensure_ascii=False, allow_nan=False,
+                      default=_json_value) + "\n"
+
+
+def _json_value(value: Any) -> Any:
+    if isinstance(value, datetime):
+        return value.isoformat()
+    raise TypeError(f"{type(value).__name__} is not JSON")
 
 
 def fit_text(series_name: str, fit: ScreeningFit, stored: bool) -> str:

@@ -127,6 +127,18 @@ class WeighSheet:
 
 
 @dataclass(frozen=True)
+class ScreeningNote:
+    """What the lab wrote beside one recording of a blend (``screen record --note``): the
+    readings it came with, by whom, when, and the emulsion's age then."""
+
+    text: str
+    measures: tuple[str, ...]
+    observed_by: str
+    observed_at: datetime
+    after_hours: float | None = None
+
+
+@dataclass(frozen=True)
 class ScreeningBlend:
     """One emulsion of a series: its emulsifier pair's HLB and proportions, and what was seen."""
 
@@ -137,6 +149,7 @@ class ScreeningBlend:
     observations: dict[str, float] = field(default_factory=dict)
     observed_by: str | None = None
     observed_at: datetime | None = None
+    notes: tuple[ScreeningNote, ...] = ()  # every note recorded, oldest first
 
 
 @dataclass(frozen=True)

@@ -297,3 +297,33 @@ def test_bad_plans_are_refused(seeded_library_url: str, change: list[str],
     result = _run(seeded_library_url, *args)
     assert result.exit_code == 2 and message in result.stderr, result.stderr
     assert dump_database(seeded_library_url) == before
+
+
+def test_a_note_recorded_with_the_readings_is_shown_as_typed(seeded_library_url: str) -> None:
+    """`screen record --note` was stored and never printed. The note comes back in the text
+    (one line, its control and invisible characters as visible escapes, as every data text of a
+    report) and in the JSON (the stored text exactly)."""
+    url = seeded_library_url
+    assert _run(url, *PLAN).exit_code == 0
+    note = "creamed at the top\nsmell of oil \u202eevil\u202c, bell \x07"
+    recorded = _run(url, "screen", "record", SERIES, "--blend", "3", "--stability", "6",
+                    "--droplet-um", "4.5", "--after-hours", "24", "--note", note)
+    assert recorded.exit_code == 0, recorded.stderr
+    assert "the note is kept" in recorded.stdout
+    assert _run(url, "screen", "record", SERIES, "--blend", "4", "--stability", "7").exit_code == 0
+    shown = _run(url, "screen", "show", SERIES)
+    assert shown.exit_code == 0, shown.stderr
+    (line,) = [ln for ln in shown.stdout.splitlines() if ln.startswith("  blend 3, ")]
+    # one recording of two readings is one note, naming both
+    assert line.startswith("  blend 3, stability, droplet um after 24 h (")
+    assert line.endswith(": creamed at the top\\nsmell of oil \\u202eevil\\u202c, bell \\u0007")
+    assert "Notes recorded with the readings:" in shown.stdout
+    assert "blend 4, " not in shown.stdout  # recorded without a note
+    as_json = _run(url, "screen", "show", SERIES, "--format", "json")
+    assert as_json.exit_code == 0, as_json.stderr
+    blends = {b["number"]: b for b in json.loads(as_json.stdout)["blends"]}
+    (kept,) = blends[3]["notes"]
+    assert kept["text"] == note
+    assert kept["measures"] == ["stability", "droplet_um"] and kept["after_hours"] == 24
+    assert blends[3]["observations"] == {"droplet_um": 4.5, "stability": 6.0}
+    assert blends[4]["notes"] == []

@@ -15,7 +15,7 @@ from __future__ import annotations
 import json
 import math
 import re
-from collections.abc import Mapping, Sequence
+from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import replace
 from datetime import UTC, datetime
 from pathlib import Path
@@ -27,7 +27,13 @@ from sqlalchemy.orm import Session, selectinload
 from formdb.errors import Conflict, InvalidData, NotFound, quoted
 from formdb.facts.compute import compute_facts
 from formdb.schemas.admin import Action
-from formdb.schemas.bench import ScreeningBlend, ScreeningFit, ScreeningSeries, WeighSheet
+from formdb.schemas.bench import (
+    ScreeningBlend,
+    ScreeningFit,
+    ScreeningNote,
+    ScreeningSeries,
+    WeighSheet,
+)
 from formdb.schemas.ingredient import IngredientRecord, name_key
 from formdb.schemas.numbers import ascii_float
 from formdb.schemas.vocab import EmulsionType, Evidence, Role, SourceKind
@@ -126,7 +132,8 @@ def _series_record(row: SeriesRow, sheets: tuple[WeighSheet, ...] = ()) -> Scree
             number=b.number, hlb=b.hlb, low_percent=b.low_percent, high_percent=b.high_percent,
             observations={m: o.value for m, o in sorted(latest.items())},
             observed_by=last.observed_by if last else None,
-            observed_at=last.observed_at if last else None))
+            observed_at=last.observed_at if last else None,
+            notes=_notes(b.observations)))
     return ScreeningSeries(
         name=row.name, emulsion_type=row.emulsion_type,
         oils=tuple((str(n), float(f)) for n, f in json.loads(row.oil_phase)),
@@ -135,6 +142,19 @@ def _series_record(row: SeriesRow, sheets: tuple[WeighSheet, ...] = ()) -> Scree
         high_hlb=row.high_hlb, batch_g=row.batch_g, blends=tuple(blends),
         created_by=row.created_by, created_at=row.created_at, water_inci=row.water_inci,
         sheets=sheets)
+
+
+def _notes(observations: Iterable[ScreeningObservation]) -> tuple[ScreeningNote, ...]:
+    """The notes of a blend's recordings, oldest first: one recording stores its note on the
+    row of each measure it gave, and is one note here with those measures."""
+    grouped: dict[tuple[str, str, datetime, float | None], list[str]] = {}
+    for obs in sorted(observations, key=lambda o: o.id):
+        if obs.note:
+            grouped.setdefault((obs.note, obs.observed_by, obs.observed_at, obs.after_hours),
+                               []).append(obs.measure)
+    return tuple(ScreeningNote(text=note, measures=tuple(measures), observed_by=by,
+                               observed_at=at, after_hours=hours)
+                 for (note, by, at, hours), measures in grouped.items())
 
 
 def blend_formula_text(series: ScreeningSeries, blend: ScreeningBlend) -> str:
