@@ -136,7 +136,9 @@ def test_select_by_group_and_exclude(tmp_path: Path) -> None:
     path = write(tmp_path, 'name = "reg"\nversion = "2"\nselect = ["regulatory", "BAL01"]\n'
                            'exclude = ["exclusive-entries"]\n')
     profile = load_profile(path)
-    assert [r.code for r in profile.enabled_rules()] == ["BAL01", "LIM01", "LIM03", "LIM04"]
+    # MIX01 is regulatory too: a blend without constituents is one whose limits went unchecked
+    assert [r.code for r in profile.enabled_rules()] == ["BAL01", "LIM01", "LIM03", "LIM04",
+                                                         "MIX01"]
     assert profile.version == "2"
 
 

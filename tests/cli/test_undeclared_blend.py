@@ -1,0 +1,57 @@
+"""A supplier blend entered by its name only is said to be checked as one ingredient (MIX01),
+and the command its advice gives makes the limits apply to its members: phenoxyethanol 1.0 %
+is Annex V/29's maximum for all products (the seed's row, SCCS/1575/16), so 1.2 % of a 90:10
+blend with ethylhexylglycerin (invented proportions of the demo lab) is 1.08 %, over it."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pytest
+
+from tests.helpers import run_formdb
+
+BLEND = "Phenoxyethanol (and) Ethylhexylglycerin"
+FORMULA = f"""name = "Larkspur preserved lotion, draft 4"
+category = "leave-on"
+[[ingredients]]
+inci = "Water"
+percent = 93.8
+[[ingredients]]
+inci = "Glycerin"
+percent = 5.0
+[[ingredients]]
+inci = "{BLEND}"
+percent = 1.2
+"""
+
+
+def _findings(url: str, formula: Path) -> list[dict[str, object]]:
+    result = run_formdb(["--db", url, "check", str(formula), "--format", "json"])
+    assert result.exit_code in (0, 1), result.stderr
+    return list(json.loads(result.stdout)["findings"])
+
+
+@pytest.mark.slow
+def test_a_blend_without_constituents_is_said_and_declaring_them_checks_the_members(
+        seeded_sqlite_url: str, tmp_path: Path) -> None:
+    url = seeded_sqlite_url
+    added = run_formdb(["--db", url, "ingredient", "add", BLEND, "--role", "preservative",
+                        "--reason", "supplier blend received"])
+    assert added.exit_code == 0, added.stderr
+    formula = tmp_path / "lotion.toml"
+    formula.write_text(FORMULA, encoding="utf-8")
+    before = _findings(url, formula)
+    (mix,) = [f for f in before if f["rule"] == "MIX01"]
+    assert mix["severity"] == "warning" and mix["ingredients"] == [BLEND]
+    assert "constituents were not checked" in str(mix["message"])
+    assert not [f for f in before if f["rule"] == "LIM01"]  # the member's limit went unseen
+    declared = run_formdb(["--db", url, "mixture", "set", BLEND,
+                           "--part", "Phenoxyethanol=90", "--part", "Ethylhexylglycerin=10",
+                           "--source", "rule-of-thumb", "--reason", "supplier specification"])
+    assert declared.exit_code == 0, declared.stderr
+    after = _findings(url, formula)
+    assert not [f for f in after if f["rule"] == "MIX01"]
+    (limit,) = [f for f in after if f["rule"] == "LIM01"]
+    assert "Phenoxyethanol" in limit["ingredients"] and limit["severity"] == "error"
