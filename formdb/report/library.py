@@ -144,9 +144,11 @@ def record_changes(report: Any, verb: str) -> str:
     if not changes:
         return f"{name}: nothing changed (version {version}).\n"
     accepted = getattr(report, "accepted", ())
+    weaker = getattr(report, "weaker", ())
     return "".join([f"{verb} {name} (now version {version}):\n",
                     *(f"  {change.describe()}\n" for change in changes),
-                    *(f"accepted: {line}\n" for line in accepted)])
+                    *(f"accepted: {line}\n" for line in accepted),
+                    *(f"weaker evidence: {line}\n" for line in weaker)])
 
 
 def import_summary(report: Any) -> str:

@@ -102,6 +102,8 @@ SPECIAL_SOURCES: dict[str, tuple[str, str]] = {
                     "Recalled from memory; check a published source before relying on it."),
 }
 _CHUNK = 500
+
+
 _BULK_CHUNK = 1000  # new ingredients per bulk insert
 
 
@@ -124,6 +126,7 @@ class EditReport:
     version: int
     changes: list[FieldChange]
     accepted: tuple[str, ...] = ()  # unusual values the user confirmed (--accept-unusual)
+    weaker: tuple[str, ...] = ()  # checked values now resting on unchecked sources
 
 
 @dataclass(frozen=True)
@@ -510,6 +513,9 @@ def _import_table(session: Session, path: Path, *, user: str, reason: str | None
                        else diff_cells(base, render_ingredient(item)))
             plans.append((target, item, changes,
                            None if before is None else fields_of(before)))
+            if before is not None and changes:
+                report.notes += [f"row {row.row}: weaker evidence: {text}"
+                                 for text in _weaker(before, item, sources)]
             if confirm is not None and changes:
                 unusual.append((row.row, target, item, changes))
     if not rows:
@@ -582,6 +588,13 @@ def _check_unusual(session: Session, item: IngredientIn, label: str, *, own_id: 
         raise TableProblems(lines, hint=f"if the values are right, repeat with {ACCEPT_OPTION}; "
                                         "nothing was written")
     return tuple(lines)
+
+
+def _weaker(before: IngredientIn, after: IngredientIn, grades: Mapping[str, str],
+            ) -> tuple[str, ...]:
+    from formdb.services.library.plausibility import weaker_evidence
+
+    return tuple(w.text for w in weaker_evidence(before, after, grades))
 
 
 def _with_accepted(reason: str | None, accepted: Sequence[str]) -> str | None:
@@ -836,6 +849,7 @@ def edit_ingredient(session: Session, name: str, assignments: Sequence[tuple[str
                     "changing it needs a reason.", hint='add --reason "why the value changes"')
     accepted = _check_unusual(session, item, f"edit {ing.inci_name!r}", own_id=ing.id,
                               fields=[c.field for c in changes], confirm=confirm)
+    weaker = _weaker(before, item, sources)
     _ensure_special_sources(session, item.sources.values())
     _write(session, ing, item, fields_of(before), sources, action=action, user=user,
            reason=_with_accepted(reason, accepted), now=datetime.now(UTC), grades=grades)
@@ -843,7 +857,7 @@ def edit_ingredient(session: Session, name: str, assignments: Sequence[tuple[str
         from formdb.services.library.mixtures import refresh_blends_of
 
         refresh_blends_of(session, ing.id, user=user)  # blends computed from this one follow
-    return EditReport(ing.inci_name, ing.version, changes, accepted)
+    return EditReport(ing.inci_name, ing.version, changes, accepted, weaker)
 
 
 def verify_ingredient(session: Session, name: str, properties: Sequence[str], source: str, *,

@@ -13,13 +13,18 @@ while a real oddity can still be recorded. Each check is a rule of thumb and say
   substance the lists prohibit (seed limits and the list snapshots in force);
 - a CAS number that the lists (or another library ingredient) give to a different substance;
 - a name that differs from another ingredient's name only by case, spacing, punctuation or
-  look-alike characters (formdb.schemas.lookalike).
+  look-alike characters (formdb.schemas.lookalike);
+
+``weaker_evidence`` is not a refusal but a note: a value whose source the library has checked
+(published, supplier, measured, estimated, by definition) that comes to rest on an unchecked one
+(from memory, rule of thumb, a secondary copy). A supplier table or an edit that repeats a value
+"from memory" would otherwise weaken, unremarked among the changes, what verdicts rest on.
 """
 
 from __future__ import annotations
 
 import re
-from collections.abc import Iterable, Sequence
+from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass
 
 from sqlalchemy import select
@@ -28,9 +33,10 @@ from sqlalchemy.orm import Session
 from formdb.schemas.cells import format_number
 from formdb.schemas.ingredient import IngredientIn, name_key
 from formdb.schemas.lookalike import look_alike_key
-from formdb.schemas.vocab import Solubility
+from formdb.schemas.vocab import UNVERIFIED_EVIDENCE, Evidence, Solubility
 from formdb.science.density import USUAL_DENSITY
 from formdb.store.models import Ingredient, IngredientCas, IngredientName, LimitEntry
+from formdb.store.queries import property_columns
 
 ACCEPT_OPTION = "--accept-unusual"
 
@@ -154,6 +160,38 @@ def _cas_warnings(session: Session, item: IngredientIn) -> list[Warning_]:
             out.append(Warning_("cas", f"CAS {cas} already belongs to the library's {owner}"))
             warned.add(cas)
     return out
+
+
+def weaker_evidence(before: IngredientIn, after: IngredientIn,
+                    grades: Mapping[str, str]) -> list[Warning_]:
+    """Values whose checked source ``before`` cites would rest, in ``after``, on an unchecked
+    one (``grades``: source key -> evidence), the value kept or not. Not refused: a team may
+    mean it, and the change lists the new source; said so that nobody misses it."""
+    out: list[Warning_] = []
+    for prop, now in after.sources.items():
+        was = before.sources.get(prop)
+        if was is None or was == now:
+            continue
+        old_grade, new_grade = _grade(grades.get(was)), _grade(grades.get(now))
+        if old_grade is None or new_grade is None or old_grade in UNVERIFIED_EVIDENCE \
+                or new_grade not in UNVERIFIED_EVIDENCE:
+            continue
+        value = getattr(after.properties, prop)
+        kept = value == getattr(before.properties, prop)
+        num, text = property_columns(prop, value)
+        shown = format_number(num) if num is not None else str(text)
+        out.append(Warning_(prop, f"{prop} {shown} of {after.inci_name}: its source goes from "
+                            f"{was} ({old_grade.value}) to {now} ({new_grade.value}), a checked "
+                            "value giving way to an unchecked one"
+                            + (f" (cite {was} again to keep it)" if kept else "")))
+    return out
+
+
+def _grade(text: str | None) -> Evidence | None:
+    try:
+        return Evidence(text) if text is not None else None
+    except ValueError:
+        return None
 
 
 def _series(name: str) -> str:
