@@ -51,13 +51,21 @@ def least_change_fractions(
     centred = [v - target for v in values]  # the target constraint becomes sum f_i * c_i = 0
     scale = max(1.0, max(abs(v) for v in values))
     if n > MAX_ENUMERATED:
-        return _by_multiplier(start, centred, scale)
+        return _summing_to_one(_by_multiplier(start, centred, scale))
     for size in range(n, 0, -1):
         for free in combinations(range(n), size):
             found = _solve_active_set(start, centred, free, scale)
             if found is not None:
-                return found
+                return _summing_to_one(found)
     raise ValueError(f"target {target} is outside the range of {list(values)}")
+
+
+def _summing_to_one(fractions: tuple[float, ...]) -> tuple[float, ...]:
+    """The fractions divided by their sum: two values nearly alike (HLB 0 and 1.2e-7 beside 30)
+    make the active-set system ill-conditioned, and its answer summed to 1.000000002; dividing
+    moves the blend's HLB by the same few parts in a billion."""
+    total = sum(fractions)
+    return tuple(f / total for f in fractions) if total > 0 else fractions
 
 
 def _solve_active_set(

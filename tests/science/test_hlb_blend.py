@@ -238,3 +238,12 @@ def test_griffin_ranges_cite_their_source() -> None:
     assert (by_use["W/O emulsifier"].low, by_use["W/O emulsifier"].high) == (3.0, 6.0)
     assert by_use["O/W emulsifier"].low == 8.0
     assert all("Griffin" in r.source for r in GRIFFIN_RANGES)
+
+
+def test_nearly_equal_hlbs_still_sum_to_one() -> None:
+    # Found by the property test above: HLB 0 and 1.19e-7 beside 30 make the least-change system
+    # ill-conditioned, and the fractions summed to 1.0000000020 (now divided by their sum).
+    hlbs = [0.0, 30.0, 30.0, 1.19e-7]
+    result = blend_fractions(0.0, hlbs, [1.0, 1.0, 1.0, 1.0])
+    assert sum(result) == pytest.approx(1.0, abs=1e-12)
+    assert blend_hlb(list(zip(result, hlbs, strict=True))) == pytest.approx(0.0, abs=1e-7)
