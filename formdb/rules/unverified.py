@@ -3,6 +3,7 @@ only in a secondary copy)."""
 
 from __future__ import annotations
 
+import shlex
 from collections.abc import Iterable, Iterator, Mapping, Sequence
 from typing import Any, ClassVar
 
@@ -104,15 +105,18 @@ class UnverifiedValue(Rule):
                       and ((ing.inci_name, p) in read if p in RECORDED_PROPERTIES
                            else rule_reads[_READ_BY_RULES[p]])]
             for severity, evidence, props in _unverified(kinds, graded):
+                rests = "rests on a value" if len(props) == 1 else "rest on values"
+                command = (f"formdb ingredient verify {shlex.quote(ing.inci_name)} "
+                           + " ".join(f"--value {p}" for p in props) + " --source KEY")
                 yield self.finding(
                     severity,
-                    f"{ing.inci_name}{formed}: {', '.join(props)} rest on values recorded as "
+                    f"{ing.inci_name}{formed}: {', '.join(props)} {rests} recorded as "
                     f"{evidence.value} (not verified against a source)",
                     ingredients=[ing.inci_name],
                     values={"evidence": evidence.value, "properties": ", ".join(props)},
-                    advice=f"verify {', '.join(props)} of {ing.inci_name} against a published "
-                           "source or the supplier's certificate and record it (`formdb "
-                           "ingredient edit` with --source and --reason)")
+                    advice=f"check {', '.join(props)} of {ing.inci_name} against a published "
+                           "source or the supplier's certificate, then attach that source "
+                           f"(`{command}`; `formdb ingredient edit` if the value differs)")
         yield from self._toxicology(facts, reference, kinds)
 
     def _toxicology(self, facts: FormulaFacts, reference: ReferenceData,

@@ -73,8 +73,9 @@ def test_source_add_show_edit_history(library: str, tmp_path: Path) -> None:
 
 
 def test_source_bad_input_is_one_line_and_changes_nothing(library: str) -> None:
+    # every missing detail in one line, not one per attempt
     _refused(library, "source", "add", "hb", "--kind", "handbook", "--citation", "A handbook",
-             words="needs edition")
+             words="needs edition and table_ref or page")
     _refused(library, "source", "add", "x", "--kind", "gossip", "--citation", "c",
              words="'gossip' is not one of")
     _refused(library, "source", "add", "hpe6", "--kind", "handbook", "--citation", "c",

@@ -209,9 +209,11 @@ class SourceRow(_Row):
             raise ValueError(f"evidence {self.evidence.value!r} does not fit kind "
                              f"{self.kind.value!r}, whose values are graded {grade.value!r}")
         self.evidence = grade
-        for choices in KIND_NEEDS.get(self.kind, ()):
-            if all(getattr(self, c) is None for c in choices):
-                raise ValueError(f"a {self.kind.value} source needs {' or '.join(choices)}")
+        missing = [" or ".join(choices) for choices in KIND_NEEDS.get(self.kind, ())
+                   if all(getattr(self, c) is None for c in choices)]
+        if missing:  # every detail at once, not one per attempt
+            raise ValueError(f"a source of kind {self.kind.value!r} needs "
+                             f"{' and '.join(missing)}")
         return self
 
 
