@@ -37,8 +37,8 @@ FORCE_HINT = "give another file name, or --force to replace it"
 def _same_file(a: Path, b: Path) -> bool:
     try:
         return a.resolve() == b.resolve() or (a.exists() and b.exists() and a.samefile(b))
-    except OSError:
-        return False
+    except (OSError, RuntimeError):  # RuntimeError: a symbolic link loop (Python before 3.13);
+        return False  # such a path is a link, refused next by check_output
 
 
 def check_output(path: Path, *, force: bool = False, inputs: Iterable[Path] = ()) -> None:
