@@ -8,7 +8,9 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from tests.helpers import CliResult, run_formdb
+import pytest
+
+from tests.helpers import CliResult, dump_database, run_formdb
 
 
 def _refused(result: CliResult, *fragments: str) -> None:
@@ -47,3 +49,39 @@ def test_an_output_onto_a_symlink_loop_is_refused(seeded_sqlite_url: str, tmp_pa
     assert sorted(p.name for p in out.iterdir() if p.is_symlink()) == ["loop1.html",
                                                                        "loop2.html"]
     assert len(list(out.iterdir())) == 2  # nor a temporary file left behind
+
+
+# --- toxicology and exposure records ---------------------------------------------------------
+
+_TOX = ["--set", "inci=Glycerin", "--set", "pod_kind=NOAEL", "--set", "pod_unit=mg/kg bw/day",
+        "--set", "route=oral", "--set", "species=rat", "--set", "study=Larkspur study 7",
+        "--set", "source=from-memory"]
+
+
+@pytest.mark.parametrize(("value", "says"), [
+    ("inf", "not a finite number"), ("1e309", "not a finite number"),
+    ("١٢", "ASCII digits"), ("１２", "ASCII digits")])  # Arabic-Indic and fullwidth 12
+def test_record_numbers_are_ascii_and_finite(seeded_library_url: str, tmp_path: Path,
+                                             value: str, says: str) -> None:
+    """Found by hand: `toxicology add --set pod_value=inf` stored a NOAEL of infinity, and
+    every margin of safety of the substance then 'passes' (MoS = inf / SED); '١٢' was stored
+    as 12; `exposure add` and `exposure import` took the same."""
+    url = seeded_library_url
+    before = dump_database(url)
+    _refused(run_formdb(["--db", url, "toxicology", "add", "larkspur-glycerin-noael", *_TOX,
+                         "--set", f"pod_value={value}"]), "column pod_value", says)
+    _refused(run_formdb(["--db", url, "toxicology", "edit", "phenoxyethanol-noael-rat-oral",
+                         "--set", f"pod_value={value}"]), "column pod_value", says)
+    _refused(run_formdb(["--db", url, "exposure", "add", "larkspur balm", "--set",
+                         "category=leave-on", "--set", "source=from-memory", "--set",
+                         "retention_factor=1", "--set", f"exposure_g_day={value}"]),
+             "column exposure_g_day", says)
+    table = tmp_path / "exposure.csv"
+    table.write_text("product,category,retention_factor,exposure_g_day,source\n"
+                     f"larkspur balm,leave-on,1,{value},from-memory\n", encoding="utf-8")
+    _refused(run_formdb(["--db", url, "exposure", "import", str(table)]),
+             "row 2, column exposure_g_day", says)
+    assert dump_database(url) == before
+    added = run_formdb(["--db", url, "toxicology", "add", "larkspur-glycerin-noael", *_TOX,
+                        "--set", "pod_value=1e3"])
+    assert added.exit_code == 0, added.stderr  # a finite ASCII number is still taken

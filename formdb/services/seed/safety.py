@@ -7,6 +7,7 @@ of a file named by file, row and column before anything is written.
 
 from __future__ import annotations
 
+import math
 from datetime import date
 from pathlib import Path
 from typing import Any, Literal
@@ -15,6 +16,7 @@ from pydantic import Field, field_validator, model_validator
 from sqlalchemy.orm import Session
 
 from formdb.schemas.ingredient import name_key
+from formdb.schemas.numbers import ascii_float
 from formdb.schemas.vocab import Role, norm_token, parse_choice
 from formdb.services.seed.tables import (
     Rows,
@@ -37,11 +39,17 @@ EXPOSURE_REQUIRED = ("product", "category", "retention_factor", "source")
 
 
 def _number(value: Any) -> Any:
+    """A number cell or ``--set`` value: ASCII digits and finite (``float()`` alone read '١٢'
+    as 12, and 'inf' or '1e309' as a point of departure every margin of safety passes)."""
     if isinstance(value, str):
         try:
-            return float(value)
+            number = ascii_float(value)
         except ValueError:
-            raise ValueError("is not a number") from None
+            raise ValueError("is not a number written in ASCII digits" if not value.isascii()
+                             else "is not a number") from None
+        if not math.isfinite(number):
+            raise ValueError("is not a finite number")
+        return number
     return value
 
 

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import csv
 import io
+import math
 from collections.abc import Callable, Iterable, Sequence
 from datetime import date
 from pathlib import Path
@@ -19,6 +20,7 @@ from sqlalchemy.orm import Session
 
 from formdb.errors import InvalidData
 from formdb.schemas.ingredient import name_key, normalise_inci
+from formdb.schemas.numbers import ascii_float
 from formdb.schemas.suggest import did_you_mean
 from formdb.schemas.vocab import (
     COMPAT_CLASSES,
@@ -288,9 +290,12 @@ class LimitRow(_Row):
             return None
         if isinstance(value, str):
             try:
-                return float(value)
+                number = ascii_float(value)
             except ValueError:
                 raise ValueError("is not a number; write a percentage such as 0.8") from None
+            if not math.isfinite(number):
+                raise ValueError("is not a finite number; write a percentage such as 0.8")
+            return number
         return value
 
     @model_validator(mode="after")
