@@ -6,10 +6,14 @@ both backends where the library is involved. Names and values are made up for th
 
 from __future__ import annotations
 
+import json
 from pathlib import Path
 
 import pytest
+from sqlalchemy import select
 
+from formdb.store.db import make_engine
+from formdb.store.models import ChangeLogEntry
 from tests.helpers import CliResult, dump_database, run_formdb
 
 
@@ -85,3 +89,45 @@ def test_record_numbers_are_ascii_and_finite(seeded_library_url: str, tmp_path: 
     added = run_formdb(["--db", url, "toxicology", "add", "larkspur-glycerin-noael", *_TOX,
                         "--set", "pod_value=1e3"])
     assert added.exit_code == 0, added.stderr  # a finite ASCII number is still taken
+
+
+# --- mixtures ---------------------------------------------------------------------------------
+
+_BLEND = "Cetearyl Alcohol (and) Ceteareth-20"
+
+
+def _blend(url: str) -> None:
+    added = run_formdb(["--db", url, "ingredient", "add", _BLEND, "--role", "emulsifier",
+                        "--reason", "Larkspur supplier blend"])
+    assert added.exit_code == 0, added.stderr
+    declared = run_formdb(["--db", url, "mixture", "set", _BLEND, "--part",
+                           "Cetearyl Alcohol=80", "--part", "Ceteareth-20=20", "--source",
+                           "from-memory", "--reason", "Larkspur data sheet"])
+    assert declared.exit_code == 0, declared.stderr
+
+
+def test_a_dropped_constituent_is_named_in_the_change_log(seeded_library_url: str) -> None:
+    """Found by hand: a declaration that left a constituent out (`mixture set` with other parts,
+    `mixture clear`, an import) reported and logged it by its row id ('37: 80 % (from-memory)
+    -> (none)'): the hash-chained change log held a number where the name belongs."""
+    url = seeded_library_url
+    _blend(url)
+    swapped = run_formdb(["--db", url, "mixture", "set", _BLEND, "--part",
+                          "Cetearyl Alcohol=80", "--part", "Ceteth-20=20", "--source",
+                          "from-memory", "--reason", "supplier changed the ethoxylate"])
+    assert swapped.exit_code == 0, swapped.stderr
+    assert "  Ceteareth-20: 20 % (from-memory) -> (none)" in swapped.stdout, swapped.stdout
+    cleared = run_formdb(["--db", url, "mixture", "clear", _BLEND, "--reason", "withdrawn"])
+    assert cleared.exit_code == 0, cleared.stderr
+    assert "  Cetearyl Alcohol: 80 % (from-memory) -> (none)" in cleared.stdout, cleared.stdout
+    engine = make_engine(url, must_exist=True)
+    try:
+        with engine.connect() as conn:
+            payloads = conn.execute(select(ChangeLogEntry.payload).where(
+                ChangeLogEntry.entity == "mixture")).scalars().all()
+    finally:
+        engine.dispose()
+    fields = [c["field"] for p in payloads for c in json.loads(p)["changes"]]
+    # declared (two), swapped (one out, one in), cleared (two out): every one by name
+    assert sorted(fields) == ["Ceteareth-20", "Ceteareth-20", "Cetearyl Alcohol",
+                              "Cetearyl Alcohol", "Ceteth-20", "Ceteth-20"], fields

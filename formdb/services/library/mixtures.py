@@ -198,14 +198,18 @@ def _describe(session: Session, mixture_id: int) -> dict[int, tuple[float, str]]
 
 def _write(session: Session, plans: Mapping[int, list[tuple[int, Part]]], report: MixtureChanges,
            *, user: str, reason: str | None, action: str) -> None:
+    olds = {mixture_id: _describe(session, mixture_id) for mixture_id in plans}
+    # every constituent named: a new one and one the declaration drops (the change log and
+    # the report name it, not its row id)
     names = {i: r.inci_name for i, r in records_by_id(
-        session, {*plans, *(c for parts in plans.values() for c, _p in parts)}).items()}
+        session, {*plans, *(c for parts in plans.values() for c, _p in parts),
+                  *(c for old in olds.values() for c in old)}).items()}
     now = datetime.now(UTC)
     for mixture_id, parts in plans.items():
-        old = _describe(session, mixture_id)
+        old = olds[mixture_id]
         new = {cid: (p.percent, p.source) for cid, p in parts}
         lines = []
-        for cid in sorted({*old, *new}, key=lambda i: names.get(i, "")):
+        for cid in sorted({*old, *new}, key=lambda i: names[i]):
             before = old.get(cid)
             after = new.get(cid)
             if before == after:
@@ -216,7 +220,7 @@ def _write(session: Session, plans: Mapping[int, list[tuple[int, Part]]], report
             report.unchanged.append(mixture)
             continue
         report.declared[mixture] = [
-            f"{names.get(cid, cid)}: {_text(b) or '(none)'} -> {_text(a) or '(none)'}"
+            f"{names[cid]}: {_text(b) or '(none)'} -> {_text(a) or '(none)'}"
             for cid, b, a in lines]
         if report.dry_run:
             continue
@@ -229,7 +233,7 @@ def _write(session: Session, plans: Mapping[int, list[tuple[int, Part]]], report
         session.add(log_entry(
             at=now, user=user, entity=ENTITY, entity_key=mixture, entity_version=None,
             action=action, reason=reason, changes=[
-                {"field": names.get(cid, str(cid)), "old": b and b[0], "new": a and a[0],
+                {"field": names[cid], "old": b and b[0], "new": a and a[0],
                  "old_source": b and b[1], "new_source": a and a[1]} for cid, b, a in lines]))
     session.flush()
     if not report.dry_run:
