@@ -18,6 +18,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any, TypeVar
 
 import click
+from click.core import ParameterSource
 
 from formdb.errors import FormdbError
 
@@ -191,6 +192,11 @@ class LazyGroup(click.Group):
 @click.pass_context
 def cli(ctx: click.Context, db: str, user: str | None, debug: bool) -> None:
     """formdb: the team's ingredient library and a pre-batch checker for emulsion formulas."""
+    if ctx.get_parameter_source("db") is ParameterSource.DEFAULT \
+            and os.environ.get("FORMDB_DB") == "":
+        # click reads an empty variable as unset; `FORMDB_DB=$UNSET_URL formdb init` would
+        # then build a library in ./formdb.sqlite unasked: refused as `--db ''` is
+        db = ""
     ctx.obj = app = AppContext(db=db, claimed=user, debug=debug)
     if user is not None and user.strip():
         _ = app.user  # a claim is checked before anything runs

@@ -131,3 +131,20 @@ def test_a_dropped_constituent_is_named_in_the_change_log(seeded_library_url: st
     # declared (two), swapped (one out, one in), cleared (two out): every one by name
     assert sorted(fields) == ["Ceteareth-20", "Ceteareth-20", "Cetearyl Alcohol",
                               "Cetearyl Alcohol", "Ceteth-20", "Ceteth-20"], fields
+
+
+# --- the library's location -------------------------------------------------------------------
+
+@pytest.mark.parametrize("value", ["", "  "])
+def test_an_empty_formdb_db_is_refused_not_read_as_unset(tmp_path: Path,
+                                                         monkeypatch: pytest.MonkeyPatch,
+                                                         value: str) -> None:
+    """Found by hand: `FORMDB_DB= formdb init --seed` (a variable set from an unset one) built
+    and seeded ./formdb.sqlite, as click reads an empty variable as unset, while FORMDB_DB='  '
+    was refused; both are now refused as `--db ''` is, and nothing is created."""
+    monkeypatch.chdir(tmp_path)
+    for args in (["init"], ["ingredient", "list"]):
+        _refused(run_formdb(args, env={"FORMDB_DB": value}), "no database given")
+    assert list(tmp_path.iterdir()) == []
+    given = run_formdb(["--db", str(tmp_path / "lab.sqlite"), "init"], env={"FORMDB_DB": value})
+    assert given.exit_code == 0, given.stderr  # --db still wins over the variable
