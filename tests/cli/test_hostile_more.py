@@ -148,3 +148,25 @@ def test_an_empty_formdb_db_is_refused_not_read_as_unset(tmp_path: Path,
     assert list(tmp_path.iterdir()) == []
     given = run_formdb(["--db", str(tmp_path / "lab.sqlite"), "init"], env={"FORMDB_DB": value})
     assert given.exit_code == 0, given.stderr  # --db still wins over the variable
+
+
+# --- refusals that named the wrong reason -----------------------------------------------------
+
+@pytest.mark.parametrize("hours", ["1e308", "200000"])
+def test_an_age_beyond_its_bound_says_the_bound(seeded_sqlite_url: str, hours: str) -> None:
+    """Found by hand: `screen record --after-hours 1e308` was refused as 'must be above 0'."""
+    for args in (["screen", "record", "larkspur-s1", "--blend", "1", "--stability", "5"],
+                 ["screen", "fit", "larkspur-s1"]):
+        _refused(run_formdb(["--db", seeded_sqlite_url, *args, "--after-hours", hours]),
+                 "must be above 0 and at most 100000 h")
+
+
+def test_a_profile_that_is_a_folder_is_not_said_to_be_missing(seeded_sqlite_url: str,
+                                                             tmp_path: Path) -> None:
+    """Found by hand: `check --profile FOLDER` said 'profile file FOLDER does not exist'."""
+    formula = _formula(tmp_path / "f.toml")
+    folder = tmp_path / "profiles.toml"
+    folder.mkdir()
+    for spec in (str(tmp_path), str(folder)):
+        _refused(run_formdb(["--db", seeded_sqlite_url, "check", str(formula), "--profile",
+                             spec]), "is a folder, not a TOML file")

@@ -286,8 +286,7 @@ def record_observations(library: Library, name: str, blend: int, values: Mapping
         if not (math.isfinite(value) and 0 <= value <= top):
             raise InvalidData(f"--{measure.replace('_', '-')} {value:g}: must be from 0 to "
                               f"{top:g} ({MEASURES[measure][0]})")
-    if after_hours is not None and not (math.isfinite(after_hours) and 0 < after_hours <= 1e5):
-        raise InvalidData(f"--after-hours {after_hours:g}: must be above 0")
+    _check_age(after_hours)
     with library.write() as session:
         require(session, user, Action.STORE_FORMULAS)
         row = _series_row(session, name)
@@ -310,6 +309,17 @@ def age_words(hours: float | None) -> str:
 
 def fit_age(fit: ScreeningFit) -> str:
     return "" if fit.after_hours is None else f" after {fit.after_hours:g} h"
+
+
+MAX_AGE_HOURS = 1e5  # about eleven years: no reading of a bench emulsion is older
+
+
+def _check_age(after_hours: float | None) -> None:
+    """An --after-hours value is a time since making: above 0, at most MAX_AGE_HOURS."""
+    if after_hours is not None and not (math.isfinite(after_hours)
+                                        and 0 < after_hours <= MAX_AGE_HOURS):
+        raise InvalidData(f"--after-hours {after_hours:g}: must be above 0 and at most "
+                          f"{MAX_AGE_HOURS:g} h")
 
 
 def _same_age(a: float | None, b: float | None) -> bool:
@@ -362,8 +372,7 @@ def fit_series(library: Library, name: str, *, measure: str = "stability", store
     keep it as an in-house measurement (one write)."""
     if measure not in MEASURES:
         raise InvalidData(f"--measure {measure!r}: choose one of {', '.join(MEASURES)}")
-    if after_hours is not None and not (math.isfinite(after_hours) and 0 < after_hours <= 1e5):
-        raise InvalidData(f"--after-hours {after_hours:g}: must be above 0")
+    _check_age(after_hours)
     higher = MEASURES[measure][1]
     with (library.write() if store else library.read()) as session:
         if store:
