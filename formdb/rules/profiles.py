@@ -202,6 +202,10 @@ def _locate(spec: str | Path) -> Path:
     looks_like_path = isinstance(spec, Path) or text.endswith(".toml") or "/" in text \
         or "\\" in text
     if looks_like_path:
+        if path.is_dir():
+            raise ConfigError(f"profile file {text} is a folder, not a TOML file",
+                              hint=f"give a path to a TOML file or one of: "
+                                   f"{', '.join(known_profiles())}")
         if not path.is_file():
             raise ConfigError(f"profile file {text} does not exist",
                               hint=f"give a path to a TOML file or one of: "
