@@ -170,3 +170,20 @@ def test_a_profile_that_is_a_folder_is_not_said_to_be_missing(seeded_sqlite_url:
     for spec in (str(tmp_path), str(folder)):
         _refused(run_formdb(["--db", seeded_sqlite_url, "check", str(formula), "--profile",
                              spec]), "is a folder, not a TOML file")
+
+
+@pytest.mark.parametrize("parts", [["Cetearyl Alcohol=inf"], ["Ceteareth-20=150"],
+                                   ["Cetearyl Alcohol=1e308", "Ceteareth-20=20"]])
+def test_one_bad_share_is_one_line(seeded_library_url: str, parts: list[str]) -> None:
+    """Found by hand: one share out of range (inf, 150, 1e308) was refused twice, the second
+    line its sum ('add up to inf %, more than 100 %'), a consequence of the first."""
+    url = seeded_library_url
+    _blend(url)
+    before = dump_database(url)
+    for partial in ([], ["--partial"]):
+        args = ["--db", url, "mixture", "set", _BLEND, "--source", "from-memory", *partial]
+        for part in parts:
+            args += ["--part", part]
+        _refused(run_formdb(args), "is not a share of a mixture")
+    assert dump_database(url) == before
+

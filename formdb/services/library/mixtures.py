@@ -146,6 +146,7 @@ def _plan(session: Session, declarations: Mapping[str, tuple[list[tuple[int | No
         chosen: list[tuple[int, Part]] = []
         seen: dict[int, int | None] = {}
         total = 0.0
+        share_refused = False
         for row, part in parts:
             rec = found.get(name_key(part.name))
             if rec is None:
@@ -153,6 +154,7 @@ def _plan(session: Session, declarations: Mapping[str, tuple[list[tuple[int | No
                                         "library", row, "constituent_inci"))
                 continue
             if not 0 < part.percent <= 100:
+                share_refused = True
                 problems.append(Problem(label, f"{part.name}: {format_number(part.percent)} % "
                                         "is not a share of a mixture (above 0, at most 100)",
                                         row, "percent"))
@@ -175,7 +177,7 @@ def _plan(session: Session, declarations: Mapping[str, tuple[list[tuple[int | No
             total += part.percent
             chosen.append((rec.id, part))
         graph[owner.id] = {i for i, _p in chosen}
-        if len(chosen) < len(parts):
+        if len(chosen) < len(parts) or share_refused:
             pass  # a part is already refused: its sum would only repeat the problem
         elif total > 100 + 1e-9:
             problems.append(Problem(label, f"the constituents of {owner.inci_name} add up to "
