@@ -187,3 +187,14 @@ def test_one_bad_share_is_one_line(seeded_library_url: str, parts: list[str]) ->
         _refused(run_formdb(args), "is not a share of a mixture")
     assert dump_database(url) == before
 
+
+def test_a_partial_declaration_says_why_no_hlb(seeded_sqlite_url: str) -> None:
+    """Found by hand: a partial declaration whose constituents all have an HLB but cover too
+    little of the blend said 'only 5 % of the blend has an HLB (none for )'."""
+    url = seeded_sqlite_url
+    _blend(url)
+    declared = run_formdb(["--db", url, "mixture", "set", _BLEND, "--part", "Ceteareth-20=5",
+                           "--source", "from-memory", "--partial"])
+    assert declared.exit_code == 0, declared.stderr
+    assert "only 5 % of the blend has an HLB (the rest is not declared)" in declared.stdout
+    assert "none for )" not in declared.stdout

@@ -296,8 +296,10 @@ def _computed(record: IngredientRecord,
     share = sum(pct for pct, _r in with_hlb)
     if with_hlb and share < MIN_HLB_SHARE:
         left = [rec.inci_name for rec, _p, _s in parts if rec.p.hlb is None]
+        # a partial declaration (an allergen certificate) may leave the rest undeclared
+        why = f"none for {', '.join(left)}" if left else "the rest is not declared"
         out["hlb"] = (None, f"not computed: only {format_number(share)} % of the blend has an "
-                            f"HLB (none for {', '.join(left)})")
+                            f"HLB ({why})")
     elif with_hlb:
         value = round(blend_hlb([(pct, rec.p.hlb) for pct, rec in with_hlb]), 1)  # type: ignore[misc]
         terms = " + ".join(f"{format_number(pct)} % {rec.inci_name} (HLB {rec.p.hlb:g})"
