@@ -38,6 +38,7 @@ from formdb.schemas.bounds import (
     UnreadableInput,
     load_toml,
     read_input,
+    toml_text,
 )
 from formdb.schemas.result import FactsSettings
 from formdb.schemas.suggest import did_you_mean
@@ -224,7 +225,14 @@ def _read(path: Path) -> dict[str, Any]:
         if path.stat().st_size > MAX_TOML_BYTES:
             raise ConfigError(f"profile {path}: {path.stat().st_size:,} bytes is more than a "
                               f"profile file formdb reads ({MAX_TOML_BYTES:,})")
-        return load_toml(read_input(path, MAX_TOML_BYTES).decode("utf-8"))
+        raw = read_input(path, MAX_TOML_BYTES)
+        try:
+            text = toml_text(raw)
+        except UnicodeError as exc:
+            raise ConfigError(f"profile {path}: {exc}",
+                              hint="save the profile as UTF-8 TOML, without a byte-order mark"
+                              ) from None
+        return load_toml(text)
     except tomllib.TOMLDecodeError as exc:
         raise ConfigError(f"profile {path}: not valid TOML ({exc})") from None
     except (TomlTooLarge, UnreadableInput) as exc:

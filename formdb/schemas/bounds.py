@@ -7,6 +7,7 @@ hang or exhaust memory; an input beyond one is refused with one line naming the 
 
 from __future__ import annotations
 
+import codecs
 import stat
 import tomllib
 from pathlib import Path
@@ -46,6 +47,23 @@ def read_input(path: Path, limit: int) -> bytes:
     if len(data) > limit:
         raise UnreadableInput(f"holds more than {limit:,} bytes, more than formdb reads here")
     return data
+
+
+def toml_text(raw: bytes) -> str:
+    """The text of a TOML file's bytes: UTF-8 (TOML's only encoding), no byte-order mark.
+    UnicodeError with a phrase to follow the file's name otherwise: some editors start a file
+    with a byte-order mark, which tomllib reports as 'Invalid statement (at line 1, column
+    1)', and save UTF-16, which is 'not UTF-8 at byte 0' to a reader who cannot see why."""
+    if raw.startswith(codecs.BOM_UTF8):
+        raise UnicodeError("starts with a byte-order mark (U+FEFF), which a TOML file may not "
+                           "hold")
+    if raw.startswith((codecs.BOM_UTF16_LE, codecs.BOM_UTF16_BE)):
+        raise UnicodeError("is UTF-16 text (it starts with a UTF-16 byte-order mark), not "
+                           "UTF-8")
+    try:
+        return raw.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise UnicodeError(f"not UTF-8 text (byte {exc.start})") from None
 
 
 def _depth(value: Any, level: int = 0) -> int:

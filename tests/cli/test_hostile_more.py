@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import json
 from pathlib import Path
+from typing import Any
 
 import pytest
 from sqlalchemy import select
@@ -198,3 +199,28 @@ def test_a_partial_declaration_says_why_no_hlb(seeded_sqlite_url: str) -> None:
     assert declared.exit_code == 0, declared.stderr
     assert "only 5 % of the blend has an HLB (the rest is not declared)" in declared.stdout
     assert "none for )" not in declared.stdout
+
+
+# --- stored formulas and profiles -------------------------------------------------------------
+
+@pytest.mark.parametrize(("encode", "says"), [
+    (lambda text: b"\xef\xbb\xbf" + text.encode("utf-8"), "starts with a byte-order mark"),
+    (lambda text: text.encode("utf-16"), "is UTF-16 text"),
+])
+def test_a_toml_file_in_another_encoding_says_so(seeded_library_url: str, tmp_path: Path,
+                                                 encode: Any, says: str) -> None:
+    """Found by hand: a formula or profile saved with a byte-order mark (as some editors do)
+    was refused as 'not a valid TOML formula file (Invalid statement (at line 1, column 1))',
+    and one saved as UTF-16 as 'not UTF-8 text (byte 0)'."""
+    url = seeded_library_url
+    text = _formula(tmp_path / "plain.toml").read_text(encoding="utf-8")
+    formula = tmp_path / "f.toml"
+    formula.write_bytes(encode(text))
+    profile = tmp_path / "p.toml"
+    profile.write_bytes(encode('extends = "default"\n'))
+    plain = tmp_path / "plain.toml"
+    before = dump_database(url)
+    for args in (["formula", "import", str(formula)], ["check", str(formula)],
+                 ["check", str(plain), "--profile", str(profile)]):
+        _refused(run_formdb(["--db", url, *args]), says)
+    assert dump_database(url) == before

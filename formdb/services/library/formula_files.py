@@ -19,6 +19,7 @@ from formdb.schemas.bounds import (
     UnreadableInput,
     load_toml,
     read_input,
+    toml_text,
 )
 from formdb.schemas.formula import FormulaFile
 
@@ -108,8 +109,9 @@ def read_formula_file(path: Path) -> tuple[FormulaFile, str]:
     if not raw.strip():
         raise InvalidData(f"{label}: the file is empty", hint="write a formula as in the README")
     try:
-        text = raw.decode("utf-8")
-    except UnicodeDecodeError as exc:
-        raise InvalidData(f"{label}: not UTF-8 text (byte {exc.start})",
-                          hint="save the formula as UTF-8 TOML") from None
+        text = toml_text(raw)
+    except UnicodeError as exc:
+        raise InvalidData(f"{label}: {exc}",
+                          hint="save the formula as UTF-8 TOML, without a byte-order mark"
+                          ) from None
     return parse_formula_text(text, label), text
