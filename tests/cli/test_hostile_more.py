@@ -224,3 +224,32 @@ def test_a_toml_file_in_another_encoding_says_so(seeded_library_url: str, tmp_pa
                  ["check", str(plain), "--profile", str(profile)]):
         _refused(run_formdb(["--db", url, *args]), says)
     assert dump_database(url) == before
+
+
+# --- record keys ------------------------------------------------------------------------------
+
+@pytest.mark.parametrize(("key", "says"), [("larkspur\x1b[2J", "U+001B, a control character"),
+                                           ("lark\u200bspur", "U+200B, an invisible"),
+                                           ("lark\u202espur", "U+202E, an invisible")])
+def test_a_new_record_key_holds_visible_characters_only(seeded_library_url: str,
+                                                        tmp_path: Path, key: str,
+                                                        says: str) -> None:
+    """Found by hand: `source add`, `toxicology add` and `exposure add` stored keys holding ESC,
+    BEL or a zero-width space; a key is never renamed, and once held it could not be typed
+    again and made every XLSX export of its table fail ('an XLSX cell cannot hold' U+0007)."""
+    url = seeded_library_url
+    before = dump_database(url)
+    _refused(run_formdb(["--db", url, "source", "add", key, "--citation", "Larkspur notebook 9",
+                         "--kind", "estimate"]), "column key", says)
+    _refused(run_formdb(["--db", url, "toxicology", "add", key, *_TOX, "--set",
+                         "pod_value=100"]), "column key", says)
+    _refused(run_formdb(["--db", url, "exposure", "add", f"{key} balm", "--set",
+                         "category=leave-on", "--set", "source=from-memory", "--set",
+                         "retention_factor=1", "--set", "exposure_g_day=1"]),
+             "column product", says)
+    table = tmp_path / "sources.csv"
+    table.write_text(f"key,citation,kind\nlarkspur-ok,Larkspur notebook 8,estimate\n"
+                     f"{key},Larkspur notebook 9,estimate\n", encoding="utf-8")
+    _refused(run_formdb(["--db", url, "source", "import", str(table)]),
+             "row 3, column key", says)
+    assert dump_database(url) == before

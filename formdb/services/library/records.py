@@ -25,6 +25,7 @@ from formdb.errors import Conflict, InvalidData, NotFound, quoted
 from formdb.schemas.admin import Action
 from formdb.schemas.cells import format_number
 from formdb.schemas.change_log import FieldChange, value_text
+from formdb.schemas.names import refused_character
 from formdb.schemas.suggest import did_you_mean
 from formdb.schemas.times import utc
 from formdb.services.admin.access import require
@@ -131,6 +132,22 @@ def _validated(session: Session, kind: RecordKind, rows: list[tuple[int, Cells]]
     return parsed
 
 
+def _visible_new_keys(session: Session, kind: RecordKind,
+                      plans: Sequence[tuple[int, tuple[Any, ...], dict[str, Any]]],
+                      label: str) -> None:
+    """A new record's key holds visible characters only, as a name does: a key is typed to cite
+    or edit the record and is never renamed, so one holding a control or invisible character
+    could not be typed again, and no XLSX export of its table could be written (a cell cannot
+    hold a control character). A record already held keeps its key and stays editable."""
+    problems = [
+        Problem(label, f"holds {bad}; a key may hold only visible characters",
+                row or None, kind.key_columns[-1])
+        for row, key, _values in plans
+        if isinstance(key[0], str) and (bad := refused_character(key[0])) is not None
+        and _stored(session, kind, key) is None]
+    raise_problems(problems, hint="correct it and try again; nothing was written")
+
+
 def _stored(session: Session, kind: RecordKind, key: tuple[Any, ...]) -> Base | None:
     return session.get(kind.model, key)
 
@@ -207,6 +224,7 @@ def add_record(session: Session, kind: RecordKind, key: str,
         raise Conflict(f"{label} is already in the library.",
                        hint=f"use `formdb {kind.entity} edit` to change it")
     plans = _validated(session, kind, [(0, cells)], label)
+    _visible_new_keys(session, kind, plans, label)
     report = RecordChanges(kind.entity)
     _apply(session, kind, _no_row(plans), report, action="add", user=user, reason=reason)
     return report
@@ -361,6 +379,7 @@ def import_records(session: Session, kind: RecordKind, path: Path, *, user: str,
                                    kind.key_columns[-1]))
         seen.setdefault(key, row)
     raise_problems(repeats, hint="fix the file and import it again; nothing was written")
+    _visible_new_keys(session, kind, plans, str(path))
     report = RecordChanges(kind.entity, dry_run=dry_run)
     _apply(session, kind, plans, report, action="import", user=user,
            reason=reason or f"imported from {path.name}")
