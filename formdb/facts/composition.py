@@ -1,9 +1,10 @@
 """Substance-level composition: mixtures exploded into their declared constituents.
 
 A line whose ingredient declares constituents (a fragrance with its allergen certificate, a
-preservative blend) contributes line % x constituent %/100 of each constituent; what the
-declaration leaves undeclared stays with the mixture itself. Every source is kept, so sums of
-one substance over several lines and mixtures can be shown.
+preservative blend) contributes line % x constituent %/100 of each constituent, and a
+constituent that declares constituents of its own (a supplier blend inside a blend) is exploded
+in turn; what a declaration leaves undeclared stays with its mixture. Every source is kept, so
+sums of one substance over several lines and mixtures can be shown.
 """
 
 from __future__ import annotations
@@ -34,21 +35,27 @@ def substances(formula: ResolvedFormula, reference: ReferenceData) -> dict[str, 
         item.sources.append(source)
         item.purposes.add(purpose)
 
-    for ln in formula.lines:
-        ing = ln.ingredient
-        parts = reference.constituents.get(name_key(ing.inci_name), ())
-        where = f"line {ln.line_no} ({ln.given_name})"
+    def explode(record: IngredientRecord, percent: float, where: str, purpose: str | None,
+                inside: frozenset[str]) -> None:
+        key = name_key(record.inci_name)
+        parts = () if key in inside else reference.constituents.get(key, ())
         if not parts:
-            add(ing, ln.percent, where, ln.purpose)
-            continue
+            add(record, percent, where, purpose)
+            return
         declared = 0.0
-        for part in parts:
+        for part in parts:  # a constituent may be a declared mixture itself: exploded in turn
             declared += part.percent
-            add(part.record, ln.percent * part.percent / 100.0,
-                f"{where}: {part.percent:g} % of {ln.percent:g} %")
+            explode(part.record, percent * part.percent / 100.0,
+                    f"{where}: {part.percent:g} % of {percent:g} %", None, inside | {key})
         rest = max(0.0, 100.0 - declared)
         if rest > 1e-9:
-            add(ing, ln.percent * rest / 100.0, f"{where}: undeclared {rest:g} %")
+            add(record, percent * rest / 100.0, f"{where}: undeclared {rest:g} %")
+
+    for ln in formula.lines:
+        # ``inside``: the mixtures being exploded, so a cycle (declarations refuse one; a
+        # restored or hand-edited library might hold one) ends at the repeated mixture
+        explode(ln.ingredient, ln.percent, f"line {ln.line_no} ({ln.given_name})", ln.purpose,
+                frozenset())
     return out
 
 

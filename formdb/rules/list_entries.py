@@ -77,20 +77,28 @@ def _key(inci: str) -> str:
 def _items(formula: ResolvedFormula, reference: ReferenceData) -> list[Item]:
     if not reference.list_entries:
         return []
-    out = []
-    for line in formula.lines:
-        record = line.ingredient
-        parts = reference.constituents.get(_key(record.inci_name), ())
+    out: list[Item] = []
+
+    def explode(record: IngredientRecord, percent: float, line: ResolvedLine, label: str,
+                chain: str, inside: frozenset[str]) -> None:
+        """``record`` at ``percent`` of the product, its declared constituents in its place
+        (one that is a mixture itself in turn; ``inside`` ends a cycle); ``chain`` says where
+        it sits ('Blend B, line 2')."""
+        key = _key(record.inci_name)
+        parts = () if key in inside else reference.constituents.get(key, ())
         declared = 0.0
         for part in parts:
             declared += part.percent
-            out.append(Item(part.record, line.percent * part.percent / 100.0, line,
-                            f"{part.record.inci_name} ({part.percent:g} % of {line.inci}, "
-                            f"line {line.line_no})"))
+            explode(part.record, percent * part.percent / 100.0, line,
+                    f"{part.record.inci_name} ({part.percent:g} % of {chain})",
+                    f"{part.record.inci_name}, {part.percent:g} % of {chain}", inside | {key})
         if not parts or declared < 100.0 - 1e-9:
             share = 1.0 if not parts else (100.0 - declared) / 100.0
-            out.append(Item(record, line.percent * share, line,
-                            f"{line.inci} (line {line.line_no})"))
+            out.append(Item(record, percent * share, line, label))
+
+    for line in formula.lines:
+        explode(line.ingredient, line.percent, line, f"{line.inci} (line {line.line_no})",
+                f"{line.inci}, line {line.line_no}", frozenset())
     exports = {(s.jurisdiction, s.annex): s for s in reference.lists}
     for item in out:
         item.entries = reference.list_entries.get(_key(item.record.inci_name), ())

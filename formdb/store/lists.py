@@ -127,12 +127,13 @@ def with_list_entries(session: Session, reference: ReferenceData,
     if not reference.lists:
         return reference
     wanted: dict[str, IngredientRecord] = {}
-    for formula in formulas:
-        for line in formula.lines:
-            record = line.ingredient
-            wanted.setdefault(name_key(record.inci_name), record)
-            for part in reference.constituents.get(name_key(record.inci_name), ()):
-                wanted.setdefault(name_key(part.record.inci_name), part.record)
+    todo = [line.ingredient for formula in formulas for line in formula.lines]
+    while todo:  # a constituent that is a declared mixture itself is read through in turn
+        record = todo.pop()
+        key = name_key(record.inci_name)
+        if key not in wanted:
+            wanted[key] = record
+            todo.extend(part.record for part in reference.constituents.get(key, ()))
     missing = [r for k, r in wanted.items() if k not in reference.list_entries]
     if not missing:
         return reference

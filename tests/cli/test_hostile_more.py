@@ -253,3 +253,33 @@ def test_a_new_record_key_holds_visible_characters_only(seeded_library_url: str,
     _refused(run_formdb(["--db", url, "source", "import", str(table)]),
              "row 3, column key", says)
     assert dump_database(url) == before
+
+
+def test_a_blend_inside_a_blend_is_exploded_to_its_substances(seeded_library_url: str,
+                                                              tmp_path: Path) -> None:
+    """Found by hand: a declared mixture whose constituent is itself a declared mixture (which
+    `mixture set` accepts; only a cycle is refused) was exploded one level: Phenoxyethanol
+    at 5 % x 50 % x 90 % = 2.25 % inside 'Larkspur Preservative Base' passed the 1 % limit of
+    Regulation (EC) No 1223/2009 Annex V entry 29 (the seed's row LIM01 reads) unseen."""
+    url = seeded_library_url
+    inner, outer = "Phenoxyethanol (and) Ethylhexylglycerin", "Larkspur Preservative Base"
+    for name in (inner, outer):
+        assert run_formdb(["--db", url, "ingredient", "add", name, "--role", "preservative",
+                           "--reason", "Larkspur supplier blend"]).exit_code == 0
+    for name, parts in ((inner, ["Phenoxyethanol=90", "Ethylhexylglycerin=10"]),
+                        (outer, [f"{inner}=50", "Glycerin=50"])):
+        args = ["--db", url, "mixture", "set", name, "--source", "from-memory"]
+        for part in parts:
+            args += ["--part", part]
+        declared = run_formdb(args)
+        assert declared.exit_code == 0, declared.stderr
+    formula = tmp_path / "gel.toml"
+    formula.write_text('name = "Larkspur preserved gel"\ncategory = "leave-on"\n'
+                       f'[[ingredients]]\ninci = "Aqua"\npercent = 95\n'
+                       f'[[ingredients]]\ninci = "{outer}"\npercent = 5\n', encoding="utf-8")
+    checked = run_formdb(["--db", url, "check", str(formula), "--format", "json"])
+    assert checked.exit_code == 1, checked.stderr
+    findings = json.loads(checked.stdout)["findings"]
+    assert [f["message"] for f in findings if f["rule"] == "LIM01"] == [
+        "Phenoxyethanol 2.25 % is over the 1 % limit for all products (EU Regulation (EC) "
+        "No 1223/2009 Annex V, entry V/29)"]

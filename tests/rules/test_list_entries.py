@@ -464,3 +464,28 @@ def test_hair_styling_may_be_a_hair_lotion(library: Library) -> None:
                                           product="hair styling")), "V/32")
     assert found.severity.value == "warning" and "part (a)" in found.message
     assert "if the product is none of these, the entry does not allow it" in found.message
+
+
+def test_a_blend_inside_a_blend_is_read_to_its_substances(library: Library) -> None:
+    """A declared mixture whose constituent is a declared mixture itself: the annex entry is
+    found on the inner constituent (homosalate 70 % of a sun blend, 50 % of a base, at 20 %:
+    7 %, judged against the 7.34 % of Annex VI/3 for face products in the export of
+    31/10/2025). Found by hand: the entries were looked up, and the lines exploded, one level
+    deep, so the homosalate went unjudged."""
+    from formdb.services.library.ingredients import add_ingredient
+    from formdb.services.library.mixtures import Part, declare
+
+    with library.write() as session:
+        for name in ("Larkspur Sun Blend", "Larkspur Sun Base"):
+            add_ingredient(session, name, user=TEST_USER, reason="test")
+        declare(session, "Larkspur Sun Blend",
+                [Part("Homosalate", 70.0, "from-memory"),
+                 Part("Caprylic/Capric Triglyceride", 30.0, "from-memory")],
+                user=TEST_USER, reason="test")
+        declare(session, "Larkspur Sun Base",
+                [Part("Larkspur Sun Blend", 50.0, "from-memory"),
+                 Part("Caprylic/Capric Triglyceride", 50.0, "from-memory")],
+                user=TEST_USER, reason="test")
+    found = lim(library, formula([("Larkspur Sun Base", 20.0, None)], product="face cream"))
+    assert [f.message.split(":")[0] for f in found] == [
+        "HOMOSALATE (70 % of Larkspur Sun Blend, 50 % of Larkspur Sun Base, line 2) 7 %"]
