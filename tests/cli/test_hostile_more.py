@@ -13,8 +13,13 @@ from typing import Any
 import pytest
 from sqlalchemy import select
 
+from formdb.services.checking.flow import FormulaInput, resolve_all
+from formdb.services.library.formula_files import read_formula_file
+from formdb.services.review.runs import used_records
 from formdb.store.db import make_engine
+from formdb.store.library import Library
 from formdb.store.models import ChangeLogEntry
+from formdb.store.queries import load_reference_data
 from tests.helpers import CliResult, dump_database, run_formdb
 
 
@@ -283,3 +288,16 @@ def test_a_blend_inside_a_blend_is_exploded_to_its_substances(seeded_library_url
     assert [f["message"] for f in findings if f["rule"] == "LIM01"] == [
         "Phenoxyethanol 2.25 % is over the 1 % limit for all products (EU Regulation (EC) "
         "No 1223/2009 Annex V, entry V/29)"]
+    # `impact` finds the stored formula through both mixtures, and a review run records the
+    # inner declaration among the records it used (its change makes the run stale)
+    assert run_formdb(["--db", url, "formula", "import", str(formula)]).exit_code == 0
+    impact = run_formdb(["--db", url, "impact", "Phenoxyethanol", "--format", "json"])
+    assert [f["via"] for f in json.loads(impact.stdout)["formulas"]] == [
+        [f"line 2 {outer} (a mixture containing Phenoxyethanol)"]], impact.stdout
+    with Library.open(url) as library, library.read() as session:
+        content, text = read_formula_file(formula)
+        [resolved] = resolve_all(session, [FormulaInput(content, text, str(formula))])
+        used = used_records(resolved, load_reference_data(session))
+    assert {r["key"] for r in used if r["kind"] == "constituent"} == {
+        f"{outer} > {inner}", f"{outer} > Glycerin", f"{inner} > Phenoxyethanol",
+        f"{inner} > Ethylhexylglycerin"}

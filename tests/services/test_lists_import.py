@@ -649,3 +649,35 @@ def test_every_entry_is_nameable(tmp_path: Path, library_url: str) -> None:
     assert checked.exit_code != 2, checked.stderr
     assert "LIM03" in checked.stdout and "EU Annex II/293" in checked.stdout
     assert "Radioactive substances" in checked.stdout
+
+
+@needs_exports
+def test_update_touches_formulas_through_a_blend_inside_a_blend(tmp_path: Path,
+                                                                seeded_sqlite_url: str) -> None:
+    """As above, with the homosalate one mixture deeper: 'Larkspur Sun Base' holds the sun
+    blend at 100 %. Found by hand: the touched formulas were looked up one mixture deep, so
+    this formula was not named."""
+    from formdb.services.library.ingredients import add_ingredient
+    from formdb.services.library.mixtures import Part, declare
+
+    source = "eu-cosing-annex-vi-2025-10-31"
+    with Library.open(seeded_sqlite_url) as library:
+        import_lists(library, [export("VI")], user=TEST_USER)
+        with library.write() as session:
+            for name in ("Larkspur Sun Blend", "Larkspur Sun Base"):
+                add_ingredient(session, name, user=TEST_USER, reason="test")
+            declare(session, "Larkspur Sun Blend",
+                    [Part("Homosalate", 70.0, source),
+                     Part("Caprylic/Capric Triglyceride", 30.0, source)],
+                    user=TEST_USER, reason="test")
+            declare(session, "Larkspur Sun Base", [Part("Larkspur Sun Blend", 100.0, source)],
+                    user=TEST_USER, reason="test")
+    cream = tmp_path / "base-cream.toml"
+    cream.write_text(BLEND_CREAM.replace("Larkspur Sun Blend", "Larkspur Sun Base")
+                     .replace("Larkspur blended sun cream", "Larkspur based sun cream"),
+                     encoding="utf-8")
+    stored = run_formdb(["--db", seeded_sqlite_url, "formula", "import", str(cream)])
+    assert stored.exit_code == 0, stored.stderr
+    with Library.open(seeded_sqlite_url) as library:
+        result = import_lists(library, [_copy(tmp_path, "VI", _newer_vi)], user=TEST_USER)
+    assert result.touched_formulas == ("Larkspur based sun cream: EU Annex VI/3",)

@@ -430,8 +430,15 @@ def _impact(session: Session, changes: Sequence[EntryChange], plans: Sequence[_P
         for n in _formula_names(text):
             record = records.get(name_key(n))
             keys = record_match_keys(record) if record else {name_match(n)}
-            for part in blends.get(name_key(record.inci_name if record else n), ()):
+            todo = list(blends.get(name_key(record.inci_name if record else n), ()))
+            seen: set[str] = set()
+            while todo:  # a constituent that is a declared mixture itself: read in turn
+                part = todo.pop()
                 keys = keys | record_match_keys(part.record)
+                inner = name_key(part.record.inci_name)
+                if inner not in seen:
+                    seen.add(inner)
+                    todo.extend(blends.get(inner, ()))
             for key in keys:
                 found.update(dict.fromkeys(hit.get(key, ())))
         return list(found)

@@ -167,10 +167,22 @@ def _run_findings(run: Mapping[str, Any]) -> list[Any] | None:
 
 # --- the use case -------------------------------------------------------------------------------
 
+def _containing(reference: ReferenceData, target: IngredientRecord) -> set[str]:
+    """Name keys of the mixtures that hold ``target``, directly or through another mixture."""
+    found: set[str] = set()
+    while True:
+        more = {key for key, parts in reference.constituents.items()
+                if key not in found and any(p.record.id == target.id
+                                            or name_key(p.record.inci_name) in found
+                                            for p in parts)}
+        if not more:
+            return found
+        found |= more
+
+
 def _using(session: Session, target: IngredientRecord, reference: ReferenceData,
            ) -> Iterator[tuple[FormulaInput, ResolvedFormula, tuple[str, ...]]]:
-    mixtures = {key for key, parts in reference.constituents.items()
-                if any(p.record.id == target.id for p in parts)}
+    mixtures = _containing(reference, target)
     known: dict[str, IngredientRecord] = {}
     batch: list[FormulaInput] = []
 

@@ -101,10 +101,14 @@ def used_records(formula: ResolvedFormula, reference: ReferenceData) -> list[dic
         out[(kind, key)] = row
 
     ingredients = {ln.ingredient.inci_name: ln.ingredient for ln in formula.lines}
-    for mixture in list(ingredients.values()):
+    todo = list(ingredients.values())
+    while todo:  # a constituent that is a declared mixture itself is recorded in turn
+        mixture = todo.pop()
         parts = reference.constituents.get(name_key(mixture.inci_name), ())
         for part in parts:
-            ingredients.setdefault(part.record.inci_name, part.record)
+            if part.record.inci_name not in ingredients:
+                ingredients[part.record.inci_name] = part.record
+                todo.append(part.record)
             put("constituent", f"{mixture.inci_name} > {part.record.inci_name}",
                 {"percent": part.percent, "source": part.source})
     for name, rec in ingredients.items():
