@@ -153,7 +153,11 @@ def _check_sheet_folder(folder: Path) -> None:
     (the sheets are never written over, and a half-written set is never left)."""
     from formdb.errors import InvalidData
 
-    if not folder.is_dir():
+    try:
+        is_folder = folder.is_dir()
+    except OSError as exc:  # a name too long for the file system
+        raise InvalidData(f"--sheets {folder}: cannot be used ({exc.strerror or exc})") from None
+    if not is_folder:
         raise InvalidData(f"--sheets {folder}: not a folder (create it first)")
     taken = sorted(p.name for p in folder.glob("blend-*.html"))
     if taken:

@@ -43,6 +43,15 @@ def _same_file(a: Path, b: Path) -> bool:
 
 def check_output(path: Path, *, force: bool = False, inputs: Iterable[Path] = ()) -> None:
     """Refuse an output path before any work is done: see the module docstring for the rules."""
+    try:
+        _check_output(path, force=force, inputs=inputs)
+    except OSError as exc:  # a name too long for the file system (is_symlink and exists raise)
+        raise InvalidData(f"{path}: cannot be written ({exc.strerror or exc}); nothing was "
+                          "written.", hint="give a shorter file name or another folder"
+                          ) from None
+
+
+def _check_output(path: Path, *, force: bool, inputs: Iterable[Path]) -> None:
     for source in inputs:
         if _same_file(path, source):
             raise InvalidData(f"{path}: this is a file the command reads; it is never written "

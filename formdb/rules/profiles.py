@@ -198,6 +198,15 @@ def known_profiles() -> tuple[str, ...]:
 
 
 def _locate(spec: str | Path) -> Path:
+    try:
+        return _find(spec)
+    except OSError as exc:  # a name too long for the file system (is_file and is_dir raise)
+        raise ConfigError(f"profile file {spec}: cannot be read ({exc.strerror or exc})",
+                          hint=f"give a path to a TOML file or one of: "
+                               f"{', '.join(known_profiles())}") from None
+
+
+def _find(spec: str | Path) -> Path:
     text = str(spec)
     path = Path(text).expanduser()
     looks_like_path = isinstance(spec, Path) or text.endswith(".toml") or "/" in text \

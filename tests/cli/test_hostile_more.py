@@ -301,3 +301,28 @@ def test_a_blend_inside_a_blend_is_exploded_to_its_substances(seeded_library_url
     assert {r["key"] for r in used if r["kind"] == "constituent"} == {
         f"{outer} > {inner}", f"{outer} > Glycerin", f"{inner} > Phenoxyethanol",
         f"{inner} > Ethylhexylglycerin"}
+
+
+def test_a_path_too_long_for_the_file_system_is_refused(seeded_sqlite_url: str,
+                                                        tmp_path: Path) -> None:
+    """Found by an option fuzz: a file name of 300 characters (over the 255 of most file
+    systems) as --out, an export's FILE, --profile or --sheets ended in 'internal problem
+    (OSError: [Errno 36] File name too long)', exit 70: Path.exists and is_symlink raise it."""
+    url = seeded_sqlite_url
+    formula = _formula(tmp_path / "f.toml")
+    long = str(tmp_path / ("a" * 300))
+    for args in (["check", str(formula), "--out", long],
+                 ["batch", str(formula), "--kg", "1", "--out", f"{long}.csv"],
+                 ["ingredient", "export", f"{long}.csv"],
+                 ["source", "export", f"{long}.xlsx"]):
+        _refused(run_formdb(["--db", url, *args]), "cannot be written (File name too long)")
+    for args in (["check", str(formula), "--profile", f"{long}.toml"],
+                 ["rules", "--profile", long]):
+        _refused(run_formdb(["--db", url, *args]), "cannot be read (File name too long)")
+    planned = run_formdb(["--db", url, "screen", "plan", "larkspur-s1", "--oil",
+                          "Caprylic/Capric Triglyceride=1", "--low", "Sorbitan Oleate",
+                          "--high", "Polysorbate 80", "--from-hlb", "5", "--to-hlb", "15"])
+    assert planned.exit_code == 0, planned.stderr
+    _refused(run_formdb(["--db", url, "screen", "show", "larkspur-s1", "--sheets", long]),
+             "cannot be used (File name too long)")
+    assert sorted(p.name for p in tmp_path.iterdir() if p.name.startswith(".")) == []
