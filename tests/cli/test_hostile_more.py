@@ -326,3 +326,29 @@ def test_a_path_too_long_for_the_file_system_is_refused(seeded_sqlite_url: str,
     _refused(run_formdb(["--db", url, "screen", "show", "larkspur-s1", "--sheets", long]),
              "cannot be used (File name too long)")
     assert sorted(p.name for p in tmp_path.iterdir() if p.name.startswith(".")) == []
+
+
+def test_a_source_is_not_issued_in_the_future(seeded_library_url: str, tmp_path: Path) -> None:
+    """Found by hand: `source add --set issued=2999-01-01` stored a supplier data sheet issued
+    in 2999 (`price add --date` in the future was already refused); a real date that does not
+    exist (2026-02-30) was and is refused."""
+    url = seeded_library_url
+    sds = ["--citation", "Larkspur supplier sheet 12", "--kind", "supplier data sheet",
+           "--set", "supplier=Larkspur Supply", "--set", "document=LS-12"]
+    before = dump_database(url)
+    _refused(run_formdb(["--db", url, "source", "add", "larkspur-sds-12", *sds,
+                         "--set", "issued=2999-01-01"]), "column issued: is in the future")
+    _refused(run_formdb(["--db", url, "source", "add", "larkspur-sds-12", *sds,
+                         "--set", "issued=2026-02-30"]), "column issued")
+    table = tmp_path / "sources.csv"
+    table.write_text("key,citation,kind,supplier,document,issued\n"
+                     "larkspur-sds-12,Larkspur supplier sheet 12,supplier data sheet,"
+                     "Larkspur Supply,LS-12,2999-01-01\n", encoding="utf-8")
+    _refused(run_formdb(["--db", url, "source", "import", str(table)]),
+             "row 2, column issued: is in the future")
+    assert dump_database(url) == before
+    added = run_formdb(["--db", url, "source", "add", "larkspur-sds-12", *sds,
+                        "--set", "issued=2025-06-30"])
+    assert added.exit_code == 0, added.stderr
+    _refused(run_formdb(["--db", url, "source", "edit", "larkspur-sds-12", "--set",
+                         "issued=2999-01-01"]), "column issued: is in the future")

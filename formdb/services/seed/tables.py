@@ -11,7 +11,7 @@ import csv
 import io
 import math
 from collections.abc import Callable, Iterable, Sequence
-from datetime import date
+from datetime import UTC, date, datetime, timedelta
 from pathlib import Path
 from typing import Any, Literal, TypeVar
 
@@ -191,6 +191,15 @@ class SourceRow(_Row):
     @classmethod
     def _kind(cls, value: Any) -> Any:
         return parse_choice(SourceKind, str(value), "kind")
+
+    @field_validator("issued")
+    @classmethod
+    def _issued(cls, value: date | None) -> date | None:
+        # a day of grace: a document issued today east of UTC is dated tomorrow in UTC
+        if value is not None and value > datetime.now(UTC).date() + timedelta(days=1):
+            raise ValueError("is in the future; give the date the document was issued (or the "
+                             "measurement made)")
+        return value
 
     @field_validator("year", mode="before")
     @classmethod
