@@ -47,20 +47,21 @@ def _echo_coloured(report: str, color: bool) -> None:
               help="Also check every formula stored in the library.")
 @click.option("--profile", default="default", show_default=True,
               help="Rule profile: a packaged name (default, strict) or a profile TOML file.")
-@click.option("--format", "fmt", type=click.Choice(REPORT_FORMATS), default="text",
-              show_default=True, help="Report format.")
+@click.option("--format", "fmt", type=click.Choice(REPORT_FORMATS), default=None,
+              help="Report format (default: from --out's extension, .txt, .json, .html or "
+                   ".jsonl, else text).")
 @click.option("--out", type=click.Path(path_type=Path, dir_okay=False),
               help="Write the report to this file and print a one-line summary.")
 @force_option
 @with_library
 def check_cmd(app: AppContext, library: Library, files: tuple[Path, ...], all_stored: bool,
-              profile: str, fmt: str, out: Path | None, force: bool) -> None:
+              profile: str, fmt: str | None, out: Path | None, force: bool) -> None:
     """Check formula FILES (TOML) against the library.
 
     Exit 0: no error finding; 1: at least one; 2: the input could not be checked.
     """
     from formdb.report import ListSnapshot, render
-    from formdb.report.files import check_output, summary_line, write_report
+    from formdb.report.files import check_output, report_format_for, summary_line, write_report
     from formdb.rules.profiles import load_profile
     from formdb.services.checking.flow import check_inputs, iter_check_stored, read_inputs
     from formdb.services.checking.report_context import limit_snapshots
@@ -69,6 +70,7 @@ def check_cmd(app: AppContext, library: Library, files: tuple[Path, ...], all_st
     if not files and not all_stored:
         raise click.UsageError("give one or more formula FILEs, or --all")
     inputs = [*files, Path(profile), *library_files(app)]
+    fmt = report_format_for(out, fmt)
     if out is not None:
         check_output(out, force=force, inputs=inputs)
     items = read_inputs(files)

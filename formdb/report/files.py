@@ -145,6 +145,22 @@ def write_report(path: Path, text: str | bytes, *, force: bool = False,
     write_output(path, text, force=force, inputs=inputs)
 
 
+REPORT_SUFFIXES = {".txt": "text", ".json": "json", ".html": "html", ".htm": "html",
+                   ".jsonl": "jsonl"}
+
+
+def report_format_for(out: Path | None, fmt: str | None) -> str:
+    """A check report's format: the one asked for, else the one --out's name says, else text.
+    A name that says another format (--format text with report.html) is refused rather than
+    given content its name does not promise; a name that says none (report.out) takes the
+    format asked for, or text."""
+    named = REPORT_SUFFIXES.get(out.suffix.lower()) if out is not None else None
+    if fmt is not None and named is not None and named != fmt:
+        raise InvalidData(f"--out {out}: the name says {named}, but --format is {fmt}",
+                          hint="make the file name and --format agree")
+    return fmt or named or "text"
+
+
 def summary_line(results: Sequence[CheckResult], out: Path) -> str:
     """``check --out``: the count of findings and where the report was written."""
     from formdb.report.stream import Tally

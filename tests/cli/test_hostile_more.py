@@ -352,3 +352,29 @@ def test_a_source_is_not_issued_in_the_future(seeded_library_url: str, tmp_path:
     assert added.exit_code == 0, added.stderr
     _refused(run_formdb(["--db", url, "source", "edit", "larkspur-sds-12", "--set",
                          "issued=2999-01-01"]), "column issued: is in the future")
+
+
+# --- a report's format and its file name ------------------------------------------------------
+
+def test_a_check_report_is_what_its_file_name_says(seeded_sqlite_url: str,
+                                                   tmp_path: Path) -> None:
+    """Found by hand: `check f.toml --out report.html` wrote the text report into report.html
+    (and report.json held text), where `batch --out sheet.csv` takes its format from the name.
+    Now the name's extension sets the format when --format is not given, and a name that says
+    another format than --format is refused."""
+    url = seeded_sqlite_url
+    formula = _formula(tmp_path / "f.toml")
+    for name, starts in (("r.html", "<!DOCTYPE html>"), ("r.HTM", "<!DOCTYPE html>"),
+                         ("r.json", "{"), ("r.txt", "─"), ("r.out", "─")):
+        done = run_formdb(["--db", url, "check", str(formula), "--out", str(tmp_path / name)])
+        assert done.exit_code == 0, done.stderr
+        assert (tmp_path / name).read_text(encoding="utf-8").lstrip().startswith(starts), name
+    jsonl = tmp_path / "r.jsonl"
+    assert run_formdb(["--db", url, "check", str(formula), "--out", str(jsonl)]).exit_code == 0
+    assert json.loads(jsonl.read_text(encoding="utf-8").splitlines()[0])
+    _refused(run_formdb(["--db", url, "check", str(formula), "--format", "text", "--out",
+                         str(tmp_path / "s.html")]), "the name says html, but --format is text")
+    assert not (tmp_path / "s.html").exists()
+    same = run_formdb(["--db", url, "check", str(formula), "--format", "json", "--out",
+                       str(tmp_path / "s.report")])
+    assert same.exit_code == 0 and (tmp_path / "s.report").read_text().startswith("{")
