@@ -265,6 +265,8 @@ def test_a_filed_review_goes_stale_when_a_measured_value_would_be_taken(
     (["--blend", "1", "--stability", "11"], "--stability 11: must be from 0 to 10"),
     (["--blend", "1"], "give at least one observation"),
     (["--blend", "1", "--droplet-um", "-2"], "--droplet-um -2"),
+    # a drop has a size: 0 would be the series' finest emulsion
+    (["--blend", "1", "--droplet-um", "0"], "--droplet-um 0: must be from 0.001 to 10000"),
 ])
 def test_bad_observations_are_refused(seeded_library_url: str, args: list[str],
                                       message: str) -> None:

@@ -58,6 +58,7 @@ MEASURES: Mapping[str, tuple[str, bool]] = {
     "separation_percent": ("% of the sample's height as a cream or serum layer", False),
     "droplet_um": ("mean droplet diameter, µm", False),
 }
+DROPLET_MIN_UM = 0.001  # the smallest drop a formula file may state (schemas.formula)
 FIT_METHOD = ("least-squares parabola through the best blend and its neighbours within two "
               "steps; vertex = required HLB; expanded uncertainty (about 95 %) by propagation "
               "of the fit's covariance with Student's t (formdb.science.screening)")
@@ -283,9 +284,11 @@ def record_observations(library: Library, name: str, blend: int, values: Mapping
             raise InvalidData(f"unknown measure {measure!r} (known: {', '.join(MEASURES)})")
         top = 10.0 if measure == "stability" else 100.0 if measure == "separation_percent" \
             else 10000.0
-        if not (math.isfinite(value) and 0 <= value <= top):
-            raise InvalidData(f"--{measure.replace('_', '-')} {value:g}: must be from 0 to "
-                              f"{top:g} ({MEASURES[measure][0]})")
+        # a drop has a size: 0 µm would read as the finest emulsion of the series
+        low = DROPLET_MIN_UM if measure == "droplet_um" else 0.0
+        if not (math.isfinite(value) and low <= value <= top):
+            raise InvalidData(f"--{measure.replace('_', '-')} {value:g}: must be from {low:g} "
+                              f"to {top:g} ({MEASURES[measure][0]})")
     _check_age(after_hours)
     with library.write() as session:
         require(session, user, Action.STORE_FORMULAS)
