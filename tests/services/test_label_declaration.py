@@ -106,3 +106,21 @@ def test_allergens_declared_by_a_mixture_are_named() -> None:
     limonene = result.entries[-1]
     assert limonene.percent == pytest.approx(0.01)
     assert limonene.given_as == ("line 3 (Fragrance): 2 % of 0.5 %",)
+
+
+def test_a_declared_blend_is_declared_as_its_constituents() -> None:
+    # Art. 19(1)(g) lists ingredients, not supplier blends: the invented demo blend "Sodium
+    # Benzoate (and) Potassium Sorbate" (50:50, tests/rules/library.toml) at 0.8 % is declared as
+    # 0.4 % of each; Sodium Benzoate on a line of its own adds up with the blend's share
+    mini = formula("cream", [("Water", 93.0), ("Glycerin", 5.0),
+                             ("Sodium Benzoate (and) Potassium Sorbate", 0.8),
+                             ("Sodium Benzoate", 0.2), ("Fragrance", 1.0)])
+    result = declaration(mini, reference())
+    names = [e.name for e in result.entries]
+    assert "Sodium Benzoate (and) Potassium Sorbate" not in names
+    by_name = {e.name: e for e in result.entries}
+    assert by_name["Sodium Benzoate"].percent == pytest.approx(0.6)
+    assert by_name["Potassium Sorbate"].percent == pytest.approx(0.4)
+    assert by_name["Potassium Sorbate"].given_as == ("Sodium Benzoate (and) Potassium Sorbate",)
+    # a fragrance stays one word on the label, its allergens named beside it
+    assert "Parfum" in names and "Limonene" in names

@@ -3,8 +3,12 @@
 EU order (Regulation (EC) No 1223/2009 Art. 19(1)(g)): ingredients above 1 % in descending
 order of weight, then those at 1 % or less (any order is allowed; formdb keeps descending
 order so the list is reproducible), colourants last. Each name is the library's INCI name (the
-name the EU list expects: a line written "Water" is declared "Aqua"). Allergens above the
-labelling threshold are named (ALG01's table); they are marked in the result.
+name the EU list expects: a line written "Water" is declared "Aqua"). A supplier blend whose
+constituents the library declares is declared as its constituents, each at its share of the
+line (a blend inside a blend in turn; an undeclared rest keeps the blend's name), since the list
+names ingredients, not trade mixtures; a fragrance or flavour stays one word ("parfum",
+"aroma", Art. 19(1)(g)), its allergens above the labelling threshold named (ALG01's table) and
+marked in the result.
 """
 
 from __future__ import annotations
@@ -14,7 +18,7 @@ from pathlib import Path
 from formdb.errors import ConfigError
 from formdb.facts.allergen_table import allergen_table
 from formdb.schemas.formula import ResolvedFormula
-from formdb.schemas.ingredient import name_key
+from formdb.schemas.ingredient import IngredientRecord, name_key
 from formdb.schemas.labels import LabelDeclaration, LabelEntry
 from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import FactsSettings
@@ -36,12 +40,14 @@ def declaration(formula: ResolvedFormula, reference: ReferenceData,
                           hint=f"use one of: {', '.join(JURISDICTIONS)}")
     totals: dict[str, tuple[str, float, bool, list[str]]] = {}
     for ln in formula.lines:
-        ing = ln.ingredient
-        key = name_key(ing.inci_name)
-        name, total, colourant, given = totals.get(key, (ing.inci_name, 0.0, False, []))
-        if ln.given_name not in given:
-            given.append(ln.given_name)
-        totals[key] = (name, total + ln.percent, colourant or ing.has_role(Role.COLOURANT), given)
+        for ing, percent, given_as in _declared(ln.ingredient, ln.percent, ln.given_name,
+                                                reference, frozenset()):
+            key = name_key(ing.inci_name)
+            name, total, colourant, given = totals.get(key, (ing.inci_name, 0.0, False, []))
+            if given_as not in given:
+                given.append(given_as)
+            totals[key] = (name, total + percent, colourant or ing.has_role(Role.COLOURANT),
+                           given)
     table = allergen_table(formula, reference, FactsSettings(label_jurisdiction=jurisdiction))
     named = set(table.must_label) if table else set()
 
@@ -62,6 +68,25 @@ def declaration(formula: ResolvedFormula, reference: ReferenceData,
     return LabelDeclaration(formula=formula.name, category=formula.formula.category.value,
                             jurisdiction=jurisdiction.upper(), entries=tuple(entries),
                             allergens_named=tuple(e.name for e in entries if e.allergen))
+
+
+def _declared(record: IngredientRecord, percent: float, given: str, reference: ReferenceData,
+              inside: frozenset[str]) -> list[tuple[IngredientRecord, float, str]]:
+    """(ingredient, % of the product, the name the formula gave) to declare for one line: a
+    declared blend as its constituents, a fragrance or flavour as itself."""
+    key = name_key(record.inci_name)
+    parts = () if key in inside or record.has_role(Role.FRAGRANCE) \
+        else reference.constituents.get(key, ())
+    if not parts:
+        return [(record, percent, given)]
+    out: list[tuple[IngredientRecord, float, str]] = []
+    for part in parts:
+        out += _declared(part.record, percent * part.percent / 100.0, given, reference,
+                         inside | {key})
+    rest = 100.0 - sum(part.percent for part in parts)
+    if rest > 1e-9:  # what the declaration leaves out stays under the blend's own name
+        out.append((record, percent * rest / 100.0, given))
+    return out
 
 
 def label_file(library: Library, path: Path, jurisdiction: str = "EU") -> LabelDeclaration:
