@@ -300,24 +300,25 @@ def _before_exit() -> None:
 
 def _run(args: list[str]) -> None:
     try:
-        # color=True: click.echo would silently strip a control sequence from the data when the
-        # output is not a terminal; SafeOutput shows it as a visible escape instead
+        # color=True, here and on every error line below: click.echo would silently strip a
+        # control sequence from the data when the output is not a terminal; SafeOutput shows
+        # it as a visible escape instead
         code = cli.main(args=args, prog_name="formdb", standalone_mode=False, color=True)
     except FormdbError as exc:
         if _wants_debug(args):
             traceback.print_exc()
         for line in error_lines(exc):
-            click.echo(line, err=True)
+            click.echo(line, err=True, color=True)
         sys.exit(exc.exit_code)
     except click.exceptions.Abort:
-        click.echo("Error: aborted.", err=True)
+        click.echo("Error: aborted.", err=True, color=True)
         sys.exit(2)
     except click.UsageError as exc:  # a mistyped option or argument: one line, as bad input
         where = exc.ctx.command_path if exc.ctx is not None else "formdb"
         from formdb.report.terminal import one_line
 
         said = one_line(exc.format_message()).rstrip(".")
-        click.echo(f"Error: {said} (see '{where} --help').", err=True)
+        click.echo(f"Error: {said} (see '{where} --help').", err=True, color=True)
         sys.exit(2)
     except click.ClickException as exc:
         exc.show()
@@ -325,7 +326,7 @@ def _run(args: list[str]) -> None:
     except click.exceptions.Exit as exc:
         sys.exit(exc.exit_code)
     except KeyboardInterrupt:
-        click.echo("Error: interrupted.", err=True)
+        click.echo("Error: interrupted.", err=True, color=True)
         sys.exit(2)
     except Exception as exc:  # a bug: still one line unless --debug
         refused = _database_refusal(exc)
@@ -333,13 +334,13 @@ def _run(args: list[str]) -> None:
             if _wants_debug(args):
                 traceback.print_exc()
             for line in error_lines(refused):
-                click.echo(line, err=True)
+                click.echo(line, err=True, color=True)
             sys.exit(refused.exit_code)
         if _wants_debug(args):
             traceback.print_exc()
         from formdb.report.terminal import one_line
 
         click.echo(f"Error: internal problem ({type(exc).__name__}: {one_line(str(exc))}). "
-                   "Next: rerun with --debug and report the traceback.", err=True)
+                   "Next: rerun with --debug and report the traceback.", err=True, color=True)
         sys.exit(EXIT_INTERNAL)
     sys.exit(code if isinstance(code, int) else 0)

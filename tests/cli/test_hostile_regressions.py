@@ -579,6 +579,16 @@ def test_a_control_sequence_piped_out_is_escaped_not_dropped(library_url: str) -
     assert "esc\\u001b[31mred\\u001b[0m end -> plain" in changed.stdout, changed.stdout
 
 
+def test_a_control_sequence_in_an_error_line_is_escaped_not_dropped(library_url: str) -> None:
+    """Found by an engineer: the error line of a name holding a whole ANSI sequence went
+    through click.echo to a stderr that is not a terminal, which stripped it: 'x\x1b[2Jy' was
+    reported as 'xy', a name nobody typed. It now shows as a visible escape."""
+    refused = run_formdb(["--db", library_url, "ingredient", "show", "x\x1b[2Jy"])
+    assert refused.exit_code == 2
+    assert "'x\\u001b[2Jy'" in refused.stderr, refused.stderr
+    assert "\x1b" not in refused.stderr
+
+
 def test_tables_show_every_control_character_and_stay_square(seeded_sqlite_url: str,
                                                             tmp_path: Path) -> None:
     """Found by hand: Rich dropped BEL, vertical tab, form feed and carriage return from a
