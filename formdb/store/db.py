@@ -572,12 +572,25 @@ def translate_failure(exc: BaseException, engine: Engine | None) -> FormdbError 
     if isinstance(exc, OperationalError) and engine is None:
         reason = " ".join(str(exc.orig or exc).split()).rstrip(".")
         return ConfigError(f"the library could not be used: {reason}.",
-                           hint="try again; nothing was changed")
+                           hint=f"{_next_step(reason)}; nothing was changed")
     if isinstance(exc, OperationalError) and engine is not None:
         reason = " ".join(str(exc.orig or exc).split()).rstrip(".")
         return ConfigError(f"the library {display_url(engine.url)} could not be written: "
-                           f"{reason}.", hint="try again; nothing was changed")
+                           f"{reason}.", hint=f"{_next_step(reason)}; nothing was changed")
     return None
+
+
+def _next_step(reason: str) -> str:
+    """What to do about a database failure: waiting helps a busy library, not a read-only file,
+    a full disk or a path that is no SQLite file (a device, say)."""
+    said = reason.casefold()
+    if "readonly" in said or "read-only" in said or "permission" in said:
+        return "ask for write access to the library file and its folder"
+    if "disk i/o" in said or "disk is full" in said or "unable to open" in said \
+            or "not a database" in said:
+        return ("check that --db names a SQLite file (or a new one in a writable folder) on a "
+                "disk with room, or a PostgreSQL URL")
+    return "try again"
 
 
 @contextmanager
