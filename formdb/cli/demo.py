@@ -7,6 +7,7 @@ from pathlib import Path
 import click
 
 from formdb.cli.main import AppContext, force_option
+from formdb.schemas.demo import DemoRun
 
 
 @click.command("demo")
@@ -25,13 +26,21 @@ def demo_cmd(app: AppContext, fmt: str, out: Path | None, keep: Path | None,
     The formulas belong to Larkspur Bench Laboratories, an invented lab; the findings are real
     output of the checker on the bundled seed library. Always exits 0.
     """
-    from formdb.report.demo import INTRO, demo_report, demo_report_files, demo_summary
-    from formdb.report.files import check_output, write_report
-    from formdb.services.checking.demo import run_demo
+    from formdb.services.checking.demo import remove_throwaway, run_demo
     from formdb.store.identity import accept_claim, os_account
 
     # the demo library is a throwaway SQLite file: the operating-system account acts
     demo = run_demo(keep=keep, user=accept_claim(os_account(), app.claimed, "sqlite"))
+    try:
+        _show(demo, app, fmt, out, force)
+    finally:
+        remove_throwaway(demo)
+
+
+def _show(demo: DemoRun, app: AppContext, fmt: str, out: Path | None, force: bool) -> None:
+    from formdb.report.demo import INTRO, demo_report, demo_report_files, demo_summary
+    from formdb.report.files import check_output, write_report
+
     click.echo(INTRO)
     click.echo(demo_report(demo, fmt))
     if out is not None:

@@ -60,7 +60,10 @@ def demo_summary(run: DemoRun) -> str:
             f"  {result.formula}: {_what_it_is(result)}; {counts['error']} error(s), "
             f"{counts['warning']} warning(s), {counts['info']} note(s): {verdict}")
         lines.append(f"      ({purpose})")
-    lines.append(f"Demo library: {run.library} (throwaway; rerun `formdb demo` any time).")
+    lines.append(
+        f"Demo library: {run.library} (kept; `formdb --db {run.library} ...` opens it)."
+        if run.kept else "Demo library: a throwaway file, removed when the demo ends (`formdb "
+        "demo --keep PATH` keeps one to explore; rerun `formdb demo` any time).")
     lines.append("Next: `formdb init --seed` makes your own library here; write a formula file "
                  "as in the README and run `formdb check FILE`.")
     return "\n".join(lines)

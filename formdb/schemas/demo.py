@@ -19,3 +19,4 @@ class DemoRun:
     files: list[Path] = field(default_factory=list)
     purposes: list[str] = field(default_factory=list)
     snapshots: list[tuple[str, str, date]] = field(default_factory=list)
+    kept: bool = False  # --keep: the library stays; otherwise it is removed when the demo ends

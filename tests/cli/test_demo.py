@@ -38,6 +38,25 @@ def test_demo_command_exits_zero_and_prints_every_formula(tmp_path) -> None:
         "screening aid" in result.output.lower()
 
 
+@pytest.mark.slow  # seconds per run: left out of the fast lane
+def test_the_throwaway_library_is_removed_and_a_kept_one_stays(
+        tmp_path, monkeypatch: pytest.MonkeyPatch) -> None:
+    """Each `formdb demo` left its 1.1 MB library in the temporary folder for good."""
+    import tempfile
+
+    scratch = tmp_path / "tmp"
+    scratch.mkdir()
+    monkeypatch.setattr(tempfile, "tempdir", str(scratch))
+    result = CliRunner().invoke(cli, ["demo"])
+    assert result.exit_code == 0, result.output
+    assert "removed when the demo ends" in result.output
+    assert list(scratch.iterdir()) == []
+    kept = tmp_path / "kept.sqlite"
+    result = CliRunner().invoke(cli, ["demo", "--keep", str(kept)])
+    assert result.exit_code == 0, result.output
+    assert kept.is_file() and f"Demo library: {kept} (kept" in result.output
+
+
 def test_demo_names_each_formula_by_its_bundled_file_not_the_install_path(demo) -> None:
     """A reader looks the formula up in the repository; site-packages paths help nobody."""
     assert [r.source for r in demo.results] == [

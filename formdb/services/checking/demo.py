@@ -8,6 +8,7 @@ and an emulsifier pair that misses the oil phase's required HLB.
 
 from __future__ import annotations
 
+import shutil
 import tempfile
 from pathlib import Path
 
@@ -46,15 +47,28 @@ def run_demo(*, keep: Path | None = None, user: str = "demo") -> DemoRun:
     else:
         library = Path(tempfile.mkdtemp(prefix="formdb-demo-")) / "demo-library.sqlite"
     url = str(library)
-    init_library(url, seed=True, user=user)
     paths = demo_formula_paths()
-    with Library.open(url) as opened:
-        import_formulas(opened, paths, user=user, reason="demo formulas of the invented lab")
-        with opened.read():
-            # labelled by their place in the repository, not by where pip installed them
-            results = check_inputs(opened, [
-                input_from_text(p.read_text(encoding="utf-8"), f"seed_data/demo/{p.name}")
-                for p in paths])
-            snapshots = limit_snapshots(opened)
+    try:
+        init_library(url, seed=True, user=user)
+        with Library.open(url) as opened:
+            import_formulas(opened, paths, user=user, reason="demo formulas of the invented lab")
+            with opened.read():
+                # labelled by their place in the repository, not by where pip installed them
+                results = check_inputs(opened, [
+                    input_from_text(p.read_text(encoding="utf-8"), f"seed_data/demo/{p.name}")
+                    for p in paths])
+                snapshots = limit_snapshots(opened)
+    except BaseException:
+        if keep is None:  # a failed demo leaves no library behind either
+            shutil.rmtree(library.parent, ignore_errors=True)
+        raise
     return DemoRun(library=library, results=results, files=paths,
-                   purposes=[formula_purpose(p) for p in paths], snapshots=snapshots)
+                   purposes=[formula_purpose(p) for p in paths], snapshots=snapshots,
+                   kept=keep is not None)
+
+
+def remove_throwaway(run: DemoRun) -> None:
+    """Remove a demo library made in a temporary folder (each run made one more: 1.1 MB left
+    in the temporary folder per `formdb demo`, for good); a kept one stays."""
+    if not run.kept:
+        shutil.rmtree(run.library.parent, ignore_errors=True)
