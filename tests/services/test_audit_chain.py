@@ -10,7 +10,6 @@ from __future__ import annotations
 import hashlib
 import itertools
 import json
-import multiprocessing
 import time
 from datetime import UTC, datetime, timedelta, timezone
 from typing import Any
@@ -34,7 +33,7 @@ from formdb.store.sealing import (
     seal,
 )
 from tests.helpers import drop_roles, run_formdb
-from tests.store.edit_workers import STRESS_NAMES, edit_rounds
+from tests.store.edit_workers import STRESS_NAMES, edit_rounds, edit_workers_context
 
 # --- the hashing on plain data -------------------------------------------------------------------
 
@@ -306,7 +305,7 @@ def test_verify_input_problem_exits_2(tmp_path: Any) -> None:
 def test_concurrent_writers_keep_one_chain(library_url: str) -> None:
     # 3 processes x 8 rounds of edits on shared ingredients: the chain must not fork
     _stock(library_url)
-    ctx = multiprocessing.get_context("spawn")
+    ctx = edit_workers_context()
     start_at = time.time() + 3.0
     with ctx.Pool(3) as pool:
         jobs = [pool.apply_async(edit_rounds, (library_url, w, 8, start_at)) for w in range(3)]

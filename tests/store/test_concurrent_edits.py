@@ -9,7 +9,6 @@ textbook figures (cetyl alcohol ~1, glyceryl stearate 3.8, sorbitan stearate 4.7
 
 from __future__ import annotations
 
-import multiprocessing
 import re
 import sqlite3
 import time
@@ -24,7 +23,13 @@ from formdb.store.change_log import changes_of
 from formdb.store.db import make_engine, unit_of_work
 from formdb.store.models import ChangeLogEntry, Ingredient, PropertyValue
 from tests.helpers import dump_database, run_formdb
-from tests.store.edit_workers import STRESS_NAMES, Attempt, edit_rounds, user_of
+from tests.store.edit_workers import (
+    STRESS_NAMES,
+    Attempt,
+    edit_rounds,
+    edit_workers_context,
+    user_of,
+)
 
 pytestmark = pytest.mark.slow  # left out of the fast lane
 
@@ -46,7 +51,7 @@ def _stock(url: str) -> None:
 
 
 def _run_workers(url: str) -> list[Attempt]:
-    ctx = multiprocessing.get_context("spawn")
+    ctx = edit_workers_context()
     start_at = time.time() + 3.0  # time for the interpreters to start
     with ctx.Pool(PROCESSES) as pool:
         jobs = [pool.apply_async(edit_rounds, (url, w, ROUNDS, start_at))
