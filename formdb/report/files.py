@@ -153,9 +153,10 @@ def report_format_for(out: Path | None, fmt: str | None) -> str:
     """A check report's format: the one asked for, else the one --out's name says, else text.
     A name that says another format (--format text with report.html) is refused rather than
     given content its name does not promise; a name that says none (report.out) takes the
-    format asked for, or text."""
+    format asked for, or text. JSON and HTML are text too, so report.txt takes any format
+    asked for."""
     named = REPORT_SUFFIXES.get(out.suffix.lower()) if out is not None else None
-    if fmt is not None and named is not None and named != fmt:
+    if fmt is not None and named not in (None, "text", fmt):
         raise InvalidData(f"--out {out}: the name says {named}, but --format is {fmt}",
                           hint="make the file name and --format agree")
     return fmt or named or "text"

@@ -378,3 +378,7 @@ def test_a_check_report_is_what_its_file_name_says(seeded_sqlite_url: str,
     same = run_formdb(["--db", url, "check", str(formula), "--format", "json", "--out",
                        str(tmp_path / "s.report")])
     assert same.exit_code == 0 and (tmp_path / "s.report").read_text().startswith("{")
+    # JSON is text: a .txt name takes the format asked for, as a name that says none does
+    as_text = run_formdb(["--db", url, "check", str(formula), "--format", "json", "--out",
+                          str(tmp_path / "s.txt")])
+    assert as_text.exit_code == 0 and (tmp_path / "s.txt").read_text().startswith("{")
