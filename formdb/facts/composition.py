@@ -9,6 +9,7 @@ sums of one substance over several lines and mixtures can be shown.
 
 from __future__ import annotations
 
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass, field
 
 from formdb.schemas.formula import ResolvedFormula, ResolvedLine
@@ -24,38 +25,72 @@ class Substance:
     purposes: set[str | None] = field(default_factory=set)
 
 
+@dataclass(frozen=True)
+class Step:
+    """One step into a mixture: ``part`` is ``share`` % of a mixture present at ``of_percent``
+    % of the product."""
+
+    part: IngredientRecord
+    share: float
+    of_percent: float
+
+
+@dataclass(frozen=True)
+class Piece:
+    """What one line holds of one substance: ``percent`` of the product, reached through
+    ``steps`` from the line's own ingredient; ``rest`` is the % a mixture's declaration leaves
+    undeclared, when this piece is that rest (``record`` is then the mixture)."""
+
+    record: IngredientRecord
+    percent: float
+    steps: tuple[Step, ...] = ()
+    rest: float | None = None
+
+
+def pieces(record: IngredientRecord, percent: float, reference: ReferenceData,
+           whole: Callable[[IngredientRecord], bool] | None = None) -> Iterator[Piece]:
+    """``record`` at ``percent`` of the product as its declared constituents, a constituent
+    that is a declared mixture itself in turn, what a declaration leaves undeclared as the
+    mixture's rest; ``whole`` names the mixtures to keep as they are (a label's fragrance)."""
+
+    def explode(record: IngredientRecord, percent: float, steps: tuple[Step, ...],
+                inside: frozenset[str]) -> Iterator[Piece]:
+        key = name_key(record.inci_name)
+        # ``inside``: the mixtures being exploded, so a cycle (declarations refuse one; a
+        # restored or hand-edited library might hold one) ends at the repeated mixture
+        parts = () if key in inside or (whole is not None and whole(record)) \
+            else reference.constituents.get(key, ())
+        if not parts:
+            yield Piece(record, percent, steps)
+            return
+        declared = 0.0
+        for part in parts:
+            declared += part.percent
+            yield from explode(part.record, percent * part.percent / 100.0,
+                               (*steps, Step(part.record, part.percent, percent)),
+                               inside | {key})
+        rest = max(0.0, 100.0 - declared)
+        if rest > 1e-9:
+            yield Piece(record, percent * rest / 100.0, steps, rest)
+
+    return explode(record, percent, (), frozenset())
+
+
 def substances(formula: ResolvedFormula, reference: ReferenceData) -> dict[str, Substance]:
     """name key -> the substance with its total % and where it comes from."""
     out: dict[str, Substance] = {}
-
-    def add(record: IngredientRecord, percent: float, source: str,
-            purpose: str | None = None) -> None:
-        item = out.setdefault(name_key(record.inci_name), Substance(record))
-        item.percent += percent
-        item.sources.append(source)
-        item.purposes.add(purpose)
-
-    def explode(record: IngredientRecord, percent: float, where: str, purpose: str | None,
-                inside: frozenset[str]) -> None:
-        key = name_key(record.inci_name)
-        parts = () if key in inside else reference.constituents.get(key, ())
-        if not parts:
-            add(record, percent, where, purpose)
-            return
-        declared = 0.0
-        for part in parts:  # a constituent may be a declared mixture itself: exploded in turn
-            declared += part.percent
-            explode(part.record, percent * part.percent / 100.0,
-                    f"{where}: {part.percent:g} % of {percent:g} %", None, inside | {key})
-        rest = max(0.0, 100.0 - declared)
-        if rest > 1e-9:
-            add(record, percent * rest / 100.0, f"{where}: undeclared {rest:g} %")
-
     for ln in formula.lines:
-        # ``inside``: the mixtures being exploded, so a cycle (declarations refuse one; a
-        # restored or hand-edited library might hold one) ends at the repeated mixture
-        explode(ln.ingredient, ln.percent, f"line {ln.line_no} ({ln.given_name})", ln.purpose,
-                frozenset())
+        for piece in pieces(ln.ingredient, ln.percent, reference):
+            where = f"line {ln.line_no} ({ln.given_name})"
+            for step in piece.steps:
+                where = f"{where}: {step.share:g} % of {step.of_percent:g} %"
+            if piece.rest is not None:
+                where = f"{where}: undeclared {piece.rest:g} %"
+            item = out.setdefault(name_key(piece.record.inci_name), Substance(piece.record))
+            item.percent += piece.percent
+            item.sources.append(where)
+            # the line's purpose is its own ingredient's, not its constituents'
+            item.purposes.add(ln.purpose if not piece.steps and piece.rest is None else None)
     return out
 
 

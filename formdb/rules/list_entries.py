@@ -15,6 +15,7 @@ from dataclasses import dataclass, field
 from functools import lru_cache
 from typing import Any, ClassVar
 
+from formdb.facts.composition import pieces
 from formdb.rules.base import Rule
 from formdb.rules.registry import register
 from formdb.rules.scoping import line_purpose, parts_for, purpose_fits, why
@@ -78,27 +79,16 @@ def _items(formula: ResolvedFormula, reference: ReferenceData) -> list[Item]:
     if not reference.list_entries:
         return []
     out: list[Item] = []
-
-    def explode(record: IngredientRecord, percent: float, line: ResolvedLine, label: str,
-                chain: str, inside: frozenset[str]) -> None:
-        """``record`` at ``percent`` of the product, its declared constituents in its place
-        (one that is a mixture itself in turn; ``inside`` ends a cycle); ``chain`` says where
-        it sits ('Blend B, line 2')."""
-        key = _key(record.inci_name)
-        parts = () if key in inside else reference.constituents.get(key, ())
-        declared = 0.0
-        for part in parts:
-            declared += part.percent
-            explode(part.record, percent * part.percent / 100.0, line,
-                    f"{part.record.inci_name} ({part.percent:g} % of {chain})",
-                    f"{part.record.inci_name}, {part.percent:g} % of {chain}", inside | {key})
-        if not parts or declared < 100.0 - 1e-9:
-            share = 1.0 if not parts else (100.0 - declared) / 100.0
-            out.append(Item(record, percent * share, line, label))
-
     for line in formula.lines:
-        explode(line.ingredient, line.percent, line, f"{line.inci} (line {line.line_no})",
-                f"{line.inci}, line {line.line_no}", frozenset())
+        for piece in pieces(line.ingredient, line.percent, reference):
+            # the label says where the substance sits ('Blend A (20 % of Blend B, 50 % of
+            # Base, line 2)'); the undeclared rest of a mixture keeps the mixture's label
+            label, chain = f"{line.inci} (line {line.line_no})", f"{line.inci}, line {line.line_no}"
+            for step in piece.steps:
+                name = step.part.inci_name
+                label = f"{name} ({step.share:g} % of {chain})"
+                chain = f"{name}, {step.share:g} % of {chain}"
+            out.append(Item(piece.record, piece.percent, line, label))
     exports = {(s.jurisdiction, s.annex): s for s in reference.lists}
     for item in out:
         item.entries = reference.list_entries.get(_key(item.record.inci_name), ())

@@ -17,6 +17,7 @@ from pathlib import Path
 
 from formdb.errors import ConfigError
 from formdb.facts.allergen_table import allergen_table
+from formdb.facts.composition import pieces
 from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.ingredient import IngredientRecord, name_key
 from formdb.schemas.labels import LabelDeclaration, LabelEntry
@@ -40,14 +41,14 @@ def declaration(formula: ResolvedFormula, reference: ReferenceData,
                           hint=f"use one of: {', '.join(JURISDICTIONS)}")
     totals: dict[str, tuple[str, float, bool, list[str]]] = {}
     for ln in formula.lines:
-        for ing, percent, given_as in _declared(ln.ingredient, ln.percent, ln.given_name,
-                                                reference, frozenset()):
+        for piece in pieces(ln.ingredient, ln.percent, reference, whole=_one_word):
+            ing = piece.record
             key = name_key(ing.inci_name)
             name, total, colourant, given = totals.get(key, (ing.inci_name, 0.0, False, []))
-            if given_as not in given:
-                given.append(given_as)
-            totals[key] = (name, total + percent, colourant or ing.has_role(Role.COLOURANT),
-                           given)
+            if ln.given_name not in given:
+                given.append(ln.given_name)
+            totals[key] = (name, total + piece.percent,
+                           colourant or ing.has_role(Role.COLOURANT), given)
     table = allergen_table(formula, reference, FactsSettings(label_jurisdiction=jurisdiction))
     named = set(table.must_label) if table else set()
 
@@ -70,23 +71,9 @@ def declaration(formula: ResolvedFormula, reference: ReferenceData,
                             allergens_named=tuple(e.name for e in entries if e.allergen))
 
 
-def _declared(record: IngredientRecord, percent: float, given: str, reference: ReferenceData,
-              inside: frozenset[str]) -> list[tuple[IngredientRecord, float, str]]:
-    """(ingredient, % of the product, the name the formula gave) to declare for one line: a
-    declared blend as its constituents, a fragrance or flavour as itself."""
-    key = name_key(record.inci_name)
-    parts = () if key in inside or record.has_role(Role.FRAGRANCE) \
-        else reference.constituents.get(key, ())
-    if not parts:
-        return [(record, percent, given)]
-    out: list[tuple[IngredientRecord, float, str]] = []
-    for part in parts:
-        out += _declared(part.record, percent * part.percent / 100.0, given, reference,
-                         inside | {key})
-    rest = 100.0 - sum(part.percent for part in parts)
-    if rest > 1e-9:  # what the declaration leaves out stays under the blend's own name
-        out.append((record, percent * rest / 100.0, given))
-    return out
+def _one_word(record: IngredientRecord) -> bool:
+    """A fragrance or flavour is declared as one word, its allergens beside it."""
+    return record.has_role(Role.FRAGRANCE)
 
 
 def label_file(library: Library, path: Path, jurisdiction: str = "EU") -> LabelDeclaration:
