@@ -9,7 +9,7 @@ entry), "as acid" conversion of salts by molar mass, sums over groups, and max 0
 from __future__ import annotations
 
 from collections.abc import Iterable, Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from functools import lru_cache
 from typing import Any, ClassVar
 
@@ -261,9 +261,8 @@ def ph_conditions(formula: ResolvedFormula, reference: ReferenceData,
     for cond in out:  # one entry's part named by several lines: one condition on them all
         key = (cond.where, cond.words)
         if key in merged:
-            cond = PhCondition(cond.where, cond.words, cond.ph_min, cond.ph_max,
-                               merged[key].applies if merged[key].applies else cond.applies,
-                               merged[key].substances | cond.substances, cond.seed_row)
+            cond = replace(cond, applies=merged[key].applies or cond.applies,
+                           substances=merged[key].substances | cond.substances)
         merged[key] = cond
     return list(merged.values())
 

@@ -102,8 +102,6 @@ SPECIAL_SOURCES: dict[str, tuple[str, str]] = {
                     "Recalled from memory; check a published source before relying on it."),
 }
 _CHUNK = 500
-
-
 _BULK_CHUNK = 1000  # new ingredients per bulk insert
 
 

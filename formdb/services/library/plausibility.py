@@ -13,7 +13,7 @@ while a real oddity can still be recorded. Each check is a rule of thumb and say
   substance the lists prohibit (seed limits and the list snapshots in force);
 - a CAS number that the lists (or another library ingredient) give to a different substance;
 - a name that differs from another ingredient's name only by case, spacing, punctuation or
-  look-alike characters (formdb.schemas.lookalike);
+  look-alike characters (formdb.schemas.lookalike).
 
 ``weaker_evidence`` is not a refusal but a note: a value whose source the library has checked
 (published, supplier, measured, estimated, by definition) that comes to rest on an unchecked one
