@@ -93,4 +93,5 @@ def recognise(formula: ResolvedFormula, lines: list[LineFacts],
                          reason=f"ionic or amphoteric surfactants {surfactant:.4g} % outweigh "
                                 f"the oil content {oil:.4g} %")
     return KindFacts(kind="emulsion", source="recognised",
-                     reason=f"oil content {oil:.4g} % and water phase {water:.4g} %")
+                     reason=f"oil content {oil:.4g} % and water phase {water:.4g} % w/w, "
+                            "emulsifiers apart")
