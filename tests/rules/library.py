@@ -30,7 +30,7 @@ from formdb.schemas.reference import (
 )
 
 HERE = Path(__file__).resolve().parent
-_RECORD_KEYS = {"inci", "synonyms", "roles", "classes", "evidence"}
+_RECORD_KEYS = {"inci", "synonyms", "roles", "classes", "evidence", "retired"}
 
 
 @lru_cache(maxsize=1)
@@ -47,7 +47,7 @@ def ingredients() -> dict[str, IngredientRecord]:
         record = IngredientRecord(
             id=number, inci_name=row["inci"], synonyms=tuple(row.get("synonyms", ())),
             roles=frozenset(row.get("roles", ())), classes=frozenset(row.get("classes", ())),
-            properties=props, provenance={
+            retired=row.get("retired", False), properties=props, provenance={
                 prop: Provenance(source=f"fixture-{kind.replace(' ', '-')}", evidence=kind)
                 for prop, kind in row.get("evidence", {}).items()})
         for name in (record.inci_name, *record.synonyms):
