@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import re
+import shlex
 from collections.abc import Iterable, Mapping
 from typing import Any
 
@@ -73,7 +74,7 @@ class UndeclaredBlend(Rule):
             seen.add(name_key(name))
             percent = sum(ln.percent for ln in formula.lines
                           if name_key(ln.ingredient.inci_name) == name_key(name))
-            parts = " ".join(f'--part "{m}=PERCENT"' for m in members)
+            parts = " ".join(f"--part {shlex.quote(f'{m}=PERCENT')}" for m in members)
             yield self.finding(
                 self.default_severity,
                 f"{name} ({percent:g} %) reads as a blend of {', '.join(members)}, but the "
@@ -82,6 +83,6 @@ class UndeclaredBlend(Rule):
                 "checked",
                 ingredients=[name], values={"members": "; ".join(members), "percent": percent},
                 advice=(f'declare its composition from the supplier\'s specification: formdb '
-                        f'mixture set "{name}" {parts} --source SOURCE (the percentages are the '
-                        "supplier's; they must add up to 100, or use --partial), then check "
-                        "again"))
+                        f"mixture set {shlex.quote(name)} {parts} --source SOURCE (the "
+                        "percentages are the supplier's; they must add up to 100, or use "
+                        "--partial), then check again"))

@@ -6,6 +6,7 @@ blend with ethylhexylglycerin (invented proportions of the demo lab) is 1.08 %, 
 from __future__ import annotations
 
 import json
+import shlex
 from pathlib import Path
 
 import pytest
@@ -47,9 +48,13 @@ def test_a_blend_without_constituents_is_said_and_declaring_them_checks_the_memb
     assert mix["severity"] == "warning" and mix["ingredients"] == [BLEND]
     assert "constituents were not checked" in str(mix["message"])
     assert not [f for f in before if f["rule"] == "LIM01"]  # the member's limit went unseen
-    declared = run_formdb(["--db", url, "mixture", "set", BLEND,
-                           "--part", "Phenoxyethanol=90", "--part", "Ethylhexylglycerin=10",
-                           "--source", "rule-of-thumb", "--reason", "supplier specification"])
+    # the advice's command, run as written (shell-quoted), with the supplier's figures filled in
+    command = str(mix["advice"]).split("formdb ", 1)[1].split(" (the percentages", 1)[0]
+    words = [w.replace("Phenoxyethanol=PERCENT", "Phenoxyethanol=90")
+              .replace("Ethylhexylglycerin=PERCENT", "Ethylhexylglycerin=10")
+              .replace("SOURCE", "rule-of-thumb") for w in shlex.split(command)]
+    assert words[:3] == ["mixture", "set", BLEND]
+    declared = run_formdb(["--db", url, *words, "--reason", "supplier specification"])
     assert declared.exit_code == 0, declared.stderr
     after = _findings(url, formula)
     assert not [f for f in after if f["rule"] == "MIX01"]
