@@ -117,6 +117,20 @@ def _record(reference: ReferenceData, formula: ResolvedFormula,
     return None
 
 
+# salts whose cation carries two or three charges hold two or three anions of the acid in one
+# formula unit (calcium sorbate Ca(C6H7O2)2): the acid they stand for is n x M(acid) per M(salt)
+_MULTIVALENT = {"calcium": 2, "magnesium": 2, "zinc": 2, "barium": 2, "strontium": 2,
+                "copper": 2, "aluminum": 3, "aluminium": 3}
+
+
+def acid_units(inci: str) -> int:
+    """How many units of the parent acid one formula unit of a salt named ``inci`` holds: 2 for a
+    calcium, magnesium or zinc salt, 3 for an aluminium salt, else 1 (sodium, potassium,
+    ammonium and amine salts, esters, the acid itself)."""
+    words = inci.casefold().replace("-", " ").split()
+    return _MULTIVALENT.get(words[0], 1) if words else 1
+
+
 @dataclass(frozen=True)
 class _Amount:
     """One line's amount on the row's basis; ``factor`` None when it cannot be converted."""
@@ -142,7 +156,7 @@ def _amount(row: LimitRecord, line: ResolvedLine, reference: ReferenceData,
     if salt_mass is None or acid_mass is None:
         missing = [n for n, m in ((line.inci, salt_mass), (row.acid_inci, acid_mass)) if m is None]
         return _Amount(line, None, tuple(missing))
-    return _Amount(line, acid_mass / salt_mass)
+    return _Amount(line, acid_units(line.ingredient.inci_name) * acid_mass / salt_mass)
 
 
 def purpose_fits(row_purpose: str, purpose: str | None) -> bool | None:

@@ -17,8 +17,9 @@ from typing import Any, ClassVar
 
 from formdb.facts.composition import pieces
 from formdb.rules.base import Rule
+from formdb.rules.limits import acid_units
 from formdb.rules.registry import register
-from formdb.rules.scoping import line_purpose, parts_for, purpose_fits, why
+from formdb.rules.scoping import line_purpose, parts_for, purpose_fits, scope_fits, why
 from formdb.schemas.findings import Finding
 from formdb.schemas.formula import ResolvedFormula, ResolvedLine
 from formdb.schemas.ingredient import IngredientRecord, name_key
@@ -97,20 +98,22 @@ def _items(formula: ResolvedFormula, reference: ReferenceData) -> list[Item]:
 
 
 def acid_factor(entry: ListEntry, item: Item, reference: ReferenceData) -> float | None:
-    """M(acid) / M(ingredient) for a part limited "as acid"; 1 for the acid itself; None when a
-    molar mass is missing. The acid is the entry's name with "acid" in it, else the parent acid
-    the seed's hand-written row of the same entry names."""
+    """n x M(acid) / M(ingredient) for a part limited "as acid" (n acid units in one formula of
+    the salt: 2 in calcium sorbate); 1 for the acid itself; None when a molar mass is missing.
+    The acid is the entry's name with "acid" in it, else the parent acid the seed's hand-written
+    row of the same entry names."""
     if "acid" in item.record.inci_name.casefold():
         return 1.0
     wanted = [n for n in entry.inci_names if "acid" in n.casefold()]
     wanted += [r.acid_inci for r in reference.limits
                if r.acid_inci and r.entry.replace(" ", "") == f"{entry.annex}/{entry.ref}"]
     acids = {name_key(k): v for k, v in reference.acids.items()}
+    units = acid_units(item.record.inci_name)
     for name in wanted:
         acid = acids.get(name_key(name))
         mass, acid_mass = item.record.p.molar_mass, acid.p.molar_mass if acid else None
         if mass and acid_mass:
-            return acid_mass / mass
+            return units * acid_mass / mass
     return None
 
 
@@ -139,16 +142,48 @@ def _totalled(items: list[Item]) -> list[Item]:
     return out
 
 
-def _amount(part: Part, item: Item, members: list[Item], entry: ListEntry,
-            reference: ReferenceData) -> tuple[float, bool]:
-    """(amount on the part's basis, converted): the item, or the group for a "sum" part."""
-    group = members if part.aggregate == "sum" else [item]
+def _group(part: Part, item: Item, members: list[Item], entry: ListEntry) -> list[Item]:
+    """The items a part's maximum is for: the item alone where the text says the maximum is for
+    a single substance, else every item of the entry for a use the entry covers (one entry, one
+    maximum: benzoic acid with sodium benzoate, V/1); every use where the text says its levels
+    include any use (III/98)."""
+    if part.aggregate == "single":
+        return [item]
+    group = [m for m in members if m is item or part.all_uses
+             or purpose_fits(entry, line_purpose(m.line, m.record)[0]) is not False]
+    return group if item in group else [item, *group]
+
+
+def _amount(part: Part, group: list[Item], entry: ListEntry, reference: ReferenceData
+            ) -> tuple[float, bool]:
+    """(amount of ``group`` on the part's basis, converted)."""
     if part.basis != "as acid":
         return sum(m.percent for m in group), True
     factors = [acid_factor(entry, m, reference) for m in group]
     if any(f is None for f in factors):
         return sum(m.percent for m in group), False
     return sum(m.percent * (f or 1.0) for m, f in zip(group, factors, strict=True)), True
+
+
+def _number(amount: float, limit: float | None) -> str:
+    """The amount in four figures, or more where four would print it equal to the limit it is
+    over (0.500007 % is over 0.5 %)."""
+    text = f"{amount:.4g}"
+    if limit is not None and amount > limit + _EPS and float(text) <= limit:
+        text = f"{amount:.7g}"
+    return text
+
+
+def _excluded(part: Part, item: Item, formula: ResolvedFormula) -> str | None:
+    """The words of the part's text that rule the formula's product out for this substance
+    ("Not to be used in oral products"), or None (also where the product is not named)."""
+    names = {name_key(n) for n in (item.record.inci_name, *item.record.synonyms)}
+    for exclusion in part.exclusions:
+        if exclusion.substance and name_key(exclusion.substance) not in names:
+            continue  # said of another substance of the entry (its own paragraph)
+        if scope_fits(exclusion.scope, formula, None) is True:
+            return exclusion.words
+    return None
 
 
 def _part_verdict(part: Part, amount: float, converted: bool, formula: ResolvedFormula
@@ -161,11 +196,12 @@ def _part_verdict(part: Part, amount: float, converted: bool, formula: ResolvedF
     words += ")"
     ph = formula.formula.ph
     basis = f" {part.basis}" if part.basis and converted else ""
+    figure = _number(amount, part.max_percent)
     if part.max_percent is not None and amount > part.max_percent + _EPS:
         if not converted or (part.basis and part.basis != "as acid"):
-            return OPEN, (f"{words}: {amount:.4g} % as-is is over; {part.basis} it may be less "
+            return OPEN, (f"{words}: {figure} % as-is is over; {part.basis} it may be less "
                           "(no molar mass to convert: confirm by hand)")
-        return OVER, f"{words}: {amount:.4g} %{basis} is over"
+        return OVER, f"{words}: {figure} %{basis} is over"
     if part.ph_max is not None or part.ph_min is not None:
         if ph is None:
             return OPEN, f"{words}: pH limit {_ph(part)}; the formula states no pH"
@@ -173,7 +209,7 @@ def _part_verdict(part: Part, amount: float, converted: bool, formula: ResolvedF
                 (part.ph_min is not None and ph < part.ph_min - _EPS):
             return OVER, f"{words}: pH {ph:g} is outside {_ph(part)}"
     rest = " (part of its text is not structured: see LIM04)" if part.unparsed else ""
-    return OK, f"{words}: {amount:.4g} %{basis} is within{rest}"
+    return OK, f"{words}: {figure} %{basis} is within{rest}"
 
 
 def _ph(part: Part) -> str:
@@ -181,6 +217,45 @@ def _ph(part: Part) -> str:
         return f"pH {part.ph_min:g} to {part.ph_max:g}" if part.ph_max is not None \
             else f"pH at least {part.ph_min:g}"
     return f"up to pH {part.ph_max:g}"
+
+
+def _verdict(part: Part, item: Item, members: list[Item], entry: ListEntry,
+             formula: ResolvedFormula, reference: ReferenceData) -> tuple[str, str]:
+    """(status, words) of one part for an item: a product the part's text rules out, else the
+    amount of the entry's substances present against the maximum (and the pH)."""
+    banned = _excluded(part, item, formula)
+    if banned is not None:
+        return NOT_ALLOWED, (f"{part.name} ({part.scope.text or 'all products'}): \"{banned}\" "
+                             f"(product {formula.formula.product!r})")
+    group = _group(part, item, members, entry)
+    amount, converted = _amount(part, group, entry, reference)
+    status, words = _part_verdict(part, amount, converted, formula)
+    if len(group) > 1:
+        words += " (together: " + " + ".join(f"{m.label} {m.percent:.4g} %" for m in group) + ")"
+        # a sum the text states (or implies: the acid and its salts as acid, levels inclusive
+        # of any use) is the maximum's own; otherwise several substances of one entry over only
+        # together is for a person to confirm
+        decisive = part.aggregate == "sum" or part.basis == "as acid" or part.all_uses
+        if status == OVER and not decisive:
+            alone, alone_converted = _amount(part, [item], entry, reference)
+            if _part_verdict(part, alone, alone_converted, formula)[0] != OVER:
+                status = OPEN
+                words += ("; over only together: confirm by hand whether the entry's maximum is "
+                          "for its substances together")
+    if status == OK and part.mixture_max is not None:
+        mixture = [m for m in members if m is item or
+                   purpose_fits(entry, line_purpose(m.line, m.record)[0]) is not False]
+        total, converted = _amount(part, mixture, entry, reference)
+        if len(mixture) > 1 and total > part.mixture_max + _EPS:
+            status = OVER if converted else OPEN
+            basis = f" {part.basis}" if part.basis and converted else " as-is"
+            words += ("; but the mixture, " + " + ".join(f"{m.label} {m.percent:.4g} %"
+                                                         for m in mixture)
+                      + f" = {_number(total, part.mixture_max)} %{basis}, is over its "
+                      f"{part.mixture_max:g} % for mixtures"
+                      + ("" if converted else f" ({part.basis} it may be less: no molar mass "
+                         "to convert, confirm by hand)"))
+    return status, words
 
 
 def judge(entry: ListEntry, item: Item, members: list[Item], formula: ResolvedFormula,
@@ -198,8 +273,7 @@ def judge(entry: ListEntry, item: Item, members: list[Item], formula: ResolvedFo
     parts: list[tuple[Part, bool | None, str]] = []
     statuses = set()
     for fit in candidates:
-        amount, converted = _amount(fit.part, item, members, entry, reference)
-        status, words = _part_verdict(fit.part, amount, converted, formula)
+        status, words = _verdict(fit.part, item, members, entry, formula, reference)
         parts.append((fit.part, fit.fits, words))
         statuses.add(status)
     definite = len(candidates) == 1 and candidates[0].fits is True
@@ -280,7 +354,11 @@ class ListEntryLimits(Rule):
         outcomes: dict[str, list[Outcome]] = {}
         for entry in item.entries:
             if entry.annex == "II":
-                yield self._prohibited(entry, item, item.entries)
+                yield self._prohibited(entry, item, item.entries, formula, purpose,
+                                       purpose_from)
+                continue
+            if (colorant := _colorant_entry(entry, item, formula, purpose)) is not None:
+                yield self._as_colorant(entry, colorant, item, because)
                 continue
             for reading in readings:
                 if purpose_fits(entry, reading) is False:
@@ -290,7 +368,7 @@ class ListEntryLimits(Rule):
         bad_in = {r: any(o.status in (OVER, NOT_ALLOWED) for os in outcomes.values()
                          for o in os if o.reading == r) for r in readings}
         for entry in item.entries:
-            if entry.annex == "II":
+            if entry.annex == "II" or _colorant_entry(entry, item, formula, purpose) is not None:
                 continue
             judged = outcomes.get(entry.label)
             if not judged:
@@ -298,8 +376,21 @@ class ListEntryLimits(Rule):
                 continue
             yield self._finding(entry, item, judged, readings, bad_in, because, outcomes)
 
-    def _prohibited(self, entry: ListEntry, item: Item, entries: tuple[ListEntry, ...]
+    def _as_colorant(self, entry: ListEntry, colorant: ListEntry, item: Item, because: str
+                     ) -> Finding:
+        return self.finding(
+            Severity.INFO,
+            f"{item.label}: {entry.title} covers its use as a hair dye substance only, and the "
+            f"product is no hair dye ({because}); as a colorant {colorant.title} applies, "
+            "judged in its own finding", ingredients=[item.line.inci],
+            values=_values(entry, item),
+            advice=f"follow the finding of {colorant.title}")
+
+    def _prohibited(self, entry: ListEntry, item: Item, entries: tuple[ListEntry, ...],
+                    formula: ResolvedFormula, purpose: str | None, purpose_from: str
                     ) -> Finding:
+        if entry.only_when:
+            return self._prohibited_in_one_use(entry, item, formula, purpose, purpose_from)
         if entry.exception:
             named = excepted_entries(entry.exception)
             allowing = [e for e in entries if e.annex != "II"]
@@ -336,6 +427,34 @@ class ListEntryLimits(Rule):
             f"{entry.regulation}; not allowed at any concentration",
             ingredients=[item.line.inci], values=_values(entry, item),
             advice=f"remove {item.record.inci_name}")
+
+    def _prohibited_in_one_use(self, entry: ListEntry, item: Item, formula: ResolvedFormula,
+                               purpose: str | None, purpose_from: str) -> Finding:
+        """An Annex II entry that prohibits the substance in one use (a hair dye substance, a
+        fragrance ingredient): an error in that use, nothing to do in another, a question where
+        the formula does not say."""
+        scope = entry.only_when_scope
+        fits = None if scope is None else scope_fits(scope, formula, purpose)
+        because = why(formula, purpose, purpose_from)
+        head = f"{item.label} is prohibited in cosmetic products {entry.only_when}: " \
+               f"{entry.title}, {entry.regulation}"
+        values = _values(entry, item)
+        if fits is True:
+            return self.finding(
+                Severity.ERROR, f"{head}; this is that use ({because}); not allowed at any "
+                "concentration", ingredients=[item.line.inci], values=values,
+                advice=f"remove {item.record.inci_name}")
+        if fits is False:
+            return self.finding(
+                Severity.INFO, f"{head}; this is another use ({because}): the prohibition "
+                "does not apply", ingredients=[item.line.inci], values=values,
+                advice="nothing to do while the product and the line's purpose stay as they are")
+        asked = "the line's purpose (purpose = ...)" if scope is not None and scope.purposes \
+            else "the product (product = ...)"
+        return self.finding(
+            Severity.WARNING, f"{head}; the formula does not say whether this is that use "
+            f"({because})", ingredients=[item.line.inci], values=values,
+            advice=f"state {asked}, or confirm by hand that the product is not that use")
 
     def _not_applying(self, entry: ListEntry, item: Item, purpose: str | None,
                       purpose_from: str) -> Finding:
@@ -402,6 +521,26 @@ class ListEntryLimits(Rule):
             advice = "name the product (product = ...) or the line's purpose, or confirm by hand"
         return self.finding(severity, message, ingredients=[item.line.inci], values=values,
                             advice=advice)
+
+
+# the product types of the Annex III hair dye entries ("Hair dye substance in oxidative hair dye
+# products"): a substance the entry names for that use only may still be a colorant of Annex IV
+_HAIR_DYE = frozenset({"hair dye", "oxidative hair dye", "non-oxidative hair dye",
+                       "eyelash product"})
+
+
+def _colorant_entry(entry: ListEntry, item: Item, formula: ResolvedFormula,
+                    purpose: str | None) -> ListEntry | None:
+    """The Annex IV entry that governs a line used as a colorant in a product that is no hair
+    dye, where ``entry`` (Annex III) covers the substance as a hair dye substance only; None
+    where ``entry`` applies as it stands."""
+    if entry.annex != "III" or purpose not in (None, "colorant") or not entry.parts:
+        return None
+    if not all(p.scope.products and set(p.scope.products) <= _HAIR_DYE for p in entry.parts):
+        return None
+    if any(f.fits is not False for f in parts_for(entry, formula, purpose)):
+        return None  # a hair dye, or a product the formula does not name
+    return next((e for e in item.entries if e.annex == "IV"), None)
 
 
 _EXCEPTED = re.compile(r"(?:entry|entries|reference (?:No|number)s?)\s*"

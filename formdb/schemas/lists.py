@@ -81,6 +81,18 @@ class Scope(BaseModel):
                     or self.not_in)
 
 
+class Exclusion(BaseModel):
+    """A product group a part's "Other" text rules out ("Not to be used in oral products"), with
+    the substance it is said of when the text gives each substance its own paragraph ("Salicylic
+    acid: ... Not to be used in oral products"; empty: every substance of the entry)."""
+
+    model_config = ConfigDict(defer_build=True, frozen=True)
+
+    words: str  # the sentence as written
+    scope: Scope
+    substance: str = ""
+
+
 class Part(BaseModel):
     """One part of an entry: its scope, maximum and conditions."""
 
@@ -91,7 +103,13 @@ class Part(BaseModel):
     max_percent: float | None = None
     max_text: str = ""
     basis: str | None = None  # "as acid", "as free SO2", "of Hg", ... as the text says
-    aggregate: str = "each"  # each | sum
+    # each (the maximum for each substance, summed over the entry's substances when several are
+    # present: one entry, one maximum) | sum (the text says so) | single (the text says the
+    # maximum is for a single substance: "0,4 % (as acid) for single ester")
+    aggregate: str = "each"
+    mixture_max: float | None = None  # the maximum for mixtures where "single" has its own
+    all_uses: bool = False  # "These levels are inclusive of any use of ...": every purpose counts
+    exclusions: tuple[Exclusion, ...] = ()
     further_limits: tuple[str, ...] = ()  # more maxima in the cell (mixtures, professional use)
     ph_min: float | None = None
     ph_max: float | None = None
@@ -129,6 +147,11 @@ class ListEntry(BaseModel):
     # an Annex II entry that prohibits the substance only "except if ..." (petroleum and coal
     # tar substances whose refining history clears them): the exception, verbatim
     exception: str = ""
+    # an Annex II entry that prohibits the substance in one use only ("when used as a substance
+    # in hair dye products", "when used as a fragrance ingredient"): the words, and the use as a
+    # scope (its products, or the purpose)
+    only_when: str = ""
+    only_when_scope: Scope | None = None
     regulation: str = ""
     update_date: date | None = None
     cells: dict[str, str] = {}  # every cell of the row, verbatim

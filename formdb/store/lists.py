@@ -98,13 +98,37 @@ def entries_for_records(session: Session, records: Iterable[IngredientRecord]
     wanted = {name_key(r.inci_name): (r, record_match_keys(r)) for r in records}
     found = entries_matching(session, (k for _r, keys in wanted.values() for k in keys))
     out: dict[str, tuple[ListEntry, ...]] = {}
-    for key, (_record, keys) in wanted.items():
-        entries: dict[tuple[str, str, str], ListEntry] = {}
+    for key, (record, keys) in wanted.items():
+        by_name: dict[tuple[str, str, str], ListEntry] = {}
+        by_cas: dict[tuple[str, str, str], ListEntry] = {}
         for match in keys:
             for entry in found.get(match, ()):
-                entries[(entry.jurisdiction, entry.annex, entry.key)] = entry
+                side = by_name if match.startswith("name:") else by_cas
+                side[(entry.jurisdiction, entry.annex, entry.key)] = entry
+        entries = dict(by_name)
+        entries.update((k, e) for k, e in by_cas.items()
+                       if k not in by_name and _cas_match_holds(record, e, by_name.values()))
         out[key] = tuple(entries[k] for k in sorted(entries, key=_order))
     return out
+
+
+def _nano_only(entry: ListEntry) -> bool:
+    return bool(entry.inci_names) and all("(nano)" in n.casefold() for n in entry.inci_names)
+
+
+def _cas_match_holds(record: IngredientRecord, entry: ListEntry,
+                     named: Iterable[ListEntry]) -> bool:
+    """Whether an entry found by a CAS number alone names the ingredient. Entries share CAS
+    numbers (iron oxides CI 77491 and CI 77499 both give 1309-37-1; a substance and its nano
+    form, VI/27 and VI/27a): a name the ingredient has for another entry of the same annex is the
+    more specific, except that a nano form is also its parent substance (VI/27: "the sum shall
+    not exceed"); a nano entry names only an ingredient named as nano ("(nano)" on the label,
+    Art. 19(1)(g))."""
+    if _nano_only(entry) and not any("nano" in n.casefold()
+                                     for n in (record.inci_name, *record.synonyms)):
+        return False
+    return not any(e.jurisdiction == entry.jurisdiction and e.annex == entry.annex
+                   and not _nano_only(e) for e in named)
 
 
 _ANNEX_ORDER = {"II": 0, "III": 1, "IV": 2, "V": 3, "VI": 4}

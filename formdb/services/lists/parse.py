@@ -13,7 +13,7 @@ from collections.abc import Mapping
 
 from formdb.errors import InvalidData
 from formdb.schemas.cas import cas_is_valid
-from formdb.schemas.lists import Alternative, ListEntry, Part, Scope
+from formdb.schemas.lists import Alternative, Exclusion, ListEntry, Part, Scope
 from formdb.services.lists.annex_file import REF, parse_day
 
 _NAME_COLUMNS = ("Name of Common Ingredients Glossary",
@@ -103,9 +103,38 @@ def ec_numbers(text: str) -> tuple[str, ...]:
     return tuple(dict.fromkeys(_EC.findall(text)))
 
 
+# an Annex II prohibition limited to one use, at the end of the chemical name: "..., when used as
+# a substance in hair dye products" (150 entries of 31/10/2025), "..., when used as a fragrance
+# ingredient" (32 entries)
+_ONLY_WHEN = re.compile(r"[,;]?\s*\bwhen used as (?:a )?(?:substance in |fragrance ingredient)"
+                        r"[^;]*$", re.I)
+
+
+def only_when(chemical_name: str) -> str:
+    """The use an Annex II prohibition is limited to ("when used as a fragrance ingredient"), or
+    "" for a prohibition in every use."""
+    found = _ONLY_WHEN.search(clean(chemical_name))
+    return found.group(0).strip(" ,;.") if found else ""
+
+
+def only_when_scope(words: str) -> Scope | None:
+    """The use as a scope: the hair (and eyelash) dye products, or the fragrance purpose."""
+    low = words.casefold()
+    if "fragrance" in low:
+        return Scope(text=words, purposes=("fragrance",))
+    products = []
+    if "hair" in low:
+        products.append("hair dye")
+    if "eyelash" in low or "eyebrow" in low:
+        products.append("eyelash product")
+    return Scope(text=words, products=tuple(products)) if products else None
+
+
 def chemical_names(text: str) -> tuple[str, ...]:
-    """Names under which a chemical-name cell can be matched: the INN and the plain name."""
-    name = clean(text)
+    """Names under which a chemical-name cell can be matched: the INN and the plain name (less a
+    use the prohibition is limited to: "Benzyl cyanide, when used as a fragrance ingredient" is
+    benzyl cyanide)."""
+    name = _ONLY_WHEN.sub("", clean(text))
     names = [inn.strip() for inn in re.findall(r"([A-Za-z][\w\- ]+?)\s*\(INN\)", name)]
     plain = re.sub(r"\s*\((INN|see note[^)]*)\)", "", name)
     plain = re.split(r",? (and|its|their) (its |their )?(salts|esters|ethers)", plain)[0]
@@ -168,6 +197,21 @@ _BASIS = (
     (re.compile(r"expressed as ([\w\- ,()]+?)(?:[.;\n]|$)", re.I), None),
 )
 _SUM = re.compile(r"\bsum of\b|\bin total\b|\bindividually or\b|\bcombined\b|\btotal\b", re.I)
+# the maximum is for one substance of the entry alone, a mixture has its own figure (V/12: "0,4 %
+# (as acid) for single ester, 0,8 % (as acid) for mixtures of esters")
+_SINGLE = re.compile(r"\bfor (?:a )?single\b|\bsingle (?:ester|substance|salt)\b", re.I)
+_MIXTURE = re.compile(r"\bfor mixtures?\b", re.I)
+
+
+def mixture_maximum(text: str) -> float | None:
+    """The maximum a "single"-substance cell gives for mixtures ("0,8 % (as acid) for mixtures of
+    esters"), or None."""
+    for segment in re.split(r"\n+|(?<=[a-z])\s*;\s*", text):
+        found = _PERCENT.search(segment)
+        if found and _MIXTURE.search(segment):
+            value = _number(found.group(1))
+            return value / 10_000 if found.group(2).lower() in ("ppm", "mg/kg") else value
+    return None
 
 
 def parse_maximum(text: str) -> tuple[float | None, str | None, str, tuple[str, ...], bool]:
@@ -179,7 +223,7 @@ def parse_maximum(text: str) -> tuple[float | None, str | None, str, tuple[str, 
         if match:
             basis = name or f"as {clean(match.group(1))}"
             break
-    aggregate = "sum" if _SUM.search(text) else "each"
+    aggregate = "sum" if _SUM.search(text) else "single" if _SINGLE.search(text) else "each"
     if not found:
         return None, basis, aggregate, (), not clean(text)
     values = [_number(n) / (10_000 if unit.lower() in ("ppm", "mg/kg") else 1)
@@ -264,7 +308,7 @@ _SPRAY = re.compile(r"(?:(?:propell[ae]nt|pump|aerosol)"
 _NON_SPRAY = re.compile(r"\bnon-?\s*sprays?\b", re.I)
 _INCLUDING_SPRAY = re.compile(r"\bincluding\b[^;,.]*?sprays?(?:\s+products?)?", re.I)
 _FILLER = re.compile(
-    r"\b(?:products?|produts|cosmetic|all|for|in|the|of|and|or|with|to|be|used|only|intended|"
+    r"\b(?:products?|produts|producrs|cosmetic|all|for|in|the|of|and|or|with|to|be|used|only|intended|"
     r"substances?|s[ua]b\S*stances?|ready|use|uses|as|applied|on|a|an|form|forms|general|"
     r"professional|other|others|except|excluding|exception|not|than|including|care|"
     r"containing|preparations?|designed|application|types?|loose|powdery?|powders?|"
@@ -429,9 +473,10 @@ def parse_entry(annex: str, row: Mapping[str, str], key: str) -> ListEntry:
     exception = ""
     if annex == "II" and (found := _EXCEPT.search(chem)):
         exception = chem[found.start():]
+    use = only_when(chem) if annex == "II" else ""
     return ListEntry(
         annex=annex, ref=clean(row[REF]).replace(" ", ""), key=key, chemical_name=chem,
-        exception=exception,
+        exception=exception, only_when=use, only_when_scope=only_when_scope(use) if use else None,
         inci_names=names, cas_numbers=cas_numbers(row.get("CAS Number", "")),
         ec_numbers=ec_numbers(row.get("EC Number", "")), parts=parts, purpose=purpose,
         allergen=annex == "III" and bool(_ALLERGEN.search(other)),
@@ -509,8 +554,49 @@ def _part(label: str | None, scope_text: str, max_text: str, other: str,
     text = f"{max_text}\n{other}\n{wording}"
     return Part(label=label, scope=scope, max_percent=max_percent, max_text=clean(max_text),
                 basis=basis, aggregate=aggregate, further_limits=further, ph_min=ph_min,
+                mixture_max=mixture_maximum(max_text) if aggregate == "single" else None,
+                all_uses=bool(_ALL_USES.search(other)), exclusions=exclusions(other),
                 ph_max=ph_max, conditions=conditions_of(text), other=clean(other),
                 labelling=clean(wording), unparsed=tuple(unparsed))
+
+
+# III/98: "These levels are inclusive of any use of salicylic acid" (the preservative use of
+# V/3 counts towards the maximum too)
+_ALL_USES = re.compile(r"inclusive of any use", re.I)
+_NOT_IN = re.compile(r"\bnot (?:to be )?used in ([^.;\n]+)", re.I)
+# sentences about a person or a form, which stay conditions for a person (LIM04): an age group,
+# the lungs, sprays
+_PERSONAL = re.compile(r"child|years|age\b|lungs|inhal|spray|aerosol|nappy", re.I)
+# a paragraph of the "Other" text that names the substance it is about ("Salicylic acid:")
+_HEADING = re.compile(r"^\s*([A-Za-z][\w ,()-]{2,60}):\s*$")
+
+
+def exclusions(other: str) -> tuple[Exclusion, ...]:
+    """The product groups "Not to be used in ..." rules out, where the words name product types
+    or body areas formdb knows and nothing else (the rest stays a condition for a person)."""
+    out: list[Exclusion] = []
+    substance = ""
+    for line in other.splitlines():
+        heading = _HEADING.match(line)
+        if heading:
+            substance = clean(heading.group(1))
+            continue
+        for found in _NOT_IN.finditer(line):
+            words = clean(found.group(0))
+            # "products for children under 3 years of age, in oral products and in eye and lip
+            # products": each group on its own; a spray named beside them stays a condition
+            for group in re.split(r",\s*(?:and\s+)?in\s+|\s+and in\s+", found.group(1)):
+                group = _SPRAY_GROUP.sub(" ", group)
+                if _PERSONAL.search(group):
+                    continue
+                scope = parse_scope(group)
+                if scope.unparsed or scope.other or not (scope.areas or scope.products):
+                    continue
+                out.append(Exclusion(words=words, scope=scope, substance=substance))
+    return tuple(out)
+
+
+_SPRAY_GROUP = re.compile(r",?\s*(?:and|or)?\s*(?:propellant\s+)?spray products?", re.I)
 
 
 def entry_keys(annex: str, rows: list[tuple[int, dict[str, str]]]) -> list[str]:
