@@ -31,6 +31,9 @@ from formdb.schemas.vocab import Severity
 _EPS = 1e-9
 OK, OVER, NOT_ALLOWED, OPEN = "within", "over", "not allowed", "to confirm"
 _READINGS = ("preservative", "other")
+# a purpose only the substances of one annex may serve: the annex and the article that says so
+_POSITIVE_LISTS = {"preservative": ("V", "14(1)(d)"), "uv filter": ("VI", "14(1)(e)"),
+                   "colorant": ("IV", "14(1)(c)")}
 
 
 @dataclass
@@ -335,6 +338,47 @@ class ListEntryLimits(Rule):
                 members.setdefault(entry.label, []).append(item)
         for item in items:
             yield from self._item(item, members, formula, reference)
+        yield from self._unlisted(formula, reference)
+
+    def _unlisted(self, formula: ResolvedFormula, reference: ReferenceData
+                  ) -> Iterable[Finding]:
+        """Lines declared a preservative, a UV filter or a colorant that the annex listing such
+        substances does not name: only listed ones may serve that purpose (Art. 14(1)(c)-(e))."""
+        in_force = {(s.jurisdiction, s.annex): s for s in reference.lists}
+        for line in formula.lines:
+            wanted = _POSITIVE_LISTS.get(line.purpose or "")
+            key = _key(line.ingredient.inci_name)
+            if wanted is None or key in reference.constituents:
+                continue  # no such purpose, or a declared mixture: its constituents are judged
+            annex, article = wanted
+            snapshot = in_force.get(("EU", annex))
+            if snapshot is None or any(e.annex == annex
+                                       for e in reference.list_entries.get(key, ())):
+                continue
+            use = "UV filter" if line.purpose == "uv filter" else line.purpose
+            head = (f"{line.inci} (line {line.line_no}) is declared a {use}, and no "
+                    f"entry of EU Annex {annex} names it (by INCI name, synonym or CAS number): "
+                    f"only substances that Annex lists may be used as {use}s "
+                    f"(Regulation (EC) No 1223/2009 Art. {article})")
+            values: dict[str, float | str | None] = {
+                "entry": f"{annex}", "list_name": f"EU Annex {annex}",
+                "percent": line.percent, "matched": None,
+                "export": f"{snapshot.file_name}, file created {snapshot.file_created:%d/%m/%Y}",
+                "list_date": snapshot.last_update.isoformat()}
+            if annex == "IV":
+                # Annex IV names colorants by colour index number, and hair dyes are outside it
+                yield self.finding(
+                    Severity.WARNING, f"{head}; confirm by hand (it may be listed under its "
+                    "colour index number, or the product may be a hair dye)",
+                    ingredients=[line.inci], values=values,
+                    advice="name the colorant by its CI number (or add it as a synonym or CAS "
+                           "number), or use a colorant Annex IV lists")
+                continue
+            yield self.finding(
+                Severity.ERROR, head, ingredients=[line.inci], values=values,
+                advice=f"use a {use} Annex {annex} lists, or declare the line's real "
+                       f"purpose; if it is listed under another name, add that name as a "
+                       f"synonym or its CAS number")
 
     def _item(self, item: Item, members: Mapping[str, list[Item]], formula: ResolvedFormula,
               reference: ReferenceData) -> Iterable[Finding]:
@@ -378,11 +422,14 @@ class ListEntryLimits(Rule):
 
     def _as_colorant(self, entry: ListEntry, colorant: ListEntry, item: Item, because: str
                      ) -> Finding:
+        covers = "its use as a hair dye substance only, and the product is no hair dye" \
+            if entry.annex == "III" else \
+            f"its use as {'a UV filter' if entry.annex == 'VI' else 'a colorant'} only"
+        use = "a UV filter" if colorant.annex == "VI" else "a colorant"
         return self.finding(
             Severity.INFO,
-            f"{item.label}: {entry.title} covers its use as a hair dye substance only, and the "
-            f"product is no hair dye ({because}); as a colorant {colorant.title} applies, "
-            "judged in its own finding", ingredients=[item.line.inci],
+            f"{item.label}: {entry.title} covers {covers} ({because}); as {use} "
+            f"{colorant.title} applies, judged in its own finding", ingredients=[item.line.inci],
             values=_values(entry, item),
             advice=f"follow the finding of {colorant.title}")
 
@@ -529,11 +576,22 @@ _HAIR_DYE = frozenset({"hair dye", "oxidative hair dye", "non-oxidative hair dye
                        "eyelash product"})
 
 
+# a substance both a colorant (Annex IV) and a UV filter (Annex VI), titanium dioxide and zinc
+# oxide: each entry refers the other use to the other annex ("For use as a colourant, see Annex
+# IV, No 143"), so a line declared for one use is judged by that use's annex only
+_USE_ANNEX = {"colorant": "IV", "uv filter": "VI"}
+
+
 def _colorant_entry(entry: ListEntry, item: Item, formula: ResolvedFormula,
                     purpose: str | None) -> ListEntry | None:
-    """The Annex IV entry that governs a line used as a colorant in a product that is no hair
-    dye, where ``entry`` (Annex III) covers the substance as a hair dye substance only; None
+    """The entry of another annex that governs the line's use where ``entry`` does not: the
+    Annex IV entry of a line used as a colorant in a product that is no hair dye, where
+    ``entry`` (Annex III) covers the substance as a hair dye substance only; the Annex IV (VI)
+    entry of a line declared a colorant (UV filter), where ``entry`` is of Annex VI (IV). None
     where ``entry`` applies as it stands."""
+    use = _USE_ANNEX.get(purpose or "")
+    if use is not None and entry.annex in _USE_ANNEX.values() and entry.annex != use:
+        return next((e for e in item.entries if e.annex == use), None)
     if entry.annex != "III" or purpose not in (None, "colorant") or not entry.parts:
         return None
     if not all(p.scope.products and set(p.scope.products) <= _HAIR_DYE for p in entry.parts):

@@ -336,3 +336,50 @@ def test_exclusions_keep_personal_conditions_for_a_person() -> None:
     groups = exclusions("Not to be used in products for children under 3 years of age, in "
                         "oral products and in eye and lip products")
     assert [g.scope.areas for g in groups] == [("oral",), ("eye", "lip")]
+
+
+# ----- a purpose only a listed substance may serve ------------------------------------------
+
+def test_a_preservative_or_uv_filter_must_be_listed(library: Library) -> None:
+    """Art. 14(1)(d) and (e): a preservative or UV filter not in Annex V or VI is prohibited.
+    Ethylhexylglycerin declared a preservative and tocopherol declared a UV filter are errors
+    (both passed in silence); phenoxyethanol as a preservative (V/29) is not."""
+    ehg = lim(library, formula([("Ethylhexylglycerin", 0.5, "preservative")],
+                               product="body lotion"))
+    assert severities(ehg, "V") == {"error"} and "Art. 14(1)(d)" in one(ehg, "V").message
+    uv = lim(library, formula([("Tocopherol", 0.5, "uv filter")], product="body lotion"))
+    assert severities(uv, "VI") == {"error"}
+    listed = lim(library, formula([("Phenoxyethanol", 0.8, "preservative")],
+                                  product="body lotion"))
+    assert not entry_findings(listed, "V") and severities(listed, "V/29") == {"info"}
+    # no purpose declared: the formula does not claim it preserves
+    assert not entry_findings(lim(library, formula([("Ethylhexylglycerin", 0.5, None)],
+                                                   product="body lotion")), "V")
+
+
+def test_titanium_dioxide_as_colorant_is_not_a_uv_filter(library: Library) -> None:
+    """IV/143 (titanium dioxide as a colorant, no maximum; "For use as a UV filter, see Annex
+    VI, No 27") and VI/27 (25 %; "For use as a colourant, see Annex IV, No 143"): 30 % as the
+    colorant of a foundation is within (it was over VI/27); 26 % as a UV filter is over VI/27
+    and IV/143 defers."""
+    colour = lim(library, formula([("Titanium Dioxide", 30.0, "colorant")],
+                                  product="liquid foundation"))
+    assert "error" not in {f.severity.value for f in colour}
+    assert "covers its use as a UV filter only" in one(colour, "VI/27").message
+    uv = lim(library, formula([("Titanium Dioxide", 26.0, "uv filter")],
+                              product="sunscreen lotion"))
+    assert severities(uv, "VI/27") == {"error"} and severities(uv, "IV/143") == {"info"}
+
+
+# ----- words that head several parts --------------------------------------------------------
+
+def test_words_for_several_parts_reach_each_part() -> None:
+    """VI/4 "For a) and b): Contains Benzophenone-3": part (b), body products, must print it
+    too (its label was "For"); III/8 "For (a) and (b): After mixing under oxidative conditions
+    the maximum concentration applied to hair must not exceed 3 %": part (b), professional use,
+    has that maximum too (it had none)."""
+    vi = {e.key: e for e in read_export(ANNEX_EXPORTS / "COSING_Annex_VI_v2.txt").entries}
+    assert [("Contains Benzophenone-3" in p.labelling) for p in vi["4"].parts] == \
+        [True, True, False]
+    iii = {e.key: e for e in read_export(ANNEX_EXPORTS / "COSING_Annex_III_v2.txt").entries}
+    assert [p.max_percent for p in iii["8"].parts] == [3.0, 3.0]

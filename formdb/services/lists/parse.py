@@ -161,11 +161,20 @@ def _markers(text: str) -> list[re.Match[str]]:
     return out
 
 
+# "For (a) and (b):", "For a) and b):", "(a) and (b):" heading the words of both parts
+_FOR_PARTS = re.compile(r"(?:\bFor\s+\(?([a-h])\)\s*(?:and|,)\s*\(?([a-h])\)\s*[:,]?"
+                        r"|(?<![\w(])\(?([a-h])\)\s*and\s*\(?([a-h])\)\s*:)")
+
+
 def split_parts(text: str) -> tuple[str, dict[str, str]]:
     """(text for every part, {label: text}) of a cell written "(a) ... (b) ...".
 
-    A run of markers with nothing between ("(a) (b) (c) Avoid contact...") gives its text to each.
+    A run of markers with nothing between ("(a) (b) (c) Avoid contact...") gives its text to each,
+    and so does a heading that names parts ("For (a) and (b): After mixing ...", 38 cells of
+    31/10/2025, whose part (b) had lost the words).
     """
+    text = _FOR_PARTS.sub(lambda m: f"({m.group(1) or m.group(3)}) ({m.group(2) or m.group(4)}) ",
+                          text)
     matches = _markers(text)
     if not matches:
         return text.strip(), {}
