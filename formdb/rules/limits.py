@@ -131,6 +131,26 @@ def acid_units(inci: str) -> int:
     return _MULTIVALENT.get(words[0], 1) if words else 1
 
 
+def figure(amount: float, limit: float | None, digits: int = 4) -> str:
+    """``amount`` in ``digits`` significant figures, or in more where those would print it equal
+    to the limit it is over (0.59 % sodium benzoate is 0.5000056 % as benzoic acid, over 0.5 %,
+    not "0.5 % ... is over")."""
+    text = f"{amount:.{digits}g}"
+    if limit is not None and amount > limit + _EPS and float(text) <= limit:
+        text = f"{amount:.7g}"
+    return text
+
+
+# Annex IV (colorants) and Annex VI (UV filters) refer each other's use to the other annex
+# (VI/27 titanium dioxide: "For use as a colourant, see Annex IV, No 143")
+_OTHER_USE = {"VI": "colorant", "IV": "uv filter"}
+
+
+def for_other_use(annex: str, purpose: str | None) -> bool:
+    """True when a line's purpose is the use the other of Annexes IV and VI governs."""
+    return purpose is not None and _OTHER_USE.get(annex) == purpose
+
+
 @dataclass(frozen=True)
 class _Amount:
     """One line's amount on the row's basis; ``factor`` None when it cannot be converted."""
@@ -348,7 +368,8 @@ class ConcentrationLimit(Rule):
         formula = substance_formula(formula, reference)  # limits apply to constituents too
         pending: list[tuple[Finding, LimitRecord, set[str]]] = []
         for row in applicable_rows(reference, formula, jurisdiction):
-            present = lines_in(row, formula)
+            present = [ln for ln in lines_in(row, formula)
+                       if not for_other_use(annex_of(row), line_purpose(ln, ln.ingredient)[0])]
             undecided: set[str] = set()
             if row.purpose:  # the row binds one use: lines declared for another one are out
                 fits = {ln.inci: purpose_fits(row.purpose, _purpose(ln, reference, jurisdiction))
@@ -441,7 +462,7 @@ class ConcentrationLimit(Rule):
             values["total_percent"] = amount.value
         as_acid = ""
         if row.basis == "as-acid" and amount.factor != 1.0:
-            as_acid = f" = {amount.value:.3g} % as {row.acid_inci}"
+            as_acid = f" = {figure(amount.value, _max(row), 3)} % as {row.acid_inci}"
         highest = _max(row) / amount.factor if amount.factor else _max(row)
         yield self.finding(
             self.default_severity,

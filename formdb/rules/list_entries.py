@@ -17,7 +17,7 @@ from typing import Any, ClassVar
 
 from formdb.facts.composition import pieces
 from formdb.rules.base import Rule
-from formdb.rules.limits import acid_units
+from formdb.rules.limits import acid_units, figure, for_other_use
 from formdb.rules.registry import register
 from formdb.rules.scoping import line_purpose, parts_for, purpose_fits, scope_fits, why
 from formdb.schemas.findings import Finding
@@ -168,15 +168,6 @@ def _amount(part: Part, group: list[Item], entry: ListEntry, reference: Referenc
     return sum(m.percent * (f or 1.0) for m, f in zip(group, factors, strict=True)), True
 
 
-def _number(amount: float, limit: float | None) -> str:
-    """The amount in four figures, or more where four would print it equal to the limit it is
-    over (0.500007 % is over 0.5 %)."""
-    text = f"{amount:.4g}"
-    if limit is not None and amount > limit + _EPS and float(text) <= limit:
-        text = f"{amount:.7g}"
-    return text
-
-
 def _excluded(part: Part, item: Item, formula: ResolvedFormula) -> str | None:
     """The words of the part's text that rule the formula's product out for this substance
     ("Not to be used in oral products"), or None (also where the product is not named)."""
@@ -199,12 +190,12 @@ def _part_verdict(part: Part, amount: float, converted: bool, formula: ResolvedF
     words += ")"
     ph = formula.formula.ph
     basis = f" {part.basis}" if part.basis and converted else ""
-    figure = _number(amount, part.max_percent)
+    shown = figure(amount, part.max_percent)
     if part.max_percent is not None and amount > part.max_percent + _EPS:
         if not converted or (part.basis and part.basis != "as acid"):
-            return OPEN, (f"{words}: {figure} % as-is is over; {part.basis} it may be less "
+            return OPEN, (f"{words}: {shown} % as-is is over; {part.basis} it may be less "
                           "(no molar mass to convert: confirm by hand)")
-        return OVER, f"{words}: {figure} %{basis} is over"
+        return OVER, f"{words}: {shown} %{basis} is over"
     if part.ph_max is not None or part.ph_min is not None:
         if ph is None:
             return OPEN, f"{words}: pH limit {_ph(part)}; the formula states no pH"
@@ -212,7 +203,7 @@ def _part_verdict(part: Part, amount: float, converted: bool, formula: ResolvedF
                 (part.ph_min is not None and ph < part.ph_min - _EPS):
             return OVER, f"{words}: pH {ph:g} is outside {_ph(part)}"
     rest = " (part of its text is not structured: see LIM04)" if part.unparsed else ""
-    return OK, f"{words}: {figure} %{basis} is within{rest}"
+    return OK, f"{words}: {shown} %{basis} is within{rest}"
 
 
 def _ph(part: Part) -> str:
@@ -254,7 +245,7 @@ def _verdict(part: Part, item: Item, members: list[Item], entry: ListEntry,
             basis = f" {part.basis}" if part.basis and converted else " as-is"
             words += ("; but the mixture, " + " + ".join(f"{m.label} {m.percent:.4g} %"
                                                          for m in mixture)
-                      + f" = {_number(total, part.mixture_max)} %{basis}, is over its "
+                      + f" = {figure(total, part.mixture_max)} %{basis}, is over its "
                       f"{part.mixture_max:g} % for mixtures"
                       + ("" if converted else f" ({part.basis} it may be less: no molar mass "
                          "to convert, confirm by hand)"))
@@ -577,8 +568,8 @@ _HAIR_DYE = frozenset({"hair dye", "oxidative hair dye", "non-oxidative hair dye
 
 
 # a substance both a colorant (Annex IV) and a UV filter (Annex VI), titanium dioxide and zinc
-# oxide: each entry refers the other use to the other annex ("For use as a colourant, see Annex
-# IV, No 143"), so a line declared for one use is judged by that use's annex only
+# oxide: each entry refers the other use to the other annex (limits.for_other_use), so a line
+# declared for one use is judged by that use's annex only
 _USE_ANNEX = {"colorant": "IV", "uv filter": "VI"}
 
 
@@ -589,8 +580,8 @@ def _colorant_entry(entry: ListEntry, item: Item, formula: ResolvedFormula,
     ``entry`` (Annex III) covers the substance as a hair dye substance only; the Annex IV (VI)
     entry of a line declared a colorant (UV filter), where ``entry`` is of Annex VI (IV). None
     where ``entry`` applies as it stands."""
-    use = _USE_ANNEX.get(purpose or "")
-    if use is not None and entry.annex in _USE_ANNEX.values() and entry.annex != use:
+    if for_other_use(entry.annex, purpose):
+        use = _USE_ANNEX[purpose or ""]
         return next((e for e in item.entries if e.annex == use), None)
     if entry.annex != "III" or purpose not in (None, "colorant") or not entry.parts:
         return None
