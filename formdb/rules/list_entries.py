@@ -161,11 +161,24 @@ def _amount(part: Part, group: list[Item], entry: ListEntry, reference: Referenc
             ) -> tuple[float, bool]:
     """(amount of ``group`` on the part's basis, converted)."""
     if part.basis != "as acid":
-        return sum(m.percent for m in group), True
+        # no conversion for other bases: as-is, said as such (a hair dye's "applied to the hair
+        # after mixing" is the product's own figure diluted, as-is is its upper bound)
+        return sum(m.percent for m in group), part.basis is None or \
+            part.basis.startswith("applied to")
     factors = [acid_factor(entry, m, reference) for m in group]
     if any(f is None for f in factors):
         return sum(m.percent for m in group), False
     return sum(m.percent * (f or 1.0) for m, f in zip(group, factors, strict=True)), True
+
+
+def _in_basis_form(part: Part, item: Item, entry: ListEntry) -> bool:
+    """True when the item is the salt the part's basis names: the entry names it, and the
+    entry's substance is that salt ("HC Yellow No 9", the hydrochloride, III/259)."""
+    word = (part.basis or "").removeprefix("as ").casefold()[:8]
+    names = {_key(n) for n in entry.inci_names}
+    return bool(word) and _key(item.record.inci_name) in names and (
+        word in entry.chemical_name.casefold().replace("sulfate", "sulphate")
+        or word in item.record.inci_name.casefold().replace("sulfate", "sulphate"))
 
 
 def _excluded(part: Part, item: Item, formula: ResolvedFormula) -> str | None:
@@ -180,8 +193,8 @@ def _excluded(part: Part, item: Item, formula: ResolvedFormula) -> str | None:
     return None
 
 
-def _part_verdict(part: Part, amount: float, converted: bool, formula: ResolvedFormula
-                  ) -> tuple[str, str]:
+def _part_verdict(part: Part, amount: float, converted: bool, formula: ResolvedFormula,
+                  basis_form: bool = False) -> tuple[str, str]:
     """(status, words) of one part against the amount and the formula's pH."""
     scope = part.scope.text or "all products"
     words = f"{part.name} ({scope}"
@@ -202,8 +215,26 @@ def _part_verdict(part: Part, amount: float, converted: bool, formula: ResolvedF
         if (part.ph_max is not None and ph > part.ph_max + _EPS) or \
                 (part.ph_min is not None and ph < part.ph_min - _EPS):
             return OVER, f"{words}: pH {ph:g} is outside {_ph(part)}"
+    if part.max_percent is None and any(_FIGURE.search(u) for u in part.unparsed):
+        # a figure the parser could not place (III/261: the export gives "the maximum
+        # concentration applied to hair must not exceed 2,5%" under the product type)
+        return OPEN, (f"{words}: its text gives a figure that was not read as its maximum "
+                      f"({'; '.join(part.unparsed)}): confirm by hand")
     rest = " (part of its text is not structured: see LIM04)" if part.unparsed else ""
+    if part.basis and not basis:  # a maximum on a basis the amount was not converted to
+        if _HEAVIER.search(part.basis) and not basis_form:
+            return OPEN, (f"{words}: {shown} % as-is is under it, but {part.basis} it may be "
+                          "more (a salt form weighs more than the base): confirm by hand")
+        if not part.basis.startswith("applied to"):
+            rest = f" as-is (so at most that much {part.basis}){rest}"
     return OK, f"{words}: {shown} %{basis} is within{rest}"
+
+
+_FIGURE = re.compile(r"\d\s*%")
+# bases heavier than the substance a line may hold ("2,0 % (calculated as sulphate)" for the free
+# base): the amount as-is is no upper bound of the amount on that basis; the other bases are a
+# part of the substance (as F, as free SO2, of Hg, as free base, as acid)
+_HEAVIER = re.compile(r"sulph|sulfat|hydrochlor|\bsalt", re.I)
 
 
 def _ph(part: Part) -> str:
@@ -223,7 +254,8 @@ def _verdict(part: Part, item: Item, members: list[Item], entry: ListEntry,
                              f"(product {formula.formula.product!r})")
     group = _group(part, item, members, entry)
     amount, converted = _amount(part, group, entry, reference)
-    status, words = _part_verdict(part, amount, converted, formula)
+    status, words = _part_verdict(part, amount, converted, formula,
+                                  all(_in_basis_form(part, m, entry) for m in group))
     if len(group) > 1:
         words += " (together: " + " + ".join(f"{m.label} {m.percent:.4g} %" for m in group) + ")"
         # a sum the text states (or implies: the acid and its salts as acid, levels inclusive

@@ -162,4 +162,15 @@ def with_list_entries(session: Session, reference: ReferenceData,
     if not missing:
         return reference
     found = entries_for_records(session, missing)
-    return reference.model_copy(update={"list_entries": {**reference.list_entries, **found}})
+    update: dict[str, object] = {"list_entries": {**reference.list_entries, **found}}
+    # the parent acids of "as acid" parts (III/2a thioglycolic acid), for their molar masses
+    known = {name_key(k) for k in reference.acids}
+    wanted_acids = {n for entries in found.values() for e in entries
+                    if any(p.basis == "as acid" for p in e.parts)
+                    for n in e.inci_names if "acid" in n.casefold() and name_key(n) not in known}
+    if wanted_acids:
+        from formdb.store.queries import find_ingredients
+
+        acids = {r.inci_name: r for r in find_ingredients(session, wanted_acids).values()}
+        update["acids"] = {**reference.acids, **acids}
+    return reference.model_copy(update=update)

@@ -15,6 +15,7 @@ import pytest
 
 from formdb.rules.limits import acid_units
 from formdb.schemas.findings import Finding
+from formdb.schemas.lists import ListEntry
 from formdb.services.lists.importing import import_lists, read_export
 from formdb.services.lists.parse import exclusions, parse_maximum
 from formdb.store.library import Library
@@ -383,3 +384,55 @@ def test_words_for_several_parts_reach_each_part() -> None:
         [True, True, False]
     iii = {e.key: e for e in read_export(ANNEX_EXPORTS / "COSING_Annex_III_v2.txt").entries}
     assert [p.max_percent for p in iii["8"].parts] == [3.0, 3.0]
+
+
+# ----- the export's own layout: soft hyphens, part ranges, bases for every part --------------
+
+def _entries(annex: str) -> dict[str, ListEntry]:
+    return {e.key: e for e in read_export(ANNEX_EXPORTS / f"COSING_Annex_{annex}_v2.txt").entries}
+
+
+def test_parts_read_through_the_exports_layout() -> None:
+    """III/200 tetraaminopyrimidine sulfate: "ap\\u00adplied to hair or eye\\u00adlashes must not
+    ex\\u00adceed 3,4 %" (soft hyphens in the export) is the maximum of parts (a) and (c), which
+    had none. III/22 resorcinol "(For (a) and (b): ... must not exceed 1,25 %": both parts.
+    III/297 ethoxydiglycol "(a) to (e): ... Not to be used in eye products and oral products":
+    every part (parts (b) to (e) had no condition). III/2a "The abovementioned percentages are
+    calculated as thioglycollic acid": the basis of parts (a) to (d), not of (d) alone."""
+    iii = _entries("III")
+    assert [p.max_percent for p in iii["200 [TETRAAMINOPYRIMIDINE SULFATE]"].parts] == \
+        [3.4, 3.4, 3.4]
+    assert [p.max_percent for p in iii["22"].parts] == [1.25, 1.25, 0.5]
+    assert all(p.exclusions and "oral products" in p.exclusions[0].words
+               for p in iii["297"].parts)
+    assert [p.basis for p in iii["2a"].parts] == ["as acid"] * 4
+    assert [p.basis for p in iii["259"].parts] == ["as hydrochloride"]
+
+
+def test_a_basis_the_amount_was_not_converted_to_is_said(library: Library) -> None:
+    """III/31 sodium fluoride, oral products 0.15 % "calculated as F": 0.1 % sodium fluoride is
+    at most 0.1 % fluorine, within, and the message says the amount is as-is (it said "0.1 % as
+    F"). III/259 HC Yellow No 9 is 0.5 % "calculated as hydrochloride", and HC Yellow No 9 is
+    that hydrochloride: 0.45 % is within, not a question."""
+    naf = lim(library, formula([("Sodium Fluoride", 0.1, "active")], category="rinse-off",
+                               product="toothpaste"))
+    assert "0.1 % is within as-is (so at most that much as F)" in one(naf, "III/31").message
+    dye = lim(library, formula([("HC Yellow No 9", 0.45, None)], category="rinse-off"))
+    assert "as-is is under it" not in one(dye, "III/259").message
+
+
+def test_thioglycolate_over_as_acid_needs_its_molar_mass(library: Library) -> None:
+    """III/2a (a) hair products, 8 % as thioglycollic acid at pH 7 to 9.5: 9 % ammonium
+    thioglycolate is over as-is, a question until the library holds the molar masses; with them
+    (109.15 from NH4 C2H3O2S, 92.12 from C2H4O2S) 9 % is 9 x 92.12 / 109.15 = 7.6 % as acid,
+    within (it was an error: the basis was read for part (d) only, and the acid named by an
+    imported entry was never looked up). At pH 10 it is outside the pH range."""
+    def verdict(percent: float, ph: float) -> set[str]:
+        return severities(lim(library, formula([("Ammonium Thioglycolate", percent, "active")],
+                                               product="hair styling", ph=ph)), "III/2a")
+
+    assert verdict(9.0, 9.0) == {"warning"}
+    _set(library, "Ammonium Thioglycolate", molar_mass="109.15")
+    _set(library, "Thioglycolic Acid", molar_mass="92.12")
+    assert verdict(9.0, 9.0) == {"info"}
+    assert verdict(7.0, 10.0) == {"error"}

@@ -162,8 +162,10 @@ def _markers(text: str) -> list[re.Match[str]]:
 
 
 # "For (a) and (b):", "For a) and b):", "(a) and (b):" heading the words of both parts
-_FOR_PARTS = re.compile(r"(?:\bFor\s+\(?([a-h])\)\s*(?:and|,)\s*\(?([a-h])\)\s*[:,]?"
+_FOR_PARTS = re.compile(r"(?:(?:\(\s*)?\bFor\s+\(?([a-h])\)\s*(?:and|,)\s*\(?([a-h])\)\s*[:,]?"
                         r"|(?<![\w(])\(?([a-h])\)\s*and\s*\(?([a-h])\)\s*:)")
+# "(a) to (e):" heading words for every part from (a) to (e) (III/297)
+_PART_RANGE = re.compile(r"(?:(?:\(\s*)?\bFor\s+)?(?<![\w])\(?([a-h])\)\s*to\s*\(?([a-h])\)\s*:")
 
 
 def split_parts(text: str) -> tuple[str, dict[str, str]]:
@@ -173,6 +175,8 @@ def split_parts(text: str) -> tuple[str, dict[str, str]]:
     and so does a heading that names parts ("For (a) and (b): After mixing ...", 38 cells of
     31/10/2025, whose part (b) had lost the words).
     """
+    text = _PART_RANGE.sub(lambda m: " ".join(f"({chr(c)})" for c in range(
+        ord(m.group(1)), ord(m.group(2)) + 1)) + " ", text)
     text = _FOR_PARTS.sub(lambda m: f"({m.group(1) or m.group(3)}) ({m.group(2) or m.group(4)}) ",
                           text)
     matches = _markers(text)
@@ -230,7 +234,7 @@ def parse_maximum(text: str) -> tuple[float | None, str | None, str, tuple[str, 
     for pattern, name in _BASIS:
         match = pattern.search(text)
         if match:
-            basis = name or f"as {clean(match.group(1))}"
+            basis = name or _basis_name(match.group(1))
             break
     aggregate = "sum" if _SUM.search(text) else "single" if _SINGLE.search(text) else "each"
     if not found:
@@ -463,15 +467,16 @@ def parse_entry(annex: str, row: Mapping[str, str], key: str) -> ListEntry:
     chem = clean(row.get("Chemical name / INN", row.get("Chemical name", "")))
     if not names and chem.casefold() != "moved or deleted":
         names = tuple(_name(n) for n in chemical_names(chem)[:1])  # no INCI name: the chemical one
-    product = row.get(PRODUCT, "")
-    maximum = row.get(MAXIMUM, "")
-    other = row.get(OTHER, "")
+    # soft hyphens split the words the patterns look for ("ap\u00adplied to hair", III/200):
+    # the cells are read without them (and kept verbatim in ``cells``)
+    product, maximum, other = (row.get(c, "").replace(_SOFT_HYPHEN, "")
+                               for c in (PRODUCT, MAXIMUM, OTHER))
     if annex == "IV" and not _PERCENT.search(maximum) and clean(maximum):
         # the Annex IV export gives the field of application under "Maximum concentration" and
         # the maximum under "Other" (the Regulation's columns g and h as exported)
         product, maximum, other = maximum, other if _PERCENT.search(other) else "", \
             "" if _PERCENT.search(other) else other
-    wording = row.get(WORDING, "")
+    wording = row.get(WORDING, "").replace(_SOFT_HYPHEN, "")
     parts = _parts(annex, product, maximum, other, wording) if annex != "II" else ()
     whole = f"{product}\n{other}\n{maximum}"
     purpose = None
@@ -531,8 +536,26 @@ def _parts(annex: str, product: str, maximum: str, other: str, wording: str) -> 
                                if t.strip())
         words = "\n".join(t for t in (w_common, w_parts.get(label, "") if label else "")
                           if t.strip())
-        out.append(_part(label, scope_text, max_text, other_text, words))
+        part = _part(label, scope_text, max_text, other_text, words)
+        if part.basis is None and (every := _FOR_EVERY_PART.search(maximum)):
+            # "The abovementioned percentages are calculated as thioglycollic acid" (III/2a),
+            # written after the last part, is the basis of every part
+            part = part.model_copy(update={"basis": _basis_name(every.group(1))})
+        out.append(part)
     return tuple(out)
+
+
+_FOR_EVERY_PART = re.compile(r"above-?\s?mentioned (?:percentages|concentrations) are "
+                             r"(?:calculated|expressed) as ([\w\- ]+)", re.I)
+
+
+def _basis_name(substance: str) -> str:
+    """The basis a part states, as "as acid" where it names the parent acid ("calculated as
+    thioglycollic acid": the salts and esters are converted to it)."""
+    name = clean(substance).strip(" ,")
+    if name.endswith(")") and name.count(")") > name.count("("):
+        name = name[:-1].rstrip()  # "(calculated as hydrochloride)": the bracket closes
+    return "as acid" if name.casefold().endswith(" acid") else f"as {name}"
 
 
 # oxidative hair dyes: "after mixing under oxidative conditions the maximum concentration applied
