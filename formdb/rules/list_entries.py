@@ -326,14 +326,17 @@ def judge(entry: ListEntry, item: Item, members: list[Item], formula: ResolvedFo
 class ListEntryLimits(Rule):
     """A line against the imported EU annex entries: prohibited, over a maximum, or not allowed.
 
-    Flags: a substance of Annex II (prohibited) at any concentration; an amount over the maximum
-    of the Annex III, IV, V or VI part that applies, or a pH outside its range; a product type
-    the entry does not cover (not allowed). Each finding names the entry, the part and why it
-    applies (category, product, the line's ``purpose``). When the formula does not say enough to
-    choose (no product, no purpose), the finding names every reading and asks (warning); it is
-    an error only when every reading fails. Where an entry applies and is met, an info says so.
-    A substance on several lines for the same purpose (or also in a mixture) is judged by its
-    total.
+    Flags: a substance of Annex II (prohibited) at any concentration, or in the one use an entry
+    prohibits it in (hair dyes, fragrance); an amount over the maximum of the Annex III, IV, V
+    or VI part that applies (the entry's substances present together, as acid where the entry
+    says so), or a pH outside its range; a product type the entry does not cover, or its text
+    rules out ("Not to be used in oral products"); a line declared a preservative, UV filter or
+    colorant that Annex V, VI or IV does not list (Art. 14). Each finding names the entry, the
+    part and why it applies (category, product, the line's ``purpose``). When the formula does
+    not say enough to choose (no product, no purpose), the finding names every reading and asks
+    (warning); it is an error only when every reading fails. Where an entry applies and is met,
+    an info says so. A substance on several lines for the same purpose (or also in a mixture) is
+    judged by its total.
     Why: Regulation (EC) No 1223/2009, Articles 14 and 15 and Annexes II-VI, as the Commission's
     exports give them (imported with `formdb lists import`; dated snapshots: check the current
     consolidated text).
