@@ -444,7 +444,19 @@ class ListEntryLimits(Rule):
             if not judged:
                 yield self._not_applying(entry, item, purpose, purpose_from)
                 continue
-            yield self._finding(entry, item, judged, readings, bad_in, because, outcomes)
+            finding = self._finding(entry, item, judged, readings, bad_in, because, outcomes)
+            other = _other_use_entry(entry, item) if purpose is None else None
+            if other is not None and finding.severity is Severity.ERROR:
+                # a colorant and UV filter both (titanium dioxide): the formula does not say
+                # which use, and the other use's annex judges the other reading
+                use = "a UV filter" if entry.annex == "VI" else "a colorant"
+                finding = finding.model_copy(update={
+                    "severity": Severity.WARNING,
+                    "message": f"if used as {use}: {finding.message}; used otherwise, "
+                               f"{other.title} applies (see its finding)",
+                    "advice": f"declare the line's purpose (purpose = \"{_USE_NAME[entry.annex]}"
+                              f"\" or \"{_USE_NAME[other.annex]}\"); {finding.advice}"})
+            yield finding
 
     def _as_colorant(self, entry: ListEntry, colorant: ListEntry, item: Item, because: str
                      ) -> Finding:
@@ -606,6 +618,17 @@ _HAIR_DYE = frozenset({"hair dye", "oxidative hair dye", "non-oxidative hair dye
 # oxide: each entry refers the other use to the other annex (limits.for_other_use), so a line
 # declared for one use is judged by that use's annex only
 _USE_ANNEX = {"colorant": "IV", "uv filter": "VI"}
+
+
+_USE_NAME = {annex: use for use, annex in _USE_ANNEX.items()}
+
+
+def _other_use_entry(entry: ListEntry, item: Item) -> ListEntry | None:
+    """For an entry of Annex IV (VI), the item's entry of Annex VI (IV), if it has one."""
+    if entry.annex not in _USE_NAME:
+        return None
+    return next((e for e in item.entries if e.annex in _USE_NAME and e.annex != entry.annex),
+                None)
 
 
 def _colorant_entry(entry: ListEntry, item: Item, formula: ResolvedFormula,

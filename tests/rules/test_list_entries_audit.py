@@ -436,3 +436,15 @@ def test_thioglycolate_over_as_acid_needs_its_molar_mass(library: Library) -> No
     _set(library, "Thioglycolic Acid", molar_mass="92.12")
     assert verdict(9.0, 9.0) == {"info"}
     assert verdict(7.0, 10.0) == {"error"}
+
+
+def test_a_colorant_and_uv_filter_without_a_purpose_names_the_reading(library: Library) -> None:
+    """VI/30 zinc oxide (25 % as a UV filter) and IV/144 (as a colorant, no maximum): 26 % with
+    no purpose declared is over only if it is a UV filter, so a warning naming that reading (it
+    was an error claiming the UV filter use); declared a UV filter it is an error."""
+    found = lim(library, formula([("Zinc Oxide", 26.0, None)], product="sunscreen lotion"))
+    vi = one(found, "VI/30")
+    assert vi.severity.value == "warning" and vi.message.startswith("if used as a UV filter:")
+    declared = lim(library, formula([("Zinc Oxide", 26.0, "uv filter")],
+                                    product="sunscreen lotion"))
+    assert severities(declared, "VI/30") == {"error"}
