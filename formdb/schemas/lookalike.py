@@ -21,8 +21,17 @@ def look_alike_key(name: str) -> str:
     """Letters and digits only, case folded, look-alikes mapped to one representative."""
     text = unicodedata.normalize("NFKC", name)
     if not text.isascii():
-        from confusables import normalize
-
-        text = normalize(text, prioritize_alpha=True)[0]
+        text = "".join(ch if ch.isascii() else _ascii_form(ch) for ch in text)
     kept = "".join(ch for ch in text.casefold() if ch.isalnum())
     return kept.translate(_ASCII_LOOK_ALIKES)
+
+
+@lru_cache(maxsize=4096)
+def _ascii_form(char: str) -> str:
+    """One non-ASCII character as the ASCII it reads as (itself where none). Character by
+    character: ``confusables.normalize`` of a whole name builds every combination of every
+    character's readings, which grows exponentially with the name (an imported annex name
+    such as "2,2'-[(1,2-dioxoethyl)bis(imino)]bis[...]" took minutes and gigabytes)."""
+    from confusables import normalize
+
+    return str(normalize(char, prioritize_alpha=True)[0])
