@@ -20,6 +20,8 @@ from enum import StrEnum
 from functools import cache, lru_cache
 from typing import Any, get_args
 
+import orjson
+
 from formdb.schemas.change_log import PAYLOAD_VERSION
 from formdb.schemas.ingredient import PROPERTY_NAMES, IngredientProperties
 from formdb.store.models import ChangeLogEntry
@@ -62,6 +64,12 @@ def value_json(value: Any) -> str:
     if (kind is list or kind is tuple) and all(type(v) is str for v in value):
         return "[" + ",".join(map(_escaped, value)) + "]"
     return _PAYLOAD_JSON.encode(value)
+
+
+def float_json(value: float) -> orjson.Fragment:
+    """A float as ``payload_text`` writes it (``repr``; json's NaN and Infinity), for orjson,
+    which writes some floats otherwise (1e-05 as 0.00001)."""
+    return orjson.Fragment(value_json(value))
 
 
 def new_change_json(field: str, new: Any, source: str | None = None,
@@ -258,5 +266,5 @@ def legacy_payload(entity: str, action: str, field: str | None, old_value: str |
     return payload_text(changes, attempted=attempted, sealed=sealed)
 
 
-__all__ = ["FORM", "LEGACY_FORM", "changes_of", "legacy_payload", "log_entry", "log_values",
-           "new_change_json", "payload_of", "payload_text", "value_json"]
+__all__ = ["FORM", "LEGACY_FORM", "changes_of", "float_json", "legacy_payload", "log_entry",
+           "log_values", "new_change_json", "payload_of", "payload_text", "value_json"]

@@ -36,6 +36,7 @@ from datetime import UTC, date, datetime
 from functools import lru_cache
 from typing import Any
 
+import orjson
 from sqlalchemy import Table, event, inspect, text
 from sqlalchemy.orm import ORMExecuteState, Session, UOWTransaction
 
@@ -172,7 +173,13 @@ def seal(table: str, rows: Sequence[dict[str, Any]], first_id: int | Sequence[in
             if isinstance(value, datetime):
                 row[key] = utc(value)
         row["id"], row["prev_hash"] = row_id, prev_hash
-        row["row_hash"] = prev_hash = row_hash(prev_hash, canonical(table, row))
+        if current is None or row["form"] == current:
+            digest = hashlib.sha256(prev_hash.encode("utf-8"))
+            digest.update(_current_canonical_bytes(table, row))
+            prev_hash = digest.hexdigest()
+        else:  # an older form (a migration resealing): the verifier's own text
+            prev_hash = row_hash(prev_hash, canonical(table, row))
+        row["row_hash"] = prev_hash
     return prev_hash
 
 
@@ -193,6 +200,27 @@ def _current_canonical(table: str, values: Mapping[str, Any]) -> str:
         else:
             parts.append(head + _escaped(str(as_text(value))) + "]")
     return "[" + ",".join(parts) + "]"
+
+
+def _current_canonical_bytes(table: str, values: Mapping[str, Any]) -> bytes:
+    """``_current_canonical(table, values)`` as UTF-8, written by orjson: the pairs hold only
+    texts and None, which orjson writes byte for byte as ``json.dumps(..., ensure_ascii=False,
+    separators=(",", ":"))`` does (the same escapes, non-ASCII kept:
+    tests/store/test_canonical_json.py checks every code point). A text orjson refuses (a lone
+    surrogate, which UTF-8 cannot hold) takes json's way, which fails as it always did."""
+    later = ADDED_LATER.get(table)
+    pairs: list[tuple[str, str | None]] = []
+    for column in SEALED_COLUMNS[table]:
+        value = values.get(column)
+        if value is None:
+            if later is None or column not in later:
+                pairs.append((column, None))
+        else:
+            pairs.append((column, value if type(value) is str else str(as_text(value))))
+    try:
+        return orjson.dumps(pairs)
+    except orjson.JSONEncodeError:
+        return _current_canonical(table, values).encode("utf-8")
 
 
 # a str as _CANONICAL_JSON writes it (ensure_ascii=False: the same escaping function)

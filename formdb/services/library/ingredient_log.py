@@ -15,7 +15,10 @@ from collections.abc import Iterable, Mapping
 from enum import StrEnum
 from typing import Any
 
+import orjson
+
 from formdb.errors import InvalidData
+from formdb.schemas.change_log import PAYLOAD_VERSION
 from formdb.schemas.ingredient import (
     PROPERTY_NAMES,
     IngredientIn,
@@ -24,7 +27,7 @@ from formdb.schemas.ingredient import (
     Provenance,
 )
 from formdb.schemas.vocab import Evidence, Role
-from formdb.store.change_log import new_change_json, payload_of
+from formdb.store.change_log import float_json, new_change_json, payload_of
 
 Field = tuple[Any, str | None, str | None]  # value, source key, note
 Fields = dict[str, Field]
@@ -88,11 +91,45 @@ def typed_changes(old: Fields | None, new: Fields) -> list[dict[str, Any]]:
 
 
 def added_payload(item: IngredientIn, *, via: str | None) -> str:
-    """``payload_text(typed_changes(None, fields_of(item)), via=via)``, written as text in one
-    pass (no dicts built and encoded): the payload of a new ingredient's change-log entry (an
-    import adds tens of thousands). Every field that holds something, from nothing: the name,
-    the lists that are not empty, each property's value with its source and, where there is
-    one, its note."""
+    """``payload_text(typed_changes(None, fields_of(item)), via=via)``: the payload of a new
+    ingredient's change-log entry (an import adds tens of thousands), written by orjson. Every
+    field that holds something, from nothing: the name, the lists that are not empty, each
+    property's value with its source and, where there is one, its note. orjson writes texts,
+    whole numbers and booleans as ``json`` does; a float goes in as the text ``json`` gives it
+    (orjson writes 1e-05 as 0.00001). A value orjson refuses (a lone surrogate in a note, a
+    whole number beyond 64 bits) takes the text path, ``added_payload_text``."""
+    changes: list[dict[str, Any]] = [{"field": "inci_name", "old": None,
+                                      "new": item.inci_name}]
+    for field, items in (("synonyms", sorted(item.synonyms, key=str.casefold)),
+                         ("cas", sorted(item.cas_numbers)),
+                         ("roles", sorted(_data(r) for r in item.roles)),
+                         ("classes", sorted(item.classes))):
+        if items:
+            changes.append({"field": field, "old": [], "new": items})
+    sources, notes = item.sources, item.notes
+    for prop, value in vars(item.properties).items():  # the fields, in catalogue order
+        if value is None:
+            continue
+        change = {"field": prop, "old": None,
+                  "new": float_json(value) if type(value) is float else _data(value)}
+        source = sources.get(prop)
+        if source is not None:
+            change["old_source"], change["new_source"] = None, source
+        note = notes.get(prop)
+        if note:
+            change["old_note"], change["new_note"] = None, note
+        changes.append(change)
+    body: dict[str, Any] = {"v": PAYLOAD_VERSION, "changes": changes}
+    if via is not None:
+        body["via"] = via
+    try:
+        return orjson.dumps(body).decode("utf-8")
+    except orjson.JSONEncodeError:
+        return added_payload_text(item, via=via)
+
+
+def added_payload_text(item: IngredientIn, *, via: str | None) -> str:
+    """``added_payload`` written as text in one pass, each value through ``value_json``."""
     parts = [new_change_json("inci_name", item.inci_name)]
     for field, items in (("synonyms", sorted(item.synonyms, key=str.casefold)),
                          ("cas", sorted(item.cas_numbers)),
@@ -151,5 +188,5 @@ def record_from_fields(fields: Fields, *, ingredient_id: int, version: int,
                           f"({exc}).", hint="compare with a later version (--since)") from None
 
 
-__all__ = ["FIELD_ORDER", "Fields", "added_payload", "fields_of", "record_from_fields",
-           "typed_changes", "undo"]
+__all__ = ["FIELD_ORDER", "Fields", "added_payload", "added_payload_text", "fields_of",
+           "record_from_fields", "typed_changes", "undo"]
