@@ -38,7 +38,7 @@ _EMPTY_LIST: Field = ([], None, None)
 
 
 def _data(value: Any) -> Any:
-    return value.value if isinstance(value, StrEnum) else value
+    return str(value) if isinstance(value, StrEnum) else value  # a StrEnum's str is its value
 
 
 def fields_of(item: IngredientIn | IngredientRecord, retired: bool | None = None) -> Fields:
@@ -100,12 +100,15 @@ def added_payload(item: IngredientIn, *, via: str | None) -> str:
     whole number beyond 64 bits) takes the text path, ``added_payload_text``."""
     changes: list[dict[str, Any]] = [{"field": "inci_name", "old": None,
                                       "new": item.inci_name}]
-    for field, items in (("synonyms", sorted(item.synonyms, key=str.casefold)),
-                         ("cas", sorted(item.cas_numbers)),
-                         ("roles", sorted(_data(r) for r in item.roles)),
-                         ("classes", sorted(item.classes))):
-        if items:
-            changes.append({"field": field, "old": [], "new": items})
+    if item.synonyms:  # the lists that are not empty (most rows have few)
+        changes.append({"field": "synonyms", "old": [],
+                        "new": sorted(item.synonyms, key=str.casefold)})
+    if item.cas_numbers:
+        changes.append({"field": "cas", "old": [], "new": sorted(item.cas_numbers)})
+    if item.roles:
+        changes.append({"field": "roles", "old": [], "new": sorted(map(str, item.roles))})
+    if item.classes:
+        changes.append({"field": "classes", "old": [], "new": sorted(item.classes)})
     sources, notes = item.sources, item.notes
     for prop, value in vars(item.properties).items():  # the fields, in catalogue order
         if value is None:

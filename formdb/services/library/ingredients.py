@@ -636,22 +636,28 @@ def _insert_chunk(session: Session, batch: Sequence[IngredientIn], evidence: Map
     values: list[tuple[object, ...]] = []
     log: list[dict[str, Any]] = []
     for ingredient_id, item in zip(ids, batch, strict=True):
-        names.append((ingredient_id, item.inci_name, name_key(item.inci_name), True))
-        names += [(ingredient_id, s, k, False)
-                  for k, s in {name_key(s): s for s in item.synonyms}.items()]
-        cas += [(ingredient_id, v) for v in sorted(set(item.cas_numbers))]
-        roles += [(ingredient_id, v) for v in sorted({r.value for r in item.roles})]
-        classes += [(ingredient_id, v) for v in sorted(set(item.classes))]
+        inci_name = item.inci_name
+        names.append((ingredient_id, inci_name, name_key(inci_name), True))
+        if item.synonyms:  # most rows have none of these lists: no empty sorts
+            names += [(ingredient_id, s, k, False)
+                      for k, s in {name_key(s): s for s in item.synonyms}.items()]
+        if item.cas_numbers:
+            cas += [(ingredient_id, v) for v in sorted(set(item.cas_numbers))]
+        if item.roles:
+            roles += [(ingredient_id, v) for v in sorted({str(r) for r in item.roles})]
+        if item.classes:
+            classes += [(ingredient_id, v) for v in sorted(set(item.classes))]
+        sources, notes = item.sources, item.notes
         for prop, value in vars(item.properties).items():  # the fields, in catalogue order
             if value is None:
                 continue
             num, text = ((value, None) if type(value) is float
                          else queries.property_columns(prop, value))
-            source = item.sources[prop]
+            source = sources[prop]
             values.append((ingredient_id, prop, num, text, source, evidence[source],
-                           item.notes.get(prop)))
+                           notes.get(prop)))
         log.append(log_values(
-            at=now, user=user, entity=ENTITY, entity_key=item.inci_name, entity_version=1,
+            at=now, user=user, entity=ENTITY, entity_key=inci_name, entity_version=1,
             action=action, payload=added_payload(item, via=via), reason=reason))
     for model, columns, rows in (
             (IngredientName, ("ingredient_id", "name", "name_key", "is_primary"), names),
