@@ -88,6 +88,7 @@ def _source_problems(wanting: Mapping[tuple[str, str], list[str]],
 
 
 _PROPERTY_COLUMNS = tuple((prop, f"{prop}_source", f"{prop}_note") for prop in PROPERTY_NAMES)
+_NOTE_COLUMNS = frozenset(note for _prop, _source, note in _PROPERTY_COLUMNS)
 
 
 # A table repeats its cells (a vocabulary word, a source, a number to a few digits: a 50,000-row
@@ -178,7 +179,7 @@ class FileRow:
     """One data row of an import file, as cells, with where each cell came from."""
 
     row: int
-    given: Cells  # only the columns the file has, non-empty or not
+    given: Cells  # the file's non-blank cells, and its note columns' cells even when blank
     source_columns: dict[str, str] = field(default_factory=dict)
 
 
@@ -229,19 +230,27 @@ def read_ingredient_rows(table: RawTable) -> tuple[list[FileRow], list[Problem]]
         return Problem(table.file, f"the cell {text[:40]!r} is in a column without a header",
                        number, _letters(index))
 
+    # a blank cell is left out of a row's cells (it changes nothing), but for a note column's
+    # (it clears the note): a 50,000-row table of 60 columns holds mostly blank cells
+    notes = [column for column in mapped_columns if column in _NOTE_COLUMNS]
     for number, cells in table.rows:
         given: Cells
         if len(cells) == width:  # as read_table gives them: every row as wide as the header
-            given = dict(zip(mapped_columns, pick(cells), strict=False))
+            texts = pick(cells)
+            # the non-blank cells, picked in C (texts has one more item: see pick)
+            given = dict(compress(zip(mapped_columns, texts, strict=False), texts))
             problems += [headless_cell(number, index, cells[index])
                          for index in headless if cells[index]]
         else:
             given = {}
             for index, text in enumerate(cells):
                 if index in columns:
-                    given[columns[index]] = text
+                    if text:
+                        given[columns[index]] = text
                 elif text and (index >= width or not table.header[index]):
                     problems.append(headless_cell(number, index, text))
+        for column in notes:
+            given.setdefault(column, "")
         row = FileRow(number, given)
         if has_shared:  # without the column there is nothing to fill in
             shared = given.pop(SHARED_SOURCE, "")

@@ -12,6 +12,7 @@ import io
 import zipfile
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
+from itertools import chain
 from pathlib import Path
 
 from formdb.errors import InvalidData
@@ -140,7 +141,9 @@ def _read_csv(path: Path, raw: bytes) -> list[list[str]]:
                      "never closed")
         raise_problems([Problem(str(path), what, row=reader.line_num or None)])
     # The widest record sets the column count, so ragged rows are read (and reported), not fatal.
-    width = max((len(r) for r in records), default=1)
+    width = max(map(len, records), default=1)
+    if min(map(len, records), default=width) == width:  # none ragged: nothing to pad
+        return records
     return [r + [""] * (width - len(r)) for r in records]
 
 
@@ -189,9 +192,11 @@ def _bounded(name: str, cells: list[list[str]]) -> None:
     widest = max(map(len, cells), default=0)
     if widest > MAX_TABLE_COLUMNS:  # a workbook (a CSV's rows are counted as they are read)
         _too_wide(name, widest, None)
+    if max(map(len, chain.from_iterable(cells)), default=0) <= MAX_CELL_CHARS:
+        return  # the common case, every cell checked in one pass in C
     for number, row in enumerate(cells, start=1):
         if max(map(len, row), default=0) <= MAX_CELL_CHARS:
-            continue  # the common case, checked in C; the first long cell is found below
+            continue  # the first long cell is found below
         for column, cell in enumerate(row, start=1):
             if len(cell) > MAX_CELL_CHARS:
                 raise_problems([Problem(name, f"the cell holds {len(cell):,} characters, more "
