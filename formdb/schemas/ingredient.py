@@ -249,9 +249,10 @@ class IngredientIn(BaseModel):
 
     @model_validator(mode="after")
     def _names_distinct_and_sources_known(self) -> IngredientIn:
-        own = name_key(self.inci_name)
+        # the names are in display form (their validators made them so): name_key is casefold
+        own = self.inci_name.casefold()
         for syn in self.synonyms:
-            if name_key(syn) == own:
+            if syn.casefold() == own:
                 raise ValueError(f"synonyms: {syn!r} repeats the INCI name")
         sources = self.sources
         if not _PROPERTY_SET.issuperset(sources):

@@ -448,8 +448,9 @@ def _import_table(session: Session, path: Path, *, user: str, reason: str | None
     unusual: list[tuple[int, Ingredient | None, IngredientIn, list[FieldChange]]] = []
     labels = header_labels(table)
     sources = _sources(session)
-    # each row's names as (column, name, key), worked out once
-    row_names = [[(column, n, name_key(n)) for column, n in _names_of(r.given)] for r in rows]
+    # each row's names as (column, name, key), worked out once; a name in display form (as
+    # _names_of gives them) has its casefold as its name_key, with no memo to fill
+    row_names = [[(column, n, n.casefold()) for column, n in _names_of(r.given)] for r in rows]
     owners = _owners(session, (key for names in row_names for _c, _n, key in names))
     blank = empty_cells()  # the cells of a new ingredient (read, never changed)
     report = ImportReport(str(path), dry_run)
@@ -637,10 +638,11 @@ def _insert_chunk(session: Session, batch: Sequence[IngredientIn], evidence: Map
     log: list[dict[str, Any]] = []
     for ingredient_id, item in zip(ids, batch, strict=True):
         inci_name = item.inci_name
-        names.append((ingredient_id, inci_name, name_key(inci_name), True))
+        # validated names are in display form: name_key is their casefold
+        names.append((ingredient_id, inci_name, inci_name.casefold(), True))
         if item.synonyms:  # most rows have none of these lists: no empty sorts
             names += [(ingredient_id, s, k, False)
-                      for k, s in {name_key(s): s for s in item.synonyms}.items()]
+                      for k, s in {s.casefold(): s for s in item.synonyms}.items()]
         if item.cas_numbers:
             cas += [(ingredient_id, v) for v in sorted(set(item.cas_numbers))]
         if item.roles:
