@@ -91,7 +91,10 @@ def insert_dicts(session: Session, table: Table, rows: Sequence[Mapping[str, Any
         session.connection().execute(insert(table), [dict(row) for row in rows])
         return
     columns = list(keys)
-    insert_rows(session, table, columns, [tuple(row[c] for c in columns) for row in rows])
+    if len(columns) == 1:
+        insert_rows(session, table, columns, [(row[columns[0]],) for row in rows])
+        return
+    insert_rows(session, table, columns, list(map(itemgetter(*columns), rows)))  # tuples, in C
 
 
 def _processor(table: Table, name: str, dialect: Dialect) -> Callable[[Any], Any] | None:

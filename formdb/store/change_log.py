@@ -69,7 +69,8 @@ def value_json(value: Any) -> str:
 def float_json(value: float) -> orjson.Fragment:
     """A float as ``payload_text`` writes it (``repr``; json's NaN and Infinity), for orjson,
     which writes some floats otherwise (1e-05 as 0.00001)."""
-    return orjson.Fragment(value_json(value))
+    text = float.__repr__(value)  # value_json's own way, without its look at the type
+    return orjson.Fragment(text if text not in _NOT_FINITE else _PAYLOAD_JSON.encode(value))
 
 
 def new_change_json(field: str, new: Any, source: str | None = None,
