@@ -140,22 +140,24 @@ def validate_cells(cells: Mapping[str, str], sources: Mapping[str, str],
     values: dict[str, object] = {}
     chosen: dict[str, str] = {}
     notes: dict[str, str] = {}
-    wanting: dict[tuple[str, str], list[str]] = {}
     # the properties whose cell holds something (a few of the 25 on most rows), picked in C
     for prop, source_column, note_column in compress(_PROPERTY_COLUMNS,
                                                      map(cells.get, PROPERTY_NAMES)):
-        text = cells[prop]
         try:
-            values[prop] = _property_value(prop, text)
+            values[prop] = _property_value(prop, cells[prop])
         except FieldProblem as exc:
             problems.append((prop, str(exc)))
-        key = cells.get(source_column, "")
-        column = source_columns.get(prop, source_column) if source_columns else source_column
-        wanting.setdefault((column, key), []).append(prop)
-        chosen[prop] = key
+        chosen[prop] = cells.get(source_column, "")
         if cells.get(note_column, ""):
             notes[prop] = cells[note_column]
-    problems += _source_problems(wanting, sources)
+    keys = chosen.values()
+    if "" in keys or not all(map(sources.__contains__, keys)):  # a source missing or unknown
+        wanting: dict[tuple[str, str], list[str]] = {}
+        for prop, key in chosen.items():
+            source_column = f"{prop}_source"
+            column = source_columns.get(prop, source_column) if source_columns else source_column
+            wanting.setdefault((column, key), []).append(prop)
+        problems += _source_problems(wanting, sources)
     if problems:
         return None, problems
     try:
