@@ -110,9 +110,8 @@ def added_payload(item: IngredientIn, *, via: str | None) -> str:
     if item.classes:
         changes.append({"field": "classes", "old": [], "new": sorted(item.classes)})
     sources, notes = item.sources, item.notes
-    for prop, value in vars(item.properties).items():  # the fields, in catalogue order
-        if value is None:
-            continue
+    # the fields that hold a value, in catalogue order (a comprehension: most are None)
+    for prop, value in [(p, v) for p, v in vars(item.properties).items() if v is not None]:
         change = {"field": prop, "old": None,
                   "new": float_json(value) if type(value) is float else _data(value)}
         source = sources.get(prop)

@@ -535,8 +535,8 @@ def _import_table(session: Session, path: Path, *, user: str, reason: str | None
     if dry_run:
         return report
     now = datetime.now(UTC)
-    _ensure_special_sources(session, (s for _t, item, _c, _b in plans
-                                      for s in item.sources.values()))
+    _ensure_special_sources(session, set().union(*(item.sources.values()
+                                                   for _t, item, _c, _b in plans)))
     why = reason or f"imported from {path.name}"
     via = path.name
     new_run: list[IngredientIn] = []
@@ -646,13 +646,12 @@ def _insert_chunk(session: Session, batch: Sequence[IngredientIn], evidence: Map
         if item.cas_numbers:
             cas += [(ingredient_id, v) for v in sorted(set(item.cas_numbers))]
         if item.roles:
-            roles += [(ingredient_id, v) for v in sorted({str(r) for r in item.roles})]
+            roles += [(ingredient_id, v) for v in sorted(set(map(str, item.roles)))]
         if item.classes:
             classes += [(ingredient_id, v) for v in sorted(set(item.classes))]
         sources, notes = item.sources, item.notes
-        for prop, value in vars(item.properties).items():  # the fields, in catalogue order
-            if value is None:
-                continue
+        # the fields that hold a value, in catalogue order (a comprehension: most are None)
+        for prop, value in [(p, v) for p, v in vars(item.properties).items() if v is not None]:
             num, text = ((value, None) if type(value) is float
                          else queries.property_columns(prop, value))
             source = sources[prop]
