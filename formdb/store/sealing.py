@@ -209,14 +209,20 @@ def _current_canonical_bytes(table: str, values: Mapping[str, Any]) -> bytes:
     tests/store/test_canonical_json.py checks every code point). A text orjson refuses (a lone
     surrogate, which UTF-8 cannot hold) takes json's way, which fails as it always did."""
     later = ADDED_LATER.get(table)
-    pairs: list[tuple[str, str | None]] = []
-    for column in SEALED_COLUMNS[table]:
-        value = values.get(column)
-        if value is None:
-            if later is None or column not in later:
-                pairs.append((column, None))
-        else:
-            pairs.append((column, value if type(value) is str else str(as_text(value))))
+    columns = SEALED_COLUMNS[table]
+    pairs: list[tuple[str, str | None]]
+    if later is None:  # every column listed (the change log): the values picked in C
+        pairs = list(zip(columns, [v if v is None or type(v) is str else str(as_text(v))
+                                   for v in map(values.get, columns)], strict=True))
+    else:
+        pairs = []
+        for column in columns:
+            value = values.get(column)
+            if value is None:
+                if column not in later:
+                    pairs.append((column, None))
+            else:
+                pairs.append((column, value if type(value) is str else str(as_text(value))))
     try:
         return orjson.dumps(pairs)
     except orjson.JSONEncodeError:
