@@ -176,7 +176,7 @@ def validate_cells(cells: Mapping[str, str], sources: Mapping[str, str],
     return item, []
 
 
-@dataclass
+@dataclass(slots=True)  # one per row of a table of tens of thousands
 class FileRow:
     """One data row of an import file, as cells, with where each cell came from."""
 
