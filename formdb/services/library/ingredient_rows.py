@@ -93,10 +93,25 @@ _NOTE_COLUMNS = frozenset(note for _prop, _source, note in _PROPERTY_COLUMNS)
 
 # A table repeats its cells (a vocabulary word, a source, a number to a few digits: a 50,000-row
 # table has about 60,000 distinct property cells in 270,000), and reading one is a pure function
-# of the column and the text, so each is read once; a cell that cannot be read is not kept.
-@lru_cache(maxsize=1 << 16)
+# of the column and the text, so each is read once: one dict of readings per property, looked
+# up without a call (all emptied when they hold _READINGS_KEPT between them); a cell that
+# cannot be read is not kept.
+_READINGS_KEPT = 1 << 16
+_readings: dict[str, dict[str, object]] = {prop: {} for prop in PROPERTY_NAMES}
+_kept = 0
+
+
 def _property_value(prop: str, text: str) -> object:
-    return parse_property(prop, text)
+    """``parse_property(prop, text)``, kept in ``_readings``."""
+    global _kept
+    value = parse_property(prop, text)
+    if _kept >= _READINGS_KEPT:
+        for readings in _readings.values():
+            readings.clear()
+        _kept = 0
+    _readings[prop][text] = value
+    _kept += 1
+    return value
 
 
 @lru_cache(maxsize=1 << 14)
@@ -125,15 +140,16 @@ def validate_cells(cells: Mapping[str, str], sources: Mapping[str, str],
     name = normalise_inci(cells.get(NAME_COLUMN, ""))
     if not name:
         problems.append((NAME_COLUMN, "the INCI name is missing; every row needs one"))
-    lists: dict[str, list[str]] = {}
+    lists: dict[str, tuple[str, ...]] = {}
     for column in LIST_FIELDS:
         cell = cells.get(column, "")
         if not cell:
-            lists[column] = []
+            lists[column] = ()
             continue
         items, unread = _list_cell(column, cell)
-        lists[column] = list(items)
-        problems += [(column, text) for text in unread]
+        lists[column] = items
+        if unread:
+            problems += [(column, text) for text in unread]
     for synonym in lists["synonyms"]:
         if name and name_key(synonym) == name_key(name):
             problems.append(("synonyms", f"synonym {synonym!r} repeats the INCI name"))
@@ -143,10 +159,15 @@ def validate_cells(cells: Mapping[str, str], sources: Mapping[str, str],
     # the properties whose cell holds something (a few of the 25 on most rows), picked in C
     for prop, source_column, note_column in compress(_PROPERTY_COLUMNS,
                                                      map(cells.get, PROPERTY_NAMES)):
-        try:
-            values[prop] = _property_value(prop, cells[prop])
-        except FieldProblem as exc:
-            problems.append((prop, str(exc)))
+        text = cells[prop]
+        read = _readings[prop]
+        if text in read:
+            values[prop] = read[text]
+        else:
+            try:
+                values[prop] = _property_value(prop, text)
+            except FieldProblem as exc:
+                problems.append((prop, str(exc)))
         chosen[prop] = cells.get(source_column, "")
         if cells.get(note_column, ""):
             notes[prop] = cells[note_column]
@@ -162,8 +183,8 @@ def validate_cells(cells: Mapping[str, str], sources: Mapping[str, str],
         return None, problems
     try:
         item = IngredientIn(
-            inci_name=name, synonyms=tuple(lists["synonyms"]), cas_numbers=tuple(lists["cas"]),
-            roles=tuple(lists["roles"]), classes=tuple(lists["classes"]),
+            inci_name=name, synonyms=lists["synonyms"], cas_numbers=lists["cas"],
+            roles=lists["roles"], classes=lists["classes"],
             properties=IngredientProperties(**values),
             sources=chosen, notes=notes)
     except ValidationError as exc:
