@@ -44,6 +44,8 @@ from formdb.store.db import make_engine, sqlite_path
 from tests.helpers import (
     HYPOTHESIS_PROFILE_ENV,
     PG_ENV,
+    commands_share_engines,
+    dispose_kept_engines,
     fresh_pg_database,
     fresh_pg_schema,
     pg_base_url,
@@ -200,8 +202,17 @@ def seeded_library_url(request: pytest.FixtureRequest) -> str:
 
 @pytest.fixture(autouse=True)
 def _close_opened_libraries() -> Iterator[None]:
-    """Dispose of the Libraries a test opened with tests.libraries.opened."""
+    """Dispose of the Libraries a test opened with tests.libraries.opened, and of the engines
+    its in-process commands shared (tests.helpers.command_engine)."""
     from tests.libraries import close_all
 
     yield
     close_all()
+    dispose_kept_engines()
+
+
+@pytest.fixture(autouse=True, scope="session")
+def _commands_share_engines() -> Iterator[None]:
+    """Commands run by tests.helpers.run_formdb reuse their test's engines (see there)."""
+    with commands_share_engines():
+        yield

@@ -5,9 +5,11 @@ from __future__ import annotations
 
 import os
 import shutil
+import threading
 from collections import OrderedDict
 from collections.abc import Collection, Iterator, Mapping, Sequence
 from contextlib import contextmanager
+from contextvars import ContextVar
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -17,8 +19,9 @@ import click
 import pytest
 from click.testing import CliRunner
 from sqlalchemy import MetaData, Select, create_engine, func, select, text
-from sqlalchemy.engine import Connection, Engine, make_url
+from sqlalchemy.engine import URL, Connection, Engine, make_url
 
+from formdb.store import db as store_db
 from formdb.store.db import in_role_catalog_transaction, make_engine
 from formdb.store.sealing import FORMS, SEALED_COLUMNS, seal
 
@@ -62,8 +65,10 @@ def dump_database(url: str, exclude_columns: Collection[str] = (),
 
     Speed (it runs before and after most refused commands): the reflected tables are reused for
     any database whose schema reads the same (``_schema_text``: every table, column and type),
-    and the engine is kept per URL (connections closed after each dump) so SQLAlchemy compiles
-    each table's SELECT once.
+    and the engine is kept per URL so SQLAlchemy compiles each table's SELECT once. A SQLite
+    file's connection is closed after each dump; a PostgreSQL one stays open until the test
+    ends (``dispose_kept_engines``), so the dumps of a test share one server backend instead of
+    starting one each.
     """
     engine = _dump_engine(url)
     try:
@@ -84,7 +89,8 @@ def dump_database(url: str, exclude_columns: Collection[str] = (),
                 lines.extend(" | ".join(_cell(v) for v in row) for row in rows)
         return "\n".join(lines) + "\n"
     finally:
-        engine.dispose()  # no connection stays open (a PostgreSQL test database is dropped)
+        if engine.dialect.name == "sqlite":
+            engine.dispose()  # no connection keeps the file (and its write-ahead log) open
 
 
 _DUMP_ENGINES: OrderedDict[str, Engine] = OrderedDict()
@@ -239,18 +245,125 @@ def cli_commands() -> list[tuple[tuple[str, ...], click.Command]]:
 
 
 def run_formdb(args: Sequence[str], env: Mapping[str, str | None] | None = None) -> CliResult:
-    """Run ``formdb ARGS`` through its real entry point (the one error handler included)."""
+    """Run ``formdb ARGS`` through its real entry point (the one error handler included).
+
+    The command makes and checks its engine as a process would (``store.db.make_engine``: the
+    path, the probe, the revision), but is handed the engine object an earlier command of the
+    same test made for the same URL and options (``command_engine``)."""
     from formdb.cli.main import main
 
     runner = CliRunner()
     code = 0
-    with runner.isolation(env=dict(env or {})) as (out, err, _):
-        try:
-            main(list(args))
-        except SystemExit as exc:
-            code = exc.code if isinstance(exc.code, int) else (0 if exc.code is None else 1)
-        stdout, stderr = out.getvalue(), err.getvalue()
+    in_command = _IN_COMMAND.set(True)
+    try:
+        with runner.isolation(env=dict(env or {})) as (out, err, _):
+            try:
+                main(list(args))
+            except SystemExit as exc:
+                code = exc.code if isinstance(exc.code, int) else (0 if exc.code is None else 1)
+            stdout, stderr = out.getvalue(), err.getvalue()
+    finally:
+        _IN_COMMAND.reset(in_command)
     return CliResult(code, stdout.decode(), stderr.decode())
+
+
+# --- engines kept across a test's commands ----------------------------------------------------
+# A command in its own process makes one engine, compiles each statement once and opens one
+# connection. Run in-process, command after command, that start-up was most of a short
+# command's cost: SQLAlchemy's statement cache and the dialect's first-connect queries belong
+# to the engine, so every command compiled every statement again (about a third of the client
+# CPU of a refused edit), and on PostgreSQL every command started a server backend and warmed
+# its catalog caches (about 10 ms of server CPU). Within one test, a command is handed the
+# engine an earlier command made for the same URL and options; on PostgreSQL its connections
+# also stay open (the pool's pre-ping replaces one the server ended), on SQLite they are closed
+# when the command disposes its engine, as before (a library file may be replaced or copied
+# between commands, and an open connection would keep its write-ahead log). Everything is
+# disposed after each test (``dispose_kept_engines``, tests/conftest.py).
+
+_REAL_NEW_ENGINE = store_db.new_engine
+_IN_COMMAND: ContextVar[bool] = ContextVar("formdb_test_in_command", default=False)
+_KEPT_ENGINES: dict[tuple[str, str], Engine] = {}
+_KEPT_LOCK = threading.Lock()
+
+
+def command_engine(url: URL, **kwargs: Any) -> Engine:
+    """``store.db.new_engine`` while the tests run (installed by tests/conftest.py): inside
+    ``run_formdb`` the engine kept for (URL, options), else a new one. An in-memory SQLite
+    library (StaticPool) is never kept: each command has its own."""
+    if not _IN_COMMAND.get() or "poolclass" in kwargs:
+        return _REAL_NEW_ENGINE(url, **kwargs)
+    key = (url.render_as_string(hide_password=False), repr(sorted(kwargs.items())))
+    with _KEPT_LOCK:
+        engine = _KEPT_ENGINES.get(key)
+        if engine is None:
+            engine = _KEPT_ENGINES[key] = _REAL_NEW_ENGINE(url, **kwargs)
+            if url.get_backend_name() != "sqlite":
+                _keep_connections(engine)
+        elif url.get_backend_name() != "sqlite" and not _login_still_admitted(engine):
+            Engine.dispose(engine)  # this command logs in anew, and is refused as it would be
+    return engine
+
+
+def _keep_connections(engine: Engine) -> None:
+    """The command's ``dispose()`` leaves the pool as it is: its connections serve the test's
+    next command (``dispose_kept_engines`` closes them)."""
+    def dispose(close: bool = True) -> None:
+        return None
+
+    engine.dispose = dispose  # type: ignore[method-assign]
+
+
+# What the server checks only when a session starts: the login may log in (LOGIN, VALID UNTIL)
+# and connect to this database (CONNECT). A session already open outlives a NOLOGIN, a revoked
+# CONNECT or a dropped role, so a kept connection is given to a command only while a new one
+# would be admitted; everything else (roles, memberships, grants) the server checks per
+# statement, on old sessions as on new.
+_ADMITTED = ("SELECT r.rolcanlogin AND (r.rolvaliduntil IS NULL OR r.rolvaliduntil > now()) "
+             "AND has_database_privilege(r.oid, current_database(), 'CONNECT') "
+             "FROM pg_roles r WHERE r.rolname = session_user")
+
+
+def _login_still_admitted(engine: Engine) -> bool:
+    """Asked on the driver's own connection, so a test counting a command's statements
+    (``before_cursor_execute``) does not count it."""
+    try:
+        raw = engine.raw_connection()
+    except Exception:
+        return False
+    try:
+        cursor = raw.cursor()
+        cursor.execute(_ADMITTED)
+        row = cursor.fetchone()
+        cursor.close()
+        return bool(row and row[0])
+    except Exception:
+        return False
+    finally:
+        raw.close()
+
+
+@contextmanager
+def commands_share_engines() -> Iterator[None]:
+    """Install ``command_engine`` as ``store.db.new_engine`` (for the whole test session)."""
+    store_db.new_engine = command_engine
+    try:
+        yield
+    finally:
+        store_db.new_engine = _REAL_NEW_ENGINE
+        dispose_kept_engines()
+
+
+def dispose_kept_engines() -> None:
+    """Close what the test's commands and dumps kept open (after each test)."""
+    with _KEPT_LOCK:
+        engines = list(_KEPT_ENGINES.values())
+        _KEPT_ENGINES.clear()
+    for url, engine in list(_DUMP_ENGINES.items()):
+        if engine.dialect.name != "sqlite":
+            del _DUMP_ENGINES[url]
+            engines.append(engine)
+    for engine in engines:
+        Engine.dispose(engine)
 
 
 @contextmanager

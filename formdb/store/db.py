@@ -129,6 +129,18 @@ def _sqlite_begin(conn: Connection) -> None:
     conn.exec_driver_sql("BEGIN IMMEDIATE" if immediate else "BEGIN")
 
 
+def new_engine(url: URL, **kwargs: Any) -> Engine:
+    """A SQLAlchemy engine for ``url`` with formdb's connection settings (SQLite: foreign keys,
+    busy timeout, write-ahead log, our own BEGIN), not yet connected. One place, so that the
+    tests can hand a command the engine an earlier command of the same test used (its compiled
+    statements kept: tests.helpers.run_formdb)."""
+    engine = create_engine(url, **kwargs)
+    if url.get_backend_name() == "sqlite":
+        event.listen(engine, "connect", _sqlite_connect_settings)
+        event.listen(engine, "begin", _sqlite_begin)
+    return engine
+
+
 def make_engine(url_or_path: str, *, must_exist: bool = False) -> Engine:
     """An engine for the library at ``url_or_path``, tried once so a bad URL fails here.
 
@@ -156,12 +168,9 @@ def make_engine(url_or_path: str, *, must_exist: bool = False) -> Engine:
         kwargs["pool_pre_ping"] = True
         kwargs["connect_args"] = {"connect_timeout": 10}
     try:
-        engine = create_engine(url, **kwargs)
+        engine = new_engine(url, **kwargs)
     except (NoSuchModuleError, ArgumentError, ImportError) as exc:
         raise ConfigError(f"cannot open database {shown}: {exc}", hint=_URL_HINT) from exc
-    if url.get_backend_name() == "sqlite":
-        event.listen(engine, "connect", _sqlite_connect_settings)
-        event.listen(engine, "begin", _sqlite_begin)
     try:
         with engine.connect() as conn:
             conn.execute(text("SELECT 1" if url.get_backend_name() != "sqlite"

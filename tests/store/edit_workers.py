@@ -14,6 +14,7 @@ import sys
 import time
 from dataclasses import dataclass
 from multiprocessing.context import BaseContext
+from typing import Any
 
 from formdb.errors import Conflict
 from formdb.services.library.ingredients import edit_ingredient, show_ingredient
@@ -40,7 +41,8 @@ def edit_workers_context() -> BaseContext:
     CPU-s each, 14 children a run. The children share nothing with the test process (no engine,
     no connection), as spawned ones did not."""
     ctx = multiprocessing.get_context("forkserver")
-    ctx.set_forkserver_preload([__name__])
+    # first_add's command and its runner, loaded once as well
+    ctx.set_forkserver_preload([__name__, "formdb.cli.ingredients", "tests.helpers"])
     return ctx
 
 
@@ -81,6 +83,19 @@ def edit_rounds(url: str, worker: int, rounds: int, start_at: float) -> list[Att
     finally:
         engine.dispose()
     return out
+
+
+def first_add(url: str, name: str, go: Any, results: Any) -> None:
+    """``formdb ingredient add NAME`` in this process once ``go`` is set, its (exit code,
+    stderr) put on ``results``: one of several users adding the same new name at once. The
+    command module is imported by the fork server, so the children race from the first
+    statement instead of spending a second each importing formdb."""
+    from tests.helpers import run_formdb
+
+    go.wait(60)
+    done = run_formdb(["--db", url, "ingredient", "add", name, "--set", "hlb=9", "--source",
+                       "rule-of-thumb"])
+    results.put((done.exit_code, done.stderr))
 
 
 def edit_forever(url: str) -> None:

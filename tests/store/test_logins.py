@@ -7,8 +7,6 @@ the server's business: see the README's team section)."""
 from __future__ import annotations
 
 import json
-import subprocess
-import sys
 import zipfile
 from collections.abc import Iterator
 from pathlib import Path
@@ -21,6 +19,7 @@ from sqlalchemy.exc import DBAPIError
 
 from tests.fixtures.tables.library_setup import build_library
 from tests.helpers import drop_roles, dump_database, forge_logged_user, fresh_pg_schema, run_formdb
+from tests.store.edit_workers import edit_workers_context, first_add
 
 pytestmark = [pytest.mark.slow, pytest.mark.postgres]
 
@@ -374,24 +373,24 @@ def test_only_the_admin_login_downgrades(team: Team) -> None:
         refused.stderr
 
 
-_ADD = """
-import sys
-from formdb.cli.main import main
-sys.argv = ["formdb", "--db", sys.argv[1], "ingredient", "add", "Larkspur Race Ester",
-            "--set", "hlb=9", "--source", "rule-of-thumb"]
-main()
-"""
-
-
 def test_six_concurrent_first_adds_end_in_one_success_and_clean_conflicts(team: Team) -> None:
-    """Issue 13: 20 of 108 concurrent first adds of one name ended in an internal error."""
+    """Issue 13: 20 of 108 concurrent first adds of one name ended in an internal error. Six
+    processes of their own (tests.store.edit_workers.first_add), released together."""
+    ctx = edit_workers_context()
     for round_ in range(3):
         name = f"Larkspur Race Ester {round_}"
-        procs = [subprocess.Popen([sys.executable, "-c", _ADD.replace("Larkspur Race Ester",
-                                                                      name), team.as_("ed")],
-                                  stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+        go, done = ctx.Event(), ctx.Queue()
+        procs = [ctx.Process(target=first_add, args=(team.as_("ed"), name, go, done))
                  for _ in range(6)]
-        results = [(p.wait(timeout=120), p.stderr.read() if p.stderr else "") for p in procs]
+        for proc in procs:
+            proc.start()
+        go.set()
+        try:
+            results = [done.get(timeout=120) for _ in procs]
+        finally:
+            for proc in procs:
+                proc.join(timeout=120)
+        assert [proc.exitcode for proc in procs] == [0] * 6
         assert sum(1 for code, _e in results if code == 0) == 1, results
         for code, err in results:
             if code != 0:
