@@ -20,7 +20,7 @@ import pytest
 from formdb import api
 from formdb.errors import InvalidData
 from formdb.report.weigh_sheet import render_sheet
-from tests.helpers import dump_database, run_formdb
+from tests.helpers import library_state, run_formdb
 
 CREAM = Path(__file__).parents[1] / "fixtures" / "bench_cream.toml"
 SERIES = "Larkspur mineral oil/IPM 70:30 (api)"
@@ -98,8 +98,8 @@ def test_a_flat_series_is_refused_and_nothing_is_stored(seeded_sqlite_url: str) 
                            oils=OILS, from_hlb=6, to_hlb=14)
         for number in range(1, 10):
             api.record_screening(library, SERIES, number, stability=7)
-    before = dump_database(seeded_sqlite_url)
+    before = library_state(seeded_sqlite_url)
     with api.open_library(seeded_sqlite_url) as library, \
             pytest.raises(InvalidData, match="no required HLB fitted"):
         api.fit_screening(library, SERIES, store=True)
-    assert dump_database(seeded_sqlite_url) == before
+    assert library_state(seeded_sqlite_url) == before

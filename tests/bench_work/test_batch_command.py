@@ -15,7 +15,7 @@ from pathlib import Path
 import pytest
 from openpyxl import load_workbook
 
-from tests.helpers import dump_database, run_formdb
+from tests.helpers import library_state, run_formdb
 
 CREAM = Path(__file__).parents[1] / "fixtures" / "bench_cream.toml"
 
@@ -151,12 +151,12 @@ def test_html_escapes_the_formulas_text(seeded_library_url: str, tmp_path: Path)
 ])
 def test_bad_options_are_one_line_and_exit_2(seeded_library_url: str, args: list[str],
                                              message: str) -> None:
-    before = dump_database(seeded_library_url)
+    before = library_state(seeded_library_url)
     result = _batch(seeded_library_url, *args)
     assert result.exit_code == 2
     assert result.stderr.count("Error:") == 1 and message in result.stderr
     assert "Traceback" not in result.stderr
-    assert dump_database(seeded_library_url) == before
+    assert library_state(seeded_library_url) == before
 
 
 def test_an_unwritable_out_leaves_no_file(seeded_library_url: str, tmp_path: Path) -> None:
@@ -180,11 +180,11 @@ def test_an_existing_sheet_is_kept_and_a_name_must_match_its_format(
     for args, message in ((["--out", str(tmp_path / "sheet.pdf")], "not .pdf"),
                           (["--out", str(tmp_path / "s.xlsx"), "--format", "csv"],
                            "the name says xlsx, but --format is csv")):
-        before = dump_database(url)
+        before = library_state(url)
         result = _batch(url, "--kg", "20", *args)
         assert result.exit_code == 2 and message in result.stderr, result.stderr
         assert result.stderr.count("Error:") == 1 and "Traceback" not in result.stderr
-        assert dump_database(url) == before
+        assert library_state(url) == before
     assert not (tmp_path / "sheet.pdf").exists() and not (tmp_path / "s.xlsx").exists()
     assert _batch(url, "--kg", "20", "--out", str(tmp_path / "sheet.txt")).exit_code == 0
     assert (tmp_path / "sheet.txt").read_text(encoding="utf-8").startswith("Weigh sheet:")
@@ -201,11 +201,11 @@ def test_an_existing_sheet_is_kept_and_a_name_must_match_its_format(
 ])
 def test_bad_prices_are_refused_and_nothing_is_written(seeded_library_url: str,
                                                        args: list[str], message: str) -> None:
-    before = dump_database(seeded_library_url)
+    before = library_state(seeded_library_url)
     result = run_formdb(["--db", seeded_library_url, "price", "add", *args])
     assert result.exit_code == 2 and message in result.stderr
     assert result.stderr.count("Error:") == 1
-    assert dump_database(seeded_library_url) == before
+    assert library_state(seeded_library_url) == before
 
 
 def test_a_stored_formula_gets_its_sheet_too(seeded_library_url: str) -> None:

@@ -10,7 +10,7 @@ import pytest
 
 from formdb.schemas.formula import FormulaFile
 from formdb.services.library.formula_files import parse_formula_text
-from tests.helpers import dump_database, run_formdb
+from tests.helpers import library_state, run_formdb
 
 CREAM = Path(__file__).parents[1] / "fixtures" / "bench_cream.toml"
 
@@ -53,7 +53,7 @@ def test_bad_process_values_are_one_line_naming_row_and_key(
     assert old in text
     bad = tmp_path / "bad.toml"
     bad.write_text(text.replace(old, new, 1), encoding="utf-8")
-    before = dump_database(seeded_library_url)
+    before = library_state(seeded_library_url)
     for command in (["check", str(bad)], ["batch", str(bad), "--kg", "20"],
                     ["formula", "import", str(bad)]):
         result = run_formdb(["--db", seeded_library_url, *command])
@@ -61,7 +61,7 @@ def test_bad_process_values_are_one_line_naming_row_and_key(
         assert result.stderr.count("Error:") == 1, result.stderr
         assert f"{bad}, {message}" in result.stderr
         assert "Traceback" not in result.stderr
-    assert dump_database(seeded_library_url) == before
+    assert library_state(seeded_library_url) == before
 
 
 def test_import_and_export_keep_the_process(seeded_library_url: str, tmp_path: Path) -> None:

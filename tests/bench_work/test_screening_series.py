@@ -15,7 +15,7 @@ from pathlib import Path
 
 import pytest
 
-from tests.helpers import dump_database, run_formdb
+from tests.helpers import library_state, run_formdb
 
 SERIES = "Larkspur mineral oil/IPM 70:30"
 PLAN = ["screen", "plan", SERIES, "--oil", "Paraffinum Liquidum=70",
@@ -87,7 +87,7 @@ def test_a_bad_sheets_folder_is_refused_before_the_plan_is_stored(
         seeded_library_url: str, tmp_path: Path) -> None:
     url = seeded_library_url
     folder = tmp_path / "sheets"
-    before = dump_database(url)
+    before = library_state(url)
     missing = _run(url, *PLAN, "--sheets", str(folder))
     assert missing.exit_code == 2 and "not a folder" in missing.stderr
     assert missing.stderr.count("Error:") == 1 and "Traceback" not in missing.stderr
@@ -95,7 +95,7 @@ def test_a_bad_sheets_folder_is_refused_before_the_plan_is_stored(
     (folder / "blend-03.html").write_text("an earlier series' sheet", encoding="utf-8")
     taken = _run(url, *PLAN, "--sheets", str(folder))
     assert taken.exit_code == 2 and "already holds blend-03.html" in taken.stderr
-    assert dump_database(url) == before  # the series was not stored
+    assert library_state(url) == before  # the series was not stored
     assert (folder / "blend-03.html").read_text(encoding="utf-8") == "an earlier series' sheet"
     assert [p.name for p in folder.iterdir()] == ["blend-03.html"]
     assert _run(url, *PLAN).exit_code == 0
@@ -135,11 +135,11 @@ def test_fit_is_refused_without_a_clear_optimum(seeded_library_url: str) -> None
     for number in range(1, 10):
         assert _run(url, "screen", "record", SERIES, "--blend", str(number),
                     "--stability", "7").exit_code == 0
-    before = dump_database(url)
+    before = library_state(url)
     result = _run(url, "screen", "fit", SERIES, "--store")
     assert result.exit_code == 2
     assert "no required HLB fitted: every observed blend scores the same" in result.stderr
-    assert dump_database(url) == before
+    assert library_state(url) == before
 
 
 def test_readings_of_different_ages_are_not_fitted_together(seeded_library_url: str) -> None:
@@ -151,14 +151,14 @@ def test_readings_of_different_ages_are_not_fitted_together(seeded_library_url: 
     for number, score in ((4, "2.0"), (5, "2.5")):
         assert _run(url, "screen", "record", SERIES, "--blend", str(number), "--stability",
                     score, "--after-hours", "168").exit_code == 0
-    before = dump_database(url)
+    before = library_state(url)
     mixed = _run(url, "screen", "fit", SERIES, "--store")
     assert mixed.exit_code == 2 and mixed.stderr.count("Error:") == 1
     assert "of different ages (24 h: blends 1, 2, 3, 6, 7, 8, 9; 168 h: blends 4, 5)" in \
         mixed.stderr and "--after-hours" in mixed.stderr
     week = _run(url, "screen", "fit", SERIES, "--after-hours", "168")
     assert week.exit_code == 2 and "only 2 blends are observed" in week.stderr
-    assert dump_database(url) == before
+    assert library_state(url) == before
     day = _run(url, "screen", "fit", SERIES, "--after-hours", "24", "--store")
     assert day.exit_code == 0, day.stderr
     assert "from stability after 24 h of blends" in day.stdout
@@ -271,11 +271,11 @@ def test_a_filed_review_goes_stale_when_a_measured_value_would_be_taken(
 def test_bad_observations_are_refused(seeded_library_url: str, args: list[str],
                                       message: str) -> None:
     assert _run(seeded_library_url, *PLAN).exit_code == 0
-    before = dump_database(seeded_library_url)
+    before = library_state(seeded_library_url)
     result = _run(seeded_library_url, "screen", "record", SERIES, *args)
     assert result.exit_code == 2 and message in result.stderr
     assert result.stderr.count("Error:") == 1
-    assert dump_database(seeded_library_url) == before
+    assert library_state(seeded_library_url) == before
 
 
 @pytest.mark.parametrize(("change", "message"), [
@@ -295,10 +295,10 @@ def test_bad_plans_are_refused(seeded_library_url: str, change: list[str],
             args[args.index(option) + 1] = change[i + 1]
         else:
             args += change[i:i + 2]
-    before = dump_database(seeded_library_url)
+    before = library_state(seeded_library_url)
     result = _run(seeded_library_url, *args)
     assert result.exit_code == 2 and message in result.stderr, result.stderr
-    assert dump_database(seeded_library_url) == before
+    assert library_state(seeded_library_url) == before
 
 
 def test_a_note_recorded_with_the_readings_is_shown_as_typed(seeded_library_url: str) -> None:

@@ -10,7 +10,7 @@ import pytest
 
 from formdb.store import queries
 from formdb.store.db import open_library, unit_of_work
-from tests.helpers import dump_database, run_formdb
+from tests.helpers import library_state, run_formdb
 from tests.report.factory import formula_toml
 
 SPAN80_TWEEN80 = ["--using", "Sorbitan Oleate", "--using", "Polysorbate 80"]
@@ -53,14 +53,14 @@ def test_text_output_shows_the_ratio_and_the_hlb_sources(seeded_library_url: str
 
 
 def test_unreachable_target_states_the_range(seeded_library_url: str) -> None:
-    before = dump_database(seeded_library_url)
+    before = library_state(seeded_library_url)
     result = _blend(seeded_library_url, "--target", "17", *SPAN80_TWEEN80)
     assert result.exit_code == 2
     lines = result.stderr.strip().splitlines()
     assert len(lines) == 1 and lines[0].startswith("Error: ")
     assert "4.3 to 15" in lines[0] and "17" in lines[0]
     assert result.stdout == ""
-    assert dump_database(seeded_library_url) == before
+    assert library_state(seeded_library_url) == before
 
 
 def test_unknown_emulsifier_suggests_names(seeded_library_url: str) -> None:

@@ -9,7 +9,7 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
-from tests.helpers import dump_database, run_formdb
+from tests.helpers import library_state, run_formdb
 from tests.report.factory import formula_toml
 
 CLEAN = [("Aqua", 70.0), ("Glycerin", 3.0), ("Isopropyl Myristate", 12.0),
@@ -52,9 +52,9 @@ def test_error_finding_exits_1(seeded_library_url: str, tmp_path: Path) -> None:
 
 
 def test_check_writes_nothing_to_the_library(seeded_library_url: str, tmp_path: Path) -> None:
-    before = dump_database(seeded_library_url)
+    before = library_state(seeded_library_url)
     _check(seeded_library_url, str(_file(tmp_path, "a.toml", "Larkspur LB-903", CLEAN)))
-    assert dump_database(seeded_library_url) == before
+    assert library_state(seeded_library_url) == before
 
 
 def test_out_writes_the_report_and_prints_one_line(seeded_library_url: str,

@@ -10,7 +10,7 @@ from pathlib import Path
 
 import pytest
 
-from tests.helpers import dump_database, run_formdb
+from tests.helpers import library_state, run_formdb
 from tests.report.factory import formula_toml
 
 GOOD_LINES = [("Aqua", 75.0), ("Glycerin", 3.0), ("Paraffinum Liquidum", 15.0),
@@ -70,7 +70,7 @@ def test_bad_input_exits_2_with_one_line(case: str, fmt: str, seeded_library_url
                                          tmp_path: Path) -> None:
     path, fragment = _bad_files(tmp_path)[case]
     out = tmp_path / "report.out"
-    before = dump_database(seeded_library_url)
+    before = library_state(seeded_library_url)
     result = run_formdb(["--db", seeded_library_url, "check", str(path), "--format", fmt,
                          "--out", str(out)])
     assert result.exit_code == 2, result
@@ -81,7 +81,7 @@ def test_bad_input_exits_2_with_one_line(case: str, fmt: str, seeded_library_url
     assert "Traceback" not in result.stderr + result.stdout
     assert result.stdout == ""
     assert not out.exists()
-    assert dump_database(seeded_library_url) == before
+    assert library_state(seeded_library_url) == before
 
 
 def test_unknown_ingredient_names_the_row_and_suggests(seeded_library_url: str,

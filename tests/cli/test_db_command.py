@@ -14,7 +14,7 @@ from sqlalchemy import inspect
 
 from formdb.services.library.ingredients import add_ingredient
 from formdb.store.db import alembic_config, head_revision, make_engine, unit_of_work
-from tests.helpers import dump_database, fresh_pg_database, pg_base_url, run_formdb
+from tests.helpers import dump_database, fresh_pg_database, library_state, pg_base_url, run_formdb
 
 pytestmark = pytest.mark.slow  # left out of the fast lane
 
@@ -90,10 +90,10 @@ def test_zip_backup_restores_every_row(seeded_library_url: str, tmp_path: Path) 
         finally:
             engine.dispose()
         # restore fills empty databases only; the restored one is refused and left alone
-        before = dump_database(target)
+        before = library_state(target)
         again = run_formdb(["--db", target, "db", "restore", str(archive), "--yes"])
         assert again.exit_code == 2 and "already holds data" in again.stderr
-        assert dump_database(target) == before
+        assert library_state(target) == before
 
 
 def test_sqlite_copy_backup_round_trips(seeded_sqlite_url: str, tmp_path: Path) -> None:

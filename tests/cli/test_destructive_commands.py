@@ -21,7 +21,7 @@ from sqlalchemy import text
 
 from formdb.services.admin.database import history
 from formdb.store.db import head_revision, make_engine
-from tests.helpers import dump_database, forge_logged_user, run_as
+from tests.helpers import dump_database, forge_logged_user, library_state, run_as
 
 AUDIT_REVISION = "0011_review_runs"  # adds the seals (prev_hash, row_hash) and review records
 BELOW_AUDIT = "0010_mixture_constituents"
@@ -67,7 +67,7 @@ def test_a_user_without_the_admin_role_cannot_downgrade(library: str) -> None:
 @pytest.mark.slow  # seconds per run: left out of the fast lane
 def test_downgrade_below_the_audit_revision_is_refused_while_sealed_rows_exist(
         library: str, tmp_path: Path) -> None:
-    before = dump_database(library)
+    before = library_state(library)
     for extra in ([], ["--discard-sealed-history"]):
         refused = run_as("boss", ["--db", library, "db", "downgrade", BELOW_AUDIT, "--yes",
                                   *extra])
@@ -75,13 +75,13 @@ def test_downgrade_below_the_audit_revision_is_refused_while_sealed_rows_exist(
         assert "would destroy" in refused.stderr and "sealed rows of change_log" in \
             refused.stderr and "refused while sealed audit records exist" in refused.stderr
         assert len(refused.stderr.strip().splitlines()) == 1
-    assert dump_database(library) == before
+    assert library_state(library) == before
     backup = tmp_path / "before-downgrade.zip"
     plan = run_as("boss", ["--db", library, "db", "downgrade", BELOW_AUDIT,
                            "--discard-sealed-history", "--backup", str(backup)])
     assert plan.exit_code == 2 and "discard" in plan.stdout and "remove table review_runs" \
         in plan.stdout
-    assert not backup.exists() and dump_database(library) == before
+    assert not backup.exists() and library_state(library) == before
     done = run_as("boss", ["--db", library, "db", "downgrade", BELOW_AUDIT,
                            "--discard-sealed-history", "--backup", str(backup), "--yes"])
     assert done.exit_code == 0, done.stderr

@@ -49,7 +49,7 @@ from hypothesis import strategies as st
 
 from formdb.cli.main import EXIT_INTERNAL
 from tests.fixtures.tables.library_setup import build_library
-from tests.helpers import CliResult, dump_database, fuzz_examples, run_formdb
+from tests.helpers import CliResult, fuzz_examples, library_state, run_formdb
 
 pytestmark = pytest.mark.slow  # the fuzz lane: left out of `pytest -m "not slow"`
 
@@ -90,9 +90,10 @@ class Scratch:
 
 
 class LibraryState:
-    """The library's dump, taken again only when the SQLite file's bytes (and its write-ahead
-    log's) changed: equal bytes are the same rows, so an unchanged library costs a hash, and
-    any change in the bytes is judged by comparing full dumps."""
+    """The library's state (``tests.helpers.library_state``), taken again only when the SQLite
+    file's bytes (and its write-ahead log's) changed: equal bytes are the same rows, so an
+    unchanged library costs a hash, and any change in the bytes is judged by comparing the
+    states, every row of every table."""
 
     def __init__(self, url: str) -> None:
         from formdb.store.db import sqlite_path
@@ -112,11 +113,11 @@ class LibraryState:
     def snapshot(self) -> tuple[bytes, str]:
         key = self.key()
         if key != self._key:
-            self._key, self._dump = key, dump_database(self.url)
+            self._key, self._dump = key, library_state(self.url)
         return self._key, self._dump
 
     def unchanged_since(self, before: tuple[bytes, str]) -> bool:
-        return self.key() == before[0] or dump_database(self.url) == before[1]
+        return self.key() == before[0] or library_state(self.url) == before[1]
 
 
 NASTY = ["'", '"', ";", "--", "'; DROP TABLE ingredients; --", "<script>alert(1)</script>",
@@ -194,7 +195,7 @@ def _clean(result: CliResult, allowed: tuple[int, ...] = (0, 1, 2)) -> None:
 
 
 def _run(url: str, args: list[str], *, writes: bool) -> CliResult:
-    state = _STATES.setdefault(url, LibraryState(url))
+    state = _STATES.get(url) or _STATES.setdefault(url, LibraryState(url))
     before = state.snapshot() if writes else None
     result = run_formdb(["--db", url, *args])
     _clean(result)

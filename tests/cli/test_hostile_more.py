@@ -20,7 +20,7 @@ from formdb.store.db import make_engine
 from formdb.store.library import Library
 from formdb.store.models import ChangeLogEntry
 from formdb.store.queries import load_reference_data
-from tests.helpers import CliResult, dump_database, run_formdb
+from tests.helpers import CliResult, library_state, run_formdb
 
 
 def _refused(result: CliResult, *fragments: str) -> None:
@@ -77,7 +77,7 @@ def test_record_numbers_are_ascii_and_finite(seeded_library_url: str, tmp_path: 
     every margin of safety of the substance then 'passes' (MoS = inf / SED); '١٢' was stored
     as 12; `exposure add` and `exposure import` took the same."""
     url = seeded_library_url
-    before = dump_database(url)
+    before = library_state(url)
     _refused(run_formdb(["--db", url, "toxicology", "add", "larkspur-glycerin-noael", *_TOX,
                          "--set", f"pod_value={value}"]), "column pod_value", says)
     _refused(run_formdb(["--db", url, "toxicology", "edit", "phenoxyethanol-noael-rat-oral",
@@ -91,7 +91,7 @@ def test_record_numbers_are_ascii_and_finite(seeded_library_url: str, tmp_path: 
                      f"larkspur balm,leave-on,1,{value},from-memory\n", encoding="utf-8")
     _refused(run_formdb(["--db", url, "exposure", "import", str(table)]),
              "row 2, column exposure_g_day", says)
-    assert dump_database(url) == before
+    assert library_state(url) == before
     added = run_formdb(["--db", url, "toxicology", "add", "larkspur-glycerin-noael", *_TOX,
                         "--set", "pod_value=1e3"])
     assert added.exit_code == 0, added.stderr  # a finite ASCII number is still taken
@@ -185,13 +185,13 @@ def test_one_bad_share_is_one_line(seeded_library_url: str, parts: list[str]) ->
     line its sum ('add up to inf %, more than 100 %'), a consequence of the first."""
     url = seeded_library_url
     _blend(url)
-    before = dump_database(url)
+    before = library_state(url)
     for partial in ([], ["--partial"]):
         args = ["--db", url, "mixture", "set", _BLEND, "--source", "from-memory", *partial]
         for part in parts:
             args += ["--part", part]
         _refused(run_formdb(args), "is not a share of a mixture")
-    assert dump_database(url) == before
+    assert library_state(url) == before
 
 
 def test_a_partial_declaration_says_why_no_hlb(seeded_sqlite_url: str) -> None:
@@ -224,11 +224,11 @@ def test_a_toml_file_in_another_encoding_says_so(seeded_library_url: str, tmp_pa
     profile = tmp_path / "p.toml"
     profile.write_bytes(encode('extends = "default"\n'))
     plain = tmp_path / "plain.toml"
-    before = dump_database(url)
+    before = library_state(url)
     for args in (["formula", "import", str(formula)], ["check", str(formula)],
                  ["check", str(plain), "--profile", str(profile)]):
         _refused(run_formdb(["--db", url, *args]), says)
-    assert dump_database(url) == before
+    assert library_state(url) == before
 
 
 # --- record keys ------------------------------------------------------------------------------
@@ -243,7 +243,7 @@ def test_a_new_record_key_holds_visible_characters_only(seeded_library_url: str,
     BEL or a zero-width space; a key is never renamed, and once held it could not be typed
     again and made every XLSX export of its table fail ('an XLSX cell cannot hold' U+0007)."""
     url = seeded_library_url
-    before = dump_database(url)
+    before = library_state(url)
     _refused(run_formdb(["--db", url, "source", "add", key, "--citation", "Larkspur notebook 9",
                          "--kind", "estimate"]), "column key", says)
     _refused(run_formdb(["--db", url, "toxicology", "add", key, *_TOX, "--set",
@@ -257,7 +257,7 @@ def test_a_new_record_key_holds_visible_characters_only(seeded_library_url: str,
                      f"{key},Larkspur notebook 9,estimate\n", encoding="utf-8")
     _refused(run_formdb(["--db", url, "source", "import", str(table)]),
              "row 3, column key", says)
-    assert dump_database(url) == before
+    assert library_state(url) == before
 
 
 def test_a_blend_inside_a_blend_is_exploded_to_its_substances(seeded_library_url: str,
@@ -335,7 +335,7 @@ def test_a_source_is_not_issued_in_the_future(seeded_library_url: str, tmp_path:
     url = seeded_library_url
     sds = ["--citation", "Larkspur supplier sheet 12", "--kind", "supplier data sheet",
            "--set", "supplier=Larkspur Supply", "--set", "document=LS-12"]
-    before = dump_database(url)
+    before = library_state(url)
     _refused(run_formdb(["--db", url, "source", "add", "larkspur-sds-12", *sds,
                          "--set", "issued=2999-01-01"]), "column issued: is in the future")
     _refused(run_formdb(["--db", url, "source", "add", "larkspur-sds-12", *sds,
@@ -346,7 +346,7 @@ def test_a_source_is_not_issued_in_the_future(seeded_library_url: str, tmp_path:
                      "Larkspur Supply,LS-12,2999-01-01\n", encoding="utf-8")
     _refused(run_formdb(["--db", url, "source", "import", str(table)]),
              "row 2, column issued: is in the future")
-    assert dump_database(url) == before
+    assert library_state(url) == before
     added = run_formdb(["--db", url, "source", "add", "larkspur-sds-12", *sds,
                         "--set", "issued=2025-06-30"])
     assert added.exit_code == 0, added.stderr

@@ -25,6 +25,7 @@ from tests.helpers import (
     cli_commands,
     dump_database,
     fresh_pg_database,
+    library_state,
     pg_base_url,
     run_as,
     run_formdb,
@@ -185,10 +186,10 @@ def test_a_table_of_too_many_rows_is_refused(sqlite_url: str, tmp_path: Path,
     rows = "".join(f"Larkspur Row {i},rule-of-thumb\n" for i in range(51))
     path = tmp_path / "rows.csv"
     path.write_text("inci_name,source\n" + rows, encoding="utf-8")
-    before = dump_database(sqlite_url)
+    before = library_state(sqlite_url)
     _refused(run_formdb(["--db", sqlite_url, "ingredient", "import", str(path)]),
              "more than 50 rows")
-    assert dump_database(sqlite_url) == before
+    assert library_state(sqlite_url) == before
 
 
 @pytest.mark.slow  # packing 600 MB: over a second
@@ -363,10 +364,10 @@ def test_a_garbled_unit_is_refused_with_its_cell(library_url: str, tmp_path: Pat
     path = tmp_path / "units.csv"
     path.write_text(f"inci_name,density,source\nLarkspur Unit Oil,0.9 {unit},rule-of-thumb\n",
                     encoding="utf-8")
-    before = dump_database(library_url)
+    before = library_state(library_url)
     result = run_formdb(["--db", library_url, "ingredient", "import", str(path)])
     _refused(result, "row 2", "density")
-    assert dump_database(library_url) == before
+    assert library_state(library_url) == before
 
 
 @pytest.mark.parametrize("size", [40_000, 140_000])
@@ -374,21 +375,21 @@ def test_a_huge_cell_is_refused_with_its_row(library_url: str, tmp_path: Path, s
     path = tmp_path / "big.csv"
     path.write_text(f"inci_name,roles,hlb,source\nLarkspur Big {'x' * size},emollient,5,"
                     "rule-of-thumb\n", encoding="utf-8")
-    before = dump_database(library_url)
+    before = library_state(library_url)
     _refused(run_formdb(["--db", library_url, "ingredient", "import", str(path)]),
              str(path), "row 2")
-    assert dump_database(library_url) == before
+    assert library_state(library_url) == before
 
 
 @pytest.mark.parametrize("digits", [25, 400])  # 400: found by the fuzz suite (OverflowError)
 def test_expect_version_beyond_64_bits_is_refused(seeded_library_url: str, digits: int) -> None:
-    before = dump_database(seeded_library_url)
+    before = library_state(seeded_library_url)
     result = run_formdb(["--db", seeded_library_url, "ingredient", "edit", "Cetyl Alcohol",
                          "--set", "hlb=5", "--source", "rule-of-thumb", "--reason", "test",
                          "--expect-version", "9" * digits])
     assert result.exit_code == 2 and "--expect-version" in result.stderr
     assert "internal problem" not in result.stderr
-    assert dump_database(seeded_library_url) == before
+    assert library_state(seeded_library_url) == before
 
 
 # --- names and numbers -----------------------------------------------------------------------
@@ -400,9 +401,9 @@ def test_expect_version_beyond_64_bits_is_refused(seeded_library_url: str, digit
     ("Larkspur\x07Ester", "U+0007"),
 ])
 def test_invisible_characters_are_refused(library_url: str, name: str, says: str) -> None:
-    before = dump_database(library_url)
+    before = library_state(library_url)
     _refused(run_formdb(["--db", library_url, "ingredient", "add", name]), says)
-    assert dump_database(library_url) == before
+    assert library_state(library_url) == before
 
 
 @pytest.mark.parametrize("lookalike", ["Glуcerin",  # Cyrillic u (U+0443) for y
@@ -410,20 +411,20 @@ def test_invisible_characters_are_refused(library_url: str, name: str, says: str
                                        "Glycérin"])
 def test_a_lookalike_of_an_existing_name_is_refused(seeded_library_url: str,
                                                     lookalike: str) -> None:
-    before = dump_database(seeded_library_url)
+    before = library_state(seeded_library_url)
     _refused(run_formdb(["--db", seeded_library_url, "ingredient", "add", lookalike]),
              "'Glycerin'")
-    assert dump_database(seeded_library_url) == before
+    assert library_state(seeded_library_url) == before
 
 
 def test_a_lookalike_in_an_import_is_refused(seeded_library_url: str, tmp_path: Path) -> None:
     path = tmp_path / "alike.csv"
     path.write_text("inci_name,synonyms,roles\nLarkspur Ester,Polysorbate-20,emollient\n",
                     encoding="utf-8")
-    before = dump_database(seeded_library_url)
+    before = library_state(seeded_library_url)
     result = run_formdb(["--db", seeded_library_url, "ingredient", "import", str(path)])
     _refused(result, "row 2, column synonyms", "'Polysorbate 20'", "--accept-unusual")
-    assert dump_database(seeded_library_url) == before
+    assert library_state(seeded_library_url) == before
 
 
 def test_names_are_stored_nfc(library_url: str) -> None:
@@ -447,10 +448,10 @@ def test_a_formula_name_is_clean_like_an_ingredient_name(library_url: str, tmp_p
     path = tmp_path / "f.toml"
     path.write_text(f'name = "{name}"\ncategory = "leave-on"\n[[ingredients]]\n'
                     'inci = "Aqua"\npercent = 100\n', encoding="utf-8")
-    before = dump_database(library_url)
+    before = library_state(library_url)
     for command in (["formula", "import"], ["check"]):
         _refused(run_formdb(["--db", library_url, *command, str(path)]), "key name", says)
-    assert dump_database(library_url) == before
+    assert library_state(library_url) == before
 
 
 def test_a_formula_line_is_read_in_nfc(library_url: str, tmp_path: Path) -> None:
@@ -464,7 +465,7 @@ def test_a_formula_line_is_read_in_nfc(library_url: str, tmp_path: Path) -> None
 
 @pytest.mark.parametrize("digits", ["١٢", "１２", "۱۲"])  # Arabic-Indic, fullwidth, Persian 12
 def test_numbers_take_ascii_digits_only(library_url: str, tmp_path: Path, digits: str) -> None:
-    before = dump_database(library_url)
+    before = library_state(library_url)
     _refused(run_formdb(["--db", library_url, "ingredient", "add", "Larkspur Digits",
                          "--set", f"hlb={digits}", "--source", "rule-of-thumb"]), "not a number")
     path = tmp_path / "digits.csv"
@@ -474,7 +475,7 @@ def test_numbers_take_ascii_digits_only(library_url: str, tmp_path: Path, digits
     blended = run_formdb(["--db", library_url, "blend", "--target", digits, "--using", "a",
                           "--using", "b"])
     assert blended.exit_code == 2 and "ASCII digits" in blended.stderr
-    assert dump_database(library_url) == before
+    assert library_state(library_url) == before
 
 
 def test_every_number_option_takes_ascii_digits_only() -> None:
@@ -507,11 +508,11 @@ def test_every_number_option_takes_ascii_digits_only() -> None:
 ])
 def test_numbers_in_option_text_take_ascii_digits_only(seeded_sqlite_url: str, args: list[str],
                                                        says: str) -> None:
-    before = dump_database(seeded_sqlite_url)
+    before = library_state(seeded_sqlite_url)
     result = run_formdb(["--db", seeded_sqlite_url, *args])
     assert result.exit_code == 2, result
     assert says in result.stderr and "internal problem" not in result.stderr, result.stderr
-    assert dump_database(seeded_sqlite_url) == before
+    assert library_state(seeded_sqlite_url) == before
 
 
 @pytest.mark.parametrize("balance", ["١:٢٠٠", "1e-300:1e300", "0.01:1e300", "1e-7:200"])
@@ -528,10 +529,10 @@ def test_a_mixture_table_takes_ascii_digits_only(seeded_sqlite_url: str, tmp_pat
     path.write_text("mixture_inci,constituent_inci,percent,source\n"
                     "Glyceryl Stearate,Polysorbate 80,٥٠,rule-of-thumb\n"
                     "Glyceryl Stearate,Polysorbate 60,50,rule-of-thumb\n", encoding="utf-8")
-    before = dump_database(seeded_sqlite_url)
+    before = library_state(seeded_sqlite_url)
     _refused(run_formdb(["--db", seeded_sqlite_url, "mixture", "import", str(path)]),
              "row 2, column percent")
-    assert dump_database(seeded_sqlite_url) == before
+    assert library_state(seeded_sqlite_url) == before
 
 
 @pytest.mark.parametrize("cas", ["0000-00-0", "00-00-0", "٧٧٣٢-١٨-٥", "07732-18-5",
@@ -802,7 +803,7 @@ def test_a_downgrade_backup_is_an_output_like_any_other(sqlite_url: str, tmp_pat
     link.symlink_to(out / "elsewhere.zip")
     existing = out / "existing.zip"
     existing.write_bytes(b"keep me")
-    before = dump_database(sqlite_url)
+    before = library_state(sqlite_url)
     library = sqlite_url.removeprefix("sqlite:///")
     for path, says in ((link, "symbolic link"), (existing, "already exists"),
                        (Path(library), "a file the command reads")):
@@ -810,7 +811,7 @@ def test_a_downgrade_backup_is_an_output_like_any_other(sqlite_url: str, tmp_pat
             _refused(run_formdb(["--db", sqlite_url, "db", "downgrade", previous, "--backup",
                                  str(path), *yes]), says)
     assert not (out / "elsewhere.zip").exists() and existing.read_bytes() == b"keep me"
-    assert dump_database(sqlite_url) == before
+    assert library_state(sqlite_url) == before
     done = run_formdb(["--db", sqlite_url, "db", "downgrade", previous, "--backup",
                        str(out / "fresh.zip"), "--yes"])
     assert done.exit_code == 0, done.stderr

@@ -12,7 +12,7 @@ from pathlib import Path
 import pytest
 
 from tests.fixtures.tables.library_setup import build_library
-from tests.helpers import dump_database, recorded_as, run_as
+from tests.helpers import library_state, recorded_as, run_as
 
 
 @pytest.fixture
@@ -90,11 +90,11 @@ def test_edit_history_and_conflict(library: str) -> None:
     assert edited.exit_code == 0, edited.stderr
     assert "changed Glycerin (now version 2):" in edited.stdout
     assert "density: 1.26 -> 1.261" in edited.stdout
-    before = dump_database(library)
+    before = library_state(library)
     late = _formdb(library, "edit", "Glycerin", "--set", "density=1.25", "--source",
                    "from-memory", "--expect-version", "1", user="ana")
     assert late.exit_code == 2
-    assert dump_database(library) == before
+    assert library_state(library) == before
     lines = late.stderr.strip().splitlines()
     bea = recorded_as(library, "bea")
     assert len(lines) == 1 and lines[0].startswith("Error: 'Glycerin' was changed since "
@@ -113,11 +113,11 @@ def test_edit_history_and_conflict(library: str) -> None:
 
 
 def test_published_value_edit_without_reason(library: str) -> None:
-    before = dump_database(library)
+    before = library_state(library)
     result = _formdb(library, "edit", "Polysorbate 80", "--set", "hlb=15.4", "--source",
                      "larkspur-bench")
     assert result.exit_code == 2
-    assert dump_database(library) == before
+    assert library_state(library) == before
     assert result.stderr.startswith("Error: hlb of 'Polysorbate 80' is a published value")
     assert "--reason" in result.stderr
     ok = _formdb(library, "edit", "Polysorbate 80", "--set", "hlb=15.4", "--source",
@@ -126,11 +126,11 @@ def test_published_value_edit_without_reason(library: str) -> None:
 
 
 def test_edit_with_several_bad_values_prints_each(library: str) -> None:
-    before = dump_database(library)
+    before = library_state(library)
     result = _formdb(library, "edit", "Carbomer", "--set", "ph_min=-1", "--set",
                      "use_max_percent=lots", "--source", "rule-of-thumb")
     assert result.exit_code == 2
-    assert dump_database(library) == before
+    assert library_state(library) == before
     errors = [line for line in result.stderr.splitlines() if line.startswith("Error:")]
     assert len(errors) == 2
     assert errors[0] == ("Error: edit 'Carbomer', field ph_min: ph_min -1 is out of range: it "
@@ -174,10 +174,10 @@ def test_import_dry_run_output(library: str, tmp_path: Path) -> None:
                     "Polysorbate 20,16.7,1.1,hpe6\n"
                     "Aqua,,0.998,crc-water\n"
                     "Sorbitan Oleate,4.3,,griffin-1954\n", encoding="utf-8")
-    before = dump_database(library)
+    before = library_state(library)
     result = _formdb(library, "import", str(path), "--dry-run")
     assert result.exit_code == 0, result.stderr
-    assert dump_database(library) == before
+    assert library_state(library) == before
     lines = result.stdout.splitlines()
     assert "would be added: Polysorbate 20" in lines
     assert "would be changed: Water" in lines
@@ -189,7 +189,7 @@ def test_import_dry_run_output(library: str, tmp_path: Path) -> None:
     real = _formdb(library, "import", str(path), "--reason", "supplier sheet")
     assert real.exit_code == 0 and real.stdout.splitlines()[-1] == \
         "1 added, 1 changed, 1 left alone."
-    assert dump_database(library) != before
+    assert library_state(library) != before
 
 
 @pytest.mark.parametrize("suffix", [".csv", ".xlsx"])
@@ -198,11 +198,11 @@ def test_export_import_round_trip_through_the_cli(library: str, tmp_path: Path,
     out = tmp_path / f"library{suffix}"
     exported = _formdb(library, "export", str(out))
     assert exported.exit_code == 0 and "wrote 7 ingredient(s)" in exported.stdout
-    before = dump_database(library)
+    before = library_state(library)
     again = _formdb(library, "import", str(out))
     assert again.exit_code == 0, again.stderr
     assert again.stdout.splitlines()[-1] == "0 added, 0 changed, 7 left alone."
-    assert dump_database(library) == before
+    assert library_state(library) == before
 
 
 def test_export_to_an_unknown_format_is_refused(library: str, tmp_path: Path) -> None:
@@ -243,10 +243,10 @@ def test_an_item_with_the_list_separator_is_refused(library: str, option: str,
                                                     value: str) -> None:
     """One --synonym is one name: a ';' in it used to split it into two synonyms (and a trailing
     one, as in '&amp;', vanished), so the library held other names than the ones typed."""
-    before = dump_database(library)
+    before = library_state(library)
     result = _formdb(library, "add", "Polysorbate 20", "--set", "hlb=16.7", "--source", "hpe6",
                      "--role", "emulsifier", option, value)
     assert result.exit_code == 2
     assert result.stderr.count("Error:") == 1 and "Traceback" not in result.stderr
     assert f"{option} {value!r}: holds ';'" in result.stderr
-    assert dump_database(library) == before
+    assert library_state(library) == before

@@ -15,7 +15,7 @@ from pathlib import Path
 import pytest
 
 from tests.fixtures.tables.library_setup import TABLES, build_library
-from tests.helpers import dump_database, run_formdb
+from tests.helpers import library_state, run_formdb
 
 
 @pytest.fixture
@@ -24,10 +24,10 @@ def library(library_url: str) -> str:
 
 
 def _import(url: str, path: Path, *extra: str) -> tuple[int, list[str], str]:
-    before = dump_database(url)
+    before = library_state(url)
     result = run_formdb(["--db", url, "ingredient", "import", str(path),
                          *extra])
-    assert dump_database(url) == before, "a rejected import changed the library"
+    assert library_state(url) == before, "a rejected import changed the library"
     assert "Traceback" not in result.stderr
     errors = [line for line in result.stderr.splitlines() if line.startswith("Error: ")]
     return result.exit_code, errors, result.stderr

@@ -15,7 +15,7 @@ from pathlib import Path
 import pytest
 
 from formdb.schemas.lookalike import look_alike_key
-from tests.helpers import dump_database, run_formdb
+from tests.helpers import dump_database, library_state, run_formdb
 
 SHARED = Path("/work/shared/regulatory/eu-cosing-annexes-2025-10-31")
 
@@ -26,13 +26,13 @@ def _formdb(url: str, *args: str):
 
 def _warned(url: str, *args: str, words: str) -> None:
     """Refused without --accept-unusual (one line, exit 2, no change); accepted with it."""
-    before = dump_database(url)
+    before = library_state(url)
     refused = _formdb(url, *args)
     assert refused.exit_code == 2, refused.stdout + refused.stderr
     lines = refused.stderr.strip().splitlines()
     assert len(lines) == 1 and "unusual value" in lines[0] and words in lines[0], lines
     assert "--accept-unusual" in lines[0]
-    assert dump_database(url) == before
+    assert library_state(url) == before
     accepted = _formdb(url, *args, "--accept-unusual")
     assert accepted.exit_code == 0, accepted.stderr
     assert "accepted:" in accepted.stdout and words in accepted.stdout
@@ -74,10 +74,10 @@ def test_a_table_import_is_held_up_the_same_way(seeded_sqlite_url: str, tmp_path
     table = tmp_path / "supplier.csv"
     table.write_text("inci_name,hlb,hlb_source\nSorbitan Oleate,15.5,from-memory\n",
                      encoding="utf-8")
-    before = dump_database(seeded_sqlite_url)
+    before = library_state(seeded_sqlite_url)
     refused = _formdb(seeded_sqlite_url, "ingredient", "import", str(table))
     assert refused.exit_code == 2 and "row 2" in refused.stderr and "unusual" in refused.stderr
-    assert dump_database(seeded_sqlite_url) == before
+    assert library_state(seeded_sqlite_url) == before
     accepted = _formdb(seeded_sqlite_url, "ingredient", "import", str(table), "--accept-unusual")
     assert accepted.exit_code == 0 and "accepted:" in accepted.stdout
 

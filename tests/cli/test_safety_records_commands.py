@@ -14,7 +14,7 @@ from pathlib import Path
 
 import pytest
 
-from tests.helpers import dump_database, run_formdb
+from tests.helpers import library_state, run_formdb
 
 
 def _formdb(url: str, *args: str):
@@ -28,13 +28,13 @@ def _ok(url: str, *args: str) -> str:
 
 
 def _refused(url: str, *args: str, words: str) -> None:
-    before = dump_database(url)
+    before = library_state(url)
     result = _formdb(url, *args)
     assert result.exit_code == 2, result.stdout + result.stderr
     lines = result.stderr.strip().splitlines()
     assert len(lines) == 1 and lines[0].startswith("Error:"), result.stderr
     assert words in lines[0], lines[0]
-    assert dump_database(url) == before
+    assert library_state(url) == before
 
 
 BENCH = ["--kind", "in-house measurement", "--citation", "Larkspur bench study (test data)",
@@ -61,9 +61,9 @@ def test_exposure_add_edit_history_export_import(seeded_library_url: str,
     rows = list(csv.DictReader(table.open(encoding="utf-8-sig")))
     lotion = next(r for r in rows if r["product"] == "body lotion")
     assert lotion["exposure_mg_kg_bw_day"] == "123.2"  # SCCS NoG 12, Table 3A
-    before = dump_database(url)
+    before = library_state(url)
     assert "left alone" in _ok(url, "exposure", "import", str(table))
-    assert dump_database(url) == before
+    assert library_state(url) == before
     _refused(url, "exposure", "add", "mist", "--set", "category=leave-on",
              "--set", "retention_factor=2", "--set", "exposure_g_day=1",
              "--set", "source=bench-2026", words="retention_factor")
@@ -133,9 +133,9 @@ def test_mixture_declared_from_the_cli_and_a_table(seeded_library_url: str,
 
     table = tmp_path / "mixtures.csv"
     _ok(url, "mixture", "export", str(table))
-    before = dump_database(url)
+    before = library_state(url)
     assert "nothing changed" in _ok(url, "mixture", "import", str(table))
-    assert dump_database(url) == before
+    assert library_state(url) == before
 
     _refused(url, "mixture", "set", blend, "--part", "Glyceryl Stearate=60@bench-2026",
              "--part", "PEG-100 Stearate=50@bench-2026", words="more than 100 %")

@@ -15,7 +15,7 @@ from pathlib import Path
 import pytest
 
 from tests.fixtures.tables.library_setup import build_library
-from tests.helpers import dump_database, recorded_as, run_as
+from tests.helpers import dump_database, library_state, recorded_as, run_as
 
 TDS = ["--kind", "supplier data sheet", "--citation",
        "Invented supplier, technical data sheet for polysorbate 80 (test data)",
@@ -34,13 +34,13 @@ def _formdb(url: str, *args: str, user: str = "ana"):
 
 def _refused(url: str, *args: str, words: str) -> None:
     """Bad input: one Error line naming the problem, exit 2, the library unchanged."""
-    before = dump_database(url)
+    before = library_state(url)
     result = _formdb(url, *args)
     assert result.exit_code == 2, result.stdout + result.stderr
     lines = result.stderr.strip().splitlines()
     assert len(lines) == 1 and lines[0].startswith("Error:"), result.stderr
     assert words in lines[0], lines[0]
-    assert dump_database(url) == before
+    assert library_state(url) == before
 
 
 def test_source_add_show_edit_history(library: str, tmp_path: Path) -> None:
@@ -128,18 +128,18 @@ def test_source_import_export_round_trip(library: str, tmp_path: Path) -> None:
     assert _formdb(library, "source", "export", str(out)).exit_code == 0
     rows = list(csv.DictReader(out.open(encoding="utf-8-sig")))
     assert {r["key"] for r in rows} >= {"hpe-9", "bench-density", "griffin-1954"}
-    before = dump_database(library)
+    before = library_state(library)
     assert "left alone" in _formdb(library, "source", "import", str(out)).stdout
-    assert dump_database(library) == before  # export reads back unchanged
+    assert library_state(library) == before  # export reads back unchanged
 
     bad = tmp_path / "bad.csv"
     bad.write_text("key,citation,kind\nok-one,Fine,estimate\nbad-one,Bad,handbook\n",
                    encoding="utf-8")
-    before = dump_database(library)
+    before = library_state(library)
     result = _formdb(library, "source", "import", str(bad))
     assert result.exit_code == 2
     assert "row 3" in result.stderr and "needs edition" in result.stderr
-    assert dump_database(library) == before
+    assert library_state(library) == before
 
 
 def test_value_with_its_own_source_and_notes_kept(library: str) -> None:

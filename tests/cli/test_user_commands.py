@@ -14,7 +14,7 @@ from formdb.store.db import make_engine, unit_of_work
 from formdb.store.identity import os_account
 from formdb.store.models import ChangeLogEntry, User
 from tests.fixtures.tables.library_setup import build_library
-from tests.helpers import dump_database, run_as, run_formdb
+from tests.helpers import dump_database, library_state, run_as, run_formdb
 
 EDIT = ["ingredient", "edit", "Polysorbate 80", "--set", "hlb=14.9", "--source",
         "rule-of-thumb", "--reason", "roles test (made-up value)"]
@@ -47,7 +47,7 @@ def _log(url: str, entity: str = "user") -> list[tuple[str, str, str, str | None
 
 def test_a_typed_name_is_refused_unless_it_is_you(library: str) -> None:
     """Issue 13: `formdb --user boss user add mallory --role admin` worked for anyone."""
-    before = dump_database(library)
+    before = library_state(library)
     claimed = run_as("mallory", ["--db", library, "--user", "boss", "user", "add", "mallory",
                                  "--role", "admin", "--yes"])
     assert claimed.exit_code == 2
@@ -57,7 +57,7 @@ def test_a_typed_name_is_refused_unless_it_is_you(library: str) -> None:
     by_env = run_as("mallory", ["--db", library, "user", "add", "mallory", "--role", "admin",
                                 "--yes"], env={"FORMDB_USER": "boss"})
     assert by_env.exit_code == 2 and "not boss" in by_env.stderr
-    assert dump_database(library) == before
+    assert library_state(library) == before
     # naming yourself is allowed (a script that always passed --user keeps working)
     me = os_account()
     listed = run_formdb(["--db", library, "--user", me, "user", "list"])
@@ -66,7 +66,7 @@ def test_a_typed_name_is_refused_unless_it_is_you(library: str) -> None:
 
 def test_only_an_admin_changes_users_and_every_change_needs_yes(library: str) -> None:
     # mallory (no role) is refused before any plan is shown, and the refusal is logged
-    before = dump_database(library, exclude_columns=("at",))
+    before = library_state(library, exclude_columns=("at",))
     for args in (["user", "add", "mallory", "--role", "admin", "--yes"],
                  ["user", "grant", "boss", "editor", "--yes"],
                  ["user", "revoke", "boss", "admin", "--yes"],
@@ -90,7 +90,7 @@ def test_only_an_admin_changes_users_and_every_change_needs_yes(library: str) ->
     done = run_as("boss", ["--db", library, "user", "add", "ed", "--role", "editor", "--yes"])
     assert done.exit_code == 0, done.stderr
     assert "Done (add user):" in done.stdout
-    assert dump_database(library, exclude_columns=("at",)) != before
+    assert library_state(library, exclude_columns=("at",)) != before
 
 
 def test_revoke_and_deactivate_keep_history(library: str) -> None:

@@ -31,7 +31,7 @@ from formdb.store.db import make_engine, unit_of_work
 from formdb.store.models import ChangeLogEntry, Ingredient
 from formdb.store.sealing import LibrarySession
 from tests.fixtures.tables.library_setup import SETUP_USER, build_library
-from tests.helpers import dump_database
+from tests.helpers import library_state
 
 
 @pytest.fixture
@@ -50,10 +50,10 @@ def _session(url: str) -> Iterator[Session]:
 
 
 def _unchanged(url: str, error: type[Exception], call, *args, **kwargs) -> Exception:
-    before = dump_database(url)
+    before = library_state(url)
     with pytest.raises(error) as caught, _session(url) as session:
         call(session, *args, **kwargs)
-    assert dump_database(url) == before
+    assert library_state(url) == before
     return caught.value
 
 

@@ -22,7 +22,7 @@ from formdb.store import queries
 from formdb.store.db import make_engine, unit_of_work
 from formdb.store.models import ChangeLogEntry
 from tests.fixtures.tables.library_setup import BASE_TABLE, SETUP_USER, build_library
-from tests.helpers import dump_database
+from tests.helpers import library_state
 
 
 @pytest.fixture
@@ -73,11 +73,11 @@ def test_base_table_lands_with_values_sources_and_evidence(library: str) -> None
 
 
 def test_second_import_of_the_same_table_changes_nothing(library: str) -> None:
-    before = dump_database(library)
+    before = library_state(library)
     report = _run(library, BASE_TABLE)
     assert report.added == [] and report.changed == {}
     assert len(report.unchanged) == 7
-    assert dump_database(library) == before
+    assert library_state(library) == before
 
 
 def test_upsert_by_synonym_with_units_converted(library: str, tmp_path: Path) -> None:
@@ -101,9 +101,9 @@ def test_dry_run_reports_every_kind_of_change_and_writes_nothing(library: str,
                             "emulsifier\n"
                             "Sorbitan Oleate,Sorbitan Monooleate,4.3,griffin-1954,\n"
                             "Polysorbate 80,,15.2,larkspur-bench,emulsifier; co-emulsifier\n")
-    before = dump_database(library)
+    before = library_state(library)
     report = _run(library, path, dry_run=True)
-    assert dump_database(library) == before
+    assert library_state(library) == before
     assert report.dry_run
     assert report.added == ["Polysorbate 20"]
     assert report.unchanged == ["Sorbitan Oleate"]
@@ -161,14 +161,14 @@ def test_one_bad_row_stops_the_whole_file(library: str, tmp_path: Path) -> None:
                             "Polysorbate 20,16.7,hpe6\n"
                             "Sorbitan Laurate,8.6,griffin-1954\n"
                             "Sorbitan Palmitate,67,griffin-1954\n")
-    before = dump_database(library)
+    before = library_state(library)
     with pytest.raises(TableProblems) as caught:
         _run(library, path)
     assert caught.value.problems == [
         f"{path}, row 4, column hlb: hlb 67 is out of range: it must be at least 0 and at most "
         "50."]
     assert str(caught.value) == caught.value.problems[0]
-    assert dump_database(library) == before
+    assert library_state(library) == before
 
 
 def test_two_rows_naming_one_library_ingredient_are_refused(library: str,
@@ -190,11 +190,11 @@ def _round_trip(url: str, tmp_path: Path, suffix: str) -> None:
             count = export_table(session, out)
     finally:
         engine.dispose()
-    before = dump_database(url)
+    before = library_state(url)
     report = _run(url, out)
     assert report.added == [] and report.changed == {}, report.changed
     assert len(report.unchanged) == count > 0
-    assert dump_database(url) == before
+    assert library_state(url) == before
 
 
 @pytest.mark.parametrize("suffix", [".csv", ".xlsx"])

@@ -22,7 +22,12 @@ from formdb.store import queries
 from formdb.store.library import Library
 from formdb.store.lists import record_match_keys
 from tests.conftest import TEST_USER
-from tests.helpers import ANNEX_EXPORTS, dump_database, needs_annex_exports, run_formdb
+from tests.helpers import (
+    ANNEX_EXPORTS,
+    library_state,
+    needs_annex_exports,
+    run_formdb,
+)
 
 SHARED = ANNEX_EXPORTS
 needs_exports = needs_annex_exports()
@@ -298,10 +303,10 @@ def test_import_all_five(library_url: str) -> None:
     with Library.open(library_url) as library:
         dry = import_lists(library, files, user=TEST_USER, dry_run=True)
     assert dry.dry_run and dry.structured_parts / dry.parts > 0.9
-    before = dump_database(library_url)
+    before = library_state(library_url)
     with Library.open(library_url) as library:
         result = import_lists(library, files, user=TEST_USER)
-    assert dump_database(library_url) != before
+    assert library_state(library_url) != before
     by_annex = {a.snapshot.annex: a for a in result.annexes}
     assert by_annex["II"].snapshot.entries == 1744
     assert str(by_annex["III"].snapshot.last_update) == "2025-10-31"
@@ -328,23 +333,23 @@ def _copy(tmp_path: Path, annex: str, edit: object = None) -> Path:
 def test_not_an_annex_export(tmp_path: Path, sqlite_url: str) -> None:
     bad = tmp_path / "supplier.csv"
     bad.write_text("inci_name,hlb\nPolysorbate 80,15\n", encoding="utf-8")
-    before = dump_database(sqlite_url)
+    before = library_state(sqlite_url)
     result = run_formdb(["--db", sqlite_url, "lists", "import", str(bad)])
     assert result.exit_code == 2
     assert result.stderr.count("Error:") == 1 and "not an annex export" in result.stderr
     assert str(bad) in result.stderr and "Traceback" not in result.stderr
-    assert dump_database(sqlite_url) == before
+    assert library_state(sqlite_url) == before
 
 
 @needs_exports
 def test_truncated_export(tmp_path: Path, sqlite_url: str) -> None:
     cut = _copy(tmp_path, "V", lambda t: t[: len(t) // 2])
-    before = dump_database(sqlite_url)
+    before = library_state(sqlite_url)
     good = export("VI")
     result = run_formdb(["--db", sqlite_url, "lists", "import", str(good), str(cut)])
     assert result.exit_code == 2 and "truncated" in result.stderr and str(cut) in result.stderr
     assert "line" in result.stderr
-    assert dump_database(sqlite_url) == before  # the good file is not imported either
+    assert library_state(sqlite_url) == before  # the good file is not imported either
 
 
 @needs_exports
@@ -363,11 +368,11 @@ def test_duplicate_reference(tmp_path: Path, sqlite_url: str) -> None:
         end = text.index("\n4,", start)
         return text + text[start + 1:end + 1]
     dup = _copy(tmp_path, "V", twice)
-    before = dump_database(sqlite_url)
+    before = library_state(sqlite_url)
     result = run_formdb(["--db", sqlite_url, "lists", "import", str(dup)])
     assert result.exit_code == 2
     assert "duplicate reference number '3'" in result.stderr and str(dup) in result.stderr
-    assert dump_database(sqlite_url) == before
+    assert library_state(sqlite_url) == before
 
 
 @needs_exports
@@ -393,12 +398,12 @@ def test_concatenated_rows_refused(tmp_path: Path, sqlite_url: str) -> None:
         start = text.index("\n2,")  # the first entry row, after the title lines and header
         return text + text[start + 1:]
     dup = _copy(tmp_path, "VI", doubled)
-    before = dump_database(sqlite_url)
+    before = library_state(sqlite_url)
     result = run_formdb(["--db", sqlite_url, "lists", "import", str(dup)])
     assert result.exit_code == 2 and result.stderr.count("Error:") == 1
     assert "duplicate reference number '2'" in result.stderr and str(dup) in result.stderr
     assert "same substance under the same act" in result.stderr
-    assert dump_database(sqlite_url) == before
+    assert library_state(sqlite_url) == before
 
 
 @needs_exports
@@ -406,11 +411,11 @@ def test_older_over_newer_refused_unless_asked(tmp_path: Path, sqlite_url: str) 
     older = _copy(tmp_path, "VI", lambda t: t.replace("Last update: 31/10/2025",
                                                       "Last update: 30/06/2024"))
     assert run_formdb(["--db", sqlite_url, "lists", "import", str(export("VI"))]).exit_code == 0
-    before = dump_database(sqlite_url)
+    before = library_state(sqlite_url)
     refused = run_formdb(["--db", sqlite_url, "lists", "import", str(older)])
     assert refused.exit_code == 2 and "older than the one in force" in refused.stderr
     assert refused.stderr.count("Error:") == 1
-    assert dump_database(sqlite_url) == before
+    assert library_state(sqlite_url) == before
     asked = run_formdb(["--db", sqlite_url, "lists", "import", "--allow-older", str(older)])
     assert asked.exit_code == 0, asked.stderr
     status = run_formdb(["--db", sqlite_url, "lists", "status"])
@@ -423,12 +428,12 @@ def test_last_update_after_the_file_was_made_refused(tmp_path: Path, sqlite_url:
     the 'File creation date' is an edited file and would put it ahead of every real export."""
     edited = _copy(tmp_path, "VI", lambda t: t.replace("Last update: 31/10/2025",
                                                        "Last update: 31/10/2099"))
-    before = dump_database(sqlite_url)
+    before = library_state(sqlite_url)
     result = run_formdb(["--db", sqlite_url, "lists", "import", str(edited)])
     assert result.exit_code == 2 and result.stderr.count("Error:") == 1
     assert f"{edited}, line 2: 'Last update' 31/10/2099 is after the 'File creation date' " \
         "11/11/2025" in result.stderr
-    assert dump_database(sqlite_url) == before
+    assert library_state(sqlite_url) == before
 
 
 @needs_exports
@@ -458,11 +463,11 @@ def test_update_names_what_changed(tmp_path: Path, sqlite_url: str) -> None:
 
 @needs_exports
 def test_dry_run_writes_nothing(sqlite_url: str) -> None:
-    before = dump_database(sqlite_url)
+    before = library_state(sqlite_url)
     result = run_formdb(["--db", sqlite_url, "lists", "import", "--dry-run", str(export("V"))])
     assert result.exit_code == 0 and result.stdout.startswith("Dry run")
     assert "Parse coverage:" in result.stdout
-    assert dump_database(sqlite_url) == before
+    assert library_state(sqlite_url) == before
 
 
 @needs_exports

@@ -23,7 +23,7 @@ from sqlalchemy import select, text
 from formdb.schemas.change_log import read_payload
 from formdb.store.db import make_engine, unit_of_work
 from formdb.store.models import ChangeLogEntry, ReviewRun, ReviewSignature
-from tests.helpers import dump_database, recorded_as, run_as
+from tests.helpers import dump_database, library_state, recorded_as, run_as
 from tests.libraries import opened
 from tests.signing import act, new_signer, people, sign
 
@@ -144,13 +144,13 @@ def test_a_run_that_does_not_exist_is_refused(seeded_sqlite_url: str, cream: Pat
                                               tmp_path: Path, people) -> None:
     rita = new_signer(people(seeded_sqlite_url, "rita"), tmp_path, "Rita Reviewer")
     key = _run(seeded_sqlite_url, cream)
-    before = dump_database(seeded_sqlite_url)
+    before = library_state(seeded_sqlite_url)
     typo = key[:-1] + ("0" if key[-1] != "0" else "1")
     refused = sign(rita, typo, "reviewed")
     assert refused.exit_code == 2 and "Traceback" not in refused.stderr
     assert refused.stderr.startswith(f"Error: no review run '{typo}'.")
     assert f"did you mean {key}?" in refused.stderr
-    assert dump_database(seeded_sqlite_url) == before
+    assert library_state(seeded_sqlite_url) == before
 
 
 def test_a_formula_file_changed_on_disk_makes_the_run_stale(seeded_sqlite_url: str,

@@ -17,7 +17,7 @@ from formdb.services.checking.flow import check_files
 from formdb.services.seed.setup import init_library
 from formdb.store.db import open_library, unit_of_work
 from formdb.store.queries import load_reference_data
-from tests.helpers import dump_database
+from tests.helpers import library_state
 from tests.libraries import opened
 
 TOX_HEADER = ("key,inci,pod_kind,pod_value,pod_unit,route,species,study,source,"
@@ -83,12 +83,12 @@ def test_the_bundled_library_holds_the_exposure_table_and_records(
 ])
 def test_bad_safety_rows_are_refused_and_nothing_is_written(
         seeded_sqlite_url: str, tmp_path: Path, files: dict[str, str], words: str) -> None:
-    before = dump_database(seeded_sqlite_url)
+    before = library_state(seeded_sqlite_url)
     with pytest.raises(InvalidData) as caught:
         init_library(seeded_sqlite_url, seed=True, user="larkspur-test",
                      seed_dir=_seed_dir(tmp_path, **files))
     assert words in caught.value.message
-    assert dump_database(seeded_sqlite_url) == before
+    assert library_state(seeded_sqlite_url) == before
 
 
 LOTION = '''name = "Larkspur LB-S01 body lotion"
@@ -197,7 +197,7 @@ def test_allergens_are_summed_and_listed_for_the_label(seeded_sqlite_url: str,
 
 
 def test_a_bad_label_threshold_row_is_refused(seeded_sqlite_url: str, tmp_path: Path) -> None:
-    before = dump_database(seeded_sqlite_url)
+    before = library_state(seeded_sqlite_url)
     text = ("key,jurisdiction,list_name,entry,role,category,threshold_percent,label_rule,"
             "source,list_date\n"
             "x,EU,Annex III,III/45,alergen,leave-on,0.001,name it,"
@@ -206,7 +206,7 @@ def test_a_bad_label_threshold_row_is_refused(seeded_sqlite_url: str, tmp_path: 
         init_library(seeded_sqlite_url, seed=True, user="larkspur-test",
                      seed_dir=_seed_dir(tmp_path, label_thresholds=text))
     assert "label_thresholds.csv, row 2, column role" in caught.value.message
-    assert dump_database(seeded_sqlite_url) == before
+    assert library_state(seeded_sqlite_url) == before
 
 
 def _demo_sources(folder: Path) -> None:
@@ -265,8 +265,8 @@ def test_bad_constituents_are_refused(seeded_sqlite_url: str, tmp_path: Path, ro
     folder = _seed_dir(tmp_path, constituents="mixture_inci,constituent_inci,percent,source\n"
                        + rows)
     _demo_sources(folder)
-    before = dump_database(seeded_sqlite_url)
+    before = library_state(seeded_sqlite_url)
     with pytest.raises(InvalidData) as caught:
         init_library(seeded_sqlite_url, seed=True, user="larkspur-test", seed_dir=folder)
     assert words in caught.value.message
-    assert dump_database(seeded_sqlite_url) == before
+    assert library_state(seeded_sqlite_url) == before

@@ -32,7 +32,7 @@ from formdb.services.review.keys import load_private_key, signed_text
 from formdb.store.db import make_engine, unit_of_work
 from formdb.store.models import ReviewRun, ReviewSignature
 from formdb.store.sealing import SEALED_COLUMNS, canonical, seal
-from tests.helpers import drop_roles, dump_database, run_formdb
+from tests.helpers import drop_roles, library_state, run_formdb
 from tests.signing import ENV, Person, act, new_signer, people, sign
 
 __all__ = ["people"]  # the fixture, imported for its tests
@@ -115,7 +115,7 @@ def test_an_approval_needs_a_written_reason_for_each_open_item(
     key = _run(ana, cream)
     rules = _open_rules(ana, key)
     assert "MOS01" in rules and len(rules) >= 3
-    before = dump_database(url)
+    before = library_state(url)
     bare = sign(rita, key, "approved")
     assert bare.exit_code == 2
     assert f"approved with {len(rules)} open item(s): no justification for item 1" in bare.stderr
@@ -125,7 +125,7 @@ def test_an_approval_needs_a_written_reason_for_each_open_item(
     assert wrong.exit_code == 2 and f"no open item {len(rules) + 1}" in wrong.stderr
     rejected = sign(rita, key, "rejected")
     assert rejected.exit_code == 2 and "needs --reason" in rejected.stderr
-    assert dump_database(url) == before
+    assert library_state(url) == before
     done = sign(rita, key, "approved", "--justify", "1=supplier sheet checked by QA",
                 *_justify(rules))
     assert done.exit_code == 0, done.stderr
@@ -415,7 +415,7 @@ def test_wrong_passphrase_unenrolled_or_borrowed_keys_are_refused(
     ana = people(url, "ana")
     rita = new_signer(people(url, "rita"), tmp_path, "Rita Reviewer")
     key = _run(ana, cream)
-    before = dump_database(url)
+    before = library_state(url)
     wrong = act(rita.person, "review", "sign", key, "--meaning", "reviewed", "--key",
                 str(rita.key), env={"FORMDB_KEY_PASSPHRASE": "not the passphrase"})
     assert wrong.exit_code == 2 and "wrong passphrase" in wrong.stderr
@@ -434,7 +434,7 @@ def test_wrong_passphrase_unenrolled_or_borrowed_keys_are_refused(
     short = run_formdb(["key", "new", "--out", str(tmp_path / "s.pem")],
                        env={"FORMDB_KEY_PASSPHRASE": "short"})
     assert short.exit_code == 2 and "too short" in short.stderr
-    assert dump_database(url) == before
+    assert library_state(url) == before
     assert oct(rita.key.stat().st_mode & 0o777) == "0o600"
     assert b"ENCRYPTED PRIVATE KEY" in rita.key.read_bytes()
 

@@ -22,7 +22,7 @@ from formdb.store import db as store_db
 from formdb.store.change_log import changes_of
 from formdb.store.db import make_engine, unit_of_work
 from formdb.store.models import ChangeLogEntry, Ingredient, PropertyValue
-from tests.helpers import dump_database, run_formdb
+from tests.helpers import library_state, run_formdb
 from tests.store.edit_workers import (
     STRESS_NAMES,
     Attempt,
@@ -145,7 +145,7 @@ def test_locked_sqlite_file_is_one_clear_error(sqlite_url: str,
     _stock(sqlite_url)
     monkeypatch.setattr(store_db, "BUSY_TIMEOUT_MS", 300)
     path = store_db.sqlite_path(sqlite_url)
-    before = dump_database(sqlite_url)
+    before = library_state(sqlite_url)
     holder = sqlite3.connect(path, isolation_level=None)
     try:
         holder.execute("BEGIN EXCLUSIVE")  # another program holds the write lock
@@ -158,4 +158,4 @@ def test_locked_sqlite_file_is_one_clear_error(sqlite_url: str,
     assert "Traceback" not in result.stderr
     first = result.stderr.strip().splitlines()[0]
     assert first.startswith("Error: ") and "locked" in first, result.stderr
-    assert dump_database(sqlite_url) == before
+    assert library_state(sqlite_url) == before

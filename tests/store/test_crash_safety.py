@@ -21,7 +21,7 @@ from sqlalchemy import text
 
 from formdb.store.change_log import changes_of
 from formdb.store.db import make_engine, sqlite_path
-from tests.helpers import dump_database
+from tests.helpers import library_state
 from tests.store.edit_workers import STRESS_NAMES
 from tests.store.test_concurrent_edits import _log, _state, _stock
 
@@ -96,23 +96,23 @@ def _integrity(url: str) -> None:
 def test_killed_import_leaves_library_as_before(library_url: str, tmp_path: Path) -> None:
     _stock(library_url)
     table = _big_table(tmp_path / "big.csv")
-    before = dump_database(library_url)
+    before = library_state(library_url)
     wal = _wal_size(library_url)
     proc = _python("-m", "formdb", "--db", library_url,
                    "ingredient", "import", str(table))
     _kill_when(proc, lambda: _has_written(library_url, wal))
-    assert dump_database(library_url) == before
+    assert library_state(library_url) == before
     _integrity(library_url)
 
 
 def test_killed_edit_leaves_library_as_before(library_url: str) -> None:
     _stock(library_url)
-    before = dump_database(library_url)
+    before = library_state(library_url)
     proc = _python("-m", "tests.store.edit_workers", "hang", library_url)
     assert proc.stdout is not None
     assert proc.stdout.readline().strip() == "flushed", proc.stderr.read()  # type: ignore[union-attr]
     _kill_when(proc, lambda: True)
-    assert dump_database(library_url) == before
+    assert library_state(library_url) == before
     _integrity(library_url)
 
 

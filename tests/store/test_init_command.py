@@ -12,7 +12,7 @@ from sqlalchemy import insert
 
 from formdb.store import models
 from formdb.store.db import head_revision, make_engine, sqlite_path
-from tests.helpers import dump_database, recorded_as, run_as, run_formdb
+from tests.helpers import dump_database, library_state, recorded_as, run_as, run_formdb
 
 
 def _one_error_line(stderr: str) -> str:
@@ -77,7 +77,7 @@ def test_an_older_library_says_run_init_and_init_upgrades_it(
                  "evidence": "measured"}])
     finally:
         engine.dispose()
-    before = dump_database(sqlite_url)
+    before = library_state(sqlite_url)
     shipped = head_revision()
     # this formdb now ships one more revision than the library has
     monkeypatch.setattr("formdb.store.db.migrations_dir", lambda: migrations_with_probe)
@@ -87,7 +87,7 @@ def test_an_older_library_says_run_init_and_init_upgrades_it(
     line = _one_error_line(result.stderr)
     assert f"is at revision {shipped}; this formdb needs 9999_probe" in line
     assert "run `formdb init` to upgrade" in line
-    assert dump_database(sqlite_url) == before
+    assert library_state(sqlite_url) == before
 
     result = run_formdb(["--db", sqlite_url, "init"])
     assert result.exit_code == 0, result.stderr

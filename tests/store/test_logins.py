@@ -18,7 +18,14 @@ from sqlalchemy.engine import make_url
 from sqlalchemy.exc import DBAPIError
 
 from tests.fixtures.tables.library_setup import build_library
-from tests.helpers import drop_roles, dump_database, forge_logged_user, fresh_pg_schema, run_formdb
+from tests.helpers import (
+    drop_roles,
+    dump_database,
+    forge_logged_user,
+    fresh_pg_schema,
+    library_state,
+    run_formdb,
+)
 from tests.store.edit_workers import edit_workers_context, first_add
 
 pytestmark = [pytest.mark.slow, pytest.mark.postgres]
@@ -295,7 +302,7 @@ def test_a_login_without_a_duty_reads_and_is_refused_by_its_role(team: Team) -> 
     assert f"make {x} a member of {team.prefix}_reader" in added.stdout
     listed = team.formdb("x", "ingredient", "list")
     assert listed.exit_code == 0 and "Polysorbate 80" in listed.stdout, listed.stderr
-    before = dump_database(team.url, exclude_columns=("at",))
+    before = library_state(team.url, exclude_columns=("at",))
     for args, said in ((EDIT, "may not change the library: that needs the role editor"),
                        (["db", "downgrade", "base", "--yes"],
                         "may not downgrade the schema: that needs the role admin"),
@@ -305,7 +312,7 @@ def test_a_login_without_a_duty_reads_and_is_refused_by_its_role(team: Team) -> 
         assert refused.exit_code == 2, refused.stdout
         assert refused.stderr.startswith(f"Error: {x} {said}."), refused.stderr
         assert len(refused.stderr.strip().splitlines()) == 1
-    assert dump_database(team.url, exclude_columns=("at",)) == before
+    assert library_state(team.url, exclude_columns=("at",)) == before
 
 
 def test_a_login_formdb_does_not_know_is_told_it_has_no_role(team: Team) -> None:
@@ -558,7 +565,7 @@ def test_stepping_down_rewriting_the_log_and_up_is_refused_or_caught(owned_team:
 
     team = owned_team
 
-    before = dump_database(team.url)
+    before = library_state(team.url)
     for acting in (team.as_("boss"), team.url):
         refused = run_formdb(["--db", acting, "db", "downgrade", BELOW_AUDIT, "--yes",
                               "--discard-sealed-history"])
@@ -570,7 +577,7 @@ def test_stepping_down_rewriting_the_log_and_up_is_refused_or_caught(owned_team:
                     if acting != team.url else "refused while sealed audit records exist")
         assert "needs the role editor" not in refused.stderr
         assert expected in refused.stderr, refused.stderr
-    assert dump_database(team.url) == before
+    assert library_state(team.url) == before
     # no writer login rewrites a sealed row with plain SQL
     for who in ("ed", "fay", "rita", "boss"):
         assert "permission denied" in team.refused(
@@ -589,12 +596,12 @@ def test_stepping_down_rewriting_the_log_and_up_is_refused_or_caught(owned_team:
                          {"i": row})
     finally:
         team_owner.dispose()
-    stepped_down = dump_database(team.url)
+    stepped_down = library_state(team.url)
     up = run_formdb(["--db", team.url, "db", "upgrade"])
     assert up.exit_code == 2, up.stdout
     assert "is broken" in up.stderr and "the upgrade stopped" in up.stderr, up.stderr
     assert len(up.stderr.strip().splitlines()) == 1
-    assert dump_database(team.url) == stepped_down  # nothing resealed, still one step down
+    assert library_state(team.url) == stepped_down  # nothing resealed, still one step down
 
 
 def test_a_forged_archive_is_refused_on_the_server(owned_team: Team, pg_server: str,
@@ -608,14 +615,14 @@ def test_a_forged_archive_is_refused_on_the_server(owned_team: Team, pg_server: 
     forged = tmp_path / "forged.zip"
     forge_logged_user(archive, forged)
     with fresh_pg_schema(pg_server) as target:
-        before = dump_database(target)
+        before = library_state(target)
         refused = run_formdb(["--db", target, "db", "restore", str(forged), "--yes"])
         assert refused.exit_code == 2, refused.stdout
         assert refused.stderr.startswith(
             f"Error: {forged}: the audit trail in the backup is broken or forged: change_log: "
             "row 2 was altered"), refused.stderr
         assert len(refused.stderr.strip().splitlines()) == 1
-        assert dump_database(target) == before
+        assert library_state(target) == before
         # the genuine archive restores
         done = run_formdb(["--db", target, "db", "restore", str(archive), "--yes"])
         assert done.exit_code == 0, done.stderr

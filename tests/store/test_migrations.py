@@ -25,7 +25,7 @@ from formdb.store.db import (
     upgrade_to_head,
 )
 from formdb.store.sealing import GENESIS, seal
-from tests.helpers import dump_database
+from tests.helpers import dump_database, library_state
 
 pytestmark = pytest.mark.slow  # left out of the fast lane
 
@@ -153,14 +153,14 @@ def test_upgrade_downgrade_upgrade_keeps_schema_and_data_reloads(empty_library_u
     _migrate(url, "upgrade")
     schema_at_head = schema_snapshot(url)
     _insert_library_rows(url)
-    before = dump_database(url)
+    before = library_state(url)
 
     _migrate(url, "downgrade", "base")
     assert set(schema_snapshot(url)) == {"alembic_version"}
     _migrate(url, "upgrade")
     assert schema_snapshot(url) == schema_at_head
     _insert_library_rows(url)  # the same rows load again into the rebuilt tables
-    assert dump_database(url) == before
+    assert library_state(url) == before
 
 
 def test_step_down_and_up_the_whole_chain(empty_library_url: str) -> None:
@@ -229,11 +229,11 @@ def test_data_at_head_survives_a_step_down_and_back(empty_library_url: str) -> N
     kept -= {t for t in kept if {c[0] for c in schema_before[t]["columns"]}
              - {c[0] for c in schema_at_head[t]["columns"]}}
     _insert_library_rows(url)
-    before = dump_database(url, tables=kept, exclude_columns=added)
+    before = library_state(url, tables=kept, exclude_columns=added)
 
     _migrate(url, "downgrade", "-1")
     # (excluding the added columns of a sealed table leaves its seals out of both dumps)
-    assert dump_database(url, tables=kept, exclude_columns=added) == before
+    assert library_state(url, tables=kept, exclude_columns=added) == before
     _migrate(url, "upgrade")
-    assert dump_database(url, tables=kept, exclude_columns=added) == before
+    assert library_state(url, tables=kept, exclude_columns=added) == before
     assert schema_snapshot(url) == schema_at_head

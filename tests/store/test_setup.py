@@ -12,7 +12,7 @@ from formdb.errors import InvalidData, SchemaOutdated
 from formdb.services.seed.setup import init_library
 from formdb.store.db import head_revision, make_engine, sqlite_path, unit_of_work
 from formdb.store.models import ChangeLogEntry, LimitEntry, Source
-from tests.helpers import dump_database
+from tests.helpers import dump_database, library_state
 
 FIXTURE_SEED = Path(__file__).parent / "fixtures" / "seed"
 USER = "larkspur-test"
@@ -56,9 +56,9 @@ def test_seeding_fills_every_table(empty_library_url: str) -> None:
 @pytest.mark.slow  # seconds per run: left out of the fast lane
 def test_seeding_twice_changes_nothing(empty_library_url: str) -> None:
     _seed(empty_library_url)
-    before = dump_database(empty_library_url)
+    before = library_state(empty_library_url)
     report = _seed(empty_library_url)
-    assert dump_database(empty_library_url) == before  # no new rows, no change-log rows
+    assert library_state(empty_library_url) == before  # no new rows, no change-log rows
     assert not report.changed_anything
     assert all(c.added == c.changed == 0 for c in report.seeded.values())
     assert report.seeded["ingredients"].unchanged == 8
@@ -117,9 +117,9 @@ def test_seeding_leaves_the_teams_own_rows_alone(empty_library_url: str) -> None
                                evidence="supplier"))
     finally:
         engine.dispose()
-    before = dump_database(empty_library_url)
+    before = library_state(empty_library_url)
     _seed(empty_library_url)
-    assert dump_database(empty_library_url) == before
+    assert library_state(empty_library_url) == before
 
 
 BAD_SEEDS = [
@@ -164,12 +164,12 @@ def test_a_bad_seed_row_is_named_and_nothing_is_written(
     assert old in text, "the test's replacement must apply"
     path.write_text(text.replace(old, new, 1))
     init_library(sqlite_url, seed=False, user=USER)
-    before = dump_database(sqlite_url)
+    before = library_state(sqlite_url)
     with pytest.raises(InvalidData) as caught:
         _seed(sqlite_url, seed_copy)
     assert expected in caught.value.message
     assert "\n" not in caught.value.message
-    assert dump_database(sqlite_url) == before
+    assert library_state(sqlite_url) == before
 
 
 def test_an_empty_seed_file_is_refused(sqlite_url: str, seed_copy: Path) -> None:
@@ -205,18 +205,18 @@ def test_init_refuses_a_library_from_a_newer_formdb(sqlite_url: str) -> None:
             conn.exec_driver_sql("UPDATE alembic_version SET version_num = '7777_future'")
     finally:
         engine.dispose()
-    before = dump_database(sqlite_url)
+    before = library_state(sqlite_url)
     with pytest.raises(SchemaOutdated, match="7777_future, which this formdb does not know"):
         init_library(sqlite_url, seed=True, user=USER)
-    assert dump_database(sqlite_url) == before
+    assert library_state(sqlite_url) == before
 
 
 def test_bundled_seed_library_loads_and_reloads_unchanged(seeded_sqlite_url: str) -> None:
     """The real seed_data/ (every file present) seeds, and a second init --seed is a no-op."""
-    before = dump_database(seeded_sqlite_url)
+    before = library_state(seeded_sqlite_url)
     report = init_library(seeded_sqlite_url, seed=True, user=USER)
     assert not report.changed_anything, report
-    assert dump_database(seeded_sqlite_url) == before
+    assert library_state(seeded_sqlite_url) == before
     assert report.seeded["ingredients"].unchanged >= 90  # DESIGN.md section 4 lists ~95 names
 
 

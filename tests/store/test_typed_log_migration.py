@@ -18,7 +18,7 @@ from formdb.services.review.impact import earlier_record
 from formdb.store import queries
 from formdb.store.db import downgrade, make_engine, unit_of_work, upgrade
 from formdb.store.sealing import FORMS, GENESIS, as_text, row_hash
-from tests.helpers import dump_database, run_formdb
+from tests.helpers import library_state, run_formdb
 
 pytestmark = pytest.mark.slow  # left out of the fast lane
 
@@ -204,11 +204,11 @@ def test_old_rows_come_back_byte_for_byte(empty_library_url: str) -> None:
     url = empty_library_url
     _old_library(url)
     tables = {"ingredients", "ingredient_names", "property_values", "sources"}
-    before = dump_database(url, tables=tables)
+    before = library_state(url, tables=tables)
     log = [dict(r) for r in _sql(url, "SELECT * FROM change_log ORDER BY id")]
     _step(url, "upgrade", TYPED)
     _step(url, "downgrade", BEFORE)
-    assert dump_database(url, tables=tables) == before
+    assert library_state(url, tables=tables) == before
     # the same columns and values (a column put back comes last in the table)
     assert [dict(r) for r in _sql(url, "SELECT * FROM change_log ORDER BY id")] == log
 
@@ -226,7 +226,7 @@ def test_a_downgrade_never_reseals_a_tampered_entry(empty_library_url: str) -> N
         engine.dispose()
     _sql(url, "UPDATE change_log SET reason = 'rewritten' WHERE id = :i",
          {"i": len(OLD_ROWS) + 1})
-    before = dump_database(url)
+    before = library_state(url)
     with pytest.raises(Exception, match="does not verify"):
         _step(url, "downgrade", BEFORE)
-    assert dump_database(url) == before
+    assert library_state(url) == before

@@ -11,7 +11,7 @@ from sqlalchemy import DateTime, String, column, insert, select, table, text
 
 from formdb.services.admin.access import add_user, is_open, list_users
 from formdb.store.db import alembic_config, downgrade, make_engine, unit_of_work, upgrade
-from tests.helpers import dump_database
+from tests.helpers import library_state
 
 pytestmark = pytest.mark.slow  # left out of the fast lane
 
@@ -49,7 +49,7 @@ def test_users_come_from_the_change_log_up_and_down(empty_library_url: str) -> N
             downgrade(engine, "base")
             upgrade(engine, earlier)
             _history(engine)
-            before = dump_database(url)
+            before = library_state(url)
 
             upgrade(engine, "head")
             with unit_of_work(engine) as session:
@@ -61,7 +61,7 @@ def test_users_come_from_the_change_log_up_and_down(empty_library_url: str) -> N
 
             downgrade(engine, earlier)
             assert _revision(engine) == earlier
-            assert dump_database(url) == before, earlier
+            assert library_state(url) == before, earlier
 
             upgrade(engine, "head")  # up again: the same users, rebuilt from the log
             with unit_of_work(engine) as session:
