@@ -210,31 +210,47 @@ def _toml_string(text: str) -> str:
 
 # --- formula files ---------------------------------------------------------------------------
 
+# The strategies a composite draws from are made once, here: one made inside it is a new
+# object on every draw, whose properties (labels, emptiness) Hypothesis works out again each
+# time, which cost more than the formula command it fed. The same draws as before.
+def _toml_number_or(default: str) -> Callable[[str], str]:
+    return lambda t: t if _is_toml_number(t) else default
+
+
+CATEGORIES = st.sampled_from(["leave-on", "rinse-off", "x"])
+FORMULA_KEYS = st.lists(st.sampled_from(["product", "intended_type", "ph", "batch_kg", "kind",
+                                         "nonsense"]), max_size=3, unique=True)
+FORMULA_VALUE = st.one_of(number_text.map(_toml_number_or("1")), nasty_text.map(_toml_string))
+DEPTHS = st.integers(1, 3000)
+INGREDIENT_COUNTS = st.integers(0, 40)
+INCI_NAMES = st.one_of(st.sampled_from(INGREDIENTS), nasty_text)
+DAMAGED = st.integers(0, 9)
+SPLICED = st.text(max_size=20)
+
+
 @st.composite
 def formula_text(draw: st.DrawFn) -> str:
     lines = [f"name = {_toml_string(draw(nasty_text) or 'x')}"]
-    category = draw(st.sampled_from(["leave-on", "rinse-off", "x"]))
+    category = draw(CATEGORIES)
     lines.append(f"category = {_toml_string(category)}")
-    for key in draw(st.lists(st.sampled_from(["product", "intended_type", "ph", "batch_kg",
-                                               "kind", "nonsense"]), max_size=3, unique=True)):
-        value = draw(st.one_of(number_text.map(lambda t: t if _is_toml_number(t) else "1"),
-                               nasty_text.map(_toml_string)))
+    for key in draw(FORMULA_KEYS):
+        value = draw(FORMULA_VALUE)
         lines.append(f"{key} = {value}")
     if draw(st.booleans()):
-        depth = draw(st.integers(1, 3000))
+        depth = draw(DEPTHS)
         lines.append("deep = " + "[" * depth + "]" * depth)
-    count = draw(st.integers(0, 40))
+    count = draw(INGREDIENT_COUNTS)
     for _ in range(count):
-        inci = draw(st.one_of(st.sampled_from(INGREDIENTS), nasty_text))
+        inci = draw(INCI_NAMES)
         percent = draw(number_text)
         lines += ["[[ingredients]]", f"inci = {_toml_string(inci)}",
                   f"percent = {percent if _is_toml_number(percent) else _toml_string(percent)}"]
         if draw(st.booleans()):
             lines.append(f"phase = {_toml_string(draw(nasty_text))}")
     text = "\n".join(lines) + "\n"
-    if draw(st.integers(0, 9)) == 0:  # a damaged file: bytes cut or spliced
+    if draw(DAMAGED) == 0:  # a damaged file: bytes cut or spliced
         cut = draw(st.integers(0, len(text)))
-        text = text[:cut] + draw(st.text(max_size=20)) + text[cut:]
+        text = text[:cut] + draw(SPLICED) + text[cut:]
     return text
 
 
@@ -281,30 +297,37 @@ FACTS = ["droplet_diameter_um", "surface_excess_mg_m2", "body_weight_kg",
          "hlb_wo_max", "hlb_ow_min", "bancroft_margin", "no_such_fact"]
 
 
+PARENTS = st.sampled_from(["default", "strict", "nope", "../x.toml", "p.toml"])
+SELECTED = st.lists(st.sampled_from(["all", "HLB01", "x", ""]), max_size=3)
+PROFILE_VALUE = st.one_of(number_text.map(_toml_number_or("1e12")), nasty_text.map(_toml_string),
+                          st.sampled_from(["true", "[]", "{}"]))
+FACT_KEYS = st.lists(st.sampled_from(FACTS), max_size=3, unique=True)
+RULE_CODES = st.lists(st.sampled_from(sorted(PROFILE_OPTIONS)), max_size=3, unique=True)
+RULE_KEYS = {code: st.lists(st.sampled_from([*options, "severity", "enabled"]), min_size=1,
+                            max_size=2, unique=True)
+             for code, options in PROFILE_OPTIONS.items()}
+
+
 @st.composite
 def profile_text(draw: st.DrawFn) -> str:
     lines = [f"name = {_toml_string(draw(nasty_text) or 'p')}", 'version = "1"']
     if draw(st.booleans()):
-        parent = draw(st.sampled_from(["default", "strict", "nope", "../x.toml", "p.toml"]))
+        parent = draw(PARENTS)
         lines.append(f"extends = {_toml_string(parent)}")
     if draw(st.booleans()):
-        chosen = draw(st.lists(st.sampled_from(["all", "HLB01", "x", ""]), max_size=3))
+        chosen = draw(SELECTED)
         lines.append(f"select = {json.dumps(chosen)}")
 
     def value() -> str:
-        return draw(st.one_of(number_text.map(lambda t: t if _is_toml_number(t) else "1e12"),
-                              nasty_text.map(_toml_string), st.sampled_from(["true", "[]",
-                                                                             "{}"])))
+        return draw(PROFILE_VALUE)
 
-    facts = draw(st.lists(st.sampled_from(FACTS), max_size=3, unique=True))
+    facts = draw(FACT_KEYS)
     if facts:
         lines.append("[facts]")
         lines += [f"{key} = {value()}" for key in facts]
-    for code in draw(st.lists(st.sampled_from(sorted(PROFILE_OPTIONS)), max_size=3,
-                              unique=True)):
+    for code in draw(RULE_CODES):
         lines.append(f"[rules.{code}]")
-        keys = draw(st.lists(st.sampled_from([*PROFILE_OPTIONS[code], "severity", "enabled"]),
-                             min_size=1, max_size=2, unique=True))
+        keys = draw(RULE_KEYS[code])
         lines += [f"{key} = {value()}" for key in keys]
     return "\n".join(lines) + "\n"
 
@@ -328,24 +351,30 @@ HEADER = ["inci_name", "synonyms", "cas", "roles", "hlb", "density", "ph_min", "
           "solubility", "source", "hlb_source", "unknown", ""]
 
 
+HEADERS = st.lists(st.sampled_from(HEADER), min_size=1, max_size=6, unique=True)
+ROW_COUNTS = st.integers(0, 6)
+SOURCE_CELLS = st.sampled_from(["rule-of-thumb", "from-memory", "nope", ""])
+CAS_CELLS = st.sampled_from(["7732-18-5", "0000-00-0", "٧٧٣٢-١٨-٥", "50-00-0", "1-1-1", ""])
+OTHER_CELLS = st.one_of(number_text, nasty_text)
+
+
 @st.composite
 def table_rows(draw: st.DrawFn) -> list[list[str]]:
-    header = draw(st.lists(st.sampled_from(HEADER), min_size=1, max_size=6, unique=True))
+    header = draw(HEADERS)
     if draw(st.booleans()) and "inci_name" not in header:
         header.insert(0, "inci_name")
     rows = [header]
-    for _ in range(draw(st.integers(0, 6))):
+    for _ in range(draw(ROW_COUNTS)):
         row = []
         for column in header:
             if column == "inci_name":
                 row.append("Larkspur " + draw(nasty_text))
             elif column in ("source", "hlb_source"):
-                row.append(draw(st.sampled_from(["rule-of-thumb", "from-memory", "nope", ""])))
+                row.append(draw(SOURCE_CELLS))
             elif column == "cas":
-                row.append(draw(st.sampled_from(["7732-18-5", "0000-00-0", "٧٧٣٢-١٨-٥",
-                                                 "50-00-0", "1-1-1", ""])))
+                row.append(draw(CAS_CELLS))
             else:
-                row.append(draw(st.one_of(number_text, nasty_text)))
+                row.append(draw(OTHER_CELLS))
         if draw(st.booleans()) and row:
             row = row[:draw(st.integers(0, len(row)))]  # ragged
         rows.append(row)
