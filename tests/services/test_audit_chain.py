@@ -10,7 +10,6 @@ from __future__ import annotations
 import hashlib
 import itertools
 import json
-import time
 from datetime import UTC, datetime, timedelta, timezone
 from typing import Any
 from uuid import uuid4
@@ -33,7 +32,7 @@ from formdb.store.sealing import (
     seal,
 )
 from tests.helpers import drop_roles, run_formdb
-from tests.store.edit_workers import STRESS_NAMES, edit_rounds, edit_workers_context
+from tests.store.edit_workers import STRESS_NAMES, editors_together
 
 # --- the hashing on plain data -------------------------------------------------------------------
 
@@ -305,11 +304,7 @@ def test_verify_input_problem_exits_2(tmp_path: Any) -> None:
 def test_concurrent_writers_keep_one_chain(library_url: str) -> None:
     # 3 processes x 8 rounds of edits on shared ingredients: the chain must not fork
     _stock(library_url)
-    ctx = edit_workers_context()
-    start_at = time.time() + 3.0
-    with ctx.Pool(3) as pool:
-        jobs = [pool.apply_async(edit_rounds, (library_url, w, 8, start_at)) for w in range(3)]
-        attempts = [a for job in jobs for a in job.get(timeout=60)]
+    attempts = editors_together(library_url, 3, 8)
     assert [a for a in attempts if a.other_error] == []
     assert any(a.accepted_version for a in attempts)
     code, log, _err = _verify(library_url)

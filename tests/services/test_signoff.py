@@ -16,7 +16,7 @@ import base64
 import json
 import shutil
 import time
-from datetime import timedelta
+from datetime import UTC, datetime, timedelta
 from pathlib import Path
 from typing import Any
 from uuid import uuid4
@@ -27,6 +27,7 @@ from sqlalchemy import create_engine, select, text
 from sqlalchemy.engine import make_url
 from sqlalchemy.exc import DBAPIError
 
+from formdb.schemas.times import utc
 from formdb.services.review import keys as keys_module
 from formdb.services.review.keys import load_private_key, signed_text
 from formdb.store.db import make_engine, unit_of_work
@@ -373,7 +374,11 @@ def test_a_revoked_key_cannot_sign_a_later_run_even_backdated(
     assert act(people(url, "ada"), "key", "revoke", str(real.key_id), "--reason",
                "laptop stolen").exit_code == 0
     cream.write_text(cream.read_text(encoding="utf-8") + "\n# second draft\n", encoding="utf-8")
-    time.sleep(2)  # the new run is made over the allowance after the (backdated) signature
+    # the new run is made over the allowance after the (backdated) signature: waited for on
+    # the clock (run times may be stored to the second), not slept for a fixed 2 s
+    allowance_over = utc(real.signed_at) + keys_module.CLOCK_SKEW
+    while datetime.now(UTC).replace(microsecond=0) <= allowance_over:
+        time.sleep(0.02)
     new = _run(ana, cream)
     stolen = load_private_key(rita.key, ENV["FORMDB_KEY_PASSPHRASE"])
     runs = {r["run_key"]: r for r in _status(ana)["runs"]}

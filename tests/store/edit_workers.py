@@ -55,12 +55,14 @@ def user_of(worker: int) -> str:
     return f"larkspur-editor-{worker}"
 
 
-def edit_rounds(url: str, worker: int, rounds: int, start_at: float) -> list[Attempt]:
+def edit_rounds(url: str, worker: int, rounds: int, start: Any) -> list[Attempt]:
+    """``rounds`` edits by ``worker``, begun when every worker has its engine (``start``, a
+    barrier of the workers and the test)."""
     rng = random.Random(worker * 7919)
     engine = make_engine(url)
     out: list[Attempt] = []
     try:
-        time.sleep(max(0.0, start_at - time.time()))  # every worker starts together
+        start.wait(60)  # every worker starts together
         for r in range(rounds):
             name = rng.choice(STRESS_NAMES)
             with unit_of_work(engine) as session:
@@ -83,6 +85,32 @@ def edit_rounds(url: str, worker: int, rounds: int, start_at: float) -> list[Att
     finally:
         engine.dispose()
     return out
+
+
+def _edit_rounds_into(done: Any, url: str, worker: int, rounds: int, start: Any) -> None:
+    done.put((worker, edit_rounds(url, worker, rounds, start)))
+
+
+def editors_together(url: str, workers: int, rounds: int) -> list[Attempt]:
+    """``edit_rounds`` by ``workers`` editors, each in a process of its own, released together
+    as soon as all are ready (a barrier, not a fixed wait for interpreters to start); every
+    worker must be done within a minute (a deadlock would hang here)."""
+    ctx = edit_workers_context()
+    start, done = ctx.Barrier(workers + 1), ctx.Queue()
+    procs = [ctx.Process(target=_edit_rounds_into, args=(done, url, w, rounds, start))
+             for w in range(workers)]
+    for proc in procs:
+        proc.start()
+    try:
+        start.wait(60)
+        results = dict(done.get(timeout=60) for _ in procs)
+    finally:
+        for proc in procs:
+            proc.join(timeout=10)
+            if proc.is_alive():
+                proc.kill()
+    assert [proc.exitcode for proc in procs] == [0] * workers
+    return [a for w in range(workers) for a in results[w]]
 
 
 def first_add(url: str, name: str, go: Any, results: Any) -> None:

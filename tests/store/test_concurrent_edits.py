@@ -11,7 +11,6 @@ from __future__ import annotations
 
 import re
 import sqlite3
-import time
 from typing import Any
 
 import pytest
@@ -26,8 +25,7 @@ from tests.helpers import library_state, run_formdb
 from tests.store.edit_workers import (
     STRESS_NAMES,
     Attempt,
-    edit_rounds,
-    edit_workers_context,
+    editors_together,
     user_of,
 )
 
@@ -51,14 +49,7 @@ def _stock(url: str) -> None:
 
 
 def _run_workers(url: str) -> list[Attempt]:
-    ctx = edit_workers_context()
-    start_at = time.time() + 3.0  # time for the interpreters to start
-    with ctx.Pool(PROCESSES) as pool:
-        jobs = [pool.apply_async(edit_rounds, (url, w, ROUNDS, start_at))
-                for w in range(PROCESSES)]
-        # a deadlock would hang here: every worker must be done within the bound
-        results = [job.get(timeout=60) for job in jobs]
-    return [a for worker in results for a in worker]
+    return editors_together(url, PROCESSES, ROUNDS)
 
 
 def _state(url: str) -> dict[str, tuple[int, float | None, str | None]]:
