@@ -224,14 +224,21 @@ def fresh_pg_database(base_url: str, template: str | None = None) -> Iterator[st
 
     It is made in the tablespace named by FORMDB_TEST_PG_TABLESPACE when that is set: a
     database is about 450 files, and on a disk file system making and deleting them for every
-    test costs the server more CPU than most tests do (DEVELOPERS.md, "Test speed")."""
+    test costs the server more CPU than most tests do (DEVELOPERS.md, "Test speed"). There, a
+    copy is made by copying the files (STRATEGY FILE_COPY, PostgreSQL 15 and later), not block
+    by block through the write-ahead log (WAL_LOG, 15's default): 20 ms of server CPU and 40 ms
+    of wall time per copy and drop of the seeded library instead of 30 and 65 ms. FILE_COPY
+    checkpoints the server, which costs little only where durability is off and the files are
+    in memory, as `.ci/run` sets them up; elsewhere the default stays."""
     base = make_url(base_url)
     name = f"formdb_t_{uuid4().hex[:12]}"
     admin = create_engine(base, isolation_level="AUTOCOMMIT")
     try:
         with admin.connect() as conn:
-            copy = f' TEMPLATE "{template}"' if template else ""
             space = os.environ.get(PG_TABLESPACE_ENV)
+            copy = f' TEMPLATE "{template}"' if template else ""
+            if template and space and conn.dialect.server_version_info >= (15,):
+                copy += " STRATEGY FILE_COPY"
             where = f' TABLESPACE "{space}"' if space else ""
             conn.execute(text(f'CREATE DATABASE "{name}"{copy}{where}'))
         try:
