@@ -8,7 +8,7 @@ import os
 import shutil
 import threading
 from collections import OrderedDict
-from collections.abc import Collection, Iterator, Mapping, Sequence
+from collections.abc import Callable, Collection, Iterator, Mapping, Sequence
 from contextlib import contextmanager
 from contextvars import ContextVar
 from dataclasses import dataclass
@@ -71,27 +71,10 @@ def dump_database(url: str, exclude_columns: Collection[str] = (),
     ends (``dispose_kept_engines``), so the dumps of a test share one server backend instead of
     starting one each.
     """
-    engine = _dump_engine(url)
-    try:
-        with engine.connect() as conn:
-            meta = _reflected(conn)
-            lines: list[str] = []
-            for name in sorted(meta.tables):
-                if tables is not None and name not in tables:
-                    continue
-                heading, query = _table_query(meta, name, frozenset(exclude_columns))
-                lines.append(heading)
-                if query is None:
-                    count = conn.execute(
-                        select(func.count()).select_from(meta.tables[name])).scalar_one()
-                    lines.append(f"{count} rows")
-                    continue
-                rows = conn.execute(query).all()
-                lines.extend(" | ".join(_cell(v) for v in row) for row in rows)
-        return "\n".join(lines) + "\n"
-    finally:
-        if engine.dialect.name == "sqlite":
-            engine.dispose()  # no connection keeps the file (and its write-ahead log) open
+    def rows(conn: Connection, query: Select[Any], _name: str) -> list[str]:
+        return [" | ".join(_cell(v) for v in row) for row in conn.execute(query).all()]
+
+    return _per_table(url, exclude_columns, tables, rows)
 
 
 def library_state(url: str, exclude_columns: Collection[str] = (),
@@ -107,11 +90,31 @@ def library_state(url: str, exclude_columns: Collection[str] = (),
     a copy). tests/store/test_library_state.py shows that a changed cell, a deleted row and
     an added row each change the state, on both backends.
     """
+    def hashed(conn: Connection, query: Select[Any], name: str) -> list[str]:
+        quote = conn.dialect.identifier_preparer.quote
+        cols = ", ".join(quote(c.name) for c in query.selected_columns)
+        if conn.dialect.name == "postgresql":
+            count, digest = conn.exec_driver_sql(
+                f"SELECT count(*), md5(coalesce(string_agg(ROW({cols})::text, "
+                f"E'\\n' ORDER BY {cols}), '')) FROM {quote(name)}").one()
+        else:
+            rows = conn.exec_driver_sql(
+                f"SELECT {cols} FROM {quote(name)} ORDER BY {cols}").fetchall()
+            count = len(rows)
+            digest = hashlib.sha256(repr([tuple(r) for r in rows]).encode()).hexdigest()
+        return [f"{count} rows, {digest}"]
+
+    return _per_table(url, exclude_columns, tables, hashed)
+
+
+def _per_table(url: str, exclude_columns: Collection[str], tables: Collection[str] | None,
+               rows: Callable[[Connection, Select[Any], str], list[str]]) -> str:
+    """Each table's heading, then ``rows`` of its query (a table whose columns are all left out:
+    its row count): the one walk of ``dump_database`` and ``library_state``."""
     engine = _dump_engine(url)
     try:
         with engine.connect() as conn:
             meta = _reflected(conn)
-            quote = conn.dialect.identifier_preparer.quote
             lines: list[str] = []
             for name in sorted(meta.tables):
                 if tables is not None and name not in tables:
@@ -123,21 +126,11 @@ def library_state(url: str, exclude_columns: Collection[str] = (),
                         select(func.count()).select_from(meta.tables[name])).scalar_one()
                     lines.append(f"{count} rows")
                     continue
-                cols = ", ".join(quote(c.name) for c in query.selected_columns)
-                if conn.dialect.name == "postgresql":
-                    count, digest = conn.exec_driver_sql(
-                        f"SELECT count(*), md5(coalesce(string_agg(ROW({cols})::text, "
-                        f"E'\\n' ORDER BY {cols}), '')) FROM {quote(name)}").one()
-                else:
-                    rows = conn.exec_driver_sql(
-                        f"SELECT {cols} FROM {quote(name)} ORDER BY {cols}").fetchall()
-                    count = len(rows)
-                    digest = hashlib.sha256(repr([tuple(r) for r in rows]).encode()).hexdigest()
-                lines.append(f"{count} rows, {digest}")
+                lines.extend(rows(conn, query, name))
         return "\n".join(lines) + "\n"
     finally:
         if engine.dialect.name == "sqlite":
-            engine.dispose()
+            engine.dispose()  # no connection keeps the file (and its write-ahead log) open
 
 
 _DUMP_ENGINES: OrderedDict[str, Engine] = OrderedDict()
