@@ -17,10 +17,12 @@ from typing import Any
 from uuid import uuid4
 
 import click
+import psycopg
 import pytest
 from click.testing import CliRunner
 from sqlalchemy import MetaData, Select, create_engine, func, select, text
 from sqlalchemy.engine import URL, Connection, Engine, make_url
+from sqlalchemy.exc import DBAPIError
 
 from formdb.store import db as store_db
 from formdb.store.db import in_role_catalog_transaction, make_engine
@@ -376,7 +378,7 @@ def _login_still_admitted(engine: Engine) -> bool:
     (``before_cursor_execute``) does not count it."""
     try:
         raw = engine.raw_connection()
-    except Exception:
+    except DBAPIError:  # the kept connections are gone (the server ended them)
         return False
     try:
         cursor = raw.cursor()
@@ -384,7 +386,7 @@ def _login_still_admitted(engine: Engine) -> bool:
         row = cursor.fetchone()
         cursor.close()
         return bool(row and row[0])
-    except Exception:
+    except psycopg.Error:  # the session was ended under it: a new login decides
         return False
     finally:
         raw.close()
