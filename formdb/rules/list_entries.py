@@ -152,9 +152,14 @@ def _group(part: Part, item: Item, members: list[Item], entry: ListEntry) -> lis
     include any use (III/98)."""
     if part.aggregate == "single":
         return [item]
-    group = [m for m in members if m is item or part.all_uses
-             or purpose_fits(entry, line_purpose(m.line, m.record)[0]) is not False]
+    group = members if part.all_uses else _same_use(item, members, entry)
     return group if item in group else [item, *group]
+
+
+def _same_use(item: Item, members: list[Item], entry: ListEntry) -> list[Item]:
+    """The item and the entry's other items whose line's purpose the entry may cover."""
+    return [m for m in members
+            if m is item or purpose_fits(entry, line_purpose(m.line, m.record)[0]) is not False]
 
 
 def _amount(part: Part, group: list[Item], entry: ListEntry, reference: ReferenceData
@@ -269,8 +274,7 @@ def _verdict(part: Part, item: Item, members: list[Item], entry: ListEntry,
                 words += ("; over only together: confirm by hand whether the entry's maximum is "
                           "for its substances together")
     if status == OK and part.mixture_max is not None:
-        mixture = [m for m in members if m is item or
-                   purpose_fits(entry, line_purpose(m.line, m.record)[0]) is not False]
+        mixture = _same_use(item, members, entry)
         total, converted = _amount(part, mixture, entry, reference)
         if len(mixture) > 1 and total > part.mixture_max + _EPS:
             status = OVER if converted else OPEN
