@@ -202,8 +202,11 @@ def _locate(spec: str | Path) -> Path:
         return _find(spec)
     except OSError as exc:  # a name too long for the file system (is_file and is_dir raise)
         raise ConfigError(f"profile file {spec}: cannot be read ({exc.strerror or exc})",
-                          hint=f"give a path to a TOML file or one of: "
-                               f"{', '.join(known_profiles())}") from None
+                          hint=_path_hint()) from None
+
+
+def _path_hint() -> str:
+    return f"give a path to a TOML file or one of: {', '.join(known_profiles())}"
 
 
 def _find(spec: str | Path) -> Path:
@@ -214,12 +217,10 @@ def _find(spec: str | Path) -> Path:
     if looks_like_path:
         if path.is_dir():
             raise ConfigError(f"profile file {text} is a folder, not a TOML file",
-                              hint=f"give a path to a TOML file or one of: "
-                                   f"{', '.join(known_profiles())}")
+                              hint=_path_hint())
         if not path.is_file():
             raise ConfigError(f"profile file {text} does not exist",
-                              hint=f"give a path to a TOML file or one of: "
-                                   f"{', '.join(known_profiles())}")
+                              hint=_path_hint())
         return path
     packaged = profiles_dir() / f"{text}.toml"
     if packaged.is_file():
