@@ -202,6 +202,11 @@ def _number(text: str) -> float:
     return float(text.replace(",", "."))
 
 
+def _as_percent(number: str, unit: str) -> float:
+    """A figure of the text in % (ppm and mg/kg are ten-thousandths of a per cent)."""
+    return _number(number) / (10_000 if unit.lower() in ("ppm", "mg/kg") else 1)
+
+
 _BASIS = (
     (re.compile(r"\(\s*acid\s*\)|as (the )?acid|expressed as acid", re.I), "as acid"),
     (re.compile(r"free SO\s*2|as SO\s*2", re.I), "as free SO2"),
@@ -222,8 +227,7 @@ def mixture_maximum(text: str) -> float | None:
     for segment in re.split(r"\n+|(?<=[a-z])\s*;\s*", text):
         found = _PERCENT.search(segment)
         if found and _MIXTURE.search(segment):
-            value = _number(found.group(1))
-            return value / 10_000 if found.group(2).lower() in ("ppm", "mg/kg") else value
+            return _as_percent(found.group(1), found.group(2))
     return None
 
 
@@ -239,8 +243,7 @@ def parse_maximum(text: str) -> tuple[float | None, str | None, str, tuple[str, 
     aggregate = "sum" if _SUM.search(text) else "single" if _SINGLE.search(text) else "each"
     if not found:
         return None, basis, aggregate, (), not clean(text)
-    values = [_number(n) / (10_000 if unit.lower() in ("ppm", "mg/kg") else 1)
-              for n, unit in found]
+    values = [_as_percent(n, unit) for n, unit in found]
     further: tuple[str, ...] = ()
     if len(set(values)) > 1:
         # later maxima (mixtures, professional use, other forms) are kept for a person to read
