@@ -14,6 +14,7 @@ from formdb.schemas.lists import (
     ListsImport,
     Part,
     SnapshotInfo,
+    SnapshotStatus,
 )
 
 CAUTION = ("Lists are dated snapshots of the Commission's exports: defer to the current "
@@ -35,6 +36,11 @@ def import_text(result: ListsImport, *, show_unparsed: int = 40) -> str:
         if annex.unchanged:
             out.append("  the same file is already in force: nothing changed")
             continue
+        if annex.reread:
+            shown = ", ".join(f"{annex.snapshot.annex}/{k}" for k in annex.reread[:8])
+            out.append(f"  the same file, read again by this version of formdb: "
+                       f"{len(annex.reread)} entries read differently ({shown}"
+                       f"{', ...' if len(annex.reread) > 8 else ''}) now carry the new reading")
         if annex.replaces is not None:
             out.append(f"  replaces: {annex.replaces.file_name}, last update "
                        f"{annex.replaces.last_update:%d/%m/%Y}")
@@ -83,12 +89,24 @@ def import_json(result: ListsImport) -> str:
     return json.dumps(data, indent=2, ensure_ascii=False) + "\n"
 
 
-def snapshots_text(snapshots: Sequence[SnapshotInfo]) -> str:
-    if not snapshots:
+def _reread_line(keys: Sequence[str], annex: str, total: int, file_name: str) -> str:
+    shown = ", ".join(f"{annex}/{k}" for k in keys[:8]) + (", ..." if len(keys) > 8 else "")
+    return (f"    read differently by this version of formdb: {len(keys)} of {total} entries "
+            f"({shown}); the checks use the reading stored at the import until the same export "
+            f"is imported again: `formdb lists import {file_name}`")
+
+
+def snapshots_text(statuses: Sequence[SnapshotStatus]) -> str:
+    if not statuses:
         return ("No list snapshot is in force: the checks use the seed's hand-written limit "
                 "rows. Import the Commission's exports with `formdb lists import`.\n")
     out = ["Lists in force:"]
-    out.extend(f"  {_snap(s)}; imported {s.imported_at} by {s.imported_by}" for s in snapshots)
+    for status in statuses:
+        s = status.snapshot
+        out.append(f"  {_snap(s)}; imported {s.imported_at} by {s.imported_by}")
+        if status.read_differently:
+            out.append(_reread_line(status.read_differently, s.annex, s.entries, s.file_name))
+    snapshots = [status.snapshot for status in statuses]
     missing = [a for a in ANNEXES if not any(s.annex == a for s in snapshots)]
     if missing:
         out.append(f"No export imported for Annex {', '.join(missing)}: the seed's hand-written "

@@ -212,6 +212,16 @@ class SnapshotInfo(BaseModel):
     in_force: bool = True
 
 
+class SnapshotStatus(BaseModel):
+    """A snapshot in force, and the entries this version of formdb reads differently from the
+    reading stored when the export was imported (an import by an older formdb)."""
+
+    model_config = ConfigDict(defer_build=True, frozen=True)
+
+    snapshot: SnapshotInfo
+    read_differently: tuple[str, ...] = ()
+
+
 class EntryChange(BaseModel):
     """One entry added, removed or changed by a newer export (old -> new per cell)."""
 
@@ -237,6 +247,8 @@ class AnnexImport(BaseModel):
     changes: tuple[EntryChange, ...] = ()
     ingredients_created: int = 0
     unchanged: bool = False  # the same file is already in force
+    # the same file in force, read again by a newer formdb: the entries it now reads differently
+    reread: tuple[str, ...] = ()
 
     @property
     def coverage(self) -> float:

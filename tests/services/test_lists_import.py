@@ -18,6 +18,7 @@ from formdb.errors import InvalidData
 from formdb.schemas.ingredient import name_key
 from formdb.schemas.lists import ListEntry
 from formdb.services.lists.importing import entry_match_keys, import_lists, read_export
+from formdb.services.lists.reading import show_entry
 from formdb.store import queries
 from formdb.store.library import Library
 from formdb.store.lists import record_match_keys
@@ -608,6 +609,46 @@ def test_status_and_show_as_a_reviewer_reads_them(sqlite_url: str) -> None:
     missing = run_formdb(["--db", sqlite_url, "lists", "show", "V/999"])
     assert missing.exit_code == 2 and missing.stderr.count("Error:") == 1
     assert "no entry V/999" in missing.stderr
+
+
+@needs_exports
+def test_an_older_reading_is_named_and_replaced_by_importing_again(sqlite_url: str) -> None:
+    """A snapshot imported by an older formdb keeps that version's reading of its entries: the
+    status names the entries this version reads differently (the stored cells parsed again), and
+    importing the same export again stores the new reading. The older reading is made here by
+    rewriting one stored entry's maximum, as a parser that misread V/3 would have stored it."""
+    from sqlalchemy import create_engine, text
+
+    assert run_formdb(["--db", sqlite_url, "lists", "import", str(export("V"))]).exit_code == 0
+    clean_status = run_formdb(["--db", sqlite_url, "lists", "status"])
+    assert "read differently" not in clean_status.stdout
+    engine = create_engine(sqlite_url)
+    with engine.begin() as conn:
+        body = conn.execute(text("SELECT body FROM list_entries WHERE ref = '3'")).scalar_one()
+        stored = ListEntry.model_validate_json(body)
+        misread = stored.model_copy(update={"parts": tuple(
+            p.model_copy(update={"max_percent": 5.0}) for p in stored.parts)})
+        assert misread != stored
+        conn.execute(text("UPDATE list_entries SET body = :b WHERE ref = '3'"),
+                     {"b": misread.model_dump_json()})
+    engine.dispose()
+
+    status = run_formdb(["--db", sqlite_url, "lists", "status"])
+    assert status.exit_code == 0
+    assert "read differently by this version of formdb: 1 of " in status.stdout
+    assert "(V/3)" in status.stdout and "formdb lists import COSING_Annex_V_v2.txt" in status.stdout
+
+    again = run_formdb(["--db", sqlite_url, "lists", "import", str(export("V"))])
+    assert again.exit_code == 0, again.stderr
+    assert "read again by this version of formdb: 1 entries read differently (V/3)" in again.stdout
+    assert "nothing changed" not in again.stdout
+    assert "read differently" not in run_formdb(["--db", sqlite_url, "lists", "status"]).stdout
+    with Library.open(sqlite_url) as library:
+        shown = show_entry(library, "V/3")
+    assert shown == [one("V", "3")]
+    # and the same file once more: now nothing to do
+    third = run_formdb(["--db", sqlite_url, "lists", "import", str(export("V"))])
+    assert "the same file is already in force: nothing changed" in third.stdout
 
 
 # ----- every entry can be named in a formula --------------------------------------------------

@@ -239,8 +239,11 @@ class _Plan:
         self.refusals = refusals
         # the same file, parsed as before: nothing to do (a file parsed differently by a newer
         # formdb is written again, so its entries carry what the parser now understands)
-        self.unchanged = current is not None and current.file_hash == export.file.file_hash \
-            and old == {e.key: e for e in export.entries}
+        same_file = current is not None and current.file_hash == export.file.file_hash
+        fresh = {e.key: e for e in export.entries}
+        self.reread = sorted(k for k in old.keys() | fresh.keys() if old.get(k) != fresh.get(k)) \
+            if same_file else []
+        self.unchanged = same_file and not self.reread
         self.changes = [] if self.unchanged else _diff(old, export.entries, export.file.annex)
 
     def report(self, created: list[tuple[str, ListEntry]]) -> AnnexImport:
@@ -250,7 +253,8 @@ class _Plan:
             replaces=None if self.current is None else snapshot_info(self.current),
             parts=parts, structured_parts=structured, unparsed=tuple(rest),
             changes=tuple(self.changes) if self.current is not None else (),
-            ingredients_created=len(created), unchanged=self.unchanged)
+            ingredients_created=len(created), unchanged=self.unchanged,
+            reread=tuple(self.reread))
 
 
 def _plan(session: Session, export: ParsedExport, allow_older: bool) -> _Plan:

@@ -2,21 +2,37 @@
 
 from __future__ import annotations
 
+from collections.abc import Iterable
+
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from formdb.errors import NotFound, quoted
 from formdb.schemas.ingredient import IngredientRecord, name_key
-from formdb.schemas.lists import ANNEXES, ListEntry, SnapshotInfo
+from formdb.schemas.lists import ANNEXES, ListEntry, SnapshotStatus
 from formdb.schemas.suggest import close_matches
+from formdb.services.lists.parse import parse_entry
 from formdb.store.library import Library
-from formdb.store.lists import entries_for_records, list_origin, snapshots_in_force
+from formdb.store.lists import entries_for_records, entries_of, list_origin, snapshots_in_force
 from formdb.store.models import ListEntryRow, ListSnapshot
 
 
-def lists_in_force(library: Library) -> tuple[SnapshotInfo, ...]:
+def read_differently(entries: Iterable[ListEntry]) -> tuple[str, ...]:
+    """The keys of the entries this version's parser reads differently from their stored
+    reading. Every entry keeps its export cells verbatim, so the stored reading can be compared
+    with what the parser makes of the same cells now: a snapshot imported by an older formdb
+    goes on being checked with the older reading (and found by its match keys) until the same
+    export is imported again."""
+    return tuple(sorted(e.key for e in entries
+                        if parse_entry(e.annex, e.cells, e.key) != e))
+
+
+def lists_in_force(library: Library) -> tuple[SnapshotStatus, ...]:
+    """The snapshots in force, each with the entries this version reads differently."""
     with library.read() as session:
-        return snapshots_in_force(session)
+        return tuple(SnapshotStatus(snapshot=s, read_differently=read_differently(
+            entries_of(session, s.id).values()) if s.id is not None else ())
+            for s in snapshots_in_force(session))
 
 
 def show_entry(library: Library, reference: str) -> list[ListEntry]:
