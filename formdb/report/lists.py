@@ -38,9 +38,10 @@ def import_text(result: ListsImport, *, show_unparsed: int = 40) -> str:
             continue
         if annex.reread:
             shown = ", ".join(f"{annex.snapshot.annex}/{k}" for k in annex.reread[:8])
-            out.append(f"  the same file, read again by this version of formdb: "
-                       f"{len(annex.reread)} entries read differently ({shown}"
-                       f"{', ...' if len(annex.reread) > 8 else ''}) now carry the new reading")
+            count = "1 entry" if len(annex.reread) == 1 else f"{len(annex.reread)} entries"
+            out.append(f"  the same file, read again by this version of formdb: {count} read "
+                       f"differently ({shown}{', ...' if len(annex.reread) > 8 else ''}) now "
+                       "carry the new reading")
         if annex.replaces is not None:
             out.append(f"  replaces: {annex.replaces.file_name}, last update "
                        f"{annex.replaces.last_update:%d/%m/%Y}")

@@ -249,8 +249,55 @@ def _ph(part: Part) -> str:
     return f"up to pH {part.ph_max:g}"
 
 
+def _joint(part: Part, item: Item, entry: ListEntry, everyone: Iterable[Item]
+           ) -> list[tuple[Item, ListEntry]]:
+    """Each item of the formula that a substance of an entry named by the part's joint maximum
+    is (V/12a names entries 12 and 12a), paired with that entry, for a use the entry covers."""
+    out: list[tuple[Item, ListEntry]] = []
+    for other in everyone:
+        for named in other.entries:
+            if named.annex == entry.annex and named.ref.casefold() in part.joint_refs and (
+                    other is item or purpose_fits(
+                        named, line_purpose(other.line, other.record)[0]) is not False):
+                out.append((other, named))
+                break
+    return out
+
+
+def _joint_verdict(part: Part, item: Item, entry: ListEntry, everyone: Iterable[Item],
+                   reference: ReferenceData) -> tuple[str, str] | None:
+    """(status, words) of the part's joint maximum when the formula holds substances of more
+    than one of the entries it names and their sum is over it; None otherwise."""
+    if part.joint_max is None:
+        return None
+    joint = _joint(part, item, entry, everyone)
+    if len({named.key for _m, named in joint}) < 2:
+        return None  # one entry's substances alone: that entry's own maximum is the lower one
+    if part.basis == "as acid":
+        factors = [acid_factor(named, m, reference) for m, named in joint]
+        converted = all(f is not None for f in factors)
+        total = sum(m.percent * (f if converted and f is not None else 1.0)
+                    for (m, _n), f in zip(joint, factors, strict=True))
+    else:
+        converted = part.basis is None
+        total = sum(m.percent for m, _n in joint)
+    if total <= part.joint_max + _EPS:
+        return None
+    refs = " and ".join(f"{entry.annex}/{r}" for r in part.joint_refs)
+    basis = f" {part.basis}" if part.basis and converted else " as-is"
+    words = ("; but the substances of entries " + refs + " together, "
+             + " + ".join(f"{m.label} {m.percent:.4g} %" for m, _n in joint)
+             + f" = {figure(total, part.joint_max)} %{basis}, are over the "
+             f"{part.joint_max:g} % the entry gives for mixtures of them")
+    if not converted:
+        return OPEN, words + (f" ({part.basis} it may be less: no molar mass to convert, "
+                              "confirm by hand)")
+    return OVER, words
+
+
 def _verdict(part: Part, item: Item, members: list[Item], entry: ListEntry,
-             formula: ResolvedFormula, reference: ReferenceData) -> tuple[str, str]:
+             formula: ResolvedFormula, reference: ReferenceData,
+             everyone: Iterable[Item] = ()) -> tuple[str, str]:
     """(status, words) of one part for an item: a product the part's text rules out, else the
     amount of the entry's substances present against the maximum (and the pH)."""
     banned = _excluded(part, item, formula)
@@ -285,11 +332,15 @@ def _verdict(part: Part, item: Item, members: list[Item], entry: ListEntry,
                       f"{part.mixture_max:g} % for mixtures"
                       + ("" if converted else f" ({part.basis} it may be less: no molar mass "
                          "to convert, confirm by hand)"))
+    if status == OK and (joint := _joint_verdict(part, item, entry, everyone, reference)):
+        status, more = joint
+        words += more
     return status, words
 
 
 def judge(entry: ListEntry, item: Item, members: list[Item], formula: ResolvedFormula,
-          reading: str | None, reference: ReferenceData) -> Outcome:
+          reading: str | None, reference: ReferenceData, everyone: Iterable[Item] = ()
+          ) -> Outcome:
     """One entry for one item under one purpose reading ("other": any purpose but preserving,
     which says nothing of the purposes a part's scope may name)."""
     fits = parts_for(entry, formula, None if reading == "other" else reading)
@@ -303,7 +354,7 @@ def judge(entry: ListEntry, item: Item, members: list[Item], formula: ResolvedFo
     parts: list[tuple[Part, bool | None, str]] = []
     statuses = set()
     for fit in candidates:
-        status, words = _verdict(fit.part, item, members, entry, formula, reference)
+        status, words = _verdict(fit.part, item, members, entry, formula, reference, everyone)
         parts.append((fit.part, fit.fits, words))
         statuses.add(status)
     definite = len(candidates) == 1 and candidates[0].fits is True
@@ -367,7 +418,7 @@ class ListEntryLimits(Rule):
             for entry in item.entries:
                 members.setdefault(entry.label, []).append(item)
         for item in items:
-            yield from self._item(item, members, formula, reference)
+            yield from self._item(item, members, formula, reference, items)
         yield from self._unlisted(formula, reference)
 
     def _unlisted(self, formula: ResolvedFormula, reference: ReferenceData
@@ -411,7 +462,7 @@ class ListEntryLimits(Rule):
                        f"synonym or its CAS number")
 
     def _item(self, item: Item, members: Mapping[str, list[Item]], formula: ResolvedFormula,
-              reference: ReferenceData) -> Iterable[Finding]:
+              reference: ReferenceData, everyone: list[Item]) -> Iterable[Finding]:
         purpose, purpose_from = line_purpose(item.line, item.record)
         kinds = {e.purpose for e in item.entries if e.purpose is not None and e.annex != "II"}
         readings: tuple[str | None, ...] = (purpose,)
@@ -438,7 +489,8 @@ class ListEntryLimits(Rule):
                 if purpose_fits(entry, reading) is False:
                     continue
                 outcomes.setdefault(entry.label, []).append(
-                    judge(entry, item, members[entry.label], formula, reading, reference))
+                    judge(entry, item, members[entry.label], formula, reading, reference,
+                          everyone))
         bad_in = {r: any(o.status in (OVER, NOT_ALLOWED) for os in outcomes.values()
                          for o in os if o.reading == r) for r in readings}
         for entry in item.entries:

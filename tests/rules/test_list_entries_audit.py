@@ -209,6 +209,33 @@ def test_parabens_single_ester_and_mixture(library: Library) -> None:
     assert "for mixtures" in entry_findings(found, "V/12")[0].message
 
 
+def test_parabens_of_entries_12_and_12a_together(library: Library) -> None:
+    """V/12a: "0,14 % (as acid) for the sum of the individual concentrations" of butyl- and
+    propylparaben, and "0,8 % (as acid) for mixtures of substances mentioned in entry 12 and
+    12a". Methylparaben 0.42 %, ethylparaben 0.45 % and propylparaben 0.15 % are each within
+    their entry (V/12: 0.3813 + 0.3741 = 0.755 % as acid, under its 0.8 % for mixtures; V/12a:
+    0.1150 % under 0.14 %), but together 0.870 % as acid (M 138.12 / 152.15, 166.17, 180.20),
+    over the 0.8 % for mixtures of both entries: an error the seed's hand-written V/12 row also
+    gives. Methylparaben 0.3 % with propylparaben 0.1 % (0.349 % as acid) is within."""
+    part = read_export(ANNEX_EXPORTS / "COSING_Annex_V_v2.txt")
+    v12a = next(e for e in part.entries if e.ref == "12a").parts[0]
+    assert (v12a.max_percent, v12a.joint_max, v12a.joint_refs) == (0.14, 0.8, ("12", "12a"))
+    trio = lim(library, formula([("Methylparaben", 0.42, "preservative"),
+                                 ("Ethylparaben", 0.45, "preservative"),
+                                 ("Propylparaben", 0.15, "preservative")],
+                                product="body lotion"))
+    assert severities(trio, "V/12") == {"info"}
+    over = one(trio, "V/12a")
+    assert over.severity.value == "error"
+    assert "entries V/12 and V/12a together" in over.message
+    assert "= 0.8703 % as acid" in over.message
+    pair = lim(library, formula([("Methylparaben", 0.3, "preservative"),
+                                 ("Propylparaben", 0.1, "preservative")],
+                                product="body lotion"))
+    assert severities(pair, "V/12a") == {"info"}
+    assert "together" not in one(pair, "V/12a").message
+
+
 def test_several_substances_over_only_together_are_asked(library: Library) -> None:
     """III/12 (b): hydrogen peroxide "present or released", 4 % in skin products. 3 % hydrogen
     peroxide with 3 % urea peroxide (which releases about a third of its mass) may be over;

@@ -231,6 +231,23 @@ def mixture_maximum(text: str) -> float | None:
     return None
 
 
+# V/12a: "0,8% (as acid) for mixtures of substances mentioned in entry 12 and 12a"
+_JOINT = re.compile(r"(\d+(?:[.,]\d+)?)\s*(%|ppm|mg/kg)[^%\n]*?\bfor mixtures of substances "
+                    r"(?:mentioned|listed|referred to) in entr(?:y|ies)\s+"
+                    r"(\d+\s*[a-z]?(?:\s*(?:,|and|&)\s*\d+\s*[a-z]?)+)\b", re.I)
+
+
+def joint_maximum(text: str) -> tuple[float | None, tuple[str, ...]]:
+    """(the maximum, the entries' reference numbers) of a cell that gives one maximum for the
+    substances of several entries together, or (None, ())."""
+    found = _JOINT.search(text)
+    if not found:
+        return None, ()
+    refs = tuple(r.replace(" ", "").casefold()
+                 for r in re.findall(r"\d+\s*[a-z]?(?![a-z])", found.group(3), re.I))
+    return _as_percent(found.group(1), found.group(2)), refs
+
+
 def parse_maximum(text: str) -> tuple[float | None, str | None, str, tuple[str, ...], bool]:
     """(max %, basis, aggregate, further limits, parsed) of one part's maximum cell text."""
     found = _PERCENT.findall(text)
@@ -587,9 +604,11 @@ def _part(label: str | None, scope_text: str, max_text: str, other: str,
         unparsed.append(f"product type: {scope.text}")
     ph_min, ph_max = ph_limits(f"{other}\n{max_text}")
     text = f"{max_text}\n{other}\n{wording}"
+    joint_max, joint_refs = joint_maximum(max_text)
     return Part(label=label, scope=scope, max_percent=max_percent, max_text=clean(max_text),
                 basis=basis, aggregate=aggregate, further_limits=further, ph_min=ph_min,
                 mixture_max=mixture_maximum(max_text) if aggregate == "single" else None,
+                joint_max=joint_max, joint_refs=joint_refs,
                 all_uses=bool(_ALL_USES.search(other)), exclusions=exclusions(other),
                 ph_max=ph_max, conditions=conditions_of(text), other=clean(other),
                 labelling=clean(wording), unparsed=tuple(unparsed))
