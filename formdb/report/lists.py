@@ -39,9 +39,10 @@ def import_text(result: ListsImport, *, show_unparsed: int = 40) -> str:
         if annex.reread:
             shown = ", ".join(f"{annex.snapshot.annex}/{k}" for k in annex.reread[:8])
             count = "1 entry" if len(annex.reread) == 1 else f"{len(annex.reread)} entries"
+            carry = "carries" if len(annex.reread) == 1 else "carry"
             out.append(f"  the same file, read again by this version of formdb: {count} read "
                        f"differently ({shown}{', ...' if len(annex.reread) > 8 else ''}) now "
-                       "carry the new reading")
+                       f"{carry} the new reading")
         if annex.replaces is not None:
             out.append(f"  replaces: {annex.replaces.file_name}, last update "
                        f"{annex.replaces.last_update:%d/%m/%Y}")
@@ -143,6 +144,7 @@ def entry_text(entry: ListEntry) -> str:
     out = [entry.title, f"  chemical name: {entry.chemical_name}"]
     if entry.inci_names:
         out.append(f"  INCI: {'; '.join(entry.inci_names)}")
+    out.extend(f"  name corrected: {note}" for note in entry.misspelt)
     if entry.cas_numbers:
         out.append(f"  CAS: {', '.join(entry.cas_numbers)}")
     if entry.ec_numbers:

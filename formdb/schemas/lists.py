@@ -159,6 +159,9 @@ class ListEntry(BaseModel):
     regulation: str = ""
     update_date: date | None = None
     cells: dict[str, str] = {}  # every cell of the row, verbatim
+    # names the export misspells, each "AS EXPORTED read as AS WRITTEN (why)": the name as
+    # written is among ``inci_names`` beside the misspelt one, so a formula finds the entry
+    misspelt: tuple[str, ...] = ()
 
     @property
     def label(self) -> str:

@@ -236,6 +236,32 @@ def test_parabens_of_entries_12_and_12a_together(library: Library) -> None:
     assert "together" not in one(pair, "V/12a").message
 
 
+def test_steartrimonium_chloride_despite_the_exports_misspelling(library: Library) -> None:
+    """III/286 (Regulation (EU) 2014/866): "C16-alkyltrimethylammonium chloride,
+    C18-alkyltrimethylammonium chloride", rinse-off hair products 2.5 %, leave-on hair 1.0 %,
+    leave-on face 0.5 %. The export spells the C18 one's INCI name "STRARTRIMONIUM CHLORIDE" and
+    gives cetrimonium chloride's CAS number alone, so steartrimonium chloride (CAS 112-03-8) found
+    no entry: 3 % in a hair conditioner, and any amount in a body lotion, passed unseen."""
+    entry = next(e for e in read_export(ANNEX_EXPORTS / "COSING_Annex_III_v2.txt").entries
+                 if e.ref == "286")
+    assert "STEARTRIMONIUM CHLORIDE" in entry.inci_names
+    assert "STRARTRIMONIUM CHLORIDE" in entry.inci_names  # as exported, kept
+    assert len(entry.misspelt) == 1 and "STRARTRIMONIUM" in entry.misspelt[0]
+    rinse = lim(library, formula([("Steartrimonium Chloride", 3.0, "conditioning")],
+                                 product="hair conditioner", category="rinse-off"))
+    assert severities(rinse, "III/286") == {"error"}
+    together = lim(library, formula([("Cetrimonium Chloride", 1.5, "conditioning"),
+                                     ("Steartrimonium Chloride", 1.5, "conditioning")],
+                                    product="hair conditioner", category="rinse-off"))
+    assert severities(together, "III/286") == {"error"}
+    body = lim(library, formula([("Steartrimonium Chloride", 0.5, "conditioning")],
+                                product="body lotion"))
+    assert severities(body, "III/286") == {"error"}
+    within = lim(library, formula([("Steartrimonium Chloride", 2.0, "conditioning")],
+                                  product="hair conditioner", category="rinse-off"))
+    assert severities(within, "III/286") == {"info"}
+
+
 def test_several_substances_over_only_together_are_asked(library: Library) -> None:
     """III/12 (b): hydrogen peroxide "present or released", 4 % in skin products. 3 % hydrogen
     peroxide with 3 % urea peroxide (which releases about a third of its mass) may be over;

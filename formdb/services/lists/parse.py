@@ -94,6 +94,33 @@ def split_names(glossary: str, identified: str) -> tuple[str, ...]:
     return tuple(unique)
 
 
+# INCI names the Commission's export misspells, by (annex, reference, name as exported): the
+# name as written, and why it is that name. An entry that misspells the only name and CAS
+# number of a substance would never find a formula's line of it (III/286 gives the CAS number
+# of cetrimonium chloride alone), so its limit would pass unseen.
+MISSPELT: dict[tuple[str, str, str], tuple[str, str]] = {
+    ("III", "286", "STRARTRIMONIUM CHLORIDE"): (
+        "STEARTRIMONIUM CHLORIDE",
+        "the entry's chemical names are C16- and C18-alkyltrimethylammonium chloride (exported "
+        "'C18-alkyltrimethyammonium chloride'), whose INCI names are cetrimonium chloride and "
+        "steartrimonium chloride"),
+}
+
+
+def corrected_names(annex: str, ref: str, names: tuple[str, ...]
+                    ) -> tuple[tuple[str, ...], tuple[str, ...]]:
+    """(the names with each misspelt one followed by the name as written, the notes)."""
+    out: list[str] = []
+    notes: list[str] = []
+    for name in names:
+        out.append(name)
+        fix = MISSPELT.get((annex, ref, name.upper()))
+        if fix is not None:
+            out.append(fix[0])
+            notes.append(f"the export's {name} is {fix[0]}: {fix[1]}")
+    return tuple(dict.fromkeys(out)), tuple(notes)
+
+
 def cas_numbers(text: str) -> tuple[str, ...]:
     """Every CAS number written in the cell that passes its check digit."""
     return tuple(dict.fromkeys(c for c in _CAS.findall(text) if cas_is_valid(c)))
@@ -508,8 +535,10 @@ def parse_entry(annex: str, row: Mapping[str, str], key: str) -> ListEntry:
     if annex == "II" and (found := _EXCEPT.search(chem)):
         exception = chem[found.start():]
     use = only_when(chem) if annex == "II" else ""
+    ref = clean(row[REF]).replace(" ", "")
+    names, misspelt = corrected_names(annex, ref, names)
     return ListEntry(
-        annex=annex, ref=clean(row[REF]).replace(" ", ""), key=key, chemical_name=chem,
+        annex=annex, ref=ref, key=key, chemical_name=chem, misspelt=misspelt,
         exception=exception, only_when=use, only_when_scope=only_when_scope(use) if use else None,
         inci_names=names, cas_numbers=cas_numbers(row.get("CAS Number", "")),
         ec_numbers=ec_numbers(row.get("EC Number", "")), parts=parts, purpose=purpose,
