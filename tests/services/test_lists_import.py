@@ -612,13 +612,22 @@ def test_status_and_show_as_a_reviewer_reads_them(sqlite_url: str) -> None:
 
 
 @needs_exports
-def test_an_older_reading_is_named_and_replaced_by_importing_again(sqlite_url: str) -> None:
+def test_an_older_reading_is_named_and_replaced_by_importing_again(
+        tmp_path: Path, seeded_sqlite_url: str) -> None:
     """A snapshot imported by an older formdb keeps that version's reading of its entries: the
     status names the entries this version reads differently (the stored cells parsed again), and
-    importing the same export again stores the new reading. The older reading is made here by
-    rewriting one stored entry's maximum, as a parser that misread V/3 would have stored it."""
+    importing the same export again stores the new reading, re-checking the stored formulas that
+    use them. The older reading is made here by rewriting one stored entry's maximum, as a parser
+    that misread V/3 (salicylic acid as a preservative, 0.5 % as acid) as 5 % would have."""
     from sqlalchemy import create_engine, text
 
+    sqlite_url = seeded_sqlite_url
+    lotion = tmp_path / "lotion.toml"
+    lotion.write_text('name = "Larkspur salicylic lotion"\ncategory = "leave-on"\n'
+                      'product = "body lotion"\n\n[[ingredients]]\ninci = "Aqua"\n'
+                      'percent = 99.2\n\n[[ingredients]]\ninci = "Salicylic Acid"\n'
+                      'percent = 0.8\npurpose = "preservative"\n', encoding="utf-8")
+    assert run_formdb(["--db", sqlite_url, "formula", "import", str(lotion)]).exit_code == 0
     assert run_formdb(["--db", sqlite_url, "lists", "import", str(export("V"))]).exit_code == 0
     clean_status = run_formdb(["--db", sqlite_url, "lists", "status"])
     assert "read differently" not in clean_status.stdout
@@ -643,6 +652,8 @@ def test_an_older_reading_is_named_and_replaced_by_importing_again(sqlite_url: s
     assert ("read again by this version of formdb: 1 entry read differently (V/3) now carries"
             in again.stdout)
     assert "nothing changed" not in again.stdout
+    assert "changed: EU Annex V/3" in again.stdout
+    assert "Larkspur salicylic lotion: errors 0 -> 1" in again.stdout
     assert "read differently" not in run_formdb(["--db", sqlite_url, "lists", "status"]).stdout
     with Library.open(sqlite_url) as library:
         shown = show_entry(library, "V/3")

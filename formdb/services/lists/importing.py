@@ -245,6 +245,13 @@ class _Plan:
             if same_file else []
         self.unchanged = same_file and not self.reread
         self.changes = [] if self.unchanged else _diff(old, export.entries, export.file.annex)
+        # an entry read differently changes what the checks see as much as a new export would:
+        # the stored formulas and signed runs that use it are re-checked and named the same way
+        self.changes += [EntryChange(
+            annex=export.file.annex, key=key, kind="changed",
+            title=(fresh.get(key) or old[key]).title,
+            details=("the same cells, read differently by this version of formdb",))
+            for key in self.reread]
 
     def report(self, created: list[tuple[str, ListEntry]]) -> AnnexImport:
         parts, structured, rest = _coverage(self.export.entries)
