@@ -738,6 +738,17 @@ def _values(entry: ListEntry, item: Item) -> dict[str, float | str | None]:
     return values
 
 
+_FOR_MIXTURES = re.compile(r"\bfor mixtures?\b", re.I)
+
+
+def _judged_by_lim03(part: Part, further: str) -> bool:
+    """A further maximum of the part's text that LIM03 judges itself, so no person need: the
+    maximum for mixtures beside a single substance's (V/12), or one for the substances of several
+    entries together (V/12a)."""
+    return bool(_FOR_MIXTURES.search(further)) and (
+        part.mixture_max is not None or part.joint_max is not None)
+
+
 @register
 class ListEntryConditions(Rule):
     """Conditions of an applying annex entry that need a person: label warnings, age limits,
@@ -777,7 +788,8 @@ class ListEntryConditions(Rule):
                         said.append(f"label: {part.labelling}")
                     if part.other:
                         said.append(f"other: {part.other}")
-                    said.extend(f"also: {x}" for x in part.further_limits)
+                    said.extend(f"also: {x}" for x in part.further_limits
+                                if not _judged_by_lim03(part, x))
                     said.extend(f"not structured: {u}" for u in part.unparsed)
                     if said:
                         lines.append(f"{part.name}: {' | '.join(dict.fromkeys(said))}")

@@ -229,6 +229,14 @@ def test_parabens_of_entries_12_and_12a_together(library: Library) -> None:
     assert over.severity.value == "error"
     assert "entries V/12 and V/12a together" in over.message
     assert "= 0.8703 % as acid" in over.message
+    # the maxima for mixtures are judged, so they are not also left to a person (LIM04)
+    conditions = lim(library, formula([("Methylparaben", 0.42, "preservative"),
+                                       ("Ethylparaben", 0.45, "preservative"),
+                                       ("Propylparaben", 0.15, "preservative")],
+                                      product="body lotion"), code="LIM04")
+    assert not entry_findings(conditions, "V/12")
+    assert "0,8%" not in one(conditions, "V/12a").message
+    assert "children under 3 years" in one(conditions, "V/12a").message
     pair = lim(library, formula([("Methylparaben", 0.3, "preservative"),
                                  ("Propylparaben", 0.1, "preservative")],
                                 product="body lotion"))
