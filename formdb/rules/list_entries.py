@@ -249,30 +249,45 @@ def _ph(part: Part) -> str:
     return f"up to pH {part.ph_max:g}"
 
 
+def _named_by_joint(part: Part, other: Item, entry: ListEntry) -> ListEntry | None:
+    """The entry through which the part's joint maximum counts ``other`` (one the part names by
+    reference, or one naming a substance the part names; the part's own entry when ``other`` is
+    a substance the part names by its INCI name or a synonym), else None."""
+    wanted = {name_key(n) for n in part.joint_names}
+    for named in other.entries:
+        if named.annex == entry.annex and named.ref.casefold() in part.joint_refs:
+            return named
+        if wanted and named.annex == entry.annex and wanted & {
+                name_key(n) for n in (*named.inci_names, named.chemical_name)}:
+            return named
+    if wanted & {name_key(n) for n in (other.record.inci_name, *other.record.synonyms)}:
+        return entry
+    return None
+
+
 def _joint(part: Part, item: Item, entry: ListEntry, everyone: Iterable[Item]
            ) -> list[tuple[Item, ListEntry]]:
-    """Each item of the formula that a substance of an entry named by the part's joint maximum
-    is (V/12a names entries 12 and 12a), paired with that entry, for a use the entry covers."""
+    """Each item of the formula the part's joint maximum counts, paired with the entry it counts
+    through, for a use that entry covers."""
     out: list[tuple[Item, ListEntry]] = []
     for other in everyone:
-        for named in other.entries:
-            if named.annex == entry.annex and named.ref.casefold() in part.joint_refs and (
-                    other is item or purpose_fits(
-                        named, line_purpose(other.line, other.record)[0]) is not False):
-                out.append((other, named))
-                break
+        named = _named_by_joint(part, other, entry)
+        if named is not None and (other is item or purpose_fits(
+                named, line_purpose(other.line, other.record)[0]) is not False):
+            out.append((other, named))
     return out
 
 
 def _joint_verdict(part: Part, item: Item, entry: ListEntry, everyone: Iterable[Item],
                    reference: ReferenceData) -> tuple[str, str] | None:
-    """(status, words) of the part's joint maximum when the formula holds substances of more
-    than one of the entries it names and their sum is over it; None otherwise."""
+    """(status, words) of the part's joint maximum when the formula holds more than one of the
+    substances it counts and their sum is over it; None otherwise (one substance alone is held
+    to its own entry's maximum)."""
     if part.joint_max is None:
         return None
     joint = _joint(part, item, entry, everyone)
-    if len({named.key for _m, named in joint}) < 2:
-        return None  # one entry's substances alone: that entry's own maximum is the lower one
+    if len({_key(m.record.inci_name) for m, _n in joint}) < 2:
+        return None
     if part.basis == "as acid":
         factors = [acid_factor(named, m, reference) for m, named in joint]
         converted = all(f is not None for f in factors)
@@ -283,12 +298,14 @@ def _joint_verdict(part: Part, item: Item, entry: ListEntry, everyone: Iterable[
         total = sum(m.percent for m, _n in joint)
     if total <= part.joint_max + _EPS:
         return None
-    refs = " and ".join(f"{entry.annex}/{r}" for r in part.joint_refs)
-    basis = f" {part.basis}" if part.basis and converted else " as-is"
-    words = ("; but the substances of entries " + refs + " together, "
+    whose = ("the substances of entries "
+             + " and ".join(f"{entry.annex}/{r}" for r in part.joint_refs)
+             if part.joint_refs else ", ".join(part.joint_names))
+    basis = (f" {part.basis}" if converted else " as-is") if part.basis else ""
+    words = (f"; but {whose} together, "
              + " + ".join(f"{m.label} {m.percent:.4g} %" for m, _n in joint)
              + f" = {figure(total, part.joint_max)} %{basis}, are over the "
-             f"{part.joint_max:g} % the entry gives for mixtures of them")
+             f"{part.joint_max:g} % the entry gives for them together")
     if not converted:
         return OPEN, words + (f" ({part.basis} it may be less: no molar mass to convert, "
                               "confirm by hand)")

@@ -108,10 +108,15 @@ class Part(BaseModel):
     # maximum is for a single substance: "0,4 % (as acid) for single ester")
     aggregate: str = "each"
     mixture_max: float | None = None  # the maximum for mixtures where "single" has its own
-    # a maximum for the substances of several entries of the annex together, on this part's
-    # basis (V/12a: "0,8 % (as acid) for mixtures of substances mentioned in entry 12 and 12a")
+    # a maximum for substances of several entries together, on this part's basis: those of the
+    # entries ``joint_refs`` names (V/12a: "0,8 % (as acid) for mixtures of substances mentioned
+    # in entry 12 and 12a"), or the substances ``joint_names`` names (III/287: "the sum of the
+    # individual concentrations of cetrimonium chloride, steartrimonium chloride and
+    # behentrimonium chloride"; III/89: "in combination with methyl octine carbonate, the
+    # combined level ... shall not exceed 0,01 %")
     joint_max: float | None = None
     joint_refs: tuple[str, ...] = ()  # the entries' reference numbers, this entry's included
+    joint_names: tuple[str, ...] = ()  # the substances' names as written, this entry's included
     all_uses: bool = False  # "These levels are inclusive of any use of ...": every purpose counts
     exclusions: tuple[Exclusion, ...] = ()
     further_limits: tuple[str, ...] = ()  # more maxima in the cell (mixtures, professional use)

@@ -270,6 +270,45 @@ def test_steartrimonium_chloride_despite_the_exports_misspelling(library: Librar
     assert severities(within, "III/286") == {"info"}
 
 
+def test_quaternium_conditioners_summed_across_entries_286_and_287(library: Library) -> None:
+    """III/287 (a), rinse-off hair products: "5,0 % for the individual concentration of
+    behentrimonium chloride or the sum of the individual concentrations of cetrimonium chloride,
+    steartrimonium chloride and behentrimonium chloride", while respecting III/286's 2.5 % for
+    cetrimonium and steartrimonium chloride. A cream rinse with 3.5 % behentrimonium chloride
+    (287) and 2.0 % cetrimonium chloride (286) meets each entry alone, and is 5.5 % together."""
+    entry = next(e for e in read_export(ANNEX_EXPORTS / "COSING_Annex_III_v2.txt").entries
+                 if e.ref == "287")
+    assert (entry.parts[0].joint_max, entry.parts[0].joint_names) == (
+        5.0, ("cetrimonium chloride", "steartrimonium chloride", "behentrimonium chloride"))
+    rinse = formula([("Behentrimonium Chloride", 3.5, "conditioning"),
+                     ("Cetrimonium Chloride", 2.0, "conditioning")],
+                    product="hair conditioner", category="rinse-off")
+    found = lim(library, rinse)
+    over = one(found, "III/287")
+    assert over.severity.value == "error" and "= 5.5 %" in over.message
+    assert severities(found, "III/286") == {"info"}
+    within = lim(library, formula([("Behentrimonium Chloride", 2.5, "conditioning"),
+                                   ("Cetrimonium Chloride", 2.0, "conditioning")],
+                                  product="hair conditioner", category="rinse-off"))
+    assert severities(within, "III/287") == {"info"}
+
+
+def test_methyl_heptine_and_octine_carbonate_combined(library: Library) -> None:
+    """III/89 (methyl heptine carbonate, INCI methyl 2-octynoate), other products: 0.01 % alone,
+    and "when present in combination with methyl octine carbonate, the combined level in the
+    finished product shall not exceed 0,01 %"; III/173 (methyl octine carbonate): 0.002 %.
+    0.009 % with 0.002 % meets each entry and is 0.011 % together."""
+    both = lim(library, formula([("Methyl 2-Octynoate", 0.009, "fragrance"),
+                                 ("Methyl Octine Carbonate", 0.002, "fragrance")],
+                                product="body lotion"))
+    over = one(both, "III/89")
+    assert over.severity.value == "error" and "= 0.011 %" in over.message
+    assert severities(both, "III/173") == {"info"}
+    alone = lim(library, formula([("Methyl 2-Octynoate", 0.009, "fragrance")],
+                                 product="body lotion"))
+    assert severities(alone, "III/89") == {"info"}
+
+
 def test_several_substances_over_only_together_are_asked(library: Library) -> None:
     """III/12 (b): hydrogen peroxide "present or released", 4 % in skin products. 3 % hydrogen
     peroxide with 3 % urea peroxide (which releases about a third of its mass) may be over;

@@ -259,20 +259,42 @@ def mixture_maximum(text: str) -> float | None:
 
 
 # V/12a: "0,8% (as acid) for mixtures of substances mentioned in entry 12 and 12a"
-_JOINT = re.compile(r"(\d+(?:[.,]\d+)?)\s*(%|ppm|mg/kg)[^%\n]*?\bfor mixtures of substances "
-                    r"(?:mentioned|listed|referred to) in entr(?:y|ies)\s+"
-                    r"(\d+\s*[a-z]?(?:\s*(?:,|and|&)\s*\d+\s*[a-z]?)+)\b", re.I)
+_JOINT_ENTRIES = re.compile(
+    r"(\d+(?:[.,]\d+)?)\s*(%|ppm|mg/kg)[^%\n]*?\bfor mixtures of substances (?:mentioned|listed|"
+    r"referred to) in entr(?:y|ies)\s+(\d+\s*[a-z]?(?:\s*(?:,|and|&)\s*\d+\s*[a-z]?)+)\b", re.I)
+# III/287: "5,0% for the individual concentration of behentrimonium chloride or the sum of the
+# individual concentrations of cetrimonium chloride, steartrimonium chloride and behentrimonium
+# chloride, while ..."
+_JOINT_SUM = re.compile(
+    r"(\d+(?:[.,]\d+)?)\s*(%|ppm|mg/kg)\s*for the individual concentration of [^,;\n]+? or the "
+    r"sum of the individual concentrations of ([^;.\n]+?)(?=,\s*while\b|[;.\n]|$)", re.I)
+# III/89: "When present in combination with methyl octine carbonate, the combined level in the
+# finished product shall not exceed 0,01 %"
+_JOINT_WITH = re.compile(
+    r"\bin combination with ([^,;.\n]+?),\s*the combined level[^%;\n]*?(\d+(?:[.,]\d+)?)\s*"
+    r"(%|ppm|mg/kg)", re.I)
+_LIST_SPLIT = re.compile(r"\s*,\s*|\s+and\s+", re.I)
 
 
-def joint_maximum(text: str) -> tuple[float | None, tuple[str, ...]]:
-    """(the maximum, the entries' reference numbers) of a cell that gives one maximum for the
-    substances of several entries together, or (None, ())."""
-    found = _JOINT.search(text)
-    if not found:
-        return None, ()
-    refs = tuple(r.replace(" ", "").casefold()
-                 for r in re.findall(r"\d+\s*[a-z]?(?![a-z])", found.group(3), re.I))
-    return _as_percent(found.group(1), found.group(2)), refs
+def joint_maximum(text: str, own_names: tuple[str, ...] = ()
+                  ) -> tuple[float | None, tuple[str, ...], tuple[str, ...]]:
+    """(the maximum, the entries' reference numbers, the substances' names) of a cell that gives
+    one maximum for substances of several entries together, or (None, (), ())."""
+    found = _JOINT_ENTRIES.search(text)
+    if found:
+        refs = tuple(r.replace(" ", "").casefold()
+                     for r in re.findall(r"\d+\s*[a-z]?(?![a-z])", found.group(3), re.I))
+        return _as_percent(found.group(1), found.group(2)), refs, ()
+    found = _JOINT_SUM.search(text)
+    if found:
+        names = tuple(n.strip() for n in _LIST_SPLIT.split(found.group(3)) if n.strip())
+        if len(names) > 1:
+            return _as_percent(found.group(1), found.group(2)), (), names
+    found = _JOINT_WITH.search(text)
+    if found and own_names:
+        names = (*own_names, found.group(1).strip())
+        return _as_percent(found.group(2), found.group(3)), (), names
+    return None, (), ()
 
 
 def parse_maximum(text: str) -> tuple[float | None, str | None, str, tuple[str, ...], bool]:
@@ -524,7 +546,7 @@ def parse_entry(annex: str, row: Mapping[str, str], key: str) -> ListEntry:
         product, maximum, other = maximum, other if _PERCENT.search(other) else "", \
             "" if _PERCENT.search(other) else other
     wording = row.get(WORDING, "").replace(_SOFT_HYPHEN, "")
-    parts = _parts(annex, product, maximum, other, wording) if annex != "II" else ()
+    parts = _parts(annex, product, maximum, other, wording, names) if annex != "II" else ()
     whole = f"{product}\n{other}\n{maximum}"
     purpose = None
     if _NOT_PRESERVATIVE.search(whole):
@@ -566,9 +588,10 @@ def _scoped_maxima(product: str, maximum: str) -> list[tuple[str, str]]:
     return [(clean(f"{figure} {basis}"), clean(scope)) for figure, basis, scope in found]
 
 
-def _parts(annex: str, product: str, maximum: str, other: str, wording: str) -> tuple[Part, ...]:
+def _parts(annex: str, product: str, maximum: str, other: str, wording: str,
+           names: tuple[str, ...] = ()) -> tuple[Part, ...]:
     if scoped := _scoped_maxima(product, maximum):
-        return tuple(_part(None, scope, figure, clean(other), clean(wording))
+        return tuple(_part(None, scope, figure, clean(other), clean(wording), names)
                      for figure, scope in scoped)
     p_common, p_parts = split_parts(product)
     m_common, m_parts = split_parts(maximum)
@@ -585,7 +608,7 @@ def _parts(annex: str, product: str, maximum: str, other: str, wording: str) -> 
                                if t.strip())
         words = "\n".join(t for t in (w_common, w_parts.get(label, "") if label else "")
                           if t.strip())
-        part = _part(label, scope_text, max_text, other_text, words)
+        part = _part(label, scope_text, max_text, other_text, words, names)
         if part.basis is None and (every := _FOR_EVERY_PART.search(maximum)):
             # "The abovementioned percentages are calculated as thioglycollic acid" (III/2a),
             # written after the last part, is the basis of every part
@@ -616,7 +639,7 @@ _ON_HAIR = re.compile(r"maximum (?:use )?concentrat?i?o?n? applied to (?:the )?"
 
 
 def _part(label: str | None, scope_text: str, max_text: str, other: str,
-          wording: str) -> Part:
+          wording: str, own_names: tuple[str, ...] = ()) -> Part:
     scope = parse_scope(scope_text)
     max_percent, basis, aggregate, further, parsed = parse_maximum(max_text)
     on_hair = _ON_HAIR.search(f"{max_text}\n{other}")
@@ -633,11 +656,11 @@ def _part(label: str | None, scope_text: str, max_text: str, other: str,
         unparsed.append(f"product type: {scope.text}")
     ph_min, ph_max = ph_limits(f"{other}\n{max_text}")
     text = f"{max_text}\n{other}\n{wording}"
-    joint_max, joint_refs = joint_maximum(max_text)
+    joint_max, joint_refs, joint_names = joint_maximum(max_text, own_names)
     return Part(label=label, scope=scope, max_percent=max_percent, max_text=clean(max_text),
                 basis=basis, aggregate=aggregate, further_limits=further, ph_min=ph_min,
                 mixture_max=mixture_maximum(max_text) if aggregate == "single" else None,
-                joint_max=joint_max, joint_refs=joint_refs,
+                joint_max=joint_max, joint_refs=joint_refs, joint_names=joint_names,
                 all_uses=bool(_ALL_USES.search(other)), exclusions=exclusions(other),
                 ph_max=ph_max, conditions=conditions_of(text), other=clean(other),
                 labelling=clean(wording), unparsed=tuple(unparsed))
