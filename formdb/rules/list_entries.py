@@ -817,3 +817,52 @@ class ListEntryConditions(Rule):
                         + " || ".join(lines),
                         ingredients=[item.line.inci], values=_values(entry, item),
                         advice="confirm each condition against the product and its label")
+
+
+@register
+class ListEntryReading(Rule):
+    """Entries whose stored reading an older formdb made: the verdicts on them may be stale.
+
+    Flags: a line matched to an entry in force whose stored reading (made when the export was
+    imported) differs from what this version of formdb reads in the same export cells: the
+    maxima, parts, conditions and names LIM03 and LIM04 judged by may be an older parser's.
+    One warning per entry, naming the lines.
+    Why: the entries keep the export's cells verbatim; a reading is formdb's, and improves
+    between versions (a misspelt name, a maximum for several entries together). A filed verdict
+    should rest on the reading the running version makes; `formdb lists import` of the same
+    export stores it and re-checks the stored formulas it changes.
+    Fails: a body lotion with 0.8 % Salicylic Acid as a preservative, against a V/3 stored by
+    a version that read its maximum as 5 %.
+    Passes: entries stored by this version's reading, or no list in force.
+    Options: none.
+    """
+
+    code = "LIM05"
+    name = "list-reading"
+    groups = ("regulatory",)
+    default_severity = Severity.WARNING
+    options: ClassVar[dict[str, Any]] = {}
+
+    def check(self, formula: ResolvedFormula, facts: FormulaFacts, reference: ReferenceData,
+              options: Mapping[str, Any]) -> Iterable[Finding]:
+        if not reference.read_differently:
+            return
+        lines: dict[str, tuple[ListEntry, list[Item]]] = {}
+        for item in items_of(formula, reference):
+            for entry in item.entries:
+                if entry.label in reference.read_differently:
+                    lines.setdefault(entry.label, (entry, []))[1].append(item)
+        for _label, (entry, items) in sorted(lines.items()):
+            export = items[0].exports.get((entry.jurisdiction, entry.annex))
+            file = export.file_name if export is not None else "the export"
+            yield self.finding(
+                self.default_severity,
+                f"{entry.title}, matched by {', '.join(i.label for i in items)}: the library "
+                "holds the reading of this entry that formdb made when the export was imported, "
+                "and this version reads the same cells differently; the list findings on it "
+                "rest on the stored reading, which may be out of date",
+                ingredients=list(dict.fromkeys(i.line.inci for i in items)),
+                values=_values(entry, items[0]),
+                advice=f"import the same export again (`formdb lists import {file}`: it stores "
+                       "this version's reading and re-checks the stored formulas it changes), "
+                       "then check again; `formdb lists status` names every such entry")

@@ -186,6 +186,9 @@ class ReferenceData(BaseModel):
     # the entries in force that match an ingredient (by INCI name, synonym or CAS), keyed by
     # name_key of the ingredient's INCI name; filled for the formulas being checked
     list_entries: dict[str, tuple[ListEntry, ...]] = {}
+    # the labels of those entries whose stored reading (made at the import, perhaps by an older
+    # formdb) differs from this version's reading of the same export cells
+    read_differently: frozenset[str] = frozenset()
 
     def covered_by_lists(self, jurisdiction: str, annex: str) -> bool:
         """True when an imported snapshot of the annex is in force: the seed's hand-written

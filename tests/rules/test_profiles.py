@@ -138,7 +138,7 @@ def test_select_by_group_and_exclude(tmp_path: Path) -> None:
     profile = load_profile(path)
     # MIX01 is regulatory too: a blend without constituents is one whose limits went unchecked
     assert [r.code for r in profile.enabled_rules()] == ["BAL01", "LIM01", "LIM03", "LIM04",
-                                                         "MIX01"]
+                                                         "LIM05", "MIX01"]
     assert profile.version == "2"
 
 

@@ -12,7 +12,7 @@ from formdb.rules.registry import RuleRegistry, default_registry
 from formdb.schemas.vocab import Severity
 
 EXPECTED_CODES = {"ALK01", "ALK02", "BAL01", "EMU01", "HLB01", "TYP01", "PAK01", "ION01", "LIM01",
-                  "LIM02", "LIM03", "LIM04",
+                  "LIM02", "LIM03", "LIM04", "LIM05",
                   "PH01", "USE01", "GAP01", "MOS01", "ALG01", "EVD01",
                   "HLD01", "MIX01", "RET01"}
 

@@ -96,9 +96,13 @@ def run_case(code: str, case: dict[str, Any]) -> CheckResult:
     rules = {code: RuleSettings(options=options)} if options else {}
     profile = Profile(name=f"case {code}", version="0", select=(code,), rules=rules)
     mini = formula(case["name"], case["lines"], **case.get("formula", {}))
-    # "lists = true": the hand-written annex entries of lists.toml are in force (LIM03, LIM04)
-    return check_resolved(mini, lists_reference() if case.get("lists") else reference(),
-                          profile)
+    # "lists = true": the hand-written annex entries of lists.toml are in force (LIM03, LIM04);
+    # "read_differently": the labels of entries whose stored reading an older formdb made (LIM05)
+    given = lists_reference() if case.get("lists") else reference()
+    if case.get("read_differently"):
+        given = given.model_copy(
+            update={"read_differently": frozenset(case["read_differently"])})
+    return check_resolved(mini, given, profile)
 
 
 @pytest.mark.parametrize(("code", "case"), _params())

@@ -645,6 +645,10 @@ def test_an_older_reading_is_named_and_replaced_by_importing_again(
     status = run_formdb(["--db", sqlite_url, "lists", "status"])
     assert status.exit_code == 0
     assert "read differently by this version of formdb: 1 of " in status.stdout
+    # a check of a formula using the entry says its verdict rests on the older reading
+    stale = run_formdb(["--db", sqlite_url, "check", str(lotion), "--format", "json"])
+    assert stale.exit_code == 0, stale.stderr  # 0.8 % is within the misread 5 %
+    assert '"LIM05"' in stale.stdout and "V/3" in stale.stdout
     assert "(V/3)" in status.stdout and "formdb lists import COSING_Annex_V_v2.txt" in status.stdout
 
     again = run_formdb(["--db", sqlite_url, "lists", "import", str(export("V"))])
@@ -655,6 +659,8 @@ def test_an_older_reading_is_named_and_replaced_by_importing_again(
     assert "changed: EU Annex V/3" in again.stdout
     assert "Larkspur salicylic lotion: errors 0 -> 1" in again.stdout
     assert "read differently" not in run_formdb(["--db", sqlite_url, "lists", "status"]).stdout
+    fresh = run_formdb(["--db", sqlite_url, "check", str(lotion), "--format", "json"])
+    assert fresh.exit_code == 1 and '"LIM05"' not in fresh.stdout  # over 0.5 % as acid now
     with Library.open(sqlite_url) as library:
         shown = show_entry(library, "V/3")
     assert shown == [one("V", "3")]

@@ -26,10 +26,10 @@ from formdb.services.library.formula_files import (
     parse_formula_text,
     read_formula_file,
 )
+from formdb.services.lists.reading import with_lists
 from formdb.store import queries
 from formdb.store.formulas import iter_stored_formulas
 from formdb.store.library import Library
-from formdb.store.lists import with_list_entries
 
 
 @dataclass(frozen=True)
@@ -170,7 +170,7 @@ def check_inputs(library: Library, items: list[FormulaInput],
     with library.read() as session:
         reference = queries.load_reference_data(session)
         resolved = resolve_all(session, items)
-        reference = with_list_entries(session, reference, resolved)
+        reference = with_lists(session, reference, resolved)
     return [check_resolved(formula, reference, chosen) for formula in resolved]
 
 
@@ -202,11 +202,11 @@ def iter_check_stored(library: Library, profile: Profile | str | None = None,
             batch.append(input_from_text(stored.content, f"stored:{stored.name}"))
             if len(batch) >= batch_size:
                 formulas = resolve_all(session, batch, known)
-                reference = with_list_entries(session, reference, formulas)
+                reference = with_lists(session, reference, formulas)
                 for formula in formulas:
                     yield check_resolved(formula, reference, chosen)
                 batch = []
         formulas = resolve_all(session, batch, known)
-        reference = with_list_entries(session, reference, formulas)
+        reference = with_lists(session, reference, formulas)
         for formula in formulas:
             yield check_resolved(formula, reference, chosen)

@@ -25,9 +25,9 @@ from formdb.schemas.reference import ReferenceData
 from formdb.schemas.result import FactsSettings
 from formdb.schemas.vocab import Role
 from formdb.services.checking.flow import read_inputs, resolve_all
+from formdb.services.lists.reading import with_lists
 from formdb.store import queries
 from formdb.store.library import Library
-from formdb.store.lists import with_list_entries
 
 ORDERED_ABOVE_PERCENT = 1.0
 JURISDICTIONS = ("EU",)
@@ -82,5 +82,5 @@ def label_file(library: Library, path: Path, jurisdiction: str = "EU") -> LabelD
     with library.read() as session:
         reference = queries.load_reference_data(session)
         [resolved] = resolve_all(session, items)
-        reference = with_list_entries(session, reference, [resolved])
+        reference = with_lists(session, reference, [resolved])
     return declaration(resolved, reference, jurisdiction)

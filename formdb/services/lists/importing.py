@@ -39,6 +39,7 @@ from formdb.services.lists.parse import (
     is_mixture,
     parse_entry,
 )
+from formdb.services.lists.reading import with_lists
 from formdb.store import queries
 from formdb.store.change_log import log_values
 from formdb.store.library import Library
@@ -49,7 +50,6 @@ from formdb.store.lists import (
     record_match_keys,
     snapshot_in_force,
     snapshot_info,
-    with_list_entries,
 )
 from formdb.store.models import (
     ChangeLogEntry,
@@ -205,7 +205,7 @@ def _findings(session: Session, texts: dict[str, str]) -> dict[str, list[tuple[s
             resolved = resolve_all(session, [input_from_text(text, f"stored:{name}")])[0]
         except InvalidData:
             continue  # a stored formula that no longer resolves: review status says so
-        reference = with_list_entries(session, reference, [resolved])
+        reference = with_lists(session, reference, [resolved])
         result = check_resolved(resolved, reference, profile)
         out[name] = [(f.rule, f.severity.value, f.message) for f in result.findings]
     return out

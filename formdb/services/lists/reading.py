@@ -8,23 +8,59 @@ from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from formdb.errors import NotFound, quoted
+from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.ingredient import IngredientRecord, name_key
 from formdb.schemas.lists import ANNEXES, ListEntry, SnapshotStatus
+from formdb.schemas.reference import ReferenceData
 from formdb.schemas.suggest import close_matches
-from formdb.services.lists.parse import parse_entry
 from formdb.store.library import Library
-from formdb.store.lists import entries_for_records, entries_of, list_origin, snapshots_in_force
+from formdb.store.lists import (
+    entries_for_records,
+    entries_of,
+    list_origin,
+    snapshots_in_force,
+    with_list_entries,
+)
 from formdb.store.models import ListEntryRow, ListSnapshot
 
 
+def reads_differently(entry: ListEntry) -> bool:
+    """True when this version's parser reads the entry's export cells differently from the
+    reading stored with it. Every imported entry keeps its cells verbatim, so a snapshot
+    imported by an older formdb, which goes on being checked with that older reading (and found
+    by its match keys) until the same export is imported again, can be told apart. An entry
+    without cells (written by hand) has nothing to read again."""
+    from formdb.services.lists.parse import parse_entry  # its patterns, only where lists are
+
+    return bool(entry.cells) and parse_entry(entry.annex, entry.cells, entry.key) != entry
+
+
 def read_differently(entries: Iterable[ListEntry]) -> tuple[str, ...]:
-    """The keys of the entries this version's parser reads differently from their stored
-    reading. Every entry keeps its export cells verbatim, so the stored reading can be compared
-    with what the parser makes of the same cells now: a snapshot imported by an older formdb
-    goes on being checked with the older reading (and found by its match keys) until the same
-    export is imported again."""
-    return tuple(sorted(e.key for e in entries
-                        if parse_entry(e.annex, e.cells, e.key) != e))
+    """The keys of the entries this version reads differently (``reads_differently``)."""
+    return tuple(sorted(e.key for e in entries if reads_differently(e)))
+
+
+# entries already read again in this process, by identity (the entry is kept, so its id is not
+# reused): a check of every stored formula meets the same entries in batch after batch
+_READ_AGAIN: dict[int, tuple[ListEntry, bool]] = {}
+
+
+def with_lists(session: Session, reference: ReferenceData,
+               formulas: Iterable[ResolvedFormula]) -> ReferenceData:
+    """``reference`` with the entries in force for ``formulas`` (``store.lists.
+    with_list_entries``) and the labels of those this version reads differently (LIM05)."""
+    reference = with_list_entries(session, reference, formulas)
+    stale = set(reference.read_differently)
+    for entries in reference.list_entries.values():
+        for entry in entries:
+            known = _READ_AGAIN.get(id(entry))
+            if known is None or known[0] is not entry:
+                known = _READ_AGAIN[id(entry)] = (entry, reads_differently(entry))
+            if known[1]:
+                stale.add(entry.label)
+    if stale == reference.read_differently:
+        return reference
+    return reference.model_copy(update={"read_differently": frozenset(stale)})
 
 
 def lists_in_force(library: Library) -> tuple[SnapshotStatus, ...]:

@@ -34,11 +34,11 @@ from formdb.schemas.result import CheckResult
 from formdb.services.checking.flow import FormulaInput, input_from_text, resolve_all
 from formdb.services.library.ingredient_log import fields_of, record_from_fields, undo
 from formdb.services.library.ingredients import ENTITY, _get, _sources
+from formdb.services.lists.reading import with_lists
 from formdb.store import queries
 from formdb.store.change_log import changes_of
 from formdb.store.formulas import iter_stored_formulas
 from formdb.store.library import Library
-from formdb.store.lists import with_list_entries
 from formdb.store.models import Base, ChangeLogEntry
 
 _BATCH = 200
@@ -254,7 +254,7 @@ def impact_of(library: Library, ingredient: str, *, since: str | None = None,
         latest_run = {} if since is not None else {
             name_key(r["formula_name"]): r for r in runs}
         for _item, formula, via in _using(session, record, reference):
-            reference = with_list_entries(session, reference, [formula])
+            reference = with_lists(session, reference, [formula])
             report.formulas.append(_compare(formula, reference, chosen, earlier, via,
                                             latest_run.get(name_key(formula.formula.name)),
                                             report))

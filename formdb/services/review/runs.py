@@ -55,6 +55,7 @@ from formdb.schemas.times import utc
 from formdb.services.admin.access import is_open, roles_of
 from formdb.services.checking.flow import FormulaInput, input_from_text, read_inputs, resolve_all
 from formdb.services.library.formula_files import content_hash
+from formdb.services.lists.reading import with_lists
 from formdb.services.review import keys
 from formdb.services.review.audit import append_sealed, verify_table
 from formdb.services.review.policy import MEANINGS, current_policy, policy_json
@@ -62,7 +63,6 @@ from formdb.store import queries
 from formdb.store.change_log import changes_of, log_entry
 from formdb.store.formulas import get_formula
 from formdb.store.library import Library
-from formdb.store.lists import with_list_entries
 from formdb.store.models import ChangeLogEntry, ReviewRun, ReviewSignature
 
 DEFAULT_PROFILE = "strict"
@@ -222,7 +222,7 @@ def run_review(library: Library, source: str, profile: Profile | str | None = No
         signable = chosen.content_hash == policy.profile_hash
         reference = queries.load_reference_data(session)
         resolved = resolve_all(session, [item])[0]
-        reference = with_list_entries(session, reference, [resolved])
+        reference = with_lists(session, reference, [resolved])
         result = check_resolved(resolved, reference, chosen)
         records = used_records(resolved, reference)
         now = datetime.now(UTC)
@@ -309,7 +309,7 @@ def _library_changes(session: Session, run: ReviewRun, reference: ReferenceData)
         resolved = resolve_all(session, [item])[0]
     except InvalidData as exc:
         return [f"the formula no longer resolves in the library: {exc.message}"]
-    reference = with_list_entries(session, reference, [resolved])
+    reference = with_lists(session, reference, [resolved])
     old = {(r["kind"], r["key"]): r for r in json.loads(run.records_json)}
     new = {(r["kind"], r["key"]): r for r in used_records(resolved, reference)}
     changes = []
