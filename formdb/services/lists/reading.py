@@ -41,8 +41,11 @@ def read_differently(entries: Iterable[ListEntry]) -> tuple[str, ...]:
 
 
 # entries already read again in this process, by identity (the entry is kept, so its id is not
-# reused): a check of every stored formula meets the same entries in batch after batch
+# reused): a check of every stored formula meets the same entries in batch after batch. Emptied
+# when it holds more than every annex's entries, so a long-lived process that checks through
+# many libraries does not keep their entries alive.
 _READ_AGAIN: dict[int, tuple[ListEntry, bool]] = {}
+_READ_AGAIN_MAX = 10_000
 
 
 def with_lists(session: Session, reference: ReferenceData,
@@ -55,6 +58,8 @@ def with_lists(session: Session, reference: ReferenceData,
         for entry in entries:
             known = _READ_AGAIN.get(id(entry))
             if known is None or known[0] is not entry:
+                if len(_READ_AGAIN) >= _READ_AGAIN_MAX:
+                    _READ_AGAIN.clear()
                 known = _READ_AGAIN[id(entry)] = (entry, reads_differently(entry))
             if known[1]:
                 stale.add(entry.label)
