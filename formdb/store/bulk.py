@@ -1,7 +1,9 @@
 """Many rows into one table with one ``executemany`` of the driver, and the ids they get.
 
-SQLAlchemy's own ``session.execute(insert(table), rows)`` builds and processes the parameters
-of every row in Python (several microseconds a row); a large import writes half a million rows.
+On SQLite each statement of that ``executemany`` inserts up to ``ROWS_PER_STATEMENT`` rows
+(``INSERT ... VALUES (...), (...)``, the rows in their order). SQLAlchemy's own
+``session.execute(insert(table), rows)`` builds and processes the parameters of every row in
+Python (several microseconds a row); a large import writes half a million rows.
 ``insert_rows`` writes the same values: each column's bind processor for the dialect is applied
 (a timestamp becomes the text SQLite stores, a yes/no an integer), and every column the rows do
 not name gets its scalar Python default, as a Core INSERT gives it. A table whose missing column
@@ -16,6 +18,7 @@ done first (the flush of pending ORM rows, the writer's lock: ``sealing.lock_for
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping, Sequence
+from itertools import chain
 from operator import itemgetter
 from typing import Any
 
@@ -76,10 +79,39 @@ def insert_rows(session: Session, table: Table, columns: Sequence[str],
     elif constants:
         values = [(*row, *constants) for row in rows]
     prepare = dialect.identifier_preparer
-    statement = (f"INSERT INTO {prepare.format_table(table)} "
-                 f"({', '.join(prepare.quote(name) for name in names)}) "
-                 f"VALUES ({', '.join([marker] * len(names))})")
-    connection.exec_driver_sql(statement, list(values))
+    head = (f"INSERT INTO {prepare.format_table(table)} "
+            f"({', '.join(prepare.quote(name) for name in names)}) VALUES ")
+    one = f"({', '.join([marker] * len(names))})"
+    per = _rows_per_statement(dialect, len(names))
+    if per == 1:
+        connection.exec_driver_sql(head + one, list(values))
+        return
+    # SQLite: ``per`` rows in each statement (INSERT ... VALUES (...), (...), ...), the rows in
+    # their order, so a rowid column numbers them as one row per statement would
+    full = len(values) - len(values) % per
+    if full:
+        connection.exec_driver_sql(head + ", ".join([one] * per), [
+            tuple(chain.from_iterable(values[start:start + per]))
+            for start in range(0, full, per)])
+    if full < len(values):
+        rest = values[full:]
+        connection.exec_driver_sql(head + ", ".join([one] * len(rest)),
+                                   tuple(chain.from_iterable(rest)))
+
+
+# SQLite steps one statement of many rows for much less than as many one-row statements (the
+# property rows of a 50,000-row import: 0.47-0.49 s of CPU at 100 rows a statement against
+# 0.70-0.73 s one row a statement, plain sqlite3; no gain beyond about 100). A statement stays
+# within 999 parameters, the lowest limit a SQLite build has had (SQLITE_MAX_VARIABLE_NUMBER).
+ROWS_PER_STATEMENT = 100
+_SQLITE_PARAMETERS = 999
+
+
+def _rows_per_statement(dialect: Dialect, columns: int) -> int:
+    """Rows in one INSERT: 1 but on SQLite (psycopg already sends a pipeline of statements)."""
+    if dialect.name != "sqlite":
+        return 1
+    return max(1, min(ROWS_PER_STATEMENT, _SQLITE_PARAMETERS // columns))
 
 
 def insert_dicts(session: Session, table: Table, rows: Sequence[Mapping[str, Any]]) -> None:

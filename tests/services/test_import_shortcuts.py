@@ -4,8 +4,9 @@
   ``payload_text(typed_changes(None, fields_of(item)))`` byte for byte, for every seed
   ingredient and synthetic ones;
 - ``store.bulk.insert_rows`` (one executemany of the driver) stores the same column values as
-  SQLAlchemy's Core INSERT, defaults and processed timestamps included, and ``new_ids`` names
-  the id the database itself gives the next row;
+  SQLAlchemy's Core INSERT, defaults and processed timestamps included, in statements of one
+  or many rows (every row, in order), and ``new_ids`` names the id the database itself gives
+  the next row;
 - the cycle collector is back as it was after an import, whether the import wrote or refused.
 The whole-import equivalence (every row, id and change-log entry against writing ingredients
 one at a time) is tests/bench/test_bulk_import.py.
@@ -24,12 +25,14 @@ from sqlalchemy import Table, insert, select
 
 from formdb.bench import library, synthetic
 from formdb.schemas.ingredient import IngredientIn, IngredientProperties
+from formdb.schemas.times import utc
 from formdb.schemas.vocab import Role
 from formdb.services.library import ingredients
 from formdb.services.library.ingredient_log import added_payload, fields_of, typed_changes
 from formdb.services.library.ingredient_rows import FileRow, empty_cells, overlay, validate_cells
 from formdb.services.library.ingredients import import_table
 from formdb.services.library.tables import TableProblems
+from formdb.store import bulk
 from formdb.store.bulk import insert_dicts, insert_rows, new_ids
 from formdb.store.change_log import payload_text, value_json
 from formdb.store.db import make_engine, unit_of_work
@@ -117,6 +120,34 @@ def test_insert_rows_stores_what_a_core_insert_stores(seeded_library_url: str) -
         assert stored[bulk_id] == stored[core_id]
         assert len(session.scalars(select(Ingredient.id).where(
             Ingredient.id.in_([bulk_id, core_id]))).all()) == 2
+
+
+@pytest.mark.parametrize("per", [1, 3, 100])
+def test_insert_rows_in_statements_of_many_rows_keeps_every_row_and_its_order(
+        seeded_library_url: str, per: int, monkeypatch: pytest.MonkeyPatch) -> None:
+    # SQLite takes up to ROWS_PER_STATEMENT rows a statement: 3 gives three full statements
+    # and a shorter last one for 11 rows; the names' own ids follow the rows' order
+    monkeypatch.setattr(bulk, "ROWS_PER_STATEMENT", per)
+    table = cast(Table, Ingredient.__table__)
+    names = cast(Table, IngredientName.__table__)
+    at = datetime(2026, 12, 5, 1, 2, 3, 456789, tzinfo=UTC)
+    for session in _session(seeded_library_url):
+        ids = new_ids(session, table, 11)
+        rows = [(i, f"Bulk Ester {n}", at, at, "t") for n, i in enumerate(ids)]
+        insert_rows(session, table, ("id", "inci_name", "created_at", "updated_at",
+                                     "updated_by"), rows)
+        insert_rows(session, names, ("ingredient_id", "name", "name_key"),
+                    [(i, f"Bulk Ester {n}", f"bulk ester {n}") for n, i in enumerate(ids)])
+        stored = session.execute(select(table.c.id, table.c.inci_name, table.c.retired,
+                                        table.c.created_at)
+                                 .where(table.c.id >= ids[0]).order_by(table.c.id)).all()
+        assert [(i, name, retired, utc(created)) for i, name, retired, created in stored] == \
+            [(i, name, False, at) for i, name, *_rest in rows]
+        named = session.execute(select(names.c.ingredient_id, names.c.name, names.c.is_primary)
+                                .where(names.c.ingredient_id >= ids[0])
+                                .order_by(names.c.id)).all()
+        assert [tuple(r) for r in named] == [(i, f"Bulk Ester {n}", False)
+                                             for n, i in enumerate(ids)]
 
 
 def test_new_ids_follow_the_largest_id(seeded_library_url: str) -> None:
