@@ -148,21 +148,27 @@ _FLOAT_OR_NONE = frozenset({float, type(None)})
 
 def _processed(rows: Sequence[tuple[Any, ...]], constants: tuple[Any, ...],
                processing: list[tuple[int, Callable[[Any], Any]]]) -> list[tuple[Any, ...]]:
-    """The rows with the bind processors applied; a value that is the very object of the row
-    before (one timestamp for a whole import, True, False) is processed once."""
-    last: list[tuple[Any, Any]] = [(_UNSET, None)] * len(processing)
-    out = []
-    for row in rows:
-        cells = [*row, *constants]
-        for slot, (index, process) in enumerate(processing):
-            value = cells[index]
-            seen, done = last[slot]
+    """The rows with the bind processors applied, column by column (the rows turned into
+    columns and back in C): a column whose values are all one object (one timestamp for a whole
+    import, True, False) is processed once; in another, a value that is the very object of the
+    row before is processed once."""
+    count = len(rows)
+    columns: list[Sequence[Any]] = [*zip(*rows, strict=True),
+                                    *((value,) * count for value in constants)]
+    for index, process in processing:
+        column = columns[index]
+        if len(set(map(id, column))) == 1:  # the column holds these objects while we look
+            columns[index] = (process(column[0]),) * count
+            continue
+        done_column = []
+        seen: Any = _UNSET
+        done: Any = None
+        for value in column:
             if value is not seen:
-                done = process(value)
-                last[slot] = (value, done)
-            cells[index] = done
-        out.append(tuple(cells))
-    return out
+                seen, done = value, process(value)
+            done_column.append(done)
+        columns[index] = done_column
+    return list(zip(*columns, strict=True))
 
 
 _UNSET = object()

@@ -189,3 +189,16 @@ def test_owners_read_at_once_are_the_owners_asked_for(seeded_sqlite_url: str,
         at_once = ingredients._owners(session, keys)
         assert len(asked) == 40
         assert {k: i.id for k, i in at_once.items()} == {k: i.id for k, i in asked.items()}
+
+
+def test_a_floats_text_made_once_is_the_text_of_that_float() -> None:
+    # added_payload keeps each float's text by the float: 0.0 and -0.0 are equal keys but
+    # json writes them apart, so neither is kept; 1.0 == 1 == True must not meet either
+    values = [0.0, -0.0, 0.0, 1.0, 2.5, 2.5, 1e-05, 1e-05, -0.0, 1.0]
+    for value in values:
+        item = IngredientIn(inci_name="Cetyl Alcohol",
+                            properties=IngredientProperties(hlb=value, ethoxylated=True,
+                                                            cation_valence=1),
+                            sources=dict.fromkeys(("hlb", "ethoxylated", "cation_valence"),
+                                                  "lab"))
+        assert added_payload(item, via=None) == _general(item, None), value

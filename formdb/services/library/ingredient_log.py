@@ -11,7 +11,7 @@ no table cell is parsed on the way.
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Mapping
+from collections.abc import Iterable, Mapping, Sequence
 from enum import StrEnum
 from typing import Any
 
@@ -90,14 +90,17 @@ def typed_changes(old: Fields | None, new: Fields) -> list[dict[str, Any]]:
     return out
 
 
-def added_payload(item: IngredientIn, *, via: str | None) -> str:
+def added_payload(item: IngredientIn, *, via: str | None,
+                  present: Sequence[tuple[str, Any]] | None = None) -> str:
     """``payload_text(typed_changes(None, fields_of(item)), via=via)``: the payload of a new
     ingredient's change-log entry (an import adds tens of thousands), written by orjson. Every
     field that holds something, from nothing: the name, the lists that are not empty, each
     property's value with its source and, where there is one, its note. orjson writes texts,
     whole numbers and booleans as ``json`` does; a float goes in as the text ``json`` gives it
     (orjson writes 1e-05 as 0.00001). A value orjson refuses (a lone surrogate in a note, a
-    whole number beyond 64 bits) takes the text path, ``added_payload_text``."""
+    whole number beyond 64 bits) takes the text path, ``added_payload_text``. ``present``: the
+    (property, value) pairs of ``item.properties`` that hold a value, in catalogue order, when
+    the caller has them already."""
     changes: list[dict[str, Any]] = [{"field": "inci_name", "old": None,
                                       "new": item.inci_name}]
     if item.synonyms:  # the lists that are not empty (most rows have few)
@@ -110,10 +113,16 @@ def added_payload(item: IngredientIn, *, via: str | None) -> str:
     if item.classes:
         changes.append({"field": "classes", "old": [], "new": sorted(item.classes)})
     sources, notes = item.sources, item.notes
-    # the fields that hold a value, in catalogue order (a comprehension: most are None)
-    for prop, value in [(p, v) for p, v in vars(item.properties).items() if v is not None]:
-        change = {"field": prop, "old": None,
-                  "new": float_json(value) if type(value) is float else _data(value)}
+    if present is None:  # the fields that hold a value, in catalogue order (most are None)
+        present = [(p, v) for p, v in vars(item.properties).items() if v is not None]
+    for prop, value in present:
+        if type(value) is float:
+            new = _float_texts.get(value) if value else None  # 0.0 and -0.0: never kept
+            if new is None:
+                new = _float_text(value)
+        else:
+            new = _data(value)
+        change = {"field": prop, "old": None, "new": new}
         source = sources.get(prop)
         if source is not None:
             change["old_source"], change["new_source"] = None, source
@@ -128,6 +137,22 @@ def added_payload(item: IngredientIn, *, via: str | None) -> str:
         return orjson.dumps(body).decode("utf-8")
     except orjson.JSONEncodeError:
         return added_payload_text(item, via=via)
+
+
+# A table repeats its numbers (a 50,000-row table has about 60,000 distinct values in 270,000),
+# so each float's text is made once: keyed by the float, which is exact for all but the zeros
+# (0.0 == -0.0, but json writes them apart), which are never kept; emptied when full.
+_FLOAT_TEXTS_KEPT = 1 << 16
+_float_texts: dict[float, orjson.Fragment] = {}
+
+
+def _float_text(value: float) -> orjson.Fragment:
+    text = float_json(value)
+    if value:
+        if len(_float_texts) >= _FLOAT_TEXTS_KEPT:
+            _float_texts.clear()
+        _float_texts[value] = text
+    return text
 
 
 def added_payload_text(item: IngredientIn, *, via: str | None) -> str:

@@ -185,7 +185,7 @@ def validate_cells(cells: Mapping[str, str], sources: Mapping[str, str],
         item = IngredientIn(
             inci_name=name, synonyms=lists["synonyms"], cas_numbers=lists["cas"],
             roles=lists["roles"], classes=lists["classes"],
-            properties=IngredientProperties(**values),
+            properties=IngredientProperties.model_validate(values),
             sources=chosen, notes=notes)
     except ValidationError as exc:
         for error in exc.errors():

@@ -650,8 +650,10 @@ def _insert_chunk(session: Session, batch: Sequence[IngredientIn], evidence: Map
         if item.classes:
             classes += [(ingredient_id, v) for v in sorted(set(item.classes))]
         sources, notes = item.sources, item.notes
-        # the fields that hold a value, in catalogue order (a comprehension: most are None)
-        for prop, value in [(p, v) for p, v in vars(item.properties).items() if v is not None]:
+        # the fields that hold a value, in catalogue order (a comprehension: most are None),
+        # for the property rows and the payload
+        present = [(p, v) for p, v in vars(item.properties).items() if v is not None]
+        for prop, value in present:
             num, text = ((value, None) if type(value) is float
                          else queries.property_columns(prop, value))
             source = sources[prop]
@@ -659,7 +661,8 @@ def _insert_chunk(session: Session, batch: Sequence[IngredientIn], evidence: Map
                            notes.get(prop)))
         log.append(log_values(
             at=now, user=user, entity=ENTITY, entity_key=inci_name, entity_version=1,
-            action=action, payload=added_payload(item, via=via), reason=reason))
+            action=action, payload=added_payload(item, via=via, present=present),
+            reason=reason))
     for model, columns, rows in (
             (IngredientName, ("ingredient_id", "name", "name_key", "is_primary"), names),
             (IngredientCas, ("ingredient_id", "cas"), cas),
