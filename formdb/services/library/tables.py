@@ -12,7 +12,6 @@ import io
 import zipfile
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
-from itertools import chain
 from pathlib import Path
 
 from formdb.errors import InvalidData
@@ -120,7 +119,7 @@ def _read_csv(path: Path, raw: bytes) -> list[list[str]]:
     """Every record of a CSV text. Lines may end in LF, CRLF or a lone CR (old Mac files): the
     csv module splits them itself (``newline=""``), inside quotes too."""
     text = _decode(path, raw)
-    first = next((line for line in text.splitlines() if line.strip()), "")
+    first = _first_line(text)
     try:
         delimiter = csv.Sniffer().sniff(first, delimiters=",;\t").delimiter
     except csv.Error:
@@ -145,6 +144,19 @@ def _read_csv(path: Path, raw: bytes) -> list[list[str]]:
     if min(map(len, records), default=width) == width:  # none ragged: nothing to pad
         return records
     return [r + [""] * (width - len(r)) for r in records]
+
+
+def _first_line(text: str) -> str:
+    """``next((line for line in text.splitlines() if line.strip()), "")`` without splitting the
+    whole text: the lines of a growing head, but its last one (which may go on beyond it)."""
+    size = 4096
+    while size < len(text):
+        *lines, _rest = text[:size].splitlines()
+        found = next((line for line in lines if line.strip()), None)
+        if found is not None:
+            return found
+        size *= 4
+    return next((line for line in text.splitlines() if line.strip()), "")
 
 
 def _read_xlsx(path: Path) -> list[list[str]]:
@@ -192,8 +204,8 @@ def _bounded(name: str, cells: list[list[str]]) -> None:
     widest = max(map(len, cells), default=0)
     if widest > MAX_TABLE_COLUMNS:  # a workbook (a CSV's rows are counted as they are read)
         _too_wide(name, widest, None)
-    if max(map(len, chain.from_iterable(cells)), default=0) <= MAX_CELL_CHARS:
-        return  # the common case, every cell checked in one pass in C
+    if max(map(len, map("".join, cells)), default=0) <= MAX_CELL_CHARS:
+        return  # the common case: no row holds as many characters in all, checked in C
     for number, row in enumerate(cells, start=1):
         if max(map(len, row), default=0) <= MAX_CELL_CHARS:
             continue  # the first long cell is found below
@@ -204,11 +216,12 @@ def _bounded(name: str, cells: list[list[str]]) -> None:
                                         column=str(column))])
 
 
-def _clean_cells(row: list[str]) -> list[str]:
-    """The row's cells stripped, with ``guard_cell``'s apostrophe taken off again."""
+def _clean_cells(row: list[str], apostrophes: bool = True) -> list[str]:
+    """The row's cells stripped, with ``guard_cell``'s apostrophe taken off again
+    (``apostrophes`` False: the table holds none, so there is none to take off)."""
     stripped = list(map(str.strip, row))
-    if "\x00'" not in "\x00" + "\x00".join(stripped):  # no cell starts with an apostrophe
-        return stripped
+    if not apostrophes or "\x00'" not in "\x00" + "\x00".join(stripped):
+        return stripped  # no cell starts with an apostrophe
     return [unguard_cell(cell) for cell in stripped]
 
 
@@ -232,8 +245,11 @@ def read_table(path: Path) -> RawTable:
     kind = _sniff(path, raw[:4096])
     cells = _read_csv(path, raw) if kind == "csv" else _read_xlsx(path)
     _bounded(name, cells)
+    # a CSV without an apostrophe anywhere (one look at its text) has none to take off a cell
+    apostrophes = kind != "csv" or b"'" in raw
     numbered = [(n, row) for n, row in
-                ((i + 1, _clean_cells(row)) for i, row in enumerate(cells)) if any(row)]
+                ((i + 1, _clean_cells(row, apostrophes)) for i, row in enumerate(cells))
+                if any(row)]
     if not numbered:
         raise_problems([Problem(name, "the file holds no cells; it needs a header row and one "
                                 "row per record")])
