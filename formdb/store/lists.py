@@ -5,15 +5,18 @@ match given ingredients (through the indexed ``list_entry_matches``, never a sca
 from __future__ import annotations
 
 from collections.abc import Iterable
+from typing import TYPE_CHECKING
 
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
-from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.ingredient import IngredientRecord, name_key
 from formdb.schemas.lists import ListEntry, SnapshotInfo
-from formdb.schemas.reference import ReferenceData
 from formdb.store.models import ListEntryMatch, ListEntryRow, ListIngredient, ListSnapshot
+
+if TYPE_CHECKING:  # only annotations here: ``ingredient show`` reads lists without formulas
+    from formdb.schemas.formula import ResolvedFormula
+    from formdb.schemas.reference import ReferenceData
 
 _CHUNK = 500
 

@@ -4,7 +4,8 @@ list``, ``rules`` and ``--help`` load none of the heavy libraries they do not ne
 openpyxl, pint, jinja2, alembic, and rapidfuzz unless a name is misspelt). Each command runs in
 its own ``python -X importtime`` process; a control run of ``ingredient export`` shows the same
 reading does see pandas when a command needs it; ``check FILE`` and ``ingredient show`` leave
-formdb's bench-work records (schemas.bench) unloaded too. No time is asserted (the benchmark
+formdb's bench-work records (schemas.bench) unloaded too,
+and ``ingredient show`` the formula records (schemas.formula). No time is asserted (the benchmark
 measures)."""
 
 from __future__ import annotations
@@ -189,3 +190,13 @@ def test_checking_and_showing_load_no_bench_work_records(seeded_sqlite_url: str,
 def test_the_reading_sees_the_bench_work_records_a_command_needs(seeded_sqlite_url: str) -> None:
     """Control: listing prices reads them as PriceRecords of formdb.schemas.bench."""
     assert "formdb.schemas.bench" in _loaded_modules(seeded_sqlite_url, "price", "list")
+
+
+def test_showing_an_ingredient_loads_no_formula_records(seeded_sqlite_url: str) -> None:
+    """``ingredient show`` reads one ingredient and its list entries: the formula file's and
+    the resolved formula's records (schemas.formula) are not loaded; checking a file, the
+    control, needs them and the same reading sees them."""
+    shown = _loaded_modules(seeded_sqlite_url, *READ_ONLY_COMMANDS["ingredient show"])
+    assert "formdb.schemas.formula" not in shown
+    checked = _loaded_modules(seeded_sqlite_url, *READ_ONLY_COMMANDS["check FILE"])
+    assert "formdb.schemas.formula" in checked
