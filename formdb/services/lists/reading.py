@@ -3,15 +3,14 @@
 from __future__ import annotations
 
 from collections.abc import Iterable
+from typing import TYPE_CHECKING
 
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from formdb.errors import NotFound, quoted
-from formdb.schemas.formula import ResolvedFormula
 from formdb.schemas.ingredient import IngredientRecord, name_key
 from formdb.schemas.lists import ANNEXES, ListEntry, SnapshotStatus
-from formdb.schemas.reference import ReferenceData
 from formdb.schemas.suggest import close_matches
 from formdb.store.library import Library
 from formdb.store.lists import (
@@ -22,6 +21,10 @@ from formdb.store.lists import (
     with_list_entries,
 )
 from formdb.store.models import ListEntryRow, ListSnapshot
+
+if TYPE_CHECKING:  # only annotations here: ``ingredient show`` reads lists without formulas
+    from formdb.schemas.formula import ResolvedFormula
+    from formdb.schemas.reference import ReferenceData
 
 
 def reads_differently(entry: ListEntry) -> bool:
