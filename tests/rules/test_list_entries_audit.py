@@ -309,6 +309,35 @@ def test_methyl_heptine_and_octine_carbonate_combined(library: Library) -> None:
     assert severities(alone, "III/89") == {"info"}
 
 
+def test_a_substance_and_its_nano_form_combined(library: Library) -> None:
+    """VI/27 and VI/27a (titanium dioxide, and its nano form): 25 % each, and "in case of
+    combined use of Titanium Dioxide and Titanium Dioxide (nano), the sum shall not exceed the
+    limit of 25%" (27a; 27 says "the limit given in column g", its own 25 %). The same words in
+    VI/30 and 30a (zinc oxide), VI/33 and 34; III/308 and 309 (the two Tagetes oils) say "the
+    total combined content ... shall not exceed the maximum concentration limits given in column
+    g", naming the other entry by number. A sun cream with 15 % titanium dioxide and 12 % of its
+    nano form is 27 %: each entry's finding says so."""
+    entries = {e.ref: e for a in ("III", "VI") for e in
+               read_export(ANNEX_EXPORTS / f"COSING_Annex_{a}_v2.txt").entries
+               if e.ref in ("27", "27a", "308")}
+    for ref in ("27", "27a"):
+        part = entries[ref].parts[0]
+        assert (part.joint_max, part.joint_names) == (
+            25.0, ("Titanium Dioxide", "Titanium Dioxide (nano)"))
+    tagetes = entries["308"].parts
+    assert [(p.joint_max, p.joint_refs) for p in tagetes] == [(0.01, ("309",)), (0.1, ("309",))]
+    sun = lim(library, formula([("Titanium Dioxide", 15.0, "uv filter"),
+                                ("Titanium Dioxide (nano)", 12.0, "uv filter")],
+                               product="sunscreen cream"))
+    nano = entry_findings(sun, "VI/27a")
+    assert [f.severity.value for f in nano] == ["error"]
+    assert "together" in nano[0].message and "= 27 %" in nano[0].message
+    within = lim(library, formula([("Titanium Dioxide", 13.0, "uv filter"),
+                                   ("Titanium Dioxide (nano)", 12.0, "uv filter")],
+                                  product="sunscreen cream"))
+    assert "error" not in severities(within, "VI/27a") | severities(within, "VI/27")
+
+
 def test_several_substances_over_only_together_are_asked(library: Library) -> None:
     """III/12 (b): hydrogen peroxide "present or released", 4 % in skin products. 3 % hydrogen
     peroxide with 3 % urea peroxide (which releases about a third of its mass) may be over;

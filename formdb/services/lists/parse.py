@@ -274,9 +274,39 @@ _JOINT_WITH = re.compile(
     r"\bin combination with ([^,;.\n]+?),\s*the combined level[^%;\n]*?(\d+(?:[.,]\d+)?)\s*"
     r"(%|ppm|mg/kg)", re.I)
 _LIST_SPLIT = re.compile(r"\s*,\s*|\s+and\s+", re.I)
+# VI/27, VI/30, VI/33 (a substance and its nano form, each its own entry): "In case of combined
+# use of Titanium Dioxide and Titanium Dioxide (nano), the sum shall not exceed the limit of 25%"
+# (or "the limit given in column g", the entry's own maximum); III/308: "In case of combined use
+# with Tagetes patula (entry 309), the total combined content of Tagetes in ready for use
+# preparation shall not exceed the maximum concentration limits given in column g"
+_JOINT_COMBINED = re.compile(
+    r"\bin case of combined use (?:of (.+?) and (.+?)|with ([^,;\n]+?))\s*,\s*the (?:sum|total "
+    r"combined content)\b([^;\n]*?)(?:shall|should) not exceed([^;\n]*)", re.I)
+_ENTRY_NUMBER = re.compile(r"\(\s*entry\s+(?:No\s*)?(\d+\s*[a-z]?)\s*\)", re.I)
+_OWN_LIMIT = re.compile(r"column \(?g\)?|maximum concentration limits? given", re.I)
 
 
-def joint_maximum(text: str, own_names: tuple[str, ...] = ()
+def _combined_use(text: str, own_names: tuple[str, ...], own_max: float | None
+                  ) -> tuple[float | None, tuple[str, ...], tuple[str, ...]]:
+    found = _JOINT_COMBINED.search(text)
+    if not found:
+        return None, (), ()
+    limit = _PERCENT.search(found.group(5))
+    if limit:
+        maximum: float | None = _as_percent(limit.group(1), limit.group(2))
+    elif _OWN_LIMIT.search(found.group(5)):
+        maximum = own_max
+    else:
+        return None, (), ()
+    if found.group(3):  # "with X (entry N)": the other entry by its number, this one by names
+        other = found.group(3)
+        refs = tuple(r.replace(" ", "").casefold() for r in _ENTRY_NUMBER.findall(other))
+        name = _ENTRY_NUMBER.sub("", other).strip()
+        return maximum, refs, (*own_names, *((name,) if name else ()))
+    return maximum, (), (found.group(1).strip(), found.group(2).strip())
+
+
+def joint_maximum(text: str, own_names: tuple[str, ...] = (), own_max: float | None = None
                   ) -> tuple[float | None, tuple[str, ...], tuple[str, ...]]:
     """(the maximum, the entries' reference numbers, the substances' names) of a cell that gives
     one maximum for substances of several entries together, or (None, (), ())."""
@@ -294,7 +324,7 @@ def joint_maximum(text: str, own_names: tuple[str, ...] = ()
     if found and own_names:
         names = (*own_names, found.group(1).strip())
         return _as_percent(found.group(2), found.group(3)), (), names
-    return None, (), ()
+    return _combined_use(text, own_names, own_max)
 
 
 def parse_maximum(text: str) -> tuple[float | None, str | None, str, tuple[str, ...], bool]:
@@ -656,7 +686,8 @@ def _part(label: str | None, scope_text: str, max_text: str, other: str,
         unparsed.append(f"product type: {scope.text}")
     ph_min, ph_max = ph_limits(f"{other}\n{max_text}")
     text = f"{max_text}\n{other}\n{wording}"
-    joint_max, joint_refs, joint_names = joint_maximum(max_text, own_names)
+    joint_max, joint_refs, joint_names = joint_maximum(f"{max_text}\n{other}", own_names,
+                                                       max_percent)
     return Part(label=label, scope=scope, max_percent=max_percent, max_text=clean(max_text),
                 basis=basis, aggregate=aggregate, further_limits=further, ph_min=ph_min,
                 mixture_max=mixture_maximum(max_text) if aggregate == "single" else None,
