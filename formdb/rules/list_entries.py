@@ -667,7 +667,11 @@ class ListEntryLimits(Rule):
         advice = "nothing to do: the part that applies is met; keep the product and purpose"
         if outcome.status == OVER:
             fixes = []
-            if " is over" in outcome.text:
+            if any(w in outcome.text for w in ("(together: ", " together, ", " for mixtures")):
+                # a maximum for several substances at once: any of them may give way
+                fixes.append("bring the substances counted together within that maximum "
+                             f"(reduce {item.record.inci_name} or the others named)")
+            elif " is over" in outcome.text:
                 fixes.append(f"reduce {item.record.inci_name} below the maximum of the part "
                              "that applies")
             if " is outside " in outcome.text:  # a pH limit of the part
