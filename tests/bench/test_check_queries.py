@@ -16,6 +16,7 @@ from formdb.bench import library
 from formdb.schemas.ingredient import name_key
 from formdb.services.checking.flow import iter_check_stored
 from formdb.store import queries
+from tests.helpers import fresh_pg_schema
 from tests.libraries import opened
 
 PLAN = library.LibraryPlan(ingredients=260, formulas=120, seed=11)
@@ -46,10 +47,22 @@ def counter() -> Iterator[StatementCounter]:
         event.remove(Engine, "before_cursor_execute", counting)
 
 
-@pytest.fixture
-def bench_library(empty_library_url: str) -> str:
-    library.generate(empty_library_url, PLAN)
-    return empty_library_url
+@pytest.fixture(scope="module",
+                params=["sqlite", pytest.param("postgresql", marks=pytest.mark.postgres)])
+def bench_library(request: pytest.FixtureRequest,
+                  tmp_path_factory: pytest.TempPathFactory) -> Iterator[str]:
+    """The generated library, once per backend for the module (an empty SQLite file, or an
+    empty schema of its own on the test server, as ``empty_library_url`` gives): its tests only
+    read it (``check --all`` over the stored formulas leaves the library's state as it was),
+    each through a Library of its own, so generating it per test (2 s of CPU) bought nothing."""
+    if request.param == "sqlite":
+        url = f"sqlite:///{tmp_path_factory.mktemp('bench') / 'library.sqlite'}"
+        library.generate(url, PLAN)
+        yield url
+        return
+    with fresh_pg_schema(request.getfixturevalue("pg_server")) as url:
+        library.generate(url, PLAN)
+        yield url
 
 
 @pytest.mark.parametrize("batch_size", [10, 40])

@@ -25,13 +25,15 @@ PLAN = library.LibraryPlan(ingredients=120, formulas=80, seed=5)
 LIST_LOOKUPS = 2  # per batch with new ingredients: the match keys, the entry bodies
 
 
-@pytest.fixture
-def lists_library(empty_sqlite_url: str) -> str:
-    library.generate(empty_sqlite_url, PLAN)
-    with Library.open(empty_sqlite_url) as opened_library:
+@pytest.fixture(scope="module")
+def lists_library(tmp_path_factory: pytest.TempPathFactory) -> str:
+    """Generated and the five exports imported once for the module: its tests only read it."""
+    url = f"sqlite:///{tmp_path_factory.mktemp('lists') / 'library.sqlite'}"
+    library.generate(url, PLAN)
+    with Library.open(url) as opened_library:
         import_lists(opened_library, [export(a) for a in ("II", "III", "IV", "V", "VI")],
                      user=TEST_USER)
-    return empty_sqlite_url
+    return url
 
 
 @pytest.mark.parametrize("batch_size", [10, 40])
