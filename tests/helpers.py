@@ -255,7 +255,8 @@ def _cell(value: object) -> str:
 
 
 @contextmanager
-def fresh_pg_database(base_url: str, template: str | None = None) -> Iterator[str]:
+def fresh_pg_database(base_url: str, template: str | None = None,
+                      name: str | None = None) -> Iterator[str]:
     """A new, uniquely named database on the test server (a copy of ``template`` if given),
     dropped afterwards even when connections are still open.
 
@@ -266,9 +267,12 @@ def fresh_pg_database(base_url: str, template: str | None = None) -> Iterator[st
     by block through the write-ahead log (WAL_LOG, 15's default): 20 ms of server CPU and 40 ms
     of wall time per copy and drop of the seeded library instead of 30 and 65 ms. FILE_COPY
     checkpoints the server, which costs little only where durability is off and the files are
-    in memory, as `.ci/run` sets them up; elsewhere the default stays."""
+    in memory, as `.ci/run` sets them up; elsewhere the default stays.
+
+    ``name``: the database's name instead of a new one (a test that makes copy after copy at
+    one URL, each dropped before the next, so its commands keep their engine)."""
     base = make_url(base_url)
-    name = f"formdb_t_{uuid4().hex[:12]}"
+    name = name or f"formdb_t_{uuid4().hex[:12]}"
     admin = create_engine(base, isolation_level="AUTOCOMMIT")
     try:
         with admin.connect() as conn:

@@ -20,7 +20,7 @@ from __future__ import annotations
 import shutil
 import sqlite3
 from collections.abc import Callable, Iterator
-from contextlib import contextmanager
+from contextlib import closing, contextmanager
 from dataclasses import dataclass, replace
 from datetime import UTC, datetime
 from pathlib import Path
@@ -254,12 +254,18 @@ def _build(url: str, tmp: Path, people: Any) -> tuple[dict[str, Any], dict[str, 
 
 
 @contextmanager
-def _copy(url: str, tmp: Path, n: int) -> Iterator[str]:
+def _copy(url: str, tmp: Path) -> Iterator[str]:
+    """A copy of the built library, at the same place for every scenario (the last one's file
+    removed first): the commands of each scenario are handed the engine the earlier ones made
+    for that URL (tests.helpers.command_engine; on SQLite its connections are closed after each
+    command), so SQLAlchemy compiles their statements once, not once per scenario."""
     if not url.startswith("postgresql"):
         path = sqlite_path(url)
         assert path is not None
-        target = tmp / f"copy-{n}.sqlite"
-        with sqlite3.connect(path) as src, sqlite3.connect(target) as dst:
+        target = tmp / "copy.sqlite"
+        for leftover in (target, tmp / "copy.sqlite-wal", tmp / "copy.sqlite-shm"):
+            leftover.unlink(missing_ok=True)
+        with closing(sqlite3.connect(path)) as src, closing(sqlite3.connect(target)) as dst:
             src.backup(dst)
         yield f"sqlite:///{target}"
         return
@@ -271,7 +277,7 @@ def _copy(url: str, tmp: Path, n: int) -> Iterator[str]:
                               "datname = :d AND pid <> pg_backend_pid()"), {"d": base.database})
     finally:
         admin.dispose()
-    with fresh_pg_database(url, template=base.database) as copied:
+    with fresh_pg_database(url, template=base.database, name=f"{base.database}_copy") as copied:
         yield copied
 
 
@@ -309,8 +315,8 @@ def test_every_tampering_scenario_is_shown_where_people_look(
     untouched = _caught(who["ana"], ids["cream_key"], tmp_path, anchor)
     assert not any(untouched.values()), untouched
     found: dict[str, dict[str, bool]] = {}
-    for n, scenario in enumerate(SCENARIOS):
-        with _copy(url, tmp_path, n) as copied:
+    for scenario in SCENARIOS:
+        with _copy(url, tmp_path) as copied:
             engine = make_engine(copied)
             try:
                 with engine.begin() as conn:
