@@ -16,6 +16,7 @@ import sqlite3
 import zipfile
 from collections.abc import Callable, Iterable, Iterator
 from datetime import UTC, date, datetime
+from functools import lru_cache
 from pathlib import Path
 from typing import Any
 
@@ -47,7 +48,9 @@ def _engine(url: str) -> Engine:
     return store.make_engine(url, must_exist=True)
 
 
+@lru_cache(maxsize=1)
 def _known() -> dict[str, Any]:
+    """Every migration by revision: read once per process (the scripts ship with formdb)."""
     from alembic.script import ScriptDirectory  # alembic loads only when a command needs it
 
     script = ScriptDirectory.from_config(store.alembic_config())
