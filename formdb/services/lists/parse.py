@@ -268,22 +268,25 @@ _JOINT_ENTRIES = re.compile(
 _JOINT_SUM = re.compile(
     r"(\d+(?:[.,]\d+)?)\s*(%|ppm|mg/kg)\s*for the individual concentration of [^,;\n]+? or the "
     r"sum of the individual concentrations of ([^;.\n]+?)(?=,\s*while\b|[;.\n]|$)", re.I)
-# III/89: "When present in combination with methyl octine carbonate, the combined level in the
-# finished product shall not exceed 0,01 %"
-_JOINT_WITH = re.compile(
-    r"\bin combination with ([^,;.\n]+?),\s*the combined level[^%;\n]*?(\d+(?:[.,]\d+)?)\s*"
-    r"(%|ppm|mg/kg)", re.I)
 _LIST_SPLIT = re.compile(r"\s*,\s*|\s+and\s+", re.I)
-# VI/27, VI/30, VI/33 (a substance and its nano form, each its own entry): "In case of combined
-# use of Titanium Dioxide and Titanium Dioxide (nano), the sum shall not exceed the limit of 25%"
-# (or "the limit given in column g", the entry's own maximum); III/308: "In case of combined use
-# with Tagetes patula (entry 309), the total combined content of Tagetes in ready for use
-# preparation shall not exceed the maximum concentration limits given in column g"
+# a substance used with one of another entry: VI/27, VI/30, VI/33 (a substance and its nano
+# form): "In case of combined use of Titanium Dioxide and Titanium Dioxide (nano), the sum shall
+# not exceed the limit of 25%" (or "the limit given in column g", the entry's own maximum);
+# III/308: "In case of combined use with Tagetes patula (entry 309), the total combined content
+# of Tagetes ... shall not exceed the maximum concentration limits given in column g"; III/89:
+# "When present in combination with methyl octine carbonate, the combined level in the finished
+# product shall not exceed 0,01 %"
 _JOINT_COMBINED = re.compile(
-    r"\bin case of combined use (?:of (.+?) and (.+?)|with ([^,;\n]+?))\s*,\s*the (?:sum|total "
-    r"combined content)\b([^;\n]*?)(?:shall|should) not exceed([^;\n]*)", re.I)
+    r"\bin (?:case of combined use|combination) (?:of (.+?) and (.+?)|with ([^,;\n]+?))\s*,\s*"
+    r"the (?:sum|total combined content|combined level)\b([^;\n]*?)(?:shall|should) not "
+    r"exceed([^;\n]*)", re.I)
 _ENTRY_NUMBER = re.compile(r"\(\s*entry\s+(?:No\s*)?(\d+\s*[a-z]?)\s*\)", re.I)
 _OWN_LIMIT = re.compile(r"column \(?g\)?|maximum concentration limits? given", re.I)
+
+
+def _ref_key(ref: str) -> str:
+    """A reference number as ``Part.joint_refs`` holds it ("12 a" -> "12a")."""
+    return ref.replace(" ", "").casefold()
 
 
 def _combined_use(text: str, own_names: tuple[str, ...], own_max: float | None
@@ -300,8 +303,10 @@ def _combined_use(text: str, own_names: tuple[str, ...], own_max: float | None
         return None, (), ()
     if found.group(3):  # "with X (entry N)": the other entry by its number, this one by names
         other = found.group(3)
-        refs = tuple(r.replace(" ", "").casefold() for r in _ENTRY_NUMBER.findall(other))
+        refs = tuple(_ref_key(r) for r in _ENTRY_NUMBER.findall(other))
         name = _ENTRY_NUMBER.sub("", other).strip()
+        if not own_names and not refs:
+            return None, (), ()  # nothing names this entry's own substances
         return maximum, refs, (*own_names, *((name,) if name else ()))
     return maximum, (), (found.group(1).strip(), found.group(2).strip())
 
@@ -312,7 +317,7 @@ def joint_maximum(text: str, own_names: tuple[str, ...] = (), own_max: float | N
     one maximum for substances of several entries together, or (None, (), ())."""
     found = _JOINT_ENTRIES.search(text)
     if found:
-        refs = tuple(r.replace(" ", "").casefold()
+        refs = tuple(_ref_key(r)
                      for r in re.findall(r"\d+\s*[a-z]?(?![a-z])", found.group(3), re.I))
         return _as_percent(found.group(1), found.group(2)), refs, ()
     found = _JOINT_SUM.search(text)
@@ -320,10 +325,6 @@ def joint_maximum(text: str, own_names: tuple[str, ...] = (), own_max: float | N
         names = tuple(n.strip() for n in _LIST_SPLIT.split(found.group(3)) if n.strip())
         if len(names) > 1:
             return _as_percent(found.group(1), found.group(2)), (), names
-    found = _JOINT_WITH.search(text)
-    if found and own_names:
-        names = (*own_names, found.group(1).strip())
-        return _as_percent(found.group(2), found.group(3)), (), names
     return _combined_use(text, own_names, own_max)
 
 
