@@ -165,15 +165,22 @@ def _same_use(item: Item, members: list[Item], entry: ListEntry) -> list[Item]:
 def _amount(part: Part, group: list[Item], entry: ListEntry, reference: ReferenceData
             ) -> tuple[float, bool]:
     """(amount of ``group`` on the part's basis, converted)."""
+    return _amount_of(part, [(m, entry) for m in group], reference)
+
+
+def _amount_of(part: Part, counted: list[tuple[Item, ListEntry]], reference: ReferenceData
+               ) -> tuple[float, bool]:
+    """(amount of the items on the part's basis, converted), each item converted through the
+    entry it is counted by (its parent acid)."""
     if part.basis != "as acid":
         # no conversion for other bases: as-is, said as such (a hair dye's "applied to the hair
         # after mixing" is the product's own figure diluted, as-is is its upper bound)
-        return sum(m.percent for m in group), part.basis is None or \
+        return sum(m.percent for m, _e in counted), part.basis is None or \
             part.basis.startswith("applied to")
-    factors = [acid_factor(entry, m, reference) for m in group]
+    factors = [acid_factor(entry, m, reference) for m, entry in counted]
     if any(f is None for f in factors):
-        return sum(m.percent for m in group), False
-    return sum(m.percent * (f or 1.0) for m, f in zip(group, factors, strict=True)), True
+        return sum(m.percent for m, _e in counted), False
+    return sum(m.percent * (f or 1.0) for (m, _e), f in zip(counted, factors, strict=True)), True
 
 
 def _in_basis_form(part: Part, item: Item, entry: ListEntry) -> bool:
@@ -288,14 +295,7 @@ def _joint_verdict(part: Part, item: Item, entry: ListEntry, everyone: Iterable[
     joint = _joint(part, item, entry, everyone)
     if len({_key(m.record.inci_name) for m, _n in joint}) < 2:
         return None
-    if part.basis == "as acid":
-        factors = [acid_factor(named, m, reference) for m, named in joint]
-        converted = all(f is not None for f in factors)
-        total = sum(m.percent * (f if converted and f is not None else 1.0)
-                    for (m, _n), f in zip(joint, factors, strict=True))
-    else:
-        converted = part.basis is None
-        total = sum(m.percent for m, _n in joint)
+    total, converted = _amount_of(part, joint, reference)
     if total <= part.joint_max + _EPS:
         return None
     whose = ("the substances of entries "
