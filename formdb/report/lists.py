@@ -37,11 +37,10 @@ def import_text(result: ListsImport, *, show_unparsed: int = 40) -> str:
             out.append("  the same file is already in force: nothing changed")
             continue
         if annex.reread:
-            shown = ", ".join(f"{annex.snapshot.annex}/{k}" for k in annex.reread[:8])
             count = "1 entry" if len(annex.reread) == 1 else f"{len(annex.reread)} entries"
             carry = "carries" if len(annex.reread) == 1 else "carry"
             out.append(f"  the same file, read again by this version of formdb: {count} read "
-                       f"differently ({shown}{', ...' if len(annex.reread) > 8 else ''}) now "
+                       f"differently ({_entries(annex.snapshot.annex, annex.reread)}) now "
                        f"{carry} the new reading")
         if annex.replaces is not None:
             out.append(f"  replaces: {annex.replaces.file_name}, last update "
@@ -91,11 +90,16 @@ def import_json(result: ListsImport) -> str:
     return json.dumps(data, indent=2, ensure_ascii=False) + "\n"
 
 
+def _entries(annex: str, keys: Sequence[str], shown: int = 8) -> str:
+    """The first few entries of a list, by reference ("V/3, V/12a, ...")."""
+    return ", ".join(f"{annex}/{k}" for k in keys[:shown]) + (", ..." if len(keys) > shown
+                                                               else "")
+
+
 def _reread_line(keys: Sequence[str], annex: str, total: int, file_name: str) -> str:
-    shown = ", ".join(f"{annex}/{k}" for k in keys[:8]) + (", ..." if len(keys) > 8 else "")
     return (f"    read differently by this version of formdb: {len(keys)} of {total} entries "
-            f"({shown}); the checks use the reading stored at the import until the same export "
-            f"is imported again: `formdb lists import {file_name}`")
+            f"({_entries(annex, keys)}); the checks use the reading stored at the import until "
+            f"the same export is imported again: `formdb lists import {file_name}`")
 
 
 def snapshots_text(statuses: Sequence[SnapshotStatus]) -> str:
