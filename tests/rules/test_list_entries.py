@@ -6,39 +6,23 @@ again in the exports). Skips with a reason when ../shared/regulatory/ is absent.
 
 from __future__ import annotations
 
-import shutil
-from collections.abc import Iterator
 from pathlib import Path
 
 import pytest
 
 from formdb import api
 from formdb.schemas.findings import Finding
-from formdb.services.lists.importing import import_lists
 from formdb.store.library import Library
 from tests.conftest import TEST_USER
-from tests.services.test_lists_import import export, needs_exports
+from tests.services.test_lists_import import needs_exports
 
 pytestmark = needs_exports
 
 
-@pytest.fixture(scope="module")
-def _lists_template(_seeded_sqlite_template: Path, tmp_path_factory: pytest.TempPathFactory
-                    ) -> Path:
-    target = tmp_path_factory.mktemp("lists") / "lists.sqlite"
-    shutil.copyfile(_seeded_sqlite_template, target)
-    with Library.open(f"sqlite:///{target}") as library:
-        import_lists(library, [export(a) for a in ("II", "III", "IV", "V", "VI")],
-                     user=TEST_USER)
-    return target
-
-
 @pytest.fixture
-def library(_lists_template: Path, tmp_path: Path) -> Iterator[Library]:
-    copy = tmp_path / "lists.sqlite"
-    shutil.copyfile(_lists_template, copy)
-    with Library.open(f"sqlite:///{copy}") as opened:
-        yield opened
+def library(lists_library: Library) -> Library:
+    """The seed library with the five exports imported (tests/rules/conftest.py), this test's."""
+    return lists_library
 
 
 def formula(lines: list[tuple[str, float, str | None]], category: str = "leave-on",

@@ -7,16 +7,12 @@ reason where the exports are not on the machine.
 
 from __future__ import annotations
 
-import shutil
-from collections.abc import Iterator
-from pathlib import Path
-
 import pytest
 
 from formdb.rules.limits import acid_units
 from formdb.schemas.findings import Finding
 from formdb.schemas.lists import ListEntry
-from formdb.services.lists.importing import import_lists, read_export
+from formdb.services.lists.importing import read_export
 from formdb.services.lists.parse import exclusions, parse_maximum
 from formdb.store.library import Library
 from tests.conftest import TEST_USER
@@ -26,24 +22,10 @@ from tests.rules.test_list_entries import formula, lim
 pytestmark = needs_annex_exports()
 
 
-@pytest.fixture(scope="module")
-def _exports_imported(_seeded_sqlite_template: Path, tmp_path_factory: pytest.TempPathFactory
-                      ) -> Path:
-    """The seed library with every export of 31/10/2025 imported, made once per module."""
-    target = tmp_path_factory.mktemp("audit") / "lists.sqlite"
-    shutil.copyfile(_seeded_sqlite_template, target)
-    with Library.open(f"sqlite:///{target}") as library:
-        import_lists(library, [ANNEX_EXPORTS / f"COSING_Annex_{annex}_v2.txt"
-                               for annex in ("II", "III", "IV", "V", "VI")], user=TEST_USER)
-    return target
-
-
 @pytest.fixture
-def library(_exports_imported: Path, tmp_path: Path) -> Iterator[Library]:
-    copy = tmp_path / "lists.sqlite"
-    shutil.copyfile(_exports_imported, copy)
-    with Library.open(f"sqlite:///{copy}") as opened:
-        yield opened
+def library(lists_library: Library) -> Library:
+    """The seed library with the five exports imported (tests/rules/conftest.py), this test's."""
+    return lists_library
 
 
 def entry_findings(found: list[Finding], entry: str) -> list[Finding]:
