@@ -4,6 +4,7 @@ the ``formdb`` command in-process exactly as a user would (one ``Error:`` line, 
 from __future__ import annotations
 
 import hashlib
+import json
 import os
 import shutil
 import threading
@@ -380,6 +381,14 @@ _REAL_NEW_ENGINE = store_db.new_engine
 _IN_COMMAND: ContextVar[bool] = ContextVar("formdb_test_in_command", default=False)
 _KEPT_ENGINES: dict[tuple[str, str], Engine] = {}
 _KEPT_LOCK = threading.Lock()
+
+
+def check_findings(url: str, formula: Path, *options: str) -> list[dict[str, Any]]:
+    """The findings of ``formdb check FORMULA --format json`` (extra ``options`` before it), the
+    command ending as a check does (0 or 1)."""
+    result = run_formdb(["--db", url, "check", str(formula), *options, "--format", "json"])
+    assert result.exit_code in (0, 1), result.stderr
+    return list(json.loads(result.stdout)["findings"])
 
 
 def command_engine(url: URL, **kwargs: Any) -> Engine:

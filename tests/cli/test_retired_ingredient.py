@@ -4,13 +4,12 @@ meaning of `formdb ingredient retire` (taken out of use, kept for old formulas).
 
 from __future__ import annotations
 
-import json
 import shlex
 from pathlib import Path
 
 import pytest
 
-from tests.helpers import run_formdb
+from tests.helpers import check_findings, run_formdb
 
 FORMULA = """name = "Larkspur hand cream, draft 5"
 category = "leave-on"
@@ -27,9 +26,7 @@ percent = 4.0
 
 
 def _ret01(url: str, formula: Path) -> list[dict[str, object]]:
-    result = run_formdb(["--db", url, "check", str(formula), "--format", "json"])
-    assert result.exit_code in (0, 1), result.stderr
-    return [f for f in json.loads(result.stdout)["findings"] if f["rule"] == "RET01"]
+    return [f for f in check_findings(url, formula) if f["rule"] == "RET01"]
 
 
 @pytest.mark.slow

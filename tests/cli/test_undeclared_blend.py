@@ -5,13 +5,12 @@ blend with ethylhexylglycerin (invented proportions of the demo lab) is 1.08 %, 
 
 from __future__ import annotations
 
-import json
 import shlex
 from pathlib import Path
 
 import pytest
 
-from tests.helpers import run_formdb
+from tests.helpers import check_findings, run_formdb
 
 BLEND = "Phenoxyethanol (and) Ethylhexylglycerin"
 FORMULA = f"""name = "Larkspur preserved lotion, draft 4"
@@ -28,12 +27,6 @@ percent = 1.2
 """
 
 
-def _findings(url: str, formula: Path) -> list[dict[str, object]]:
-    result = run_formdb(["--db", url, "check", str(formula), "--format", "json"])
-    assert result.exit_code in (0, 1), result.stderr
-    return list(json.loads(result.stdout)["findings"])
-
-
 @pytest.mark.slow
 def test_a_blend_without_constituents_is_said_and_declaring_them_checks_the_members(
         seeded_sqlite_url: str, tmp_path: Path) -> None:
@@ -43,7 +36,7 @@ def test_a_blend_without_constituents_is_said_and_declaring_them_checks_the_memb
     assert added.exit_code == 0, added.stderr
     formula = tmp_path / "lotion.toml"
     formula.write_text(FORMULA, encoding="utf-8")
-    before = _findings(url, formula)
+    before = check_findings(url, formula)
     (mix,) = [f for f in before if f["rule"] == "MIX01"]
     assert mix["severity"] == "warning" and mix["ingredients"] == [BLEND]
     assert "constituents were not checked" in str(mix["message"])
@@ -56,7 +49,7 @@ def test_a_blend_without_constituents_is_said_and_declaring_them_checks_the_memb
     assert words[:3] == ["mixture", "set", BLEND]
     declared = run_formdb(["--db", url, *words, "--reason", "supplier specification"])
     assert declared.exit_code == 0, declared.stderr
-    after = _findings(url, formula)
+    after = check_findings(url, formula)
     assert not [f for f in after if f["rule"] == "MIX01"]
     (limit,) = [f for f in after if f["rule"] == "LIM01"]
     assert "Phenoxyethanol" in limit["ingredients"] and limit["severity"] == "error"

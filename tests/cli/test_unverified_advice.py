@@ -4,20 +4,16 @@ handbook source here is invented for the test and cites nothing real)."""
 
 from __future__ import annotations
 
-import json
 import re
 
 from formdb.resources import seed_data_dir
-from tests.helpers import run_formdb
+from tests.helpers import check_findings, run_formdb
 
 HAND_CREAM = seed_data_dir() / "demo" / "01-hand-cream.toml"
 
 
 def _evd01(url: str, inci: str) -> list[dict[str, object]]:
-    result = run_formdb(["--db", url, "check", str(HAND_CREAM), "--profile", "strict",
-                         "--format", "json"])
-    assert result.exit_code in (0, 1), result.stderr
-    return [f for f in json.loads(result.stdout)["findings"]
+    return [f for f in check_findings(url, HAND_CREAM, "--profile", "strict")
             if f["rule"] == "EVD01" and inci in f["ingredients"] and "density" in f["message"]]
 
 
